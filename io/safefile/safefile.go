@@ -1,0 +1,74 @@
+package safefile
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// Write creates or replaces the file at path with the bytes that fill writes.
+// fill receives a buffered writer; Write flushes it, syncs the temporary file,
+// closes it and renames it to path. When fill or any later step fails, the
+// temporary file is removed, path is left untouched, and the error is
+// returned (wrapped with the path). The new file gets mode 0644 (before the
+// umask), like os.Create would give it, rather than os.CreateTemp's 0600.
+func Write(path string, fill func(w io.Writer) error) (err error) {
+	if fill == nil {
+		return errors.New("safefile: nil fill function")
+	}
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("safefile: %w", err)
+	}
+	tmpName := tmp.Name()
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmpName)
+		}
+	}()
+	bw := bufio.NewWriterSize(tmp, 64<<10)
+	if err = fill(bw); err != nil {
+		return err
+	}
+	if err = bw.Flush(); err != nil {
+		return fmt.Errorf("safefile: writing %s: %w", path, err)
+	}
+	if err = tmp.Chmod(0o644 &^ umask()); err != nil {
+		return fmt.Errorf("safefile: %w", err)
+	}
+	if err = tmp.Sync(); err != nil {
+		return fmt.Errorf("safefile: syncing %s: %w", path, err)
+	}
+	if err = tmp.Close(); err != nil {
+		return fmt.Errorf("safefile: closing %s: %w", path, err)
+	}
+	if err = os.Rename(tmpName, path); err != nil {
+		return fmt.Errorf("safefile: %w", err)
+	}
+	return nil
+}
+
+// umask returns a conservative process umask. Reading the real umask needs
+// syscall.Umask, which changes it momentarily and races with other
+// goroutines, so the common default 022 is assumed (common practice, no
+// source); group and other write bits are never granted.
+func umask() os.FileMode { return 0o022 }
+
+// WriteBytes writes data to path atomically, as Write does.
+func WriteBytes(path string, data []byte) error {
+	if data == nil {
+		data = []byte{}
+	}
+	return Write(path, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	})
+}

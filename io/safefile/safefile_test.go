@@ -1,0 +1,89 @@
+package safefile
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+func listDir(t *testing.T, dir string) []string {
+	t.Helper()
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, e := range ents {
+		names = append(names, e.Name())
+	}
+	return names
+}
+
+func TestWriteCreatesAndReplaces(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "out.fits")
+	for _, content := range []string{"first", "second, longer content"} {
+		if err := Write(path, func(w io.Writer) error {
+			_, err := io.WriteString(w, content)
+			return err
+		}); err != nil {
+			t.Fatal(err)
+		}
+		got, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if string(got) != content {
+			t.Errorf("content = %q, want %q", got, content)
+		}
+		if names := listDir(t, dir); len(names) != 1 || names[0] != "out.fits" {
+			t.Errorf("directory holds %v, want only out.fits", names)
+		}
+	}
+	st, err := os.Stat(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Mode().Perm()&0o444 != 0o444 {
+		t.Errorf("mode %v is not readable by all", st.Mode().Perm())
+	}
+}
+
+func TestWriteFailureKeepsOldFileAndRemovesTemp(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "keep.txt")
+	if err := WriteBytes(path, []byte("old")); err != nil {
+		t.Fatal(err)
+	}
+	boom := errors.New("boom")
+	err := Write(path, func(w io.Writer) error {
+		// Write more than the buffer so part of it reaches the temp file.
+		for i := 0; i < 100000; i++ {
+			fmt.Fprintf(w, "line %d\n", i)
+		}
+		return boom
+	})
+	if !errors.Is(err, boom) {
+		t.Fatalf("err = %v, want %v", err, boom)
+	}
+	got, _ := os.ReadFile(path)
+	if string(got) != "old" {
+		t.Errorf("old file changed to %d bytes", len(got))
+	}
+	if names := listDir(t, dir); len(names) != 1 {
+		t.Errorf("temporary file left behind: %v", names)
+	}
+}
+
+func TestWriteMissingDirectory(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "no", "such", "dir", "f")
+	if err := WriteBytes(path, []byte("x")); err == nil {
+		t.Fatal("expected an error for a missing directory")
+	}
+	if err := Write(filepath.Join(t.TempDir(), "f"), nil); err == nil {
+		t.Fatal("expected an error for a nil fill")
+	}
+}
