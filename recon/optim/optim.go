@@ -1,0 +1,610 @@
+package optim
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// Problem is a smooth objective with optional simple bounds.
+type Problem struct {
+	// Func returns the objective at x. When grad is non-nil, Func
+	// overwrites it with the gradient at x. Minimize always passes a
+	// non-nil grad of len(x). Func must not retain x or grad.
+	Func func(grad, x []float64) float64
+
+	// Lower and Upper hold per-variable bounds, Lower[i] <= x[i] <= Upper[i].
+	// A nil slice means no bound on that side; entries may be -Inf or +Inf.
+	// A non-nil slice must have the length of x0.
+	Lower, Upper []float64
+}
+
+// Iter describes the state after an accepted iteration. It is passed to
+// Settings.Callback.
+type Iter struct {
+	Iter         int       // iterations completed, 1 after the first accepted step
+	Evals        int       // calls of Func so far
+	F            float64   // objective at X
+	ProjGradNorm float64   // infinity norm of the projected gradient at X
+	Step         float64   // infinity norm of the accepted change in x
+	X            []float64 // current point; read only, valid only during the call
+}
+
+// Settings controls Minimize. The zero value selects the documented
+// defaults.
+type Settings struct {
+	// MaxIter is the iteration limit. Zero means 1000.
+	MaxIter int
+
+	// FTol stops the run when the relative decrease of the objective in an
+	// iteration, (f_prev - f) / max(|f_prev|, |f|, 1), is at most FTol (the
+	// test of Byrd et al. 1995). Zero means 1e-10; a negative value
+	// disables the test.
+	FTol float64
+
+	// PGTol stops the run when the infinity norm of the projected gradient,
+	// max_i |P(x - g)_i - x_i| with P the projection on the bounds, is at
+	// most PGTol. The test is absolute. Zero means 1e-8; a negative value
+	// disables the test.
+	PGTol float64
+
+	// Memory is the number of correction pairs kept by the limited-memory
+	// quasi-Newton update. Zero means 10. The workspace holds 2*Memory+6
+	// vectors of the problem size.
+	Memory int
+
+	// Callback, when non-nil, is called after every accepted iteration.
+	// Returning false stops the run with Status CallbackStop.
+	Callback func(Iter) bool
+}
+
+// Default settings, used where a Settings field is zero.
+const (
+	DefaultMaxIter = 1000
+	DefaultFTol    = 1e-10
+	DefaultPGTol   = 1e-8
+	DefaultMemory  = 10
+)
+
+// Status says why Minimize stopped.
+type Status int
+
+// The stop reasons.
+const (
+	NotTerminated       Status = iota // the run ended with an error
+	FunctionConvergence               // relative objective change below FTol
+	GradientConvergence               // projected-gradient norm below PGTol
+	IterationLimit                    // MaxIter iterations done
+	LineSearchFailure                 // no acceptable step along a descent direction, even steepest descent
+	CallbackStop                      // Settings.Callback returned false
+)
+
+var statusNames = [...]string{
+	NotTerminated:       "not terminated",
+	FunctionConvergence: "converged: relative objective change below tolerance",
+	GradientConvergence: "converged: projected gradient below tolerance",
+	IterationLimit:      "iteration limit reached",
+	LineSearchFailure:   "line search failed",
+	CallbackStop:        "stopped by callback",
+}
+
+// String returns a short English description of s.
+func (s Status) String() string {
+	if s >= 0 && int(s) < len(statusNames) {
+		return statusNames[s]
+	}
+	return fmt.Sprintf("optim.Status(%d)", int(s))
+}
+
+// Converged reports whether s is FunctionConvergence or GradientConvergence.
+func (s Status) Converged() bool {
+	return s == FunctionConvergence || s == GradientConvergence
+}
+
+// Result is the outcome of Minimize.
+type Result struct {
+	X            []float64 // best point found; newly allocated
+	F            float64   // objective at X
+	Iter         int       // accepted iterations
+	Evals        int       // calls of Func
+	Status       Status    // why the run stopped
+	ProjGradNorm float64   // infinity norm of the projected gradient at X
+}
+
+// ErrNonFinite is wrapped by the error Minimize returns when Func yields
+// a NaN or infinite value or gradient component.
+var ErrNonFinite = errors.New("non-finite objective or gradient")
+
+// NonFiniteError reports where Func produced a non-finite number.
+type NonFiniteError struct {
+	Iter      int     // iteration being computed (0 = the starting point)
+	Eval      int     // 1-based index of the offending call of Func
+	Value     float64 // objective returned by that call
+	GradIndex int     // index of the first non-finite gradient component, -1 if the gradient was finite
+}
+
+func (e *NonFiniteError) Error() string {
+	if e.GradIndex >= 0 {
+		return fmt.Sprintf("optim: gradient component %d is not finite at iteration %d, evaluation %d (objective %g)",
+			e.GradIndex, e.Iter, e.Eval, e.Value)
+	}
+	return fmt.Sprintf("optim: objective is %g at iteration %d, evaluation %d", e.Value, e.Iter, e.Eval)
+}
+
+// Unwrap returns ErrNonFinite.
+func (e *NonFiniteError) Unwrap() error { return ErrNonFinite }
+
+// Line search constants. The sufficient-decrease constant 1e-4 is the
+// usual choice (Nocedal & Wright 2006, sect. 3.1); the interpolated step
+// is kept within [0.1, 0.5] of the previous trial (Dennis & Schnabel 1983,
+// sect. 6.3.2).
+const (
+	armijoC1     = 1e-4
+	maxBacktrack = 30
+	initialDelta = 0.05 // first step moves x by about 5 % of its norm
+)
+
+// workspace holds every vector used by one run, allocated once.
+type workspace struct {
+	n, m   int
+	x, g   []float64
+	xt, gt []float64 // trial point and its gradient
+	d      []float64 // search direction
+	q      []float64 // two-loop recursion vector
+	free   []bool
+	s, y   [][]float64 // correction pairs, ring buffer
+	alpha  []float64
+	sy     []float64
+	k      int // number of stored pairs
+	head   int // index of the oldest pair
+}
+
+func newWorkspace(n, m int) *workspace {
+	w := &workspace{n: n, m: m}
+	// One backing array keeps the vectors contiguous and the allocation count fixed.
+	buf := make([]float64, (2*m+6)*n)
+	next := func() []float64 {
+		v := buf[:n:n]
+		buf = buf[n:]
+		return v
+	}
+	w.x, w.g, w.xt, w.gt, w.d, w.q = next(), next(), next(), next(), next(), next()
+	w.s = make([][]float64, m)
+	w.y = make([][]float64, m)
+	for i := range m {
+		w.s[i] = next()
+		w.y[i] = next()
+	}
+	w.free = make([]bool, n)
+	w.alpha = make([]float64, m)
+	w.sy = make([]float64, m)
+	return w
+}
+
+// Minimize minimizes p.Func from x0 subject to the bounds of p, by a
+// limited-memory variable-metric method with bounds (VMLM-B, Thiébaut
+// 2002, Proc. SPIE 4847, 174). See the package documentation for the
+// algorithm. x0 is not modified; it is projected on the bounds before the
+// first evaluation.
+//
+// Minimize returns an error for an invalid problem (nil Func, wrong bound
+// lengths, Lower > Upper, NaN bounds) and a *NonFiniteError when Func
+// produces a non-finite value; in the latter case Result holds the last
+// point with a finite objective and Status NotTerminated.
+func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
+	n := len(x0)
+	if p.Func == nil {
+		return Result{}, errors.New("optim: Problem.Func is nil")
+	}
+	if n == 0 {
+		return Result{}, errors.New("optim: no variables")
+	}
+	if p.Lower != nil && len(p.Lower) != n {
+		return Result{}, fmt.Errorf("optim: len(Lower) = %d, want %d", len(p.Lower), n)
+	}
+	if p.Upper != nil && len(p.Upper) != n {
+		return Result{}, fmt.Errorf("optim: len(Upper) = %d, want %d", len(p.Upper), n)
+	}
+	for i := range n {
+		lo, hi := bound(p.Lower, i, math.Inf(-1)), bound(p.Upper, i, math.Inf(1))
+		if math.IsNaN(lo) || math.IsNaN(hi) {
+			return Result{}, fmt.Errorf("optim: bound of variable %d is NaN", i)
+		}
+		if lo > hi {
+			return Result{}, fmt.Errorf("optim: variable %d has Lower %g > Upper %g", i, lo, hi)
+		}
+		if lo == math.Inf(1) || hi == math.Inf(-1) {
+			return Result{}, fmt.Errorf("optim: variable %d has an infinite bound on the wrong side", i)
+		}
+	}
+	maxIter := s.MaxIter
+	if maxIter <= 0 {
+		maxIter = DefaultMaxIter
+	}
+	ftol := s.FTol
+	if ftol == 0 {
+		ftol = DefaultFTol
+	}
+	pgtol := s.PGTol
+	if pgtol == 0 {
+		pgtol = DefaultPGTol
+	}
+	m := s.Memory
+	if m <= 0 {
+		m = DefaultMemory
+	}
+
+	w := newWorkspace(n, m)
+	r := &run{p: p, w: w}
+	copy(w.x, x0)
+	r.project(w.x)
+
+	res := Result{X: make([]float64, n)}
+	finish := func(st Status, err error) (Result, error) {
+		copy(res.X, w.x)
+		res.F = r.f
+		res.Iter = r.iter
+		res.Evals = r.evals
+		res.Status = st
+		res.ProjGradNorm = r.pgnorm
+		return res, err
+	}
+
+	f, err := r.eval(w.g, w.x)
+	if err != nil {
+		r.f = math.NaN()
+		r.pgnorm = math.NaN()
+		return finish(NotTerminated, err)
+	}
+	r.f = f
+	r.pgnorm = r.projGradNorm(w.x, w.g)
+	if pgtol > 0 && r.pgnorm <= pgtol {
+		return finish(GradientConvergence, nil)
+	}
+
+	for r.iter < maxIter {
+		fprev := r.f
+		step, ok, err := r.iterate()
+		if err != nil {
+			return finish(NotTerminated, err)
+		}
+		if !ok {
+			return finish(LineSearchFailure, nil)
+		}
+		r.iter++
+		if s.Callback != nil && !s.Callback(Iter{Iter: r.iter, Evals: r.evals, F: r.f,
+			ProjGradNorm: r.pgnorm, Step: step, X: w.x}) {
+			return finish(CallbackStop, nil)
+		}
+		if pgtol > 0 && r.pgnorm <= pgtol {
+			return finish(GradientConvergence, nil)
+		}
+		if ftol > 0 && fprev-r.f <= ftol*max(math.Abs(fprev), math.Abs(r.f), 1) {
+			return finish(FunctionConvergence, nil)
+		}
+	}
+	return finish(IterationLimit, nil)
+}
+
+func bound(b []float64, i int, def float64) float64 {
+	if b == nil {
+		return def
+	}
+	return b[i]
+}
+
+// run is the state of one call of Minimize.
+type run struct {
+	p      Problem
+	w      *workspace
+	f      float64
+	pgnorm float64
+	iter   int
+	evals  int
+	gamma  float64 // scale of the initial inverse Hessian, s.y/y.y of the newest pair
+}
+
+// eval calls Func and checks that value and gradient are finite.
+func (r *run) eval(grad, x []float64) (float64, error) {
+	r.evals++
+	f := r.p.Func(grad, x)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return f, &NonFiniteError{Iter: r.iter, Eval: r.evals, Value: f, GradIndex: -1}
+	}
+	for i, v := range grad {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return f, &NonFiniteError{Iter: r.iter, Eval: r.evals, Value: f, GradIndex: i}
+		}
+	}
+	return f, nil
+}
+
+// project clips x on the bounds in place.
+func (r *run) project(x []float64) {
+	if lo := r.p.Lower; lo != nil {
+		for i, l := range lo {
+			if x[i] < l {
+				x[i] = l
+			}
+		}
+	}
+	if hi := r.p.Upper; hi != nil {
+		for i, u := range hi {
+			if x[i] > u {
+				x[i] = u
+			}
+		}
+	}
+}
+
+// projGradNorm returns max_i |P(x - g)_i - x_i|.
+func (r *run) projGradNorm(x, g []float64) float64 {
+	lo, hi := r.p.Lower, r.p.Upper
+	var nrm float64
+	for i, gi := range g {
+		v := x[i] - gi
+		if lo != nil && v < lo[i] {
+			v = lo[i]
+		}
+		if hi != nil && v > hi[i] {
+			v = hi[i]
+		}
+		nrm = max(nrm, math.Abs(v-x[i]))
+	}
+	return nrm
+}
+
+// setFree marks the variables that may move: those not held at a bound by
+// the sign of the gradient. It returns the number of free variables.
+func (r *run) setFree(x, g []float64) int {
+	lo, hi := r.p.Lower, r.p.Upper
+	free := r.w.free
+	nf := 0
+	for i, gi := range g {
+		f := true
+		if lo != nil && x[i] <= lo[i] && gi > 0 {
+			f = false
+		}
+		if hi != nil && x[i] >= hi[i] && gi < 0 {
+			f = false
+		}
+		free[i] = f
+		if f {
+			nf++
+		}
+	}
+	return nf
+}
+
+// direction computes the search direction d = -H g restricted to the free
+// variables, with the two-loop recursion of Nocedal (1980, Math. Comp. 35,
+// 773) in which every inner product runs over the free variables only
+// (Thiébaut 2002). Pairs whose restricted s.y is not positive are skipped.
+// It returns g.d and whether any pair was used.
+func (r *run) direction() (gd float64, used bool) {
+	w := r.w
+	free, q, g := w.free, w.q, w.g
+	for i := range q {
+		if free[i] {
+			q[i] = g[i]
+		} else {
+			q[i] = 0
+		}
+	}
+	gamma := 0.0
+	for j := w.k - 1; j >= 0; j-- {
+		idx := (w.head + j) % w.m
+		s, y := w.s[idx], w.y[idx]
+		var sy, yy, sq float64
+		for i, fi := range free {
+			if fi {
+				sy += s[i] * y[i]
+				yy += y[i] * y[i]
+				sq += s[i] * q[i]
+			}
+		}
+		if !(sy > 0) || !(yy > 0) {
+			w.sy[idx] = 0
+			continue
+		}
+		w.sy[idx] = sy
+		if gamma == 0 {
+			gamma = sy / yy
+		}
+		a := sq / sy
+		w.alpha[idx] = a
+		for i, fi := range free {
+			if fi {
+				q[i] -= a * y[i]
+			}
+		}
+		used = true
+	}
+	if !used {
+		return 0, false
+	}
+	for i := range q {
+		q[i] *= gamma
+	}
+	for j := 0; j < w.k; j++ {
+		idx := (w.head + j) % w.m
+		sy := w.sy[idx]
+		if sy == 0 {
+			continue
+		}
+		s, y := w.s[idx], w.y[idx]
+		var yr float64
+		for i, fi := range free {
+			if fi {
+				yr += y[i] * q[i]
+			}
+		}
+		b := w.alpha[idx] - yr/sy
+		for i, fi := range free {
+			if fi {
+				q[i] += b * s[i]
+			}
+		}
+	}
+	d := w.d
+	for i := range d {
+		d[i] = -q[i]
+		gd += g[i] * d[i]
+	}
+	r.gamma = gamma
+	return gd, true
+}
+
+// steepest sets d to minus the free gradient and returns g.d.
+func (r *run) steepest() float64 {
+	w := r.w
+	var gd float64
+	for i, fi := range w.free {
+		if fi {
+			w.d[i] = -w.g[i]
+			gd -= w.g[i] * w.g[i]
+		} else {
+			w.d[i] = 0
+		}
+	}
+	return gd
+}
+
+// iterate performs one iteration: direction, projected line search and
+// update of the correction pairs. It returns the infinity norm of the
+// accepted step and false when no acceptable step was found.
+func (r *run) iterate() (float64, bool, error) {
+	w := r.w
+	if r.setFree(w.x, w.g) == 0 {
+		// Every variable is held at a bound: the point is stationary.
+		return 0, false, nil
+	}
+	gd, used := r.direction()
+	if used && !(gd < 0) {
+		used = false
+	}
+	for attempt := 0; attempt < 2; attempt++ {
+		var alpha float64
+		if used {
+			alpha = 1
+		} else {
+			gd = r.steepest()
+			if !(gd < 0) {
+				return 0, false, nil
+			}
+			alpha = r.firstStep()
+		}
+		step, ok, err := r.lineSearch(alpha, gd)
+		if err != nil {
+			return 0, false, err
+		}
+		if ok {
+			return step, true, nil
+		}
+		if !used {
+			return 0, false, nil
+		}
+		// The quasi-Newton direction failed: forget the pairs and retry
+		// along steepest descent.
+		w.k, w.head = 0, 0
+		used = false
+	}
+	return 0, false, nil
+}
+
+// firstStep returns the length of a steepest-descent trial step without
+// curvature information: the scaled step of the newest pairs when known,
+// otherwise a step that changes x by initialDelta of its norm (or a unit
+// step in the infinity norm when x = 0).
+func (r *run) firstStep() float64 {
+	w := r.w
+	if r.gamma > 0 {
+		return r.gamma
+	}
+	var dn, xn, dmax float64
+	for i, di := range w.d {
+		dn += di * di
+		xn += w.x[i] * w.x[i]
+		dmax = max(dmax, math.Abs(di))
+	}
+	if xn > 0 {
+		return initialDelta * math.Sqrt(xn/dn)
+	}
+	return 1 / dmax
+}
+
+// lineSearch backtracks along the projected path x(a) = P(x + a d) until
+// the sufficient-decrease condition f(x(a)) <= f + c1 g.(x(a) - x) holds
+// (Bertsekas 1982, Constrained Optimization and Lagrange Multiplier
+// Methods, sect. 1.5). Trial steps after the first come from the minimum
+// of the quadratic through f, g.d and the last trial, safeguarded to
+// [0.1, 0.5] of that trial. On success the point, gradient and correction
+// pairs are updated.
+func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
+	w := r.w
+	x, g, xt, gt, d := w.x, w.g, w.xt, w.gt, w.d
+	for range maxBacktrack {
+		var moved bool
+		for i := range xt {
+			xt[i] = x[i] + alpha*d[i]
+		}
+		r.project(xt)
+		var decr float64 // g.(xt - x), negative for a descent step
+		for i := range xt {
+			if xt[i] != x[i] {
+				moved = true
+				decr += g[i] * (xt[i] - x[i])
+			}
+		}
+		if !moved {
+			return 0, false, nil
+		}
+		ft, err := r.eval(gt, xt)
+		if err != nil {
+			return 0, false, err
+		}
+		if ft <= r.f+armijoC1*decr && ft <= r.f {
+			return r.accept(ft), true, nil
+		}
+		// Quadratic interpolation of phi(a) = f(x + a d) from phi(0), phi'(0) and phi(alpha).
+		den := 2 * (ft - r.f - gd*alpha)
+		next := 0.5 * alpha
+		if den > 0 {
+			next = -gd * alpha * alpha / den
+		}
+		alpha = min(max(next, 0.1*alpha), 0.5*alpha)
+	}
+	return 0, false, nil
+}
+
+// accept moves to the trial point, stores the correction pair when its
+// curvature s.y is positive, and returns the infinity norm of the step.
+func (r *run) accept(ft float64) float64 {
+	w := r.w
+	var idx int
+	if w.k < w.m {
+		idx = (w.head + w.k) % w.m
+	} else {
+		idx = w.head
+	}
+	s, y := w.s[idx], w.y[idx]
+	var sy, step float64
+	for i := range s {
+		s[i] = w.xt[i] - w.x[i]
+		y[i] = w.gt[i] - w.g[i]
+		sy += s[i] * y[i]
+		step = max(step, math.Abs(s[i]))
+	}
+	if sy > 0 {
+		if w.k < w.m {
+			w.k++
+		} else {
+			w.head = (w.head + 1) % w.m
+		}
+	}
+	w.x, w.xt = w.xt, w.x
+	w.g, w.gt = w.gt, w.g
+	r.f = ft
+	r.pgnorm = r.projGradNorm(w.x, w.g)
+	return step
+}

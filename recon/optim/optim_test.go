@@ -1,0 +1,502 @@
+package optim
+
+import (
+	"errors"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/optimize"
+	"gonum.org/v1/gonum/optimize/functions"
+)
+
+// gonumFunc adapts a gonum test function to Problem.Func.
+func gonumFunc(fn interface {
+	Func([]float64) float64
+	Grad(grad, x []float64)
+}) func(grad, x []float64) float64 {
+	return func(grad, x []float64) float64 {
+		if grad != nil {
+			fn.Grad(grad, x)
+		}
+		return fn.Func(x)
+	}
+}
+
+// TestUnconstrained checks convergence to the known minima of standard
+// test functions: Rosenbrock's function has its minimum 0 at (1, ..., 1)
+// (Rosenbrock 1960, Comput. J. 3, 175; extended form: Moré, Garbow &
+// Hillstrom 1981, ACM TOMS 7, 17, problem 21); the Beale function has its
+// minimum 0 at (3, 0.5) (Moré, Garbow & Hillstrom 1981, problem 5).
+func TestUnconstrained(t *testing.T) {
+	ones := func(n int) []float64 {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = 1
+		}
+		return v
+	}
+	extStart := func(n int) []float64 {
+		v := make([]float64, n)
+		for i := range v {
+			if i%2 == 0 {
+				v[i] = -1.2
+			} else {
+				v[i] = 1
+			}
+		}
+		return v
+	}
+	tests := []struct {
+		name string
+		fn   func(grad, x []float64) float64
+		x0   []float64
+		want []float64
+	}{
+		{"Rosenbrock2", gonumFunc(functions.ExtendedRosenbrock{}), []float64{-1.2, 1}, ones(2)},
+		{"ExtendedRosenbrock10", gonumFunc(functions.ExtendedRosenbrock{}), extStart(10), ones(10)},
+		{"ExtendedRosenbrock100", gonumFunc(functions.ExtendedRosenbrock{}), extStart(100), ones(100)},
+		{"Beale", gonumFunc(functions.Beale{}), []float64{1, 1}, []float64{3, 0.5}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			res, err := Minimize(Problem{Func: tc.fn}, tc.x0, Settings{PGTol: 1e-9, FTol: -1, MaxIter: 5000})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Status != GradientConvergence {
+				t.Errorf("status %v, want %v", res.Status, GradientConvergence)
+			}
+			for i, v := range res.X {
+				if math.Abs(v-tc.want[i]) > 1e-6 {
+					t.Fatalf("x[%d] = %.12g, want %g (iter %d)", i, v, tc.want[i], res.Iter)
+				}
+			}
+			if res.F > 1e-12 {
+				t.Errorf("f = %g, want ~0", res.F)
+			}
+			t.Logf("%s: %d iterations, %d evaluations", tc.name, res.Iter, res.Evals)
+		})
+	}
+}
+
+// TestCompareGonumLBFGS compares the iteration count with gonum's
+// unconstrained L-BFGS (strong-Wolfe line search) on the extended
+// Rosenbrock function: without active bounds the two methods build the
+// same quasi-Newton model, so the counts must be of the same order.
+func TestCompareGonumLBFGS(t *testing.T) {
+	const n = 100
+	x0 := make([]float64, n)
+	for i := range x0 {
+		x0[i] = -1.2
+		if i%2 == 1 {
+			x0[i] = 1
+		}
+	}
+	fn := functions.ExtendedRosenbrock{}
+	gres, err := optimize.Minimize(optimize.Problem{Func: fn.Func, Grad: fn.Grad}, x0,
+		&optimize.Settings{GradientThreshold: 1e-9, MajorIterations: 5000}, &optimize.LBFGS{Store: 10})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Minimize(Problem{Func: gonumFunc(fn)}, x0, Settings{PGTol: 1e-9, FTol: -1, MaxIter: 5000})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("gonum LBFGS: %d iterations, %d evaluations; optim: %d iterations, %d evaluations",
+		gres.Stats.MajorIterations, gres.Stats.FuncEvaluations, res.Iter, res.Evals)
+	if res.Iter > 2*gres.Stats.MajorIterations {
+		t.Errorf("optim needs %d iterations, more than twice gonum's %d", res.Iter, gres.Stats.MajorIterations)
+	}
+	if math.Abs(res.F-gres.F) > 1e-12 {
+		t.Errorf("minimum %g differs from gonum's %g", res.F, gres.F)
+	}
+}
+
+// quadratic returns f(x) = 0.5 x'Ax - b'x for a dense symmetric A.
+func quadratic(a *mat.SymDense, b []float64) func(grad, x []float64) float64 {
+	n := len(b)
+	return func(grad, x []float64) float64 {
+		var f float64
+		for i := range n {
+			var ax float64
+			for j := range n {
+				ax += a.At(i, j) * x[j]
+			}
+			f += 0.5*x[i]*ax - b[i]*x[i]
+			if grad != nil {
+				grad[i] = ax - b[i]
+			}
+		}
+		return f
+	}
+}
+
+// kktSolve finds the minimum of 0.5 x'Ax - b'x subject to x >= 0 by
+// enumerating the active sets: for a strictly convex problem the solution
+// is the unique point with x_F = A_FF^-1 b_F >= 0 on the free set F, x = 0
+// elsewhere, and gradient (Ax - b)_i >= 0 on the active set (Karush-Kuhn-
+// Tucker conditions; Nocedal & Wright 2006, Theorem 12.1 and sect. 16.5).
+func kktSolve(t *testing.T, a *mat.SymDense, b []float64) []float64 {
+	n := len(b)
+	for mask := 0; mask < 1<<n; mask++ {
+		var idx []int
+		for i := range n {
+			if mask&(1<<i) != 0 {
+				idx = append(idx, i)
+			}
+		}
+		x := make([]float64, n)
+		if len(idx) > 0 {
+			aff := mat.NewDense(len(idx), len(idx), nil)
+			bf := mat.NewVecDense(len(idx), nil)
+			for r, i := range idx {
+				bf.SetVec(r, b[i])
+				for c, j := range idx {
+					aff.Set(r, c, a.At(i, j))
+				}
+			}
+			var xf mat.VecDense
+			if err := xf.SolveVec(aff, bf); err != nil {
+				continue
+			}
+			for r, i := range idx {
+				x[i] = xf.AtVec(r)
+			}
+		}
+		ok := true
+		for i := range n {
+			var g float64
+			for j := range n {
+				g += a.At(i, j) * x[j]
+			}
+			g -= b[i]
+			if mask&(1<<i) != 0 && x[i] < 0 {
+				ok = false
+			}
+			if mask&(1<<i) == 0 && g < -1e-12 {
+				ok = false
+			}
+		}
+		if ok {
+			return x
+		}
+	}
+	t.Fatal("no KKT point found")
+	return nil
+}
+
+func TestBoundQuadraticKKT(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 2))
+	for trial := range 5 {
+		const n = 8
+		m := mat.NewDense(n, n, nil)
+		for i := range n {
+			for j := range n {
+				m.Set(i, j, rnd.NormFloat64())
+			}
+		}
+		a := mat.NewSymDense(n, nil)
+		a.SymOuterK(1, m)
+		for i := range n {
+			a.SetSym(i, i, a.At(i, i)+0.5)
+		}
+		b := make([]float64, n)
+		for i := range b {
+			b[i] = rnd.NormFloat64()
+		}
+		want := kktSolve(t, a, b)
+		lower := make([]float64, n)
+		x0 := make([]float64, n)
+		for i := range x0 {
+			x0[i] = 1
+		}
+		res, err := Minimize(Problem{Func: quadratic(a, b), Lower: lower}, x0,
+			Settings{PGTol: 1e-11, FTol: -1, MaxIter: 2000})
+		if err != nil {
+			t.Fatal(err)
+		}
+		nactive := 0
+		for i := range n {
+			if want[i] == 0 {
+				nactive++
+			}
+			if math.Abs(res.X[i]-want[i]) > 1e-8 {
+				t.Errorf("trial %d: x[%d] = %.12g, want %.12g (status %v)", trial, i, res.X[i], want[i], res.Status)
+			}
+		}
+		t.Logf("trial %d: %d of %d bounds active, %d iterations, status %v", trial, nactive, n, res.Iter, res.Status)
+	}
+}
+
+// TestSeparableBounds minimizes sum a_i (x_i - c_i)^2 / 2 over a box,
+// whose solution is clamp(c_i, l_i, u_i) (projection theorem for a
+// separable strictly convex function; Bertsekas 1999, Nonlinear
+// Programming, Prop. 2.1.3). Many bounds are active and the projected
+// gradient at the solution must vanish.
+func TestSeparableBounds(t *testing.T) {
+	const n = 1000
+	rnd := rand.New(rand.NewPCG(3, 4))
+	a, c, lo, hi := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+	for i := range n {
+		a[i] = 0.1 + 10*rnd.Float64()
+		c[i] = 4*rnd.Float64() - 2
+		lo[i] = -1
+		hi[i] = 1
+		if i%3 == 0 {
+			hi[i] = math.Inf(1)
+		}
+	}
+	fn := func(grad, x []float64) float64 {
+		var f float64
+		for i := range x {
+			r := x[i] - c[i]
+			f += 0.5 * a[i] * r * r
+			if grad != nil {
+				grad[i] = a[i] * r
+			}
+		}
+		return f
+	}
+	res, err := Minimize(Problem{Func: fn, Lower: lo, Upper: hi}, make([]float64, n), Settings{PGTol: 1e-10, FTol: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != GradientConvergence {
+		t.Errorf("status %v", res.Status)
+	}
+	if res.ProjGradNorm > 1e-10 {
+		t.Errorf("projected gradient norm %g", res.ProjGradNorm)
+	}
+	active := 0
+	for i := range n {
+		want := min(max(c[i], lo[i]), hi[i])
+		if want != c[i] {
+			active++
+		}
+		if math.Abs(res.X[i]-want) > 1e-9 {
+			t.Fatalf("x[%d] = %g, want %g", i, res.X[i], want)
+		}
+	}
+	if active < n/5 {
+		t.Fatalf("only %d active bounds; test too weak", active)
+	}
+	t.Logf("%d active bounds, %d iterations, %d evaluations", active, res.Iter, res.Evals)
+}
+
+// TestNonIncreasingAndDeterministic checks that every accepted iteration
+// lowers the objective and that a rerun gives bit-identical results.
+func TestNonIncreasingAndDeterministic(t *testing.T) {
+	const n = 200
+	fn := gonumFunc(functions.ExtendedRosenbrock{})
+	x0 := make([]float64, n)
+	lo := make([]float64, n)
+	for i := range x0 {
+		x0[i] = 0.1 + 0.01*float64(i%7)
+		lo[i] = 0.05 * float64(i%5) // some bounds above 1 would be active; these are below the minimum at 1
+	}
+	lo[3] = 1.5 // an active bound
+	var fs []float64
+	s := Settings{MaxIter: 300, Callback: func(it Iter) bool {
+		fs = append(fs, it.F)
+		return true
+	}}
+	r1, err := Minimize(Problem{Func: fn, Lower: lo}, x0, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 1; i < len(fs); i++ {
+		if fs[i] > fs[i-1] {
+			t.Fatalf("objective rose at iteration %d: %g -> %g", i+1, fs[i-1], fs[i])
+		}
+	}
+	if len(fs) != r1.Iter {
+		t.Fatalf("callback called %d times for %d iterations", len(fs), r1.Iter)
+	}
+	r2, err := Minimize(Problem{Func: fn, Lower: lo}, x0, Settings{MaxIter: 300})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r1.F != r2.F || r1.Iter != r2.Iter || r1.Evals != r2.Evals {
+		t.Fatalf("rerun differs: %v vs %v", r1, r2)
+	}
+	for i := range r1.X {
+		if r1.X[i] != r2.X[i] {
+			t.Fatalf("rerun differs at x[%d]: %v vs %v", i, r1.X[i], r2.X[i])
+		}
+		if r1.X[i] < lo[i] {
+			t.Fatalf("x[%d] = %g below bound %g", i, r1.X[i], lo[i])
+		}
+	}
+	if r1.X[3] != 1.5 {
+		t.Errorf("x[3] = %g, want the active bound 1.5", r1.X[3])
+	}
+}
+
+func TestCallbackStop(t *testing.T) {
+	x0 := []float64{-1.2, 1, -1.2, 1}
+	calls := 0
+	res, err := Minimize(Problem{Func: gonumFunc(functions.ExtendedRosenbrock{})}, x0,
+		Settings{Callback: func(it Iter) bool {
+			calls++
+			if it.Iter != calls {
+				t.Errorf("callback iteration %d at call %d", it.Iter, calls)
+			}
+			return it.Iter < 3
+		}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != CallbackStop || res.Iter != 3 || calls != 3 {
+		t.Fatalf("status %v after %d iterations and %d calls; want %v after 3", res.Status, res.Iter, calls, CallbackStop)
+	}
+}
+
+func TestIterationLimit(t *testing.T) {
+	x0 := []float64{-1.2, 1}
+	res, err := Minimize(Problem{Func: gonumFunc(functions.ExtendedRosenbrock{})}, x0, Settings{MaxIter: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != IterationLimit || res.Iter != 4 {
+		t.Fatalf("status %v after %d iterations", res.Status, res.Iter)
+	}
+}
+
+func TestFunctionConvergence(t *testing.T) {
+	x0 := []float64{-1.2, 1}
+	res, err := Minimize(Problem{Func: gonumFunc(functions.ExtendedRosenbrock{})}, x0, Settings{FTol: 1e-3, PGTol: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != FunctionConvergence {
+		t.Fatalf("status %v", res.Status)
+	}
+}
+
+func TestNonFinite(t *testing.T) {
+	tests := []struct {
+		name      string
+		badEval   int
+		gradIndex int
+	}{
+		{"value at start", 1, -1},
+		{"value in line search", 4, -1},
+		{"gradient", 3, 1},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			evals := 0
+			fn := func(grad, x []float64) float64 {
+				evals++
+				f := gonumFunc(functions.ExtendedRosenbrock{})(grad, x)
+				if evals == tc.badEval {
+					if tc.gradIndex >= 0 {
+						grad[tc.gradIndex] = math.Inf(1)
+					} else {
+						f = math.NaN()
+					}
+				}
+				return f
+			}
+			res, err := Minimize(Problem{Func: fn}, []float64{-1.2, 1}, Settings{})
+			if err == nil {
+				t.Fatal("no error")
+			}
+			var nf *NonFiniteError
+			if !errors.As(err, &nf) || !errors.Is(err, ErrNonFinite) {
+				t.Fatalf("error %v is not a *NonFiniteError", err)
+			}
+			if nf.Eval != tc.badEval || nf.GradIndex != tc.gradIndex {
+				t.Errorf("error %+v, want evaluation %d, gradient index %d", nf, tc.badEval, tc.gradIndex)
+			}
+			if !strings.Contains(err.Error(), "iteration") || !strings.Contains(err.Error(), "evaluation") {
+				t.Errorf("message %q does not say where", err)
+			}
+			if res.Status != NotTerminated {
+				t.Errorf("status %v", res.Status)
+			}
+			if tc.badEval > 1 && math.IsNaN(res.F) {
+				t.Errorf("result objective is NaN")
+			}
+		})
+	}
+}
+
+func TestBadProblem(t *testing.T) {
+	fn := func(grad, x []float64) float64 { return 0 }
+	tests := []struct {
+		name string
+		p    Problem
+		x0   []float64
+		want string
+	}{
+		{"nil func", Problem{}, []float64{1}, "Func is nil"},
+		{"no variables", Problem{Func: fn}, nil, "no variables"},
+		{"lower length", Problem{Func: fn, Lower: []float64{0}}, []float64{1, 2}, "len(Lower)"},
+		{"upper length", Problem{Func: fn, Upper: []float64{0}}, []float64{1, 2}, "len(Upper)"},
+		{"crossed", Problem{Func: fn, Lower: []float64{0, 2}, Upper: []float64{1, 1}}, []float64{1, 2}, "variable 1 has Lower 2 > Upper 1"},
+		{"nan bound", Problem{Func: fn, Lower: []float64{math.NaN()}}, []float64{1}, "NaN"},
+	}
+	for _, tc := range tests {
+		_, err := Minimize(tc.p, tc.x0, Settings{})
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: error %v, want containing %q", tc.name, err, tc.want)
+		}
+	}
+}
+
+// TestStartProjectedAndUnchanged checks that x0 is left alone and that an
+// infeasible start is projected before the first evaluation.
+func TestStartProjectedAndUnchanged(t *testing.T) {
+	x0 := []float64{-3, 5}
+	fn := func(grad, x []float64) float64 {
+		if x[0] < 0 || x[1] > 1 {
+			t.Fatalf("infeasible point %v evaluated", x)
+		}
+		grad[0], grad[1] = 2*(x[0]-2), 2*(x[1]+2)
+		return (x[0]-2)*(x[0]-2) + (x[1]+2)*(x[1]+2)
+	}
+	res, err := Minimize(Problem{Func: fn, Lower: []float64{0, -1}, Upper: []float64{1, 1}}, x0, Settings{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if x0[0] != -3 || x0[1] != 5 {
+		t.Errorf("x0 modified: %v", x0)
+	}
+	if res.X[0] != 1 || res.X[1] != -1 {
+		t.Errorf("x = %v, want the corner [1 -1]", res.X)
+	}
+}
+
+// TestNoAllocPerIteration checks that the allocation count does not grow
+// with the number of iterations: the workspace is allocated once.
+func TestNoAllocPerIteration(t *testing.T) {
+	const n = 50
+	x0 := make([]float64, n)
+	for i := range x0 {
+		x0[i] = -1.2
+		if i%2 == 1 {
+			x0[i] = 1
+		}
+	}
+	lo := make([]float64, n)
+	for i := range lo {
+		lo[i] = -2
+	}
+	fn := gonumFunc(functions.ExtendedRosenbrock{})
+	allocs := func(iters int) float64 {
+		return testing.AllocsPerRun(5, func() {
+			res, err := Minimize(Problem{Func: fn, Lower: lo}, x0, Settings{MaxIter: iters, FTol: -1, PGTol: -1})
+			if err != nil || res.Iter != iters {
+				t.Fatalf("run: %v, %d iterations", err, res.Iter)
+			}
+		})
+	}
+	a2, a40 := allocs(2), allocs(40)
+	if a40 != a2 {
+		t.Fatalf("%v allocations for 2 iterations, %v for 40", a2, a40)
+	}
+}
