@@ -1,0 +1,177 @@
+package recon
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"vcz/io/oifits"
+)
+
+// smallFiles builds two small files by hand: file a has 2 V² rows × 2 channels (one point
+// flagged, one NaN), one T3 row and one VIS row; file b has one V² row of another target.
+func smallFiles() []*oifits.File {
+	nan := math.NaN()
+	wave := []oifits.Wavelength{{HDU: 2, InsName: "INS", EffWave: []float64{1e-6, 2e-6}, EffBand: []float64{1e-7, 1e-7}}}
+	a := &oifits.File{
+		Name:        "a.oifits",
+		Targets:     []oifits.Target{{ID: 1, Name: "Alpha"}, {ID: 2, Name: "Beta"}},
+		Wavelengths: wave,
+		Vis2: []oifits.Vis2{{HDU: 3, InsName: "INS", Rows: []oifits.Vis2Row{
+			{TargetID: 1, MJD: 60000.1, Data: []float64{0.5, 0.4}, Err: []float64{0.01, 0.02},
+				UCoord: 30, VCoord: 40, Flag: []bool{false, true}},
+			{TargetID: 1, MJD: 60000.2, Data: []float64{0.6, nan}, Err: []float64{0.01, 0.02},
+				UCoord: 6, VCoord: 8, Flag: []bool{false, false}},
+		}}},
+		T3: []oifits.T3{{HDU: 4, InsName: "INS", Rows: []oifits.T3Row{
+			{TargetID: 1, MJD: 60001.0, Amp: []float64{nan, nan}, AmpErr: []float64{nan, nan},
+				Phi: []float64{90, -45}, PhiErr: []float64{1, 2},
+				U1Coord: 30, V1Coord: 40, U2Coord: -24, V2Coord: -32, Flag: []bool{false, false}},
+		}}},
+		Vis: []oifits.Vis{{HDU: 5, InsName: "INS", PhiTyp: "differential", Rows: []oifits.VisRow{
+			{TargetID: 2, MJD: 60001.1, Amp: []float64{0.7, 0.8}, AmpErr: []float64{0.1, 0.1},
+				Phi: []float64{10, 20}, PhiErr: []float64{5, 5}, UCoord: 60, VCoord: 80, Flag: []bool{false, false}},
+		}}},
+	}
+	b := &oifits.File{
+		Name:        "b.oifits",
+		Targets:     []oifits.Target{{ID: 1, Name: "beta "}},
+		Wavelengths: wave,
+		Vis2: []oifits.Vis2{{HDU: 3, InsName: "INS", Rows: []oifits.Vis2Row{
+			{TargetID: 1, MJD: 60003.0, Data: []float64{0.9, 0.8}, Err: []float64{0.05, 0.05},
+				UCoord: 3, VCoord: 4, Flag: []bool{false, false}},
+		}}},
+	}
+	return []*oifits.File{a, b}
+}
+
+func TestFromFilesCounts(t *testing.T) {
+	d, err := FromFiles(smallFiles(), Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := d.Vis2Count, (Counts{Valid: 4, Flagged: 1, NonFinite: 1}); got != want {
+		t.Errorf("Vis2Count = %+v, want %+v", got, want)
+	}
+	if got, want := d.T3Count, (Counts{Valid: 2}); got != want {
+		t.Errorf("T3Count = %+v, want %+v", got, want)
+	}
+	if d.T3.AmpOK[0] || !d.T3.PhiOK[0] {
+		t.Errorf("T3 amplitude NaN should be unusable, phase usable")
+	}
+	// Degrees to radians and UCOORD/λ: 90° = π/2; 30 m at 1 µm = 3e7 cycles/rad.
+	if d.T3.Phi[0] != math.Pi/2 || d.T3.U1[0] != 30/1e-6 {
+		t.Errorf("T3 phi %g u1 %g", d.T3.Phi[0], d.T3.U1[0])
+	}
+	if d.Vis.PhiTyp[0] != PhiDifferential || d.Vis.AmpTyp[0] != AmpAbsolute {
+		t.Errorf("VIS types %v %v", d.Vis.AmpTyp[0], d.Vis.PhiTyp[0])
+	}
+	if want := []string{"Alpha", "Beta", "beta"}; strings.Join(d.Targets, ",") != strings.Join(want, ",") {
+		t.Errorf("targets %v", d.Targets)
+	}
+	if o := d.Vis2.Origin[3]; o != (Origin{File: 1, HDU: 3, Row: 1, Channel: 1}) {
+		t.Errorf("origin %+v", o)
+	}
+}
+
+func TestFromFilesSelection(t *testing.T) {
+	tests := []struct {
+		name          string
+		sel           Selection
+		vis2, t3, vis int
+		wantErr       string
+	}{
+		{"all", Selection{}, 4, 2, 2, ""},
+		{"target name any case", Selection{Target: " BETA"}, 2, 0, 2, ""},
+		{"target id", Selection{Target: "1"}, 4, 2, 0, ""},
+		{"wavelength", Selection{WaveMax: 1.5e-6}, 3, 1, 1, ""},
+		{"mjd", Selection{MJDMin: 60000.15, MJDMax: 60001.05}, 1, 2, 0, ""},
+		{"types", Selection{Types: T3Phi}, 0, 2, 0, ""},
+		{"instrument", Selection{InsNames: []string{"OTHER"}}, 0, 0, 0, ""},
+		{"unknown target", Selection{Target: "Gamma"}, 0, 0, 0, `target "Gamma" not found`},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			d, err := FromFiles(smallFiles(), tc.sel)
+			if tc.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.wantErr) {
+					t.Fatalf("error %v, want %q", err, tc.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if d.Vis2.Len() != tc.vis2 || d.T3.Len() != tc.t3 || d.Vis.Len() != tc.vis {
+				t.Errorf("got %d V², %d T3, %d VIS; want %d, %d, %d", d.Vis2.Len(), d.T3.Len(), d.Vis.Len(), tc.vis2, tc.t3, tc.vis)
+			}
+		})
+	}
+}
+
+func TestFromFilesErrors(t *testing.T) {
+	f := smallFiles()
+	f[0].Vis2[0].InsName = "NOPE"
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != `a.oifits: OI_VIS2 (HDU 3): INSNAME "NOPE" has no OI_WAVELENGTH table` {
+		t.Errorf("error %v", err)
+	}
+	f = smallFiles()
+	f[1].Vis2[0].Rows[0].Err[1] = -0.01
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "b.oifits: OI_VIS2 (HDU 3) row 1: VIS2ERR is -0.01; errors must be positive" {
+		t.Errorf("error %v", err)
+	}
+	f = smallFiles()
+	f[0].T3[0].Rows[0].Phi = []float64{1}
+	if _, err := FromFiles(f, Selection{}); err == nil || !strings.Contains(err.Error(), "a.oifits: OI_T3 (HDU 4) row 1: T3PHI has 1 values for 2 channels") {
+		t.Errorf("error %v", err)
+	}
+}
+
+// TestSummary checks the summary figures by hand. Resolution = λmin/(2·Bmax) and largest
+// scale = λmax/Bmin (CONVENTIONS.md; common practice, no source).
+func TestSummary(t *testing.T) {
+	d, err := FromFiles(smallFiles(), Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := d.Summarize()
+	// Baselines: V² 50 m and 10 m and 5 m (b.oifits, 3-4-5); T3 has 50 m, 40 m and the third
+	// (30-24, 40-32) = (6, 8) → 10 m; VIS 100 m. So Bmin = 5 m, Bmax = 100 m.
+	near := func(name string, got, want float64) {
+		t.Helper()
+		if math.Abs(got-want) > 1e-9*math.Abs(want) {
+			t.Errorf("%s = %.12g, want %.12g", name, got, want)
+		}
+	}
+	near("BaselineMin", s.BaselineMin, 5)
+	near("BaselineMax", s.BaselineMax, 100)
+	near("FreqMax", s.FreqMax, 100/1e-6) // the 100 m VIS baseline at 1 µm
+	near("FreqMin", s.FreqMin, 5/2e-6)   // 5 m at 2 µm
+	near("Resolution", s.Resolution, 1e-6/(2*100))
+	near("LargestScale", s.LargestScale, 2e-6/5)
+	near("Resolution mas", s.Resolution/Mas, 1e-6/200*180/math.Pi*3600e3) // 1.0313 mas
+	near("MJDMin", s.MJDMin, 60000.1)
+	near("MJDMax", s.MJDMax, 60003.0)
+	// Epochs 60000.1, .2 | 60001.0, 60001.1 | 60003.0: gaps > 0.5 d give 3 nights.
+	if s.Nights != 3 {
+		t.Errorf("Nights = %d, want 3", s.Nights)
+	}
+	near("Grid pixel", s.Grid.Pixel, s.Resolution/4)
+	if !Friendly(s.Grid.N) || s.Grid.N < 32 {
+		t.Errorf("grid N = %d", s.Grid.N)
+	}
+	if s.Vis2 != d.Vis2Count || len(s.Instruments) != 1 || s.Instruments[0].Channels != 2 {
+		t.Errorf("summary counts/instruments %+v %+v", s.Vis2, s.Instruments)
+	}
+}
+
+func TestFriendly(t *testing.T) {
+	for _, tc := range []struct {
+		n    int
+		want bool
+	}{{2, true}, {30, true}, {32, true}, {48, true}, {14, false}, {15, false}, {100, true}, {0, false}, {126, false}} {
+		if Friendly(tc.n) != tc.want {
+			t.Errorf("Friendly(%d) = %v", tc.n, !tc.want)
+		}
+	}
+}
