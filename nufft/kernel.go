@@ -28,11 +28,12 @@ type kernel struct {
 	norm float64 // 1/I0(β) for Kaiser–Bessel, so that the peak value is 1
 }
 
-// kernelWidth returns the kernel width in fine-grid cells for a relative
-// tolerance. The widths were chosen by measuring the relative l2 error
-// of Plan against Exact for random points and images (TestKernelWidths
-// repeats the measurement); each width is the smallest whose error stays
-// below tol with a margin of at least 2.
+// kernelWidth returns the Kaiser–Bessel kernel width in fine-grid cells
+// for a relative tolerance: w = ⌈log10(1/tol)⌉ + 1. Measured relative l2
+// errors of Plan against Exact for random points filling the band and
+// random images were about 0.65·10^(1−w) for w = 3…14 at upsampling 2
+// (TestKernelAccuracy repeats the measurement), so this is the smallest
+// width that meets tol; rounding limits the error to about 1e-14.
 func kernelWidth(tol float64) int {
 	w := int(math.Ceil(-math.Log10(tol))) + 1
 	return max(2, min(w, 16))

@@ -1,17 +1,506 @@
 package nufft
 
-// Plan is the fast transform. (Temporary: evaluates by direct sum until
-// the gridding implementation lands.)
+import (
+	"math"
+	"runtime"
+)
+
+// Plan is the fast transform: a non-uniform FFT with an upsampled grid
+// and a Kaiser–Bessel gridding kernel (see the package documentation).
+// Everything that depends only on the points — the kernel weights of
+// every point along each axis, the grid offsets, the order of the points
+// sorted into bins, the worker split — is computed by NewPlan, so a call
+// costs one pass over the points and one 2D FFT.
+//
+// A Plan must not be used by several goroutines at once: it holds the
+// grid and scratch buffers. Make one Plan per goroutine. With
+// Options.Workers > 1 each call runs on several goroutines itself, and
+// its result does not depend on scheduling.
 type Plan struct {
-	*Exact
+	*plan
 }
 
+const (
+	binRows   = 8  // fine-grid rows per bin when sorting points
+	colBlock  = 16 // columns per batched column FFT
+	serialOps = 4e6
+)
+
+type plan struct {
+	nx, ny int     // image size
+	fx, fy int     // upsampled grid size, powers of two
+	m      int     // number of points
+	w      int     // kernel width in fine cells
+	kern   kernel
+	corrX  []float64 // 1/φ̂ for each image column, ix = 0..nx−1
+	corrY  []float64 // 1/φ̂ for each image row
+
+	// Per point, in sorted order: original index, grid offsets of the
+	// first kernel tap along x and y (in [0, fx) and [0, fy)), and the w
+	// x weights followed by the w y weights.
+	perm   []int32
+	x0, y0 []int32
+	wts    []float64
+
+	fftX, fftY *fftPlan
+
+	// grid is the fx×fy upsampled grid, row-major (fine row j_y holds
+	// fx columns). Forward interpolates from it; Adjoint uses its image
+	// rows for the column-to-row hand-over.
+	grid []complex128
+
+	// Adjoint spreading: worker i spreads its points into band rows
+	// [bandLo[i], bandLo[i]+bandRows[i]) of the unwrapped y range,
+	// stored at band[bandOff[i]:]. rowSrc[rowStart[r]:rowStart[r+1]]
+	// lists the offsets in band of the rows that fold onto fine row r,
+	// in worker order, which fixes the order of the reduction.
+	band      []complex128
+	bandLo    []int
+	bandRows  []int
+	bandOff   []int
+	rowStart  []int32
+	rowSrc    []int32
+	ptLo      []int // worker i owns sorted points [ptLo[i], ptLo[i+1])
+	scratch   [][]complex128
+	workers   int
+	pool      *pool
+	imageRows []int32 // fine row of each image row iy
+
+	// Arguments of the running phase.
+	phase int
+	dstC  []complex128
+	srcR  []float64
+	dstR  []float64
+	srcC  []complex128
+}
+
+const (
+	phFwdRows = iota
+	phFwdCols
+	phFwdInterp
+	phAdjSpread
+	phAdjCols
+	phAdjRows
+)
+
 // NewPlan makes a fast transform for an nx×ny image with the given pixel
-// size (radians) and points (u, v) in cycles per radian.
+// size (radians) and points (u, v) in cycles per radian; see Transform
+// for the sums and Options for the tolerance and the workers. The plan
+// keeps no reference to u and v.
 func NewPlan(nx, ny int, pixel float64, u, v []float64, opt Options) (*Plan, error) {
-	e, err := NewExact(nx, ny, pixel, u, v, opt)
+	r, err := resolve("NewPlan", nx, ny, pixel, u, v, opt)
 	if err != nil {
 		return nil, err
 	}
-	return &Plan{e}, nil
+	p := newPlan(r, u, v, kaiserBessel, kernelWidth(r.tol))
+	x := &Plan{p}
+	if p.pool.n > 1 {
+		runtime.AddCleanup(x, stopPool, p.pool.ch)
+	}
+	return x, nil
+}
+
+func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
+	p := &plan{nx: r.nx, ny: r.ny, fx: fineSize(r.nx), fy: fineSize(r.ny), m: r.m, w: w}
+	p.kern = newKernel(kind, w)
+	fx, fy := p.fx, p.fy
+
+	// Correction factors 1/φ̂(a/f) for a = i − n/2.
+	p.corrX = make([]float64, r.nx)
+	p.corrY = make([]float64, r.ny)
+	for _, c := range []struct {
+		corr []float64
+		n, f int
+	}{{p.corrX, r.nx, fx}, {p.corrY, r.ny, fy}} {
+		xi := make([]float64, c.n)
+		for i := range xi {
+			xi[i] = float64(i-c.n/2) / float64(c.f)
+		}
+		p.kern.ft(c.corr, xi)
+		for i := range c.corr {
+			c.corr[i] = 1 / c.corr[i]
+		}
+	}
+	p.imageRows = make([]int32, r.ny)
+	for iy := range p.imageRows {
+		p.imageRows[iy] = int32(mod(iy-r.ny/2, fy))
+	}
+
+	// Grid offsets of each point, then a counting sort by (bin row, x0).
+	m := r.m
+	tx := make([]float64, m)
+	ty := make([]float64, m)
+	x0 := make([]int32, m)
+	y0 := make([]int32, m)
+	half := float64(w) / 2
+	for k := range m {
+		// u·x + v·y = s·(ix − nx/2) + t·(iy − ny/2) with s = −u·pixel
+		// and t = v·pixel (CONVENTIONS.md); fine coordinates are f·s.
+		tx[k] = reduce(-u[k]*r.pixel) * float64(fx)
+		ty[k] = reduce(v[k]*r.pixel) * float64(fy)
+		x0[k] = int32(mod(int(math.Ceil(tx[k]-half)), fx))
+		y0[k] = int32(mod(int(math.Ceil(ty[k]-half)), fy))
+	}
+	nb := (fy + binRows - 1) / binRows
+	count := make([]int32, nb*fx+1)
+	for k := range m {
+		count[int(y0[k])/binRows*fx+int(x0[k])+1]++
+	}
+	for i := 1; i < len(count); i++ {
+		count[i] += count[i-1]
+	}
+	p.perm = make([]int32, m)
+	for k := range m {
+		key := int(y0[k])/binRows*fx + int(x0[k])
+		p.perm[count[key]] = int32(k)
+		count[key]++
+	}
+	count, x0, y0 = nil, nil, nil
+
+	// Weights, in sorted order.
+	p.x0 = make([]int32, m)
+	p.y0 = make([]int32, m)
+	p.wts = make([]float64, 2*w*m)
+	for i, k := range p.perm {
+		jx := math.Ceil(tx[k] - half)
+		jy := math.Ceil(ty[k] - half)
+		p.x0[i] = int32(mod(int(jx), fx))
+		p.y0[i] = int32(mod(int(jy), fy))
+		wt := p.wts[2*w*i : 2*w*i+2*w]
+		for d := range w {
+			wt[d] = p.kern.eval(tx[k] - (jx + float64(d)))
+			wt[w+d] = p.kern.eval(ty[k] - (jy + float64(d)))
+		}
+	}
+
+	p.fftX = newFFTPlan(fx)
+	p.fftY = newFFTPlan(fy)
+	p.grid = make([]complex128, fx*fy)
+
+	// Workers: serial below a size threshold (common practice, no source).
+	nw := r.workers
+	ops := float64(m)*float64(4*w*w) + 5*float64(fx*fy)*math.Log2(float64(fx*fy))
+	if ops < serialOps {
+		nw = 1
+	}
+	nw = min(nw, max(1, m/64+1), fx/colBlock)
+	p.workers = nw
+	p.pool = newPool(nw)
+	p.scratch = make([][]complex128, nw)
+	for i := range p.scratch {
+		p.scratch[i] = make([]complex128, 2*max(fx, fy*colBlock))
+	}
+
+	// Adjoint bands: worker i spreads sorted points [ptLo[i], ptLo[i+1]).
+	p.ptLo = make([]int, nw+1)
+	for i := range nw + 1 {
+		p.ptLo[i], _ = span(m, i, nw)
+	}
+	p.bandLo = make([]int, nw)
+	p.bandRows = make([]int, nw)
+	p.bandOff = make([]int, nw)
+	off := 0
+	for i := range nw {
+		lo, hi := p.ptLo[i], p.ptLo[i+1]
+		if lo == hi {
+			p.bandOff[i] = off
+			continue
+		}
+		ymin, ymax := int(p.y0[lo]), int(p.y0[lo])
+		for _, y := range p.y0[lo:hi] {
+			ymin = min(ymin, int(y))
+			ymax = max(ymax, int(y))
+		}
+		p.bandLo[i] = ymin
+		p.bandRows[i] = ymax + w - ymin
+		p.bandOff[i] = off
+		off += p.bandRows[i] * fx
+	}
+	p.band = make([]complex128, off)
+	p.rowStart = make([]int32, fy+1)
+	var src []int32
+	for r := range fy {
+		p.rowStart[r] = int32(len(src))
+		for i := range nw {
+			for _, rr := range []int{r - p.bandLo[i], r - p.bandLo[i] + fy, r - p.bandLo[i] + 2*fy} {
+				if rr >= 0 && rr < p.bandRows[i] {
+					src = append(src, int32(p.bandOff[i]+rr*fx))
+				}
+			}
+		}
+	}
+	p.rowStart[fy] = int32(len(src))
+	p.rowSrc = src
+	return p
+}
+
+func mod(a, n int) int {
+	a %= n
+	if a < 0 {
+		a += n
+	}
+	return a
+}
+
+// Len returns the number of points m.
+func (p *Plan) Len() int { return p.m }
+
+// Size returns the image size.
+func (p *Plan) Size() (nx, ny int) { return p.nx, p.ny }
+
+// KernelWidth returns the width of the gridding kernel in cells of the
+// upsampled grid, which sets the cost per point (about 2w² multiply-adds).
+func (p *Plan) KernelWidth() int { return p.w }
+
+// Workers returns the number of goroutines a call uses.
+func (p *Plan) Workers() int { return p.workers }
+
+// Forward sets dst[k] = Σ img[iy·nx+ix] exp(−2πi (u_k x + v_k y)) to the
+// plan's tolerance. dst must have length m and img length nx·ny; they
+// cannot alias.
+func (p *Plan) Forward(dst []complex128, img []float64) {
+	mustLen("Plan.Forward", "dst", len(dst), p.m)
+	mustLen("Plan.Forward", "img", len(img), p.nx*p.ny)
+	p.dstC, p.srcR = dst, img
+	p.runPhase(phFwdRows)
+	p.runPhase(phFwdCols)
+	p.runPhase(phFwdInterp)
+	p.dstC, p.srcR = nil, nil
+}
+
+// Adjoint sets dst[iy·nx+ix] = Re Σ_k vis[k] exp(+2πi (u_k x + v_k y))
+// to the plan's tolerance; it is the exact adjoint of Forward. dst must
+// have length nx·ny and vis length m.
+func (p *Plan) Adjoint(dst []float64, vis []complex128) {
+	mustLen("Plan.Adjoint", "dst", len(dst), p.nx*p.ny)
+	mustLen("Plan.Adjoint", "vis", len(vis), p.m)
+	p.dstR, p.srcC = dst, vis
+	p.runPhase(phAdjSpread)
+	p.runPhase(phAdjCols)
+	p.runPhase(phAdjRows)
+	p.dstR, p.srcC = nil, nil
+}
+
+func (p *plan) runPhase(ph int) {
+	p.phase = ph
+	p.pool.run(p, p.workers)
+}
+
+func (p *plan) do(i int) {
+	n := p.workers
+	switch p.phase {
+	case phFwdRows:
+		lo, hi := span(p.ny, i, n)
+		p.fwdRows(p.scratch[i], lo, hi)
+	case phFwdCols:
+		lo, hi := span(p.fx/colBlock, i, n)
+		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, false)
+	case phFwdInterp:
+		p.interp(p.ptLo[i], p.ptLo[i+1])
+	case phAdjSpread:
+		p.spread(i)
+	case phAdjCols:
+		lo, hi := span(p.fx/colBlock, i, n)
+		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, true)
+	case phAdjRows:
+		lo, hi := span(p.ny, i, n)
+		p.adjRows(p.scratch[i], lo, hi)
+	}
+}
+
+// fwdRows places corrected image rows [lo, hi) on their fine rows and
+// transforms them along x.
+func (p *plan) fwdRows(scr []complex128, lo, hi int) {
+	nx, fx := p.nx, p.fx
+	buf := scr[:fx]
+	for iy := lo; iy < hi; iy++ {
+		row := p.grid[int(p.imageRows[iy])*fx:][:fx]
+		clear(row)
+		cy := p.corrY[iy]
+		src := p.srcR[iy*nx : iy*nx+nx]
+		// Columns ix ≥ nx/2 go to 0, 1, ...; columns ix < nx/2 wrap to
+		// the top of the row.
+		h := nx / 2
+		for ix := h; ix < nx; ix++ {
+			row[ix-h] = complex(src[ix]*p.corrX[ix]*cy, 0)
+		}
+		for ix := 0; ix < h; ix++ {
+			row[fx-h+ix] = complex(src[ix]*p.corrX[ix]*cy, 0)
+		}
+		out := p.fftX.transform(row, buf, 1, false)
+		if &out[0] != &row[0] {
+			copy(row, out)
+		}
+	}
+}
+
+// cols transforms columns [c0, c1) along y in blocks of colBlock. In
+// Forward only the image rows are nonzero on input (the rest are not
+// read); in Adjoint the input is folded from the spreading bands and only
+// the image rows of the output are stored.
+func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
+	fx, fy := p.fx, p.fy
+	const b = colBlock
+	x, y := scr[:fy*b], scr[fy*b:2*fy*b]
+	for c := c0; c < c1; c += b {
+		if !adjoint {
+			clear(x)
+			for _, r := range p.imageRows {
+				copy(x[int(r)*b:int(r)*b+b], p.grid[int(r)*fx+c:])
+			}
+		} else {
+			for r := range fy {
+				d := x[r*b : r*b+b]
+				srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
+				if len(srcs) == 0 {
+					clear(d)
+					continue
+				}
+				copy(d, p.band[int(srcs[0])+c:])
+				for _, o := range srcs[1:] {
+					s := p.band[int(o)+c:][:len(d)]
+					for j := range d {
+						d[j] += s[j]
+					}
+				}
+			}
+		}
+		out := p.fftY.transform(x, y, b, adjoint)
+		if !adjoint {
+			for r := range fy {
+				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
+			}
+		} else {
+			for _, r := range p.imageRows {
+				copy(p.grid[int(r)*fx+c:int(r)*fx+c+b], out[int(r)*b:int(r)*b+b])
+			}
+		}
+		x, y = scr[:fy*b], scr[fy*b:2*fy*b]
+	}
+}
+
+// adjRows transforms image rows [lo, hi) along x and writes the real part
+// times the correction into the image.
+func (p *plan) adjRows(scr []complex128, lo, hi int) {
+	nx, fx := p.nx, p.fx
+	buf := scr[:fx]
+	h := nx / 2
+	for iy := lo; iy < hi; iy++ {
+		row := p.grid[int(p.imageRows[iy])*fx:][:fx]
+		out := p.fftX.transform(row, buf, 1, true)
+		cy := p.corrY[iy]
+		dst := p.dstR[iy*nx : iy*nx+nx]
+		for ix := h; ix < nx; ix++ {
+			dst[ix] = real(out[ix-h]) * p.corrX[ix] * cy
+		}
+		for ix := 0; ix < h; ix++ {
+			dst[ix] = real(out[fx-h+ix]) * p.corrX[ix] * cy
+		}
+	}
+}
+
+// interp evaluates sorted points [lo, hi) from the transformed grid.
+func (p *plan) interp(lo, hi int) {
+	w, fx, fy := p.w, p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		wt := p.wts[2*w*i : 2*w*i+2*w]
+		wx, wy := wt[:w], wt[w:]
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		var ar, ai float64
+		if x0+w <= fx {
+			for dy, wv := range wy {
+				r := y0 + dy
+				if r >= fy {
+					r -= fy
+				}
+				row := grid[r*fx+x0 : r*fx+x0+w]
+				wx := wx[:len(row)]
+				var sr, si float64
+				for d, c := range row {
+					sr += real(c) * wx[d]
+					si += imag(c) * wx[d]
+				}
+				ar += sr * wv
+				ai += si * wv
+			}
+		} else {
+			for dy, wv := range wy {
+				r := y0 + dy
+				if r >= fy {
+					r -= fy
+				}
+				row := grid[r*fx : r*fx+fx]
+				var sr, si float64
+				for d, wxv := range wx {
+					c := x0 + d
+					if c >= fx {
+						c -= fx
+					}
+					sr += real(row[c]) * wxv
+					si += imag(row[c]) * wxv
+				}
+				ar += sr * wv
+				ai += si * wv
+			}
+		}
+		p.dstC[p.perm[i]] = complex(ar, ai)
+	}
+}
+
+// spread adds the points of worker i, times their kernel weights, into
+// its band.
+func (p *plan) spread(i int) {
+	w, fx := p.w, p.fx
+	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*fx]
+	clear(band)
+	ylo := p.bandLo[i]
+	for k := p.ptLo[i]; k < p.ptLo[i+1]; k++ {
+		wt := p.wts[2*w*k : 2*w*k+2*w]
+		wx, wy := wt[:w], wt[w:]
+		x0, y0 := int(p.x0[k]), int(p.y0[k])-ylo
+		vis := p.srcC[p.perm[k]]
+		vr, vi := real(vis), imag(vis)
+		if x0+w <= fx {
+			for dy, wv := range wy {
+				cr, ci := vr*wv, vi*wv
+				o := (y0+dy)*fx + x0
+				row := band[o : o+w]
+				wx := wx[:len(row)]
+				for d := range row {
+					row[d] += complex(cr*wx[d], ci*wx[d])
+				}
+			}
+		} else {
+			for dy, wv := range wy {
+				cr, ci := vr*wv, vi*wv
+				row := band[(y0+dy)*fx : (y0+dy)*fx+fx]
+				for d, wxv := range wx {
+					c := x0 + d
+					if c >= fx {
+						c -= fx
+					}
+					row[c] += complex(cr*wxv, ci*wxv)
+				}
+			}
+		}
+	}
+}
+
+// memBytes returns the bytes held by the plan's slices.
+func (p *plan) memBytes() (grid, perPoint, total int) {
+	const c, f, i32 = 16, 8, 4
+	grid = c * len(p.grid)
+	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts)
+	total = grid + perPoint + c*len(p.band) + f*(len(p.corrX)+len(p.corrY)) +
+		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows))
+	for _, s := range p.scratch {
+		total += c * len(s)
+	}
+	for _, f := range []*fftPlan{p.fftX, p.fftY} {
+		for _, st := range f.stages {
+			total += c * (len(st.fw) + len(st.iw))
+		}
+	}
+	return grid, perPoint, total
 }
