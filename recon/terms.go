@@ -1,0 +1,382 @@
+package recon
+
+import (
+	"fmt"
+	"math"
+)
+
+// Weights are the weights of the χ² terms, indexed like Types (Vis2, T3Amp, T3Phi, VisAmp,
+// VisPhi). A zero weight means 1; to leave a data type out, leave it out of the used set.
+type Weights [len(Types)]float64
+
+// TermOptions configure the data terms.
+type TermOptions struct {
+	// Use is the set of data types fitted; 0 means every type the data set has.
+	Use DataType
+	// Weights multiply each type's χ² in the objective.
+	Weights Weights
+	// ComplexVis fits each complex visibility whose amplitude and phase are both absolute and
+	// both usable as one complex number, with the error ellipse of its amplitude and phase
+	// errors (radial σ_amp, tangential amp·σ_phi), instead of separate amplitude and phase
+	// terms. Without flux normalisation the objective is then quadratic in the image.
+	ComplexVis bool
+}
+
+// Objective is the weighted sum of the data terms,
+//
+//	J(x) = Σ_t w_t χ²_t(x),
+//
+// with, for V² data, χ² = Σ (|V|² − V²ₒ)²/σ²; for closure phases the wrap-safe
+// χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in radians, which tends to the Gaussian form for small
+// residuals; for T3 amplitudes χ² = Σ (|B| − |B|ₒ)²/σ²; for visibility amplitudes
+// Σ (|V| − Aₒ)²/σ² (correlated fluxes: Σ (s|V| − Aₒ)²/σ² with the scale s at its least-squares
+// optimum s = Σ Aₒ|V|/σ² / Σ |V|²/σ²); and for absolute visibility phases the wrap-safe form.
+// Differential amplitudes and phases cannot be fitted by a gray image and are left out with a
+// notice. An Objective holds the buffers of one evaluation and is not safe for concurrent use.
+type Objective struct {
+	m *Model
+	d *Data
+	w [len(Types)]float64
+	// Index lists of the data that enter each term, built once.
+	t3a, t3p, va, vc, vp, vx []int32
+	e3, ev                   []complex128 // exp(−i φₒ) of t3p and of the vis phase data
+	use, avail               DataType
+	chi2                     [len(Types)]float64
+	n                        [len(Types)]int
+	scale                    float64
+	notices                  []string
+	bad                      string // first non-finite result of the last evaluation
+}
+
+// NewObjective builds the data terms of d on model m (which must have been made from d).
+func NewObjective(d *Data, m *Model, opt TermOptions) *Objective {
+	o := &Objective{m: m, d: d}
+	for i, w := range opt.Weights {
+		o.w[i] = w
+		if w == 0 {
+			o.w[i] = 1
+		}
+	}
+	for i := range d.T3.Lambda {
+		if d.T3.AmpOK[i] {
+			o.t3a = append(o.t3a, int32(i))
+		}
+		if d.T3.PhiOK[i] {
+			o.t3p = append(o.t3p, int32(i))
+			s, c := math.Sincos(d.T3.Phi[i])
+			o.e3 = append(o.e3, complex(c, -s))
+		}
+	}
+	var ndiffA, ndiffP int
+	p := &d.Vis
+	o.ev = make([]complex128, p.Len())
+	for i := range p.Lambda {
+		if p.PhiOK[i] {
+			s, c := math.Sincos(p.Phi[i])
+			o.ev[i] = complex(c, -s)
+		}
+		absA := p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute
+		absP := p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute
+		switch {
+		case opt.ComplexVis && absA && absP:
+			o.vx = append(o.vx, int32(i))
+			continue
+		case absA:
+			o.va = append(o.va, int32(i))
+		case p.AmpOK[i] && p.AmpTyp[i] == AmpCorrelatedFlux:
+			o.vc = append(o.vc, int32(i))
+		case p.AmpOK[i]:
+			ndiffA++
+		}
+		switch {
+		case absP:
+			o.vp = append(o.vp, int32(i))
+		case p.PhiOK[i]:
+			ndiffP++
+		}
+	}
+	if ndiffA > 0 {
+		o.notices = append(o.notices, fmt.Sprintf("%d differential visibility amplitudes left out: a gray image cannot model them", ndiffA))
+	}
+	if ndiffP > 0 {
+		o.notices = append(o.notices, fmt.Sprintf("%d differential visibility phases left out: a gray image cannot model them", ndiffP))
+	}
+	if len(o.vc) > 0 {
+		o.notices = append(o.notices, fmt.Sprintf("%d correlated-flux amplitudes fitted with a free flux scale", len(o.vc)))
+	}
+	o.n[Vis2.index()] = d.Vis2.Len()
+	o.n[T3Amp.index()] = len(o.t3a)
+	o.n[T3Phi.index()] = len(o.t3p)
+	o.n[VisAmp.index()] = len(o.va) + len(o.vc) + len(o.vx)
+	o.n[VisPhi.index()] = len(o.vp) + len(o.vx)
+	for i, t := range Types {
+		if o.n[i] > 0 {
+			o.avail |= t
+		}
+	}
+	o.SetUse(opt.Use)
+	return o
+}
+
+// SetUse sets the data types fitted (0 = all available) and returns the set in force, which
+// omits the types without data.
+func (o *Objective) SetUse(t DataType) DataType {
+	if t == 0 {
+		t = AllTypes
+	}
+	o.use = t & o.avail
+	return o.use
+}
+
+// Use returns the data types fitted.
+func (o *Objective) Use() DataType { return o.use }
+
+// Available returns the data types that have data in the terms.
+func (o *Objective) Available() DataType { return o.avail }
+
+// Notices lists what the terms leave out or treat specially, one sentence each.
+func (o *Objective) Notices() []string { return o.notices }
+
+// Model returns the forward model.
+func (o *Objective) Model() *Model { return o.m }
+
+// N returns the number of data of one type in the terms.
+func (o *Objective) N(t DataType) int { return o.n[t.index()] }
+
+// Chi2 returns the unweighted χ² of one data type at the last evaluation (0 when not used).
+func (o *Objective) Chi2(t DataType) float64 { return o.chi2[t.index()] }
+
+// Chi2r returns χ²/N of one data type at the last evaluation, NaN when the type has no data or
+// is not used.
+func (o *Objective) Chi2r(t DataType) float64 {
+	i := t.index()
+	if o.n[i] == 0 || o.use&t == 0 {
+		return math.NaN()
+	}
+	return o.chi2[i] / float64(o.n[i])
+}
+
+// TotalChi2r returns Σχ²/ΣN over the used types (unweighted), NaN without data.
+func (o *Objective) TotalChi2r() float64 {
+	s, n := 0.0, 0
+	for i, t := range Types {
+		if o.use&t != 0 {
+			s += o.chi2[i]
+			n += o.n[i]
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	return s / float64(n)
+}
+
+// FluxScale returns the fitted scale of the correlated-flux amplitudes (0 without them).
+func (o *Objective) FluxScale() float64 { return o.scale }
+
+// Problem returns a description of the first non-finite quantity met in the last evaluation,
+// or "" when every term was finite.
+func (o *Objective) Problem() string { return o.bad }
+
+// Eval returns J(x) and, when grad is non-nil, overwrites grad with ∂J/∂x. It costs one
+// Forward and (with grad) one Adjoint transform.
+func (o *Objective) Eval(grad, x []float64) float64 {
+	m := o.m
+	flux := m.Forward(x)
+	o.bad = ""
+	if m.norm && (!(flux > 0) || math.IsInf(flux, 0)) {
+		o.bad = fmt.Sprintf("total flux of the image is %g", flux)
+		if grad != nil {
+			for i := range grad {
+				grad[i] = math.NaN()
+			}
+		}
+		return math.NaN()
+	}
+	o.chi2 = [len(Types)]float64{}
+	d := o.d
+	if o.use&Vis2 != 0 {
+		w := o.w[Vis2.index()]
+		s := 0.0
+		for i, r := range m.vis2 {
+			v := m.at(r)
+			sig := d.Vis2.Err[i]
+			res := (real(v)*real(v) + imag(v)*imag(v) - d.Vis2.Value[i]) / sig
+			s += res * res
+			// ∂/∂(Re,Im) of (|V|² − d)²/σ² is 4 res/σ · V.
+			m.addGrad(r, complex(4*w*res/sig, 0)*v)
+		}
+		o.chi2[Vis2.index()] = s
+	}
+	if o.use&T3Amp != 0 {
+		w := o.w[T3Amp.index()]
+		s := 0.0
+		for _, i := range o.t3a {
+			r := m.t3[i]
+			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
+			a1, a2, a3 := abs(w1), abs(w2), abs(w3)
+			sig := d.T3.AmpErr[i]
+			res := (a1*a2*a3 - d.T3.Amp[i]) / sig
+			s += res * res
+			// ∂|B|/∂W1 = |W2||W3| · W1/|W1|, and likewise for W2 and W3.
+			c := 2 * w * res / sig
+			m.addGrad(r[0], complex(c*a2*a3, 0)*unit(w1, a1))
+			m.addGrad(r[1], complex(c*a1*a3, 0)*unit(w2, a2))
+			m.addGrad(r[2], complex(c*a1*a2, 0)*unit(w3, a3))
+		}
+		o.chi2[T3Amp.index()] = s
+	}
+	if o.use&T3Phi != 0 {
+		w := o.w[T3Phi.index()]
+		s := 0.0
+		for k, i := range o.t3p {
+			r := m.t3[i]
+			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
+			b := w1 * w2 * w3 * o.e3[k] // B·exp(−iφₒ): its argument is φ − φₒ
+			ab := abs(b)
+			cs, sn := 1.0, 0.0
+			if ab > 0 {
+				cs, sn = real(b)/ab, imag(b)/ab
+			}
+			sig := d.T3.PhiErr[i]
+			is2 := 1 / (sig * sig)
+			s += 2 * (1 - cs) * is2
+			// dJ/dφ = 2 sin(φ − φₒ)/σ²; ∂ arg W/∂(Re,Im) = i W/|W|².
+			c := 2 * w * sn * is2
+			m.addGrad(r[0], complex(0, c)*inv(w1))
+			m.addGrad(r[1], complex(0, c)*inv(w2))
+			m.addGrad(r[2], complex(0, c)*inv(w3))
+		}
+		o.chi2[T3Phi.index()] = s
+	}
+	p := &d.Vis
+	if o.use&VisAmp != 0 {
+		w := o.w[VisAmp.index()]
+		s := 0.0
+		for _, i := range o.va {
+			r := m.cvis[i]
+			v := m.at(r)
+			a := abs(v)
+			sig := p.AmpErr[i]
+			res := (a - p.Amp[i]) / sig
+			s += res * res
+			m.addGrad(r, complex(2*w*res/sig, 0)*unit(v, a))
+		}
+		if len(o.vc) > 0 {
+			// Least-squares scale of the correlated fluxes; by the envelope theorem the gradient
+			// is taken at fixed scale.
+			num, den := 0.0, 0.0
+			for _, i := range o.vc {
+				a := abs(m.at(m.cvis[i]))
+				is2 := 1 / (p.AmpErr[i] * p.AmpErr[i])
+				num += p.Amp[i] * a * is2
+				den += a * a * is2
+			}
+			sc := 0.0
+			if den > 0 {
+				sc = num / den
+			}
+			o.scale = sc
+			for _, i := range o.vc {
+				r := m.cvis[i]
+				v := m.at(r)
+				a := abs(v)
+				sig := p.AmpErr[i]
+				res := (sc*a - p.Amp[i]) / sig
+				s += res * res
+				m.addGrad(r, complex(2*w*res*sc/sig, 0)*unit(v, a))
+			}
+		}
+		o.chi2[VisAmp.index()] = s
+	}
+	if o.use&VisPhi != 0 {
+		w := o.w[VisPhi.index()]
+		s := 0.0
+		for _, i := range o.vp {
+			r := m.cvis[i]
+			v := m.at(r)
+			z := v * o.ev[i]
+			az := abs(z)
+			cs, sn := 1.0, 0.0
+			if az > 0 {
+				cs, sn = real(z)/az, imag(z)/az
+			}
+			sig := p.PhiErr[i]
+			is2 := 1 / (sig * sig)
+			s += 2 * (1 - cs) * is2
+			m.addGrad(r, complex(0, 2*w*sn*is2)*inv(v))
+		}
+		o.chi2[VisPhi.index()] += s
+	}
+	if len(o.vx) > 0 && o.use&(VisAmp|VisPhi) != 0 {
+		wa, wp := o.w[VisAmp.index()], o.w[VisPhi.index()]
+		if o.use&VisAmp == 0 {
+			wa = 0
+		}
+		if o.use&VisPhi == 0 {
+			wp = 0
+		}
+		sa, sp := 0.0, 0.0
+		for _, i := range o.vx {
+			r := m.cvis[i]
+			// Rotate the residual into the frame of the datum: real part radial, imaginary
+			// part tangential.
+			e := o.ev[i]
+			z := (m.at(r) - complex(p.Amp[i], 0)*conj(e)) * e
+			sr, st := p.AmpErr[i], p.Amp[i]*p.PhiErr[i]
+			if st <= 0 {
+				st = p.PhiErr[i] // a zero amplitude: keep the term finite
+			}
+			rr, rt := real(z)/sr, imag(z)/st
+			sa += rr * rr
+			sp += rt * rt
+			g := complex(2*wa*rr/sr, 2*wp*rt/st)
+			m.addGrad(r, g*conj(e))
+		}
+		if o.use&VisAmp != 0 {
+			o.chi2[VisAmp.index()] += sa
+		}
+		if o.use&VisPhi != 0 {
+			o.chi2[VisPhi.index()] += sp
+		}
+	}
+	total := 0.0
+	for i, t := range Types {
+		if o.use&t != 0 {
+			total += o.w[i] * o.chi2[i]
+		}
+	}
+	if math.IsNaN(total) || math.IsInf(total, 0) {
+		for i, t := range Types {
+			if o.use&t != 0 && (math.IsNaN(o.chi2[i]) || math.IsInf(o.chi2[i], 0)) {
+				o.bad = fmt.Sprintf("χ² of %s is %g", t, o.chi2[i])
+				break
+			}
+		}
+	}
+	if grad != nil {
+		m.Gradient(grad)
+	}
+	return total
+}
+
+func abs(z complex128) float64 { return math.Hypot(real(z), imag(z)) }
+
+func conj(z complex128) complex128 { return complex(real(z), -imag(z)) }
+
+// unit returns z/|z|, or 0 when |z| = 0 (where |z| has no derivative).
+func unit(z complex128, a float64) complex128 {
+	if a == 0 {
+		return 0
+	}
+	return z / complex(a, 0)
+}
+
+// inv returns z/|z|² = 1/conj(z), or 0 when z = 0.
+func inv(z complex128) complex128 {
+	a2 := real(z)*real(z) + imag(z)*imag(z)
+	if a2 == 0 {
+		return 0
+	}
+	return z / complex(a2, 0)
+}

@@ -1,0 +1,279 @@
+package recon
+
+import (
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/diff/fd"
+
+	"vcz/nufft"
+)
+
+func exactTransform(n int, pixel float64, u, v []float64) (Transform, error) {
+	return nufft.NewExact(n, n, pixel, u, v, nufft.Options{Workers: 1})
+}
+
+// randomData makes a data set of every type on random baselines (cycles/rad up to fmax),
+// with triangles built on the V² baselines and some baselines given with the opposite sign, so
+// that deduplication and conjugation are exercised. Values are random around plausible levels.
+func randomData(rng *rand.Rand, fmax float64) *Data {
+	d := &Data{}
+	nb := 12
+	bu, bv := make([]float64, nb), make([]float64, nb)
+	for i := range bu {
+		bu[i] = (2*rng.Float64() - 1) * fmax
+		bv[i] = (2*rng.Float64() - 1) * fmax
+		d.Vis2.U = append(d.Vis2.U, bu[i])
+		d.Vis2.V = append(d.Vis2.V, bv[i])
+		d.Vis2.Value = append(d.Vis2.Value, rng.Float64())
+		d.Vis2.Err = append(d.Vis2.Err, 0.02+0.05*rng.Float64())
+		d.Vis2.Lambda = append(d.Vis2.Lambda, 1e-6)
+		d.Vis2.DLambda = append(d.Vis2.DLambda, 1e-8)
+		d.Vis2.MJD = append(d.Vis2.MJD, 60000)
+		d.Vis2.Origin = append(d.Vis2.Origin, Origin{})
+	}
+	for k := 0; k < 10; k++ {
+		i, j := rng.IntN(nb), rng.IntN(nb)
+		t := &d.T3
+		t.U1 = append(t.U1, bu[i])
+		t.V1 = append(t.V1, bv[i])
+		s := 1.0
+		if k%2 == 1 {
+			s = -1
+		}
+		t.U2 = append(t.U2, s*bu[j])
+		t.V2 = append(t.V2, s*bv[j])
+		t.Amp = append(t.Amp, 0.3*rng.Float64())
+		t.AmpErr = append(t.AmpErr, 0.01+0.02*rng.Float64())
+		t.Phi = append(t.Phi, (2*rng.Float64()-1)*math.Pi)
+		t.PhiErr = append(t.PhiErr, 0.05+0.2*rng.Float64())
+		t.AmpOK = append(t.AmpOK, k%3 != 0)
+		t.PhiOK = append(t.PhiOK, true)
+		t.Lambda = append(t.Lambda, 1e-6)
+		t.DLambda = append(t.DLambda, 1e-8)
+		t.MJD = append(t.MJD, 60000)
+		t.Origin = append(t.Origin, Origin{})
+	}
+	for k := 0; k < 9; k++ {
+		p := &d.Vis
+		p.U = append(p.U, (2*rng.Float64()-1)*fmax)
+		p.V = append(p.V, (2*rng.Float64()-1)*fmax)
+		p.Amp = append(p.Amp, rng.Float64())
+		p.AmpErr = append(p.AmpErr, 0.05)
+		p.Phi = append(p.Phi, (2*rng.Float64()-1)*math.Pi)
+		p.PhiErr = append(p.PhiErr, 0.1+0.1*rng.Float64())
+		p.AmpOK = append(p.AmpOK, true)
+		p.PhiOK = append(p.PhiOK, true)
+		at := AmpAbsolute
+		if k%3 == 2 {
+			at = AmpCorrelatedFlux
+		}
+		pt := PhiAbsolute
+		if k == 4 {
+			pt = PhiDifferential
+		}
+		p.AmpTyp = append(p.AmpTyp, at)
+		p.PhiTyp = append(p.PhiTyp, pt)
+		p.Lambda = append(p.Lambda, 1e-6)
+		p.DLambda = append(p.DLambda, 1e-8)
+		p.MJD = append(p.MJD, 60000)
+		p.Origin = append(p.Origin, Origin{})
+	}
+	return d
+}
+
+// directVis is the van Cittert–Zernike sum of CONVENTIONS.md, written out independently of
+// the transform: V(u,v) = Σ I exp(−2πi(u x + v y)) / Σ I.
+func directVis(img []float64, n int, pixel, u, v float64) complex128 {
+	var s complex128
+	f := 0.0
+	for iy := 0; iy < n; iy++ {
+		for ix := 0; ix < n; ix++ {
+			x := -float64(ix-n/2) * pixel
+			y := float64(iy-n/2) * pixel
+			s += complex(img[iy*n+ix], 0) * cmplx.Exp(complex(0, -2*math.Pi*(u*x+v*y)))
+			f += img[iy*n+ix]
+		}
+	}
+	return s / complex(f, 0)
+}
+
+func TestModelAgainstDirectSum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	const n, pixel = 8, 1e-9
+	d := randomData(rng, 0.5/pixel/2)
+	img := make([]float64, n*n)
+	for i := range img {
+		img[i] = rng.Float64()
+	}
+	for _, mk := range []struct {
+		name string
+		f    TransformFunc
+		tol  float64
+	}{{"exact", exactTransform, 1e-12}, {"default", NewTransform(1), 1e-5}} {
+		m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, mk.f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		m.Forward(img)
+		worst := 0.0
+		for i, r := range m.vis2 {
+			want := directVis(img, n, pixel, d.Vis2.U[i], d.Vis2.V[i])
+			worst = math.Max(worst, cmplx.Abs(m.at(r)-want))
+		}
+		for i, r := range m.t3 {
+			// B = V(u1,v1)·V(u2,v2)·conj(V(u1+u2, v1+v2)) (CONVENTIONS.md).
+			t3 := &d.T3
+			want := directVis(img, n, pixel, t3.U1[i], t3.V1[i]) * directVis(img, n, pixel, t3.U2[i], t3.V2[i]) *
+				cmplx.Conj(directVis(img, n, pixel, t3.U1[i]+t3.U2[i], t3.V1[i]+t3.V2[i]))
+			worst = math.Max(worst, cmplx.Abs(m.at(r[0])*m.at(r[1])*m.at(r[2])-want))
+		}
+		if worst > mk.tol {
+			t.Errorf("%s: largest difference from the direct sum %g", mk.name, worst)
+		}
+		distinct, shared := m.Points()
+		// 12 V² + 10 triangles × 3 + 9 VIS = 51 baselines; the triangles' first two sides are V²
+		// baselines, so at least 20 are shared.
+		if distinct+shared != 51 || shared < 20 {
+			t.Errorf("%s: %d distinct, %d shared", mk.name, distinct, shared)
+		}
+	}
+}
+
+// TestClosurePhaseSign pins the sign of the closure phase on an asymmetric image: a point at
+// the centre (flux 1) and one of flux f at x east: V(u) = (1 + f·exp(−2πi u x))/(1+f).
+func TestClosurePhaseSign(t *testing.T) {
+	const n, pixel = 16, 1e-9
+	img := make([]float64, n*n)
+	img[(n/2)*n+n/2] = 1
+	img[(n/2)*n+n/2-3] = 0.5 // ix = n/2−3 → x = +3 pixels (east)
+	x := 3 * pixel
+	d := &Data{}
+	u1, u2 := 0.1/pixel, 0.07/pixel
+	d.T3 = T3Points{U1: []float64{u1}, V1: []float64{0}, U2: []float64{u2}, V2: []float64{0.02 / pixel},
+		Amp: []float64{1}, AmpErr: []float64{1}, Phi: []float64{0}, PhiErr: []float64{1},
+		AmpOK: []bool{true}, PhiOK: []bool{true}, Lambda: []float64{1e-6}, DLambda: []float64{0}, MJD: []float64{0}, Origin: []Origin{{}}}
+	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m.Forward(img)
+	vis := func(u float64) complex128 { return (1 + 0.5*cmplx.Exp(complex(0, -2*math.Pi*u*x))) / 1.5 }
+	want := cmplx.Phase(vis(u1) * vis(u2) * cmplx.Conj(vis(u1+u2)))
+	r := m.t3[0]
+	got := cmplx.Phase(m.at(r[0]) * m.at(r[1]) * m.at(r[2]))
+	if math.Abs(got-want) > 1e-12 || math.Abs(want) < 0.1 {
+		t.Errorf("closure phase %g rad, want %g rad", got, want)
+	}
+}
+
+func TestObjectiveGradient(t *testing.T) {
+	const n, pixel = 8, 1e-9
+	for seed := uint64(1); seed <= 3; seed++ {
+		rng := rand.New(rand.NewPCG(seed, 7))
+		d := randomData(rng, 0.5/pixel/2)
+		for _, tc := range []struct {
+			name string
+			norm bool
+			opt  TermOptions
+		}{
+			{"all", true, TermOptions{}},
+			{"weighted", true, TermOptions{Weights: Weights{2, 0.5, 3, 0.7, 1.5}}},
+			{"complex", true, TermOptions{ComplexVis: true}},
+			{"complex unnormalised", false, TermOptions{ComplexVis: true}},
+			{"vis2", true, TermOptions{Use: Vis2}},
+			{"t3amp", true, TermOptions{Use: T3Amp}},
+			{"t3phi", true, TermOptions{Use: T3Phi}},
+			{"visamp", true, TermOptions{Use: VisAmp}},
+			{"visphi", true, TermOptions{Use: VisPhi}},
+		} {
+			m, err := NewModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
+			if err != nil {
+				t.Fatal(err)
+			}
+			o := NewObjective(d, m, tc.opt)
+			x := make([]float64, n*n)
+			for i := range x {
+				x[i] = 0.2 + rng.Float64()
+			}
+			g := make([]float64, n*n)
+			o.Eval(g, x)
+			want := make([]float64, n*n)
+			fd.Gradient(want, func(x []float64) float64 { return o.Eval(nil, x) }, x,
+				&fd.Settings{Formula: fd.Central, Step: 1e-6})
+			if e := relErr(g, want); e > 1e-6 {
+				t.Errorf("seed %d %s: gradient relative error %.3g", seed, tc.name, e)
+			}
+		}
+	}
+}
+
+func relErr(a, b []float64) float64 {
+	num, den := 0.0, 0.0
+	for i := range a {
+		num += (a[i] - b[i]) * (a[i] - b[i])
+		den += b[i] * b[i]
+	}
+	return math.Sqrt(num / den)
+}
+
+// TestChi2Values checks the χ² of each term on a point-source image (V = 1 everywhere,
+// closure phases 0) against the formulas evaluated by hand.
+func TestChi2Values(t *testing.T) {
+	const n, pixel = 8, 1e-9
+	rng := rand.New(rand.NewPCG(9, 9))
+	d := randomData(rng, 1/pixel/4)
+	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o := NewObjective(d, m, TermOptions{})
+	x := make([]float64, n*n)
+	x[(n/2)*n+n/2] = 3 // a point at the phase centre: V = 1 (CONVENTIONS.md)
+	o.Eval(nil, x)
+	var want [5]float64
+	for i := range d.Vis2.Value {
+		r := (1 - d.Vis2.Value[i]) / d.Vis2.Err[i]
+		want[0] += r * r
+	}
+	for i := range d.T3.Amp {
+		if d.T3.AmpOK[i] {
+			r := (1 - d.T3.Amp[i]) / d.T3.AmpErr[i]
+			want[1] += r * r
+		}
+		want[2] += 2 * (1 - math.Cos(d.T3.Phi[i])) / (d.T3.PhiErr[i] * d.T3.PhiErr[i])
+	}
+	num, den := 0.0, 0.0
+	for i := range d.Vis.Amp {
+		if d.Vis.AmpTyp[i] == AmpCorrelatedFlux {
+			w := 1 / (d.Vis.AmpErr[i] * d.Vis.AmpErr[i])
+			num += d.Vis.Amp[i] * w
+			den += w
+		}
+	}
+	s := num / den // the least-squares scale for |V| = 1
+	for i := range d.Vis.Amp {
+		a := 1.0
+		if d.Vis.AmpTyp[i] == AmpCorrelatedFlux {
+			a = s
+		}
+		r := (a - d.Vis.Amp[i]) / d.Vis.AmpErr[i]
+		want[3] += r * r
+		if d.Vis.PhiTyp[i] == PhiAbsolute {
+			want[4] += 2 * (1 - math.Cos(d.Vis.Phi[i])) / (d.Vis.PhiErr[i] * d.Vis.PhiErr[i])
+		}
+	}
+	for i, ty := range Types {
+		if got := o.Chi2(ty); math.Abs(got-want[i]) > 1e-9*want[i] {
+			t.Errorf("χ² %s = %.12g, want %.12g", ty, got, want[i])
+		}
+	}
+	if o.N(VisPhi) != 8 || len(o.Notices()) != 2 {
+		t.Errorf("N(visphi) = %d, notices %q", o.N(VisPhi), o.Notices())
+	}
+	if math.Abs(o.FluxScale()-s) > 1e-12 {
+		t.Errorf("flux scale %g, want %g", o.FluxScale(), s)
+	}
+}
