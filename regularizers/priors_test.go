@@ -1,0 +1,151 @@
+package regularizers
+
+import (
+	"math"
+	"strings"
+	"testing"
+)
+
+func sum(x []float64) float64 {
+	var s float64
+	for _, v := range x {
+		s += v
+	}
+	return s
+}
+
+// TestGaussianPrior checks the flux, the floor and the width: at a
+// distance of FWHM/2 from the peak a Gaussian is at half its maximum
+// (definition of the full width at half maximum).
+func TestGaussianPrior(t *testing.T) {
+	const nx, ny = 40, 30
+	g, err := GaussianPrior(nx, ny, 10, 2.5, 1e-9)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s := sum(g); math.Abs(s-2.5) > 1e-12 {
+		t.Errorf("flux %g, want 2.5", s)
+	}
+	c := g[(ny/2)*nx+nx/2]
+	for _, off := range [][2]int{{5, 0}, {-5, 0}, {0, 5}, {0, -5}, {3, 4}} {
+		v := g[(ny/2+off[1])*nx+nx/2+off[0]]
+		if math.Abs(v/c-0.5) > 1e-6 {
+			t.Errorf("offset %v: ratio to peak %g, want 0.5", off, v/c)
+		}
+	}
+	// Default floor: every pixel at least about 1e-3 of the mean.
+	g, err = GaussianPrior(nx, ny, 4, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean := 1.0 / (nx * ny)
+	for i, v := range g {
+		if !(v >= 0.99*DefaultPriorFloor*mean) {
+			t.Fatalf("pixel %d = %g below the floor %g", i, v, DefaultPriorFloor*mean)
+		}
+	}
+	if s := sum(g); math.Abs(s-1) > 1e-12 {
+		t.Errorf("flux %g, want 1", s)
+	}
+}
+
+// TestDiscPrior checks the flux and the area: the flat top times the area
+// pi d^2/4 of the disc holds the flux (area of a circle), to 0.5 % with
+// 8x8 sub-pixel sampling of the edge.
+func TestDiscPrior(t *testing.T) {
+	const nx, ny = 48, 48
+	for _, d := range []float64{7, 20, 31.5} {
+		m, err := DiscPrior(nx, ny, d, 1, 1e-9)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if s := sum(m); math.Abs(s-1) > 1e-12 {
+			t.Errorf("d %g: flux %g", d, s)
+		}
+		top := m[(ny/2)*nx+nx/2]
+		area := math.Pi * d * d / 4
+		if got := 1 / top; math.Abs(got-area) > 0.005*area {
+			t.Errorf("d %g: area %g pixels, want %g", d, got, area)
+		}
+		if corner := m[0]; corner > 1e-9 {
+			t.Errorf("d %g: corner %g, want the floor", d, corner)
+		}
+	}
+	// A tiny disc still gives a valid prior.
+	m, err := DiscPrior(8, 8, 0.01, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m[4*8+4] < 0.9 {
+		t.Errorf("tiny disc: centre %g", m[4*8+4])
+	}
+}
+
+func TestImagePrior(t *testing.T) {
+	img := []float64{-1, 0, 1, 3}
+	m, err := ImagePrior(img, 1, 0.01)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s := sum(m); math.Abs(s-1) > 1e-14 {
+		t.Errorf("flux %g", s)
+	}
+	if !(m[0] > 0) || m[0] != m[1] || math.Abs(m[3]/m[2]-3) > 1e-12 {
+		t.Errorf("prior %v: want equal floored first pixels and ratio 3 between the last", m)
+	}
+	if img[0] != -1 {
+		t.Errorf("input modified")
+	}
+}
+
+func TestPriorErrors(t *testing.T) {
+	tests := []struct {
+		name string
+		fn   func() ([]float64, error)
+		want string
+	}{
+		{"gauss fwhm", func() ([]float64, error) { return GaussianPrior(8, 8, 0, 1, 0) }, "FWHM"},
+		{"gauss flux", func() ([]float64, error) { return GaussianPrior(8, 8, 2, -1, 0) }, "flux"},
+		{"disc diameter", func() ([]float64, error) { return DiscPrior(8, 8, math.NaN(), 1, 0) }, "diameter"},
+		{"disc floor", func() ([]float64, error) { return DiscPrior(8, 8, 3, 1, 2) }, "floor"},
+		{"flat grid", func() ([]float64, error) { return FlatPrior(0, 8, 1) }, "grid"},
+		{"image nan", func() ([]float64, error) { return ImagePrior([]float64{1, math.NaN()}, 1, 0) }, "pixel 1"},
+		{"image zero", func() ([]float64, error) { return ImagePrior([]float64{0, -1}, 1, 0) }, "no positive"},
+	}
+	for _, tc := range tests {
+		_, err := tc.fn()
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: error %v, want containing %q", tc.name, err, tc.want)
+		}
+	}
+}
+
+// TestSupportMask counts the pixels within radius r of the centre: they
+// are the integer lattice points with x^2 + y^2 <= r^2 (Gauss's circle
+// problem; counts 1, 5, 13, 29, 49, 81, 113, 149, 197, 253, 317 for
+// r = 0..10, OEIS A000328, from memory).
+func TestSupportMask(t *testing.T) {
+	want := []int{1, 5, 13, 29, 49, 81, 113, 149, 197, 253, 317}
+	for r, w := range want {
+		mask := SupportMask(32, 30, float64(r))
+		n := 0
+		for _, in := range mask {
+			if in {
+				n++
+			}
+		}
+		if n != w {
+			t.Errorf("radius %d: %d pixels, want %d", r, n, w)
+		}
+		if !mask[15*32+16] {
+			t.Errorf("radius %d: centre pixel outside", r)
+		}
+	}
+	lo, hi := SupportBounds(32, 30, 5)
+	mask := SupportMask(32, 30, 5)
+	for i := range mask {
+		if lo[i] != 0 || (mask[i] && !math.IsInf(hi[i], 1)) || (!mask[i] && hi[i] != 0) {
+			t.Fatalf("pixel %d: bounds [%g, %g], inside %v", i, lo[i], hi[i], mask[i])
+		}
+	}
+}
