@@ -45,6 +45,11 @@
 //     limit of floating-point precision (LineSearchFailure);
 //   - Settings.Callback returned false (CallbackStop).
 //
+// The line search compares objective values, so the projected gradient
+// cannot be driven much below sqrt(eps |f|) (eps = 2.2e-16, the relative
+// precision of f): a tighter PGTol ends the run by FTol or, with FTol
+// disabled, by LineSearchFailure once steps stop lowering f.
+//
 // A NaN or infinite objective or gradient stops the run with a
 // *NonFiniteError naming the iteration and the evaluation; Minimize never
 // returns a NaN objective with a nil error.
