@@ -20,17 +20,19 @@ type Error struct {
 //
 //	night2.oifits: OI_VIS2 (HDU 4) row 17: VIS2ERR is -0.01; errors must be positive
 //
+// A table not read from a file (HDU 0) is named by its EXTNAME alone.
 // The column name is added as "column NAME: " unless the message already
 // contains it.
 func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString(e.File)
-	if e.HDU > 0 {
-		if e.ExtName != "" {
-			fmt.Fprintf(&b, ": %s (HDU %d)", e.ExtName, e.HDU)
-		} else {
-			fmt.Fprintf(&b, ": HDU %d", e.HDU)
-		}
+	switch {
+	case e.HDU > 0 && e.ExtName != "":
+		fmt.Fprintf(&b, ": %s (HDU %d)", e.ExtName, e.HDU)
+	case e.HDU > 0:
+		fmt.Fprintf(&b, ": HDU %d", e.HDU)
+	case e.ExtName != "":
+		fmt.Fprintf(&b, ": %s", e.ExtName)
 	}
 	if e.Row > 0 {
 		fmt.Fprintf(&b, " row %d", e.Row)

@@ -1,0 +1,150 @@
+package oifits
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+)
+
+func errorf(format string, args ...any) error { return fmt.Errorf(format, args...) }
+
+// validate checks the links and values the standard requires of f (see
+// the package documentation). Decode calls it after reading; Encode
+// before writing.
+func validate(f *File) error {
+	fail := func(hdu int, ext string, row int, col string, format string, args ...any) error {
+		return &Error{File: f.Name, HDU: hdu, ExtName: ext, Row: row, Column: col, Err: fmt.Errorf(format, args...)}
+	}
+	if len(f.Targets) == 0 {
+		return &Error{File: f.Name, Err: errors.New("no OI_TARGET table; every OIFITS file needs one")}
+	}
+	targets := make(map[int]bool, len(f.Targets))
+	for i, t := range f.Targets {
+		if t.ID < 1 {
+			return fail(0, extTarget, i+1, "TARGET_ID", "TARGET_ID is %d; must be 1 or more", t.ID)
+		}
+		if targets[t.ID] {
+			return fail(0, extTarget, i+1, "TARGET_ID", "TARGET_ID %d is used more than once", t.ID)
+		}
+		targets[t.ID] = true
+	}
+	waves := map[string]int{}
+	for _, w := range f.Wavelengths {
+		if _, dup := waves[w.InsName]; dup {
+			return fail(w.HDU, extWavelength, 0, "", "INSNAME '%s' is used by more than one OI_WAVELENGTH table", w.InsName)
+		}
+		if w.InsName == "" {
+			return fail(w.HDU, extWavelength, 0, "", "mandatory keyword INSNAME is missing")
+		}
+		if len(w.EffWave) == 0 || len(w.EffBand) != len(w.EffWave) {
+			return fail(w.HDU, extWavelength, 0, "", "OI_WAVELENGTH '%s' has %d EFF_WAVE and %d EFF_BAND values; need the same non-zero number", w.InsName, len(w.EffWave), len(w.EffBand))
+		}
+		waves[w.InsName] = len(w.EffWave)
+	}
+	arrays := map[string]bool{}
+	for _, a := range f.Arrays {
+		if arrays[a.Name] {
+			return fail(a.HDU, extArray, 0, "", "ARRNAME '%s' is used by more than one OI_ARRAY table", a.Name)
+		}
+		arrays[a.Name] = true
+	}
+	// link checks the keywords of one data table and returns its NWAVE.
+	link := func(hdu int, ext, ins, arr string) (int, error) {
+		nw, ok := waves[ins]
+		if !ok {
+			return 0, fail(hdu, ext, 0, "", "INSNAME '%s' matches no OI_WAVELENGTH table", ins)
+		}
+		if arr != "" && !arrays[arr] {
+			return 0, fail(hdu, ext, 0, "", "ARRNAME '%s' matches no OI_ARRAY table", arr)
+		}
+		return nw, nil
+	}
+	// row checks one row: target, vector lengths and errors.
+	type pair struct {
+		name, errName string
+		val, err      []float64
+	}
+	row := func(hdu int, ext string, r, nw, target int, flag []bool, vecs ...pair) error {
+		if !targets[target] {
+			return fail(hdu, ext, r, "TARGET_ID", "TARGET_ID %d is not in OI_TARGET", target)
+		}
+		if len(flag) != nw {
+			return fail(hdu, ext, r, "FLAG", "FLAG has %d elements; NWAVE is %d", len(flag), nw)
+		}
+		for _, p := range vecs {
+			if len(p.val) != nw {
+				return fail(hdu, ext, r, p.name, "%s has %d elements; NWAVE is %d", p.name, len(p.val), nw)
+			}
+			if len(p.err) != nw {
+				return fail(hdu, ext, r, p.errName, "%s has %d elements; NWAVE is %d", p.errName, len(p.err), nw)
+			}
+			for c := range nw {
+				if flag[c] || math.IsNaN(p.val[c]) || math.IsInf(p.val[c], 0) {
+					continue
+				}
+				e := p.err[c]
+				if e > 0 && !math.IsInf(e, 0) {
+					continue
+				}
+				where := ""
+				if nw > 1 {
+					where = " in channel " + strconv.Itoa(c+1)
+				}
+				rule := "errors must be positive"
+				if math.IsNaN(e) || math.IsInf(e, 0) {
+					rule = "errors must be finite"
+				}
+				return fail(hdu, ext, r, p.errName, "%s is %s%s; %s", p.errName, strconv.FormatFloat(e, 'g', -1, 64), where, rule)
+			}
+		}
+		return nil
+	}
+	for _, t := range f.Vis2 {
+		nw, err := link(t.HDU, extVis2, t.InsName, t.ArrName)
+		if err != nil {
+			return err
+		}
+		for i, r := range t.Rows {
+			if err := row(t.HDU, extVis2, i+1, nw, r.TargetID, r.Flag, pair{"VIS2DATA", "VIS2ERR", r.Data, r.Err}); err != nil {
+				return err
+			}
+		}
+	}
+	for _, t := range f.T3 {
+		nw, err := link(t.HDU, extT3, t.InsName, t.ArrName)
+		if err != nil {
+			return err
+		}
+		for i, r := range t.Rows {
+			if err := row(t.HDU, extT3, i+1, nw, r.TargetID, r.Flag,
+				pair{"T3AMP", "T3AMPERR", r.Amp, r.AmpErr}, pair{"T3PHI", "T3PHIERR", r.Phi, r.PhiErr}); err != nil {
+				return err
+			}
+		}
+	}
+	for _, t := range f.Vis {
+		nw, err := link(t.HDU, extVis, t.InsName, t.ArrName)
+		if err != nil {
+			return err
+		}
+		for i, r := range t.Rows {
+			if err := row(t.HDU, extVis, i+1, nw, r.TargetID, r.Flag,
+				pair{"VISAMP", "VISAMPERR", r.Amp, r.AmpErr}, pair{"VISPHI", "VISPHIERR", r.Phi, r.PhiErr}); err != nil {
+				return err
+			}
+		}
+	}
+	for _, t := range f.Flux {
+		nw, err := link(t.HDU, extFlux, t.InsName, t.ArrName)
+		if err != nil {
+			return err
+		}
+		for i, r := range t.Rows {
+			if err := row(t.HDU, extFlux, i+1, nw, r.TargetID, r.Flag, pair{"FLUXDATA", "FLUXERR", r.Data, r.Err}); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
