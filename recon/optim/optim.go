@@ -4,8 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-
-	"gonum.org/v1/gonum/floats"
 )
 
 // Problem is a smooth objective with optional simple bounds.
@@ -397,9 +395,13 @@ func (r *run) setFree(x, g []float64) int {
 func (r *run) dotFree(a, b []float64) float64 {
 	var sum float64
 	runs := r.w.runs
-	for k := 0; k < len(runs); k += 2 {
-		lo, hi := runs[k], runs[k+1]
-		sum += floats.Dot(a[lo:hi], b[lo:hi])
+	for k := 0; k+1 < len(runs); k += 2 {
+		a := a[runs[k]:runs[k+1]]
+		b := b[runs[k]:runs[k+1]]
+		b = b[:len(a)]
+		for i, ai := range a {
+			sum += ai * b[i]
+		}
 	}
 	return sum
 }
@@ -407,7 +409,7 @@ func (r *run) dotFree(a, b []float64) float64 {
 // dot3Free returns a.b, b.b and a.c over the free variables in one pass.
 func (r *run) dot3Free(a, b, c []float64) (ab, bb, ac float64) {
 	runs := r.w.runs
-	for k := 0; k < len(runs); k += 2 {
+	for k := 0; k+1 < len(runs); k += 2 {
 		lo, hi := runs[k], runs[k+1]
 		a, b, c := a[lo:hi], b[lo:hi], c[lo:hi]
 		b, c = b[:len(a)], c[:len(a)]
@@ -424,9 +426,13 @@ func (r *run) dot3Free(a, b, c []float64) (ab, bb, ac float64) {
 // axpyFree sets dst[i] += alpha*a[i] on the free variables.
 func (r *run) axpyFree(dst []float64, alpha float64, a []float64) {
 	runs := r.w.runs
-	for k := 0; k < len(runs); k += 2 {
-		lo, hi := runs[k], runs[k+1]
-		floats.AddScaled(dst[lo:hi], alpha, a[lo:hi])
+	for k := 0; k+1 < len(runs); k += 2 {
+		a := a[runs[k]:runs[k+1]]
+		dst := dst[runs[k]:runs[k+1]]
+		dst = dst[:len(a)]
+		for i, ai := range a {
+			dst[i] += alpha * ai
+		}
 	}
 }
 
@@ -565,17 +571,24 @@ func (r *run) firstStep() float64 {
 func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 	w := r.w
 	x, g, xt, gt, d := w.x, w.g, w.xt, w.gt, w.d
+	lo, hi := r.p.Lower, r.p.Upper
 	for range maxBacktrack {
+		// The trial point P(x + alpha d) and the linear decrease g.(xt - x),
+		// negative for a descent step, in one pass.
 		var moved bool
-		for i := range xt {
-			xt[i] = x[i] + alpha*d[i]
-		}
-		r.project(xt)
-		var decr float64 // g.(xt - x), negative for a descent step
-		for i := range xt {
-			if xt[i] != x[i] {
+		var decr float64
+		for i, xi := range x {
+			v := xi + alpha*d[i]
+			if lo != nil && v < lo[i] {
+				v = lo[i]
+			}
+			if hi != nil && v > hi[i] {
+				v = hi[i]
+			}
+			xt[i] = v
+			if v != xi {
 				moved = true
-				decr += g[i] * (xt[i] - x[i])
+				decr += g[i] * (v - xi)
 			}
 		}
 		if !moved {
