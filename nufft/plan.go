@@ -26,6 +26,8 @@ const (
 	serialOps = 4e6
 )
 
+//go:generate go run gen_kernels.go
+
 type plan struct {
 	nx, ny int     // image size
 	fx, fy int     // upsampled grid size, powers of two
@@ -401,88 +403,75 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 
 // interp evaluates sorted points [lo, hi) from the transformed grid.
 func (p *plan) interp(lo, hi int) {
-	w, fx, fy := p.w, p.fx, p.fy
-	grid := p.grid
-	for i := lo; i < hi; i++ {
-		wt := p.wts[2*w*i : 2*w*i+2*w]
-		wx, wy := wt[:w], wt[w:]
-		x0, y0 := int(p.x0[i]), int(p.y0[i])
-		var ar, ai float64
-		if x0+w <= fx {
-			for dy, wv := range wy {
-				r := y0 + dy
-				if r >= fy {
-					r -= fy
-				}
-				row := grid[r*fx+x0 : r*fx+x0+w]
-				wx := wx[:len(row)]
-				var sr, si float64
-				for d, c := range row {
-					sr += real(c) * wx[d]
-					si += imag(c) * wx[d]
-				}
-				ar += sr * wv
-				ai += si * wv
-			}
-		} else {
-			for dy, wv := range wy {
-				r := y0 + dy
-				if r >= fy {
-					r -= fy
-				}
-				row := grid[r*fx : r*fx+fx]
-				var sr, si float64
-				for d, wxv := range wx {
-					c := x0 + d
-					if c >= fx {
-						c -= fx
-					}
-					sr += real(row[c]) * wxv
-					si += imag(row[c]) * wxv
-				}
-				ar += sr * wv
-				ai += si * wv
-			}
-		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+	if p.interpUnrolled(lo, hi) {
+		return
 	}
+	for i := lo; i < hi; i++ {
+		p.interpWrap(i)
+	}
+}
+
+// interpWrap evaluates sorted point i with general width and wrap-around
+// in x; the unrolled loops use it for the points at the grid edge.
+func (p *plan) interpWrap(i int) {
+	w, fx, fy := p.w, p.fx, p.fy
+	wt := p.wts[2*w*i : 2*w*i+2*w]
+	wx, wy := wt[:w], wt[w:]
+	x0, y0 := int(p.x0[i]), int(p.y0[i])
+	var ar, ai float64
+	for dy, wv := range wy {
+		r := y0 + dy
+		if r >= fy {
+			r -= fy
+		}
+		row := p.grid[r*fx : r*fx+fx]
+		var sr, si float64
+		for d, wxv := range wx {
+			c := x0 + d
+			if c >= fx {
+				c -= fx
+			}
+			sr += real(row[c]) * wxv
+			si += imag(row[c]) * wxv
+		}
+		ar += sr * wv
+		ai += si * wv
+	}
+	p.dstC[p.perm[i]] = complex(ar, ai)
 }
 
 // spread adds the points of worker i, times their kernel weights, into
 // its band.
 func (p *plan) spread(i int) {
-	w, fx := p.w, p.fx
-	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*fx]
+	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
 	clear(band)
-	ylo := p.bandLo[i]
-	for k := p.ptLo[i]; k < p.ptLo[i+1]; k++ {
-		wt := p.wts[2*w*k : 2*w*k+2*w]
-		wx, wy := wt[:w], wt[w:]
-		x0, y0 := int(p.x0[k]), int(p.y0[k])-ylo
-		vis := p.srcC[p.perm[k]]
-		vr, vi := real(vis), imag(vis)
-		if x0+w <= fx {
-			for dy, wv := range wy {
-				cr, ci := vr*wv, vi*wv
-				o := (y0+dy)*fx + x0
-				row := band[o : o+w]
-				wx := wx[:len(row)]
-				for d := range row {
-					row[d] += complex(cr*wx[d], ci*wx[d])
-				}
+	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
+	if p.spreadUnrolled(band, ylo, lo, hi) {
+		return
+	}
+	for k := lo; k < hi; k++ {
+		p.spreadWrap(band, ylo, k)
+	}
+}
+
+// spreadWrap spreads sorted point k with general width and wrap-around
+// in x.
+func (p *plan) spreadWrap(band []complex128, ylo, k int) {
+	w, fx := p.w, p.fx
+	wt := p.wts[2*w*k : 2*w*k+2*w]
+	wx, wy := wt[:w], wt[w:]
+	x0, y0 := int(p.x0[k]), int(p.y0[k])-ylo
+	vis := p.srcC[p.perm[k]]
+	vr, vi := real(vis), imag(vis)
+	for dy, wv := range wy {
+		cr, ci := vr*wv, vi*wv
+		row := band[(y0+dy)*fx : (y0+dy)*fx+fx]
+		for d, wxv := range wx {
+			c := x0 + d
+			if c >= fx {
+				c -= fx
 			}
-		} else {
-			for dy, wv := range wy {
-				cr, ci := vr*wv, vi*wv
-				row := band[(y0+dy)*fx : (y0+dy)*fx+fx]
-				for d, wxv := range wx {
-					c := x0 + d
-					if c >= fx {
-						c -= fx
-					}
-					row[c] += complex(cr*wxv, ci*wxv)
-				}
-			}
+			row[c] += complex(cr*wxv, ci*wxv)
 		}
 	}
 }

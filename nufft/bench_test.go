@@ -1,0 +1,113 @@
+package nufft
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+	"time"
+)
+
+// benchProblem returns m random points filling the band and a random
+// image, for a square n×n image with pixel 1 mas.
+func benchProblem(n, m int) (pixel float64, u, v, img []float64) {
+	const mas = 4.84813681109536e-9
+	rng := rand.New(rand.NewPCG(uint64(n), uint64(m)))
+	u = make([]float64, m)
+	v = make([]float64, m)
+	for k := range u {
+		u[k] = (rng.Float64() - 0.5) / mas
+		v[k] = (rng.Float64() - 0.5) / mas
+	}
+	img = make([]float64, n*n)
+	for i := range img {
+		img[i] = rng.Float64()
+	}
+	return mas, u, v, img
+}
+
+var benchSizes = []struct{ n, m int }{{128, 10000}, {256, 100000}, {512, 1000000}}
+
+func benchPlan(b *testing.B, n, m, workers int, adjoint bool) {
+	pixel, u, v, img := benchProblem(n, m)
+	p, err := NewPlan(n, n, pixel, u, v, Options{Tol: 1e-6, Workers: workers})
+	if err != nil {
+		b.Fatal(err)
+	}
+	vis := make([]complex128, m)
+	p.Forward(vis, img)
+	out := make([]float64, n*n)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		if adjoint {
+			p.Adjoint(out, vis)
+		} else {
+			p.Forward(vis, img)
+		}
+	}
+	b.StopTimer()
+	// Split of one call into FFT and gridding time, measured separately.
+	fft, grid := p.timeSplit(adjoint, 3, vis, img, out)
+	b.ReportMetric(fft.Seconds()*1e3, "fft-ms")
+	b.ReportMetric(grid.Seconds()*1e3, "grid-ms")
+	_, _, total := p.memBytes()
+	b.ReportMetric(float64(total)/(1<<20), "plan-MiB")
+}
+
+func BenchmarkForward(b *testing.B) {
+	for _, s := range benchSizes {
+		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, false) })
+	}
+	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, false) })
+}
+
+func BenchmarkAdjoint(b *testing.B) {
+	for _, s := range benchSizes {
+		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, true) })
+	}
+	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, true) })
+}
+
+func BenchmarkExactForward(b *testing.B) {
+	for _, s := range benchSizes[:2] {
+		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) {
+			pixel, u, v, img := benchProblem(s.n, s.m)
+			e, err := NewExact(s.n, s.n, pixel, u, v, Options{Workers: 1})
+			if err != nil {
+				b.Fatal(err)
+			}
+			vis := make([]complex128, s.m)
+			b.ReportAllocs()
+			for b.Loop() {
+				e.Forward(vis, img)
+			}
+		})
+	}
+}
+
+// timeSplit returns the minimum over reps of the time of the FFT phases
+// and of the gridding phase (interpolation or spreading) of one call.
+func (p *plan) timeSplit(adjoint bool, reps int, vis []complex128, img, out []float64) (fft, grid time.Duration) {
+	p.dstC, p.srcR, p.dstR, p.srcC = vis, img, out, vis
+	defer func() { p.dstC, p.srcR, p.dstR, p.srcC = nil, nil, nil, nil }()
+	fft, grid = time.Hour, time.Hour
+	for range reps {
+		t0 := time.Now()
+		if adjoint {
+			p.runPhase(phAdjSpread)
+			t1 := time.Now()
+			p.runPhase(phAdjCols)
+			p.runPhase(phAdjRows)
+			t2 := time.Now()
+			grid, fft = min(grid, t1.Sub(t0)), min(fft, t2.Sub(t1))
+		} else {
+			p.runPhase(phFwdRows)
+			p.runPhase(phFwdCols)
+			t1 := time.Now()
+			p.runPhase(phFwdInterp)
+			t2 := time.Now()
+			fft, grid = min(fft, t1.Sub(t0)), min(grid, t2.Sub(t1))
+		}
+	}
+	return fft, grid
+}
