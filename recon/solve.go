@@ -1,0 +1,537 @@
+package recon
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"vcz/recon/optim"
+)
+
+// Regularizer is a penalty on the image to be minimised together with the data terms. Eval
+// returns its value at x (row-major, x[iy*N+ix]) and, when grad is non-nil, overwrites grad
+// with the gradient.
+type Regularizer interface {
+	Eval(grad, x []float64) float64
+}
+
+// RegularizerFunc builds the regularizer for a grid; Solve calls it for every grid it uses
+// (the coarse grid of CoarseToFine as well).
+type RegularizerFunc func(g Grid) (Regularizer, error)
+
+// Problem is a reconstruction problem: data, grid, data terms, regularizer and start.
+type Problem struct {
+	Data *Data
+	// Grid, when N > 0, is the grid; otherwise ChooseGrid(Data, GridOptions) picks it.
+	Grid        Grid
+	GridOptions GridOptions
+	Terms       TermOptions
+	// Reg is the regularizer; nil means none.
+	Reg RegularizerFunc
+	// Weight is the regularization weight μ in J(x) + μ·R(x). Zero with Reg set means
+	// automatic (ChooseWeight: the discrepancy principle).
+	Weight float64
+	// Support, when positive, holds the pixels farther than Support radians from the
+	// centre at zero.
+	Support float64
+	Start   Start
+	// Transform makes the transform; nil means NewTransform(Settings.Workers).
+	Transform TransformFunc
+	// Unnormalized fits Σ x exp(−2πi(u·x+v·y)) without division by the flux, for complex
+	// visibilities of known flux; the image is then neither normalised nor tied to flux 1.
+	Unnormalized bool
+}
+
+// Settings control Solve. The zero value gives the documented defaults.
+type Settings struct {
+	// MaxIter is the iteration limit of the final reconstruction; 0 means 500.
+	MaxIter int
+	// PathIter is the iteration limit of each step of the weight search and of the first
+	// pass on amplitudes; 0 means 100.
+	PathIter int
+	// FTol stops a run when the objective decreased by less than FTol·max(|f|, 1) per
+	// iteration on average over the last 5 iterations; 0 means 1e-7.
+	FTol float64
+	// PGTol is the projected-gradient norm that stops a run; 0 means the optim default.
+	PGTol float64
+	// Seed drives every random choice (random starts); the same seed gives the same image.
+	Seed uint64
+	// Starts is the number of starts at the final weight: the given start and Starts−1
+	// seeded random images; the lowest objective is kept. 0 means 1.
+	Starts int
+	// CoarseToFine first reconstructs on a grid of half the pixels and twice the pixel size
+	// and starts the full grid from it.
+	CoarseToFine bool
+	// NoAmplitudeFirst turns off the first pass on amplitude data (V², T3 and VIS
+	// amplitudes) that precedes fitting the phases. The pass is on by default when the data
+	// have both amplitudes and phases, because the phase gradient scales as 1/|V| and stalls
+	// where a smooth start has |V| ≈ 0.
+	NoAmplitudeFirst bool
+	// WeightSteps is the largest number of weights tried by the automatic choice; 0 means 14.
+	WeightSteps int
+	// Workers is passed to the default transform; 0 means GOMAXPROCS.
+	Workers int
+	// Progress, when non-nil, is called after every accepted iteration; false stops Solve.
+	Progress func(Progress) bool
+}
+
+// Progress describes the state after an iteration, for a progress display.
+type Progress struct {
+	Stage     string  // "amplitudes", "weight k/K", "final", "start k/K", "coarse"
+	Weight    float64 // regularization weight of the run
+	Iter      int     // iteration of the run
+	Objective float64
+	Chi2r     float64 // total χ²ᵣ at the last evaluation
+}
+
+// TermChi2 is the χ² of one data type.
+type TermChi2 struct {
+	Type   DataType
+	N      int
+	Weight float64
+	Chi2   float64
+	Chi2r  float64 // Chi2/N
+}
+
+// WeightStep is one point of the weight search.
+type WeightStep struct {
+	Weight float64 // μ
+	Chi2r  float64 // total χ²ᵣ at the end of the run
+	Reg    float64 // R(x)
+	Iter   int
+}
+
+// Result is the outcome of Solve.
+type Result struct {
+	Image []float64 // N² pixels, normalised to a total flux of 1 (unless Unnormalized)
+	Grid  GridChoice
+
+	Chi2      []TermChi2 // per used data type, in the order of Types
+	Chi2r     float64    // Σχ²/ΣN over the used types
+	Reg       float64    // R(x) of the final image (0 without regularizer)
+	Weight    float64    // μ used in the final run
+	Objective float64    // J + μR (+ the flux term)
+	FluxScale float64    // scale of correlated-flux amplitudes, 0 without them
+
+	Iter, Evals int          // of the final run
+	TotalIter   int          // of all runs
+	Status      optim.Status // of the final run
+	Path        []WeightStep // the automatic weight search, empty for a given weight
+	// StartObjectives holds the final objective of every start when Starts > 1, the kept one
+	// first; their spread says how much the start matters.
+	StartObjectives []float64
+	Notices         []string
+}
+
+// ErrStopped is returned by Solve when Settings.Progress asked it to stop.
+var ErrStopped = errors.New("recon: stopped by the progress callback")
+
+// ftolWindow is the number of iterations over which the relative objective change is
+// measured for Settings.FTol.
+const ftolWindow = 5
+
+// Defaults of Settings.
+const (
+	DefaultMaxIter     = 500
+	DefaultPathIter    = 100
+	DefaultFTol        = 1e-7
+	DefaultWeightSteps = 14
+)
+
+// engine is a reconstruction on one grid.
+type engine struct {
+	p        Problem
+	s        Settings
+	grid     GridChoice
+	obj      *Objective
+	reg      Regularizer
+	rgrad    []float64
+	xn       []float64 // the normalised image x/Σx
+	lower    []float64
+	upper    []float64
+	rho      float64 // weight of the flux term ρ(Σx − 1)²
+	total    int     // iterations of all runs
+	lastReg   float64
+	converged bool // the last run met the relative-change test
+	stopped   bool // Progress asked to stop
+}
+
+func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
+	mk := p.Transform
+	if mk == nil {
+		mk = NewTransform(s.Workers)
+	}
+	m, err := NewModel(p.Data, g.Grid, !p.Unnormalized, mk)
+	if err != nil {
+		return nil, err
+	}
+	e := &engine{p: p, s: s, grid: g, obj: NewObjective(p.Data, m, p.Terms)}
+	if e.obj.Use() == 0 {
+		return nil, errors.New("recon: no data of the selected types to fit")
+	}
+	if p.Reg != nil {
+		if e.reg, err = p.Reg(g.Grid); err != nil {
+			return nil, fmt.Errorf("recon: regularizer: %w", err)
+		}
+	}
+	n := g.N
+	e.rgrad = make([]float64, n*n)
+	e.xn = make([]float64, n*n)
+	e.lower = make([]float64, n*n)
+	if p.Support > 0 {
+		e.upper = make([]float64, n*n)
+		r2 := p.Support * p.Support
+		for iy := 0; iy < n; iy++ {
+			for ix := 0; ix < n; ix++ {
+				x, y := float64(ix-n/2)*g.Pixel, float64(iy-n/2)*g.Pixel
+				e.upper[iy*n+ix] = 0
+				if x*x+y*y <= r2 {
+					e.upper[iy*n+ix] = math.Inf(1)
+				}
+			}
+		}
+	}
+	if !p.Unnormalized {
+		// Nothing else depends on the flux: the flux term fixes it at 1, with a weight of
+		// the size of the data χ² so that it is well scaled against the rest.
+		e.rho = float64(max(p.Data.Len(e.obj.Use()), 1))
+	}
+	return e, nil
+}
+
+// f is the total objective J(x/F) + μ·R(x/F) + ρ(F − 1)² with F = Σx; one Forward and one
+// Adjoint. The data terms see the normalised image through the model; the regularizer is
+// evaluated on the normalised image too, so that neither depends on the flux and a
+// regularizer that grows with the flux cannot shrink the image. The flux term then only fixes
+// the otherwise free scale. Without normalisation it is J(x) + μ·R(x).
+func (e *engine) f(mu float64) func(grad, x []float64) float64 {
+	return func(grad, x []float64) float64 {
+		v := e.obj.Eval(grad, x)
+		fl := 1.0
+		if e.rho > 0 {
+			fl = 0
+			for _, xi := range x {
+				fl += xi
+			}
+		}
+		if e.reg != nil && mu != 0 {
+			var rg []float64
+			if grad != nil {
+				rg = e.rgrad
+			}
+			xn := x
+			if e.rho > 0 {
+				xn = e.xn
+				for i, xi := range x {
+					xn[i] = xi / fl
+				}
+			}
+			r := e.reg.Eval(rg, xn)
+			e.lastReg = r
+			v += mu * r
+			if grad != nil {
+				// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
+				c := 0.0
+				if e.rho > 0 {
+					for i, g := range rg {
+						c += g * xn[i]
+					}
+				}
+				s := mu / fl
+				for i := range grad {
+					grad[i] += s * (rg[i] - c)
+				}
+			}
+		}
+		if e.rho > 0 {
+			df := fl - 1
+			v += e.rho * df * df
+			if grad != nil {
+				c := 2 * e.rho * df
+				for i := range grad {
+					grad[i] += c
+				}
+			}
+		}
+		return v
+	}
+}
+
+// run minimises from x0 at weight mu with the used types and the iteration limit given.
+func (e *engine) run(x0 []float64, mu float64, use DataType, maxIter int, stage string) (optim.Result, error) {
+	prev := e.obj.Use()
+	e.obj.SetUse(use)
+	defer e.obj.SetUse(prev)
+	// The relative-change test is applied over a window of iterations rather than to one
+	// iteration: a warm start after a change of weight often begins with a short
+	// steepest-descent step whose small decrease would end the run at once.
+	ftol := e.s.FTol
+	if ftol == 0 {
+		ftol = DefaultFTol
+	}
+	st := optim.Settings{MaxIter: maxIter, FTol: -1, PGTol: e.s.PGTol}
+	hist := make([]float64, 0, maxIter+1)
+	hist = append(hist, math.NaN())
+	e.converged = false
+	st.Callback = func(it optim.Iter) bool {
+		hist = append(hist, it.F)
+		if e.s.Progress != nil && !e.s.Progress(Progress{Stage: stage, Weight: mu, Iter: it.Iter, Objective: it.F, Chi2r: e.obj.TotalChi2r()}) {
+			e.stopped = true
+			return false
+		}
+		if k := len(hist) - 1; k > ftolWindow {
+			old := hist[k-ftolWindow]
+			if old-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1) {
+				e.converged = true
+				return false
+			}
+		}
+		return true
+	}
+	res, err := optim.Minimize(optim.Problem{Func: e.f(mu), Lower: e.lower, Upper: e.upper}, x0, st)
+	e.total += res.Iter
+	if e.stopped && err == nil {
+		return res, ErrStopped
+	}
+	if err != nil {
+		where := e.obj.Problem()
+		if where == "" {
+			where = "regularizer or flux term"
+		}
+		return res, fmt.Errorf("recon: %s (weight %g): %s: %w", stage, mu, where, err)
+	}
+	return res, nil
+}
+
+// measure evaluates the objective at x and returns total χ²ᵣ and R(x).
+func (e *engine) measure(x []float64, mu float64) (chi2r, reg float64) {
+	e.f(mu)(nil, x)
+	if e.reg != nil {
+		reg = e.reg.Eval(nil, x)
+	}
+	return e.obj.TotalChi2r(), reg
+}
+
+// amplitudeTypes are the data types that do not depend on the position of the object.
+const amplitudeTypes = Vis2 | T3Amp | VisAmp
+
+// Solve reconstructs an image. The steps: choose the grid (unless given); make the start
+// image; with CoarseToFine, reconstruct on the half grid first and start from its upsampled
+// image; fit the amplitude data alone (unless NoAmplitudeFirst or the data lack either kind);
+// choose the weight by the discrepancy principle when it is automatic; run the final
+// reconstruction (with Starts > 1 from several starts, keeping the lowest objective). The
+// image is normalised to flux 1. Non-finite values stop Solve with an error saying where.
+func Solve(p Problem, s Settings) (*Result, error) {
+	if p.Data == nil {
+		return nil, errors.New("recon: no data")
+	}
+	if len(p.Data.Targets) > 1 {
+		return nil, fmt.Errorf("recon: the data hold %d targets (%v); select one", len(p.Data.Targets), p.Data.Targets)
+	}
+	if s.MaxIter <= 0 {
+		s.MaxIter = DefaultMaxIter
+	}
+	if s.PathIter <= 0 {
+		s.PathIter = DefaultPathIter
+	}
+	if s.WeightSteps <= 0 {
+		s.WeightSteps = DefaultWeightSteps
+	}
+	var g GridChoice
+	var err error
+	if p.Grid.N > 0 {
+		g = GridChoice{Grid: p.Grid, FOV: float64(p.Grid.N) * p.Grid.Pixel}
+		geo := p.Data.summaryGeometry()
+		g.Resolution, g.LargestScale = geo.Resolution, geo.LargestScale
+		if model, size, ok := fitSize(p.Data); ok {
+			g.SizeModel, g.Size = model, size
+		}
+		g.Reasons = []string{"grid given"}
+	} else if g, err = ChooseGrid(p.Data, p.GridOptions); err != nil {
+		return nil, err
+	}
+	if p.Grid.N%2 != 0 {
+		return nil, fmt.Errorf("recon: grid size %d must be even", p.Grid.N)
+	}
+	x0, err := StartImageFor(p.Start, g.Grid, g, s.Seed)
+	if err != nil {
+		return nil, err
+	}
+	res := &Result{Grid: g}
+	if s.CoarseToFine && g.N >= 32 {
+		cp := p
+		cp.Grid = Grid{N: g.N / 2, Pixel: 2 * g.Pixel}
+		cp.Support = p.Support
+		cs := s
+		cs.CoarseToFine, cs.Starts = false, 1
+		cr, err := Solve(cp, cs)
+		if err != nil {
+			return nil, fmt.Errorf("recon: coarse grid: %w", err)
+		}
+		Resample(x0, g.N, g.Pixel, cr.Image, cp.Grid.N, cp.Grid.Pixel)
+		res.TotalIter += cr.TotalIter
+		res.Notices = append(res.Notices, fmt.Sprintf("started from a %d × %d reconstruction (%d iterations)", cp.Grid.N, cp.Grid.N, cr.TotalIter))
+		p.Start = Start{Kind: StartImage}
+	}
+	e, err := newEngine(p, s, g)
+	if err != nil {
+		return nil, err
+	}
+	res.Notices = append(res.Notices, e.obj.Notices()...)
+	use := e.obj.Use()
+	mu := p.Weight
+	if e.reg == nil {
+		mu = 0
+	}
+	auto := e.reg != nil && mu == 0
+	if auto {
+		mu = e.initialWeight(x0)
+	}
+	if !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(T3Phi|VisPhi) != 0 && !s.CoarseToFine {
+		r, err := e.run(x0, mu, use&amplitudeTypes, s.PathIter, "amplitudes")
+		if err != nil {
+			return nil, err
+		}
+		x0 = r.X
+	}
+	if auto {
+		path, xw, w, err := e.chooseWeight(x0, mu)
+		res.Path = path
+		if err != nil {
+			return nil, err
+		}
+		x0, mu = xw, w
+	}
+	starts := max(s.Starts, 1)
+	var best optim.Result
+	for k := 0; k < starts; k++ {
+		xs := x0
+		stage := "final"
+		if starts > 1 {
+			stage = fmt.Sprintf("start %d/%d", k+1, starts)
+		}
+		if k > 0 {
+			xs, err = StartImageFor(Start{Kind: StartRandom}, g.Grid, g, s.Seed+uint64(k))
+			if err != nil {
+				return nil, err
+			}
+			if !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(T3Phi|VisPhi) != 0 {
+				r, err := e.run(xs, mu, use&amplitudeTypes, s.PathIter, stage+" amplitudes")
+				if err != nil {
+					return nil, err
+				}
+				xs = r.X
+			}
+		}
+		r, err := e.run(xs, mu, use, s.MaxIter, stage)
+		if err != nil {
+			return nil, err
+		}
+		if starts > 1 {
+			res.StartObjectives = append(res.StartObjectives, r.F)
+		}
+		if k == 0 || r.F < best.F {
+			best = r
+		}
+	}
+	if starts > 1 {
+		// Put the kept objective first.
+		for i, f := range res.StartObjectives {
+			if f == best.F {
+				res.StartObjectives[0], res.StartObjectives[i] = res.StartObjectives[i], res.StartObjectives[0]
+				break
+			}
+		}
+	}
+	x := best.X
+	res.Objective = e.f(mu)(nil, x)
+	if !finite(res.Objective) {
+		return nil, fmt.Errorf("recon: final objective is %g: %s", res.Objective, e.obj.Problem())
+	}
+	for i, t := range Types {
+		if use&t != 0 {
+			tc := TermChi2{Type: t, N: e.obj.N(t), Weight: e.obj.w[i], Chi2: e.obj.Chi2(t), Chi2r: e.obj.Chi2r(t)}
+			res.Chi2 = append(res.Chi2, tc)
+		}
+	}
+	res.Chi2r = e.obj.TotalChi2r()
+	res.FluxScale = e.obj.FluxScale()
+	if e.reg != nil {
+		res.Reg = e.reg.Eval(nil, x)
+	}
+	res.Weight = mu
+	res.Iter, res.Evals, res.Status = best.Iter, best.Evals, best.Status
+	res.TotalIter += e.total
+	if !p.Unnormalized {
+		f := 0.0
+		for _, v := range x {
+			f += v
+		}
+		for i := range x {
+			x[i] /= f
+		}
+	}
+	res.Image = x
+	return res, nil
+}
+
+// initialWeight returns the first weight of the automatic search: the weight at which the
+// regularizer term equals the data term at the start image, μ0 = J(x0)/R(x0) (J at least the
+// number of data). Starting higher is useless and harmful: with an edge-preserving
+// regularizer whose curvature is 1/ε in flat regions, a dominant regularizer makes the
+// problem so stiff that the warm-started runs that follow barely move. Where R(x0) is not
+// positive the weight is the number of data.
+func (e *engine) initialWeight(x0 []float64) float64 {
+	n := float64(max(e.p.Data.Len(e.obj.Use()), 1))
+	j := math.Max(e.obj.Eval(nil, x0), n)
+	r := e.reg.Eval(nil, x0)
+	if r > 0 && finite(j/r) {
+		return j / r
+	}
+	return n
+}
+
+// chooseWeight runs the discrepancy principle: warm-started reconstructions along weights
+// μ0·10^(−k/2), k = 0, 1, ..., until the total χ²ᵣ falls below 1 or stops improving (by less
+// than 1 % between steps) or WeightSteps is reached. Where χ²ᵣ crosses 1 between two steps,
+// the weight is interpolated linearly in (log μ, log χ²ᵣ) and the final run starts from the
+// image of the larger weight. Without a crossing it returns the weight with χ²ᵣ closest to 1.
+func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float64, float64, error) {
+	use := e.obj.Use()
+	var path []WeightStep
+	images := [][]float64{}
+	x := x0
+	factor := math.Pow(10, -0.5)
+	mu := mu0
+	for k := 0; k < e.s.WeightSteps; k++ {
+		r, err := e.run(x, mu, use, e.s.PathIter, fmt.Sprintf("weight %d/%d", k+1, e.s.WeightSteps))
+		if err != nil {
+			return path, nil, 0, err
+		}
+		c, reg := e.measure(r.X, mu)
+		path = append(path, WeightStep{Weight: mu, Chi2r: c, Reg: reg, Iter: r.Iter})
+		images = append(images, r.X)
+		x = r.X
+		if c <= 1 {
+			break
+		}
+		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r {
+			break // two steps without 1 % of improvement: χ²ᵣ has reached its floor
+		}
+		mu *= factor
+	}
+	last := len(path) - 1
+	if last > 0 && path[last].Chi2r <= 1 && path[last-1].Chi2r > 1 {
+		a, b := path[last-1], path[last]
+		t := math.Log(a.Chi2r) / (math.Log(a.Chi2r) - math.Log(b.Chi2r))
+		w := math.Exp(math.Log(a.Weight) + t*(math.Log(b.Weight)-math.Log(a.Weight)))
+		return path, images[last-1], w, nil
+	}
+	bi := 0
+	for i, st := range path {
+		if math.Abs(math.Log(st.Chi2r)) < math.Abs(math.Log(path[bi].Chi2r)) {
+			bi = i
+		}
+	}
+	return path, images[bi], path[bi].Weight, nil
+}
