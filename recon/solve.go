@@ -140,17 +140,17 @@ const (
 
 // engine is a reconstruction on one grid.
 type engine struct {
-	p        Problem
-	s        Settings
-	grid     GridChoice
-	obj      *Objective
-	reg      Regularizer
-	rgrad    []float64
-	xn       []float64 // the normalised image x/Σx
-	lower    []float64
-	upper    []float64
-	rho      float64 // weight of the flux term ρ(Σx − 1)²
-	total    int     // iterations of all runs
+	p         Problem
+	s         Settings
+	grid      GridChoice
+	obj       *Objective
+	reg       Regularizer
+	rgrad     []float64
+	xn        []float64 // the normalised image x/Σx
+	lower     []float64
+	upper     []float64
+	rho       float64 // weight of the flux term ρ(Σx − 1)²
+	total     int     // iterations of all runs
 	lastReg   float64
 	converged bool // the last run met the relative-change test
 	stopped   bool // Progress asked to stop
