@@ -272,7 +272,7 @@ func (t *table) column(name string, kind colKind, repeat int, required bool) (*f
 		return nil, t.errf(0, name, "column %s has TFORM '%s'; must be %s", name, c.Format, want)
 	}
 	if repeat != anyRepeat && c.Repeat != repeat {
-		return nil, t.errf(0, name, "column %s has %d elements per row (TFORM '%s'); expected %d", name, c.Repeat, c.Format, repeat)
+		return nil, t.errf(0, name, "column %s holds %s per row (TFORM '%s'); expected %d", name, values(c.Repeat), c.Format, repeat)
 	}
 	return c, nil
 }
@@ -285,8 +285,8 @@ func (t *table) vector(name string, kind colKind, w *Wavelength, required bool) 
 		return c, err
 	}
 	if c.Repeat != len(w.EffWave) {
-		return nil, t.errf(0, name, "column %s has %d elements per row (TFORM '%s') but OI_WAVELENGTH '%s' (HDU %d) has NWAVE = %d",
-			name, c.Repeat, c.Format, w.InsName, w.HDU, len(w.EffWave))
+		return nil, t.errf(0, name, "column %s holds %s per row (TFORM '%s') but OI_WAVELENGTH '%s' (HDU %d) has NWAVE = %d",
+			name, values(c.Repeat), c.Format, w.InsName, w.HDU, len(w.EffWave))
 	}
 	return c, nil
 }
@@ -328,7 +328,7 @@ func (t *table) int(c *fitsfile.Column, row int) (int, error) {
 		return 0, nil
 	}
 	if c.Repeat != 1 {
-		return 0, t.errf(0, c.Name, "column %s has %d elements per row; expected 1", c.Name, c.Repeat)
+		return 0, t.errf(0, c.Name, "column %s holds %s per row; expected 1", c.Name, values(c.Repeat))
 	}
 	err := t.ints(v[:], c, row)
 	return v[0], err
@@ -350,6 +350,14 @@ func (t *table) bools(dst []bool, c *fitsfile.Column, row int) error {
 		return t.errf(row+1, c.Name, "%v", err)
 	}
 	return nil
+}
+
+// values formats a count of values.
+func values(n int) string {
+	if n == 1 {
+		return "1 value"
+	}
+	return fmt.Sprintf("%d values", n)
 }
 
 // firstErr returns the first non-nil error.
