@@ -96,22 +96,24 @@ func TestCompareGonumLBFGS(t *testing.T) {
 		}
 	}
 	fn := functions.ExtendedRosenbrock{}
-	gres, err := optimize.Minimize(optimize.Problem{Func: fn.Func, Grad: fn.Grad}, x0,
-		&optimize.Settings{GradientThreshold: 1e-9, MajorIterations: 5000}, &optimize.LBFGS{Store: 10})
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := Minimize(Problem{Func: gonumFunc(fn)}, x0, Settings{PGTol: 1e-9, FTol: -1, MaxIter: 5000})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Logf("gonum LBFGS: %d iterations, %d evaluations; optim: %d iterations, %d evaluations",
-		gres.Stats.MajorIterations, gres.Stats.FuncEvaluations, res.Iter, res.Evals)
-	if res.Iter > 2*gres.Stats.MajorIterations {
-		t.Errorf("optim needs %d iterations, more than twice gonum's %d", res.Iter, gres.Stats.MajorIterations)
-	}
-	if math.Abs(res.F-gres.F) > 1e-12 {
-		t.Errorf("minimum %g differs from gonum's %g", res.F, gres.F)
+	for _, m := range []int{5, 10} {
+		gres, err := optimize.Minimize(optimize.Problem{Func: fn.Func, Grad: fn.Grad}, x0,
+			&optimize.Settings{GradientThreshold: 1e-9, MajorIterations: 5000}, &optimize.LBFGS{Store: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := Minimize(Problem{Func: gonumFunc(fn)}, x0, Settings{PGTol: 1e-9, FTol: -1, MaxIter: 5000, Memory: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("memory %d: gonum LBFGS %d iterations, %d evaluations; optim %d iterations, %d evaluations",
+			m, gres.Stats.MajorIterations, gres.Stats.FuncEvaluations, res.Iter, res.Evals)
+		if res.Iter > 2*gres.Stats.MajorIterations {
+			t.Errorf("memory %d: optim needs %d iterations, more than twice gonum's %d", m, res.Iter, gres.Stats.MajorIterations)
+		}
+		if math.Abs(res.F-gres.F) > 1e-12 {
+			t.Errorf("memory %d: minimum %g differs from gonum's %g", m, res.F, gres.F)
+		}
 	}
 }
 
