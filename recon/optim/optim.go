@@ -264,6 +264,10 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 	}
 
 	for r.iter < maxIter {
+		if r.pgnorm == 0 {
+			// Exactly stationary: no variable can move, whatever PGTol is.
+			return finish(GradientConvergence, nil)
+		}
 		fprev := r.f
 		step, ok, err := r.iterate()
 		if err != nil {

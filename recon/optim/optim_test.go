@@ -505,3 +505,50 @@ func TestNoAllocPerIteration(t *testing.T) {
 		t.Fatalf("%v allocations for 2 iterations, %v for 40", a2, a40)
 	}
 }
+
+// TestStartAtSolution checks that a start at the solution ends at once:
+// at a vertex of the box whose gradient points outwards the projected
+// gradient is exactly zero, even with PGTol disabled.
+func TestStartAtSolution(t *testing.T) {
+	fn := func(grad, x []float64) float64 {
+		grad[0], grad[1] = 2*(x[0]+1), 2*(x[1]-3)
+		return (x[0]+1)*(x[0]+1) + (x[1]-3)*(x[1]-3)
+	}
+	for _, pgtol := range []float64{0, -1} {
+		res, err := Minimize(Problem{Func: fn, Lower: []float64{0, 0}, Upper: []float64{1, 2}}, []float64{0, 2}, Settings{PGTol: pgtol})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.Status != GradientConvergence || res.Iter != 0 || res.Evals != 1 || res.ProjGradNorm != 0 {
+			t.Errorf("PGTol %g: %v after %d iterations, %d evaluations, projected gradient %g",
+				pgtol, res.Status, res.Iter, res.Evals, res.ProjGradNorm)
+		}
+	}
+}
+
+// TestCallbackFields checks the Iter values passed to the callback
+// against the final Result.
+func TestCallbackFields(t *testing.T) {
+	var last Iter
+	var xs []float64
+	res, err := Minimize(Problem{Func: gonumFunc(functions.ExtendedRosenbrock{})}, []float64{-1.2, 1},
+		Settings{Callback: func(it Iter) bool {
+			if it.Step <= 0 || it.Evals < it.Iter+1 {
+				t.Errorf("iteration %d: step %g, %d evaluations", it.Iter, it.Step, it.Evals)
+			}
+			last = it
+			xs = append(xs[:0], it.X...)
+			return true
+		}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last.Iter != res.Iter || last.Evals != res.Evals || last.F != res.F || last.ProjGradNorm != res.ProjGradNorm {
+		t.Errorf("last callback %+v, result %+v", last, res)
+	}
+	for i := range xs {
+		if xs[i] != res.X[i] {
+			t.Errorf("callback x %v, result x %v", xs, res.X)
+		}
+	}
+}
