@@ -118,7 +118,7 @@ var ErrNonFinite = errors.New("non-finite objective or gradient")
 
 // NonFiniteError reports where Func produced a non-finite number.
 type NonFiniteError struct {
-	Iter      int     // iteration being computed (0 = the starting point)
+	Iter      int     // iteration being computed, 1-based; 0 = the evaluation at the start
 	Eval      int     // 1-based index of the offending call of Func
 	Value     float64 // objective returned by that call
 	GradIndex int     // index of the first non-finite gradient component, -1 if the gradient was finite
@@ -205,6 +205,11 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 	}
 	if p.Upper != nil && len(p.Upper) != n {
 		return Result{}, fmt.Errorf("optim: len(Upper) = %d, want %d", len(p.Upper), n)
+	}
+	for i, v := range x0 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return Result{}, fmt.Errorf("optim: start x0[%d] is %g", i, v)
+		}
 	}
 	for i := range n {
 		lo, hi := bound(p.Lower, i, math.Inf(-1)), bound(p.Upper, i, math.Inf(1))
@@ -314,14 +319,23 @@ func (r *run) eval(grad, x []float64) (float64, error) {
 	r.evals++
 	f := r.p.Func(grad, x)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return f, &NonFiniteError{Iter: r.iter, Eval: r.evals, Value: f, GradIndex: -1}
+		return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: -1}
 	}
 	for i, v := range grad {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return f, &NonFiniteError{Iter: r.iter, Eval: r.evals, Value: f, GradIndex: i}
+			return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: i}
 		}
 	}
 	return f, nil
+}
+
+// current returns the iteration being computed: 0 for the evaluation at
+// the start, k+1 during the line search after k accepted iterations.
+func (r *run) current() int {
+	if r.evals <= 1 {
+		return 0
+	}
+	return r.iter + 1
 }
 
 // project clips x on the bounds in place.

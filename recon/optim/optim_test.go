@@ -386,10 +386,13 @@ func TestNonFinite(t *testing.T) {
 		name      string
 		badEval   int
 		gradIndex int
+		iter      int
 	}{
-		{"value at start", 1, -1},
-		{"value in line search", 4, -1},
-		{"gradient", 3, 1},
+		// Rosenbrock from (-1.2, 1) accepts the first trial step of its
+		// first two iterations (evaluations 2 and 3), checked below.
+		{"value at start", 1, -1, 0},
+		{"value in first iteration", 2, -1, 1},
+		{"gradient in second iteration", 3, 1, 2},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -414,8 +417,8 @@ func TestNonFinite(t *testing.T) {
 			if !errors.As(err, &nf) || !errors.Is(err, ErrNonFinite) {
 				t.Fatalf("error %v is not a *NonFiniteError", err)
 			}
-			if nf.Eval != tc.badEval || nf.GradIndex != tc.gradIndex {
-				t.Errorf("error %+v, want evaluation %d, gradient index %d", nf, tc.badEval, tc.gradIndex)
+			if nf.Eval != tc.badEval || nf.GradIndex != tc.gradIndex || nf.Iter != tc.iter {
+				t.Errorf("error %+v, want iteration %d, evaluation %d, gradient index %d", nf, tc.iter, tc.badEval, tc.gradIndex)
 			}
 			if !strings.Contains(err.Error(), "iteration") || !strings.Contains(err.Error(), "evaluation") {
 				t.Errorf("message %q does not say where", err)
@@ -444,6 +447,7 @@ func TestBadProblem(t *testing.T) {
 		{"upper length", Problem{Func: fn, Upper: []float64{0}}, []float64{1, 2}, "len(Upper)"},
 		{"crossed", Problem{Func: fn, Lower: []float64{0, 2}, Upper: []float64{1, 1}}, []float64{1, 2}, "variable 1 has Lower 2 > Upper 1"},
 		{"nan bound", Problem{Func: fn, Lower: []float64{math.NaN()}}, []float64{1}, "NaN"},
+		{"nan start", Problem{Func: fn}, []float64{1, math.NaN()}, "x0[1] is NaN"},
 	}
 	for _, tc := range tests {
 		_, err := Minimize(tc.p, tc.x0, Settings{})
