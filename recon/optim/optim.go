@@ -454,6 +454,24 @@ func (r *run) axpyFree(dst []float64, alpha float64, a []float64) {
 	}
 }
 
+// scaleFree sets dst[i] = alpha*a[i] on the free variables and 0 elsewhere.
+func (r *run) scaleFree(dst []float64, alpha float64, a []float64) {
+	runs := r.w.runs
+	prev := 0
+	for k := 0; k+1 < len(runs); k += 2 {
+		lo, hi := runs[k], runs[k+1]
+		clear(dst[prev:lo])
+		a := a[lo:hi]
+		dst := dst[lo:hi]
+		dst = dst[:len(a)]
+		for i, ai := range a {
+			dst[i] = alpha * ai
+		}
+		prev = hi
+	}
+	clear(dst[prev:])
+}
+
 // direction computes the search direction d = -H g restricted to the free
 // variables, with the two-loop recursion of Nocedal (1980, Math. Comp. 35,
 // 773) in which every inner product runs over the free variables only
@@ -486,12 +504,9 @@ func (r *run) direction() (gd float64, used bool) {
 	if !used {
 		return 0, false
 	}
-	for i := range d {
-		d[i] = 0
-	}
-	// d holds -H g: start from -gamma q and apply the second loop with
-	// negated coefficients.
-	r.axpyFree(d, -gamma, q)
+	// d holds -H g: start from -gamma q (0 off the free set) and apply
+	// the second loop with negated coefficients.
+	r.scaleFree(d, -gamma, q)
 	for j := 0; j < w.k; j++ {
 		idx := (w.head + j) % w.m
 		sy := w.sy[idx]
@@ -509,10 +524,7 @@ func (r *run) direction() (gd float64, used bool) {
 // steepest sets d to minus the free gradient and returns g.d.
 func (r *run) steepest() float64 {
 	w := r.w
-	for i := range w.d {
-		w.d[i] = 0
-	}
-	r.axpyFree(w.d, -1, w.g)
+	r.scaleFree(w.d, -1, w.g)
 	return -r.dotFree(w.g, w.g)
 }
 
@@ -631,33 +643,49 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 }
 
 // accept moves to the trial point, stores the correction pair when its
-// curvature s.y is positive, and returns the infinity norm of the step.
+// curvature s.y is positive, updates the projected-gradient norm and
+// returns the infinity norm of the step, all in one pass.
 func (r *run) accept(ft float64) float64 {
 	w := r.w
 	var idx int
 	if w.k < w.m {
 		idx = (w.head + w.k) % w.m
 	} else {
-		idx = w.head
+		idx = w.head // the oldest pair is overwritten
 	}
+	lo, hi := r.p.Lower, r.p.Upper
 	s, y := w.s[idx], w.y[idx]
-	var sy, step float64
-	for i := range s {
-		s[i] = w.xt[i] - w.x[i]
-		y[i] = w.gt[i] - w.g[i]
-		sy += s[i] * y[i]
-		step = max(step, math.Abs(s[i]))
-	}
-	if sy > 0 {
-		if w.k < w.m {
-			w.k++
-		} else {
-			w.head = (w.head + 1) % w.m
+	x, g, xt, gt := w.x, w.g, w.xt, w.gt
+	s, y, g, xt, gt = s[:len(x)], y[:len(x)], g[:len(x)], xt[:len(x)], gt[:len(x)]
+	var sy, step, pg float64
+	for i, xi := range x {
+		xn, gn := xt[i], gt[i]
+		si, yi := xn-xi, gn-g[i]
+		s[i], y[i] = si, yi
+		sy += si * yi
+		step = max(step, math.Abs(si))
+		v := xn - gn
+		if lo != nil && v < lo[i] {
+			v = lo[i]
 		}
+		if hi != nil && v > hi[i] {
+			v = hi[i]
+		}
+		pg = max(pg, math.Abs(v-xn))
+	}
+	switch {
+	case sy > 0 && w.k < w.m:
+		w.k++
+	case sy > 0:
+		w.head = (w.head + 1) % w.m
+	case w.k == w.m:
+		// The pair is rejected but has overwritten the oldest one: drop it.
+		w.head = (w.head + 1) % w.m
+		w.k--
 	}
 	w.x, w.xt = w.xt, w.x
 	w.g, w.gt = w.gt, w.g
 	r.f = ft
-	r.pgnorm = r.projGradNorm(w.x, w.g)
+	r.pgnorm = pg
 	return step
 }
