@@ -102,7 +102,7 @@ func TestSmoothDenoiseNormalEquations(t *testing.T) {
 // TestSmoothDenoiseActiveBounds solves the same problem with data that are
 // negative over part of the grid, so positivity is active, and checks the
 // Karush-Kuhn-Tucker conditions of min f(x) s.t. x >= 0 (Nocedal & Wright
-// 2006, Theorem 12.1): grad_i = 0 where x_i > 0, grad_i >= 0 where x_i = 0,
+// 2006, Theorem 12.1, from memory): grad_i = 0 where x_i > 0, grad_i >= 0 where x_i = 0,
 // to 1e-6, above the resolution sqrt(eps |f|) ~ 1e-7 of a line search on
 // function values.
 func TestSmoothDenoiseActiveBounds(t *testing.T) {

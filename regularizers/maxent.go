@@ -12,8 +12,8 @@ const DefaultMaxEntFloor = 1e-8
 //
 //	-S(x) = sum_p [ x_p ln(x_p/m_p) - x_p + m_p ],
 //
-// where S is the entropy of Skilling & Bryan (1984, MNRAS 211, 111, eq. 6)
-// and Narayan & Nityananda (1986, ARA&A 24, 127, sect. 4). Each term is
+// where S is the entropy of Skilling & Bryan (1984, MNRAS 211, 111)
+// and Narayan & Nityananda (1986, ARA&A 24, 127). Each term is
 // non-negative and zero only at x_p = m_p, so -S >= 0 with its minimum 0
 // at x = m: minimizing -S pulls the image towards the prior. The gradient
 // is ln(x_p/m_p).

@@ -93,7 +93,7 @@ func TestGradients(t *testing.T) {
 }
 
 // TestMaxEntValues checks properties of the entropy S = -Eval from
-// Skilling & Bryan (1984, MNRAS 211, 111, sect. 2): S = 0 at x = m and
+// Skilling & Bryan (1984, MNRAS 211, 111): S = 0 at x = m and
 // S < 0 for any other positive image, so x = m is its global maximum; and
 // the limit x ln x -> 0 at x = 0.
 func TestMaxEntValues(t *testing.T) {
@@ -176,7 +176,7 @@ func TestTVFlat(t *testing.T) {
 // TestTVStep checks TV of a vertical step edge of height h with e << h:
 // each pixel left of the edge has dx = h, so TV ~ NY h + N e (total
 // variation of a step is its height times its length; Rudin, Osher &
-// Fatemi 1992, sect. 2).
+// Fatemi 1992).
 func TestTVStep(t *testing.T) {
 	const nx, ny = 12, 9
 	const h = 2.0

@@ -29,7 +29,7 @@ func diffs(x []float64, nx, ny, ix, iy, i int) (dx, dy float64) {
 // with forward differences dx_p = x[ix+1,iy] - x[ix,iy] and dy_p =
 // x[ix,iy+1] - x[ix,iy], set to 0 across the last column and row (Neumann
 // boundary). Without e this is the total variation of Rudin, Osher &
-// Fatemi (1992, Physica D 60, 259, eq. 2.1); e > 0 makes it differentiable
+// Fatemi (1992, Physica D 60, 259); e > 0 makes it differentiable
 // and quadratic where |grad x| << e. A flat image gives N*e.
 //
 // The threshold is e = Eps*Mean, relative to a reference mean pixel value,
@@ -111,7 +111,7 @@ func (r *TV) String() string {
 //	Q(x) = sum_p (dx_p^2 + dy_p^2),
 //
 // with the forward differences and boundary of TV (Tikhonov & Arsenin
-// 1977, Solutions of Ill-Posed Problems, ch. 2, first-order stabilizer).
+// 1977, Solutions of Ill-Posed Problems: the first-order stabilizer).
 // Its gradient is 2 D^T D x with D the difference operator.
 //
 // Smooth holds no scratch memory and is safe for concurrent use.

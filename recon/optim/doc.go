@@ -16,7 +16,8 @@
 //     s.y/y.y of the newest pair; the other variables get d = 0;
 //  3. backtracks along the projected path P(x + a d), starting at a = 1,
 //     until the projected sufficient-decrease (Armijo) condition holds
-//     (Bertsekas 1982, sect. 1.5);
+//     (Bertsekas 1982, Constrained Optimization and Lagrange Multiplier
+//     Methods, sect. 1.5, from memory);
 //  4. stores the pair s = x_new - x, y = g_new - g when s.y > 0.
 //
 // When the quasi-Newton direction is not a descent direction or its line

@@ -136,9 +136,11 @@ func (e *NonFiniteError) Error() string {
 func (e *NonFiniteError) Unwrap() error { return ErrNonFinite }
 
 // Line search constants. The sufficient-decrease constant 1e-4 is the
-// usual choice (Nocedal & Wright 2006, sect. 3.1); the interpolated step
-// is kept within [0.1, 0.5] of the previous trial (Dennis & Schnabel 1983,
-// sect. 6.3.2).
+// usual choice (Nocedal & Wright 2006, Numerical Optimization, sect. 3.1,
+// from memory); the interpolated step is kept within [0.1, 0.5] of the
+// previous trial (Dennis & Schnabel 1983, sect. 6.3.2, from memory). The
+// first steepest-descent step changing x by 5 % is common practice, no
+// source.
 const (
 	armijoC1     = 1e-4
 	maxBacktrack = 30
@@ -594,7 +596,7 @@ func (r *run) firstStep() float64 {
 // lineSearch backtracks along the projected path x(a) = P(x + a d) until
 // the sufficient-decrease condition f(x(a)) <= f + c1 g.(x(a) - x) holds
 // (Bertsekas 1982, Constrained Optimization and Lagrange Multiplier
-// Methods, sect. 1.5). Trial steps after the first come from the minimum
+// Methods, sect. 1.5, from memory). Trial steps after the first come from the minimum
 // of the quadratic through f, g.d and the last trial, safeguarded to
 // [0.1, 0.5] of that trial. On success the point, gradient and correction
 // pairs are updated.

@@ -28,8 +28,8 @@ func gonumFunc(fn interface {
 // TestUnconstrained checks convergence to the known minima of standard
 // test functions: Rosenbrock's function has its minimum 0 at (1, ..., 1)
 // (Rosenbrock 1960, Comput. J. 3, 175; extended form: Moré, Garbow &
-// Hillstrom 1981, ACM TOMS 7, 17, problem 21); the Beale function has its
-// minimum 0 at (3, 0.5) (Moré, Garbow & Hillstrom 1981, problem 5).
+// Hillstrom 1981, ACM TOMS 7, 17, problem 21, from memory); the Beale function has its
+// minimum 0 at (3, 0.5) (Moré, Garbow & Hillstrom 1981, problem 5, from memory).
 func TestUnconstrained(t *testing.T) {
 	ones := func(n int) []float64 {
 		v := make([]float64, n)
@@ -140,7 +140,7 @@ func quadratic(a *mat.SymDense, b []float64) func(grad, x []float64) float64 {
 // enumerating the active sets: for a strictly convex problem the solution
 // is the unique point with x_F = A_FF^-1 b_F >= 0 on the free set F, x = 0
 // elsewhere, and gradient (Ax - b)_i >= 0 on the active set (Karush-Kuhn-
-// Tucker conditions; Nocedal & Wright 2006, Theorem 12.1 and sect. 16.5).
+// Tucker conditions; Nocedal & Wright 2006, Theorem 12.1 and sect. 16.5, from memory).
 func kktSolve(t *testing.T, a *mat.SymDense, b []float64) []float64 {
 	n := len(b)
 	for mask := 0; mask < 1<<n; mask++ {
@@ -239,7 +239,7 @@ func TestBoundQuadraticKKT(t *testing.T) {
 // TestSeparableBounds minimizes sum a_i (x_i - c_i)^2 / 2 over a box,
 // whose solution is clamp(c_i, l_i, u_i) (projection theorem for a
 // separable strictly convex function; Bertsekas 1999, Nonlinear
-// Programming, Prop. 2.1.3). Many bounds are active and the projected
+// Programming, Prop. 2.1.3, from memory). Many bounds are active and the projected
 // gradient at the solution must vanish.
 func TestSeparableBounds(t *testing.T) {
 	const n = 1000
