@@ -61,4 +61,6 @@
 // call of Minimize; iterations allocate nothing. The computation is
 // sequential and deterministic: the same problem and start give the
 // bit-identical result. Every point passed to Func lies within the bounds.
+// Minimize keeps no state between calls, so concurrent calls on distinct
+// problems are safe.
 package optim
