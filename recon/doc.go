@@ -1,0 +1,72 @@
+// Package recon is the reconstruction engine of vcz: the data set model, the forward model,
+// the data terms and the constrained minimisation that turns interferometric data into an
+// image.
+//
+// # Data set model
+//
+// FromFiles merges the data tables of several OIFITS files (package vcz/io/oifits) into one
+// Data of flat, typed slices in SI units and radians: per V² point u, v (cycles per radian,
+// UCOORD/λ and VCOORD/λ), λ, Δλ, MJD, value, error and origin (file, HDU, row, channel); per
+// closure triangle u1, v1, u2, v2, λ, T3AMP ± error and T3PHI ± error; per complex visibility
+// u, v, amplitude ± error, phase ± error and their AMPTYP / PHITYP. Flagged points and
+// non-finite values are dropped and counted per table type; a Selection keeps a target, a
+// wavelength range, an MJD range, instruments and data types. Data.Summarize gives the figures
+// of `vcz inspect`: baselines, the nominal resolution λmin/(2·Bmax), the largest scale
+// λmax/Bmin, a suggested grid, the MJD range and the number of nights (groups of epochs
+// separated by more than NightGap = 0.5 day).
+//
+// # Conventions
+//
+// Signs, axes and units follow CONVENTIONS.md of the project: x towards east, y towards north,
+// pixel (ix, iy) at x = −(ix − N/2)·pixel, y = (iy − N/2)·pixel; V(u,v) = Σ I exp(−2πi(u x +
+// v y)) / Σ I; the bispectrum of a triangle is B = V(u1,v1)·V(u2,v2)·conj(V(u1+u2, v1+v2)).
+//
+// # Forward model and data terms
+//
+// NewModel collects the distinct (u,v) points of all data — closure-triangle baselines
+// usually coincide with V² baselines, and a baseline given with the opposite sign is the
+// conjugate of a stored one — and makes one transform (package vcz/nufft) for them. Objective
+// sums the weighted χ² of V² (Gaussian), closure phases (wrap-safe 2(1 − cos Δφ)/σ²), T3
+// amplitudes (Gaussian on |B|) and complex visibilities (amplitudes; absolute phases,
+// wrap-safe; correlated fluxes with a free scale at its least-squares optimum; differential
+// quantities left out with a notice), value and gradient in one pass: one Forward and one
+// Adjoint per evaluation. The gradient includes the flux normalisation:
+// ∂J/∂x_p = (Re Σ conj(G_k) a_kp − Re Σ conj(G_k) V_k)/F with G_k = ∂J/∂Re V_k + i ∂J/∂Im V_k.
+// χ²ᵣ is χ²/N per data type and Σχ²/ΣN in total (N the number of measurements, no
+// correction for the number of free pixels).
+//
+// # Solve
+//
+// Solve minimises J(x/F) + μ·R(x/F) + ρ(F − 1)² (F = Σx, ρ the number of data) subject to
+// x ≥ 0 (and x = 0 outside an optional support), with the bound-constrained quasi-Newton
+// method of vcz/recon/optim. The data terms and the regularizer see the normalised image,
+// so the flux term only fixes the scale, and the result is normalised to flux 1. A run stops
+// when the objective decreased by less than FTol (1e-7) relative per iteration over 5
+// iterations, on the projected-gradient test of optim, or at the iteration limit.
+//
+// The steps, each measured on the test cases of this package (solve_test.go and the
+// benchmark):
+//   - Start: by default the simple model that fits the V² data best (uniform disc or
+//     Gaussian, from the grid choice). From a Gaussian, a disc's V² beyond the first null is
+//     out of reach and the fit stalls at χ²ᵣ ≈ 3.6 (measured), while the disc start reaches
+//     χ²ᵣ ≈ 1.05.
+//   - Amplitude pass: V², T3 and VIS amplitudes alone first, then all data; by default only
+//     from a smooth blob (Gaussian or flat start), where it helps, not from the fitted disc,
+//     where it was measured to hurt (Settings.NoAmplitudeFirst).
+//   - Weight: automatic by the discrepancy principle (ChooseWeight in Solve): warm-started runs
+//     along μ0·10^(−k/2) from μ0 = J(x0)/R(x0) until χ²ᵣ ≤ 1, interpolation of log μ at
+//     χ²ᵣ = 1, and a final run; the path is kept in Result.Path.
+//   - Multi-start (Settings.Starts): by default 3 starts (the given one and two seeded random
+//     images, keeping the lowest objective) on grids up to 64², where it lowered χ²ᵣ of the
+//     total-variation binary from 2.2 to 1.3; one start on larger grids for speed.
+//     Coarse-to-fine (Settings.CoarseToFine) never helped on the tests and is an option.
+//
+// # Grid
+//
+// ChooseGrid: pixel a quarter of λmin/(2·Bmax); field of view three times the object size
+// from a 1-D least-squares fit of a uniform disc and of a Gaussian to the V² data, at most
+// λmax/Bmin; N even with prime factors 2, 3 and 5 only, between 32 and 256 (common practice,
+// no source). The reasoning is returned for printing.
+//
+// Everything is deterministic: the same data, settings and seed give the identical image.
+package recon
