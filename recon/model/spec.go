@@ -211,7 +211,19 @@ func ParseTOML(src []byte, name string) (*Model, error) {
 		}
 	}
 	list, ok := raw["component"].([]map[string]any)
-	if !ok {
+	if arr, isArr := raw["component"].([]any); isArr {
+		// component = [{...}, {...}] written as an inline array.
+		ok = true
+		for _, e := range arr {
+			tab, isTab := e.(map[string]any)
+			if !isTab {
+				ok = false
+				break
+			}
+			list = append(list, tab)
+		}
+	}
+	if !ok || len(list) == 0 {
 		return nil, &SpecError{File: name, Line: KeyLine(src, []string{"component"}, -1),
 			Err: errors.New("no [[component]] tables")}
 	}
