@@ -385,3 +385,31 @@ func BenchmarkModelVis(b *testing.B) {
 		m.VisMany(dst, u, v)
 	}
 }
+
+func TestRadius(t *testing.T) {
+	m := &Model{Components: []*Component{
+		mustNew(t, UniformDisc, map[string]float64{"diameter": 4}),
+		mustNew(t, Gaussian, map[string]float64{"fwhm": 1, "x": 3, "y": 4}),
+		mustNew(t, Background, map[string]float64{"flux": 0.1}),
+	}}
+	if r := m.Radius(); math.Abs(r-6.5) > 1e-12 {
+		t.Errorf("radius %g, want 6.5", r)
+	}
+	// A rasterised Gaussian of FWHM 1 mas keeps 1 − 2^(−9) of its flux
+	// within 1.5 mas (the enclosed fraction of a circular Gaussian is
+	// 1 − 2^(−4 (r/w)²)).
+	g := &Model{Components: []*Component{mustNew(t, Gaussian, map[string]float64{"fwhm": 1})}}
+	const n = 128
+	img := g.Image(n, n, 0.05*MasToRad)
+	var in float64
+	for iy := 0; iy < n; iy++ {
+		for ix := 0; ix < n; ix++ {
+			if math.Hypot(float64(ix-n/2), float64(iy-n/2))*0.05 <= g.Radius() {
+				in += img[iy*n+ix]
+			}
+		}
+	}
+	if want := 1 - math.Pow(2, -9); math.Abs(in-want) > 5e-4 {
+		t.Errorf("flux within the radius %g, want %g", in, want)
+	}
+}

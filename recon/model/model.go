@@ -185,3 +185,28 @@ func (m *Model) String() string {
 	}
 	return b.String()
 }
+
+// Radius returns the radius in mas, about the phase centre, of a circle
+// holding the model: for each component its offset plus its outer radius
+// (discs and rings: half the diameter; Gaussians: 1.5 times the FWHM,
+// beyond which less than 2e-3 of a circular Gaussian's flux lies, since
+// the enclosed fraction is 1 − 2^(−4 (r/w)²)). Background components,
+// which have no size, are ignored.
+func (m *Model) Radius() float64 {
+	var r float64
+	for _, c := range m.Components {
+		if c.kind == Background {
+			continue
+		}
+		p := c.params
+		s := 0.0
+		switch c.kind {
+		case UniformDisc, LinearLD, PowerLD, Ring:
+			s = p[iS0].Value / 2
+		case Gaussian, EllGaussian:
+			s = 1.5 * p[iS0].Value
+		}
+		r = math.Max(r, math.Hypot(p[iX].Value, p[iY].Value)+s)
+	}
+	return r
+}

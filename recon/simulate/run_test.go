@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/cmplx"
 	"reflect"
+	"strings"
 	"testing"
 
 	"vcz/io/oifits"
@@ -358,5 +359,30 @@ func BenchmarkDemo(b *testing.B) {
 		if _, _, err := Run(p, ModelSky{m}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestImageGrid: the proposed grid resolves the longest baseline at the
+// shortest wavelength (pixel λ_min/(8 B_max)), covers the model, and the
+// image model check rejects a pixel beyond the Nyquist limit.
+func TestImageGrid(t *testing.T) {
+	p, m := Demo()
+	n, pix := DefaultImageGrid(p, m)
+	var bmax float64
+	for i, a := range p.Stations {
+		for _, b := range p.Stations[i+1:] {
+			d := [3]float64{b.East - a.East, b.North - a.North, b.Up - a.Up}
+			bmax = math.Max(bmax, math.Sqrt(dot(d, d)))
+		}
+	}
+	if want := 1.5e-6 / (8 * bmax); math.Abs(pix-want) > 1e-6*want {
+		t.Errorf("pixel %g rad, want %g", pix, want)
+	}
+	if float64(n)*pix < 2*m.Radius()*model.MasToRad || n%2 != 0 {
+		t.Errorf("grid %d × %g rad does not cover radius %g mas", n, pix, m.Radius())
+	}
+	sky := ImageSky{NX: 16, NY: 16, Pixel: 1 * model.MasToRad, Data: m.Image(16, 16, model.MasToRad)}
+	if _, _, err := Run(p, sky); err == nil || !strings.Contains(err.Error(), "too coarse") {
+		t.Errorf("coarse image accepted: %v", err)
 	}
 }

@@ -57,6 +57,17 @@ func (s ImageSky) Visibilities(dst []complex128, u, v []float64) error {
 	if !(tot > 0) {
 		return fmt.Errorf("simulate: image model: total flux %g; it must be positive", tot)
 	}
+	// Beyond |u|·pixel = 1/2 the pixelated image's spectrum repeats, and
+	// the visibilities no longer describe a sky (Nyquist; common
+	// practice, no source).
+	var qmax float64
+	for k := range u {
+		qmax = math.Max(qmax, math.Max(math.Abs(u[k]), math.Abs(v[k])))
+	}
+	if qmax*s.Pixel > 0.5 {
+		return fmt.Errorf("simulate: image model: pixel %.4g mas is too coarse for the highest spatial frequency (%.4g cycles/rad); it must be at most %.4g mas",
+			s.Pixel/model.MasToRad, qmax, 0.5/qmax/model.MasToRad)
+	}
 	plan, err := nufft.NewPlan(s.NX, s.NY, s.Pixel, u, v, nufft.Options{Tol: ImageTol})
 	if err != nil {
 		return fmt.Errorf("simulate: image model: %w", err)
