@@ -534,8 +534,9 @@ func (e *engine) initialWeight(x0 []float64) float64 {
 }
 
 // chooseWeight runs the discrepancy principle: warm-started reconstructions along weights
-// μ0·10^(−k/2), k = 0, 1, ..., until the total χ²ᵣ falls below 1 or stops improving (by less
-// than 1 % between steps) or WeightSteps is reached. Where χ²ᵣ crosses 1 between two steps,
+// μ0·10^(−k/2), k = 0, 1, ..., until the total χ²ᵣ falls below 1 + 2√(2/N) (within twice
+// its statistical scatter of 1), stops improving (by less than 1 % over two steps) or
+// WeightSteps is reached. Where χ²ᵣ crosses 1 between two steps,
 // the weight is interpolated linearly in (log μ, log χ²ᵣ) and the final run starts from the
 // image of the larger weight. Without a crossing it returns the weight with χ²ᵣ closest to 1.
 func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float64, float64, error) {
@@ -545,6 +546,10 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float6
 	x := x0
 	factor := math.Pow(10, -0.5)
 	mu := mu0
+	// χ² of N independent Gaussian data has variance 2N, so χ²ᵣ scatters by √(2/N) about 1
+	// (e.g. Press et al., Numerical Recipes, 3rd ed., sect. 15.1); a step within twice that of 1
+	// is as good as 1.
+	band := 2 * math.Sqrt(2/float64(max(e.p.Data.Len(use), 1)))
 	for k := 0; k < e.s.WeightSteps; k++ {
 		r, err := e.run(x, mu, use, e.s.PathIter, fmt.Sprintf("weight %d/%d", k+1, e.s.WeightSteps))
 		if err != nil {
@@ -554,8 +559,8 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float6
 		path = append(path, WeightStep{Weight: mu, Chi2r: c, Reg: reg, Iter: r.Iter})
 		images = append(images, r.X)
 		x = r.X
-		if c <= 1 {
-			break
+		if c <= 1+band {
+			break // at 1 within the statistical scatter of χ²ᵣ
 		}
 		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r {
 			break // two steps without 1 % of improvement: χ²ᵣ has reached its floor
