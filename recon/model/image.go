@@ -201,6 +201,9 @@ func integral(c *Component) float64 {
 func rasterArea(dst []float64, c *Component, f float64, nx, ny int, pixel float64, over int) float64 {
 	x0, y0 := c.params[iX].Value*MasToRad, c.params[iY].Value*MasToRad
 	r := extent(c)
+	if r == 0 {
+		return splat(dst, nx, ny, pixel, x0, y0, f)
+	}
 	if c.kind == Gaussian || c.kind == EllGaussian {
 		// A smooth profile needs few samples once it spans several
 		// pixels: 16 samples per FWHM along each axis bound the midpoint
@@ -212,8 +215,7 @@ func rasterArea(dst []float64, c *Component, f float64, nx, ny int, pixel float6
 		over = max(1, min(over, int(math.Ceil(16*pixel/w))))
 	}
 	if r < 2*pixel {
-		over = max(over, int(math.Ceil(8*pixel/math.Max(r, 1e-300))))
-		over = min(over, 64)
+		over = int(math.Min(64, math.Max(float64(over), math.Ceil(8*pixel/r))))
 	}
 	fx := float64(nx/2) - x0/pixel
 	fy := float64(ny/2) + y0/pixel
