@@ -65,7 +65,8 @@ type Settings struct {
 	// Coarse-to-fine, measured the same way, never lowered χ²ᵣ and is off by default.
 	Starts int
 	// CoarseToFine first reconstructs on a grid of half the pixels and twice the pixel size
-	// and starts the full grid from it.
+	// (with the same settings, automatic weight included) and starts the full grid from its
+	// resampled image. Grids under 32 pixels ignore it.
 	CoarseToFine bool
 	// NoAmplitudeFirst turns off the first pass on amplitude data (V², T3 and VIS
 	// amplitudes) that precedes fitting the phases. The pass runs by default when the start
@@ -164,7 +165,6 @@ type engine struct {
 	upper     []float64
 	rho       float64 // weight of the flux term ρ(Σx − 1)²
 	total     int     // iterations of all runs
-	lastReg   float64
 	converged bool // the last run met the relative-change test
 	stopped   bool // Progress asked to stop
 }
@@ -249,7 +249,6 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 				}
 			}
 			r := e.reg.Eval(rg, xn)
-			e.lastReg = r
 			v += mu * r
 			if grad != nil {
 				// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.

@@ -277,3 +277,40 @@ func TestChi2Values(t *testing.T) {
 		t.Errorf("flux scale %g, want %g", o.FluxScale(), s)
 	}
 }
+
+// TestPredict checks the observables of a binary of two point sources against the two-point
+// visibility (1 + f·exp(−2πi(u x + v y)))/(1 + f) and B = V1·V2·conj(V3) (CONVENTIONS.md).
+func TestPredict(t *testing.T) {
+	const n, pixel = 32, 1e-9
+	img := make([]float64, n*n)
+	img[(n/2)*n+n/2] = 2
+	img[(n/2+4)*n+n/2-5] = 1 // 5 pixels east, 4 north, flux ratio 0.5
+	vis := binaryVis(0.5, 5*pixel, 4*pixel)
+	rng := rand.New(rand.NewPCG(4, 4))
+	d := randomData(rng, 0.3/pixel)
+	p, err := Predict(d, Grid{N: n, Pixel: pixel}, img, exactTransform)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range d.Vis2.U {
+		if want := cmplx.Abs(vis(d.Vis2.U[i], d.Vis2.V[i])); math.Abs(p.Vis2[i]-want*want) > 1e-12 {
+			t.Errorf("V² %d: %g, want %g", i, p.Vis2[i], want*want)
+		}
+	}
+	for i := range d.T3.U1 {
+		tt := &d.T3
+		b := vis(tt.U1[i], tt.V1[i]) * vis(tt.U2[i], tt.V2[i]) * cmplx.Conj(vis(tt.U1[i]+tt.U2[i], tt.V1[i]+tt.V2[i]))
+		if math.Abs(p.T3Amp[i]-cmplx.Abs(b)) > 1e-12 || math.Abs(WrapPhase(p.T3Phi[i]-cmplx.Phase(b))) > 1e-9 {
+			t.Errorf("T3 %d: %g %g, want %g %g", i, p.T3Amp[i], p.T3Phi[i], cmplx.Abs(b), cmplx.Phase(b))
+		}
+	}
+	for i := range d.Vis.U {
+		v := vis(d.Vis.U[i], d.Vis.V[i])
+		if math.Abs(p.VisAmp[i]-cmplx.Abs(v)) > 1e-12 || math.Abs(WrapPhase(p.VisPhi[i]-cmplx.Phase(v))) > 1e-9 {
+			t.Errorf("VIS %d: %g %g, want %g %g", i, p.VisAmp[i], p.VisPhi[i], cmplx.Abs(v), cmplx.Phase(v))
+		}
+	}
+	if w := WrapPhase(3 * math.Pi); math.Abs(w-math.Pi) > 1e-12 {
+		t.Errorf("WrapPhase(3π) = %g", w)
+	}
+}
