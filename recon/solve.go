@@ -165,8 +165,8 @@ type engine struct {
 	upper     []float64
 	rho       float64 // weight of the flux term ρ(Σx − 1)²
 	total     int     // iterations of all runs
-	converged bool // the last run met the relative-change test
-	stopped   bool // Progress asked to stop
+	converged bool    // the last run met the relative-change test
+	stopped   bool    // Progress asked to stop
 }
 
 func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
