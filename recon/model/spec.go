@@ -197,7 +197,8 @@ func checkRequired(c *Component, seen map[string]bool) error {
 //	u_ld = 0.3
 func ParseTOML(src []byte, name string) (*Model, error) {
 	var raw map[string]any
-	if _, err := toml.Decode(string(src), &raw); err != nil {
+	md, err := toml.Decode(string(src), &raw)
+	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
 			return nil, &SpecError{File: name, Line: pe.Position.Line, Err: errors.New(pe.Message)}
@@ -247,7 +248,7 @@ func ParseTOML(src []byte, name string) (*Model, error) {
 			return nil, fail("kind", err)
 		}
 		seen := map[string]bool{}
-		for _, key := range sortedKeys(tab) {
+		for _, key := range fileOrder(md, i, tab) {
 			if key == "kind" {
 				continue
 			}
@@ -268,6 +269,34 @@ func ParseTOML(src []byte, name string) (*Model, error) {
 		return nil, &SpecError{File: name, Err: err}
 	}
 	return m, nil
+}
+
+// fileOrder returns the keys of the i-th [[component]] table in the order
+// they appear in the file, so that the first bad key is the one reported;
+// keys the metadata does not list (inline arrays of tables) follow in
+// sorted order.
+func fileOrder(md toml.MetaData, i int, tab map[string]any) []string {
+	var out []string
+	seen := map[string]bool{}
+	elem := -1
+	for _, k := range md.Keys() {
+		if len(k) == 1 && k[0] == "component" {
+			elem++
+			continue
+		}
+		if len(k) == 2 && k[0] == "component" && elem == i {
+			if _, ok := tab[k[1]]; ok && !seen[k[1]] {
+				out = append(out, k[1])
+				seen[k[1]] = true
+			}
+		}
+	}
+	for _, k := range sortedKeys(tab) {
+		if !seen[k] {
+			out = append(out, k)
+		}
+	}
+	return out
 }
 
 func sortedKeys[V any](m map[string]V) []string {

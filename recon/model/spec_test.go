@@ -59,6 +59,7 @@ func TestSpecErrors(t *testing.T) {
 		{"bad domain", "[[component]]\nkind = \"ld\"\ndiameter = 2\nu_ld = 1.5\n", "m.toml:4: component 1: ld: parameter u_ld = 1.5 outside its domain"},
 		{"bad table field", "[[component]]\nkind = \"ud\"\ndiameter = {value = 2, fre = true}\n", "m.toml:3: component 1: ud: diameter: unknown field \"fre\""},
 		{"unknown top key", "scale = 2\n[[component]]\nkind = \"point\"\n", "m.toml:1: unknown key \"scale\""},
+		{"first bad key in file order", "[[component]]\nkind = \"ud\"\nzeta = 1\nalpha = 2\ndiameter = 1\n", "m.toml:3: component 1: ud: unknown parameter \"zeta\""},
 		{"syntax", "[[component]]\nkind = \"point\"\nflux = = 1\n", "m.toml:3:"},
 		{"no flux", "[[component]]\nkind = \"point\"\nflux = 0\n", "total flux is 0"},
 	} {
