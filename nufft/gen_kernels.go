@@ -76,7 +76,7 @@ func genInterp(b *bytes.Buffer, w int) {
 	fmt.Fprintf(b, "\t\t\twy := wt[%d+dy]\n", w)
 	fmt.Fprintf(b, "\t\t\tar += %s * wy\n", tree(re))
 	fmt.Fprintf(b, "\t\t\tai += %s * wy\n", tree(im))
-	fmt.Fprintf(b, "\t\t}\n\t\tp.dstC[p.perm[i]] = complex(ar, ai)\n\t}\n}\n\n")
+	fmt.Fprintf(b, "\t\t}\n\t\tp.sorted[i] = complex(ar, ai)\n\t}\n}\n\n")
 }
 
 func genSpread(b *bytes.Buffer, w int) {
@@ -86,7 +86,7 @@ func genSpread(b *bytes.Buffer, w int) {
 	fmt.Fprintf(b, "\t\tx0, y0 := int(p.x0[i]), int(p.y0[i])-ylo\n")
 	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.spreadWrap(band, ylo, i)\n\t\t\tcontinue\n\t\t}\n", w)
 	fmt.Fprintf(b, "\t\twt := (*[%d]float64)(p.wts[%d*i:])\n", 2*w, 2*w)
-	fmt.Fprintf(b, "\t\tvis := p.srcC[p.perm[i]]\n\t\tvr, vi := real(vis), imag(vis)\n")
+	fmt.Fprintf(b, "\t\tvis := p.sorted[i]\n\t\tvr, vi := real(vis), imag(vis)\n")
 	fmt.Fprintf(b, "\t\tfor dy := range %d {\n", w)
 	fmt.Fprintf(b, "\t\t\tcr, ci := vr*wt[%d+dy], vi*wt[%d+dy]\n", w, w)
 	fmt.Fprintf(b, "\t\t\tg := (*[%d]complex128)(band[(y0+dy)*fx+x0:])\n", w)

@@ -105,7 +105,7 @@ func (p *plan) interp2(lo, hi int) {
 			ar += (real(g[0])*wt[0] + real(g[1])*wt[1]) * wy
 			ai += (imag(g[0])*wt[0] + imag(g[1])*wt[1]) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -118,7 +118,7 @@ func (p *plan) spread2(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[4]float64)(p.wts[4*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 2 {
 			cr, ci := vr*wt[2+dy], vi*wt[2+dy]
@@ -150,7 +150,7 @@ func (p *plan) interp3(lo, hi int) {
 			ar += ((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) * wy
 			ai += ((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -163,7 +163,7 @@ func (p *plan) spread3(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[6]float64)(p.wts[6*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 3 {
 			cr, ci := vr*wt[3+dy], vi*wt[3+dy]
@@ -196,7 +196,7 @@ func (p *plan) interp4(lo, hi int) {
 			ar += ((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) * wy
 			ai += ((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -209,7 +209,7 @@ func (p *plan) spread4(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[8]float64)(p.wts[8*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 4 {
 			cr, ci := vr*wt[4+dy], vi*wt[4+dy]
@@ -243,7 +243,7 @@ func (p *plan) interp5(lo, hi int) {
 			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) * wy
 			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -256,7 +256,7 @@ func (p *plan) spread5(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[10]float64)(p.wts[10*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 5 {
 			cr, ci := vr*wt[5+dy], vi*wt[5+dy]
@@ -291,7 +291,7 @@ func (p *plan) interp6(lo, hi int) {
 			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) * wy
 			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -304,7 +304,7 @@ func (p *plan) spread6(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[12]float64)(p.wts[12*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 6 {
 			cr, ci := vr*wt[6+dy], vi*wt[6+dy]
@@ -340,7 +340,7 @@ func (p *plan) interp7(lo, hi int) {
 			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) * wy
 			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -353,7 +353,7 @@ func (p *plan) spread7(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[14]float64)(p.wts[14*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 7 {
 			cr, ci := vr*wt[7+dy], vi*wt[7+dy]
@@ -390,7 +390,7 @@ func (p *plan) interp8(lo, hi int) {
 			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) * wy
 			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -403,7 +403,7 @@ func (p *plan) spread8(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[16]float64)(p.wts[16*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 8 {
 			cr, ci := vr*wt[8+dy], vi*wt[8+dy]
@@ -441,7 +441,7 @@ func (p *plan) interp9(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) + ((real(g[5])*wt[5] + real(g[6])*wt[6]) + (real(g[7])*wt[7] + real(g[8])*wt[8]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) + ((imag(g[5])*wt[5] + imag(g[6])*wt[6]) + (imag(g[7])*wt[7] + imag(g[8])*wt[8]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -454,7 +454,7 @@ func (p *plan) spread9(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[18]float64)(p.wts[18*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 9 {
 			cr, ci := vr*wt[9+dy], vi*wt[9+dy]
@@ -493,7 +493,7 @@ func (p *plan) interp10(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) + (((real(g[5])*wt[5] + real(g[6])*wt[6]) + real(g[7])*wt[7]) + (real(g[8])*wt[8] + real(g[9])*wt[9]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) + (((imag(g[5])*wt[5] + imag(g[6])*wt[6]) + imag(g[7])*wt[7]) + (imag(g[8])*wt[8] + imag(g[9])*wt[9]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -506,7 +506,7 @@ func (p *plan) spread10(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[20]float64)(p.wts[20*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 10 {
 			cr, ci := vr*wt[10+dy], vi*wt[10+dy]
@@ -546,7 +546,7 @@ func (p *plan) interp11(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) + (((real(g[6])*wt[6] + real(g[7])*wt[7]) + real(g[8])*wt[8]) + (real(g[9])*wt[9] + real(g[10])*wt[10]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) + (((imag(g[6])*wt[6] + imag(g[7])*wt[7]) + imag(g[8])*wt[8]) + (imag(g[9])*wt[9] + imag(g[10])*wt[10]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -559,7 +559,7 @@ func (p *plan) spread11(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[22]float64)(p.wts[22*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 11 {
 			cr, ci := vr*wt[11+dy], vi*wt[11+dy]
@@ -600,7 +600,7 @@ func (p *plan) interp12(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) + (((real(g[6])*wt[6] + real(g[7])*wt[7]) + real(g[8])*wt[8]) + ((real(g[9])*wt[9] + real(g[10])*wt[10]) + real(g[11])*wt[11]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) + (((imag(g[6])*wt[6] + imag(g[7])*wt[7]) + imag(g[8])*wt[8]) + ((imag(g[9])*wt[9] + imag(g[10])*wt[10]) + imag(g[11])*wt[11]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -613,7 +613,7 @@ func (p *plan) spread12(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[24]float64)(p.wts[24*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 12 {
 			cr, ci := vr*wt[12+dy], vi*wt[12+dy]
@@ -655,7 +655,7 @@ func (p *plan) interp13(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) + (((real(g[7])*wt[7] + real(g[8])*wt[8]) + real(g[9])*wt[9]) + ((real(g[10])*wt[10] + real(g[11])*wt[11]) + real(g[12])*wt[12]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) + (((imag(g[7])*wt[7] + imag(g[8])*wt[8]) + imag(g[9])*wt[9]) + ((imag(g[10])*wt[10] + imag(g[11])*wt[11]) + imag(g[12])*wt[12]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -668,7 +668,7 @@ func (p *plan) spread13(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[26]float64)(p.wts[26*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 13 {
 			cr, ci := vr*wt[13+dy], vi*wt[13+dy]
@@ -711,7 +711,7 @@ func (p *plan) interp14(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) + (((real(g[7])*wt[7] + real(g[8])*wt[8]) + (real(g[9])*wt[9] + real(g[10])*wt[10])) + ((real(g[11])*wt[11] + real(g[12])*wt[12]) + real(g[13])*wt[13]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) + (((imag(g[7])*wt[7] + imag(g[8])*wt[8]) + (imag(g[9])*wt[9] + imag(g[10])*wt[10])) + ((imag(g[11])*wt[11] + imag(g[12])*wt[12]) + imag(g[13])*wt[13]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -724,7 +724,7 @@ func (p *plan) spread14(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[28]float64)(p.wts[28*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 14 {
 			cr, ci := vr*wt[14+dy], vi*wt[14+dy]
@@ -768,7 +768,7 @@ func (p *plan) interp15(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) + (((real(g[8])*wt[8] + real(g[9])*wt[9]) + (real(g[10])*wt[10] + real(g[11])*wt[11])) + ((real(g[12])*wt[12] + real(g[13])*wt[13]) + real(g[14])*wt[14]))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) + (((imag(g[8])*wt[8] + imag(g[9])*wt[9]) + (imag(g[10])*wt[10] + imag(g[11])*wt[11])) + ((imag(g[12])*wt[12] + imag(g[13])*wt[13]) + imag(g[14])*wt[14]))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -781,7 +781,7 @@ func (p *plan) spread15(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[30]float64)(p.wts[30*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 15 {
 			cr, ci := vr*wt[15+dy], vi*wt[15+dy]
@@ -826,7 +826,7 @@ func (p *plan) interp16(lo, hi int) {
 			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) + (((real(g[8])*wt[8] + real(g[9])*wt[9]) + (real(g[10])*wt[10] + real(g[11])*wt[11])) + ((real(g[12])*wt[12] + real(g[13])*wt[13]) + (real(g[14])*wt[14] + real(g[15])*wt[15])))) * wy
 			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) + (((imag(g[8])*wt[8] + imag(g[9])*wt[9]) + (imag(g[10])*wt[10] + imag(g[11])*wt[11])) + ((imag(g[12])*wt[12] + imag(g[13])*wt[13]) + (imag(g[14])*wt[14] + imag(g[15])*wt[15])))) * wy
 		}
-		p.dstC[p.perm[i]] = complex(ar, ai)
+		p.sorted[i] = complex(ar, ai)
 	}
 }
 
@@ -839,7 +839,7 @@ func (p *plan) spread16(band []complex128, ylo, lo, hi int) {
 			continue
 		}
 		wt := (*[32]float64)(p.wts[32*i:])
-		vis := p.srcC[p.perm[i]]
+		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 16 {
 			cr, ci := vr*wt[16+dy], vi*wt[16+dy]

@@ -113,7 +113,7 @@ func TestExactDirect(t *testing.T) {
 // non-square, power-of-two and other sizes.
 func TestAccuracy(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 2))
-	for _, sz := range []struct{ nx, ny, m int }{{64, 64, 3000}, {48, 30, 2000}, {100, 128, 1500}} {
+	for _, sz := range []struct{ nx, ny, m int }{{64, 64, 3000}, {48, 30, 2000}, {100, 128, 1500}, {33, 21, 800}} {
 		pix := 0.5 * mas
 		u, v := bandPoints(rng, sz.m, pix)
 		img := randImage(rng, sz.nx*sz.ny)
@@ -560,6 +560,32 @@ func TestKernelAccuracy(t *testing.T) {
 		}
 		if errs[0] > 1.2*kbError[w] {
 			t.Errorf("w=%d: Kaiser–Bessel error %g above the tabulated %g", w, errs[0], kbError[w])
+		}
+	}
+}
+
+// TestMemory checks the memory budget of a plan at the default tolerance,
+// counted from its slice sizes: at most 3× the upsampled grid plus 150
+// bytes per point (the budget of the package's design; common practice,
+// no source).
+func TestMemory(t *testing.T) {
+	rng := rand.New(rand.NewPCG(10, 10))
+	for _, c := range []struct{ n, m, w int }{{128, 10000, 1}, {256, 100000, 1}, {256, 100000, 2}, {100, 3000, 2}} {
+		u, v := bandPoints(rng, c.m, mas)
+		r, err := resolve("test", c.n, c.n, mas, u, v, Options{Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r.workers = c.w
+		p := newPlan(r, u, v, kaiserBessel, kernelWidth(r.tol))
+		stopPool(p.pool.ch)
+		grid, perPoint, total := p.memBytes()
+		budget := 3*grid + 150*c.m
+		t.Logf("n=%d m=%d workers=%d: grid %d B, %.1f B/point, total %d B = %.2f grids + %.1f B/point",
+			c.n, c.m, p.workers, grid, float64(perPoint)/float64(c.m), total,
+			float64(total-perPoint)/float64(grid), float64(perPoint)/float64(c.m))
+		if total > budget {
+			t.Errorf("n=%d m=%d workers=%d: plan holds %d bytes, budget %d", c.n, c.m, c.w, total, budget)
 		}
 	}
 }

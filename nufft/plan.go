@@ -29,10 +29,11 @@ const (
 //go:generate go run gen_kernels.go
 
 type plan struct {
-	nx, ny int     // image size
-	fx, fy int     // upsampled grid size, powers of two
-	m      int     // number of points
-	w      int     // kernel width in fine cells
+	nx, ny int // image size
+	fx, fy int // upsampled grid size, powers of two
+	hc     int // columns 0 … hc−1 take the y transforms: fx/2 < hc ≤ fx
+	m      int // number of points
+	w      int // kernel width in fine cells
 	kern   kernel
 	corrX  []float64 // 1/φ̂ for each image column, ix = 0..nx−1
 	corrY  []float64 // 1/φ̂ for each image row
@@ -42,6 +43,7 @@ type plan struct {
 	// x weights followed by the w y weights.
 	perm   []int32
 	x0, y0 []int32
+	sorted []complex128 // values at the points in sorted order
 	wts    []float64
 
 	fftX, fftY *fftPlan
@@ -79,6 +81,7 @@ type plan struct {
 const (
 	phFwdRows = iota
 	phFwdCols
+	phFwdFill
 	phFwdInterp
 	phAdjSpread
 	phAdjCols
@@ -152,6 +155,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		count[i] += count[i-1]
 	}
 	p.perm = make([]int32, m)
+	p.sorted = make([]complex128, m)
 	for k := range m {
 		key := int(y0[k])/binRows*fx + int(x0[k])
 		p.perm[count[key]] = int32(k)
@@ -175,6 +179,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		}
 	}
 
+	p.hc = min(fx, (fx/2/colBlock+1)*colBlock)
 	p.fftX = newFFTPlan(fx)
 	p.fftY = newFFTPlan(fy)
 	p.grid = make([]complex128, fx*fy)
@@ -185,7 +190,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	if ops < serialOps {
 		nw = 1
 	}
-	nw = min(nw, max(1, m/64+1), fx/colBlock)
+	nw = min(nw, max(1, m/64+1), p.hc/colBlock)
 	p.workers = nw
 	p.pool = newPool(nw)
 	p.scratch = make([][]complex128, nw)
@@ -266,6 +271,7 @@ func (p *Plan) Forward(dst []complex128, img []float64) {
 	p.dstC, p.srcR = dst, img
 	p.runPhase(phFwdRows)
 	p.runPhase(phFwdCols)
+	p.runPhase(phFwdFill)
 	p.runPhase(phFwdInterp)
 	p.dstC, p.srcR = nil, nil
 }
@@ -292,54 +298,88 @@ func (p *plan) do(i int) {
 	n := p.workers
 	switch p.phase {
 	case phFwdRows:
-		lo, hi := span(p.ny, i, n)
+		lo, hi := span((p.ny+1)/2, i, n)
 		p.fwdRows(p.scratch[i], lo, hi)
 	case phFwdCols:
-		lo, hi := span(p.fx/colBlock, i, n)
+		lo, hi := span(p.hc/colBlock, i, n)
 		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, false)
+	case phFwdFill:
+		lo, hi := span(p.fy, i, n)
+		p.fwdFill(lo, hi)
 	case phFwdInterp:
 		p.interp(p.ptLo[i], p.ptLo[i+1])
 	case phAdjSpread:
 		p.spread(i)
 	case phAdjCols:
-		lo, hi := span(p.fx/colBlock, i, n)
+		lo, hi := span(p.hc/colBlock, i, n)
 		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, true)
 	case phAdjRows:
-		lo, hi := span(p.ny, i, n)
+		lo, hi := span((p.ny+1)/2, i, n)
 		p.adjRows(p.scratch[i], lo, hi)
 	}
 }
 
-// fwdRows places corrected image rows [lo, hi) on their fine rows and
-// transforms them along x.
+// The image is real, so the 2D transform G of the padded image is
+// Hermitian, G(−jx, −jy) = conj(G(jx, jy)), and Adjoint needs only the
+// real part of an inverse transform. Both use this (e.g. Press et al.
+// 2007, Numerical Recipes, 3rd ed., sect. 12.3): the x transforms take
+// two image rows at once as the real and imaginary parts of one complex
+// row, and the y transforms run only on the columns jx < p.hc, which
+// cover 0 … fx/2; Forward fills the other columns by symmetry.
+
+// fwdRows places corrected image rows on their fine rows and transforms
+// them along x, two at a time; worker i takes the row pairs [lo, hi).
 func (p *plan) fwdRows(scr []complex128, lo, hi int) {
-	nx, fx := p.nx, p.fx
-	buf := scr[:fx]
-	for iy := lo; iy < hi; iy++ {
-		row := p.grid[int(p.imageRows[iy])*fx:][:fx]
-		clear(row)
-		cy := p.corrY[iy]
-		src := p.srcR[iy*nx : iy*nx+nx]
+	nx, fx, hc := p.nx, p.fx, p.hc
+	z, buf := scr[:fx], scr[fx:2*fx]
+	h := nx / 2
+	for pr := lo; pr < hi; pr++ {
+		i1, i2 := 2*pr, 2*pr+1
+		clear(z)
+		c1 := p.corrY[i1]
+		s1 := p.srcR[i1*nx : i1*nx+nx]
+		var c2 float64
+		s2 := s1 // unused when the second row is missing (odd ny)
+		if i2 < p.ny {
+			c2 = p.corrY[i2]
+			s2 = p.srcR[i2*nx : i2*nx+nx]
+		}
 		// Columns ix ≥ nx/2 go to 0, 1, ...; columns ix < nx/2 wrap to
 		// the top of the row.
-		h := nx / 2
-		for ix := h; ix < nx; ix++ {
-			row[ix-h] = complex(src[ix]*p.corrX[ix]*cy, 0)
+		for ix := range nx {
+			j := ix - h
+			if j < 0 {
+				j += fx
+			}
+			cx := p.corrX[ix]
+			z[j] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
 		}
-		for ix := 0; ix < h; ix++ {
-			row[fx-h+ix] = complex(src[ix]*p.corrX[ix]*cy, 0)
+		out := p.fftX.transform(z, buf, 1, false)
+		// Split Z = F(r1) + i F(r2): F(r1)[k] = (Z[k] + conj Z[−k])/2,
+		// F(r2)[k] = (Z[k] − conj Z[−k])/(2i).
+		g1 := p.grid[int(p.imageRows[i1])*fx:][:hc]
+		var g2 []complex128
+		if i2 < p.ny {
+			g2 = p.grid[int(p.imageRows[i2])*fx:][:hc]
 		}
-		out := p.fftX.transform(row, buf, 1, false)
-		if &out[0] != &row[0] {
-			copy(row, out)
+		for k := range g1 {
+			a := out[k]
+			b := out[(fx-k)&(fx-1)]
+			br, bi := real(b), -imag(b) // conj Z[−k]
+			g1[k] = complex(0.5*(real(a)+br), 0.5*(imag(a)+bi))
+			if g2 != nil {
+				// (a − conj b)/(2i) = (Im(a) − Im(conj b))/2 − i(Re(a) − Re(conj b))/2
+				g2[k] = complex(0.5*(imag(a)-bi), -0.5*(real(a)-br))
+			}
 		}
 	}
 }
 
 // cols transforms columns [c0, c1) along y in blocks of colBlock. In
 // Forward only the image rows are nonzero on input (the rest are not
-// read); in Adjoint the input is folded from the spreading bands and only
-// the image rows of the output are stored.
+// read). In Adjoint the input is folded from the spreading bands and
+// made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
+// the output are stored.
 func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	fx, fy := p.fx, p.fy
 	const b = colBlock
@@ -353,16 +393,14 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 		} else {
 			for r := range fy {
 				d := x[r*b : r*b+b]
-				srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
-				if len(srcs) == 0 {
-					clear(d)
-					continue
-				}
-				copy(d, p.band[int(srcs[0])+c:])
-				for _, o := range srcs[1:] {
-					s := p.band[int(o)+c:][:len(d)]
+				p.bandRow(d, r, c)
+				// Add conj H(−jx, −r) for jx = c … c+b−1.
+				srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
+				for _, o := range srcs {
+					row := p.band[int(o) : int(o)+fx]
 					for j := range d {
-						d[j] += s[j]
+						v := row[(fx-c-j)&(fx-1)]
+						d[j] += complex(real(v), -imag(v))
 					}
 				}
 			}
@@ -381,33 +419,99 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	}
 }
 
-// adjRows transforms image rows [lo, hi) along x and writes the real part
-// times the correction into the image.
+// bandRow sets d to the sum, in worker order, of the band rows folding
+// onto fine row r, at columns c … c+len(d)−1.
+func (p *plan) bandRow(d []complex128, r, c int) {
+	srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
+	if len(srcs) == 0 {
+		clear(d)
+		return
+	}
+	copy(d, p.band[int(srcs[0])+c:])
+	for _, o := range srcs[1:] {
+		s := p.band[int(o)+c:][:len(d)]
+		for j := range d {
+			d[j] += s[j]
+		}
+	}
+}
+
+// fwdFill sets the columns jx ≥ hc of fine rows [lo, hi) from the
+// Hermitian symmetry G(jx, jy) = conj G(fx−jx, −jy).
+func (p *plan) fwdFill(lo, hi int) {
+	fx, fy, hc := p.fx, p.fy, p.hc
+	for r := lo; r < hi; r++ {
+		dst := p.grid[r*fx : r*fx+fx]
+		src := p.grid[((fy-r)&(fy-1))*fx:][:fx]
+		for jx := hc; jx < fx; jx++ {
+			v := src[fx-jx]
+			dst[jx] = complex(real(v), -imag(v))
+		}
+	}
+}
+
+// adjRows transforms image row pairs [lo, hi) along x and writes the
+// real part times the correction into the image. The columns jx > fx/2
+// of the Hermitian column output C are conj C(fx−jx); two rows C1, C2
+// are transformed as Z = C1 + iC2, whose inverse transform is
+// z = c1 + i c2 with c1, c2 real.
 func (p *plan) adjRows(scr []complex128, lo, hi int) {
 	nx, fx := p.nx, p.fx
-	buf := scr[:fx]
+	z, buf := scr[:fx], scr[fx:2*fx]
 	h := nx / 2
-	for iy := lo; iy < hi; iy++ {
-		row := p.grid[int(p.imageRows[iy])*fx:][:fx]
-		out := p.fftX.transform(row, buf, 1, true)
-		cy := p.corrY[iy]
-		dst := p.dstR[iy*nx : iy*nx+nx]
-		for ix := h; ix < nx; ix++ {
-			dst[ix] = real(out[ix-h]) * p.corrX[ix] * cy
+	for pr := lo; pr < hi; pr++ {
+		i1, i2 := 2*pr, 2*pr+1
+		g1 := p.grid[int(p.imageRows[i1])*fx:][:fx]
+		g2 := g1
+		if i2 < p.ny {
+			g2 = p.grid[int(p.imageRows[i2])*fx:][:fx]
 		}
-		for ix := 0; ix < h; ix++ {
-			dst[ix] = real(out[fx-h+ix]) * p.corrX[ix] * cy
+		for k := 0; k <= fx/2; k++ {
+			a, b := g1[k], g2[k]
+			z[k] = complex(real(a)-imag(b), imag(a)+real(b))
+		}
+		for k := fx/2 + 1; k < fx; k++ {
+			a, b := g1[fx-k], g2[fx-k] // conjugated below
+			z[k] = complex(real(a)+imag(b), -imag(a)+real(b))
+		}
+		out := p.fftX.transform(z, buf, 1, true)
+		// The factor 1/2 undoes the doubling in Hs = H + conj H(−·).
+		c1 := 0.5 * p.corrY[i1]
+		d1 := p.dstR[i1*nx : i1*nx+nx]
+		for ix := range nx {
+			j := ix - h
+			if j < 0 {
+				j += fx
+			}
+			d1[ix] = real(out[j]) * p.corrX[ix] * c1
+		}
+		if i2 < p.ny {
+			c2 := 0.5 * p.corrY[i2]
+			d2 := p.dstR[i2*nx : i2*nx+nx]
+			for ix := range nx {
+				j := ix - h
+				if j < 0 {
+					j += fx
+				}
+				d2[ix] = imag(out[j]) * p.corrX[ix] * c2
+			}
 		}
 	}
 }
 
 // interp evaluates sorted points [lo, hi) from the transformed grid.
+// The values go to p.sorted in sorted order and are then scattered to
+// dst in a separate tight loop: the scattered stores are independent and
+// overlap their cache misses, which matters once dst outgrows the cache.
 func (p *plan) interp(lo, hi int) {
-	if p.interpUnrolled(lo, hi) {
-		return
+	if !p.interpUnrolled(lo, hi) {
+		for i := lo; i < hi; i++ {
+			p.interpWrap(i)
+		}
 	}
-	for i := lo; i < hi; i++ {
-		p.interpWrap(i)
+	dst, perm := p.dstC, p.perm[lo:hi]
+	for i, v := range p.sorted[lo:hi] {
+		dst[perm[i]] = v
 	}
 }
 
@@ -437,7 +541,7 @@ func (p *plan) interpWrap(i int) {
 		ar += sr * wv
 		ai += si * wv
 	}
-	p.dstC[p.perm[i]] = complex(ar, ai)
+	p.sorted[i] = complex(ar, ai)
 }
 
 // spread adds the points of worker i, times their kernel weights, into
@@ -446,6 +550,11 @@ func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
 	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
+	// Gather the visibilities into sorted order first (see interp).
+	src, perm := p.srcC, p.perm[lo:hi]
+	for j := range perm {
+		p.sorted[lo+j] = src[perm[j]]
+	}
 	if p.spreadUnrolled(band, ylo, lo, hi) {
 		return
 	}
@@ -461,7 +570,7 @@ func (p *plan) spreadWrap(band []complex128, ylo, k int) {
 	wt := p.wts[2*w*k : 2*w*k+2*w]
 	wx, wy := wt[:w], wt[w:]
 	x0, y0 := int(p.x0[k]), int(p.y0[k])-ylo
-	vis := p.srcC[p.perm[k]]
+	vis := p.sorted[k]
 	vr, vi := real(vis), imag(vis)
 	for dy, wv := range wy {
 		cr, ci := vr*wv, vi*wv
@@ -480,7 +589,7 @@ func (p *plan) spreadWrap(band []complex128, ylo, k int) {
 func (p *plan) memBytes() (grid, perPoint, total int) {
 	const c, f, i32 = 16, 8, 4
 	grid = c * len(p.grid)
-	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts)
+	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + c*len(p.sorted)
 	total = grid + perPoint + c*len(p.band) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows))
 	for _, s := range p.scratch {
