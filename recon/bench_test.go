@@ -100,7 +100,7 @@ func BenchmarkImageNight(b *testing.B) {
 	var ms runtime.MemStats
 	runtime.ReadMemStats(&ms)
 	b.ReportMetric(float64(ms.HeapSys)/1e6, "heap-MB")
-	b.Logf("χ²ᵣ %.3f at weight %.3g, %d weight steps, final run %d iterations (%s)", res.Chi2r, res.Weight, len(res.Path), res.Iter, res.Status)
+	b.Logf("χ²ᵣ %.3f at weight %.3g, %d weight steps, final run %d iterations (%s)", res.Chi2r, res.Weight, len(res.Path), res.Iter, res.StopReason)
 	for _, st := range res.Path {
 		b.Logf("  weight %.4g: χ²ᵣ %.4f, R %.4g, %d iterations", st.Weight, st.Chi2r, st.Reg, st.Iter)
 	}

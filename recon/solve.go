@@ -126,8 +126,11 @@ type Result struct {
 
 	Iter, Evals int          // of the final run
 	TotalIter   int          // of all runs
-	Status      optim.Status // of the final run
-	Path        []WeightStep // the automatic weight search, empty for a given weight
+	Status      optim.Status // of the final run, as optim reports it
+	// StopReason says in words why the final run stopped: the relative-change test of
+	// Settings.FTol (which optim reports as CallbackStop), or optim's Status.
+	StopReason string
+	Path       []WeightStep // the automatic weight search, empty for a given weight
 	// StartObjectives holds the final objective of every start when Starts > 1, the kept one
 	// first; their spread says how much the start matters.
 	StartObjectives []float64
@@ -433,6 +436,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	}
 	starts = max(starts, 1)
 	var best optim.Result
+	bestConv := false
 	for k := 0; k < starts; k++ {
 		xs := x0
 		stage := "final"
@@ -460,7 +464,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 			res.StartObjectives = append(res.StartObjectives, r.F)
 		}
 		if k == 0 || r.F < best.F {
-			best = r
+			best, bestConv = r, e.converged
 		}
 	}
 	if starts > 1 {
@@ -490,6 +494,14 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	}
 	res.Weight = mu
 	res.Iter, res.Evals, res.Status = best.Iter, best.Evals, best.Status
+	res.StopReason = best.Status.String()
+	if bestConv {
+		ftol := s.FTol
+		if ftol == 0 {
+			ftol = DefaultFTol
+		}
+		res.StopReason = fmt.Sprintf("converged: relative objective change below %g per iteration over %d iterations", ftol, ftolWindow)
+	}
 	res.TotalIter += e.total
 	if !p.Unnormalized {
 		f := 0.0

@@ -85,6 +85,9 @@ func TestSolveUniformDisc(t *testing.T) {
 	if math.Abs(f-1) > 1e-12 {
 		t.Errorf("image flux %g, want 1", f)
 	}
+	if !strings.HasPrefix(r.StopReason, "converged") {
+		t.Errorf("stop reason %q", r.StopReason)
+	}
 	if len(r.Path) == 0 || r.Weight <= 0 || len(r.Chi2) != 2 || r.Chi2[0].Type != Vis2 || r.Chi2[1].Type != T3Phi {
 		t.Errorf("result: path %v weight %g chi2 %+v", r.Path, r.Weight, r.Chi2)
 	}
@@ -271,7 +274,7 @@ func TestSolveConvex(t *testing.T) {
 		den += w * w
 	}
 	rel := math.Sqrt(num / den)
-	t.Logf("relative difference from the normal equations %.2g after %d iterations (%s)", rel, r.Iter, r.Status)
+	t.Logf("relative difference from the normal equations %.2g after %d iterations (%s)", rel, r.Iter, r.StopReason)
 	if rel > 1e-6 {
 		t.Errorf("relative difference from the normal-equations solution %.3g > 1e-6", rel)
 	}
