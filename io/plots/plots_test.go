@@ -421,3 +421,24 @@ func BenchmarkV2(b *testing.B) {
 		_ = f.Image()
 	}
 }
+
+func TestConcurrentImage(t *testing.T) {
+	// A Figure may be rendered from several goroutines (run with -race).
+	u, v, lam := uvTest()
+	f, err := UVCoverage(UV{U: u, V: v, Wavelength: lam}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := f.Image().(*image.RGBA)
+	done := make(chan bool, 3)
+	for range 3 {
+		go func() {
+			done <- bytes.Equal(f.Image().(*image.RGBA).Pix, want.Pix)
+		}()
+	}
+	for range 3 {
+		if !<-done {
+			t.Error("concurrent rendering gave a different image")
+		}
+	}
+}

@@ -237,24 +237,30 @@ func render(f Frame, opt *Options, sc *colorScale, fc *faces, s int, subtitle st
 }
 
 // paint fills area with the image resampled to it, row 0 of the image at
-// the bottom of area and column 0 at its left.
+// the bottom of area and column 0 at its left. The source position of each
+// display column is computed once per call.
 func paint(dst *image.RGBA, area image.Rectangle, f Frame, sc *colorScale, interp Interp) {
 	w, h := area.Dx(), area.Dy()
 	nx, ny := f.NX, f.NY
+	// fx[X] is the fractional image column at the centre of display column
+	// X; for rows, fy counts from the bottom of the image.
+	fx := make([]float64, w)
+	for X := range fx {
+		fx[X] = (float64(X)+0.5)*float64(nx)/float64(w) - 0.5
+	}
 	for Y := 0; Y < h; Y++ {
 		row := dst.Pix[dst.PixOffset(area.Min.X, area.Min.Y+Y):]
 		// sy is the position in image rows counted from the top of the
 		// display; the image row index is ny−1−sy.
 		sy := (float64(Y)+0.5)*float64(ny)/float64(h) - 0.5
+		iy := ny - 1 - min(max(int(math.Floor(sy+0.5)), 0), ny-1)
+		line := f.Data[iy*nx : iy*nx+nx]
 		for X := 0; X < w; X++ {
-			sx := (float64(X)+0.5)*float64(nx)/float64(w) - 0.5
 			var v float64
 			if interp == Bilinear {
-				v = bilinear(f.Data, nx, ny, sx, float64(ny-1)-sy)
+				v = bilinear(f.Data, nx, ny, fx[X], float64(ny-1)-sy)
 			} else {
-				ix := min(max(int(math.Floor(sx+0.5)), 0), nx-1)
-				iy := ny - 1 - min(max(int(math.Floor(sy+0.5)), 0), ny-1)
-				v = f.Data[iy*nx+ix]
+				v = line[min(max(int(math.Floor(fx[X]+0.5)), 0), nx-1)]
 			}
 			c := sc.color(v)
 			row[4*X], row[4*X+1], row[4*X+2], row[4*X+3] = c.R, c.G, c.B, 255

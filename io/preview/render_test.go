@@ -2,6 +2,7 @@ package preview
 
 import (
 	"bytes"
+	"errors"
 	"image"
 	"image/color"
 	"image/gif"
@@ -532,6 +533,31 @@ func BenchmarkEncode256(b *testing.B) {
 		buf.Reset()
 		if err := Encode(&buf, img, 256, 256, Options{Title: "bench", Pixel: 0.05}); err != nil {
 			b.Fatal(err)
+		}
+	}
+}
+
+func TestConcurrentRenders(t *testing.T) {
+	// Render shares only the parsed fonts; concurrent calls must give the
+	// same picture as a lone call (run with -race to check for data races).
+	img := testImage(32)
+	want, err := Render(img, 32, 32, Options{Title: "same", Pixel: 0.25, Beam: Beam{Major: 1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	errs := make(chan error, 4)
+	for range 4 {
+		go func() {
+			got, err := Render(img, 32, 32, Options{Title: "same", Pixel: 0.25, Beam: Beam{Major: 1}})
+			if err == nil && !bytes.Equal(got.Pix, want.Pix) {
+				err = errors.New("concurrent render differs")
+			}
+			errs <- err
+		}()
+	}
+	for range 4 {
+		if err := <-errs; err != nil {
+			t.Error(err)
 		}
 	}
 }

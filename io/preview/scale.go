@@ -7,9 +7,11 @@ import (
 	"strconv"
 )
 
-// lutSize is the number of colours precomputed per colour scale. With 4096
-// levels the quantisation is finer than the 8-bit output.
-const lutSize = 4096
+// lutSize is the number of colours precomputed per colour scale, indexed
+// by the normalised value before the stretch. With 16384 levels even the
+// steepest stretch (asinh, slope 3.3 at zero) moves by less than one
+// 8-bit step between entries.
+const lutSize = 16384
 
 // nanColor is drawn for pixels whose value is NaN.
 var nanColor = color.RGBA{R: 128, G: 128, B: 128, A: 255}
@@ -20,7 +22,8 @@ type colorScale struct {
 	lo, hi  float64
 	stretch Stretch
 	cmap    Colormap
-	lut     []color.RGBA
+	lut     []color.RGBA // colours by normalised value, stretch applied
+	inv     float64      // 1/(hi − lo)
 }
 
 // newScale builds the colour scale of opt over the data of all frames: the
@@ -58,9 +61,9 @@ func newScale(opt *Options, frames []Frame) (*colorScale, error) {
 	if cm == nil {
 		cm = DefaultCubehelix()
 	}
-	s := &colorScale{lo: lo, hi: hi, stretch: opt.Stretch, cmap: cm, lut: make([]color.RGBA, lutSize)}
+	s := &colorScale{lo: lo, hi: hi, stretch: opt.Stretch, cmap: cm, lut: make([]color.RGBA, lutSize), inv: 1 / (hi - lo)}
 	for i := range s.lut {
-		c := cm.At(float64(i) / (lutSize - 1))
+		c := cm.At(s.stretch.Apply(float64(i) / (lutSize - 1)))
 		s.lut[i] = color.RGBA{R: c.R, G: c.G, B: c.B, A: 255}
 	}
 	return s, nil
@@ -76,12 +79,13 @@ func (s *colorScale) color(v float64) color.RGBA {
 	if math.IsNaN(v) {
 		return nanColor
 	}
-	return s.lut[int(s.fraction(v)*(lutSize-1)+0.5)]
+	return s.lut[int(clamp01((v-s.lo)*s.inv)*(lutSize-1)+0.5)]
 }
 
-// colorAt returns the colour at display fraction f.
+// colorAt returns the colour at display fraction f (after the stretch).
 func (s *colorScale) colorAt(f float64) color.RGBA {
-	return s.lut[int(clamp01(f)*(lutSize-1)+0.5)]
+	c := s.cmap.At(f)
+	return color.RGBA{R: c.R, G: c.G, B: c.B, A: 255}
 }
 
 // tick is one labelled value of the colour bar at display fraction pos.
