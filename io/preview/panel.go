@@ -334,3 +334,30 @@ func FormatMJD(mjd float64) string {
 	t := epoch.AddDate(0, 0, int(days)).Add(time.Duration((mjd - days) * 86400 * float64(time.Second)))
 	return t.Format("2006-01-02")
 }
+
+// FormatMJDRange returns the dates of an MJD interval as "YYYY-MM-DD" when
+// both ends fall on the same UTC day and "YYYY-MM-DD to YYYY-MM-DD"
+// otherwise.
+func FormatMJDRange(lo, hi float64) string {
+	a, b := FormatMJD(lo), FormatMJD(hi)
+	if a == b {
+		return a
+	}
+	return a + " to " + b
+}
+
+// TitleLine joins the non-empty parts (e.g. target, date range,
+// regularizer) with a spaced middle dot into one title line.
+func TitleLine(parts ...string) string {
+	var s string
+	for _, p := range parts {
+		if p == "" {
+			continue
+		}
+		if s != "" {
+			s += "  ·  "
+		}
+		s += p
+	}
+	return s
+}

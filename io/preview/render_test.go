@@ -561,3 +561,33 @@ func TestConcurrentRenders(t *testing.T) {
 		}
 	}
 }
+
+func TestStretchTicks(t *testing.T) {
+	// Non-linear bars: labels rounded to one or two significant digits,
+	// in increasing order, with a lower end that is zero but for rounding
+	// (1e-300 from an underflowing exponential) labelled "0".
+	for _, st := range []Stretch{Sqrt, Asinh, Log} {
+		sc := &colorScale{lo: 1e-300, hi: 1.53, stretch: st}
+		ts, exp := sc.ticks(0.04)
+		if exp != 0 || len(ts) < 4 {
+			t.Fatalf("%v: %d ticks, exponent %d", st, len(ts), exp)
+		}
+		if ts[0].label != "0" || ts[len(ts)-1].label != "1.5" {
+			t.Errorf("%v: ends labelled %q and %q, want 0 and 1.5", st, ts[0].label, ts[len(ts)-1].label)
+		}
+		for i := 1; i < len(ts); i++ {
+			if ts[i].pos <= ts[i-1].pos {
+				t.Errorf("%v: ticks out of order: %v", st, ts)
+			}
+		}
+	}
+}
+
+func TestTitleLine(t *testing.T) {
+	if got := TitleLine("Star", "", FormatMJDRange(51544.5, 51546.2), "total variation"); got != "Star  ·  2000-01-01 to 2000-01-03  ·  total variation" {
+		t.Errorf("TitleLine = %q", got)
+	}
+	if got := FormatMJDRange(51544.1, 51544.9); got != "2000-01-01" {
+		t.Errorf("FormatMJDRange of one day = %q", got)
+	}
+}

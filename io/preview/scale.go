@@ -99,19 +99,29 @@ type tick struct {
 // by (0 when they are printed as they are).
 func (s *colorScale) ticks(minGap float64) ([]tick, int) {
 	var vals []float64
+	sig := 0 // significant digits of non-linear labels; 0 = linear labels
 	if s.stretch == Linear {
 		vals = niceTicks(s.lo, s.hi, 6)
 	} else {
 		// Non-linear stretches: ticks evenly spaced in display fraction,
-		// each rounded to two significant digits of the range.
-		step := niceStep((s.hi - s.lo) / 50)
-		for i := 0; i <= 5; i++ {
-			v := s.lo + s.stretch.Invert(float64(i)/5)*(s.hi-s.lo)
-			v = math.Round(v/step) * step
-			if v >= s.lo-1e-9*(s.hi-s.lo) && v <= s.hi+1e-9*(s.hi-s.lo) {
-				vals = append(vals, v)
+		// each rounded to one significant digit, plus both ends.
+		sig = 2
+		vals = append(vals, roundSig(s.lo, 2, math.Round))
+		for i := 1; i < 5; i++ {
+			vals = append(vals, roundSig(s.lo+s.stretch.Invert(float64(i)/5)*(s.hi-s.lo), 1, math.Round))
+		}
+		vals = append(vals, roundSig(s.hi, 2, math.Floor))
+		k := 0
+		for _, v := range vals {
+			if math.Abs(v) < 1e-6*(s.hi-s.lo) {
+				v = 0 // an end that is zero but for rounding
+			}
+			if v >= s.lo-1e-6*(s.hi-s.lo) && v <= s.hi {
+				vals[k] = v
+				k++
 			}
 		}
+		vals = vals[:k]
 	}
 	exp := 0
 	m := math.Max(math.Abs(s.lo), math.Abs(s.hi))
@@ -129,7 +139,11 @@ func (s *colorScale) ticks(minGap float64) ([]tick, int) {
 			continue
 		}
 		last = p
-		out = append(out, tick{pos: p, label: formatTick(v/div, (s.hi-s.lo)/div)})
+		lab := formatTick(v/div, (s.hi-s.lo)/div)
+		if sig > 0 {
+			lab = strconv.FormatFloat(v/div, 'g', sig, 64)
+		}
+		out = append(out, tick{pos: p, label: lab})
 	}
 	return out, exp
 }
@@ -203,4 +217,14 @@ func niceLength(x float64) float64 {
 		return 2 * p
 	}
 	return p
+}
+
+// roundSig rounds v to n significant digits with the rounding function
+// round (math.Round, math.Floor).
+func roundSig(v float64, n int, round func(float64) float64) float64 {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	p := math.Pow(10, math.Floor(math.Log10(math.Abs(v)))-float64(n-1))
+	return round(v/p) * p
 }
