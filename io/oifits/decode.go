@@ -177,12 +177,14 @@ func (d *decoder) open(h *fitsfile.HDU, revn ...int) (*table, error) {
 			return nil, t.errf(0, "", "TTYPE%d is missing; every OIFITS column must be named", c.Index)
 		}
 		if c.Dim != nil {
+			// The product is formed with a bound so huge axes cannot overflow.
 			p := 1
 			for _, n := range c.Dim {
-				p *= n
-				if p > c.Repeat {
+				if n != 0 && p > c.Repeat/n {
+					p = c.Repeat + 1
 					break
 				}
+				p *= n
 			}
 			if p != c.Repeat {
 				return nil, t.errf(0, c.Name, "TDIM%d of %s does not hold the %d elements of TFORM%d = '%s'", c.Index, c.Name, c.Repeat, c.Index, c.Format)

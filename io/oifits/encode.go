@@ -31,9 +31,14 @@ func WriteFile(path string, f *File) error {
 // INSNAME and TARGET, or are 'MULTI' when there are several; PROCSOFT is
 // 'vcz'; ORIGIN, OBSERVER, INSMODE, REFERENC, PROG_ID and OBSTECH are
 // 'UNKNOWN'. An empty DATE-OBS of a data table is derived from the
-// earliest MJD of its rows.
+// earliest MJD of its rows. ARRNAME, optional in v1 but mandatory in v2,
+// is filled with the name of the only OI_ARRAY when a data table leaves it
+// empty; with no or several OI_ARRAY tables that is an error.
 func Encode(w io.Writer, f *File) error {
 	if err := validate(f); err != nil {
+		return err
+	}
+	if err := checkArrNames(f); err != nil {
 		return err
 	}
 	e := &encoder{fw: fitsfile.NewWriter(w), f: f}
@@ -41,6 +46,41 @@ func Encode(w io.Writer, f *File) error {
 		return fmt.Errorf("oifits: writing %s: %w", f.Name, err)
 	}
 	return nil
+}
+
+// checkArrNames reports an error when a data table has no ARRNAME and
+// the file has no single OI_ARRAY to take it from.
+func checkArrNames(f *File) error {
+	if len(f.Arrays) == 1 {
+		return nil
+	}
+	fail := func(ext string, i int) error {
+		return &Error{File: f.Name, ExtName: ext, Err: fmt.Errorf("table %d has no ARRNAME, which OIFITS 2 requires, and the file has %d OI_ARRAY tables to take it from", i+1, len(f.Arrays))}
+	}
+	for i, t := range f.Vis2 {
+		if t.ArrName == "" {
+			return fail(extVis2, i)
+		}
+	}
+	for i, t := range f.T3 {
+		if t.ArrName == "" {
+			return fail(extT3, i)
+		}
+	}
+	for i, t := range f.Vis {
+		if t.ArrName == "" {
+			return fail(extVis, i)
+		}
+	}
+	return nil
+}
+
+// arrName returns the ARRNAME to write for a data table.
+func (e *encoder) arrName(given string) string {
+	if given == "" && len(e.f.Arrays) == 1 {
+		return e.f.Arrays[0].Name
+	}
+	return given
 }
 
 type encoder struct {
@@ -353,7 +393,7 @@ func (e *encoder) writeVis2(t *Vis2) error {
 		fitsfile.ColumnSpec{Name: "STA_INDEX", Type: 'I', Repeat: 2, Data: c.sta},
 		fitsfile.ColumnSpec{Name: "FLAG", Type: 'L', Repeat: nw, Data: c.flag},
 	)
-	return e.table(extVis2, n, cols, dataCards(2, e.vis2Date(t), t.ArrName, t.InsName, t.CorrName))
+	return e.table(extVis2, n, cols, dataCards(2, e.vis2Date(t), e.arrName(t.ArrName), t.InsName, t.CorrName))
 }
 
 func (e *encoder) t3Date(t *T3) string {
@@ -389,7 +429,7 @@ func (e *encoder) writeT3(t *T3) error {
 		fitsfile.ColumnSpec{Name: "STA_INDEX", Type: 'I', Repeat: 3, Data: c.sta},
 		fitsfile.ColumnSpec{Name: "FLAG", Type: 'L', Repeat: nw, Data: nonNilBool(c.flag)},
 	)
-	return e.table(extT3, n, cols, dataCards(2, e.t3Date(t), t.ArrName, t.InsName, t.CorrName))
+	return e.table(extT3, n, cols, dataCards(2, e.t3Date(t), e.arrName(t.ArrName), t.InsName, t.CorrName))
 }
 
 func (e *encoder) visDate(t *Vis) string {
@@ -411,7 +451,7 @@ func (e *encoder) writeVis(t *Vis) error {
 		phi, phiErr = append(phi, r.Phi...), append(phiErr, r.PhiErr...)
 		c.flag = append(c.flag, r.Flag...)
 	}
-	cards := dataCards(2, e.visDate(t), t.ArrName, t.InsName, t.CorrName)
+	cards := dataCards(2, e.visDate(t), e.arrName(t.ArrName), t.InsName, t.CorrName)
 	if t.AmpTyp != "" {
 		cards = append(cards, str("AMPTYP", t.AmpTyp, "type of VISAMP"))
 	}
