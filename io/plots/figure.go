@@ -10,6 +10,7 @@ import (
 	"strconv"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -109,6 +110,11 @@ func newPlot(title, xlabel, ylabel string) *plot.Plot {
 		a.Tick.Label.Font.Size = 11
 	}
 	p.Legend.TextStyle.Font.Size = 11
+	// Sans-serif text, from the Liberation fonts gonum/plot ships.
+	for _, f := range []*font.Font{&p.Title.TextStyle.Font, &p.X.Label.TextStyle.Font, &p.Y.Label.TextStyle.Font,
+		&p.X.Tick.Label.Font, &p.Y.Tick.Label.Font, &p.Legend.TextStyle.Font} {
+		f.Variant = "Sans"
+	}
 	p.Legend.Top = true
 	p.Legend.Padding = 2
 	p.X.Tick.Marker = cleanTicks{}

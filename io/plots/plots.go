@@ -575,6 +575,7 @@ func LCurve(paths []LPath, opt Options) (*Figure, error) {
 				return nil, fmt.Errorf("plots: L-curve: %w", err)
 			}
 			lab.TextStyle[0].Font.Size = 11
+			lab.TextStyle[0].Font.Variant = "Sans"
 			lab.Offset = vg.Point{X: vg.Points(4), Y: vg.Points(3)}
 			p.Add(m, lab)
 		}
