@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 
 	"vcz/regularizers"
@@ -84,6 +85,10 @@ func TestSolveUniformDisc(t *testing.T) {
 	}
 	if math.Abs(f-1) > 1e-12 {
 		t.Errorf("image flux %g, want 1", f)
+	}
+	// Three starts by default on a 32² grid, the kept (lowest) objective first.
+	if len(r.StartObjectives) != 3 || r.StartObjectives[0] > r.StartObjectives[1] || r.StartObjectives[0] > r.StartObjectives[2] {
+		t.Errorf("start objectives %v", r.StartObjectives)
 	}
 	if !strings.HasPrefix(r.StopReason, "converged") {
 		t.Errorf("stop reason %q", r.StopReason)
@@ -296,5 +301,38 @@ func TestSolveErrors(t *testing.T) {
 	_, err = Solve(Problem{Data: d, Grid: Grid{N: 32, Pixel: 0.5 * Mas}}, Settings{Progress: func(Progress) bool { return false }})
 	if !errors.Is(err, ErrStopped) {
 		t.Errorf("error %v, want ErrStopped", err)
+	}
+}
+
+// TestTotalObjectiveGradient checks the gradient of the whole objective of Solve — data terms
+// and regularizer on the normalised image plus the flux term — against central finite
+// differences (gonum diff/fd) at random images.
+func TestTotalObjectiveGradient(t *testing.T) {
+	const n, pixel = 8, 1e-9
+	rng := rand.New(rand.NewPCG(8, 8))
+	d := randomData(rng, 0.25/pixel)
+	d.Targets = []string{"T"}
+	for _, tc := range []struct {
+		name string
+		reg  RegularizerFunc
+		norm bool
+	}{{"maxent", maxentReg, true}, {"tv", tvReg, true}, {"tv unnormalised", tvReg, false}, {"none", nil, true}} {
+		p := Problem{Data: d, Reg: tc.reg, Unnormalized: !tc.norm, Transform: exactTransform}
+		e, err := newEngine(p, Settings{}, GridChoice{Grid: Grid{N: n, Pixel: pixel}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		x := make([]float64, n*n)
+		for i := range x {
+			x[i] = (0.2 + rng.Float64()) / float64(n*n) * 1.3
+		}
+		f := e.f(37)
+		g := make([]float64, n*n)
+		f(g, x)
+		want := make([]float64, n*n)
+		fd.Gradient(want, func(x []float64) float64 { return f(nil, x) }, x, &fd.Settings{Formula: fd.Central, Step: 1e-8})
+		if err := relErr(g, want); err > 1e-6 {
+			t.Errorf("%s: gradient relative error %.3g", tc.name, err)
+		}
 	}
 }
