@@ -25,8 +25,11 @@ const (
 
 var typeNames = [...]string{"vis2", "t3amp", "t3phi", "visamp", "visphi"}
 
-// Types lists the single data types in a fixed order (the order of the χ² report).
-var Types = [...]DataType{Vis2, T3Amp, T3Phi, VisAmp, VisPhi}
+// typeList lists the single data types in a fixed order (the order of the χ² report).
+var typeList = [...]DataType{Vis2, T3Amp, T3Phi, VisAmp, VisPhi}
+
+// DataTypes returns the single data types in the order of the χ² report and of Weights.
+func DataTypes() [len(typeList)]DataType { return typeList }
 
 // String returns the lower-case names of the set bits joined by "+", e.g. "vis2+t3phi".
 func (t DataType) String() string {
@@ -45,10 +48,10 @@ func (t DataType) String() string {
 	return s
 }
 
-// index returns the position of a single data type in Types.
+// index returns the position of a single data type in DataTypes().
 func (t DataType) index() int {
-	for i := range Types {
-		if Types[i] == t {
+	for i := range typeList {
+		if typeList[i] == t {
 			return i
 		}
 	}
@@ -186,7 +189,7 @@ func (d *Data) Len(types DataType) int {
 // Available returns the data types that have at least one usable measurement.
 func (d *Data) Available() DataType {
 	var t DataType
-	for _, ty := range Types {
+	for _, ty := range typeList {
 		if d.Len(ty) > 0 {
 			t |= ty
 		}

@@ -117,7 +117,7 @@ type Result struct {
 	Image []float64 // N² pixels, normalised to a total flux of 1 (unless Unnormalized)
 	Grid  GridChoice
 
-	Chi2      []TermChi2 // per used data type, in the order of Types
+	Chi2      []TermChi2 // per used data type, in the order of DataTypes()
 	Chi2r     float64    // Σχ²/ΣN over the used types
 	Reg       float64    // R(x) of the final image (0 without regularizer)
 	Weight    float64    // μ used in the final run
@@ -481,7 +481,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	if !finite(res.Objective) {
 		return nil, fmt.Errorf("recon: final objective is %g: %s", res.Objective, e.obj.Problem())
 	}
-	for i, t := range Types {
+	for i, t := range typeList {
 		if use&t != 0 {
 			tc := TermChi2{Type: t, N: e.obj.N(t), Weight: e.obj.w[i], Chi2: e.obj.Chi2(t), Chi2r: e.obj.Chi2r(t)}
 			res.Chi2 = append(res.Chi2, tc)

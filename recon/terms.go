@@ -5,9 +5,9 @@ import (
 	"math"
 )
 
-// Weights are the weights of the χ² terms, indexed like Types (Vis2, T3Amp, T3Phi, VisAmp,
+// Weights are the weights of the χ² terms, indexed like DataTypes() (Vis2, T3Amp, T3Phi, VisAmp,
 // VisPhi). A zero weight means 1; to leave a data type out, leave it out of the used set.
-type Weights [len(Types)]float64
+type Weights [len(typeList)]float64
 
 // TermOptions configure the data terms.
 type TermOptions struct {
@@ -36,13 +36,13 @@ type TermOptions struct {
 type Objective struct {
 	m *Model
 	d *Data
-	w [len(Types)]float64
+	w [len(typeList)]float64
 	// Index lists of the data that enter each term, built once.
 	t3a, t3p, va, vc, vp, vx []int32
 	e3, ev                   []complex128 // exp(−i φₒ) of t3p and of the vis phase data
 	use, avail               DataType
-	chi2                     [len(Types)]float64
-	n                        [len(Types)]int
+	chi2                     [len(typeList)]float64
+	n                        [len(typeList)]int
 	scale                    float64
 	notices                  []string
 	bad                      string // first non-finite result of the last evaluation
@@ -109,7 +109,7 @@ func NewObjective(d *Data, m *Model, opt TermOptions) *Objective {
 	o.n[T3Phi.index()] = len(o.t3p)
 	o.n[VisAmp.index()] = len(o.va) + len(o.vc) + len(o.vx)
 	o.n[VisPhi.index()] = len(o.vp) + len(o.vx)
-	for i, t := range Types {
+	for i, t := range typeList {
 		if o.n[i] > 0 {
 			o.avail |= t
 		}
@@ -159,7 +159,7 @@ func (o *Objective) Chi2r(t DataType) float64 {
 // TotalChi2r returns Σχ²/ΣN over the used types (unweighted), NaN without data.
 func (o *Objective) TotalChi2r() float64 {
 	s, n := 0.0, 0
-	for i, t := range Types {
+	for i, t := range typeList {
 		if o.use&t != 0 {
 			s += o.chi2[i]
 			n += o.n[i]
@@ -193,7 +193,7 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 		}
 		return math.NaN()
 	}
-	o.chi2 = [len(Types)]float64{}
+	o.chi2 = [len(typeList)]float64{}
 	d := o.d
 	if o.use&Vis2 != 0 {
 		w := o.w[Vis2.index()]
@@ -341,13 +341,13 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 		}
 	}
 	total := 0.0
-	for i, t := range Types {
+	for i, t := range typeList {
 		if o.use&t != 0 {
 			total += o.w[i] * o.chi2[i]
 		}
 	}
 	if math.IsNaN(total) || math.IsInf(total, 0) {
-		for i, t := range Types {
+		for i, t := range typeList {
 			if o.use&t != 0 && (math.IsNaN(o.chi2[i]) || math.IsInf(o.chi2[i], 0)) {
 				o.bad = fmt.Sprintf("χ² of %s is %g", t, o.chi2[i])
 				break

@@ -265,7 +265,7 @@ func TestChi2Values(t *testing.T) {
 			want[4] += 2 * (1 - math.Cos(d.Vis.Phi[i])) / (d.Vis.PhiErr[i] * d.Vis.PhiErr[i])
 		}
 	}
-	for i, ty := range Types {
+	for i, ty := range typeList {
 		if got := o.Chi2(ty); math.Abs(got-want[i]) > 1e-9*want[i] {
 			t.Errorf("χ² %s = %.12g, want %.12g", ty, got, want[i])
 		}
