@@ -24,18 +24,20 @@ func main() {
 	b.WriteString("// interpUnrolled runs interpolation for sorted points [lo, hi) with\n// the loop unrolled for p.w; it reports false if p.w has no unrolled form.\n")
 	b.WriteString("func (p *plan) interpUnrolled(lo, hi int) bool {\n\tswitch p.w {\n")
 	for w := minW; w <= maxW; w++ {
-		fmt.Fprintf(&b, "\tcase %d:\n\t\tp.interp%d(lo, hi)\n", w, w)
+		fmt.Fprintf(&b, "\tcase %d:\n\t\tif p.wts32 != nil {\n\t\t\tp.interp%df32(lo, hi)\n\t\t} else {\n\t\t\tp.interp%d(lo, hi)\n\t\t}\n", w, w, w)
 	}
 	b.WriteString("\tdefault:\n\t\treturn false\n\t}\n\treturn true\n}\n\n")
 	b.WriteString("// spreadUnrolled is the unrolled form of the spreading loop of worker i\n// over sorted points [lo, hi) into band, whose first row is fine row ylo.\n")
 	b.WriteString("func (p *plan) spreadUnrolled(band []complex128, ylo, lo, hi int) bool {\n\tswitch p.w {\n")
 	for w := minW; w <= maxW; w++ {
-		fmt.Fprintf(&b, "\tcase %d:\n\t\tp.spread%d(band, ylo, lo, hi)\n", w, w)
+		fmt.Fprintf(&b, "\tcase %d:\n\t\tif p.wts32 != nil {\n\t\t\tp.spread%df32(band, ylo, lo, hi)\n\t\t} else {\n\t\t\tp.spread%d(band, ylo, lo, hi)\n\t\t}\n", w, w, w)
 	}
 	b.WriteString("\tdefault:\n\t\treturn false\n\t}\n\treturn true\n}\n\n")
 	for w := minW; w <= maxW; w++ {
-		genInterp(&b, w)
-		genSpread(&b, w)
+		genInterp(&b, w, "", "wts", "float64")
+		genSpread(&b, w, "", "wts", "float64")
+		genInterp(&b, w, "f32", "wts32", "float32")
+		genSpread(&b, w, "f32", "wts32", "float32")
 	}
 	src, err := format.Source(b.Bytes())
 	if err != nil {
@@ -57,43 +59,51 @@ func tree(t []string) string {
 	return "(" + tree(t[:h]) + " + " + tree(t[h:]) + ")"
 }
 
-func genInterp(b *bytes.Buffer, w int) {
-	fmt.Fprintf(b, "func (p *plan) interp%d(lo, hi int) {\n", w)
+func genInterp(b *bytes.Buffer, w int, sfx, ws, ft string) {
+	fmt.Fprintf(b, "func (p *plan) interp%d%s(lo, hi int) {\n", w, sfx)
 	fmt.Fprintf(b, "\tfx, fy := p.fx, p.fy\n\tgrid := p.grid\n")
 	fmt.Fprintf(b, "\tfor i := lo; i < hi; i++ {\n")
 	fmt.Fprintf(b, "\t\tx0, y0 := int(p.x0[i]), int(p.y0[i])\n")
 	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.interpWrap(i)\n\t\t\tcontinue\n\t\t}\n", w)
-	fmt.Fprintf(b, "\t\twt := (*[%d]float64)(p.wts[%d*i:])\n", 2*w, 2*w)
+	fmt.Fprintf(b, "\t\twt := (*[%d]%s)(p.%s[%d*i:])\n", 2*w, ft, ws, 2*w)
 	fmt.Fprintf(b, "\t\tvar ar, ai float64\n")
 	fmt.Fprintf(b, "\t\tfor dy := range %d {\n", w)
 	fmt.Fprintf(b, "\t\t\tr := y0 + dy\n\t\t\tif r >= fy {\n\t\t\t\tr -= fy\n\t\t\t}\n")
 	fmt.Fprintf(b, "\t\t\tg := (*[%d]complex128)(grid[r*fx+x0:])\n", w)
 	var re, im []string
 	for d := range w {
-		re = append(re, fmt.Sprintf("real(g[%d])*wt[%d]", d, d))
-		im = append(im, fmt.Sprintf("imag(g[%d])*wt[%d]", d, d))
+		re = append(re, fmt.Sprintf("real(g[%d])*%s", d, cv(ft, fmt.Sprintf("wt[%d]", d))))
+		im = append(im, fmt.Sprintf("imag(g[%d])*%s", d, cv(ft, fmt.Sprintf("wt[%d]", d))))
 	}
-	fmt.Fprintf(b, "\t\t\twy := wt[%d+dy]\n", w)
+	fmt.Fprintf(b, "\t\t\twy := %s\n", cv(ft, fmt.Sprintf("wt[%d+dy]", w)))
 	fmt.Fprintf(b, "\t\t\tar += %s * wy\n", tree(re))
 	fmt.Fprintf(b, "\t\t\tai += %s * wy\n", tree(im))
 	fmt.Fprintf(b, "\t\t}\n\t\tp.sorted[i] = complex(ar, ai)\n\t}\n}\n\n")
 }
 
-func genSpread(b *bytes.Buffer, w int) {
-	fmt.Fprintf(b, "func (p *plan) spread%d(band []complex128, ylo, lo, hi int) {\n", w)
+func genSpread(b *bytes.Buffer, w int, sfx, ws, ft string) {
+	fmt.Fprintf(b, "func (p *plan) spread%d%s(band []complex128, ylo, lo, hi int) {\n", w, sfx)
 	fmt.Fprintf(b, "\tfx := p.fx\n")
 	fmt.Fprintf(b, "\tfor i := lo; i < hi; i++ {\n")
 	fmt.Fprintf(b, "\t\tx0, y0 := int(p.x0[i]), int(p.y0[i])-ylo\n")
 	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.spreadWrap(band, ylo, i)\n\t\t\tcontinue\n\t\t}\n", w)
-	fmt.Fprintf(b, "\t\twt := (*[%d]float64)(p.wts[%d*i:])\n", 2*w, 2*w)
+	fmt.Fprintf(b, "\t\twt := (*[%d]%s)(p.%s[%d*i:])\n", 2*w, ft, ws, 2*w)
 	fmt.Fprintf(b, "\t\tvis := p.sorted[i]\n\t\tvr, vi := real(vis), imag(vis)\n")
 	fmt.Fprintf(b, "\t\tfor dy := range %d {\n", w)
-	fmt.Fprintf(b, "\t\t\tcr, ci := vr*wt[%d+dy], vi*wt[%d+dy]\n", w, w)
+	fmt.Fprintf(b, "\t\t\twy := %s\n\t\t\tcr, ci := vr*wy, vi*wy\n", cv(ft, fmt.Sprintf("wt[%d+dy]", w)))
 	fmt.Fprintf(b, "\t\t\tg := (*[%d]complex128)(band[(y0+dy)*fx+x0:])\n", w)
 	var lines []string
 	for d := range w {
-		lines = append(lines, fmt.Sprintf("\t\t\tg[%d] += complex(cr*wt[%d], ci*wt[%d])", d, d, d))
+		lines = append(lines, fmt.Sprintf("\t\t\twx%d := %s\n\t\t\tg[%d] += complex(cr*wx%d, ci*wx%d)", d, cv(ft, fmt.Sprintf("wt[%d]", d)), d, d, d))
 	}
 	b.WriteString(strings.Join(lines, "\n"))
 	fmt.Fprintf(b, "\n\t\t}\n\t}\n}\n\n")
+}
+
+// cv converts a weight expression to float64 when weights are float32.
+func cv(ft, e string) string {
+	if ft == "float64" {
+		return e
+	}
+	return "float64(" + e + ")"
 }

@@ -9,35 +9,95 @@ const minUnrolled, maxUnrolled = 2, 16
 func (p *plan) interpUnrolled(lo, hi int) bool {
 	switch p.w {
 	case 2:
-		p.interp2(lo, hi)
+		if p.wts32 != nil {
+			p.interp2f32(lo, hi)
+		} else {
+			p.interp2(lo, hi)
+		}
 	case 3:
-		p.interp3(lo, hi)
+		if p.wts32 != nil {
+			p.interp3f32(lo, hi)
+		} else {
+			p.interp3(lo, hi)
+		}
 	case 4:
-		p.interp4(lo, hi)
+		if p.wts32 != nil {
+			p.interp4f32(lo, hi)
+		} else {
+			p.interp4(lo, hi)
+		}
 	case 5:
-		p.interp5(lo, hi)
+		if p.wts32 != nil {
+			p.interp5f32(lo, hi)
+		} else {
+			p.interp5(lo, hi)
+		}
 	case 6:
-		p.interp6(lo, hi)
+		if p.wts32 != nil {
+			p.interp6f32(lo, hi)
+		} else {
+			p.interp6(lo, hi)
+		}
 	case 7:
-		p.interp7(lo, hi)
+		if p.wts32 != nil {
+			p.interp7f32(lo, hi)
+		} else {
+			p.interp7(lo, hi)
+		}
 	case 8:
-		p.interp8(lo, hi)
+		if p.wts32 != nil {
+			p.interp8f32(lo, hi)
+		} else {
+			p.interp8(lo, hi)
+		}
 	case 9:
-		p.interp9(lo, hi)
+		if p.wts32 != nil {
+			p.interp9f32(lo, hi)
+		} else {
+			p.interp9(lo, hi)
+		}
 	case 10:
-		p.interp10(lo, hi)
+		if p.wts32 != nil {
+			p.interp10f32(lo, hi)
+		} else {
+			p.interp10(lo, hi)
+		}
 	case 11:
-		p.interp11(lo, hi)
+		if p.wts32 != nil {
+			p.interp11f32(lo, hi)
+		} else {
+			p.interp11(lo, hi)
+		}
 	case 12:
-		p.interp12(lo, hi)
+		if p.wts32 != nil {
+			p.interp12f32(lo, hi)
+		} else {
+			p.interp12(lo, hi)
+		}
 	case 13:
-		p.interp13(lo, hi)
+		if p.wts32 != nil {
+			p.interp13f32(lo, hi)
+		} else {
+			p.interp13(lo, hi)
+		}
 	case 14:
-		p.interp14(lo, hi)
+		if p.wts32 != nil {
+			p.interp14f32(lo, hi)
+		} else {
+			p.interp14(lo, hi)
+		}
 	case 15:
-		p.interp15(lo, hi)
+		if p.wts32 != nil {
+			p.interp15f32(lo, hi)
+		} else {
+			p.interp15(lo, hi)
+		}
 	case 16:
-		p.interp16(lo, hi)
+		if p.wts32 != nil {
+			p.interp16f32(lo, hi)
+		} else {
+			p.interp16(lo, hi)
+		}
 	default:
 		return false
 	}
@@ -49,35 +109,95 @@ func (p *plan) interpUnrolled(lo, hi int) bool {
 func (p *plan) spreadUnrolled(band []complex128, ylo, lo, hi int) bool {
 	switch p.w {
 	case 2:
-		p.spread2(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread2f32(band, ylo, lo, hi)
+		} else {
+			p.spread2(band, ylo, lo, hi)
+		}
 	case 3:
-		p.spread3(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread3f32(band, ylo, lo, hi)
+		} else {
+			p.spread3(band, ylo, lo, hi)
+		}
 	case 4:
-		p.spread4(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread4f32(band, ylo, lo, hi)
+		} else {
+			p.spread4(band, ylo, lo, hi)
+		}
 	case 5:
-		p.spread5(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread5f32(band, ylo, lo, hi)
+		} else {
+			p.spread5(band, ylo, lo, hi)
+		}
 	case 6:
-		p.spread6(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread6f32(band, ylo, lo, hi)
+		} else {
+			p.spread6(band, ylo, lo, hi)
+		}
 	case 7:
-		p.spread7(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread7f32(band, ylo, lo, hi)
+		} else {
+			p.spread7(band, ylo, lo, hi)
+		}
 	case 8:
-		p.spread8(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread8f32(band, ylo, lo, hi)
+		} else {
+			p.spread8(band, ylo, lo, hi)
+		}
 	case 9:
-		p.spread9(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread9f32(band, ylo, lo, hi)
+		} else {
+			p.spread9(band, ylo, lo, hi)
+		}
 	case 10:
-		p.spread10(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread10f32(band, ylo, lo, hi)
+		} else {
+			p.spread10(band, ylo, lo, hi)
+		}
 	case 11:
-		p.spread11(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread11f32(band, ylo, lo, hi)
+		} else {
+			p.spread11(band, ylo, lo, hi)
+		}
 	case 12:
-		p.spread12(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread12f32(band, ylo, lo, hi)
+		} else {
+			p.spread12(band, ylo, lo, hi)
+		}
 	case 13:
-		p.spread13(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread13f32(band, ylo, lo, hi)
+		} else {
+			p.spread13(band, ylo, lo, hi)
+		}
 	case 14:
-		p.spread14(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread14f32(band, ylo, lo, hi)
+		} else {
+			p.spread14(band, ylo, lo, hi)
+		}
 	case 15:
-		p.spread15(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread15f32(band, ylo, lo, hi)
+		} else {
+			p.spread15(band, ylo, lo, hi)
+		}
 	case 16:
-		p.spread16(band, ylo, lo, hi)
+		if p.wts32 != nil {
+			p.spread16f32(band, ylo, lo, hi)
+		} else {
+			p.spread16(band, ylo, lo, hi)
+		}
 	default:
 		return false
 	}
@@ -121,10 +241,61 @@ func (p *plan) spread2(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 2 {
-			cr, ci := vr*wt[2+dy], vi*wt[2+dy]
+			wy := wt[2+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[2]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+		}
+	}
+}
+
+func (p *plan) interp2f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+2 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[4]float32)(p.wts32[4*i:])
+		var ar, ai float64
+		for dy := range 2 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[2]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[2+dy])
+			ar += (real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) * wy
+			ai += (imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread2f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+2 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[4]float32)(p.wts32[4*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 2 {
+			wy := float64(wt[2+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[2]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
 		}
 	}
 }
@@ -166,11 +337,65 @@ func (p *plan) spread3(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 3 {
-			cr, ci := vr*wt[3+dy], vi*wt[3+dy]
+			wy := wt[3+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[3]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+		}
+	}
+}
+
+func (p *plan) interp3f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+3 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[6]float32)(p.wts32[6*i:])
+		var ar, ai float64
+		for dy := range 3 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[3]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[3+dy])
+			ar += ((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) * wy
+			ai += ((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread3f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+3 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[6]float32)(p.wts32[6*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 3 {
+			wy := float64(wt[3+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[3]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
 		}
 	}
 }
@@ -212,12 +437,69 @@ func (p *plan) spread4(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 4 {
-			cr, ci := vr*wt[4+dy], vi*wt[4+dy]
+			wy := wt[4+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[4]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+		}
+	}
+}
+
+func (p *plan) interp4f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+4 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[8]float32)(p.wts32[8*i:])
+		var ar, ai float64
+		for dy := range 4 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[4]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[4+dy])
+			ar += ((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) * wy
+			ai += ((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread4f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+4 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[8]float32)(p.wts32[8*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 4 {
+			wy := float64(wt[4+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[4]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
 		}
 	}
 }
@@ -259,13 +541,73 @@ func (p *plan) spread5(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 5 {
-			cr, ci := vr*wt[5+dy], vi*wt[5+dy]
+			wy := wt[5+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[5]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+		}
+	}
+}
+
+func (p *plan) interp5f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+5 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[10]float32)(p.wts32[10*i:])
+		var ar, ai float64
+		for dy := range 5 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[5]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[5+dy])
+			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) * wy
+			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread5f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+5 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[10]float32)(p.wts32[10*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 5 {
+			wy := float64(wt[5+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[5]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
 		}
 	}
 }
@@ -307,14 +649,77 @@ func (p *plan) spread6(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 6 {
-			cr, ci := vr*wt[6+dy], vi*wt[6+dy]
+			wy := wt[6+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[6]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+		}
+	}
+}
+
+func (p *plan) interp6f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+6 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[12]float32)(p.wts32[12*i:])
+		var ar, ai float64
+		for dy := range 6 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[6]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[6+dy])
+			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) * wy
+			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread6f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+6 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[12]float32)(p.wts32[12*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 6 {
+			wy := float64(wt[6+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[6]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
 		}
 	}
 }
@@ -356,15 +761,81 @@ func (p *plan) spread7(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 7 {
-			cr, ci := vr*wt[7+dy], vi*wt[7+dy]
+			wy := wt[7+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[7]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+		}
+	}
+}
+
+func (p *plan) interp7f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+7 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[14]float32)(p.wts32[14*i:])
+		var ar, ai float64
+		for dy := range 7 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[7]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[7+dy])
+			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) * wy
+			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread7f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+7 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[14]float32)(p.wts32[14*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 7 {
+			wy := float64(wt[7+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[7]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
 		}
 	}
 }
@@ -406,16 +877,85 @@ func (p *plan) spread8(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 8 {
-			cr, ci := vr*wt[8+dy], vi*wt[8+dy]
+			wy := wt[8+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[8]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+		}
+	}
+}
+
+func (p *plan) interp8f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+8 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[16]float32)(p.wts32[16*i:])
+		var ar, ai float64
+		for dy := range 8 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[8]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[8+dy])
+			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) * wy
+			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread8f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+8 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[16]float32)(p.wts32[16*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 8 {
+			wy := float64(wt[8+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[8]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
 		}
 	}
 }
@@ -457,17 +997,89 @@ func (p *plan) spread9(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 9 {
-			cr, ci := vr*wt[9+dy], vi*wt[9+dy]
+			wy := wt[9+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[9]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+		}
+	}
+}
+
+func (p *plan) interp9f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+9 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[18]float32)(p.wts32[18*i:])
+		var ar, ai float64
+		for dy := range 9 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[9]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[9+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) + ((real(g[5])*float64(wt[5]) + real(g[6])*float64(wt[6])) + (real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) + ((imag(g[5])*float64(wt[5]) + imag(g[6])*float64(wt[6])) + (imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread9f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+9 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[18]float32)(p.wts32[18*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 9 {
+			wy := float64(wt[9+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[9]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
 		}
 	}
 }
@@ -509,18 +1121,93 @@ func (p *plan) spread10(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 10 {
-			cr, ci := vr*wt[10+dy], vi*wt[10+dy]
+			wy := wt[10+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[10]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+		}
+	}
+}
+
+func (p *plan) interp10f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+10 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[20]float32)(p.wts32[20*i:])
+		var ar, ai float64
+		for dy := range 10 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[10]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[10+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) + (((real(g[5])*float64(wt[5]) + real(g[6])*float64(wt[6])) + real(g[7])*float64(wt[7])) + (real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) + (((imag(g[5])*float64(wt[5]) + imag(g[6])*float64(wt[6])) + imag(g[7])*float64(wt[7])) + (imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread10f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+10 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[20]float32)(p.wts32[20*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 10 {
+			wy := float64(wt[10+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[10]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
 		}
 	}
 }
@@ -562,19 +1249,97 @@ func (p *plan) spread11(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 11 {
-			cr, ci := vr*wt[11+dy], vi*wt[11+dy]
+			wy := wt[11+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[11]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+		}
+	}
+}
+
+func (p *plan) interp11f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+11 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[22]float32)(p.wts32[22*i:])
+		var ar, ai float64
+		for dy := range 11 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[11]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[11+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) + (((real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])) + real(g[8])*float64(wt[8])) + (real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) + (((imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])) + imag(g[8])*float64(wt[8])) + (imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread11f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+11 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[22]float32)(p.wts32[22*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 11 {
+			wy := float64(wt[11+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[11]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
 		}
 	}
 }
@@ -616,20 +1381,101 @@ func (p *plan) spread12(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 12 {
-			cr, ci := vr*wt[12+dy], vi*wt[12+dy]
+			wy := wt[12+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[12]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
-			g[11] += complex(cr*wt[11], ci*wt[11])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := wt[11]
+			g[11] += complex(cr*wx11, ci*wx11)
+		}
+	}
+}
+
+func (p *plan) interp12f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+12 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[24]float32)(p.wts32[24*i:])
+		var ar, ai float64
+		for dy := range 12 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[12]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[12+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) + (((real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])) + real(g[8])*float64(wt[8])) + ((real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10])) + real(g[11])*float64(wt[11])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) + (((imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])) + imag(g[8])*float64(wt[8])) + ((imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10])) + imag(g[11])*float64(wt[11])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread12f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+12 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[24]float32)(p.wts32[24*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 12 {
+			wy := float64(wt[12+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[12]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := float64(wt[11])
+			g[11] += complex(cr*wx11, ci*wx11)
 		}
 	}
 }
@@ -671,21 +1517,105 @@ func (p *plan) spread13(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 13 {
-			cr, ci := vr*wt[13+dy], vi*wt[13+dy]
+			wy := wt[13+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[13]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
-			g[11] += complex(cr*wt[11], ci*wt[11])
-			g[12] += complex(cr*wt[12], ci*wt[12])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := wt[11]
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := wt[12]
+			g[12] += complex(cr*wx12, ci*wx12)
+		}
+	}
+}
+
+func (p *plan) interp13f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+13 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[26]float32)(p.wts32[26*i:])
+		var ar, ai float64
+		for dy := range 13 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[13]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[13+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) + (((real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])) + real(g[9])*float64(wt[9])) + ((real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11])) + real(g[12])*float64(wt[12])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) + (((imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])) + imag(g[9])*float64(wt[9])) + ((imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11])) + imag(g[12])*float64(wt[12])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread13f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+13 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[26]float32)(p.wts32[26*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 13 {
+			wy := float64(wt[13+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[13]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := float64(wt[11])
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := float64(wt[12])
+			g[12] += complex(cr*wx12, ci*wx12)
 		}
 	}
 }
@@ -727,22 +1657,109 @@ func (p *plan) spread14(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 14 {
-			cr, ci := vr*wt[14+dy], vi*wt[14+dy]
+			wy := wt[14+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[14]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
-			g[11] += complex(cr*wt[11], ci*wt[11])
-			g[12] += complex(cr*wt[12], ci*wt[12])
-			g[13] += complex(cr*wt[13], ci*wt[13])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := wt[11]
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := wt[12]
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := wt[13]
+			g[13] += complex(cr*wx13, ci*wx13)
+		}
+	}
+}
+
+func (p *plan) interp14f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+14 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[28]float32)(p.wts32[28*i:])
+		var ar, ai float64
+		for dy := range 14 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[14]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[14+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) + (((real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])) + (real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10]))) + ((real(g[11])*float64(wt[11]) + real(g[12])*float64(wt[12])) + real(g[13])*float64(wt[13])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) + (((imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])) + (imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10]))) + ((imag(g[11])*float64(wt[11]) + imag(g[12])*float64(wt[12])) + imag(g[13])*float64(wt[13])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread14f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+14 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[28]float32)(p.wts32[28*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 14 {
+			wy := float64(wt[14+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[14]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := float64(wt[11])
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := float64(wt[12])
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := float64(wt[13])
+			g[13] += complex(cr*wx13, ci*wx13)
 		}
 	}
 }
@@ -784,23 +1801,113 @@ func (p *plan) spread15(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 15 {
-			cr, ci := vr*wt[15+dy], vi*wt[15+dy]
+			wy := wt[15+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[15]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
-			g[11] += complex(cr*wt[11], ci*wt[11])
-			g[12] += complex(cr*wt[12], ci*wt[12])
-			g[13] += complex(cr*wt[13], ci*wt[13])
-			g[14] += complex(cr*wt[14], ci*wt[14])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := wt[11]
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := wt[12]
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := wt[13]
+			g[13] += complex(cr*wx13, ci*wx13)
+			wx14 := wt[14]
+			g[14] += complex(cr*wx14, ci*wx14)
+		}
+	}
+}
+
+func (p *plan) interp15f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+15 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[30]float32)(p.wts32[30*i:])
+		var ar, ai float64
+		for dy := range 15 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[15]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[15+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) + (((real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])) + (real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11]))) + ((real(g[12])*float64(wt[12]) + real(g[13])*float64(wt[13])) + real(g[14])*float64(wt[14])))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) + (((imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])) + (imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11]))) + ((imag(g[12])*float64(wt[12]) + imag(g[13])*float64(wt[13])) + imag(g[14])*float64(wt[14])))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread15f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+15 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[30]float32)(p.wts32[30*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 15 {
+			wy := float64(wt[15+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[15]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := float64(wt[11])
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := float64(wt[12])
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := float64(wt[13])
+			g[13] += complex(cr*wx13, ci*wx13)
+			wx14 := float64(wt[14])
+			g[14] += complex(cr*wx14, ci*wx14)
 		}
 	}
 }
@@ -842,24 +1949,117 @@ func (p *plan) spread16(band []complex128, ylo, lo, hi int) {
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
 		for dy := range 16 {
-			cr, ci := vr*wt[16+dy], vi*wt[16+dy]
+			wy := wt[16+dy]
+			cr, ci := vr*wy, vi*wy
 			g := (*[16]complex128)(band[(y0+dy)*fx+x0:])
-			g[0] += complex(cr*wt[0], ci*wt[0])
-			g[1] += complex(cr*wt[1], ci*wt[1])
-			g[2] += complex(cr*wt[2], ci*wt[2])
-			g[3] += complex(cr*wt[3], ci*wt[3])
-			g[4] += complex(cr*wt[4], ci*wt[4])
-			g[5] += complex(cr*wt[5], ci*wt[5])
-			g[6] += complex(cr*wt[6], ci*wt[6])
-			g[7] += complex(cr*wt[7], ci*wt[7])
-			g[8] += complex(cr*wt[8], ci*wt[8])
-			g[9] += complex(cr*wt[9], ci*wt[9])
-			g[10] += complex(cr*wt[10], ci*wt[10])
-			g[11] += complex(cr*wt[11], ci*wt[11])
-			g[12] += complex(cr*wt[12], ci*wt[12])
-			g[13] += complex(cr*wt[13], ci*wt[13])
-			g[14] += complex(cr*wt[14], ci*wt[14])
-			g[15] += complex(cr*wt[15], ci*wt[15])
+			wx0 := wt[0]
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := wt[1]
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := wt[2]
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := wt[3]
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := wt[4]
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := wt[5]
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := wt[6]
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := wt[7]
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := wt[8]
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := wt[9]
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := wt[10]
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := wt[11]
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := wt[12]
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := wt[13]
+			g[13] += complex(cr*wx13, ci*wx13)
+			wx14 := wt[14]
+			g[14] += complex(cr*wx14, ci*wx14)
+			wx15 := wt[15]
+			g[15] += complex(cr*wx15, ci*wx15)
+		}
+	}
+}
+
+func (p *plan) interp16f32(lo, hi int) {
+	fx, fy := p.fx, p.fy
+	grid := p.grid
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])
+		if x0+16 > fx {
+			p.interpWrap(i)
+			continue
+		}
+		wt := (*[32]float32)(p.wts32[32*i:])
+		var ar, ai float64
+		for dy := range 16 {
+			r := y0 + dy
+			if r >= fy {
+				r -= fy
+			}
+			g := (*[16]complex128)(grid[r*fx+x0:])
+			wy := float64(wt[16+dy])
+			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) + (((real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])) + (real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11]))) + ((real(g[12])*float64(wt[12]) + real(g[13])*float64(wt[13])) + (real(g[14])*float64(wt[14]) + real(g[15])*float64(wt[15]))))) * wy
+			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) + (((imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])) + (imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11]))) + ((imag(g[12])*float64(wt[12]) + imag(g[13])*float64(wt[13])) + (imag(g[14])*float64(wt[14]) + imag(g[15])*float64(wt[15]))))) * wy
+		}
+		p.sorted[i] = complex(ar, ai)
+	}
+}
+
+func (p *plan) spread16f32(band []complex128, ylo, lo, hi int) {
+	fx := p.fx
+	for i := lo; i < hi; i++ {
+		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
+		if x0+16 > fx {
+			p.spreadWrap(band, ylo, i)
+			continue
+		}
+		wt := (*[32]float32)(p.wts32[32*i:])
+		vis := p.sorted[i]
+		vr, vi := real(vis), imag(vis)
+		for dy := range 16 {
+			wy := float64(wt[16+dy])
+			cr, ci := vr*wy, vi*wy
+			g := (*[16]complex128)(band[(y0+dy)*fx+x0:])
+			wx0 := float64(wt[0])
+			g[0] += complex(cr*wx0, ci*wx0)
+			wx1 := float64(wt[1])
+			g[1] += complex(cr*wx1, ci*wx1)
+			wx2 := float64(wt[2])
+			g[2] += complex(cr*wx2, ci*wx2)
+			wx3 := float64(wt[3])
+			g[3] += complex(cr*wx3, ci*wx3)
+			wx4 := float64(wt[4])
+			g[4] += complex(cr*wx4, ci*wx4)
+			wx5 := float64(wt[5])
+			g[5] += complex(cr*wx5, ci*wx5)
+			wx6 := float64(wt[6])
+			g[6] += complex(cr*wx6, ci*wx6)
+			wx7 := float64(wt[7])
+			g[7] += complex(cr*wx7, ci*wx7)
+			wx8 := float64(wt[8])
+			g[8] += complex(cr*wx8, ci*wx8)
+			wx9 := float64(wt[9])
+			g[9] += complex(cr*wx9, ci*wx9)
+			wx10 := float64(wt[10])
+			g[10] += complex(cr*wx10, ci*wx10)
+			wx11 := float64(wt[11])
+			g[11] += complex(cr*wx11, ci*wx11)
+			wx12 := float64(wt[12])
+			g[12] += complex(cr*wx12, ci*wx12)
+			wx13 := float64(wt[13])
+			g[13] += complex(cr*wx13, ci*wx13)
+			wx14 := float64(wt[14])
+			g[14] += complex(cr*wx14, ci*wx14)
+			wx15 := float64(wt[15])
+			g[15] += complex(cr*wx15, ci*wx15)
 		}
 	}
 }

@@ -24,6 +24,12 @@ const (
 	binRows   = 8  // fine-grid rows per bin when sorting points
 	colBlock  = 16 // columns per batched column FFT
 	serialOps = 4e6
+
+	// f32Tol is the loosest tolerance at which the kernel weights are
+	// stored as float32: their rounding (relative 6e-8) then adds at
+	// most a few percent to the error, and halves the memory and
+	// bandwidth of the per-point data.
+	f32Tol = 1e-6
 )
 
 //go:generate go run gen_kernels.go
@@ -45,6 +51,7 @@ type plan struct {
 	x0, y0 []int32
 	sorted []complex128 // values at the points in sorted order
 	wts    []float64
+	wts32  []float32 // used instead of wts when tol ≥ f32Tol
 
 	fftX, fftY *fftPlan
 
@@ -166,16 +173,29 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// Weights, in sorted order.
 	p.x0 = make([]int32, m)
 	p.y0 = make([]int32, m)
-	p.wts = make([]float64, 2*w*m)
+	wbuf := make([]float64, 2*w)
+	if r.tol >= f32Tol {
+		p.wts32 = make([]float32, 2*w*m)
+	} else {
+		p.wts = make([]float64, 2*w*m)
+	}
 	for i, k := range p.perm {
 		jx := math.Ceil(tx[k] - half)
 		jy := math.Ceil(ty[k] - half)
 		p.x0[i] = int32(mod(int(jx), fx))
 		p.y0[i] = int32(mod(int(jy), fy))
-		wt := p.wts[2*w*i : 2*w*i+2*w]
+		wt := wbuf
+		if p.wts != nil {
+			wt = p.wts[2*w*i : 2*w*i+2*w]
+		}
 		for d := range w {
 			wt[d] = p.kern.eval(tx[k] - (jx + float64(d)))
 			wt[w+d] = p.kern.eval(ty[k] - (jy + float64(d)))
+		}
+		if p.wts32 != nil {
+			for d, x := range wt {
+				p.wts32[2*w*i+d] = float32(x)
+			}
 		}
 	}
 
@@ -519,7 +539,8 @@ func (p *plan) interp(lo, hi int) {
 // in x; the unrolled loops use it for the points at the grid edge.
 func (p *plan) interpWrap(i int) {
 	w, fx, fy := p.w, p.fx, p.fy
-	wt := p.wts[2*w*i : 2*w*i+2*w]
+	var buf [2 * maxUnrolled]float64
+	wt := p.weights(buf[:], i)
 	wx, wy := wt[:w], wt[w:]
 	x0, y0 := int(p.x0[i]), int(p.y0[i])
 	var ar, ai float64
@@ -567,7 +588,8 @@ func (p *plan) spread(i int) {
 // in x.
 func (p *plan) spreadWrap(band []complex128, ylo, k int) {
 	w, fx := p.w, p.fx
-	wt := p.wts[2*w*k : 2*w*k+2*w]
+	var buf [2 * maxUnrolled]float64
+	wt := p.weights(buf[:], k)
 	wx, wy := wt[:w], wt[w:]
 	x0, y0 := int(p.x0[k]), int(p.y0[k])-ylo
 	vis := p.sorted[k]
@@ -585,11 +607,25 @@ func (p *plan) spreadWrap(band []complex128, ylo, k int) {
 	}
 }
 
+// weights returns the 2w weights of sorted point i, converted into buf
+// when they are stored as float32.
+func (p *plan) weights(buf []float64, i int) []float64 {
+	w := p.w
+	if p.wts32 == nil {
+		return p.wts[2*w*i : 2*w*i+2*w]
+	}
+	buf = buf[:2*w]
+	for d, x := range p.wts32[2*w*i : 2*w*i+2*w] {
+		buf[d] = float64(x)
+	}
+	return buf
+}
+
 // memBytes returns the bytes held by the plan's slices.
 func (p *plan) memBytes() (grid, perPoint, total int) {
 	const c, f, i32 = 16, 8, 4
 	grid = c * len(p.grid)
-	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + c*len(p.sorted)
+	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	total = grid + perPoint + c*len(p.band) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows))
 	for _, s := range p.scratch {
