@@ -217,13 +217,16 @@ func fitSize(d *Data) (string, float64, bool) {
 	}
 	stride := 1 + n/2000
 	var q, val, w []float64
-	qmax := 0.0
+	qmax, qmin := 0.0, math.Inf(1)
 	for i := 0; i < n; i += stride {
 		f := math.Hypot(p.U[i], p.V[i])
 		q = append(q, f)
 		val = append(val, p.Value[i])
 		w = append(w, 1/(p.Err[i]*p.Err[i]))
 		qmax = math.Max(qmax, f)
+		if f > 0 {
+			qmin = math.Min(qmin, f)
+		}
 	}
 	if qmax == 0 {
 		return "", 0, false
@@ -237,11 +240,12 @@ func fitSize(d *Data) (string, float64, bool) {
 		}
 		return s
 	}
-	// The search runs from 1/100 to 3 times 1/qmax: below, the object is unresolved; above, the
-	// first null of the disc (θ·q = 1.22) is passed many times over.
-	lo, hi := 0.01/qmax, 3/qmax
+	// The search runs from 0.01/qmax, below which the object is unresolved on every baseline,
+	// to 3/qmin, above which it is resolved out (past the first null of the disc at
+	// θ·q = 1.22) on every baseline.
+	lo, hi := 0.01/qmax, 3/qmin
 	best := func(vis func(float64, float64) float64) (float64, float64) {
-		const m = 120
+		const m = 240
 		bi, bc := 0, math.Inf(1)
 		for k := 0; k <= m; k++ {
 			th := lo * math.Pow(hi/lo, float64(k)/m)

@@ -528,18 +528,20 @@ func smoothStart(s Start, g GridChoice) bool {
 	return false
 }
 
-// initialWeight returns the first weight of the automatic search: the weight at which the
-// regularizer term equals the data term at the start image, μ0 = J(x0)/R(x0) (J at least the
-// number of data). Starting higher is useless and harmful: with an edge-preserving
-// regularizer whose curvature is 1/ε in flat regions, a dominant regularizer makes the
-// problem so stiff that the warm-started runs that follow barely move. Where R(x0) is not
-// positive the weight is the number of data.
+// initialWeight returns the first weight of the automatic search: a tenth of the weight at
+// which the regularizer term equals the data term at the start image, μ0 = 0.1·J(x0)/R(x0)
+// (J at least the number of data). Starting higher is useless and harmful: with an
+// edge-preserving regularizer whose curvature is 1/ε in flat regions, a dominant regularizer
+// makes the problem so stiff that the warm-started runs that follow barely move (measured on
+// the demo star: total variation from μ = J/R stalled at χ²ᵣ = 69 for all smaller weights,
+// while μ = 0.1·J/R reached χ²ᵣ ≈ 1). Where R(x0) is not positive the weight is the number
+// of data.
 func (e *engine) initialWeight(x0 []float64) float64 {
 	n := float64(max(e.p.Data.Len(e.obj.Use()), 1))
 	j := math.Max(e.obj.Eval(nil, x0), n)
 	r := e.reg.Eval(nil, x0)
 	if r > 0 && finite(j/r) {
-		return j / r
+		return 0.1 * j / r
 	}
 	return n
 }
@@ -573,8 +575,11 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float6
 		if c <= 1+band {
 			break // at 1 within the statistical scatter of χ²ᵣ
 		}
-		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r {
-			break // two steps without 1 % of improvement: χ²ᵣ has reached its floor
+		// Two steps without 1 % of improvement mean χ²ᵣ has reached its floor, but only when
+		// the runs did iterate: a run that stops after a few iterations is stalled by a
+		// regularizer too stiff at that weight, and smaller weights get it moving again.
+		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r && path[k-1].Iter > 2*ftolWindow && r.Iter > 2*ftolWindow {
+			break
 		}
 		mu *= factor
 	}
