@@ -22,6 +22,8 @@ func TestChooseGridFit(t *testing.T) {
 	}{
 		{"disc 3 mas", discVis(3 * Mas), "uniform disc", 3 * Mas},
 		{"disc 6 mas", discVis(6 * Mas), "uniform disc", 6 * Mas},
+		// Resolved far past the first null on the longest baselines (3/qmax < 30 mas).
+		{"disc 30 mas", discVis(30 * Mas), "uniform disc", 30 * Mas},
 		{"gaussian 2 mas", gauss(2 * Mas), "Gaussian", 4 * Mas},
 	}
 	for _, tc := range tests {
