@@ -53,9 +53,10 @@
 //   - Amplitude pass: V², T3 and VIS amplitudes alone first, then all data; by default only
 //     from a smooth blob (Gaussian or flat start), where it helps, not from the fitted disc,
 //     where it was measured to hurt (Settings.NoAmplitudeFirst).
-//   - Weight: automatic by the discrepancy principle (ChooseWeight in Solve): warm-started runs
-//     along μ0·10^(−k/2) from μ0 = J(x0)/R(x0) until χ²ᵣ ≤ 1, interpolation of log μ at
-//     χ²ᵣ = 1, and a final run; the path is kept in Result.Path.
+//   - Weight: automatic by the discrepancy principle: warm-started runs along μ0·10^(−k/2)
+//     from μ0 = 0.1·J(x0)/R(x0) until χ²ᵣ ≤ 1 + 2√(2/N) (1 within its statistical scatter),
+//     interpolation of log μ at χ²ᵣ = 1 when it is crossed, else the weight with χ²ᵣ closest
+//     to 1, and a final run; the path (μ, χ²ᵣ, R) is kept in Result.Path.
 //   - Multi-start (Settings.Starts): by default 3 starts (the given one and two seeded random
 //     images, keeping the lowest objective) on grids up to 64², where it lowered χ²ᵣ of the
 //     total-variation binary from 2.2 to 1.3; one start on larger grids for speed.
