@@ -20,8 +20,7 @@ func DefaultImageGrid(p *Plan, m *model.Model) (n int, pixel float64) {
 	for i, a := range comb {
 		for _, b := range comb[i+1:] {
 			sa, sb := p.Stations[a], p.Stations[b]
-			bmax = math.Max(bmax, math.Sqrt(dot([3]float64{sb.East - sa.East, sb.North - sa.North, sb.Up - sa.Up},
-				[3]float64{sb.East - sa.East, sb.North - sa.North, sb.Up - sa.Up})))
+			bmax = math.Max(bmax, math.Hypot(math.Hypot(sb.East-sa.East, sb.North-sa.North), sb.Up-sa.Up))
 		}
 	}
 	lmin := math.Inf(1)
