@@ -67,13 +67,16 @@ func genInterp(b *bytes.Buffer, w int, sfx, ws, ft string) {
 	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.interpWrap(i)\n\t\t\tcontinue\n\t\t}\n", w)
 	fmt.Fprintf(b, "\t\twt := (*[%d]%s)(p.%s[%d*i:])\n", 2*w, ft, ws, 2*w)
 	fmt.Fprintf(b, "\t\tvar ar, ai float64\n")
+	for d := range w {
+		fmt.Fprintf(b, "\t\tk%d := %s\n", d, cv(ft, fmt.Sprintf("wt[%d]", d)))
+	}
 	fmt.Fprintf(b, "\t\tfor dy := range %d {\n", w)
 	fmt.Fprintf(b, "\t\t\tr := y0 + dy\n\t\t\tif r >= fy {\n\t\t\t\tr -= fy\n\t\t\t}\n")
 	fmt.Fprintf(b, "\t\t\tg := (*[%d]complex128)(grid[r*fx+x0:])\n", w)
 	var re, im []string
 	for d := range w {
-		re = append(re, fmt.Sprintf("real(g[%d])*%s", d, cv(ft, fmt.Sprintf("wt[%d]", d))))
-		im = append(im, fmt.Sprintf("imag(g[%d])*%s", d, cv(ft, fmt.Sprintf("wt[%d]", d))))
+		re = append(re, fmt.Sprintf("real(g[%d])*k%d", d, d))
+		im = append(im, fmt.Sprintf("imag(g[%d])*k%d", d, d))
 	}
 	fmt.Fprintf(b, "\t\t\twy := %s\n", cv(ft, fmt.Sprintf("wt[%d+dy]", w)))
 	fmt.Fprintf(b, "\t\t\tar += %s * wy\n", tree(re))
@@ -89,12 +92,15 @@ func genSpread(b *bytes.Buffer, w int, sfx, ws, ft string) {
 	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.spreadWrap(band, ylo, i)\n\t\t\tcontinue\n\t\t}\n", w)
 	fmt.Fprintf(b, "\t\twt := (*[%d]%s)(p.%s[%d*i:])\n", 2*w, ft, ws, 2*w)
 	fmt.Fprintf(b, "\t\tvis := p.sorted[i]\n\t\tvr, vi := real(vis), imag(vis)\n")
+	for d := range w {
+		fmt.Fprintf(b, "\t\tk%d := %s\n", d, cv(ft, fmt.Sprintf("wt[%d]", d)))
+	}
 	fmt.Fprintf(b, "\t\tfor dy := range %d {\n", w)
 	fmt.Fprintf(b, "\t\t\twy := %s\n\t\t\tcr, ci := vr*wy, vi*wy\n", cv(ft, fmt.Sprintf("wt[%d+dy]", w)))
 	fmt.Fprintf(b, "\t\t\tg := (*[%d]complex128)(band[(y0+dy)*fx+x0:])\n", w)
 	var lines []string
 	for d := range w {
-		lines = append(lines, fmt.Sprintf("\t\t\twx%d := %s\n\t\t\tg[%d] += complex(cr*wx%d, ci*wx%d)", d, cv(ft, fmt.Sprintf("wt[%d]", d)), d, d, d))
+		lines = append(lines, fmt.Sprintf("\t\t\tg[%d] += complex(cr*k%d, ci*k%d)", d, d, d))
 	}
 	b.WriteString(strings.Join(lines, "\n"))
 	fmt.Fprintf(b, "\n\t\t}\n\t}\n}\n\n")

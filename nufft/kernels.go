@@ -215,6 +215,8 @@ func (p *plan) interp2(lo, hi int) {
 		}
 		wt := (*[4]float64)(p.wts[4*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
 		for dy := range 2 {
 			r := y0 + dy
 			if r >= fy {
@@ -222,8 +224,8 @@ func (p *plan) interp2(lo, hi int) {
 			}
 			g := (*[2]complex128)(grid[r*fx+x0:])
 			wy := wt[2+dy]
-			ar += (real(g[0])*wt[0] + real(g[1])*wt[1]) * wy
-			ai += (imag(g[0])*wt[0] + imag(g[1])*wt[1]) * wy
+			ar += (real(g[0])*k0 + real(g[1])*k1) * wy
+			ai += (imag(g[0])*k0 + imag(g[1])*k1) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -240,14 +242,14 @@ func (p *plan) spread2(band []complex128, ylo, lo, hi int) {
 		wt := (*[4]float64)(p.wts[4*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
 		for dy := range 2 {
 			wy := wt[2+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[2]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
 		}
 	}
 }
@@ -263,6 +265,8 @@ func (p *plan) interp2f32(lo, hi int) {
 		}
 		wt := (*[4]float32)(p.wts32[4*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
 		for dy := range 2 {
 			r := y0 + dy
 			if r >= fy {
@@ -270,8 +274,8 @@ func (p *plan) interp2f32(lo, hi int) {
 			}
 			g := (*[2]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[2+dy])
-			ar += (real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) * wy
-			ai += (imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) * wy
+			ar += (real(g[0])*k0 + real(g[1])*k1) * wy
+			ai += (imag(g[0])*k0 + imag(g[1])*k1) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -288,14 +292,14 @@ func (p *plan) spread2f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[4]float32)(p.wts32[4*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
 		for dy := range 2 {
 			wy := float64(wt[2+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[2]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
 		}
 	}
 }
@@ -311,6 +315,9 @@ func (p *plan) interp3(lo, hi int) {
 		}
 		wt := (*[6]float64)(p.wts[6*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
 		for dy := range 3 {
 			r := y0 + dy
 			if r >= fy {
@@ -318,8 +325,8 @@ func (p *plan) interp3(lo, hi int) {
 			}
 			g := (*[3]complex128)(grid[r*fx+x0:])
 			wy := wt[3+dy]
-			ar += ((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) * wy
-			ai += ((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) * wy
+			ar += ((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) * wy
+			ai += ((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -336,16 +343,16 @@ func (p *plan) spread3(band []complex128, ylo, lo, hi int) {
 		wt := (*[6]float64)(p.wts[6*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
 		for dy := range 3 {
 			wy := wt[3+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[3]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
 		}
 	}
 }
@@ -361,6 +368,9 @@ func (p *plan) interp3f32(lo, hi int) {
 		}
 		wt := (*[6]float32)(p.wts32[6*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
 		for dy := range 3 {
 			r := y0 + dy
 			if r >= fy {
@@ -368,8 +378,8 @@ func (p *plan) interp3f32(lo, hi int) {
 			}
 			g := (*[3]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[3+dy])
-			ar += ((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) * wy
-			ai += ((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) * wy
+			ar += ((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) * wy
+			ai += ((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -386,16 +396,16 @@ func (p *plan) spread3f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[6]float32)(p.wts32[6*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
 		for dy := range 3 {
 			wy := float64(wt[3+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[3]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
 		}
 	}
 }
@@ -411,6 +421,10 @@ func (p *plan) interp4(lo, hi int) {
 		}
 		wt := (*[8]float64)(p.wts[8*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
 		for dy := range 4 {
 			r := y0 + dy
 			if r >= fy {
@@ -418,8 +432,8 @@ func (p *plan) interp4(lo, hi int) {
 			}
 			g := (*[4]complex128)(grid[r*fx+x0:])
 			wy := wt[4+dy]
-			ar += ((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) * wy
-			ai += ((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) * wy
+			ar += ((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) * wy
+			ai += ((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -436,18 +450,18 @@ func (p *plan) spread4(band []complex128, ylo, lo, hi int) {
 		wt := (*[8]float64)(p.wts[8*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
 		for dy := range 4 {
 			wy := wt[4+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[4]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
 		}
 	}
 }
@@ -463,6 +477,10 @@ func (p *plan) interp4f32(lo, hi int) {
 		}
 		wt := (*[8]float32)(p.wts32[8*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
 		for dy := range 4 {
 			r := y0 + dy
 			if r >= fy {
@@ -470,8 +488,8 @@ func (p *plan) interp4f32(lo, hi int) {
 			}
 			g := (*[4]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[4+dy])
-			ar += ((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) * wy
-			ai += ((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) * wy
+			ar += ((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) * wy
+			ai += ((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -488,18 +506,18 @@ func (p *plan) spread4f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[8]float32)(p.wts32[8*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
 		for dy := range 4 {
 			wy := float64(wt[4+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[4]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
 		}
 	}
 }
@@ -515,6 +533,11 @@ func (p *plan) interp5(lo, hi int) {
 		}
 		wt := (*[10]float64)(p.wts[10*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
 		for dy := range 5 {
 			r := y0 + dy
 			if r >= fy {
@@ -522,8 +545,8 @@ func (p *plan) interp5(lo, hi int) {
 			}
 			g := (*[5]complex128)(grid[r*fx+x0:])
 			wy := wt[5+dy]
-			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) * wy
-			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -540,20 +563,20 @@ func (p *plan) spread5(band []complex128, ylo, lo, hi int) {
 		wt := (*[10]float64)(p.wts[10*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
 		for dy := range 5 {
 			wy := wt[5+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[5]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
 		}
 	}
 }
@@ -569,6 +592,11 @@ func (p *plan) interp5f32(lo, hi int) {
 		}
 		wt := (*[10]float32)(p.wts32[10*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
 		for dy := range 5 {
 			r := y0 + dy
 			if r >= fy {
@@ -576,8 +604,8 @@ func (p *plan) interp5f32(lo, hi int) {
 			}
 			g := (*[5]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[5+dy])
-			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) * wy
-			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -594,20 +622,20 @@ func (p *plan) spread5f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[10]float32)(p.wts32[10*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
 		for dy := range 5 {
 			wy := float64(wt[5+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[5]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
 		}
 	}
 }
@@ -623,6 +651,12 @@ func (p *plan) interp6(lo, hi int) {
 		}
 		wt := (*[12]float64)(p.wts[12*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
 		for dy := range 6 {
 			r := y0 + dy
 			if r >= fy {
@@ -630,8 +664,8 @@ func (p *plan) interp6(lo, hi int) {
 			}
 			g := (*[6]complex128)(grid[r*fx+x0:])
 			wy := wt[6+dy]
-			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) * wy
-			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -648,22 +682,22 @@ func (p *plan) spread6(band []complex128, ylo, lo, hi int) {
 		wt := (*[12]float64)(p.wts[12*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
 		for dy := range 6 {
 			wy := wt[6+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[6]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
 		}
 	}
 }
@@ -679,6 +713,12 @@ func (p *plan) interp6f32(lo, hi int) {
 		}
 		wt := (*[12]float32)(p.wts32[12*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
 		for dy := range 6 {
 			r := y0 + dy
 			if r >= fy {
@@ -686,8 +726,8 @@ func (p *plan) interp6f32(lo, hi int) {
 			}
 			g := (*[6]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[6+dy])
-			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) * wy
-			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -704,22 +744,22 @@ func (p *plan) spread6f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[12]float32)(p.wts32[12*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
 		for dy := range 6 {
 			wy := float64(wt[6+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[6]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
 		}
 	}
 }
@@ -735,6 +775,13 @@ func (p *plan) interp7(lo, hi int) {
 		}
 		wt := (*[14]float64)(p.wts[14*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
 		for dy := range 7 {
 			r := y0 + dy
 			if r >= fy {
@@ -742,8 +789,8 @@ func (p *plan) interp7(lo, hi int) {
 			}
 			g := (*[7]complex128)(grid[r*fx+x0:])
 			wy := wt[7+dy]
-			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) * wy
-			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -760,24 +807,24 @@ func (p *plan) spread7(band []complex128, ylo, lo, hi int) {
 		wt := (*[14]float64)(p.wts[14*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
 		for dy := range 7 {
 			wy := wt[7+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[7]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
 		}
 	}
 }
@@ -793,6 +840,13 @@ func (p *plan) interp7f32(lo, hi int) {
 		}
 		wt := (*[14]float32)(p.wts32[14*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
 		for dy := range 7 {
 			r := y0 + dy
 			if r >= fy {
@@ -800,8 +854,8 @@ func (p *plan) interp7f32(lo, hi int) {
 			}
 			g := (*[7]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[7+dy])
-			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) * wy
-			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -818,24 +872,24 @@ func (p *plan) spread7f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[14]float32)(p.wts32[14*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
 		for dy := range 7 {
 			wy := float64(wt[7+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[7]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
 		}
 	}
 }
@@ -851,6 +905,14 @@ func (p *plan) interp8(lo, hi int) {
 		}
 		wt := (*[16]float64)(p.wts[16*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
 		for dy := range 8 {
 			r := y0 + dy
 			if r >= fy {
@@ -858,8 +920,8 @@ func (p *plan) interp8(lo, hi int) {
 			}
 			g := (*[8]complex128)(grid[r*fx+x0:])
 			wy := wt[8+dy]
-			ar += (((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) * wy
-			ai += (((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -876,26 +938,26 @@ func (p *plan) spread8(band []complex128, ylo, lo, hi int) {
 		wt := (*[16]float64)(p.wts[16*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
 		for dy := range 8 {
 			wy := wt[8+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[8]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
 		}
 	}
 }
@@ -911,6 +973,14 @@ func (p *plan) interp8f32(lo, hi int) {
 		}
 		wt := (*[16]float32)(p.wts32[16*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
 		for dy := range 8 {
 			r := y0 + dy
 			if r >= fy {
@@ -918,8 +988,8 @@ func (p *plan) interp8f32(lo, hi int) {
 			}
 			g := (*[8]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[8+dy])
-			ar += (((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) * wy
-			ai += (((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) * wy
+			ar += (((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) * wy
+			ai += (((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -936,26 +1006,26 @@ func (p *plan) spread8f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[16]float32)(p.wts32[16*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
 		for dy := range 8 {
 			wy := float64(wt[8+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[8]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
 		}
 	}
 }
@@ -971,6 +1041,15 @@ func (p *plan) interp9(lo, hi int) {
 		}
 		wt := (*[18]float64)(p.wts[18*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
 		for dy := range 9 {
 			r := y0 + dy
 			if r >= fy {
@@ -978,8 +1057,8 @@ func (p *plan) interp9(lo, hi int) {
 			}
 			g := (*[9]complex128)(grid[r*fx+x0:])
 			wy := wt[9+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) + ((real(g[5])*wt[5] + real(g[6])*wt[6]) + (real(g[7])*wt[7] + real(g[8])*wt[8]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) + ((imag(g[5])*wt[5] + imag(g[6])*wt[6]) + (imag(g[7])*wt[7] + imag(g[8])*wt[8]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) + ((real(g[5])*k5 + real(g[6])*k6) + (real(g[7])*k7 + real(g[8])*k8))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) + ((imag(g[5])*k5 + imag(g[6])*k6) + (imag(g[7])*k7 + imag(g[8])*k8))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -996,28 +1075,28 @@ func (p *plan) spread9(band []complex128, ylo, lo, hi int) {
 		wt := (*[18]float64)(p.wts[18*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
 		for dy := range 9 {
 			wy := wt[9+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[9]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
 		}
 	}
 }
@@ -1033,6 +1112,15 @@ func (p *plan) interp9f32(lo, hi int) {
 		}
 		wt := (*[18]float32)(p.wts32[18*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
 		for dy := range 9 {
 			r := y0 + dy
 			if r >= fy {
@@ -1040,8 +1128,8 @@ func (p *plan) interp9f32(lo, hi int) {
 			}
 			g := (*[9]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[9+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) + ((real(g[5])*float64(wt[5]) + real(g[6])*float64(wt[6])) + (real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) + ((imag(g[5])*float64(wt[5]) + imag(g[6])*float64(wt[6])) + (imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) + ((real(g[5])*k5 + real(g[6])*k6) + (real(g[7])*k7 + real(g[8])*k8))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) + ((imag(g[5])*k5 + imag(g[6])*k6) + (imag(g[7])*k7 + imag(g[8])*k8))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1058,28 +1146,28 @@ func (p *plan) spread9f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[18]float32)(p.wts32[18*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
 		for dy := range 9 {
 			wy := float64(wt[9+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[9]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
 		}
 	}
 }
@@ -1095,6 +1183,16 @@ func (p *plan) interp10(lo, hi int) {
 		}
 		wt := (*[20]float64)(p.wts[20*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
 		for dy := range 10 {
 			r := y0 + dy
 			if r >= fy {
@@ -1102,8 +1200,8 @@ func (p *plan) interp10(lo, hi int) {
 			}
 			g := (*[10]complex128)(grid[r*fx+x0:])
 			wy := wt[10+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + (real(g[3])*wt[3] + real(g[4])*wt[4])) + (((real(g[5])*wt[5] + real(g[6])*wt[6]) + real(g[7])*wt[7]) + (real(g[8])*wt[8] + real(g[9])*wt[9]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + (imag(g[3])*wt[3] + imag(g[4])*wt[4])) + (((imag(g[5])*wt[5] + imag(g[6])*wt[6]) + imag(g[7])*wt[7]) + (imag(g[8])*wt[8] + imag(g[9])*wt[9]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) + (((real(g[5])*k5 + real(g[6])*k6) + real(g[7])*k7) + (real(g[8])*k8 + real(g[9])*k9))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) + (((imag(g[5])*k5 + imag(g[6])*k6) + imag(g[7])*k7) + (imag(g[8])*k8 + imag(g[9])*k9))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1120,30 +1218,30 @@ func (p *plan) spread10(band []complex128, ylo, lo, hi int) {
 		wt := (*[20]float64)(p.wts[20*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
 		for dy := range 10 {
 			wy := wt[10+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[10]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
 		}
 	}
 }
@@ -1159,6 +1257,16 @@ func (p *plan) interp10f32(lo, hi int) {
 		}
 		wt := (*[20]float32)(p.wts32[20*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
 		for dy := range 10 {
 			r := y0 + dy
 			if r >= fy {
@@ -1166,8 +1274,8 @@ func (p *plan) interp10f32(lo, hi int) {
 			}
 			g := (*[10]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[10+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + (real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4]))) + (((real(g[5])*float64(wt[5]) + real(g[6])*float64(wt[6])) + real(g[7])*float64(wt[7])) + (real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + (imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4]))) + (((imag(g[5])*float64(wt[5]) + imag(g[6])*float64(wt[6])) + imag(g[7])*float64(wt[7])) + (imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + (real(g[3])*k3 + real(g[4])*k4)) + (((real(g[5])*k5 + real(g[6])*k6) + real(g[7])*k7) + (real(g[8])*k8 + real(g[9])*k9))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + (imag(g[3])*k3 + imag(g[4])*k4)) + (((imag(g[5])*k5 + imag(g[6])*k6) + imag(g[7])*k7) + (imag(g[8])*k8 + imag(g[9])*k9))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1184,30 +1292,30 @@ func (p *plan) spread10f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[20]float32)(p.wts32[20*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
 		for dy := range 10 {
 			wy := float64(wt[10+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[10]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
 		}
 	}
 }
@@ -1223,6 +1331,17 @@ func (p *plan) interp11(lo, hi int) {
 		}
 		wt := (*[22]float64)(p.wts[22*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
 		for dy := range 11 {
 			r := y0 + dy
 			if r >= fy {
@@ -1230,8 +1349,8 @@ func (p *plan) interp11(lo, hi int) {
 			}
 			g := (*[11]complex128)(grid[r*fx+x0:])
 			wy := wt[11+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) + (((real(g[6])*wt[6] + real(g[7])*wt[7]) + real(g[8])*wt[8]) + (real(g[9])*wt[9] + real(g[10])*wt[10]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) + (((imag(g[6])*wt[6] + imag(g[7])*wt[7]) + imag(g[8])*wt[8]) + (imag(g[9])*wt[9] + imag(g[10])*wt[10]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) + (((real(g[6])*k6 + real(g[7])*k7) + real(g[8])*k8) + (real(g[9])*k9 + real(g[10])*k10))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) + (((imag(g[6])*k6 + imag(g[7])*k7) + imag(g[8])*k8) + (imag(g[9])*k9 + imag(g[10])*k10))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1248,32 +1367,32 @@ func (p *plan) spread11(band []complex128, ylo, lo, hi int) {
 		wt := (*[22]float64)(p.wts[22*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
 		for dy := range 11 {
 			wy := wt[11+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[11]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
 		}
 	}
 }
@@ -1289,6 +1408,17 @@ func (p *plan) interp11f32(lo, hi int) {
 		}
 		wt := (*[22]float32)(p.wts32[22*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
 		for dy := range 11 {
 			r := y0 + dy
 			if r >= fy {
@@ -1296,8 +1426,8 @@ func (p *plan) interp11f32(lo, hi int) {
 			}
 			g := (*[11]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[11+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) + (((real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])) + real(g[8])*float64(wt[8])) + (real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) + (((imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])) + imag(g[8])*float64(wt[8])) + (imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) + (((real(g[6])*k6 + real(g[7])*k7) + real(g[8])*k8) + (real(g[9])*k9 + real(g[10])*k10))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) + (((imag(g[6])*k6 + imag(g[7])*k7) + imag(g[8])*k8) + (imag(g[9])*k9 + imag(g[10])*k10))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1314,32 +1444,32 @@ func (p *plan) spread11f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[22]float32)(p.wts32[22*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
 		for dy := range 11 {
 			wy := float64(wt[11+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[11]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
 		}
 	}
 }
@@ -1355,6 +1485,18 @@ func (p *plan) interp12(lo, hi int) {
 		}
 		wt := (*[24]float64)(p.wts[24*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
 		for dy := range 12 {
 			r := y0 + dy
 			if r >= fy {
@@ -1362,8 +1504,8 @@ func (p *plan) interp12(lo, hi int) {
 			}
 			g := (*[12]complex128)(grid[r*fx+x0:])
 			wy := wt[12+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + real(g[2])*wt[2]) + ((real(g[3])*wt[3] + real(g[4])*wt[4]) + real(g[5])*wt[5])) + (((real(g[6])*wt[6] + real(g[7])*wt[7]) + real(g[8])*wt[8]) + ((real(g[9])*wt[9] + real(g[10])*wt[10]) + real(g[11])*wt[11]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + imag(g[2])*wt[2]) + ((imag(g[3])*wt[3] + imag(g[4])*wt[4]) + imag(g[5])*wt[5])) + (((imag(g[6])*wt[6] + imag(g[7])*wt[7]) + imag(g[8])*wt[8]) + ((imag(g[9])*wt[9] + imag(g[10])*wt[10]) + imag(g[11])*wt[11]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) + (((real(g[6])*k6 + real(g[7])*k7) + real(g[8])*k8) + ((real(g[9])*k9 + real(g[10])*k10) + real(g[11])*k11))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) + (((imag(g[6])*k6 + imag(g[7])*k7) + imag(g[8])*k8) + ((imag(g[9])*k9 + imag(g[10])*k10) + imag(g[11])*k11))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1380,34 +1522,34 @@ func (p *plan) spread12(band []complex128, ylo, lo, hi int) {
 		wt := (*[24]float64)(p.wts[24*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
 		for dy := range 12 {
 			wy := wt[12+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[12]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := wt[11]
-			g[11] += complex(cr*wx11, ci*wx11)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
 		}
 	}
 }
@@ -1423,6 +1565,18 @@ func (p *plan) interp12f32(lo, hi int) {
 		}
 		wt := (*[24]float32)(p.wts32[24*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
 		for dy := range 12 {
 			r := y0 + dy
 			if r >= fy {
@@ -1430,8 +1584,8 @@ func (p *plan) interp12f32(lo, hi int) {
 			}
 			g := (*[12]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[12+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + real(g[2])*float64(wt[2])) + ((real(g[3])*float64(wt[3]) + real(g[4])*float64(wt[4])) + real(g[5])*float64(wt[5]))) + (((real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])) + real(g[8])*float64(wt[8])) + ((real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10])) + real(g[11])*float64(wt[11])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + imag(g[2])*float64(wt[2])) + ((imag(g[3])*float64(wt[3]) + imag(g[4])*float64(wt[4])) + imag(g[5])*float64(wt[5]))) + (((imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])) + imag(g[8])*float64(wt[8])) + ((imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10])) + imag(g[11])*float64(wt[11])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + real(g[2])*k2) + ((real(g[3])*k3 + real(g[4])*k4) + real(g[5])*k5)) + (((real(g[6])*k6 + real(g[7])*k7) + real(g[8])*k8) + ((real(g[9])*k9 + real(g[10])*k10) + real(g[11])*k11))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + imag(g[2])*k2) + ((imag(g[3])*k3 + imag(g[4])*k4) + imag(g[5])*k5)) + (((imag(g[6])*k6 + imag(g[7])*k7) + imag(g[8])*k8) + ((imag(g[9])*k9 + imag(g[10])*k10) + imag(g[11])*k11))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1448,34 +1602,34 @@ func (p *plan) spread12f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[24]float32)(p.wts32[24*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
 		for dy := range 12 {
 			wy := float64(wt[12+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[12]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := float64(wt[11])
-			g[11] += complex(cr*wx11, ci*wx11)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
 		}
 	}
 }
@@ -1491,6 +1645,19 @@ func (p *plan) interp13(lo, hi int) {
 		}
 		wt := (*[26]float64)(p.wts[26*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
 		for dy := range 13 {
 			r := y0 + dy
 			if r >= fy {
@@ -1498,8 +1665,8 @@ func (p *plan) interp13(lo, hi int) {
 			}
 			g := (*[13]complex128)(grid[r*fx+x0:])
 			wy := wt[13+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) + (((real(g[7])*wt[7] + real(g[8])*wt[8]) + real(g[9])*wt[9]) + ((real(g[10])*wt[10] + real(g[11])*wt[11]) + real(g[12])*wt[12]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) + (((imag(g[7])*wt[7] + imag(g[8])*wt[8]) + imag(g[9])*wt[9]) + ((imag(g[10])*wt[10] + imag(g[11])*wt[11]) + imag(g[12])*wt[12]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) + (((real(g[7])*k7 + real(g[8])*k8) + real(g[9])*k9) + ((real(g[10])*k10 + real(g[11])*k11) + real(g[12])*k12))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) + (((imag(g[7])*k7 + imag(g[8])*k8) + imag(g[9])*k9) + ((imag(g[10])*k10 + imag(g[11])*k11) + imag(g[12])*k12))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1516,36 +1683,36 @@ func (p *plan) spread13(band []complex128, ylo, lo, hi int) {
 		wt := (*[26]float64)(p.wts[26*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
 		for dy := range 13 {
 			wy := wt[13+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[13]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := wt[11]
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := wt[12]
-			g[12] += complex(cr*wx12, ci*wx12)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
 		}
 	}
 }
@@ -1561,6 +1728,19 @@ func (p *plan) interp13f32(lo, hi int) {
 		}
 		wt := (*[26]float32)(p.wts32[26*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
 		for dy := range 13 {
 			r := y0 + dy
 			if r >= fy {
@@ -1568,8 +1748,8 @@ func (p *plan) interp13f32(lo, hi int) {
 			}
 			g := (*[13]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[13+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) + (((real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])) + real(g[9])*float64(wt[9])) + ((real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11])) + real(g[12])*float64(wt[12])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) + (((imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])) + imag(g[9])*float64(wt[9])) + ((imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11])) + imag(g[12])*float64(wt[12])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) + (((real(g[7])*k7 + real(g[8])*k8) + real(g[9])*k9) + ((real(g[10])*k10 + real(g[11])*k11) + real(g[12])*k12))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) + (((imag(g[7])*k7 + imag(g[8])*k8) + imag(g[9])*k9) + ((imag(g[10])*k10 + imag(g[11])*k11) + imag(g[12])*k12))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1586,36 +1766,36 @@ func (p *plan) spread13f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[26]float32)(p.wts32[26*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
 		for dy := range 13 {
 			wy := float64(wt[13+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[13]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := float64(wt[11])
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := float64(wt[12])
-			g[12] += complex(cr*wx12, ci*wx12)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
 		}
 	}
 }
@@ -1631,6 +1811,20 @@ func (p *plan) interp14(lo, hi int) {
 		}
 		wt := (*[28]float64)(p.wts[28*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
 		for dy := range 14 {
 			r := y0 + dy
 			if r >= fy {
@@ -1638,8 +1832,8 @@ func (p *plan) interp14(lo, hi int) {
 			}
 			g := (*[14]complex128)(grid[r*fx+x0:])
 			wy := wt[14+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + real(g[6])*wt[6])) + (((real(g[7])*wt[7] + real(g[8])*wt[8]) + (real(g[9])*wt[9] + real(g[10])*wt[10])) + ((real(g[11])*wt[11] + real(g[12])*wt[12]) + real(g[13])*wt[13]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + imag(g[6])*wt[6])) + (((imag(g[7])*wt[7] + imag(g[8])*wt[8]) + (imag(g[9])*wt[9] + imag(g[10])*wt[10])) + ((imag(g[11])*wt[11] + imag(g[12])*wt[12]) + imag(g[13])*wt[13]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) + (((real(g[7])*k7 + real(g[8])*k8) + (real(g[9])*k9 + real(g[10])*k10)) + ((real(g[11])*k11 + real(g[12])*k12) + real(g[13])*k13))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) + (((imag(g[7])*k7 + imag(g[8])*k8) + (imag(g[9])*k9 + imag(g[10])*k10)) + ((imag(g[11])*k11 + imag(g[12])*k12) + imag(g[13])*k13))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1656,38 +1850,38 @@ func (p *plan) spread14(band []complex128, ylo, lo, hi int) {
 		wt := (*[28]float64)(p.wts[28*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
 		for dy := range 14 {
 			wy := wt[14+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[14]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := wt[11]
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := wt[12]
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := wt[13]
-			g[13] += complex(cr*wx13, ci*wx13)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
 		}
 	}
 }
@@ -1703,6 +1897,20 @@ func (p *plan) interp14f32(lo, hi int) {
 		}
 		wt := (*[28]float32)(p.wts32[28*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
 		for dy := range 14 {
 			r := y0 + dy
 			if r >= fy {
@@ -1710,8 +1918,8 @@ func (p *plan) interp14f32(lo, hi int) {
 			}
 			g := (*[14]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[14+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + real(g[6])*float64(wt[6]))) + (((real(g[7])*float64(wt[7]) + real(g[8])*float64(wt[8])) + (real(g[9])*float64(wt[9]) + real(g[10])*float64(wt[10]))) + ((real(g[11])*float64(wt[11]) + real(g[12])*float64(wt[12])) + real(g[13])*float64(wt[13])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + imag(g[6])*float64(wt[6]))) + (((imag(g[7])*float64(wt[7]) + imag(g[8])*float64(wt[8])) + (imag(g[9])*float64(wt[9]) + imag(g[10])*float64(wt[10]))) + ((imag(g[11])*float64(wt[11]) + imag(g[12])*float64(wt[12])) + imag(g[13])*float64(wt[13])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + real(g[6])*k6)) + (((real(g[7])*k7 + real(g[8])*k8) + (real(g[9])*k9 + real(g[10])*k10)) + ((real(g[11])*k11 + real(g[12])*k12) + real(g[13])*k13))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + imag(g[6])*k6)) + (((imag(g[7])*k7 + imag(g[8])*k8) + (imag(g[9])*k9 + imag(g[10])*k10)) + ((imag(g[11])*k11 + imag(g[12])*k12) + imag(g[13])*k13))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1728,38 +1936,38 @@ func (p *plan) spread14f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[28]float32)(p.wts32[28*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
 		for dy := range 14 {
 			wy := float64(wt[14+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[14]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := float64(wt[11])
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := float64(wt[12])
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := float64(wt[13])
-			g[13] += complex(cr*wx13, ci*wx13)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
 		}
 	}
 }
@@ -1775,6 +1983,21 @@ func (p *plan) interp15(lo, hi int) {
 		}
 		wt := (*[30]float64)(p.wts[30*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
+		k14 := wt[14]
 		for dy := range 15 {
 			r := y0 + dy
 			if r >= fy {
@@ -1782,8 +2005,8 @@ func (p *plan) interp15(lo, hi int) {
 			}
 			g := (*[15]complex128)(grid[r*fx+x0:])
 			wy := wt[15+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) + (((real(g[8])*wt[8] + real(g[9])*wt[9]) + (real(g[10])*wt[10] + real(g[11])*wt[11])) + ((real(g[12])*wt[12] + real(g[13])*wt[13]) + real(g[14])*wt[14]))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) + (((imag(g[8])*wt[8] + imag(g[9])*wt[9]) + (imag(g[10])*wt[10] + imag(g[11])*wt[11])) + ((imag(g[12])*wt[12] + imag(g[13])*wt[13]) + imag(g[14])*wt[14]))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) + (((real(g[8])*k8 + real(g[9])*k9) + (real(g[10])*k10 + real(g[11])*k11)) + ((real(g[12])*k12 + real(g[13])*k13) + real(g[14])*k14))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) + (((imag(g[8])*k8 + imag(g[9])*k9) + (imag(g[10])*k10 + imag(g[11])*k11)) + ((imag(g[12])*k12 + imag(g[13])*k13) + imag(g[14])*k14))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1800,40 +2023,40 @@ func (p *plan) spread15(band []complex128, ylo, lo, hi int) {
 		wt := (*[30]float64)(p.wts[30*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
+		k14 := wt[14]
 		for dy := range 15 {
 			wy := wt[15+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[15]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := wt[11]
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := wt[12]
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := wt[13]
-			g[13] += complex(cr*wx13, ci*wx13)
-			wx14 := wt[14]
-			g[14] += complex(cr*wx14, ci*wx14)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
+			g[14] += complex(cr*k14, ci*k14)
 		}
 	}
 }
@@ -1849,6 +2072,21 @@ func (p *plan) interp15f32(lo, hi int) {
 		}
 		wt := (*[30]float32)(p.wts32[30*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
+		k14 := float64(wt[14])
 		for dy := range 15 {
 			r := y0 + dy
 			if r >= fy {
@@ -1856,8 +2094,8 @@ func (p *plan) interp15f32(lo, hi int) {
 			}
 			g := (*[15]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[15+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) + (((real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])) + (real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11]))) + ((real(g[12])*float64(wt[12]) + real(g[13])*float64(wt[13])) + real(g[14])*float64(wt[14])))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) + (((imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])) + (imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11]))) + ((imag(g[12])*float64(wt[12]) + imag(g[13])*float64(wt[13])) + imag(g[14])*float64(wt[14])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) + (((real(g[8])*k8 + real(g[9])*k9) + (real(g[10])*k10 + real(g[11])*k11)) + ((real(g[12])*k12 + real(g[13])*k13) + real(g[14])*k14))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) + (((imag(g[8])*k8 + imag(g[9])*k9) + (imag(g[10])*k10 + imag(g[11])*k11)) + ((imag(g[12])*k12 + imag(g[13])*k13) + imag(g[14])*k14))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1874,40 +2112,40 @@ func (p *plan) spread15f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[30]float32)(p.wts32[30*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
+		k14 := float64(wt[14])
 		for dy := range 15 {
 			wy := float64(wt[15+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[15]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := float64(wt[11])
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := float64(wt[12])
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := float64(wt[13])
-			g[13] += complex(cr*wx13, ci*wx13)
-			wx14 := float64(wt[14])
-			g[14] += complex(cr*wx14, ci*wx14)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
+			g[14] += complex(cr*k14, ci*k14)
 		}
 	}
 }
@@ -1923,6 +2161,22 @@ func (p *plan) interp16(lo, hi int) {
 		}
 		wt := (*[32]float64)(p.wts[32*i:])
 		var ar, ai float64
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
+		k14 := wt[14]
+		k15 := wt[15]
 		for dy := range 16 {
 			r := y0 + dy
 			if r >= fy {
@@ -1930,8 +2184,8 @@ func (p *plan) interp16(lo, hi int) {
 			}
 			g := (*[16]complex128)(grid[r*fx+x0:])
 			wy := wt[16+dy]
-			ar += ((((real(g[0])*wt[0] + real(g[1])*wt[1]) + (real(g[2])*wt[2] + real(g[3])*wt[3])) + ((real(g[4])*wt[4] + real(g[5])*wt[5]) + (real(g[6])*wt[6] + real(g[7])*wt[7]))) + (((real(g[8])*wt[8] + real(g[9])*wt[9]) + (real(g[10])*wt[10] + real(g[11])*wt[11])) + ((real(g[12])*wt[12] + real(g[13])*wt[13]) + (real(g[14])*wt[14] + real(g[15])*wt[15])))) * wy
-			ai += ((((imag(g[0])*wt[0] + imag(g[1])*wt[1]) + (imag(g[2])*wt[2] + imag(g[3])*wt[3])) + ((imag(g[4])*wt[4] + imag(g[5])*wt[5]) + (imag(g[6])*wt[6] + imag(g[7])*wt[7]))) + (((imag(g[8])*wt[8] + imag(g[9])*wt[9]) + (imag(g[10])*wt[10] + imag(g[11])*wt[11])) + ((imag(g[12])*wt[12] + imag(g[13])*wt[13]) + (imag(g[14])*wt[14] + imag(g[15])*wt[15])))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) + (((real(g[8])*k8 + real(g[9])*k9) + (real(g[10])*k10 + real(g[11])*k11)) + ((real(g[12])*k12 + real(g[13])*k13) + (real(g[14])*k14 + real(g[15])*k15)))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) + (((imag(g[8])*k8 + imag(g[9])*k9) + (imag(g[10])*k10 + imag(g[11])*k11)) + ((imag(g[12])*k12 + imag(g[13])*k13) + (imag(g[14])*k14 + imag(g[15])*k15)))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -1948,42 +2202,42 @@ func (p *plan) spread16(band []complex128, ylo, lo, hi int) {
 		wt := (*[32]float64)(p.wts[32*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := wt[0]
+		k1 := wt[1]
+		k2 := wt[2]
+		k3 := wt[3]
+		k4 := wt[4]
+		k5 := wt[5]
+		k6 := wt[6]
+		k7 := wt[7]
+		k8 := wt[8]
+		k9 := wt[9]
+		k10 := wt[10]
+		k11 := wt[11]
+		k12 := wt[12]
+		k13 := wt[13]
+		k14 := wt[14]
+		k15 := wt[15]
 		for dy := range 16 {
 			wy := wt[16+dy]
 			cr, ci := vr*wy, vi*wy
 			g := (*[16]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := wt[0]
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := wt[1]
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := wt[2]
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := wt[3]
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := wt[4]
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := wt[5]
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := wt[6]
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := wt[7]
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := wt[8]
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := wt[9]
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := wt[10]
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := wt[11]
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := wt[12]
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := wt[13]
-			g[13] += complex(cr*wx13, ci*wx13)
-			wx14 := wt[14]
-			g[14] += complex(cr*wx14, ci*wx14)
-			wx15 := wt[15]
-			g[15] += complex(cr*wx15, ci*wx15)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
+			g[14] += complex(cr*k14, ci*k14)
+			g[15] += complex(cr*k15, ci*k15)
 		}
 	}
 }
@@ -1999,6 +2253,22 @@ func (p *plan) interp16f32(lo, hi int) {
 		}
 		wt := (*[32]float32)(p.wts32[32*i:])
 		var ar, ai float64
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
+		k14 := float64(wt[14])
+		k15 := float64(wt[15])
 		for dy := range 16 {
 			r := y0 + dy
 			if r >= fy {
@@ -2006,8 +2276,8 @@ func (p *plan) interp16f32(lo, hi int) {
 			}
 			g := (*[16]complex128)(grid[r*fx+x0:])
 			wy := float64(wt[16+dy])
-			ar += ((((real(g[0])*float64(wt[0]) + real(g[1])*float64(wt[1])) + (real(g[2])*float64(wt[2]) + real(g[3])*float64(wt[3]))) + ((real(g[4])*float64(wt[4]) + real(g[5])*float64(wt[5])) + (real(g[6])*float64(wt[6]) + real(g[7])*float64(wt[7])))) + (((real(g[8])*float64(wt[8]) + real(g[9])*float64(wt[9])) + (real(g[10])*float64(wt[10]) + real(g[11])*float64(wt[11]))) + ((real(g[12])*float64(wt[12]) + real(g[13])*float64(wt[13])) + (real(g[14])*float64(wt[14]) + real(g[15])*float64(wt[15]))))) * wy
-			ai += ((((imag(g[0])*float64(wt[0]) + imag(g[1])*float64(wt[1])) + (imag(g[2])*float64(wt[2]) + imag(g[3])*float64(wt[3]))) + ((imag(g[4])*float64(wt[4]) + imag(g[5])*float64(wt[5])) + (imag(g[6])*float64(wt[6]) + imag(g[7])*float64(wt[7])))) + (((imag(g[8])*float64(wt[8]) + imag(g[9])*float64(wt[9])) + (imag(g[10])*float64(wt[10]) + imag(g[11])*float64(wt[11]))) + ((imag(g[12])*float64(wt[12]) + imag(g[13])*float64(wt[13])) + (imag(g[14])*float64(wt[14]) + imag(g[15])*float64(wt[15]))))) * wy
+			ar += ((((real(g[0])*k0 + real(g[1])*k1) + (real(g[2])*k2 + real(g[3])*k3)) + ((real(g[4])*k4 + real(g[5])*k5) + (real(g[6])*k6 + real(g[7])*k7))) + (((real(g[8])*k8 + real(g[9])*k9) + (real(g[10])*k10 + real(g[11])*k11)) + ((real(g[12])*k12 + real(g[13])*k13) + (real(g[14])*k14 + real(g[15])*k15)))) * wy
+			ai += ((((imag(g[0])*k0 + imag(g[1])*k1) + (imag(g[2])*k2 + imag(g[3])*k3)) + ((imag(g[4])*k4 + imag(g[5])*k5) + (imag(g[6])*k6 + imag(g[7])*k7))) + (((imag(g[8])*k8 + imag(g[9])*k9) + (imag(g[10])*k10 + imag(g[11])*k11)) + ((imag(g[12])*k12 + imag(g[13])*k13) + (imag(g[14])*k14 + imag(g[15])*k15)))) * wy
 		}
 		p.sorted[i] = complex(ar, ai)
 	}
@@ -2024,42 +2294,42 @@ func (p *plan) spread16f32(band []complex128, ylo, lo, hi int) {
 		wt := (*[32]float32)(p.wts32[32*i:])
 		vis := p.sorted[i]
 		vr, vi := real(vis), imag(vis)
+		k0 := float64(wt[0])
+		k1 := float64(wt[1])
+		k2 := float64(wt[2])
+		k3 := float64(wt[3])
+		k4 := float64(wt[4])
+		k5 := float64(wt[5])
+		k6 := float64(wt[6])
+		k7 := float64(wt[7])
+		k8 := float64(wt[8])
+		k9 := float64(wt[9])
+		k10 := float64(wt[10])
+		k11 := float64(wt[11])
+		k12 := float64(wt[12])
+		k13 := float64(wt[13])
+		k14 := float64(wt[14])
+		k15 := float64(wt[15])
 		for dy := range 16 {
 			wy := float64(wt[16+dy])
 			cr, ci := vr*wy, vi*wy
 			g := (*[16]complex128)(band[(y0+dy)*fx+x0:])
-			wx0 := float64(wt[0])
-			g[0] += complex(cr*wx0, ci*wx0)
-			wx1 := float64(wt[1])
-			g[1] += complex(cr*wx1, ci*wx1)
-			wx2 := float64(wt[2])
-			g[2] += complex(cr*wx2, ci*wx2)
-			wx3 := float64(wt[3])
-			g[3] += complex(cr*wx3, ci*wx3)
-			wx4 := float64(wt[4])
-			g[4] += complex(cr*wx4, ci*wx4)
-			wx5 := float64(wt[5])
-			g[5] += complex(cr*wx5, ci*wx5)
-			wx6 := float64(wt[6])
-			g[6] += complex(cr*wx6, ci*wx6)
-			wx7 := float64(wt[7])
-			g[7] += complex(cr*wx7, ci*wx7)
-			wx8 := float64(wt[8])
-			g[8] += complex(cr*wx8, ci*wx8)
-			wx9 := float64(wt[9])
-			g[9] += complex(cr*wx9, ci*wx9)
-			wx10 := float64(wt[10])
-			g[10] += complex(cr*wx10, ci*wx10)
-			wx11 := float64(wt[11])
-			g[11] += complex(cr*wx11, ci*wx11)
-			wx12 := float64(wt[12])
-			g[12] += complex(cr*wx12, ci*wx12)
-			wx13 := float64(wt[13])
-			g[13] += complex(cr*wx13, ci*wx13)
-			wx14 := float64(wt[14])
-			g[14] += complex(cr*wx14, ci*wx14)
-			wx15 := float64(wt[15])
-			g[15] += complex(cr*wx15, ci*wx15)
+			g[0] += complex(cr*k0, ci*k0)
+			g[1] += complex(cr*k1, ci*k1)
+			g[2] += complex(cr*k2, ci*k2)
+			g[3] += complex(cr*k3, ci*k3)
+			g[4] += complex(cr*k4, ci*k4)
+			g[5] += complex(cr*k5, ci*k5)
+			g[6] += complex(cr*k6, ci*k6)
+			g[7] += complex(cr*k7, ci*k7)
+			g[8] += complex(cr*k8, ci*k8)
+			g[9] += complex(cr*k9, ci*k9)
+			g[10] += complex(cr*k10, ci*k10)
+			g[11] += complex(cr*k11, ci*k11)
+			g[12] += complex(cr*k12, ci*k12)
+			g[13] += complex(cr*k13, ci*k13)
+			g[14] += complex(cr*k14, ci*k14)
+			g[15] += complex(cr*k15, ci*k15)
 		}
 	}
 }
