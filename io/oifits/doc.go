@@ -21,6 +21,10 @@
 // is finite. Flagged points and non-finite values are kept, with their
 // FLAG, for the data set model to drop and count.
 //
+// OIFITS v1 has no AMPTYP/PHITYP keywords; Vis.AmpTyp and Vis.PhiTyp are
+// then "" (not stated) and the data set model decides how to treat them.
+// Primary-header HISTORY and COMMENT cards are kept in File.Primary.
+//
 // Every error is an *Error naming the file, HDU number, EXTNAME, row and
 // column where they are known.
 //
