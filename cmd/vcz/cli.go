@@ -1,0 +1,236 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"runtime/debug"
+	"sort"
+	"strings"
+)
+
+// Exit codes, documented in doc.go.
+const (
+	exitOK       = 0 // success
+	exitFailure  = 1 // the computation failed (no convergence, non-finite values, I/O while writing)
+	exitBadInput = 2 // bad input files, bad options or wrong usage
+)
+
+// version is the release this source tree describes. Builds from a
+// checkout add the VCS revision when the toolchain records one.
+const version = "0.1.0-dev"
+
+// exitError carries the exit code that an error should produce.
+type exitError struct {
+	code int
+	err  error
+}
+
+func (e *exitError) Error() string { return e.err.Error() }
+func (e *exitError) Unwrap() error { return e.err }
+
+// badInput marks err as caused by the user's input or options (exit 2).
+func badInput(err error) error {
+	if err == nil {
+		return nil
+	}
+	return &exitError{code: exitBadInput, err: err}
+}
+
+// badInputf formats a bad-input error.
+func badInputf(format string, args ...any) error {
+	return badInput(fmt.Errorf(format, args...))
+}
+
+// failure marks err as a failure of the computation (exit 1).
+func failure(err error) error {
+	if err == nil {
+		return nil
+	}
+	return &exitError{code: exitFailure, err: err}
+}
+
+// errHelp is returned when the user asked for help; it exits with 0.
+var errHelp = errors.New("help requested")
+
+// command is one subcommand of vcz.
+type command struct {
+	name    string
+	summary string
+	// run executes the subcommand with its own arguments. It returns nil on
+	// success, errHelp after printing help, or an error whose exit code is
+	// chosen by exitCode.
+	run func(args []string, stdout, stderr io.Writer) error
+}
+
+// commands lists the subcommands; it is filled in init so that help, which
+// lists the commands, can refer to the table.
+var commands map[string]*command
+
+func init() {
+	commands = map[string]*command{}
+	for _, c := range []*command{
+		{name: "image", summary: "reconstruct an image from OIFITS data and write FITS, PNG and fit plots", run: runImage},
+		{name: "demo", summary: "reconstruct the embedded demo data set and write the results into a folder", run: runDemo},
+		{name: "simulate", summary: "simulate OIFITS data of a model observed with an observing plan", run: runSimulate},
+		{name: "inspect", summary: "summarise OIFITS files: targets, data, baselines, resolution", run: runInspect},
+		{name: "version", summary: "print the version of vcz", run: runVersion},
+		{name: "help", summary: "show help for vcz or for one command", run: runHelp},
+	} {
+		commands[c.name] = c
+	}
+}
+
+// run is the whole program: it takes the argument list (without the program
+// name) and the output writers, and returns the exit code.
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		printUsage(stderr)
+		return exitBadInput
+	}
+	name := args[0]
+	switch name {
+	case "-h", "-help", "--help":
+		printUsage(stdout)
+		return exitOK
+	case "-version", "--version":
+		name = "version"
+	}
+	c, ok := commands[name]
+	if !ok {
+		fmt.Fprintf(stderr, "vcz: unknown command %q; run 'vcz help' for the list\n", name)
+		return exitBadInput
+	}
+	return exitCode(c.run(args[1:], stdout, stderr), stderr)
+}
+
+// exitCode reports err on stderr in one line and turns it into an exit code.
+func exitCode(err error, stderr io.Writer) int {
+	if err == nil || errors.Is(err, errHelp) {
+		return exitOK
+	}
+	msg := strings.TrimSpace(err.Error())
+	msg = strings.ReplaceAll(msg, "\n", "; ")
+	fmt.Fprintf(stderr, "vcz: %s\n", msg)
+	var ee *exitError
+	if errors.As(err, &ee) {
+		return ee.code
+	}
+	return exitFailure
+}
+
+func printUsage(w io.Writer) {
+	fmt.Fprint(w, `vcz rebuilds images of the sky from interferometric data (OIFITS).
+
+Usage:
+  vcz COMMAND [options] [arguments]
+
+Commands:
+`)
+	names := make([]string, 0, len(commands))
+	for n := range commands {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+	}
+	fmt.Fprint(w, `
+Run 'vcz help COMMAND' or 'vcz COMMAND --help' for the options of one command.
+
+Exit status: 0 success, 1 the computation failed, 2 bad input or usage.
+`)
+}
+
+// newFlagSet makes the flag set of one subcommand. Its usage text starts with
+// the given synopsis and description, followed by the flags. Parse errors are
+// reported by parseFlags, not by the flag package.
+func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.FlagSet {
+	fs := flag.NewFlagSet("vcz "+name, flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	fs.Usage = func() {
+		out := fs.Output()
+		fmt.Fprintf(out, "Usage: vcz %s %s\n\n%s\n", name, synopsis, strings.TrimSpace(description))
+		has := false
+		fs.VisitAll(func(*flag.Flag) { has = true })
+		if has {
+			fmt.Fprint(out, "\nOptions:\n")
+			fs.PrintDefaults()
+		}
+	}
+	return fs
+}
+
+// parseFlags parses args with fs. Help goes to stdout and yields errHelp;
+// a bad flag yields a one-line bad-input error.
+func parseFlags(fs *flag.FlagSet, args []string, stdout io.Writer) error {
+	err := fs.Parse(args)
+	if err == nil {
+		return nil
+	}
+	if errors.Is(err, flag.ErrHelp) {
+		fs.SetOutput(stdout)
+		fs.Usage()
+		return errHelp
+	}
+	return badInputf("%s: %v (run '%s --help')", fs.Name()[len("vcz "):], err, fs.Name())
+}
+
+func runVersion(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("version", "", "Print the version of vcz and of the Go toolchain that built it.", stderr)
+	if err := parseFlags(fs, args, stdout); err != nil {
+		return err
+	}
+	if fs.NArg() > 0 {
+		return badInputf("version takes no arguments")
+	}
+	fmt.Fprintf(stdout, "vcz %s\n", versionString())
+	return nil
+}
+
+// versionString is the version with the VCS revision when known.
+func versionString() string {
+	v := version
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		var rev, dirty string
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				if len(s.Value) > 12 {
+					rev = s.Value[:12]
+				} else {
+					rev = s.Value
+				}
+			case "vcs.modified":
+				if s.Value == "true" {
+					dirty = "+modified"
+				}
+			}
+		}
+		if rev != "" {
+			v += " (" + rev + dirty + ")"
+		}
+		v += " " + bi.GoVersion
+	}
+	return v
+}
+
+func runHelp(args []string, stdout, stderr io.Writer) error {
+	if len(args) == 0 {
+		printUsage(stdout)
+		return nil
+	}
+	if len(args) > 1 {
+		return badInputf("help takes at most one command name")
+	}
+	c, ok := commands[args[0]]
+	if !ok {
+		return badInputf("unknown command %q; run 'vcz help' for the list", args[0])
+	}
+	if c.name == "help" {
+		printUsage(stdout)
+		return nil
+	}
+	return c.run([]string{"--help"}, stdout, stderr)
+}

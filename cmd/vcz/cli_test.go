@@ -1,0 +1,244 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"image/png"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"vcz/io/fitsimage"
+)
+
+// runCmd runs the program with args and returns stdout, stderr and the exit code.
+func runCmd(t *testing.T, args ...string) (string, string, int) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := run(args, &out, &errb)
+	return out.String(), errb.String(), code
+}
+
+func TestHelpAndVersion(t *testing.T) {
+	out, _, code := runCmd(t, "help")
+	if code != exitOK || !strings.Contains(out, "inspect") || !strings.Contains(out, "image") || !strings.Contains(out, "Exit status") {
+		t.Fatalf("help: code %d, output %q", code, out)
+	}
+	for name := range commands {
+		if name == "help" || name == "version" {
+			continue
+		}
+		out, _, code := runCmd(t, name, "--help")
+		if code != exitOK || !strings.HasPrefix(out, "Usage: vcz "+name) {
+			t.Errorf("%s --help: code %d, output starts %q", name, code, first(out))
+		}
+		out2, _, _ := runCmd(t, "help", name)
+		if out2 != out {
+			t.Errorf("'vcz help %s' differs from '%s --help'", name, name)
+		}
+	}
+	out, _, code = runCmd(t, "version")
+	if code != exitOK || !strings.HasPrefix(out, "vcz "+version) {
+		t.Fatalf("version: code %d, output %q", code, out)
+	}
+}
+
+func first(s string) string {
+	if i := strings.IndexByte(s, '\n'); i >= 0 {
+		return s[:i]
+	}
+	return s
+}
+
+// Usage errors and bad input exit with 2 and one line on stderr.
+func TestUsageErrors(t *testing.T) {
+	for _, args := range [][]string{
+		{},
+		{"frobnicate"},
+		{"inspect"},
+		{"inspect", "-nosuchflag", "x"},
+		{"inspect", "-wave", "2um:1um", "x.oifits"},
+		{"image", "-reg", "nosuch", "x.oifits"},
+		{"inspect", filepath.Join("..", "..", "testdata", "oifits", "bad", "vis2err-negative.oifits")},
+		{"inspect", "no-such-file.oifits"},
+	} {
+		_, errs, code := runCmd(t, args...)
+		if code != exitBadInput {
+			t.Errorf("%v: exit %d, want %d (stderr %q)", args, code, exitBadInput, errs)
+		}
+		if len(args) > 0 && (strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, "vcz: ")) {
+			t.Errorf("%v: stderr is not one line starting with 'vcz: ': %q", args, errs)
+		}
+	}
+}
+
+// The error for a bad file names the file, the table, the row and the column,
+// the form the foundation issue asks for.
+func TestBadFileMessage(t *testing.T) {
+	_, errs, code := runCmd(t, "inspect", filepath.Join("..", "..", "testdata", "oifits", "bad", "vis2err-negative.oifits"))
+	want := "vcz: vis2err-negative.oifits: OI_VIS2 (HDU 7) row 1: VIS2ERR is -0.01; errors must be positive\n"
+	if code != exitBadInput || errs != want {
+		t.Fatalf("got exit %d and %q, want %q", code, errs, want)
+	}
+}
+
+func TestParseAngle(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		want float64 // mas
+	}{{"0.25mas", 0.25}, {"250uas", 0.25}, {"0.001arcsec", 1}, {"2", 2}, {"1.5 mas", 1.5}} {
+		got, err := parseAngle(c.in)
+		if err != nil {
+			t.Errorf("%q: %v", c.in, err)
+			continue
+		}
+		if d := got/masRad - c.want; d > 1e-12*c.want || d < -1e-12*c.want {
+			t.Errorf("%q = %g mas, want %g", c.in, got/masRad, c.want)
+		}
+	}
+	for _, bad := range []string{"", "mas", "1.2furlong", "x1mas"} {
+		if _, err := parseAngle(bad); err == nil {
+			t.Errorf("%q: no error", bad)
+		}
+	}
+}
+
+// masRad is one milliarcsecond in radians, π/(180·3600·1000) by definition.
+const masRad = 3.141592653589793 / (180 * 3600 * 1000)
+
+// The demo data through inspect: JSON fields the foundation issue names,
+// and the resolution λmin/(2·Bmax) recomputed from the printed extremes
+// (common practice, no source).
+func TestInspectDemoJSON(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(path, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, errs, code := runCmd(t, "inspect", "-json", "-plot", filepath.Join(dir, "plots"), path)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var r map[string]any
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"files", "targets", "vis2", "t3", "vis", "baseline_m", "resolution_mas", "largest_scale_mas", "nights"} {
+		if _, ok := r[k]; !ok {
+			t.Errorf("JSON lacks %q", k)
+		}
+	}
+	var rep inspectReport
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if rep.Vis2.Valid == 0 || rep.T3.Valid == 0 || rep.Nights != 1 {
+		t.Fatalf("counts %+v %+v nights %d", rep.Vis2, rep.T3, rep.Nights)
+	}
+	res := rep.Wavelength.Min * 1e-6 / (2 * rep.Baseline.Max) / masRad
+	if d := res/rep.Resolution - 1; d > 1e-9 || d < -1e-9 {
+		t.Fatalf("resolution %g mas, λmin/(2·Bmax) = %g mas", rep.Resolution, res)
+	}
+	for _, name := range []string{"uv.png", "vis2.png"} {
+		checkPNG(t, filepath.Join(dir, "plots", name))
+	}
+}
+
+func checkPNG(t *testing.T, path string) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	m, err := png.Decode(f)
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	if b := m.Bounds(); b.Dx() < 200 || b.Dy() < 200 {
+		t.Fatalf("%s: only %v", path, b)
+	}
+}
+
+// requireTool finds an external reference tool, skipping without it on a
+// developer machine and failing when CI is set.
+func requireTool(t *testing.T, name string) string {
+	t.Helper()
+	p, err := exec.LookPath(name)
+	if err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatalf("%s is required in CI: %v", name, err)
+		}
+		t.Skipf("%s not installed", name)
+	}
+	return p
+}
+
+// A small end-to-end reconstruction of the demo data: exit 0, every output
+// written, the FITS file passes fitsverify with 0 warnings and 0 errors
+// (HEASARC fitsverify, the FITS standard checker) and reads back with the
+// grid the summary printed.
+func TestImageEndToEnd(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "rec.fits")
+	stdout, errs, code := runCmd(t, "image", "-n", "48", "-iter", "150", "-starts", "1", "-quiet", "-json", "-o", out, data)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var sum imageSummary
+	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
+		t.Fatalf("%v in %q", err, stdout)
+	}
+	if sum.Grid.N != 48 || sum.Outputs.FITS != out || sum.Outputs.PNG == "" || len(sum.Outputs.Plots) < 3 {
+		t.Fatalf("summary %+v", sum)
+	}
+	if !(sum.Chi2r > 0) || sum.Weight <= 0 || !sum.WeightAuto {
+		t.Fatalf("χ²ᵣ %g, weight %g, auto %v", sum.Chi2r, sum.Weight, sum.WeightAuto)
+	}
+	im, err := fitsimage.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if im.NX != 48 || im.NY != 48 {
+		t.Fatalf("FITS image %d × %d", im.NX, im.NY)
+	}
+	total := 0.0
+	for _, v := range im.Data {
+		if v < 0 {
+			t.Fatalf("negative pixel %g: positivity is violated", v)
+		}
+		total += v
+	}
+	if d := total - 1; d > 1e-9 || d < -1e-9 {
+		t.Fatalf("total flux %g, want 1 (CONVENTIONS.md)", total)
+	}
+	checkPNG(t, sum.Outputs.PNG)
+	for _, p := range sum.Outputs.Plots {
+		checkPNG(t, p)
+	}
+	fv := requireTool(t, "fitsverify")
+	vout, err := exec.Command(fv, "-q", out).CombinedOutput()
+	if err != nil || !strings.HasPrefix(string(vout), "verification OK") || strings.Contains(string(vout), "warning") {
+		t.Fatalf("fitsverify: %v: %s", err, vout)
+	}
+}
+
+// A run that fails leaves no output file behind.
+func TestImageFailureLeavesNoFile(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "rec.fits")
+	_, _, code := runCmd(t, "image", "-o", out, filepath.Join("..", "..", "testdata", "oifits", "bad", "truncated-data.oifits"))
+	if code != exitBadInput {
+		t.Fatalf("exit %d", code)
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 0 {
+		t.Fatalf("left %d files behind", len(entries))
+	}
+}

@@ -1,0 +1,228 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"vcz/io/oifits"
+	"vcz/recon"
+)
+
+const imageDoc = `Reconstruct an image from one or more OIFITS files (merged into one data set)
+and write it as a FITS image with world coordinates, a PNG preview and plots
+of the fit to the data.
+
+The grid, the start image and the regularization weight are chosen from the
+data unless given: the pixel is a quarter of the nominal resolution
+λmin/(2·Bmax), the field three times the size of a disc or Gaussian fitted to
+V², and the weight the one at which χ²ᵣ of the data is closest to 1.
+
+The image is one solution consistent with the data, not a photograph:
+features smaller than the resolution λ/(2·Bmax) are not constrained, and a
+feature is only trusted when it survives a change of regularizer.
+
+Outputs (OUT defaults to the first file's name with -image.fits):
+  OUT.fits            the image, normalised to a total flux of 1, with provenance
+  OUT.png             preview: north up, east left, scale bar, resolution circle
+  OUT-vis2.png        V² data and model against spatial frequency
+  OUT-t3phi.png       closure phases, data and model
+  OUT-residuals.png   residuals normalised by their errors
+  OUT-lcurve.png      the weight path, when the weight was chosen automatically`
+
+// imageSummary is the JSON summary of one reconstruction.
+type imageSummary struct {
+	Outputs     outputPaths      `json:"outputs"`
+	Target      string           `json:"target"`
+	Grid        inspectGrid      `json:"grid"`
+	Regularizer string           `json:"regularizer"`
+	Weight      float64          `json:"weight"`
+	WeightAuto  bool             `json:"weight_auto"`
+	Chi2r       float64          `json:"chi2r"`
+	Chi2ByType  map[string]chi2J `json:"chi2r_by_type"`
+	RegValue    float64          `json:"regularizer_value"`
+	Iterations  int              `json:"iterations"`
+	TotalIter   int              `json:"total_iterations"`
+	Status      string           `json:"status"`
+	Converged   bool             `json:"converged"`
+	Seconds     float64          `json:"seconds"`
+	Path        []pathJ          `json:"weight_path,omitempty"`
+	Notices     []string         `json:"notices"`
+}
+
+type chi2J struct {
+	N     int     `json:"n"`
+	Chi2r float64 `json:"chi2r"`
+}
+
+type pathJ struct {
+	Weight float64 `json:"weight"`
+	Chi2r  float64 `json:"chi2r"`
+	Reg    float64 `json:"regularizer"`
+	Iter   int     `json:"iterations"`
+}
+
+func runImage(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
+	var f imageFlags
+	f.register(fs)
+	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
+	noPNG := fs.Bool("no-png", false, "do not write the PNG preview")
+	noPlots := fs.Bool("no-plots", false, "do not write the data-fit plots")
+	quiet := fs.Bool("quiet", false, "print nothing on stderr but errors")
+	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
+	if err := parseFlags(fs, args, stdout); err != nil {
+		return err
+	}
+	if fs.NArg() == 0 {
+		return badInputf("image: no OIFITS file given (run 'vcz image --help')")
+	}
+	if *out == "" {
+		base := filepath.Base(fs.Arg(0))
+		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
+	}
+	sel, err := f.sel.selection()
+	if err != nil {
+		return badInputf("image: %v", err)
+	}
+	files, d, err := readData(fs.Args(), sel)
+	if err != nil {
+		return err
+	}
+	sum, err := reconstruct(files, d, &f, *out, !*noPNG, !*noPlots, *quiet, stderr)
+	if err != nil {
+		return err
+	}
+	if *asJSON {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		return enc.Encode(sum)
+	}
+	if !*quiet {
+		printImageSummary(stdout, sum)
+	}
+	return nil
+}
+
+// reconstruct runs one reconstruction of d with the options f and writes its
+// outputs to out. Messages go to stderr unless quiet.
+func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string, png, withPlots, quiet bool, stderr io.Writer) (imageSummary, error) {
+	var sum imageSummary
+	if len(d.Targets) > 1 {
+		return sum, badInputf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
+	}
+	if d.Len(recon.AllTypes) == 0 {
+		return sum, badInputf("no usable data points after selection")
+	}
+	p, s, err := f.problem(d)
+	if err != nil {
+		return sum, badInput(err)
+	}
+	if !quiet {
+		for _, n := range d.Notices {
+			fmt.Fprintf(stderr, "note: %s\n", n)
+		}
+	}
+	prog := newProgressLine(stderr, quiet)
+	s.Progress = func(pr recon.Progress) bool {
+		prog.update(pr.Stage, pr.Iter, pr.Objective, pr.Chi2r, pr.Weight)
+		return true
+	}
+	t0 := time.Now()
+	res, err := recon.Solve(p, s)
+	prog.done()
+	if err != nil {
+		return sum, failure(err)
+	}
+	info := runInfo{files: d.Files, reg: regLabel(f.usedRegs), seed: f.seed, seconds: time.Since(t0).Seconds()}
+	if len(d.Targets) == 1 {
+		info.target = d.Targets[0]
+		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
+	}
+	info.selText = selectionText(f)
+	info.title = imageTitle(d, info)
+	paths, err := writeResult(out, d, res, info, png, withPlots)
+	if err != nil {
+		return sum, err
+	}
+	sum = makeImageSummary(res, info, paths)
+	return sum, nil
+}
+
+// selectionText describes the selection options for the provenance.
+func selectionText(f *imageFlags) string {
+	var parts []string
+	add := func(k, v string) {
+		if v != "" {
+			parts = append(parts, k+"="+v)
+		}
+	}
+	add("target", f.sel.target)
+	add("wave", f.sel.wave)
+	add("mjd", f.sel.mjd)
+	add("ins", f.sel.ins)
+	add("use", f.sel.use)
+	return strings.Join(parts, " ")
+}
+
+func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageSummary {
+	s := imageSummary{
+		Outputs: paths, Target: info.target, Regularizer: info.reg,
+		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
+			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
+		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, RegValue: res.Reg,
+		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
+		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
+		Notices: nonNil(res.Notices),
+	}
+	for _, t := range res.Chi2 {
+		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
+	}
+	for _, p := range res.Path {
+		s.Path = append(s.Path, pathJ{p.Weight, p.Chi2r, p.Reg, p.Iter})
+	}
+	return s
+}
+
+func printImageSummary(w io.Writer, s imageSummary) {
+	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas (field %.4g mas)\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas, s.Grid.FOVMas)
+	for _, r := range s.Grid.Reasons {
+		fmt.Fprintf(w, "  - %s\n", r)
+	}
+	how := "given"
+	if s.WeightAuto {
+		how = fmt.Sprintf("chosen from %d weights so that χ²ᵣ is closest to 1", len(s.Path))
+	}
+	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
+	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
+	for _, tn := range typeNames {
+		name := tn.t.String()
+		if c, ok := s.Chi2ByType[name]; ok {
+			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)
+		}
+	}
+	fmt.Fprintln(w)
+	conv := "converged"
+	if !s.Converged {
+		conv = "NOT converged"
+	}
+	if s.Converged {
+		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s, %.1f s\n", s.Iterations, s.TotalIter, s.Status, s.Seconds)
+	} else {
+		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s: %s, %.1f s\n", s.Iterations, s.TotalIter, conv, s.Status, s.Seconds)
+	}
+	for _, n := range s.Notices {
+		fmt.Fprintf(w, "Note:        %s\n", n)
+	}
+	fmt.Fprintf(w, "Wrote %s\n", s.Outputs.FITS)
+	if s.Outputs.PNG != "" {
+		fmt.Fprintf(w, "Wrote %s\n", s.Outputs.PNG)
+	}
+	for _, p := range s.Outputs.Plots {
+		fmt.Fprintf(w, "Wrote %s\n", p)
+	}
+	fmt.Fprintln(w, "The image is one solution consistent with the data; structure below the resolution is not constrained.")
+}

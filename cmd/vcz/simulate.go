@@ -1,0 +1,147 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"strings"
+
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/recon"
+	"vcz/recon/model"
+	"vcz/recon/simulate"
+)
+
+const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
+write them as an OIFITS v2 file. The model is either analytic components
+(-model, a TOML file or the inline form below) or a FITS image (-image, any
+pixel scale; its world coordinates are read with east to the left).
+
+Examples:
+  vcz simulate -plan examples/plan-six-demo.toml -model examples/model-vaeloris.toml -o demo.oifits
+  vcz simulate -plan plan.toml -model "ud:diameter=3;point:x=6,y=2,flux=0.05" -o binary.oifits
+  vcz simulate -plan plan.toml -image truth.fits -o sim.oifits
+
+Run 'vcz simulate -help-plan' for every key of a plan file and
+'vcz simulate -help-model' for the model forms and components.`
+
+func runSimulate(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("simulate", "-plan PLAN.toml (-model MODEL | -image FILE.fits) -o OUT.oifits", simulateDoc, stderr)
+	planPath := fs.String("plan", "", "observing plan (TOML)")
+	modelSpec := fs.String("model", "", "model: a TOML model file or the inline form, e.g. \"ld:diameter=4,u_ld=0.4\"")
+	imagePath := fs.String("image", "", "model as a FITS image instead of -model")
+	out := fs.String("o", "", "output OIFITS file")
+	seed := fs.Int64("seed", -1, "noise seed, overriding the plan's seed")
+	writeImage := fs.String("write-image", "", "also write the -model as a FITS image to this file (same world coordinates as reconstructions)")
+	n := fs.Int("n", 128, "grid size in pixels of -write-image")
+	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the simulated data's resolution)")
+	helpPlan := fs.Bool("help-plan", false, "describe every key of an observing plan and exit")
+	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
+	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	if err := parseFlags(fs, args, stdout); err != nil {
+		return err
+	}
+	if *helpPlan {
+		fmt.Fprint(stdout, simulate.PlanHelp)
+		return errHelp
+	}
+	if *helpModel {
+		fmt.Fprint(stdout, model.Help())
+		return errHelp
+	}
+	if fs.NArg() > 0 {
+		return badInputf("simulate: unexpected argument %q (run 'vcz simulate --help')", fs.Arg(0))
+	}
+	if *planPath == "" || *out == "" {
+		return badInputf("simulate: -plan and -o are required (run 'vcz simulate --help')")
+	}
+	if (*modelSpec == "") == (*imagePath == "") {
+		return badInputf("simulate: give exactly one of -model and -image")
+	}
+	if *writeImage != "" && *modelSpec == "" {
+		return badInputf("simulate: -write-image needs -model")
+	}
+	if *n < 2 || *n%2 != 0 || *n > 4096 {
+		return badInputf("simulate: -n %d must be an even number from 2 to 4096", *n)
+	}
+	plan, err := simulate.LoadPlan(*planPath)
+	if err != nil {
+		return badInput(err)
+	}
+	if *seed >= 0 {
+		plan.Seed = uint64(*seed)
+	}
+	var sky simulate.Sky
+	var m *model.Model
+	if *modelSpec != "" {
+		if m, err = model.Load(*modelSpec); err != nil {
+			return badInputf("simulate: -model: %v", err)
+		}
+		sky = simulate.ModelSky{Model: m}
+	} else {
+		im, err := fitsimage.ReadFile(*imagePath)
+		if err != nil {
+			return badInput(err)
+		}
+		sky = simulate.ImageSky{NX: im.NX, NY: im.NY, Pixel: im.Pixel, Data: im.Data}
+	}
+	f, rep, err := simulate.Run(plan, sky)
+	if err != nil {
+		return badInput(err)
+	}
+	if err := oifits.WriteFile(*out, f); err != nil {
+		return failure(err)
+	}
+	if !*quiet {
+		fmt.Fprint(stdout, rep.String())
+		fmt.Fprintf(stdout, "Wrote %s\n", *out)
+	}
+	if *writeImage != "" {
+		px := 0.0
+		if *pixel != "" {
+			if px, err = parseAngle(*pixel); err != nil || !(px > 0) {
+				return badInputf("simulate: -pixel %q: want a positive angle such as 0.1mas", *pixel)
+			}
+		} else {
+			d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+			if err != nil {
+				return failure(err)
+			}
+			px = d.Summarize().Resolution / 4
+		}
+		img := m.Image(*n, *n, px)
+		name := ""
+		if len(f.Targets) > 0 {
+			name = f.Targets[0].Name
+		}
+		if err := writeModelFITS(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
+			return failure(err)
+		}
+		if !*quiet {
+			fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
+		}
+	}
+	return nil
+}
+
+// writeModelFITS writes a model image with the world coordinates of the
+// reconstructions, so truth and reconstruction compare pixel by pixel.
+func writeModelFITS(path string, img []float64, n int, pixel float64, files []*oifits.File, target, what string) error {
+	ra, dec, ok := targetCoords(files, target)
+	im := &fitsimage.Image{NX: n, NY: n, Pixel: pixel, Data: img, RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
+		Cards: []fitsimage.Card{
+			{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
+			{Key: "CREATOR", Value: "vcz " + version, Comment: "software that made this image"},
+			{Key: "HISTORY", Value: fitsASCII(what)},
+		}}
+	return fitsimage.WriteFile(path, im)
+}
+
+// readImageData reads the pixels of a FITS image.
+func readImageData(path string) ([]float64, error) {
+	im, err := fitsimage.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return im.Data, nil
+}
