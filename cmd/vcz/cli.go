@@ -64,12 +64,20 @@ type command struct {
 	run func(args []string, stdout, stderr io.Writer) error
 }
 
-// commands lists the subcommands; it is filled in init so that help, which
-// lists the commands, can refer to the table.
-var commands map[string]*command
+// commands lists the subcommands. It is made before any init function runs,
+// so a command defined in its own file may add itself with register in that
+// file's init.
+var commands = map[string]*command{}
+
+// register adds a subcommand; it is called from init functions.
+func register(c *command) {
+	if _, dup := commands[c.name]; dup {
+		panic("vcz: command " + c.name + " registered twice")
+	}
+	commands[c.name] = c
+}
 
 func init() {
-	commands = map[string]*command{}
 	for _, c := range []*command{
 		{name: "image", summary: "reconstruct an image from OIFITS data and write FITS, PNG and fit plots", run: runImage},
 		{name: "demo", summary: "reconstruct the embedded demo data set and write the results into a folder", run: runDemo},
@@ -78,7 +86,7 @@ func init() {
 		{name: "version", summary: "print the version of vcz", run: runVersion},
 		{name: "help", summary: "show help for vcz or for one command", run: runHelp},
 	} {
-		commands[c.name] = c
+		register(c)
 	}
 }
 
