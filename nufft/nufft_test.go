@@ -412,6 +412,7 @@ func TestWorkers(t *testing.T) {
 			refF, refA = f1, a1
 			continue
 		}
+		t.Logf("%d workers vs 1: Forward %.2g, Adjoint %.2g", w, relErrC(f1, refF), relErrR(a1, refA))
 		if d := relErrC(f1, refF); d > 1e-13 {
 			t.Errorf("Forward with %d workers differs from 1 worker by %g", w, d)
 		}
