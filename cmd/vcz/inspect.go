@@ -148,8 +148,8 @@ func nonNil(s []string) []string {
 }
 
 func printInspect(w io.Writer, r inspectReport) {
-	fmt.Fprintf(w, "Files:        %s\n", strings.Join(r.Files, ", "))
-	fmt.Fprintf(w, "Targets:      %s\n", orNone(strings.Join(r.Targets, ", ")))
+	fmt.Fprintf(w, "Files:          %s\n", strings.Join(r.Files, ", "))
+	fmt.Fprintf(w, "Targets:        %s\n", orNone(strings.Join(r.Targets, ", ")))
 	fmt.Fprintf(w, "Instruments:\n")
 	for _, in := range r.Instruments {
 		fmt.Fprintf(w, "  %-20s %3d channels, %.4g–%.4g µm\n", in.Name, in.Channels, in.MinUm, in.MaxUm)
@@ -157,22 +157,22 @@ func printInspect(w io.Writer, r inspectReport) {
 	if len(r.Instruments) == 0 {
 		fmt.Fprintf(w, "  (none with selected data)\n")
 	}
-	fmt.Fprintf(w, "Data points:  %-8s %8s %8s %10s\n", "", "valid", "flagged", "non-finite")
+	fmt.Fprintf(w, "Data points:    %-8s %8s %8s %10s\n", "", "valid", "flagged", "non-finite")
 	for _, c := range []struct {
 		name string
 		c    inspectCounts
 	}{{"V²", r.Vis2}, {"closure", r.T3}, {"vis", r.Vis}} {
-		fmt.Fprintf(w, "              %-8s %8d %8d %10d\n", c.name, c.c.Valid, c.c.Flagged, c.c.NonFinite)
+		fmt.Fprintf(w, "                %-8s %8d %8d %10d\n", c.name, c.c.Valid, c.c.Flagged, c.c.NonFinite)
 	}
 	fmt.Fprintf(w, "(closure = OI_T3 triangle-channels, vis = OI_VIS baseline-channels)\n")
 	if r.Baseline.Max == 0 {
 		fmt.Fprintf(w, "No valid data points: nothing to image.\n")
 	} else {
-		fmt.Fprintf(w, "Baselines:    %.4g – %.4g m (%.4g – %.4g Mλ)\n", r.Baseline.Min, r.Baseline.Max, r.Frequency.Min, r.Frequency.Max)
-		fmt.Fprintf(w, "Wavelengths:  %.4g – %.4g µm\n", r.Wavelength.Min, r.Wavelength.Max)
-		fmt.Fprintf(w, "Resolution:   %.4g mas (λmin/(2·Bmax))\n", r.Resolution)
+		fmt.Fprintf(w, "Baselines:      %.4g – %.4g m (%.4g – %.4g Mλ)\n", r.Baseline.Min, r.Baseline.Max, r.Frequency.Min, r.Frequency.Max)
+		fmt.Fprintf(w, "Wavelengths:    %.4g – %.4g µm\n", r.Wavelength.Min, r.Wavelength.Max)
+		fmt.Fprintf(w, "Resolution:     %.4g mas (λmin/(2·Bmax))\n", r.Resolution)
 		if r.Largest > 0 {
-			fmt.Fprintf(w, "Largest scale: %.4g mas (λmax/Bmin)\n", r.Largest)
+			fmt.Fprintf(w, "Largest scale:  %.4g mas (λmax/Bmin)\n", r.Largest)
 		}
 		if r.Grid.N > 0 {
 			fmt.Fprintf(w, "Suggested grid: %d × %d pixels of %.4g mas (field %.4g mas)\n", r.Grid.N, r.Grid.N, r.Grid.PixelMas, r.Grid.FOVMas)
@@ -180,7 +180,7 @@ func printInspect(w io.Writer, r inspectReport) {
 				fmt.Fprintf(w, "  - %s\n", why)
 			}
 		}
-		fmt.Fprintf(w, "MJD:          %.5f – %.5f (%d night%s)\n", r.MJD.Min, r.MJD.Max, r.Nights, plural(r.Nights))
+		fmt.Fprintf(w, "MJD:            %.5f – %.5f (%d night%s)\n", r.MJD.Min, r.MJD.Max, r.Nights, plural(r.Nights))
 	}
 	for _, n := range r.Notices {
 		fmt.Fprintf(w, "Note: %s\n", n)
