@@ -172,9 +172,35 @@ func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.Flag
 
 // parseFlags parses args with fs. Help goes to stdout and yields errHelp;
 // a bad flag yields a one-line bad-input error.
+//
+// Flags may come before, between or after the positional arguments, as in
+// "vcz image data.oifits -o img.fits"; after "--" everything is positional.
+// The positional arguments are then available as fs.Args().
 func parseFlags(fs *flag.FlagSet, args []string, stdout io.Writer) error {
-	err := fs.Parse(args)
+	var pos []string
+	rest := args
+	var err error
+	for {
+		if err = fs.Parse(rest); err != nil {
+			break
+		}
+		rest = fs.Args()
+		if len(rest) == 0 {
+			break
+		}
+		// fs.Parse stops at the first non-flag argument or after "--".
+		consumed := len(args) - len(rest)
+		if consumed > 0 && args[consumed-1] == "--" {
+			pos = append(pos, rest...)
+			break
+		}
+		pos = append(pos, rest[0])
+		rest = rest[1:]
+		args = rest
+	}
 	if err == nil {
+		// Leave the positional arguments in fs.Args().
+		_ = fs.Parse(append([]string{"--"}, pos...))
 		return nil
 	}
 	if errors.Is(err, flag.ErrHelp) {

@@ -242,3 +242,26 @@ func TestImageFailureLeavesNoFile(t *testing.T) {
 		t.Fatalf("left %d files behind", len(entries))
 	}
 }
+
+// Flags may follow the positional arguments ("vcz image FILE -o OUT").
+func TestInterspersedFlags(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		pos  []string
+		o    string
+	}{
+		{[]string{"a", "-o", "x", "b"}, []string{"a", "b"}, "x"},
+		{[]string{"-o", "x", "a"}, []string{"a"}, "x"},
+		{[]string{"a", "b", "-o=y"}, []string{"a", "b"}, "y"},
+		{[]string{"a", "--", "-o", "z"}, []string{"a", "-o", "z"}, ""},
+	} {
+		fs := newFlagSet("t", "", "", nil)
+		o := fs.String("o", "", "")
+		if err := parseFlags(fs, c.args, nil); err != nil {
+			t.Fatalf("%v: %v", c.args, err)
+		}
+		if *o != c.o || strings.Join(fs.Args(), " ") != strings.Join(c.pos, " ") {
+			t.Errorf("%v: -o %q, args %q; want %q, %q", c.args, *o, fs.Args(), c.o, c.pos)
+		}
+	}
+}

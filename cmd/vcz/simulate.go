@@ -18,7 +18,7 @@ write them as an OIFITS v2 file. The model is either analytic components
 pixel scale; its world coordinates are read with east to the left).
 
 Examples:
-  vcz simulate -plan examples/plan-six-demo.toml -model examples/model-vaeloris.toml -o demo.oifits
+  vcz simulate -plan examples/plan-six-demo.toml -model examples/vaeloris.toml -o demo.oifits
   vcz simulate -plan plan.toml -model "ud:diameter=3;point:x=6,y=2,flux=0.05" -o binary.oifits
   vcz simulate -plan plan.toml -image truth.fits -o sim.oifits
 
