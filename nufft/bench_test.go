@@ -52,6 +52,35 @@ func benchPlan(b *testing.B, n, m, workers int, adjoint bool) {
 	b.ReportMetric(grid.Seconds()*1e3, "grid-ms")
 	_, _, total := p.memBytes()
 	b.ReportMetric(float64(total)/(1<<20), "plan-MiB")
+	b.ReportMetric(benchError(p, pixel, u, v, img, adjoint), "relerr")
+}
+
+// benchError returns the relative l2 error of one call against Exact on
+// the first 1000 points (for Adjoint: visibilities nonzero only there),
+// which keeps the direct sum affordable.
+func benchError(p *Plan, pixel float64, u, v, img []float64, adjoint bool) float64 {
+	const k = 1000
+	n := p.nx
+	e, err := NewExact(n, n, pixel, u[:k], v[:k], Options{})
+	if err != nil {
+		panic(err)
+	}
+	if !adjoint {
+		got := make([]complex128, len(u))
+		p.Forward(got, img)
+		want := make([]complex128, k)
+		e.Forward(want, img)
+		return relErrC(got[:k], want)
+	}
+	vis := make([]complex128, len(u))
+	for i := range k {
+		vis[i] = complex(img[i], img[len(img)-1-i]-0.5)
+	}
+	got := make([]float64, n*n)
+	p.Adjoint(got, vis)
+	want := make([]float64, n*n)
+	e.Adjoint(want, vis[:k])
+	return relErrR(got, want)
 }
 
 func BenchmarkForward(b *testing.B) {

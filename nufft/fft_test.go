@@ -5,6 +5,8 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
+
+	"gonum.org/v1/gonum/dsp/fourier"
 )
 
 // TestFFT compares the batched Stockham FFT with the defining sum of the
@@ -49,3 +51,35 @@ func TestFFT(t *testing.T) {
 }
 
 func sq(x float64) float64 { return x * x }
+
+// BenchmarkFFT compares the Stockham FFT with gonum's CmplxFFT on one
+// sequence of length 1024 and on a batch of 16 (the column blocks).
+func BenchmarkFFT(b *testing.B) {
+	const n = 1024
+	rng := rand.New(rand.NewPCG(1, 1))
+	x := make([]complex128, n*colBlock)
+	for i := range x {
+		x[i] = complex(rng.NormFloat64(), rng.NormFloat64())
+	}
+	y := make([]complex128, n*colBlock)
+	z := make([]complex128, n*colBlock)
+	f := newFFTPlan(n)
+	b.Run("own/n=1024", func(b *testing.B) {
+		for b.Loop() {
+			copy(z[:n], x[:n])
+			f.transform(z[:n], y[:n], 1, false)
+		}
+	})
+	b.Run("own/n=1024/batch=16", func(b *testing.B) {
+		for b.Loop() {
+			copy(z, x)
+			f.transform(z, y, colBlock, false)
+		}
+	})
+	g := fourier.NewCmplxFFT(n)
+	b.Run("gonum/n=1024", func(b *testing.B) {
+		for b.Loop() {
+			g.Coefficients(y[:n], x[:n])
+		}
+	})
+}
