@@ -1,0 +1,82 @@
+package main
+
+import (
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"vcz/io/oifits"
+)
+
+// vcz simulate on an example plan writes an OIFITS file that passes
+// fitsverify with 0 warnings and 0 errors (HEASARC's FITS checker) and that
+// inspect reads; a point source gives V² = 1 and closure phase 0 everywhere
+// (a point source is fully coherent; fact of the trade) up to the noise the
+// plan adds, which the errors bound.
+func TestSimulateCommand(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "point.oifits")
+	plan := filepath.Join("..", "..", "examples", "plan-four-compact.toml")
+	_, errs, code := runCmd(t, "simulate", "-plan", plan, "-model", "point", "-o", out, "-quiet")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	f, err := oifits.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := 0
+	for _, tab := range f.Vis2 {
+		for _, r := range tab.Rows {
+			for i, v := range r.Data {
+				if d := v - 1; d > 6*r.Err[i] || d < -6*r.Err[i] {
+					t.Fatalf("V² = %g ± %g for a point source", v, r.Err[i])
+				}
+				n++
+			}
+		}
+	}
+	for _, tab := range f.T3 {
+		for _, r := range tab.Rows {
+			for i, p := range r.Phi {
+				if p > 6*r.PhiErr[i] || p < -6*r.PhiErr[i] {
+					t.Fatalf("closure phase %g ± %g° for a point source", p, r.PhiErr[i])
+				}
+			}
+		}
+	}
+	if n == 0 {
+		t.Fatal("no V² written")
+	}
+	if _, errs, code := runCmd(t, "inspect", out); code != exitOK {
+		t.Fatalf("inspect: exit %d: %s", code, errs)
+	}
+	fv := requireTool(t, "fitsverify")
+	vout, err := exec.Command(fv, "-q", out).CombinedOutput()
+	if err != nil || !strings.HasPrefix(string(vout), "verification OK") || strings.Contains(string(vout), "warning") {
+		t.Fatalf("fitsverify: %v: %s", err, vout)
+	}
+}
+
+// A plan with an unknown key fails with exit 2, naming the key and its line.
+func TestSimulateUnknownPlanKey(t *testing.T) {
+	dir := t.TempDir()
+	src, err := os.ReadFile(filepath.Join("..", "..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	bad := filepath.Join(dir, "bad.toml")
+	if err := os.WriteFile(bad, append([]byte("colour = \"blue\"\n"), src...), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "x.oifits")
+	_, errs, code := runCmd(t, "simulate", "-plan", bad, "-model", "point", "-o", out)
+	if code != exitBadInput || !strings.Contains(errs, "colour") || !strings.Contains(errs, "bad.toml:1:") {
+		t.Fatalf("exit %d, stderr %q", code, errs)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Fatal("an output file was written for a bad plan")
+	}
+}
