@@ -1,0 +1,74 @@
+/*
+Vcz rebuilds images of the sky from optical and infrared long-baseline
+interferometry data in the OIFITS format (v1: Pauls et al. 2005; v2: Duvert,
+Young & Hummel 2017).
+
+Usage:
+
+	vcz COMMAND [options] [arguments]
+
+Options may come before or after the file arguments; "--" ends the options.
+Angles take units (uas, mas, arcsec, deg, rad; a bare number is in mas) and
+wavelengths too (nm, um, m; a bare number is in µm).
+
+The commands are:
+
+	inspect    summarise OIFITS files: targets, data, baselines, resolution
+	image      reconstruct an image and write FITS, PNG and fit plots
+	simulate   simulate OIFITS data of a model observed with an observing plan
+	demo       reconstruct the embedded demo data set into a folder
+	version    print the version
+	help       show help for vcz or for one command
+
+Further commands (fit, compare, batch) add themselves when built in; `vcz
+help` lists those that are.
+
+# Inspect
+
+	vcz inspect [-json] [-plot DIR] [selection] FILE...
+
+prints the targets, instruments, number of valid, flagged and non-finite
+points per data type, baselines, the nominal resolution λmin/(2·Bmax), the
+largest constrained scale λmax/Bmin, a suggested grid and the MJD range.
+Selection options: -target, -wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES.
+
+# Image
+
+	vcz image [options] FILE... [-o OUT.fits]
+
+reconstructs one image from the merged files. The main options: -n and
+-pixel (or -fov) for the grid; -reg with mem, tv, smooth, compact and
+priordist, alone or as a list with relative weights (mem,compact:0.1);
+-weight (a number or auto, the discrepancy principle); -prior and -start;
+-support; -use and -data-weights for the data types; -iter, -seed, -starts,
+-coarse, -workers; -no-png, -no-plots, -quiet, -json. Run `vcz image --help`
+for the full list with defaults.
+
+# Simulate
+
+	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits) -o OUT.oifits
+
+writes OIFITS v2 data of a model observed with an observing plan; -help-plan
+documents every plan key and -help-model the model forms.
+
+# Demo
+
+	vcz demo [-o DIR]
+
+writes the embedded demo data, its reconstruction, the model it was
+simulated from and a side-by-side comparison into DIR (default vcz-demo).
+
+# Exit status
+
+0 on success, 1 when the computation failed (no convergence where that is an
+error, non-finite values, an output that could not be written), 2 for bad
+input files, bad options or wrong usage. Errors are one line on standard
+error, naming the file and, where it applies, the table (HDU number and
+EXTNAME), row and column. Outputs are written to a temporary file and renamed,
+so an interrupted run never leaves a half-written file.
+
+A reconstructed image is one solution consistent with the data, not a
+photograph: structure smaller than the resolution λ/(2·Bmax) is not
+constrained.
+*/
+package main
