@@ -1,0 +1,597 @@
+package fit
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/mat"
+
+	"vcz/recon"
+	"vcz/recon/model"
+)
+
+// ErrNotConverged is wrapped by the error Fit returns when no start met
+// the convergence tests within the iteration limit. The Result is still
+// returned, holding the best point reached.
+var ErrNotConverged = errors.New("fit did not converge")
+
+// Options configure a fit. The zero value fits every data type present
+// with one start, at most 200 iterations and the default tolerances.
+type Options struct {
+	// Use is the set of data types fitted; 0 means every type with data.
+	Use recon.DataType
+	// MaxIter bounds the Levenberg–Marquardt iterations of each start;
+	// 0 means 200.
+	MaxIter int
+	// Starts is the number of starts (0 or 1: the model's own values only).
+	// Starts after the first draw the position (x, y) of every component
+	// whose x and y are both free: uniformly within the bounds when both
+	// are bounded, otherwise at a separation uniform in [0.5, 1.5] times
+	// the start's and a position angle uniform in [0°, 360°).
+	Starts int
+	// Seed seeds the draws of the extra starts; equal seeds give equal
+	// results.
+	Seed uint64
+	// FTol stops when both the actual and the predicted relative
+	// reductions of χ² in a step are below it (0 means 1e-12). XTol stops
+	// when the relative step in the scaled parameters is below it (0
+	// means 1e-10). GTol stops when the largest cosine between the
+	// residual vector and a Jacobian column is below it (0 means 1e-10).
+	FTol, XTol, GTol float64
+}
+
+func (o Options) withDefaults() Options {
+	if o.MaxIter <= 0 {
+		o.MaxIter = 200
+	}
+	if o.Starts < 1 {
+		o.Starts = 1
+	}
+	if o.FTol <= 0 {
+		o.FTol = 1e-12
+	}
+	if o.XTol <= 0 {
+		o.XTol = 1e-10
+	}
+	if o.GTol <= 0 {
+		o.GTol = 1e-10
+	}
+	return o
+}
+
+// Param is the result for one free parameter, in user units (mas,
+// degrees, flux units).
+type Param struct {
+	Ref   model.Ref
+	Value float64
+	// Err is the 1σ uncertainty from the covariance matrix (NaN when the
+	// matrix is singular).
+	Err float64
+	// AtBound is set when the value lies on one of its bounds, where the
+	// uncertainty is not meaningful.
+	AtBound bool
+}
+
+// TypeChi2 is the χ² of one data type at the best fit.
+type TypeChi2 struct {
+	Type  recon.DataType
+	N     int
+	Chi2  float64
+	Chi2r float64 // Chi2/N
+}
+
+// Result is the outcome of Fit.
+type Result struct {
+	// Model is the fitted model (a copy of the input with the best values).
+	Model  *model.Model
+	Params []Param
+	// Cov is the covariance matrix of the free parameters, (JᵀJ)⁻¹ χ²ᵣ
+	// with J the Jacobian of the normalised residuals in user units and
+	// χ²ᵣ = χ²/(N − P); Corr the correlation matrix. Both are nil when
+	// JᵀJ is singular.
+	Cov, Corr *mat.SymDense
+	// Chi2 is the total χ², N the number of data, DOF = N − P and Chi2r =
+	// Chi2/DOF.
+	Chi2       float64
+	N, DOF     int
+	Chi2r      float64
+	PerType    []TypeChi2 // types with data, in the order of recon.DataTypes()
+	Iterations int        // iterations of the best start
+	Evals      int        // residual evaluations over all starts
+	Converged  bool
+	Reason     string    // why the best start stopped, in words
+	Start      int       // index of the best start (0 = the model's own values)
+	StartChi2  []float64 // final χ² of every start
+	Use        recon.DataType
+	Notices    []string
+}
+
+// Fit fits the free parameters of m to d by Levenberg–Marquardt and
+// returns the best of Options.Starts starts. m is not changed. Errors:
+// no free parameter, no data of the chosen types, fewer data than free
+// parameters, a start outside the parameter bounds; when no start
+// converges the Result is returned with an error wrapping
+// ErrNotConverged.
+func Fit(d *recon.Data, m *model.Model, opt Options) (*Result, error) {
+	opt = opt.withDefaults()
+	if err := m.Validate(); err != nil {
+		return nil, err
+	}
+	t := newTerms(d, opt.Use)
+	pr, err := newProblem(t, m)
+	if err != nil {
+		return nil, err
+	}
+	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
+	var best *run
+	res := &Result{Use: t.use, Notices: t.notices}
+	for s := 0; s < opt.Starts; s++ {
+		x0 := append([]float64(nil), pr.x0...)
+		if s > 0 {
+			pr.perturb(x0, rng)
+		}
+		r := pr.lm(x0, opt)
+		res.Evals += r.evals
+		res.StartChi2 = append(res.StartChi2, r.chi2)
+		if best == nil || r.chi2 < best.chi2 || (math.IsNaN(best.chi2) && !math.IsNaN(r.chi2)) {
+			best = &r
+			res.Start = s
+		}
+	}
+	pr.finish(res, best)
+	if !res.Converged {
+		return res, fmt.Errorf("fit: %w after %d iterations: %s", ErrNotConverged, res.Iterations, res.Reason)
+	}
+	return res, nil
+}
+
+// problem maps the free parameters of a model onto the fit variables.
+//
+// Bounds are handled by a change of variables, so the Levenberg–Marquardt
+// iteration itself is unconstrained (common practice, no source): with
+// both bounds, x = lo + (hi − lo)(1 + sin t)/2; with a lower bound only,
+// x = lo − 1 + √(t² + 1); with an upper bound only, x = hi + 1 − √(t² + 1);
+// otherwise x = t. The uncertainties are computed in the user's variables
+// x at the end, not in t.
+type problem struct {
+	t      *terms
+	m      *model.Model // working copy
+	refs   []model.Ref
+	lo, hi []float64
+	x0     []float64 // start values in user units
+	xbuf   []float64
+	evals  int
+}
+
+// domainLow gives the lowest value of parameters whose domain starts at
+// zero, so that the change of variables keeps them there even when the
+// user gives no bound.
+var domainLow = map[string]float64{"diameter": 0, "fwhm": 0, "u_ld": 0, "alpha": 0, "ratio": 0, "inc": 0}
+
+// domainHigh gives the highest value of parameters bounded above.
+var domainHigh = map[string]float64{"u_ld": 1, "ratio": 1, "inc": 90}
+
+func newProblem(t *terms, m *model.Model) (*problem, error) {
+	pr := &problem{t: t, m: m.Clone(), refs: m.Refs(true)}
+	if len(pr.refs) == 0 {
+		return nil, errors.New("fit: the model has no free parameter (mark one with '~' or free = true)")
+	}
+	if t.total == 0 {
+		return nil, fmt.Errorf("fit: no data of the types %v to fit", orAll(t.use))
+	}
+	if t.total < len(pr.refs) {
+		return nil, fmt.Errorf("fit: %d data for %d free parameters", t.total, len(pr.refs))
+	}
+	for _, r := range pr.refs {
+		p, err := m.Param(r)
+		if err != nil {
+			return nil, err
+		}
+		lo, hi := p.Min, p.Max
+		if v, ok := domainLow[r.Name]; ok && lo < v {
+			lo = v
+		}
+		if v, ok := domainHigh[r.Name]; ok && hi > v {
+			hi = v
+		}
+		if p.Value < lo || p.Value > hi {
+			return nil, fmt.Errorf("fit: %s starts at %g, outside its bounds [%g, %g]", r, p.Value, lo, hi)
+		}
+		pr.lo = append(pr.lo, lo)
+		pr.hi = append(pr.hi, hi)
+		pr.x0 = append(pr.x0, p.Value)
+	}
+	pr.xbuf = make([]float64, len(pr.refs))
+	return pr, nil
+}
+
+func orAll(t recon.DataType) string {
+	if t == 0 {
+		return "selected"
+	}
+	return t.String()
+}
+
+// toUser maps fit variables to parameter values.
+func (pr *problem) toUser(dst, t []float64) {
+	for i, ti := range t {
+		lo, hi := pr.lo[i], pr.hi[i]
+		switch {
+		case !math.IsInf(lo, 0) && !math.IsInf(hi, 0):
+			dst[i] = lo + (hi-lo)*(1+math.Sin(ti))/2
+		case !math.IsInf(lo, 0):
+			dst[i] = lo - 1 + math.Sqrt(ti*ti+1)
+		case !math.IsInf(hi, 0):
+			dst[i] = hi + 1 - math.Sqrt(ti*ti+1)
+		default:
+			dst[i] = ti
+		}
+		dst[i] = math.Min(math.Max(dst[i], lo), hi) // rounding
+	}
+}
+
+// toInternal maps parameter values to fit variables (inverse of toUser).
+func (pr *problem) toInternal(dst, x []float64) {
+	for i, xi := range x {
+		lo, hi := pr.lo[i], pr.hi[i]
+		switch {
+		case !math.IsInf(lo, 0) && !math.IsInf(hi, 0):
+			if hi == lo {
+				dst[i] = 0
+			} else {
+				dst[i] = math.Asin(math.Min(1, math.Max(-1, 2*(xi-lo)/(hi-lo)-1)))
+			}
+		case !math.IsInf(lo, 0):
+			a := xi - lo + 1
+			dst[i] = math.Sqrt(math.Max(0, a*a-1))
+		case !math.IsInf(hi, 0):
+			a := hi - xi + 1
+			dst[i] = math.Sqrt(math.Max(0, a*a-1))
+		default:
+			dst[i] = xi
+		}
+	}
+}
+
+// residualsUser evaluates the residuals at user values x. It returns +Inf
+// when the model rejects a value (outside a component's domain) or a
+// residual is not finite.
+func (pr *problem) residualsUser(dst, x []float64) float64 {
+	pr.evals++
+	if err := pr.m.Set(pr.refs, x); err != nil {
+		return math.Inf(1)
+	}
+	if !(pr.m.TotalFlux() > 0) {
+		return math.Inf(1)
+	}
+	s := pr.t.eval(dst, pr.m)
+	if math.IsNaN(s) || math.IsInf(s, 0) {
+		return math.Inf(1)
+	}
+	return s
+}
+
+func (pr *problem) residuals(dst, t []float64) float64 {
+	pr.toUser(pr.xbuf, t)
+	return pr.residualsUser(dst, pr.xbuf)
+}
+
+// perturb draws new positions for the components whose x and y are both
+// free (see Options.Starts).
+func (pr *problem) perturb(x []float64, rng *rand.Rand) {
+	for c := range pr.m.Components {
+		ix, iy := -1, -1
+		for i, r := range pr.refs {
+			if r.Comp == c && r.Name == "x" {
+				ix = i
+			}
+			if r.Comp == c && r.Name == "y" {
+				iy = i
+			}
+		}
+		if ix < 0 || iy < 0 {
+			continue
+		}
+		if bounded(pr.lo[ix], pr.hi[ix]) && bounded(pr.lo[iy], pr.hi[iy]) {
+			x[ix] = pr.lo[ix] + rng.Float64()*(pr.hi[ix]-pr.lo[ix])
+			x[iy] = pr.lo[iy] + rng.Float64()*(pr.hi[iy]-pr.lo[iy])
+			continue
+		}
+		sep := math.Hypot(x[ix], x[iy]) * (0.5 + rng.Float64())
+		pa := 2 * math.Pi * rng.Float64()
+		x[ix] = clamp(sep*math.Sin(pa), pr.lo[ix], pr.hi[ix])
+		x[iy] = clamp(sep*math.Cos(pa), pr.lo[iy], pr.hi[iy])
+	}
+}
+
+func bounded(lo, hi float64) bool { return !math.IsInf(lo, 0) && !math.IsInf(hi, 0) }
+
+func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
+
+// jacobian fills J (n × p) with central differences of the residuals at
+// t, with steps h_j = ε^(1/3) max(|t_j|, 1), ε the float64 epsilon, which
+// balances truncation (O(h²)) and rounding (O(ε/h)) errors (Press et al.,
+// Numerical Recipes, 3rd ed., sect. 5.7). It uses rp and rm as scratch.
+// Steps whose residuals are not finite fall back to one-sided
+// differences.
+func (pr *problem) jacobian(J *mat.Dense, t, r0, rp, rm []float64, user bool) {
+	n, p := J.Dims()
+	const rel = 6.055454e-06 // cbrt(2.22e-16)
+	eval := pr.residuals
+	if user {
+		eval = pr.residualsUser
+	}
+	tt := append([]float64(nil), t...)
+	for j := 0; j < p; j++ {
+		h := rel * math.Max(math.Abs(t[j]), 1)
+		if user {
+			// Stay inside the bounds, where the model is defined.
+			if t[j]+h > pr.hi[j] || t[j]-h < pr.lo[j] {
+				h = math.Min(h, math.Max(pr.hi[j]-t[j], t[j]-pr.lo[j]))
+			}
+		}
+		tt[j] = t[j] + h
+		fp := eval(rp, tt)
+		if user && t[j]+h > pr.hi[j] {
+			fp = math.Inf(1)
+		}
+		tt[j] = t[j] - h
+		fm := eval(rm, tt)
+		if user && t[j]-h < pr.lo[j] {
+			fm = math.Inf(1)
+		}
+		tt[j] = t[j]
+		for i := 0; i < n; i++ {
+			var g float64
+			switch {
+			case !math.IsInf(fp, 0) && !math.IsInf(fm, 0):
+				g = (rp[i] - rm[i]) / (2 * h)
+			case !math.IsInf(fp, 0):
+				g = (rp[i] - r0[i]) / h
+			case !math.IsInf(fm, 0):
+				g = (r0[i] - rm[i]) / h
+			}
+			J.Set(i, j, g)
+		}
+	}
+}
+
+// run is the outcome of one start.
+type run struct {
+	t         []float64 // fit variables
+	chi2      float64
+	iter      int
+	evals     int
+	converged bool
+	reason    string
+}
+
+// lm minimises the sum of squared residuals from x0 (user units) by the
+// Levenberg–Marquardt method with the scaling of Moré (1978, "The
+// Levenberg-Marquardt algorithm: implementation and theory", Lecture Notes
+// in Mathematics 630, 105): the damping acts on D = diag(d_j), d_j the
+// largest norm of column j of J met so far, so the method is invariant to
+// the units of the parameters. Each step solves
+//
+//	(JᵀJ + λ D²) δ = −Jᵀr
+//
+// by Cholesky factorisation, and λ is adapted from the gain ratio ρ of
+// actual to predicted reduction: λ ← λ·max(1/3, 1 − (2ρ − 1)³) on success,
+// λ ← λ·ν, ν ← 2ν on failure (Madsen, Nielsen & Tingleff 2004, "Methods
+// for non-linear least squares problems", IMM DTU, eq. 3.16). The tests
+// for convergence are those of Moré (1978, sect. 8): relative reduction
+// (FTol), relative step (XTol) and orthogonality of r to the columns of J
+// (GTol).
+func (pr *problem) lm(x0 []float64, opt Options) run {
+	p := len(x0)
+	n := pr.t.total
+	ev0 := pr.evals
+	t := make([]float64, p)
+	pr.toInternal(t, x0)
+	r := make([]float64, n)
+	rp := make([]float64, n)
+	rm := make([]float64, n)
+	rt := make([]float64, n)
+	trial := make([]float64, p)
+	D := make([]float64, p)
+	J := mat.NewDense(n, p, nil)
+	var JtJ mat.SymDense
+	A := mat.NewSymDense(p, nil)
+	g := mat.NewVecDense(p, nil)
+	delta := mat.NewVecDense(p, nil)
+	var chol mat.Cholesky
+
+	f := pr.residuals(r, t)
+	out := run{t: t, chi2: f}
+	if math.IsInf(f, 0) {
+		out.reason = "the model is not defined at the start values"
+		out.evals = pr.evals - ev0
+		return out
+	}
+	lambda, nu := 0.0, 2.0
+	needJ := true
+	for out.iter = 0; out.iter < opt.MaxIter; {
+		if f == 0 {
+			out.converged, out.reason = true, "χ² is zero"
+			break
+		}
+		if needJ {
+			pr.jacobian(J, t, r, rp, rm, false)
+			JtJ.SymOuterK(1, J.T())
+			g.MulVec(J.T(), mat.NewVecDense(n, r))
+			// Orthogonality test (Moré 1978, sect. 8, gtol).
+			rn := math.Sqrt(f)
+			gmax := 0.0
+			for j := 0; j < p; j++ {
+				cn := math.Sqrt(JtJ.At(j, j))
+				D[j] = math.Max(D[j], cn)
+				if cn > 0 {
+					gmax = math.Max(gmax, math.Abs(g.AtVec(j))/(cn*rn))
+				}
+			}
+			if gmax <= opt.GTol {
+				out.converged, out.reason = true, "the residuals are orthogonal to the Jacobian (gradient test)"
+				break
+			}
+			if lambda == 0 {
+				// Start with a damping of 1e-3 of the largest diagonal
+				// element of JᵀJ relative to D² (Madsen et al. 2004, eq. 3.14).
+				for j := 0; j < p; j++ {
+					if D[j] > 0 {
+						lambda = math.Max(lambda, JtJ.At(j, j)/(D[j]*D[j]))
+					}
+				}
+				lambda *= 1e-3
+				if lambda == 0 {
+					lambda = 1e-3
+				}
+			}
+			needJ = false
+		}
+		out.iter++
+		for i := 0; i < p; i++ {
+			for j := i; j < p; j++ {
+				a := JtJ.At(i, j)
+				if i == j {
+					dd := D[i]
+					if dd == 0 {
+						dd = 1
+					}
+					a += lambda * dd * dd
+				}
+				A.SetSym(i, j, a)
+			}
+		}
+		if !chol.Factorize(A) {
+			lambda *= nu
+			nu *= 2
+			continue
+		}
+		if err := chol.SolveVecTo(delta, g); err != nil {
+			lambda *= nu
+			nu *= 2
+			continue
+		}
+		dn, xn := 0.0, 0.0
+		for j := 0; j < p; j++ {
+			dj := -delta.AtVec(j)
+			trial[j] = t[j] + dj
+			dd := D[j]
+			dn += dd * dd * dj * dj
+			xn += dd * dd * t[j] * t[j]
+		}
+		dn, xn = math.Sqrt(dn), math.Sqrt(xn)
+		ft := pr.residuals(rt, trial)
+		// Predicted reduction of the linear model: δᵀ(λD²δ − g) with δ = −step,
+		// computed as −2δᵀg − δᵀJᵀJδ.
+		pred := 0.0
+		for j := 0; j < p; j++ {
+			dj := -delta.AtVec(j)
+			pred -= 2 * dj * g.AtVec(j)
+			for k := 0; k < p; k++ {
+				pred -= dj * JtJ.At(j, k) * (-delta.AtVec(k))
+			}
+		}
+		actual := f - ft
+		rho := -1.0
+		if pred > 0 && !math.IsInf(ft, 0) {
+			rho = actual / pred
+		}
+		fOld := f
+		if rho > 0 {
+			copy(t, trial)
+			r, rt = rt, r
+			f = ft
+			lambda *= math.Max(1.0/3, 1-math.Pow(2*rho-1, 3))
+			nu = 2
+			needJ = true
+		} else {
+			lambda *= nu
+			nu *= 2
+		}
+		// Convergence tests of Moré (1978, sect. 8), made whether or not the
+		// step was taken: a reduction below FTol, actual and predicted, or a
+		// step below XTol.
+		if !math.IsInf(ft, 0) && math.Abs(actual) <= opt.FTol*fOld && pred <= opt.FTol*fOld {
+			out.converged, out.reason = true, "the relative reduction of χ² is below the tolerance"
+			break
+		}
+		if dn <= opt.XTol*math.Max(xn, opt.XTol) {
+			out.converged, out.reason = true, "the relative step is below the tolerance"
+			break
+		}
+		if lambda > 1e30 {
+			out.reason = "the damping grew without bound: no step reduces χ²"
+			break
+		}
+	}
+	if !out.converged && out.reason == "" {
+		out.reason = fmt.Sprintf("the iteration limit (%d) was reached", opt.MaxIter)
+	}
+	out.t, out.chi2 = t, f
+	out.evals = pr.evals - ev0
+	return out
+}
+
+// finish fills res from the best run: values, covariance in user units,
+// χ² per type.
+func (pr *problem) finish(res *Result, best *run) {
+	p := len(pr.refs)
+	n := pr.t.total
+	x := make([]float64, p)
+	pr.toUser(x, best.t)
+	r := make([]float64, n)
+	f := pr.residualsUser(r, x)
+	res.Model = pr.m.Clone()
+	res.Chi2 = f
+	res.N = n
+	res.DOF = n - p
+	res.Chi2r = math.NaN()
+	if res.DOF > 0 {
+		res.Chi2r = f / float64(res.DOF)
+	}
+	res.Iterations = best.iter
+	res.Converged = best.converged
+	res.Reason = best.reason
+	byType := pr.t.chi2ByType(r)
+	for i, ty := range recon.DataTypes() {
+		if pr.t.n[i] > 0 {
+			res.PerType = append(res.PerType, TypeChi2{Type: ty, N: pr.t.n[i], Chi2: byType[i], Chi2r: byType[i] / float64(pr.t.n[i])})
+		}
+	}
+	res.Params = make([]Param, p)
+	for i, ref := range pr.refs {
+		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(),
+			AtBound: x[i] == pr.lo[i] || x[i] == pr.hi[i]}
+	}
+	J := mat.NewDense(n, p, nil)
+	pr.jacobian(J, x, r, make([]float64, n), make([]float64, n), true)
+	pr.m.Set(pr.refs, x) // the Jacobian moved the working model
+	var JtJ mat.SymDense
+	JtJ.SymOuterK(1, J.T())
+	var chol mat.Cholesky
+	if !chol.Factorize(&JtJ) {
+		res.Notices = append(res.Notices, "JᵀJ is singular: some parameters are degenerate, uncertainties are not available")
+		return
+	}
+	var cov mat.SymDense
+	if err := chol.InverseTo(&cov); err != nil {
+		res.Notices = append(res.Notices, "JᵀJ is singular: uncertainties are not available")
+		return
+	}
+	scale := res.Chi2r
+	if !(scale > 0) || math.IsInf(scale, 0) {
+		scale = 1
+	}
+	cov.ScaleSym(scale, &cov)
+	corr := mat.NewSymDense(p, nil)
+	for i := 0; i < p; i++ {
+		res.Params[i].Err = math.Sqrt(cov.At(i, i))
+		for j := i; j < p; j++ {
+			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
+		}
+	}
+	res.Cov, res.Corr = &cov, corr
+}
