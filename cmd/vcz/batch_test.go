@@ -1,0 +1,284 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/recon/batch"
+	"vcz/recon/model"
+	"vcz/recon/simulate"
+)
+
+// writeEpoch simulates one small night of an invented target (three hour angles, two
+// channels of the demo array) on MJD 61203+k and writes it to path.
+func writeEpoch(t testing.TB, path string, k int) {
+	t.Helper()
+	p, _ := simulate.Demo()
+	p.MJD = 61203 + float64(k)
+	p.Seed += uint64(k)
+	p.HourAngles = []float64{-1.5, 0, 1.5}
+	p.Wavelengths = p.Wavelengths[:2]
+	p.Bandwidths = p.Bandwidths[:2]
+	m, err := model.ParseCompact("gauss:fwhm=2.5;point:x=1.2,y=0.6,flux=0.3")
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, _, err := simulate.Run(p, simulate.ModelSky{Model: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := oifits.WriteFile(path, f); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// Options keeping the test reconstructions small and fast.
+var batchFast = []string{"-n", "32", "-fov", "", "-weight", "0.001", "-iter", "40", "-starts", "1", "-quiet"}
+
+func readSummary(t *testing.T, path string) *batch.Summary {
+	t.Helper()
+	s, err := batch.ReadJSON(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+// Three epochs, one of them a corrupt file: two images, one failure naming the file,
+// exit 1; a rerun redoes only the failed epoch; -force redoes all; after the file is
+// repaired a rerun images only that epoch.
+func TestBatchFailureRerunForce(t *testing.T) {
+	dir := t.TempDir()
+	for k, name := range []string{"n1.oifits", "n2.oifits"} {
+		writeEpoch(t, filepath.Join(dir, name), 2*k)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "n3.oifits"), []byte("SIMPLE  = this is no FITS file"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	job := filepath.Join(dir, "job.toml")
+	src := `output = "out"
+[image]
+regularizer = "tv"
+seed = 3
+
+[[epoch]]
+name = "first"
+files = ["n1.oifits"]
+
+[[epoch]]
+name = "second"
+files = ["n2.oifits"]
+seed = 4
+
+[[epoch]]
+name = "broken"
+files = ["n3.oifits"]
+`
+	if err := os.WriteFile(job, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	args := append([]string{"batch", "-job", job}, batchFast...)
+	_, errs, code := runCmd(t, args...)
+	if code != exitFailure {
+		t.Fatalf("exit %d, want %d: %s", code, exitFailure, errs)
+	}
+	s := readSummary(t, filepath.Join(out, "summary.json"))
+	if len(s.Rows) != 3 || s.Failed() != 1 {
+		t.Fatalf("rows %+v", s.Rows)
+	}
+	if r := s.Rows[2]; r.Status != batch.StateFailed || !strings.Contains(r.Error, "n3.oifits") {
+		t.Fatalf("failed row %+v", r)
+	}
+	for _, name := range []string{"first", "second"} {
+		if _, err := fitsimage.ReadFile(filepath.Join(out, name+".fits")); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(out, "broken.fits")); err == nil {
+		t.Fatal("an image of the broken epoch was written")
+	}
+	if _, err := os.Stat(filepath.Join(out, "montage.png")); err != nil {
+		t.Fatal(err)
+	}
+	skipped := func(s *batch.Summary) []bool {
+		var b []bool
+		for _, r := range s.Rows {
+			b = append(b, r.Skipped)
+		}
+		return b
+	}
+	_, _, code = runCmd(t, args...)
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if code != exitFailure || !reflect.DeepEqual(skipped(s), []bool{true, true, false}) {
+		t.Fatalf("rerun: exit %d, skipped %v", code, skipped(s))
+	}
+	writeEpoch(t, filepath.Join(dir, "n3.oifits"), 4)
+	_, errs, code = runCmd(t, args...)
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if code != exitOK || !reflect.DeepEqual(skipped(s), []bool{true, true, false}) || s.Failed() != 0 {
+		t.Fatalf("after repair: exit %d, skipped %v: %s", code, skipped(s), errs)
+	}
+	im, err := fitsimage.ReadFile(filepath.Join(out, "broken.fits"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	hasHash := false
+	for _, c := range im.Cards {
+		hasHash = hasHash || (c.Key == "INHASH" && len(fmt.Sprint(c.Value)) == 64)
+	}
+	if !hasHash {
+		t.Fatal("no INHASH card of 64 hex digits (SHA-256, FIPS 180-4)")
+	}
+	_, _, code = runCmd(t, append(args, "-force")...)
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if code != exitOK || !reflect.DeepEqual(skipped(s), []bool{false, false, false}) {
+		t.Fatalf("-force: exit %d, skipped %v", code, skipped(s))
+	}
+	// A changed setting changes the hash: the epoch is redone.
+	_, _, code = runCmd(t, append(args, "-iter", "39")...)
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if code != exitOK || !reflect.DeepEqual(skipped(s), []bool{false, false, false}) {
+		t.Fatalf("changed setting: exit %d, skipped %v", code, skipped(s))
+	}
+}
+
+// An unknown key of a job file is an error naming the key and its line.
+func TestBatchJobUnknownKey(t *testing.T) {
+	dir := t.TempDir()
+	job := filepath.Join(dir, "job.toml")
+	os.WriteFile(job, []byte("[image]\nregularizer = \"tv\"\ncolour = 3\n[[epoch]]\nfiles = [\"a.oifits\"]\n"), 0o644)
+	_, errs, code := runCmd(t, "batch", "-job", job)
+	if code != exitBadInput || !strings.Contains(errs, "job.toml:3:") || !strings.Contains(errs, "image.colour") {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+}
+
+// Files split at gaps of a night; -shard 1/2 and 2/2 take every epoch exactly once and
+// their collected summary equals the unsharded run's apart from the timings.
+func TestBatchShardCollect(t *testing.T) {
+	dir := t.TempDir()
+	var files []string
+	for k := range 3 {
+		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		writeEpoch(t, p, k)
+		files = append(files, p)
+	}
+	whole, shards := filepath.Join(dir, "whole"), filepath.Join(dir, "shards")
+	if _, errs, code := runCmd(t, append(append([]string{"batch", "-out", whole}, batchFast...), files...)...); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, sh := range []string{"1/2", "2/2"} {
+		if _, errs, code := runCmd(t, append(append([]string{"batch", "-out", shards, "-shard", sh}, batchFast...), files...)...); code != exitOK {
+			t.Fatalf("shard %s: exit %d: %s", sh, code, errs)
+		}
+	}
+	a := readSummary(t, filepath.Join(shards, "summary-1-of-2.json"))
+	b := readSummary(t, filepath.Join(shards, "summary-2-of-2.json"))
+	if len(a.Rows) != 2 || len(b.Rows) != 1 || a.Rows[0].Index != 0 || a.Rows[1].Index != 2 || b.Rows[0].Index != 1 {
+		t.Fatalf("shards %+v / %+v", a.Rows, b.Rows)
+	}
+	if _, errs, code := runCmd(t, "batch", "-collect", "-out", shards, "-quiet"); code != exitOK {
+		t.Fatalf("collect: exit %d: %s", code, errs)
+	}
+	got := readSummary(t, filepath.Join(shards, "summary.json"))
+	want := readSummary(t, filepath.Join(whole, "summary.json"))
+	if len(want.Rows) != 3 {
+		t.Fatalf("%d epochs from three nights", len(want.Rows))
+	}
+	for _, s := range []*batch.Summary{got, want} {
+		for i := range s.Rows {
+			s.Rows[i].Seconds = 0
+		}
+	}
+	if !reflect.DeepEqual(got, want) {
+		t.Fatalf("collected %+v\nunsharded %+v", got, want)
+	}
+	if _, err := os.Stat(filepath.Join(shards, "epochs.gif")); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestBatchChild runs vcz with the arguments in VCZ_BATCH_ARGS when re-executed by
+// TestBatchKill.
+func TestBatchChild(t *testing.T) {
+	a := os.Getenv("VCZ_BATCH_ARGS")
+	if a == "" {
+		t.Skip("helper process of TestBatchKill")
+	}
+	os.Exit(run(strings.Split(a, "\x1f"), os.Stdout, os.Stderr))
+}
+
+// A batch killed with SIGKILL after its first epoch, then rerun, ends with every epoch
+// present, every FITS file valid for fitsverify (HEASARC's FITS checker) and none
+// truncated, and the finished epoch not redone.
+func TestBatchKill(t *testing.T) {
+	fv := requireTool(t, "fitsverify")
+	dir := t.TempDir()
+	var files []string
+	for k := range 4 {
+		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		writeEpoch(t, p, k)
+		files = append(files, p)
+	}
+	out := filepath.Join(dir, "out")
+	args := append(append([]string{"batch", "-out", out, "-parallel", "1"}, batchFast...), files...)
+	cmd := exec.Command(os.Args[0], "-test.run=^TestBatchChild$")
+	cmd.Env = append(os.Environ(), "VCZ_BATCH_ARGS="+strings.Join(args, "\x1f"))
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	deadline := time.Now().Add(60 * time.Second)
+	for {
+		m, _ := filepath.Glob(filepath.Join(out, "*.status.json"))
+		if len(m) > 0 {
+			break
+		}
+		if time.Now().After(deadline) {
+			cmd.Process.Kill()
+			t.Fatal("no epoch finished within 60 s")
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	time.Sleep(150 * time.Millisecond) // into the next epoch's work
+	cmd.Process.Signal(syscall.SIGKILL)
+	cmd.Wait()
+	m, _ := filepath.Glob(filepath.Join(out, "*.status.json"))
+	finished := len(m)
+	if finished == 4 {
+		t.Log("all epochs finished before the kill")
+	}
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("rerun: exit %d: %s", code, errs)
+	}
+	s := readSummary(t, filepath.Join(out, "summary.json"))
+	skipped := 0
+	for _, r := range s.Rows {
+		if r.Status != batch.StateDone {
+			t.Fatalf("row %+v", r)
+		}
+		if r.Skipped {
+			skipped++
+		}
+		p := filepath.Join(out, r.FITS)
+		if _, err := fitsimage.ReadFile(p); err != nil {
+			t.Fatal(err)
+		}
+		vout, err := exec.Command(fv, "-q", p).CombinedOutput()
+		if err != nil || !strings.HasPrefix(string(vout), "verification OK") {
+			t.Fatalf("fitsverify %s: %v: %s", p, err, vout)
+		}
+	}
+	if len(s.Rows) != 4 || skipped < finished {
+		t.Fatalf("%d rows, %d skipped, %d finished before the kill", len(s.Rows), skipped, finished)
+	}
+}

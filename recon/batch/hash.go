@@ -1,0 +1,93 @@
+package batch
+
+import (
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"vcz/io/safefile"
+)
+
+// Hash returns the hexadecimal SHA-256 of the settings text followed by the contents of
+// each file in order, each part preceded by its length as 8 bytes. File names do not
+// enter: a renamed or moved file with the same content gives the same hash.
+func Hash(settings string, files []string) (string, error) {
+	h := sha256.New()
+	var n [8]byte
+	binary.LittleEndian.PutUint64(n[:], uint64(len(settings)))
+	h.Write(n[:])
+	io.WriteString(h, settings)
+	for _, p := range files {
+		f, err := os.Open(p)
+		if err != nil {
+			return "", err
+		}
+		st, err := f.Stat()
+		if err != nil {
+			f.Close()
+			return "", err
+		}
+		binary.LittleEndian.PutUint64(n[:], uint64(st.Size()))
+		h.Write(n[:])
+		_, err = io.Copy(h, f)
+		f.Close()
+		if err != nil {
+			return "", fmt.Errorf("%s: %w", p, err)
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// Status is the record of one epoch's run, kept as a JSON file beside its outputs.
+type Status struct {
+	Epoch string `json:"epoch"`
+	Hash  string `json:"hash"`
+	// Outputs are the files the epoch wrote, relative to the status file's folder.
+	Outputs []string `json:"outputs"`
+	Row     Row      `json:"summary"`
+}
+
+// WriteStatus writes st to path atomically (safefile.Write).
+func WriteStatus(path string, st *Status) error {
+	b, err := json.MarshalIndent(st, "", "  ")
+	if err != nil {
+		return err
+	}
+	return safefile.WriteBytes(path, append(b, '\n'))
+}
+
+// ReadStatus reads a status file.
+func ReadStatus(path string) (*Status, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var st Status
+	if err := json.Unmarshal(b, &st); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return &st, nil
+}
+
+// Complete reports whether the status file at path records a finished epoch (state
+// "done") with the given hash whose outputs all exist and are not empty. It returns the
+// status when it does.
+func Complete(path, hash string) (*Status, bool) {
+	st, err := ReadStatus(path)
+	if err != nil || st.Hash != hash || st.Row.Status != StateDone {
+		return nil, false
+	}
+	dir := filepath.Dir(path)
+	for _, o := range st.Outputs {
+		fi, err := os.Stat(filepath.Join(dir, o))
+		if err != nil || fi.Size() == 0 {
+			return nil, false
+		}
+	}
+	return st, true
+}

@@ -1,0 +1,178 @@
+package batch
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"sort"
+	"strconv"
+
+	"vcz/io/safefile"
+)
+
+// Epoch states recorded in Row.Status.
+const (
+	StateDone   = "done"
+	StateFailed = "failed"
+)
+
+// TypeFit is the fit to one data type of an epoch.
+type TypeFit struct {
+	N     int     `json:"n"`
+	Chi2r float64 `json:"chi2r"`
+}
+
+// Row is one epoch of a batch summary.
+type Row struct {
+	Index   int     `json:"index"` // 0-based position in the full list of epochs
+	Epoch   string  `json:"epoch"`
+	MJDMin  float64 `json:"mjd_min"` // 0 when unknown (the data could not be read)
+	MJDMax  float64 `json:"mjd_max"`
+	Status  string  `json:"status"` // StateDone or StateFailed
+	Error   string  `json:"error,omitempty"`
+	Skipped bool    `json:"skipped,omitempty"` // found complete and not redone
+	// Points and Chi2r are per data type, keyed by the names "vis2", "t3amp", "t3phi",
+	// "visamp", "visphi".
+	Points     map[string]int     `json:"points"`
+	Chi2r      map[string]float64 `json:"chi2r"`
+	Chi2rTotal float64            `json:"chi2r_total"`
+	Weight     float64            `json:"weight"`
+	Iterations int                `json:"iterations"`
+	Seconds    float64            `json:"seconds"`
+	FITS       string             `json:"fits,omitempty"`
+	PNG        string             `json:"png,omitempty"`
+}
+
+// Summary is a batch summary: the epochs handled, sorted by Index, and the shard that
+// made it (1/1 for a whole batch or a collected one).
+type Summary struct {
+	Shard  string `json:"shard"`
+	Epochs int    `json:"epochs_total"` // epochs of the whole batch
+	Rows   []Row  `json:"rows"`
+}
+
+// Failed returns the number of failed rows.
+func (s *Summary) Failed() int {
+	n := 0
+	for _, r := range s.Rows {
+		if r.Status != StateDone {
+			n++
+		}
+	}
+	return n
+}
+
+// TypeOrder is the column order of the data types in the CSV table.
+var TypeOrder = []string{"vis2", "t3amp", "t3phi", "visamp", "visphi"}
+
+// WriteJSON writes s to path atomically.
+func WriteJSON(path string, s *Summary) error {
+	b, err := json.MarshalIndent(s, "", "  ")
+	if err != nil {
+		return err
+	}
+	return safefile.WriteBytes(path, append(b, '\n'))
+}
+
+// ReadJSON reads a summary written by WriteJSON.
+func ReadJSON(path string) (*Summary, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var s Summary
+	if err := json.Unmarshal(b, &s); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return &s, nil
+}
+
+// EncodeCSV writes the rows as a CSV table (RFC 4180) with a header line: epoch, MJD range,
+// status, the points and χ²ᵣ of each data type (empty for a type the epoch lacks), total
+// χ²ᵣ, weight, iterations, seconds and the error.
+func EncodeCSV(w io.Writer, s *Summary) error {
+	cw := csv.NewWriter(w)
+	head := []string{"epoch", "mjd_min", "mjd_max", "status"}
+	for _, t := range TypeOrder {
+		head = append(head, "n_"+t)
+	}
+	for _, t := range TypeOrder {
+		head = append(head, "chi2r_"+t)
+	}
+	head = append(head, "chi2r", "weight", "iterations", "seconds", "error")
+	cw.Write(head)
+	g := func(x float64) string { return strconv.FormatFloat(x, 'g', 8, 64) }
+	for _, r := range s.Rows {
+		mjd := func(x float64) string {
+			if x == 0 {
+				return ""
+			}
+			return strconv.FormatFloat(x, 'f', 5, 64)
+		}
+		rec := []string{r.Epoch, mjd(r.MJDMin), mjd(r.MJDMax), r.Status}
+		for _, t := range TypeOrder {
+			if n, ok := r.Points[t]; ok {
+				rec = append(rec, strconv.Itoa(n))
+			} else {
+				rec = append(rec, "")
+			}
+		}
+		for _, t := range TypeOrder {
+			if c, ok := r.Chi2r[t]; ok {
+				rec = append(rec, g(c))
+			} else {
+				rec = append(rec, "")
+			}
+		}
+		if r.Status == StateDone {
+			rec = append(rec, g(r.Chi2rTotal), g(r.Weight), strconv.Itoa(r.Iterations))
+		} else {
+			rec = append(rec, "", "", "")
+		}
+		rec = append(rec, strconv.FormatFloat(r.Seconds, 'f', 2, 64), r.Error)
+		cw.Write(rec)
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// WriteCSV writes the CSV table of s to path atomically.
+func WriteCSV(path string, s *Summary) error {
+	return safefile.Write(path, func(w io.Writer) error { return EncodeCSV(w, s) })
+}
+
+// Collect merges shard summaries into the summary of the whole batch. Every summary must
+// describe the same number of epochs; an epoch found in two summaries is an error, and so
+// is one found in none (the error lists the missing epochs' indices).
+func Collect(parts []*Summary) (*Summary, error) {
+	if len(parts) == 0 {
+		return nil, fmt.Errorf("batch: no summaries to collect")
+	}
+	out := &Summary{Shard: "1/1", Epochs: parts[0].Epochs}
+	seen := map[int]string{}
+	for i, p := range parts {
+		if p.Epochs != out.Epochs {
+			return nil, fmt.Errorf("summary %d (shard %s) describes %d epochs, the first %d", i+1, p.Shard, p.Epochs, out.Epochs)
+		}
+		for _, r := range p.Rows {
+			if prev, dup := seen[r.Index]; dup {
+				return nil, fmt.Errorf("epoch %q (index %d) is in shard %s and shard %s", r.Epoch, r.Index, prev, p.Shard)
+			}
+			seen[r.Index] = p.Shard
+			out.Rows = append(out.Rows, r)
+		}
+	}
+	sort.Slice(out.Rows, func(i, j int) bool { return out.Rows[i].Index < out.Rows[j].Index })
+	var missing []int
+	for i := 0; i < out.Epochs; i++ {
+		if _, ok := seen[i]; !ok {
+			missing = append(missing, i)
+		}
+	}
+	if len(missing) > 0 {
+		return out, fmt.Errorf("%d of %d epochs are in no summary (indices %v)", len(missing), out.Epochs, missing)
+	}
+	return out, nil
+}
