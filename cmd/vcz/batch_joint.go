@@ -125,7 +125,6 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,
 		BUnit: "flux/pixel", Normalized: true}
 	cube.Cards = append(cube.Cards,
-		fitsimage.Card{Key: "CTYPE3", Value: "EPOCH", Comment: "plane number; its MJD in MJDnnn"},
 		fitsimage.Card{Key: "CREATOR", Value: "vcz " + version, Comment: "software that made this image"},
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
