@@ -327,3 +327,18 @@ func TestBatchJoint(t *testing.T) {
 		t.Fatalf("fitsverify: %v: %s", err, vout)
 	}
 }
+
+// The example job file reads: four epochs, the shared settings and the overrides.
+func TestBatchExampleJob(t *testing.T) {
+	var f imageFlags
+	epochs, out, err := readJobFile(filepath.Join("..", "..", "examples", "batch", "job.toml"), &f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(epochs) != 4 || filepath.Base(out) != "vaeloris-epochs" || len(epochs[1].files) != 2 {
+		t.Fatalf("%d epochs, output %q", len(epochs), out)
+	}
+	if epochs[0].flags.n != 64 || epochs[0].flags.sel.use != "vis2,t3phi" || epochs[2].flags.sel.use != "vis2" || epochs[3].flags.sel.wave == "" {
+		t.Fatalf("settings %+v / %+v", epochs[0].flags, epochs[2].flags)
+	}
+}
