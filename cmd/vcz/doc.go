@@ -16,12 +16,12 @@ The commands are:
 	inspect    summarise OIFITS files: targets, data, baselines, resolution
 	image      reconstruct an image and write FITS, PNG and fit plots
 	simulate   simulate OIFITS data of a model observed with an observing plan
+	fit        fit parametric models (discs, limb darkening, binaries)
+	compare    reconstruct with several regularizers side by side, with a report
+	batch      image many epochs: in parallel, resumable, sharded for job arrays
 	demo       reconstruct the embedded demo data set into a folder
 	version    print the version
 	help       show help for vcz or for one command
-
-Further commands (fit, compare, batch) add themselves when built in; `vcz
-help` lists those that are.
 
 # Inspect
 
@@ -50,6 +50,33 @@ for the full list with defaults.
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
 documents every plan key and -help-model the model forms.
+
+# Fit
+
+	vcz fit -model SPEC [options] FILE...
+
+fits a sum of analytic components by Levenberg–Marquardt; "~" marks a free
+parameter, "=" a fixed one, "(min..max)" its bounds. It prints each parameter
+± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type;
+-grid-search maps χ² of a point companion over separation and position
+angle; -write-image writes the fitted model as a FITS prior or start image.
+
+# Compare
+
+	vcz compare [options] FILE... -o DIR
+
+runs every regularizer (or those of -regs) on one grid and start, in
+parallel, and writes per-regularizer images, a panel, spread and robust-
+feature maps, L-curves, data-versus-model plots, compare.csv/.json and
+report.html.
+
+# Batch
+
+	vcz batch [options] (-job FILE | FILE...)
+
+reconstructs one image per epoch, concurrently within the CPU budget,
+resumable, sharded by -shard K/N or the SLURM array variables; -collect merges
+shard summaries; -joint adds a temporal regularizer across epochs.
 
 # Demo
 
