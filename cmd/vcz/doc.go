@@ -65,7 +65,7 @@ angle; -write-image writes the fitted model as a FITS prior or start image.
 
 	vcz compare [options] FILE... -o DIR
 
-runs every regularizer (or those of -regs) on one grid and start, in
+runs every regularizer (or those listed with -reg) on one grid and start, in
 parallel, and writes per-regularizer images, a panel, spread and robust-
 feature maps, L-curves, data-versus-model plots, compare.csv/.json and
 report.html.
