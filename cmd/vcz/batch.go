@@ -193,7 +193,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	shardS := fs.String("shard", "", "run only shard K/N: every N-th epoch starting at the K-th (default: from SLURM_ARRAY_TASK_ID, else all)")
 	collect := fs.Bool("collect", false, "merge the shard summaries in -out (and any folders given) into one summary, montage and animation")
 	joint := fs.Bool("joint", false, "also reconstruct all epochs together with a temporal regularizer λ·Σ‖x_t − x_{t−1}‖²")
-	tweight := fs.String("temporal-weight", "auto", "temporal weight λ of -joint, or auto (the largest that raises χ²ᵣ by at most 10%)")
+	tweight := fs.String("temporal-weight", "auto", "temporal weight λ of -joint, or auto (the largest that raises no epoch's χ²ᵣ by more than 5%)")
 	parallel := fs.Int("parallel", 0, "worker goroutines of all epochs together (default: number of CPUs)")
 	quiet := fs.Bool("quiet", false, "print nothing on stderr but errors")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -625,8 +625,8 @@ func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string) {
 			skipped++
 		}
 	}
-	fmt.Fprintf(w, "%d epochs (shard %s of %d): %d done, %d failed, %d already complete\n",
-		len(s.Rows), s.Shard, s.Epochs, len(s.Rows)-s.Failed(), s.Failed(), skipped)
+	fmt.Fprintf(w, "%d of %d epochs (shard %s): %d done (%d of them found complete), %d failed\n",
+		len(s.Rows), s.Epochs, s.Shard, len(s.Rows)-s.Failed(), skipped, s.Failed())
 	for _, r := range s.Rows {
 		if r.Status != batch.StateDone {
 			fmt.Fprintf(w, "  %s FAILED: %s\n", r.Epoch, r.Error)

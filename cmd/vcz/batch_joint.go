@@ -6,6 +6,7 @@ import (
 	"math"
 	"path/filepath"
 	"runtime"
+	"time"
 
 	"github.com/BurntSushi/toml"
 
@@ -111,13 +112,27 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 		j.Epochs = append(j.Epochs, je)
 	}
 	j.NPix = grid.N * grid.N
-	prog := newProgressLine(stderr, quiet)
+	tty := isTerminal(stderr)
+	var last time.Time
 	res, err := batch.SolveJoint(j, starts, lambda, batch.JointSettings{MaxIter: maxIter,
 		Progress: func(lam float64, it int, f float64) bool {
-			prog.update(fmt.Sprintf("joint λ %.3g", lam), it, f, math.NaN(), lam)
+			if quiet {
+				return true
+			}
+			text := fmt.Sprintf("joint: temporal weight %-9.3g iter %4d  objective %.6g", lam, it, f)
+			if tty {
+				if time.Since(last) > 100*time.Millisecond {
+					fmt.Fprintf(stderr, "\r\033[K%s", text)
+					last = time.Now()
+				}
+			} else if it%50 == 0 {
+				fmt.Fprintln(stderr, text)
+			}
 			return true
 		}})
-	prog.done()
+	if tty && !quiet {
+		fmt.Fprint(stderr, "\r\033[K")
+	}
 	if err != nil {
 		return failure(err)
 	}
@@ -138,7 +153,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", t+1), Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"})
 	}
 	for _, s := range res.Path {
-		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.6g, sum |dx|^2 %.6g, accepted %t", s.Lambda, s.Chi2r, s.Temporal, s.Accepted)})
+		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.5g, sum |dx|^2 %.5g, %s", s.Lambda, s.Chi2r, s.Temporal, map[bool]string{true: "kept", false: "rejected"}[s.Accepted])})
 	}
 	if err := fitsimage.WriteFile(filepath.Join(out, "joint.fits"), cube); err != nil {
 		return failure(err)

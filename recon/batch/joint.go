@@ -162,10 +162,10 @@ type JointSettings struct {
 	// FTol stops a run when the objective decreased by less than FTol·max(|F|, 1) per
 	// iteration on average over 5 iterations (the test recon.Solve uses); 0 means 1e-7.
 	FTol float64
-	// Steps is the number of temporal weights tried by the automatic choice; 0 means 5.
+	// Steps is the number of temporal weights tried by the automatic choice; 0 means 6.
 	Steps int
-	// Tolerance is the rise of total χ²ᵣ over that of the start images that the automatic
-	// choice accepts, as a fraction; 0 means 0.1.
+	// Tolerance is the rise of each epoch's χ²ᵣ over that of its start image that the
+	// automatic choice accepts, as a fraction; 0 means 0.05.
 	Tolerance float64
 	// Progress, when non-nil, is called after every iteration with the temporal weight of
 	// the run, the iteration and the objective; false stops SolveJoint with an error.
@@ -194,11 +194,11 @@ type JointResult struct {
 
 // SolveJoint minimises the joint objective from the start images x0 (one per epoch,
 // usually the epochs' independent reconstructions). With lambda > 0 it runs once at that
-// weight. With lambda = 0 the weight is chosen: starting from λ₀ = ρ̄·NPix/100 (ρ̄ the mean
+// weight. With lambda = 0 the weight is chosen: starting from λ₀ = ρ̄·NPix/10⁴ (ρ̄ the mean
 // number of data of an epoch, NPix scaling the squared difference of two unit-flux
 // images), it tries λ₀·10^k for k = 0, 1, ..., each run warm-started from the last kept
-// one, and keeps the largest weight whose total χ²ᵣ stays within Tolerance of the start
-// images' (the discrepancy idea of recon's weight choice applied to the temporal term;
+// one, and keeps the largest weight at which no epoch's χ²ᵣ rises by more than Tolerance
+// over its start image's (the discrepancy idea of recon's weight choice applied to the temporal term;
 // common practice, no source). When no weight passes, the smallest is kept.
 func SolveJoint(j *Joint, x0 [][]float64, lambda float64, s JointSettings) (*JointResult, error) {
 	T, n := len(j.Epochs), j.NPix
@@ -239,10 +239,10 @@ func SolveJoint(j *Joint, x0 [][]float64, lambda float64, s JointSettings) (*Joi
 		s.FTol = recon.DefaultFTol
 	}
 	if s.Steps <= 0 {
-		s.Steps = 5
+		s.Steps = 6
 	}
 	if s.Tolerance <= 0 {
-		s.Tolerance = 0.1
+		s.Tolerance = 0.05
 	}
 	res := &JointResult{}
 	run := func(x0 []float64, lam float64) (optim.Result, error) {
@@ -299,21 +299,23 @@ func SolveJoint(j *Joint, x0 [][]float64, lambda float64, s JointSettings) (*Joi
 		}
 		best, res.Lambda = r, lambda
 	} else {
-		base, _ := measure(x)
-		limit := base * (1 + s.Tolerance)
+		_, base := measure(x)
 		rho := 0.0
 		for _, e := range j.Epochs {
 			rho += max(e.Rho, 1)
 		}
-		lam := rho / float64(T) * float64(n) / 100
+		lam := rho / float64(T) * float64(n) / 1e4
 		cur := x
 		for k := range s.Steps {
 			r, err := run(cur, lam)
 			if err != nil {
 				return nil, err
 			}
-			c, _ := measure(r.X)
-			ok := c <= limit
+			c, per := measure(r.X)
+			ok := true
+			for t := range per {
+				ok = ok && per[t] <= base[t]*(1+s.Tolerance)
+			}
 			res.Path = append(res.Path, LambdaStep{Lambda: lam, Chi2r: c, Temporal: j.Temporal(r.X), Accepted: ok})
 			if ok || k == 0 {
 				best, res.Lambda, cur = r, lam, r.X
