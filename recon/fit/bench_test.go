@@ -44,3 +44,21 @@ func BenchmarkGridSearch(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkScanSeeds maps χ² over the free position of a companion next
+// to a disc (the map that seeds the extra starts of Fit) and picks 15
+// minima.
+func BenchmarkScanSeeds(b *testing.B) {
+	d := synth(modelVis(mustLoad(b, "ud:diameter=1.2;point:x=4,y=-3,flux=0.3")), exactNoise)
+	start := mustLoad(b, "ud:diameter~1.1;point:x~1,y~1,flux~0.1(0..1)")
+	pr, err := newProblem(newTerms(d, 0), start)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		if s := pr.scanSeeds(pr.x0, 15); len(s) != 15 {
+			b.Fatalf("%d seeds", len(s))
+		}
+	}
+}

@@ -26,13 +26,20 @@ type Options struct {
 	// 0 means 200.
 	MaxIter int
 	// Starts is the number of starts (0 or 1: the model's own values only).
-	// Starts after the first draw the position (x, y) of every component
-	// whose x and y are both free: uniformly within the bounds when both
+	// Starts after the first move the position (x, y) of every component
+	// whose x and y are both free. They are first seeded from a coarse χ²
+	// map of that position (the other parameters at their start values):
+	// the component is placed at the lowest local minima of the map, at
+	// least one fringe spacing apart (see scanSeeds for the grid). Starts
+	// beyond the minima found, and every extra start when NoScan is set,
+	// draw the position at random: uniformly within the bounds when both
 	// are bounded, otherwise at a separation uniform in [0.5, 1.5] times
 	// the start's and a position angle uniform in [0°, 360°).
 	Starts int
-	// Seed seeds the draws of the extra starts; equal seeds give equal
-	// results.
+	// NoScan draws every extra start at random, without the χ² map.
+	NoScan bool
+	// Seed seeds the random draws of the extra starts; equal seeds give
+	// equal results.
 	Seed uint64
 	// FTol stops when both the actual and the predicted relative
 	// reductions of χ² in a step are below it (0 means 1e-12). XTol stops
@@ -104,8 +111,11 @@ type Result struct {
 	Reason     string    // why the best start stopped, in words
 	Start      int       // index of the best start (0 = the model's own values)
 	StartChi2  []float64 // final χ² of every start
-	Use        recon.DataType
-	Notices    []string
+	// Scanned is the number of extra starts seeded from the χ² map of the
+	// free positions (starts 1 to Scanned); the rest were drawn at random.
+	Scanned int
+	Use     recon.DataType
+	Notices []string
 }
 
 // Fit fits the free parameters of m to d by Levenberg–Marquardt and
@@ -127,9 +137,17 @@ func Fit(d *recon.Data, m *model.Model, opt Options) (*Result, error) {
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	var best *run
 	res := &Result{Use: t.use, Notices: t.notices}
+	var seeds [][]float64
+	if !opt.NoScan {
+		seeds = pr.scanSeeds(pr.x0, opt.Starts-1)
+	}
+	res.Scanned = len(seeds)
 	for s := 0; s < opt.Starts; s++ {
 		x0 := append([]float64(nil), pr.x0...)
-		if s > 0 {
+		switch {
+		case s > 0 && s <= len(seeds):
+			x0 = seeds[s-1]
+		case s > 0:
 			pr.perturb(x0, rng)
 		}
 		r := pr.lm(x0, opt)
