@@ -37,7 +37,9 @@
 // VIS2DATA = |V|², T3AMP and T3PHI from the bispectrum
 // B = V(u1,v1) V(u2,v2) conj(V(u1+u2, v1+v2)), VISAMP and VISPHI from V.
 // Each value gets an error (relative part and floor in quadrature for
-// amplitudes, fixed degrees for phases) written to its *ERR column, and,
+// amplitudes; for phases a floor in degrees and the amplitude floor divided by the
+// amplitude, in radians, in quadrature, at most 180°, so that phases are poorly known where
+// the amplitude is near zero, as in real data) written to its *ERR column, and,
 // when Plan.Noise.Add is set, a Gaussian draw with that σ from a PCG
 // generator (math/rand/v2) seeded with Plan.Seed; each table type has its
 // own stream. The same plan, sky and seed give the same file.

@@ -27,17 +27,18 @@ type Station struct {
 // Noise sets the Gaussian errors of the simulated data. Each error is
 // written to the *ERR column, and when Add is set a draw from N(0, σ²) is
 // added to the value. Amplitude errors combine a relative part and a
-// floor in quadrature: σ = √((rel·value)² + floor²).
+// floor in quadrature: σ = √((rel·value)² + floor²); phase errors are
+// given by phaseError.
 type Noise struct {
 	Add            bool
 	V2Relative     float64 // relative error of VIS2DATA
 	V2Floor        float64 // absolute error floor of VIS2DATA, > 0
-	ClosurePhase   float64 // T3PHIERR (deg), > 0
+	ClosurePhase   float64 // floor of T3PHIERR (deg), > 0; see phaseError
 	T3AmpRelative  float64 // relative error of T3AMP
 	T3AmpFloor     float64 // absolute error floor of T3AMP, > 0
 	VisAmpRelative float64 // relative error of VISAMP
 	VisAmpFloor    float64 // absolute error floor of VISAMP, > 0
-	VisPhase       float64 // VISPHIERR (deg), > 0
+	VisPhase       float64 // floor of VISPHIERR (deg), > 0; see phaseError
 }
 
 // Plan is an observing plan: where, what, when, at which wavelengths, with

@@ -186,10 +186,11 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 					bs := vis[(k*np+jab)*nc+c] * vis[(k*np+jbc)*nc+c] * cmplx.Conj(vis[(k*np+jac)*nc+c])
 					amp, phi := cmplx.Abs(bs), cmplx.Phase(bs)*r2d
 					sa := math.Hypot(nz.T3AmpRelative*amp, nz.T3AmpFloor)
-					row.AmpErr[c], row.PhiErr[c] = sa, nz.ClosurePhase
+					sp := phaseError(nz.ClosurePhase, nz.T3AmpFloor, amp)
+					row.AmpErr[c], row.PhiErr[c] = sa, sp
 					if nz.Add {
 						amp += sa * rng.NormFloat64()
-						phi = wrapDeg(phi + nz.ClosurePhase*rng.NormFloat64())
+						phi = wrapDeg(phi + sp*rng.NormFloat64())
 					}
 					row.Amp[c], row.Phi[c] = amp, phi
 				}
@@ -213,10 +214,11 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 					z := vis[(k*np+j)*nc+c]
 					amp, phi := cmplx.Abs(z), cmplx.Phase(z)*r2d
 					sa := math.Hypot(nz.VisAmpRelative*amp, nz.VisAmpFloor)
-					row.AmpErr[c], row.PhiErr[c] = sa, nz.VisPhase
+					sp := phaseError(nz.VisPhase, nz.VisAmpFloor, amp)
+					row.AmpErr[c], row.PhiErr[c] = sa, sp
 					if nz.Add {
 						amp += sa * rng.NormFloat64()
-						phi = wrapDeg(phi + nz.VisPhase*rng.NormFloat64())
+						phi = wrapDeg(phi + sp*rng.NormFloat64())
 					}
 					row.Amp[c], row.Phi[c] = amp, phi
 				}
@@ -227,6 +229,24 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		f.Vis = append(f.Vis, tab)
 	}
 	return f, rep, nil
+}
+
+// maxPhaseError caps phaseError: a phase of error 180° carries almost no information.
+const maxPhaseError = 180.0
+
+// phaseError returns the error in degrees of a phase whose complex quantity has amplitude
+// amp and an additive amplitude error floor: floorDeg and the noise phase floor/amp (radians)
+// in quadrature, at most maxPhaseError. At high signal-to-noise a complex quantity of
+// amplitude A with additive noise σ per component has a phase error of σ/A radians
+// (Thompson, Moran & Swenson, Interferometry and Synthesis in Radio Astronomy, sect. 6.2,
+// from memory), so a phase is poorly defined where the amplitude is near zero. The relative
+// part of the amplitude error is left out: it stands for calibration of the amplitudes
+// (the atmospheric transfer function), which cancels in closure phases.
+func phaseError(floorDeg, ampFloor, amp float64) float64 {
+	if !(amp > 0) {
+		return maxPhaseError
+	}
+	return math.Min(math.Hypot(floorDeg, ampFloor/amp*180/math.Pi), maxPhaseError)
 }
 
 // wrapDeg maps an angle in degrees onto (−180, 180].

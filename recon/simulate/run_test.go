@@ -386,3 +386,22 @@ func TestImageGrid(t *testing.T) {
 		t.Errorf("coarse image accepted: %v", err)
 	}
 }
+
+// TestPhaseError checks the phase errors of the simulated data: at high signal-to-noise the
+// phase error of a complex quantity of amplitude A with additive noise σ is σ/A radians
+// (Thompson, Moran & Swenson, Interferometry and Synthesis in Radio Astronomy, sect. 6.2,
+// from memory), added in quadrature to the floor and capped at 180°.
+func TestPhaseError(t *testing.T) {
+	for _, c := range []struct{ floor, ampFloor, amp, want float64 }{
+		{1.5, 0.0005, 1, math.Hypot(1.5, 0.0005*180/math.Pi)},
+		{1.5, 0.0005, 0.01, math.Hypot(1.5, 0.05*180/math.Pi)}, // 3.24°
+		{1, 0.002, 0.002, math.Hypot(1, 180/math.Pi)},          // 1 rad from the noise
+		{1, 0.002, 1e-6, 180},                                  // capped
+		{1, 0.002, 0, 180},
+	} {
+		want := c.want
+		if got := phaseError(c.floor, c.ampFloor, c.amp); math.Abs(got-want) > 1e-12 {
+			t.Errorf("phaseError(%g, %g, %g) = %g, want %g", c.floor, c.ampFloor, c.amp, got, want)
+		}
+	}
+}
