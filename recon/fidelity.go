@@ -12,10 +12,13 @@ var fwhmToSigma = 1 / (2 * math.Sqrt(2*math.Ln2))
 // Fidelity compares a reconstruction rec with the true image truth, both n × n pixels
 // (row-major, x[iy*n+ix]) of the same grid. Both are normalised to unit flux and convolved
 // with a circular Gaussian of full width at half maximum beamFWHM (in the unit of pixel, e.g.
-// radians; zero or negative means no convolution); rec is then shifted by the integer pixel
-// offset that maximises the cross-correlation Σ rec'(p) truth(p), searched within ±n/2
-// pixels, where the shifted image is rec'(ix, iy) = rec(ix+shift[0], iy+shift[1]) and zero
-// where that lies off the grid. At that offset it returns
+// radians; zero or negative means no convolution); rec is then shifted by the offset that
+// maximises the cross-correlation C(s) = Σ rec'(p) truth(p), searched over integer offsets
+// within ±n/2 pixels and refined to a fraction of a pixel by the vertex of the parabola
+// through the peak and its two neighbours along each axis (at most half a pixel either way).
+// The shifted image is rec'(ix, iy) = rec(ix+shift[0], iy+shift[1]), interpolated
+// by cubic convolution at fractional offsets and zero where that lies off the grid. The offset is free because
+// closure phases and V² do not fix the position of the object. At that offset it returns
 //
 //	ncc = Σ (r − r̄)(t − t̄) / √(Σ (r − r̄)² · Σ (t − t̄)²),   l1 = Σ |r − t| / Σ |t|,
 //
@@ -24,7 +27,7 @@ var fwhmToSigma = 1 / (2 * math.Sqrt(2*math.Ln2))
 // one-dimensional convolutions, truncated at 4σ and normalised to a sum of 1, with zero
 // outside the grid; each convolved image is normalised to unit flux again. An image without
 // positive flux gives ncc = NaN and l1 = NaN. It panics if a length is not n².
-func Fidelity(rec, truth []float64, n int, pixel, beamFWHM float64) (ncc, l1 float64, shift [2]int) {
+func Fidelity(rec, truth []float64, n int, pixel, beamFWHM float64) (ncc, l1 float64, shift [2]float64) {
 	if n <= 0 || len(rec) != n*n || len(truth) != n*n {
 		panic(fmt.Sprintf("recon: Fidelity: lengths %d and %d, want %d", len(rec), len(truth), n*n))
 	}
@@ -33,35 +36,40 @@ func Fidelity(rec, truth []float64, n int, pixel, beamFWHM float64) (ncc, l1 flo
 	if r == nil || t == nil {
 		return math.NaN(), math.NaN(), shift
 	}
+	corr := func(sx, sy int) float64 {
+		c := 0.0
+		for iy := max(0, -sy); iy < min(n, n-sy); iy++ {
+			ro, to := (iy+sy)*n+sx, iy*n
+			for ix := max(0, -sx); ix < min(n, n-sx); ix++ {
+				c += r[ro+ix] * t[to+ix]
+			}
+		}
+		return c
+	}
 	// Integer cross-correlation peak; ties go to the smallest |shift| found first.
 	m := n / 2
 	best := math.Inf(-1)
+	var bx, by int
 	for sy := -m; sy <= m; sy++ {
 		for sx := -m; sx <= m; sx++ {
-			c := 0.0
-			for iy := max(0, -sy); iy < min(n, n-sy); iy++ {
-				ro, to := (iy+sy)*n+sx, iy*n
-				for ix := max(0, -sx); ix < min(n, n-sx); ix++ {
-					c += r[ro+ix] * t[to+ix]
-				}
-			}
-			if c > best || (c == best && sx*sx+sy*sy < shift[0]*shift[0]+shift[1]*shift[1]) {
-				best, shift = c, [2]int{sx, sy}
+			c := corr(sx, sy)
+			if c > best || (c == best && sx*sx+sy*sy < bx*bx+by*by) {
+				best, bx, by = c, sx, sy
 			}
 		}
 	}
-	rs := make([]float64, n*n)
-	for iy := 0; iy < n; iy++ {
-		jy := iy + shift[1]
-		if jy < 0 || jy >= n {
-			continue
+	vertex := func(cm, c0, cp float64) float64 {
+		den := cm - 2*c0 + cp
+		if !(den < 0) {
+			return 0
 		}
-		for ix := 0; ix < n; ix++ {
-			if jx := ix + shift[0]; jx >= 0 && jx < n {
-				rs[iy*n+ix] = r[jy*n+jx]
-			}
-		}
+		return math.Max(-0.5, math.Min(0.5, 0.5*(cm-cp)/den))
 	}
+	shift = [2]float64{
+		float64(bx) + vertex(corr(bx-1, by), best, corr(bx+1, by)),
+		float64(by) + vertex(corr(bx, by-1), best, corr(bx, by+1)),
+	}
+	rs := shifted(r, n, shift)
 	mean := 1 / float64(n*n) // both have unit flux before the shift; rs may have lost a little
 	var rm float64
 	for _, v := range rs {
@@ -78,6 +86,63 @@ func Fidelity(rec, truth []float64, n int, pixel, beamFWHM float64) (ncc, l1 flo
 		st += math.Abs(t[i])
 	}
 	return sab / math.Sqrt(saa*sbb), sd / st, shift
+}
+
+// shifted returns img sampled at (ix+shift[0], iy+shift[1]) by separable cubic convolution
+// (Keys 1981, IEEE Trans. Acoust. Speech Signal Process. 29, 1153, with a = −1/2), whose
+// error falls as the cube of the pixel size, zero off the grid. Bilinear interpolation
+// would smooth the shifted image by up to a quarter pixel² of variance and cost a few per
+// cent of L1 on a beam of a few pixels.
+func shifted(img []float64, n int, shift [2]float64) []float64 {
+	weights := func(s float64) (int, [4]float64) {
+		f := math.Floor(s)
+		t := s - f
+		var w [4]float64
+		for j := range w {
+			w[j] = keys(t - float64(j-1))
+		}
+		return int(f) - 1, w
+	}
+	ox, wx := weights(shift[0])
+	oy, wy := weights(shift[1])
+	tmp := make([]float64, n*n)
+	for iy := 0; iy < n; iy++ { // along x
+		row := img[iy*n : (iy+1)*n]
+		for ix := 0; ix < n; ix++ {
+			v := 0.0
+			for j, w := range wx {
+				if k := ix + ox + j; k >= 0 && k < n {
+					v += w * row[k]
+				}
+			}
+			tmp[iy*n+ix] = v
+		}
+	}
+	out := make([]float64, n*n)
+	for iy := 0; iy < n; iy++ { // along y
+		for ix := 0; ix < n; ix++ {
+			v := 0.0
+			for j, w := range wy {
+				if k := iy + oy + j; k >= 0 && k < n {
+					v += w * tmp[k*n+ix]
+				}
+			}
+			out[iy*n+ix] = v
+		}
+	}
+	return out
+}
+
+// keys is the cubic convolution kernel of Keys (1981) with a = −1/2.
+func keys(x float64) float64 {
+	x = math.Abs(x)
+	switch {
+	case x < 1:
+		return (1.5*x-2.5)*x*x + 1
+	case x < 2:
+		return ((-0.5*x+2.5)*x-4)*x + 2
+	}
+	return 0
 }
 
 // blurNormalized returns img/Σimg convolved with the Gaussian of Fidelity and normalised to
