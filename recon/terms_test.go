@@ -1,6 +1,7 @@
 package recon
 
 import (
+	"gonum.org/v1/gonum/integrate/quad"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -175,25 +176,30 @@ func TestObjectiveGradient(t *testing.T) {
 		rng := rand.New(rand.NewPCG(seed, 7))
 		d := randomData(rng, 0.5/pixel/2)
 		for _, tc := range []struct {
-			name string
-			norm bool
-			opt  TermOptions
+			name   string
+			norm   bool
+			opt    TermOptions
+			smooth bool
 		}{
-			{"all", true, TermOptions{}},
-			{"weighted", true, TermOptions{Weights: Weights{2, 0.5, 3, 0.7, 1.5}}},
-			{"complex", true, TermOptions{ComplexVis: true}},
-			{"complex unnormalised", false, TermOptions{ComplexVis: true}},
-			{"vis2", true, TermOptions{Use: Vis2}},
-			{"t3amp", true, TermOptions{Use: T3Amp}},
-			{"t3phi", true, TermOptions{Use: T3Phi}},
-			{"visamp", true, TermOptions{Use: VisAmp}},
-			{"visphi", true, TermOptions{Use: VisPhi}},
+			{"all", true, TermOptions{}, false},
+			{"all smoothed", true, TermOptions{}, true},
+			{"t3phi smoothed", true, TermOptions{Use: T3Phi}, true},
+			{"visphi smoothed", true, TermOptions{Use: VisPhi}, true},
+			{"weighted", true, TermOptions{Weights: Weights{2, 0.5, 3, 0.7, 1.5}}, false},
+			{"complex", true, TermOptions{ComplexVis: true}, false},
+			{"complex unnormalised", false, TermOptions{ComplexVis: true}, false},
+			{"vis2", true, TermOptions{Use: Vis2}, false},
+			{"t3amp", true, TermOptions{Use: T3Amp}, false},
+			{"t3phi", true, TermOptions{Use: T3Phi}, false},
+			{"visamp", true, TermOptions{Use: VisAmp}, false},
+			{"visphi", true, TermOptions{Use: VisPhi}, false},
 		} {
 			m, err := NewModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
 			if err != nil {
 				t.Fatal(err)
 			}
 			o := NewObjective(d, m, tc.opt)
+			o.SetPhaseSmoothing(tc.smooth)
 			x := make([]float64, n*n)
 			for i := range x {
 				x[i] = 0.2 + rng.Float64()
@@ -206,6 +212,68 @@ func TestObjectiveGradient(t *testing.T) {
 			if e := relErr(g, want); e > 1e-6 {
 				t.Errorf("seed %d %s: gradient relative error %.3g", seed, tc.name, e)
 			}
+		}
+	}
+}
+
+// TestPhaseSmoothing checks that the smoothed phase terms change the objective but not the χ²
+// reported, and that they approach the exact terms as the amplitude scales η shrink: the
+// smoothed term 2(1 − Re z/√(|z|² + η²))/σ² tends to 2(1 − cos φ)/σ² for η/|z| → 0.
+func TestPhaseSmoothing(t *testing.T) {
+	const n, pixel = 8, 1e-9
+	rng := rand.New(rand.NewPCG(5, 7))
+	d := randomData(rng, 0.5/pixel/2)
+	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o := NewObjective(d, m, TermOptions{Use: T3Phi | VisPhi})
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 0.2 + rng.Float64()
+	}
+	exact := o.Eval(nil, x)
+	c3, cv := o.Chi2(T3Phi), o.Chi2(VisPhi)
+	o.SetPhaseSmoothing(true)
+	smooth := o.Eval(nil, x)
+	if o.Chi2(T3Phi) != c3 || o.Chi2(VisPhi) != cv {
+		t.Errorf("smoothing changed the reported χ²: %g, %g against %g, %g", o.Chi2(T3Phi), o.Chi2(VisPhi), c3, cv)
+	}
+	if !(smooth != exact) {
+		t.Errorf("smoothed objective %g equals the exact one", smooth)
+	}
+	prev := math.Abs(smooth - exact)
+	for _, f := range []float64{1e-1, 1e-2, 1e-3} {
+		for k := range o.eta3 {
+			o.eta3[k] *= f
+		}
+		for k := range o.etaV {
+			o.etaV[k] *= f
+		}
+		diff := math.Abs(o.Eval(nil, x) - exact)
+		if !(diff < prev) {
+			t.Errorf("η × %g: difference %g did not shrink from %g", f, diff, prev)
+		}
+		prev = diff
+	}
+	if prev > 1e-6*exact {
+		t.Errorf("with tiny η the smoothed objective differs by %g from %g", prev, exact)
+	}
+}
+
+// TestExpectedPhaseTerm checks E[2(1 − cos ε)]/σ² for ε ~ N(0, σ²) against a numerical
+// integral over the normal density (gonum's Gauss–Legendre quadrature over ±12σ), and its
+// small-σ limit 1.
+func TestExpectedPhaseTerm(t *testing.T) {
+	for _, sig := range []float64{1e-6, 1e-3, 0.05, 0.5, math.Pi / 3, 2, math.Pi} {
+		f := func(e float64) float64 {
+			// 2(1 − cos ε) = 4 sin²(ε/2), without the cancellation at small ε.
+			sn := math.Sin(e / 2)
+			return 4 * sn * sn / (sig * sig) * math.Exp(-e*e/(2*sig*sig)) / (sig * math.Sqrt(2*math.Pi))
+		}
+		want := quad.Fixed(f, -12*sig, 12*sig, 2000, nil, 0)
+		if got := expectedPhaseTerm(sig); math.Abs(got-want) > 1e-9 {
+			t.Errorf("σ = %g: %g, want %g", sig, got, want)
 		}
 	}
 }
