@@ -27,6 +27,12 @@ type GridOptions struct {
 	// MinN and MaxN bound N when it is chosen; 0 means 32 and 256. When the field of view needs
 	// more than MaxN pixels the pixel is enlarged instead, and the reasoning says so.
 	MinN, MaxN int
+	// ObjectSize, when positive, is the object's size (rad, a diameter) known to the caller,
+	// e.g. from a fitted model; it replaces the V² fit of the size, and ObjectSource names
+	// where it came from in the reasoning. A field of view capped at the largest constrained
+	// scale is still kept at 1.25 times ObjectSize or more, so that the object is inside.
+	ObjectSize   float64
+	ObjectSource string
 }
 
 // GridChoice is a grid with the figures and reasoning behind it, for printing.
@@ -36,7 +42,8 @@ type GridChoice struct {
 	Resolution   float64 // λmin/(2·Bmax) (rad)
 	LargestScale float64 // λmax/Bmin (rad)
 	// SizeModel is "uniform disc" or "Gaussian", the model that fitted the V² data best, and
-	// Size its diameter or FWHM (rad); Size is 0 when no V² data were there to fit.
+	// Size its diameter or FWHM (rad); Size is 0 when no V² data were there to fit. With
+	// GridOptions.ObjectSize set they are ObjectSource and ObjectSize.
 	SizeModel string
 	Size      float64
 	// Reasons lists the steps of the choice, one sentence each.
@@ -71,7 +78,8 @@ func nextFriendly(n int) int {
 // ChooseGrid picks a grid for a data set: the pixel is a quarter of the nominal resolution
 // λmin/(2·Bmax); the field of view is three times the object's size, estimated by fitting a
 // uniform disc and a Gaussian to the V² data (a 1-D least-squares fit of the diameter or FWHM,
-// keeping the better model), and at most the largest constrained scale λmax/Bmin; N is even
+// keeping the better model) unless opt.ObjectSize gives it, and at most the largest
+// constrained scale λmax/Bmin (but not less than 1.25 × ObjectSize when given); N is even
 // with no prime factor above 5 (Friendly), between MinN and MaxN. Every step can be overridden
 // through opt, and the reasoning is returned for printing.
 func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
@@ -113,7 +121,15 @@ func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
 		return g, nil
 	}
 	fov := 0.0
-	if model, size, ok := fitSize(d); ok {
+	if opt.ObjectSize > 0 {
+		src := opt.ObjectSource
+		if src == "" {
+			src = "given"
+		}
+		g.SizeModel, g.Size = src, opt.ObjectSize
+		fov = factor * opt.ObjectSize
+		g.Reasons = append(g.Reasons, fmt.Sprintf("%s: object size %.4g mas; field of view %.3g × that = %.4g mas", src, opt.ObjectSize/Mas, factor, fov/Mas))
+	} else if model, size, ok := fitSize(d); ok {
 		g.SizeModel, g.Size = model, size
 		fov = factor * size
 		g.Reasons = append(g.Reasons, fmt.Sprintf("V² fit: %s of %.4g mas; field of view %.3g × that = %.4g mas", model, size/Mas, factor, fov/Mas))
@@ -122,8 +138,13 @@ func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
 		g.Reasons = append(g.Reasons, "no V² data to estimate the object's size; field of view = largest scale")
 	}
 	if g.LargestScale > 0 && fov > g.LargestScale {
-		fov = g.LargestScale
-		g.Reasons = append(g.Reasons, fmt.Sprintf("field of view capped at the largest constrained scale λmax/Bmin = %.4g mas", g.LargestScale/Mas))
+		if keep := 1.25 * opt.ObjectSize; keep > g.LargestScale {
+			fov = keep
+			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view %.4g mas, 1.25 × the object size, beyond the largest constrained scale λmax/Bmin = %.4g mas so that the object is inside", fov/Mas, g.LargestScale/Mas))
+		} else {
+			fov = g.LargestScale
+			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view capped at the largest constrained scale λmax/Bmin = %.4g mas", g.LargestScale/Mas))
+		}
 	}
 	n := int(math.Ceil(fov/g.Pixel - 1e-9))
 	switch {
