@@ -1,6 +1,7 @@
 package recon
 
 import (
+	"fmt"
 	"testing"
 	"time"
 
@@ -16,6 +17,7 @@ type simCase struct {
 	model string // compact model form (model.ParseCompact) or TOML when toml is set
 	toml  bool
 	hours []float64 // hour angles; nil keeps the demo plan's
+	seed  uint64    // noise seed; 0 keeps the demo plan's
 }
 
 func simulateCase(t testing.TB, c simCase) (*Data, *model.Model) {
@@ -23,6 +25,9 @@ func simulateCase(t testing.TB, c simCase) (*Data, *model.Model) {
 	plan, _ := simulate.Demo()
 	if c.hours != nil {
 		plan.HourAngles = c.hours
+	}
+	if c.seed != 0 {
+		plan.Seed = c.seed
 	}
 	var m *model.Model
 	var err error
@@ -67,9 +72,14 @@ func fidelityOf(t testing.TB, d *Data, m *model.Model, p Problem, s Settings) (n
 	n := r.Grid.N
 	truth := m.Image(n, n, r.Grid.Pixel)
 	ncc, l1, sh := Fidelity(r.Image, truth, n, r.Grid.Pixel, r.Grid.Resolution)
-	t.Logf("grid %d × %.3f mas (res %.3f mas, size %s %.2f mas): χ²ᵣ %.3f weight %.3g iter %d, %.1f s: NCC %.4f L1 %.4f shift %v",
+	t.Logf("grid %d × %.3f mas (res %.3f mas, size %s %.2f mas): χ²ᵣ %.3f weight %.3g iter %d, %.1f s: NCC %.4f L1 %.4f shift %.2f",
 		n, r.Grid.Pixel/Mas, r.Grid.Resolution/Mas, r.Grid.SizeModel, r.Grid.Size/Mas, r.Chi2r, r.Weight, r.TotalIter, time.Since(t0).Seconds(), ncc, l1, sh)
 	return ncc, l1, r
+}
+
+func withSeed(c simCase, seed uint64) simCase {
+	c.seed = seed
+	return c
 }
 
 var fidCases = []simCase{
@@ -80,35 +90,46 @@ var fidCases = []simCase{
 
 // TestFidelitySimulated reconstructs the three simulated cases of the issue with the default
 // settings of `vcz image` (total variation, automatic weight, automatic start and grid) and
-// with maximum entropy, and measures Fidelity against the model image. The issue's targets:
-// NCC ≥ 0.99 and L1 ≤ 0.10 on the disc and the binary, L1 ≤ 0.20 on the ring. The disc meets
-// them. The binary and the ring do NOT with the present defaults: from the fitted uniform-disc
-// start the automatic weight begins at 0.1·J(x0)/R(x0) with J(x0) ≫ N, every warm-started
-// step stalls after 6 iterations and χ²ᵣ stays near 200–300 (measured). A Gaussian start with
-// the amplitude pass and a first weight of 0.1·N/R(x0) brought the binary to χ²ᵣ 1.01,
-// NCC 0.983, L1 0.17, and the ring only to χ²ᵣ 48, NCC 0.93, L1 0.48 (measured, not yet the
-// default). The bounds asserted below for those two are the measured figures of the present
-// defaults, so that a regression shows; they are far from the issue's targets.
+// with maximum entropy, and measures Fidelity against the model image. The targets of the
+// issue: NCC ≥ 0.99, and L1 ≤ 0.10 on the disc and the binary and ≤ 0.20 on the ring. Total
+// variation, the default, meets them on all three (measured: NCC 0.9987, 0.9993, 0.9980 and
+// L1 0.046, 0.040, 0.061). Maximum entropy meets them on the disc and the ring (0.9985/0.054,
+// 0.9981/0.071) and misses the L1 target on the binary (NCC 0.9931, L1 0.110): its flat prior
+// leaves a faint haze around the companion; the bound asserted there is the measured figure
+// with a little room, so that a regression shows. With another noise draw (seed 2) the
+// default meets the targets too.
 func TestFidelitySimulated(t *testing.T) {
 	for _, c := range []struct {
 		simCase
+		reg           string
 		minNCC, maxL1 float64
 	}{
-		{fidCases[0], 0.99, 0.10}, // the issue's target
-		{fidCases[1], 0.60, 1.50}, // gap: target 0.99 and 0.10
-		{fidCases[2], 0.35, 1.50}, // gap: target 0.99 and 0.20
+		{fidCases[0], "tv", 0.99, 0.10},
+		{fidCases[0], "mem", 0.99, 0.10},
+		{fidCases[1], "tv", 0.99, 0.10},
+		{fidCases[1], "mem", 0.99, 0.12}, // the target is 0.10: measured 0.110
+		{fidCases[2], "tv", 0.99, 0.20},
+		{fidCases[2], "mem", 0.99, 0.20},
+		// Another noise draw, with the default regularizer (measured: 0.9984/0.050,
+		// 0.9991/0.045, 0.9955/0.121).
+		{withSeed(fidCases[0], 2), "tv", 0.99, 0.10},
+		{withSeed(fidCases[1], 2), "tv", 0.99, 0.10},
+		{withSeed(fidCases[2], 2), "tv", 0.99, 0.20},
 	} {
-		d, m := simulateCase(t, c.simCase)
-		for _, rg := range []struct {
-			name string
-			f    RegularizerFunc
-		}{{"tv", cliTV}, {"mem", cliMaxEnt}} {
-			t.Run(c.name+"/"+rg.name, func(t *testing.T) {
-				ncc, l1, _ := fidelityOf(t, d, m, Problem{Reg: rg.f}, Settings{Seed: 1})
-				if !(ncc >= c.minNCC) || !(l1 <= c.maxL1) {
-					t.Errorf("NCC %.4f (want ≥ %.2f), L1 %.4f (want ≤ %.2f)", ncc, c.minNCC, l1, c.maxL1)
-				}
-			})
+		f := cliTV
+		if c.reg == "mem" {
+			f = cliMaxEnt
 		}
+		name := c.name + "/" + c.reg
+		if c.seed != 0 {
+			name += fmt.Sprintf("/seed%d", c.seed)
+		}
+		t.Run(name, func(t *testing.T) {
+			d, m := simulateCase(t, c.simCase)
+			ncc, l1, _ := fidelityOf(t, d, m, Problem{Reg: f}, Settings{Seed: 1})
+			if !(ncc >= c.minNCC) || !(l1 <= c.maxL1) {
+				t.Errorf("NCC %.4f (want ≥ %.2f), L1 %.4f (want ≤ %.2f)", ncc, c.minNCC, l1, c.maxL1)
+			}
+		})
 	}
 }

@@ -64,9 +64,9 @@ type Settings struct {
 	// break the time goal of a night's reconstruction, so one start is the default there.
 	// Coarse-to-fine, measured the same way, never lowered χ²ᵣ and is off by default.
 	Starts int
-	// CoarseToFine first reconstructs on a grid of half the pixels and twice the pixel size
-	// (with the same settings, automatic weight included) and starts the full grid from its
-	// resampled image. Grids under 32 pixels ignore it.
+	// CoarseToFine first reconstructs on a grid of half the pixels (rounded up to an even
+	// number) over the same field (with the same settings, automatic weight included) and
+	// starts the full grid from its resampled image. Grids under 32 pixels ignore it.
 	CoarseToFine bool
 	// NoAmplitudeFirst turns off the first pass on amplitude data (V², T3 and VIS
 	// amplitudes) that precedes fitting the phases. The pass runs by default when the start
@@ -93,6 +93,9 @@ type Progress struct {
 	Iter      int     // iteration of the run
 	Objective float64
 	Chi2r     float64 // total χ²ᵣ at the last evaluation
+	// Types holds χ²ᵣ of each data type fitted in this run at the last evaluation, in the
+	// order of DataTypes(). The slice is reused by the next call: copy it to keep it.
+	Types []TermChi2
 }
 
 // TermChi2 is the χ² of one data type.
@@ -117,12 +120,15 @@ type Result struct {
 	Image []float64 // N² pixels, normalised to a total flux of 1 (unless Unnormalized)
 	Grid  GridChoice
 
-	Chi2      []TermChi2 // per used data type, in the order of DataTypes()
-	Chi2r     float64    // Σχ²/ΣN over the used types
-	Reg       float64    // R(x) of the final image (0 without regularizer)
-	Weight    float64    // μ used in the final run
-	Objective float64    // J + μR (+ the flux term)
-	FluxScale float64    // scale of correlated-flux amplitudes, 0 without them
+	Chi2  []TermChi2 // per used data type, in the order of DataTypes()
+	Chi2r float64    // Σχ²/ΣN over the used types
+	// Chi2rTarget is the expectation of Chi2r for data about the true model (ExpectedChi2r),
+	// the target of the automatic weight.
+	Chi2rTarget float64
+	Reg         float64 // R(x) of the final image (0 without regularizer)
+	Weight      float64 // μ used in the final run
+	Objective   float64 // J + μR (+ the flux term)
+	FluxScale   float64 // scale of correlated-flux amplitudes, 0 without them
 
 	Iter, Evals int          // of the final run
 	TotalIter   int          // of all runs
@@ -297,11 +303,20 @@ func (e *engine) run(x0 []float64, mu float64, use DataType, maxIter int, stage 
 	hist := make([]float64, 0, maxIter+1)
 	hist = append(hist, math.NaN())
 	e.converged = false
+	var types []TermChi2
 	st.Callback = func(it optim.Iter) bool {
 		hist = append(hist, it.F)
-		if e.s.Progress != nil && !e.s.Progress(Progress{Stage: stage, Weight: mu, Iter: it.Iter, Objective: it.F, Chi2r: e.obj.TotalChi2r()}) {
-			e.stopped = true
-			return false
+		if e.s.Progress != nil {
+			types = types[:0]
+			for i, t := range typeList {
+				if use&t != 0 {
+					types = append(types, TermChi2{Type: t, N: e.obj.N(t), Weight: e.obj.w[i], Chi2: e.obj.Chi2(t), Chi2r: e.obj.Chi2r(t)})
+				}
+			}
+			if !e.s.Progress(Progress{Stage: stage, Weight: mu, Iter: it.Iter, Objective: it.F, Chi2r: e.obj.TotalChi2r(), Types: types}) {
+				e.stopped = true
+				return false
+			}
 		}
 		if k := len(hist) - 1; k > ftolWindow {
 			old := hist[k-ftolWindow]
@@ -384,7 +399,9 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	res := &Result{Grid: g}
 	if s.CoarseToFine && g.N >= 32 {
 		cp := p
-		cp.Grid = Grid{N: g.N / 2, Pixel: 2 * g.Pixel}
+		// Half the pixels, rounded up to an even number, over the same field.
+		nh := (g.N/2 + 1) &^ 1
+		cp.Grid = Grid{N: nh, Pixel: float64(g.N) * g.Pixel / float64(nh)}
 		cp.Support = p.Support
 		cs := s
 		cs.CoarseToFine, cs.Starts = false, 1
@@ -411,6 +428,9 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	if auto {
 		mu = e.initialWeight(x0)
 	}
+	// The first pass and the weight search fit smoothed phase terms, the final runs the
+	// exact ones (Objective.SetPhaseSmoothing).
+	e.obj.SetPhaseSmoothing(true)
 	ampFirst := !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(T3Phi|VisPhi) != 0
 	if ampFirst && !s.CoarseToFine && smoothStart(p.Start, g) {
 		r, err := e.run(x0, mu, use&amplitudeTypes, s.PathIter, "amplitudes")
@@ -427,6 +447,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		}
 		x0, mu = xw, w
 	}
+	e.obj.SetPhaseSmoothing(false)
 	starts := s.Starts
 	if starts == 0 {
 		starts = 1
@@ -448,13 +469,15 @@ func Solve(p Problem, s Settings) (*Result, error) {
 			if err != nil {
 				return nil, err
 			}
-			if ampFirst && smoothStart(Start{Kind: StartRandom}, g) {
-				r, err := e.run(xs, mu, use&amplitudeTypes, s.PathIter, stage+" amplitudes")
-				if err != nil {
-					return nil, err
-				}
-				xs = r.X
+			// A random start fits the smoothed phase terms first, like the given start
+			// in the weight search.
+			e.obj.SetPhaseSmoothing(true)
+			r, err := e.run(xs, mu, use, s.PathIter, stage+" smoothed")
+			e.obj.SetPhaseSmoothing(false)
+			if err != nil {
+				return nil, err
 			}
+			xs = r.X
 		}
 		r, err := e.run(xs, mu, use, s.MaxIter, stage)
 		if err != nil {
@@ -488,6 +511,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		}
 	}
 	res.Chi2r = e.obj.TotalChi2r()
+	res.Chi2rTarget = e.obj.ExpectedChi2r()
 	res.FluxScale = e.obj.FluxScale()
 	if e.reg != nil {
 		res.Reg = e.reg.Eval(nil, x)
@@ -528,71 +552,98 @@ func smoothStart(s Start, g GridChoice) bool {
 	return false
 }
 
-// initialWeight returns the first weight of the automatic search: a tenth of the weight at
-// which the regularizer term equals the data term at the start image, μ0 = 0.1·J(x0)/R(x0)
-// (J at least the number of data). Starting higher is useless and harmful: with an
-// edge-preserving regularizer whose curvature is 1/ε in flat regions, a dominant regularizer
-// makes the problem so stiff that the warm-started runs that follow barely move (measured on
-// the demo star: total variation from μ = J/R stalled at χ²ᵣ = 69 for all smaller weights,
-// while μ = 0.1·J/R reached χ²ᵣ ≈ 1). Where R(x0) is not positive the weight is the number
-// of data.
+// initialWeight returns the first weight of the automatic search: the weight at which the
+// regularizer term at the start image is a tenth of the data term of an image that fits,
+// μ0 = 0.1·N/R(x0) with N the number of data. Starting higher is useless and harmful: with
+// an edge-preserving regularizer whose curvature is 1/ε in flat regions, a dominant
+// regularizer makes the problem so stiff that the warm-started runs that follow barely move.
+// Measured: with μ0 = 0.1·J(x0)/R(x0) instead, a start that fits badly (J ≫ N) began at
+// weights of 10⁶ and every following step stalled after 6 iterations, at χ²ᵣ = 238 on a
+// binary with a resolved primary and 121 on an inclined ring (total variation from the
+// fitted uniform disc); from 0.1·N/R both reach χ²ᵣ ≈ 1. When the first step already fits
+// better than χ²ᵣ = 1, chooseWeight raises the weight. Where R(x0) is not positive the
+// weight is N.
 func (e *engine) initialWeight(x0 []float64) float64 {
 	n := float64(max(e.p.Data.Len(e.obj.Use()), 1))
-	j := math.Max(e.obj.Eval(nil, x0), n)
 	r := e.reg.Eval(nil, x0)
-	if r > 0 && finite(j/r) {
-		return 0.1 * j / r
+	if r > 0 && finite(n/r) {
+		return 0.1 * n / r
 	}
 	return n
 }
 
-// chooseWeight runs the discrepancy principle: warm-started reconstructions along weights
-// μ0·10^(−k/2), k = 0, 1, ..., until the total χ²ᵣ falls below 1 + 2√(2/N) (within twice
-// its statistical scatter of 1), stops improving (by less than 1 % over two steps) or
-// WeightSteps is reached. Where χ²ᵣ crosses 1 between two steps,
-// the weight is interpolated linearly in (log μ, log χ²ᵣ) and the final run starts from the
-// image of the larger weight. Without a crossing it returns the weight with χ²ᵣ closest to 1.
+// chooseWeight runs the discrepancy principle with the target τ = ExpectedChi2r (1 unless
+// some phases have large errors): warm-started reconstructions along weights μ0·10^(−k/2),
+// k = 0, 1, ..., until the total χ²ᵣ falls below τ + 2√(2/N) (within twice its statistical
+// scatter), stops improving (by less than 1 % over two steps) or WeightSteps is reached.
+// When the first weight already fits below τ − 2√(2/N), the weights rise instead,
+// μ0·10^(k/2), until χ²ᵣ is no longer below that. Where χ²ᵣ crosses τ between two
+// consecutive steps, the weight is interpolated linearly in (log μ, log χ²ᵣ) and the final
+// run starts from the image of the larger weight of the two. Without a crossing it returns
+// the weight with χ²ᵣ closest to τ and its image.
 func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float64, float64, error) {
 	use := e.obj.Use()
 	var path []WeightStep
 	images := [][]float64{}
-	x := x0
-	factor := math.Pow(10, -0.5)
-	mu := mu0
 	// χ² of N independent Gaussian data has variance 2N, so χ²ᵣ scatters by √(2/N) about 1
 	// (e.g. Press et al., Numerical Recipes, 3rd ed., sect. 15.1); a step within twice that of 1
 	// is as good as 1.
 	band := 2 * math.Sqrt(2/float64(max(e.p.Data.Len(use), 1)))
-	for k := 0; k < e.s.WeightSteps; k++ {
+	tau := e.obj.ExpectedChi2r()
+	step := func(x []float64, mu float64) (float64, error) {
+		k := len(path)
 		r, err := e.run(x, mu, use, e.s.PathIter, fmt.Sprintf("weight %d/%d", k+1, e.s.WeightSteps))
 		if err != nil {
-			return path, nil, 0, err
+			return 0, err
 		}
 		c, reg := e.measure(r.X, mu)
 		path = append(path, WeightStep{Weight: mu, Chi2r: c, Reg: reg, Iter: r.Iter})
 		images = append(images, r.X)
-		x = r.X
-		if c <= 1+band {
-			break // at 1 within the statistical scatter of χ²ᵣ
+		return c, nil
+	}
+	factor := math.Pow(10, -0.5)
+	x, mu := x0, mu0
+	for k := 0; k < e.s.WeightSteps; k++ {
+		c, err := step(x, mu)
+		if err != nil {
+			return path, nil, 0, err
+		}
+		x = images[k]
+		if c <= tau+band {
+			break // at τ within the statistical scatter of χ²ᵣ, or below
 		}
 		// Two steps without 1 % of improvement mean χ²ᵣ has reached its floor, but only when
 		// the runs did iterate: a run that stops after a few iterations is stalled by a
 		// regularizer too stiff at that weight, and smaller weights get it moving again.
-		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r && path[k-1].Iter > 2*ftolWindow && r.Iter > 2*ftolWindow {
+		if k > 1 && path[k-2].Chi2r-c < 0.01*path[k-2].Chi2r && path[k-1].Iter > 2*ftolWindow && path[k].Iter > 2*ftolWindow {
 			break
 		}
 		mu *= factor
 	}
-	last := len(path) - 1
-	if last > 0 && path[last].Chi2r <= 1 && path[last-1].Chi2r > 1 {
-		a, b := path[last-1], path[last]
-		t := math.Log(a.Chi2r) / (math.Log(a.Chi2r) - math.Log(b.Chi2r))
-		w := math.Exp(math.Log(a.Weight) + t*(math.Log(b.Weight)-math.Log(a.Weight)))
-		return path, images[last-1], w, nil
+	if len(path) == 1 {
+		// The first weight fits too well: raise it until χ²ᵣ comes up to τ.
+		for len(path) < e.s.WeightSteps && path[len(path)-1].Chi2r < tau-band {
+			mu /= factor
+			if _, err := step(images[len(images)-1], mu); err != nil {
+				return path, nil, 0, err
+			}
+		}
+	}
+	for i := len(path) - 1; i > 0; i-- {
+		a, b := path[i-1], path[i]
+		if (a.Chi2r-tau)*(b.Chi2r-tau) <= 0 && a.Chi2r != b.Chi2r {
+			t := math.Log(a.Chi2r/tau) / (math.Log(a.Chi2r) - math.Log(b.Chi2r))
+			w := math.Exp(math.Log(a.Weight) + t*(math.Log(b.Weight)-math.Log(a.Weight)))
+			img := images[i-1]
+			if b.Weight > a.Weight {
+				img = images[i]
+			}
+			return path, img, w, nil
+		}
 	}
 	bi := 0
 	for i, st := range path {
-		if math.Abs(math.Log(st.Chi2r)) < math.Abs(math.Log(path[bi].Chi2r)) {
+		if math.Abs(math.Log(st.Chi2r/tau)) < math.Abs(math.Log(path[bi].Chi2r/tau)) {
 			bi = i
 		}
 	}
