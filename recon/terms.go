@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 )
 
 // Weights are the weights of the χ² terms, indexed like DataTypes() (Vis2, T3Amp, T3Phi, VisAmp,
@@ -42,6 +43,7 @@ type Objective struct {
 	t3a, t3p, va, vc, vp, vx []int32
 	e3, ev                   []complex128 // exp(−i φₒ) of t3p and of the vis phase data
 	eta3, etaV               []float64    // amplitude scale η of each t3p and vp datum
+	is3                      []float64    // 1/σ² of each t3p datum
 	smooth                   bool         // phase terms smoothed (SetPhaseSmoothing)
 	use, avail               DataType
 	chi2                     [len(typeList)]float64
@@ -50,11 +52,13 @@ type Objective struct {
 	scale                    float64
 	notices                  []string
 	bad                      string // first non-finite result of the last evaluation
+	parts                    []termPart
+	minParallel              int // parallelData; tests lower it
 }
 
 // NewObjective builds the data terms of d on model m (which must have been made from d).
 func NewObjective(d *Data, m *Model, opt TermOptions) *Objective {
-	o := &Objective{m: m, d: d}
+	o := &Objective{m: m, d: d, minParallel: parallelData}
 	for i, w := range opt.Weights {
 		o.w[i] = w
 		if w == 0 {
@@ -69,6 +73,7 @@ func NewObjective(d *Data, m *Model, opt TermOptions) *Objective {
 			o.t3p = append(o.t3p, int32(i))
 			s, c := math.Sincos(d.T3.Phi[i])
 			o.e3 = append(o.e3, complex(c, -s))
+			o.is3 = append(o.is3, 1/(d.T3.PhiErr[i]*d.T3.PhiErr[i]))
 		}
 	}
 	var ndiffA, ndiffP int
@@ -285,79 +290,41 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	}
 	o.chi2 = [len(typeList)]float64{}
 	d := o.d
-	if o.use&Vis2 != 0 {
-		w := o.w[Vis2.index()]
-		s := 0.0
-		for i, r := range m.vis2 {
-			v := m.at(r)
-			sig := d.Vis2.Err[i]
-			res := (real(v)*real(v) + imag(v)*imag(v) - d.Vis2.Value[i]) / sig
-			s += res * res
-			// ∂/∂(Re,Im) of (|V|² − d)²/σ² is 4 res/σ · V.
-			m.addGrad(r, complex(4*w*res/sig, 0)*v)
-		}
-		o.chi2[Vis2.index()] = s
+	// V², T3 amplitudes and closure phases, the bulk of most data sets, are evaluated in
+	// evalParts fixed parts, in parallel; the parts are summed in a fixed order, so the
+	// result does not depend on the number of processors.
+	parts := 1
+	if d.Vis2.Len()+2*d.T3.Len() >= o.minParallel {
+		parts = evalParts
 	}
-	if o.use&T3Amp != 0 {
-		w := o.w[T3Amp.index()]
-		s := 0.0
-		for _, i := range o.t3a {
-			r := m.t3[i]
-			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
-			a1, a2, a3 := abs(w1), abs(w2), abs(w3)
-			sig := d.T3.AmpErr[i]
-			res := (a1*a2*a3 - d.T3.Amp[i]) / sig
-			s += res * res
-			// ∂|B|/∂W1 = |W2||W3| · W1/|W1|, and likewise for W2 and W3.
-			c := 2 * w * res / sig
-			m.addGrad(r[0], complex(c*a2*a3, 0)*unit(w1, a1))
-			m.addGrad(r[1], complex(c*a1*a3, 0)*unit(w2, a2))
-			m.addGrad(r[2], complex(c*a1*a2, 0)*unit(w3, a3))
+	if len(o.parts) < parts {
+		o.parts = make([]termPart, parts)
+		for k := 1; k < parts; k++ {
+			o.parts[k].gvis = make([]complex128, len(m.gvis))
 		}
-		o.chi2[T3Amp.index()] = s
 	}
-	// extra is the objective minus the weighted χ² reported: the smoothed phase terms differ
-	// from the exact ones that o.chi2 records.
+	o.parts[0].gvis = m.gvis
+	var wg sync.WaitGroup
+	for k := 1; k < parts; k++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			o.evalPart(&o.parts[k], k, parts)
+		}()
+	}
+	o.evalPart(&o.parts[0], 0, parts)
+	wg.Wait()
 	extra := 0.0
-	if o.use&T3Phi != 0 {
-		w := o.w[T3Phi.index()]
-		s, sm := 0.0, 0.0
-		for k, i := range o.t3p {
-			r := m.t3[i]
-			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
-			b := w1 * w2 * w3 * o.e3[k] // B·exp(−iφₒ): its argument is φ − φₒ
-			ab := abs(b)
-			cs, sn := 1.0, 0.0
-			if ab > 0 {
-				cs, sn = real(b)/ab, imag(b)/ab
-			}
-			sig := d.T3.PhiErr[i]
-			is2 := 1 / (sig * sig)
-			s += 2 * (1 - cs) * is2
-			if o.smooth {
-				// 2(1 − Re b/q)/σ² with q = √(|b|² + η²); its gradient with respect to
-				// (Re b, Im b) is 2(−(Im² b + η²), Re b · Im b)/(q³σ²), and ∂b/∂W1 = W2 W3 e.
-				e := o.e3[k]
-				re, im, eta := real(b), imag(b), o.eta3[k]
-				q2 := re*re + im*im + eta*eta
-				q := math.Sqrt(q2)
-				sm += 2 * (1 - re/q) * is2
-				c := 2 * w * is2 / (q * q2)
-				gb := complex(-c*(im*im+eta*eta), c*re*im)
-				m.addGrad(r[0], conj(w2*w3*e)*gb)
-				m.addGrad(r[1], conj(w1*w3*e)*gb)
-				m.addGrad(r[2], conj(w1*w2*e)*gb)
-				continue
-			}
-			// dJ/dφ = 2 sin(φ − φₒ)/σ²; ∂ arg W/∂(Re,Im) = i W/|W|².
-			c := 2 * w * sn * is2
-			m.addGrad(r[0], complex(0, c)*inv(w1))
-			m.addGrad(r[1], complex(0, c)*inv(w2))
-			m.addGrad(r[2], complex(0, c)*inv(w3))
+	for k := 0; k < parts; k++ {
+		pt := &o.parts[k]
+		for _, t := range []DataType{Vis2, T3Amp, T3Phi} {
+			o.chi2[t.index()] += pt.chi2[t.index()]
 		}
-		o.chi2[T3Phi.index()] = s
-		if o.smooth {
-			extra += w * (sm - s)
+		extra += pt.extra
+		if k > 0 {
+			for q, g := range pt.gvis {
+				m.gvis[q] += g
+			}
 		}
 	}
 	p := &d.Vis
@@ -484,6 +451,125 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 		m.Gradient(grad)
 	}
 	return total
+}
+
+// parallelData is the number of V² and closure data (T3 counted twice) from which Eval splits
+// them into evalParts parts evaluated in parallel; below it the goroutines cost more than
+// they save (common practice, no source).
+const parallelData = 4096
+
+// evalParts is the number of parts of a large evaluation: two, the cores of the machine the
+// time goals are set on. It is fixed, not the number of processors, so that the sums and
+// hence the images do not depend on the machine.
+const evalParts = 2
+
+// termPart holds the partial sums of one part of an evaluation.
+type termPart struct {
+	gvis  []complex128 // ∂J/∂V of the part (part 0 uses the model's own buffer)
+	chi2  [len(typeList)]float64
+	extra float64
+}
+
+// evalPart evaluates the V², T3 amplitude and closure-phase terms of part k of parts (a
+// contiguous share of each index list) at the model visibilities, adding ∂J/∂V to pt.gvis.
+func (o *Objective) evalPart(pt *termPart, k, parts int) {
+	m, d := o.m, o.d
+	pt.chi2 = [len(typeList)]float64{}
+	pt.extra = 0
+	g := pt.gvis
+	if k > 0 {
+		clear(g)
+	}
+	lo := func(n int) int { return n * k / parts }
+	hi := func(n int) int { return n * (k + 1) / parts }
+	if o.use&Vis2 != 0 {
+		w := o.w[Vis2.index()]
+		s := 0.0
+		for i := lo(len(m.vis2)); i < hi(len(m.vis2)); i++ {
+			r := m.vis2[i]
+			v := m.at(r)
+			sig := d.Vis2.Err[i]
+			res := (real(v)*real(v) + imag(v)*imag(v) - d.Vis2.Value[i]) / sig
+			s += res * res
+			// ∂/∂(Re,Im) of (|V|² − d)²/σ² is 4 res/σ · V.
+			addGrad(g, r, complex(4*w*res/sig, 0)*v)
+		}
+		pt.chi2[Vis2.index()] = s
+	}
+	if o.use&T3Amp != 0 {
+		w := o.w[T3Amp.index()]
+		s := 0.0
+		for _, i := range o.t3a[lo(len(o.t3a)):hi(len(o.t3a))] {
+			r := m.t3[i]
+			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
+			a1, a2, a3 := abs(w1), abs(w2), abs(w3)
+			sig := d.T3.AmpErr[i]
+			res := (a1*a2*a3 - d.T3.Amp[i]) / sig
+			s += res * res
+			// ∂|B|/∂W1 = |W2||W3| · W1/|W1|, and likewise for W2 and W3.
+			c := 2 * w * res / sig
+			addGrad(g, r[0], complex(c*a2*a3, 0)*unit(w1, a1))
+			addGrad(g, r[1], complex(c*a1*a3, 0)*unit(w2, a2))
+			addGrad(g, r[2], complex(c*a1*a2, 0)*unit(w3, a3))
+		}
+		pt.chi2[T3Amp.index()] = s
+	}
+	if o.use&T3Phi != 0 {
+		w := o.w[T3Phi.index()]
+		s, sm := 0.0, 0.0
+		for k := lo(len(o.t3p)); k < hi(len(o.t3p)); k++ {
+			i := o.t3p[k]
+			r := m.t3[i]
+			w1, w2, w3 := m.at(r[0]), m.at(r[1]), m.at(r[2])
+			b := w1 * w2 * w3 * o.e3[k] // B·exp(−iφₒ): its argument is φ − φₒ
+			ab2 := real(b)*real(b) + imag(b)*imag(b)
+			is2 := o.is3[k]
+			if o.smooth {
+				// 2(1 − Re b/q)/σ² with q = √(|b|² + η²); its gradient with respect to
+				// (Re b, Im b) is 2(−(Im² b + η²), Re b · Im b)/(q³σ²), and ∂b/∂W1 = W2 W3 e.
+				e := o.e3[k]
+				re, im, eta := real(b), imag(b), o.eta3[k]
+				q2 := ab2 + eta*eta
+				iq := 1 / math.Sqrt(q2)
+				if ab2 > 0 {
+					s += 2 * (1 - re/math.Sqrt(ab2)) * is2
+				}
+				sm += 2 * (1 - re*iq) * is2
+				c := 2 * w * is2 * iq / q2
+				gb := complex(-c*(im*im+eta*eta), c*re*im)
+				addGrad(g, r[0], conj(w2*w3*e)*gb)
+				addGrad(g, r[1], conj(w1*w3*e)*gb)
+				addGrad(g, r[2], conj(w1*w2*e)*gb)
+				continue
+			}
+			if !(ab2 > 0) {
+				continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
+			}
+			ia := 1 / math.Sqrt(ab2)
+			cs, sn := real(b)*ia, imag(b)*ia
+			s += 2 * (1 - cs) * is2
+			// dJ/dφ = 2 sin(φ − φₒ)/σ²; ∂φ/∂(Re,Im) W1 = i W1/|W1|² = i conj(W2 W3 e)·b/|b|²,
+			// and likewise for W2 and W3: one reciprocal serves all three.
+			u := complex(0, 2*w*sn*is2*ia) * b * complex(ia, 0)
+			e := o.e3[k]
+			addGrad(g, r[0], conj(w2*w3*e)*u)
+			addGrad(g, r[1], conj(w1*w3*e)*u)
+			addGrad(g, r[2], conj(w1*w2*e)*u)
+		}
+		pt.chi2[T3Phi.index()] = s
+		if o.smooth {
+			pt.extra = w * (sm - s)
+		}
+	}
+}
+
+// addGrad adds the derivative g of the objective with respect to the visibility a datum
+// sees, as Model.addGrad, to the buffer buf.
+func addGrad(buf []complex128, r ref, g complex128) {
+	if r.conj {
+		g = complex(real(g), -imag(g))
+	}
+	buf[r.i] += g
 }
 
 // abs returns |z|. Model visibilities are at most of order 1 (and data values finite), so

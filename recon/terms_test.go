@@ -200,6 +200,9 @@ func TestObjectiveGradient(t *testing.T) {
 			}
 			o := NewObjective(d, m, tc.opt)
 			o.SetPhaseSmoothing(tc.smooth)
+			if seed == 2 {
+				o.minParallel = 0 // the data split in parallel parts
+			}
 			x := make([]float64, n*n)
 			for i := range x {
 				x[i] = 0.2 + rng.Float64()
@@ -274,6 +277,36 @@ func TestExpectedPhaseTerm(t *testing.T) {
 		want := quad.Fixed(f, -12*sig, 12*sig, 2000, nil, 0)
 		if got := expectedPhaseTerm(sig); math.Abs(got-want) > 1e-9 {
 			t.Errorf("σ = %g: %g, want %g", sig, got, want)
+		}
+	}
+}
+
+// TestParallelParts checks that the evaluation split in parallel parts gives the value,
+// χ² and gradient of the serial one, to rounding.
+func TestParallelParts(t *testing.T) {
+	const n, pixel = 8, 1e-9
+	rng := rand.New(rand.NewPCG(9, 7))
+	d := randomData(rng, 0.5/pixel/2)
+	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o := NewObjective(d, m, TermOptions{})
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 0.2 + rng.Float64()
+	}
+	g1, g2 := make([]float64, n*n), make([]float64, n*n)
+	f1 := o.Eval(g1, x)
+	c1 := o.chi2
+	o.minParallel = 0
+	f2 := o.Eval(g2, x)
+	if math.Abs(f1-f2) > 1e-12*math.Abs(f1) || relErr(g2, g1) > 1e-12 {
+		t.Errorf("parallel: f %g against %g, gradient relative error %g", f2, f1, relErr(g2, g1))
+	}
+	for i := range c1 {
+		if math.Abs(c1[i]-o.chi2[i]) > 1e-12*math.Abs(c1[i]) {
+			t.Errorf("χ² of %v: %g against %g", typeList[i], o.chi2[i], c1[i])
 		}
 	}
 }

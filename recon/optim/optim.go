@@ -54,6 +54,13 @@ type Settings struct {
 	// The workspace holds 2*Memory+6 vectors of the problem size.
 	Memory int
 
+	// Scale, when positive, is the scale γ of the initial inverse Hessian γI used for the
+	// first steepest-descent step, before any correction pair exists, in place of a step that
+	// moves x by 5 % of its norm. A run warm-started from the end of a similar run passes
+	// that run's Result.Scale: on a badly scaled problem the default first step is far too
+	// long and its line search costs many evaluations.
+	Scale float64
+
 	// Callback, when non-nil, is called after every accepted iteration.
 	// Returning false stops the run with Status CallbackStop.
 	Callback func(Iter) bool
@@ -110,6 +117,9 @@ type Result struct {
 	Evals        int       // calls of Func
 	Status       Status    // why the run stopped
 	ProjGradNorm float64   // infinity norm of the projected gradient at X
+	// Scale is the scale γ = s·y/y·y of the newest correction pair at the end (0 when there
+	// was none), for Settings.Scale of a warm-started run.
+	Scale float64
 }
 
 // ErrNonFinite is wrapped by the error Minimize returns when Func yields
@@ -244,6 +254,9 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 
 	w := newWorkspace(n, m)
 	r := &run{p: p, w: w}
+	if s.Scale > 0 && !math.IsInf(s.Scale, 0) {
+		r.gamma = s.Scale
+	}
 	copy(w.x, x0)
 	r.project(w.x)
 
@@ -255,6 +268,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		res.Evals = r.evals
 		res.Status = st
 		res.ProjGradNorm = r.pgnorm
+		res.Scale = r.gamma
 		return res, err
 	}
 

@@ -556,3 +556,35 @@ func TestCallbackFields(t *testing.T) {
 		}
 	}
 }
+
+// TestScale checks Settings.Scale and Result.Scale on f = ½c|x|²: with γ = 1/c the first
+// steepest-descent step −γ∇f = −x lands on the minimum (Newton's step for a quadratic), so
+// the run needs one trial point; and a run reports the scale s·y/y·y = 1/c of its pairs.
+func TestScale(t *testing.T) {
+	const c = 1e6
+	p := Problem{Func: func(g, x []float64) float64 {
+		f := 0.0
+		for i, v := range x {
+			f += 0.5 * c * v * v
+			if g != nil {
+				g[i] = c * v
+			}
+		}
+		return f
+	}}
+	x0 := []float64{1, -2, 3}
+	res, err := Minimize(p, x0, Settings{Scale: 1 / c, PGTol: 1e-12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Evals != 2 || res.F != 0 {
+		t.Errorf("with Scale 1/c: %d evaluations, f = %g; want 2 and 0", res.Evals, res.F)
+	}
+	res, err = Minimize(p, x0, Settings{MaxIter: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(res.Scale*c-1) > 1e-9 {
+		t.Errorf("Result.Scale = %g, want 1/c = %g", res.Scale, 1/c)
+	}
+}
