@@ -142,6 +142,9 @@ type Result struct {
 	// Settings.FTol (which optim reports as CallbackStop), or optim's Status.
 	StopReason string
 	Path       []WeightStep // the automatic weight search, empty for a given weight
+	// Shift is the whole-pixel move (along the x and y indices) that put the centroid of the
+	// image at the centre after the final run (recentre); zero when it was not moved.
+	Shift [2]int
 	// StartObjectives holds the final objective of every start when Starts > 1, the kept one
 	// first; their spread says how much the start matters.
 	StartObjectives []float64
@@ -460,6 +463,13 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		x0, mu = xw, w
 	}
 	e.obj.SetPhaseSmoothing(false)
+	if use&VisPhi == 0 && !p.Unnormalized && p.Support == 0 {
+		x0 = append([]float64(nil), x0...)
+		if sh := recentre(x0, g.N); sh != [2]int{} {
+			res.Shift = sh
+			res.Notices = append(res.Notices, fmt.Sprintf("image moved by (%d, %d) pixels before the final run to put its centroid at the centre: V² and closure phases do not fix the position", sh[0], sh[1]))
+		}
+	}
 	starts := s.Starts
 	if starts == 0 {
 		starts = 1
@@ -660,4 +670,40 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) ([]WeightStep, []float6
 		}
 	}
 	return path, images[bi], path[bi].Weight, nil
+}
+
+// recentre moves img (n × n) in place, cyclically, by the whole number of pixels that brings
+// its centroid nearest to the centre pixel (n/2, n/2), and returns the move (along the x and
+// y indices; zero when none). V², T3 amplitudes and closure phases are unchanged by a
+// translation, which only multiplies every visibility by a phase factor, so a reconstruction
+// from them drifts freely, and an object off the centre risks the edge of the field. The
+// move is cyclic so that no flux is lost; the faint pixels it carries across the edge make the
+// image slightly worse a fit, which is why Solve moves the image before its final run.
+func recentre(img []float64, n int) [2]int {
+	var f, cx, cy float64
+	for iy := 0; iy < n; iy++ {
+		for ix := 0; ix < n; ix++ {
+			v := img[iy*n+ix]
+			f += v
+			cx += v * float64(ix)
+			cy += v * float64(iy)
+		}
+	}
+	if !(f > 0) {
+		return [2]int{}
+	}
+	dx := n/2 - int(math.Round(cx/f))
+	dy := n/2 - int(math.Round(cy/f))
+	if dx == 0 && dy == 0 {
+		return [2]int{}
+	}
+	out := make([]float64, n*n)
+	for iy := 0; iy < n; iy++ {
+		jy := ((iy+dy)%n + n) % n
+		for ix := 0; ix < n; ix++ {
+			out[jy*n+((ix+dx)%n+n)%n] = img[iy*n+ix]
+		}
+	}
+	copy(img, out)
+	return [2]int{dx, dy}
 }
