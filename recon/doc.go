@@ -53,14 +53,33 @@
 //   - Amplitude pass: V², T3 and VIS amplitudes alone first, then all data; by default only
 //     from a smooth blob (Gaussian or flat start), where it helps, not from the fitted disc,
 //     where it was measured to hurt (Settings.NoAmplitudeFirst).
+//   - Phase smoothing: the amplitude pass and the weight search fit closure (and absolute
+//     visibility) phases through a smoothed term whose gradient stays bounded where the model
+//     amplitude passes near zero (Objective.SetPhaseSmoothing); the final run fits the exact
+//     terms. Without it total variation crept with steps of 10⁻¹⁶ at χ²ᵣ = 110 on the
+//     simulated ring; with it, χ²ᵣ ≈ 1.
 //   - Weight: automatic by the discrepancy principle: warm-started runs along μ0·10^(−k/2)
-//     from μ0 = 0.1·J(x0)/R(x0) until χ²ᵣ ≤ 1 + 2√(2/N) (1 within its statistical scatter),
-//     interpolation of log μ at χ²ᵣ = 1 when it is crossed, else the weight with χ²ᵣ closest
-//     to 1, and a final run; the path (μ, χ²ᵣ, R) is kept in Result.Path.
+//     from μ0 = 0.1·N/R(x0) until χ²ᵣ ≤ τ + 2√(2/N) (τ within its statistical scatter), or
+//     upwards when the first weight already fits below τ − 2√(2/N); interpolation of log μ at
+//     χ²ᵣ = τ when it is crossed, else the weight with χ²ᵣ closest to τ, and a final run; the
+//     path (μ, χ²ᵣ, R) is kept in Result.Path. The target τ is the expected χ²ᵣ
+//     (Objective.ExpectedChi2r): 1, or less where wrap-safe phase terms have large errors.
+//   - Position: without absolute phases the image is moved by whole pixels before the final
+//     run so that its centroid is at the centre (Result.Shift).
 //   - Multi-start (Settings.Starts): by default 3 starts (the given one and two seeded random
 //     images, keeping the lowest objective) on grids up to 64², where it lowered χ²ᵣ of the
 //     total-variation binary from 2.2 to 1.3; one start on larger grids for speed.
 //     Coarse-to-fine (Settings.CoarseToFine) never helped on the tests and is an option.
+//     On the 90² and 96² grids of the fidelity test neither helped (Settings.Starts).
+//
+// # Fidelity
+//
+// Fidelity compares a reconstruction with a known truth as the project's acceptance test
+// does: both convolved with a Gaussian beam of FWHM λmin/(2·Bmax), aligned by the sub-pixel
+// peak of their cross-correlation, then the zero-mean normalised cross-correlation and the
+// relative L1 difference. Measured with the defaults (total variation) on the simulated
+// spotted disc, binary with a resolved primary and inclined ring with a central star: NCC
+// 0.9987, 0.9989, 0.9983 and L1 0.046, 0.048, 0.064 (fidelity_cases_test.go).
 //
 // # Grid
 //
