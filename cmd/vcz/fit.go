@@ -6,10 +6,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"sort"
 	"strings"
 
 	"vcz/io/plots"
+	"vcz/io/safefile"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
@@ -28,8 +30,12 @@ Run 'vcz simulate -help-model' for every component and parameter.
 
 The table gives each free parameter with its 1σ uncertainty from the
 covariance matrix scaled by χ²ᵣ, the correlations above 0.5 and χ²ᵣ per data
-type. Binaries are multi-modal in separation and position angle: -starts
-draws further seeded starts of every free (x, y) and keeps the best.
+type. Binaries are multi-modal in separation and position angle: when a
+component's x and y are both free, the fit makes 16 starts (-starts) and
+keeps the best. The extra starts are seeded from a quick χ² map of that
+position over the field (a few trial fluxes, the other parameters at their
+start values): the companion is placed at the lowest well-separated minima
+of the map, so a poor start guess still finds it without -grid-search.
 
 -grid-search maps χ² of a point companion of fixed flux ratio over
 separation and position angle (east of north) next to the model, reports the
@@ -40,6 +46,10 @@ Outputs with -plot PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.pn
 (closure phases), PREFIX-residuals.png (normalised residuals) and, with
 -grid-search, PREFIX-grid.png (the χ² map). -write-image writes the fitted
 model as a FITS image, usable as a prior or start image of 'vcz image'.
+-save-model FILE.toml writes the fitted model as a model file (best-fit
+values, free parameters still free, 1σ in comments): 'vcz fit -model
+FILE.toml' refits from it, and 'vcz image -from-model FILE.toml' takes its
+grid and start image from it.
 
 Exit status: 0 on success, 1 when the fit did not converge (results are
 still printed), 2 for bad options, files or model.`
@@ -68,6 +78,8 @@ type fitSummary struct {
 	Grid         *fitGridJ        `json:"grid_search,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
+	ModelFile    string           `json:"model_file,omitempty"`
+	Seeded       int              `json:"seeded_starts"`
 	Notices      []string         `json:"notices"`
 }
 
@@ -138,6 +150,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	gridNPA := fs.Int("grid-npa", 120, "number of position angles of the grid (over 360°)")
 	gridRefit := fs.Bool("grid-refit", false, "refit the model's free parameters at every grid cell (slower)")
 	writeImage := fs.String("write-image", "", "write the fitted model as a FITS image to this file")
+	saveModel := fs.String("save-model", "", "write the fitted model as a TOML model file (for -model and 'vcz image -from-model')")
 	n := fs.Int("n", 128, "grid size in pixels of -write-image")
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (and -json)")
@@ -244,6 +257,19 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 		sum.Image = *writeImage
 	}
+	if *saveModel != "" {
+		header := []string{
+			"Model fitted by vcz fit " + version + " to " + strings.Join(baseNames(fs.Args()), ", "),
+			"start model: " + m.String(),
+		}
+		if !res.Converged {
+			header = append(header, "WARNING: the fit did not converge: "+res.Reason)
+		}
+		if err := safefile.WriteBytes(*saveModel, res.ModelTOML(header...)); err != nil {
+			return failure(err)
+		}
+		sum.ModelFile = *saveModel
+	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -279,7 +305,7 @@ func makeFitSummary(res *fit.Result, starts int) fitSummary {
 	s := fitSummary{
 		Model: res.Model.String(), Chi2: jfloat(res.Chi2), N: res.N, DOF: res.DOF, Chi2r: jfloat(res.Chi2r),
 		Chi2ByType: map[string]chi2J{}, Iterations: res.Iterations, Evals: res.Evals, Converged: res.Converged,
-		Status: res.Reason, Starts: starts, BestStart: res.Start, Plots: []string{},
+		Status: res.Reason, Starts: starts, BestStart: res.Start, Seeded: res.Scanned, Plots: []string{},
 		Notices: append([]string{}, res.Notices...), Correlations: []fitCorrJ{},
 	}
 	for _, p := range res.Params {
@@ -341,7 +367,11 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 	}
 	fmt.Fprintf(w, "%s after %d iterations: %s", conv, s.Iterations, s.Status)
 	if s.Starts > 1 {
-		fmt.Fprintf(w, " (best of %d starts: start %d)", s.Starts, s.BestStart+1)
+		fmt.Fprintf(w, " (best of %d starts: start %d", s.Starts, s.BestStart+1)
+		if s.Seeded > 0 {
+			fmt.Fprintf(w, "; starts 2 to %d seeded from a χ² map of the free position", s.Seeded+1)
+		}
+		fmt.Fprint(w, ")")
 	}
 	fmt.Fprintln(w)
 	if g := s.Grid; g != nil {
@@ -353,6 +383,9 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 	}
 	if s.Image != "" {
 		fmt.Fprintf(w, "Wrote %s (%d × %d pixels)\n", s.Image, n, n)
+	}
+	if s.ModelFile != "" {
+		fmt.Fprintf(w, "Wrote %s (model file)\n", s.ModelFile)
 	}
 	for _, msg := range s.Notices {
 		fmt.Fprintf(w, "note: %s\n", msg)
@@ -487,3 +520,13 @@ func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 }
 
 func conjC(z complex128) complex128 { return complex(real(z), -imag(z)) }
+
+// baseNames returns the file names of paths without their folders, so that
+// written files carry no machine-specific paths.
+func baseNames(paths []string) []string {
+	out := make([]string, len(paths))
+	for i, p := range paths {
+		out[i] = filepath.Base(p)
+	}
+	return out
+}

@@ -20,6 +20,11 @@ The grid, the start image and the regularization weight are chosen from the
 data unless given: the pixel is a quarter of the nominal resolution
 λmin/(2·Bmax), the field three times the size of a disc or Gaussian fitted to
 V², and the weight the one at which χ²ᵣ of the data is closest to 1.
+-from-model FILE takes the object's size from a model file instead (one
+written by 'vcz fit -save-model', or 'vcz fit -json' output): the field is
+three times the diameter of the circle holding the model (largest component
+offset plus radius), and the start image is the model's image. -fov, -n,
+-pixel and -start still override.
 
 The image is one solution consistent with the data, not a photograph:
 features smaller than the resolution λ/(2·Bmax) are not constrained, and a
@@ -69,6 +74,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
 	var f imageFlags
 	f.register(fs)
+	f.registerFromModel(fs)
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
 	noPNG := fs.Bool("no-png", false, "do not write the PNG preview")
 	noPlots := fs.Bool("no-plots", false, "do not write the data-fit plots")

@@ -1,15 +1,20 @@
 package main
 
 import (
+	"bytes"
+	"encoding/json"
 	"flag"
 	"fmt"
 	"math"
+	"os"
+	"path/filepath"
 	"runtime"
 	"strconv"
 	"strings"
 
 	"vcz/io/fitsimage"
 	"vcz/recon"
+	"vcz/recon/model"
 )
 
 // imageFlags are the reconstruction options shared by image, demo, compare
@@ -33,6 +38,10 @@ type imageFlags struct {
 	noAmp    bool
 	workers  int
 	usedRegs []regTerm
+	// fromModel is the model file of -from-model (vcz image only); fs is the
+	// flag set it was registered on, to learn whether -start was given.
+	fromModel string
+	fs        *flag.FlagSet
 }
 
 func (f *imageFlags) register(fs *flag.FlagSet) {
@@ -55,6 +64,51 @@ func (f *imageFlags) register(fs *flag.FlagSet) {
 	fs.IntVar(&f.workers, "workers", 0, "worker goroutines of the transform (default: number of CPUs)")
 }
 
+// registerFromModel adds -from-model to fs, which must already hold the
+// options of register.
+func (f *imageFlags) registerFromModel(fs *flag.FlagSet) {
+	f.fs = fs
+	fs.StringVar(&f.fromModel, "from-model", "", "model file (TOML as written by 'vcz fit -save-model', or the output of 'vcz fit -json') whose extent sets the default field of view and whose image is the default start")
+}
+
+// startGiven reports whether -start was given on the command line.
+func (f *imageFlags) startGiven() bool {
+	given := false
+	if f.fs != nil {
+		f.fs.Visit(func(fl *flag.Flag) { given = given || fl.Name == "start" })
+	}
+	return given
+}
+
+// readModelFile reads the model of -from-model: a TOML model file
+// (model.ParseTOML) or the JSON object 'vcz fit -json' prints, whose
+// "model" member is the fitted model in the compact form. Errors are one
+// line naming the file.
+func readModelFile(path string) (*model.Model, error) {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("-from-model: %v", err)
+	}
+	var m *model.Model
+	if t := bytes.TrimSpace(src); len(t) > 0 && t[0] == '{' {
+		var j struct {
+			Model *string `json:"model"`
+		}
+		if err := json.Unmarshal(src, &j); err != nil {
+			return nil, fmt.Errorf("-from-model %s: not a TOML model file, and as JSON: %v", path, err)
+		}
+		if j.Model == nil {
+			return nil, fmt.Errorf("-from-model %s: JSON without a \"model\" member (want the output of 'vcz fit -json')", path)
+		}
+		if m, err = model.ParseCompact(*j.Model); err != nil {
+			return nil, fmt.Errorf("-from-model %s: %v", path, err)
+		}
+	} else if m, err = model.ParseTOML(src, path); err != nil {
+		return nil, fmt.Errorf("-from-model: %s", strings.ReplaceAll(err.Error(), "\n", " "))
+	}
+	return m, nil
+}
+
 // problem turns the flags into a reconstruction problem on data d.
 func (f *imageFlags) problem(d *recon.Data) (recon.Problem, recon.Settings, error) {
 	p := recon.Problem{Data: d}
@@ -70,6 +124,19 @@ func (f *imageFlags) problem(d *recon.Data) (recon.Problem, recon.Settings, erro
 		p.GridOptions.Pixel = px
 	}
 	p.GridOptions.N = f.n
+	var fromModel *model.Model
+	if f.fromModel != "" {
+		m, err := readModelFile(f.fromModel)
+		if err != nil {
+			return p, s, err
+		}
+		// The object's size is the diameter of the circle about the phase
+		// centre that holds the model (model.Radius); a model without extent
+		// (a centred point) leaves the size to the V² fit.
+		fromModel = m
+		p.GridOptions.ObjectSize = 2 * m.Radius() * recon.Mas
+		p.GridOptions.ObjectSource = "model file " + filepath.Base(f.fromModel)
+	}
 	if f.fov != "" {
 		fov, err := parseAngle(f.fov)
 		if err != nil || !(fov > 0) {
@@ -136,6 +203,15 @@ func (f *imageFlags) problem(d *recon.Data) (recon.Problem, recon.Settings, erro
 	}
 	if p.Start, err = parseStart(f.start); err != nil {
 		return p, s, fmt.Errorf("-start: %v", err)
+	}
+	if fromModel != nil && !f.startGiven() {
+		// Start from the model's image on the grid Solve will choose (the same
+		// options give the same grid).
+		ch, err := recon.ChooseGrid(d, p.GridOptions)
+		if err != nil {
+			return p, s, err
+		}
+		p.Start = recon.Start{Kind: recon.StartImage, Image: fromModel.Image(ch.N, ch.N, ch.Pixel), ImageN: ch.N, ImagePixel: ch.Pixel}
 	}
 	if f.support != "" {
 		r, err := parseAngle(f.support)
