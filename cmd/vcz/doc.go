@@ -41,7 +41,10 @@ reconstructs one image from the merged files. The main options: -n and
 priordist, alone or as a list with relative weights (mem,compact:0.1);
 -weight (a number or auto, the discrepancy principle); -prior and -start;
 -support; -use and -data-weights for the data types; -iter, -seed, -starts,
--coarse, -workers; -no-png, -no-plots, -quiet, -json. Run `vcz image --help`
+-coarse, -workers; -no-png, -no-plots, -quiet, -json. -from-model FILE takes
+the default field (three times the model's extent, its largest component
+offset plus radius) and the start image from a model file written by
+'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
 for the full list with defaults.
 
 # Simulate
@@ -57,9 +60,13 @@ documents every plan key and -help-model the model forms.
 
 fits a sum of analytic components by Levenberg–Marquardt; "~" marks a free
 parameter, "=" a fixed one, "(min..max)" its bounds. It prints each parameter
-± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type;
--grid-search maps χ² of a point companion over separation and position
-angle; -write-image writes the fitted model as a FITS prior or start image.
+± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type. A
+component whose x and y are both free gets 16 starts (-starts), seeded from
+the minima of a quick χ² map of its position, so a companion is found from a
+poor guess; -grid-search maps χ² of a point companion over separation and
+position angle; -write-image writes the fitted model as a FITS prior or start
+image, and -save-model FILE.toml as a model file for -model or for
+'vcz image -from-model'.
 
 # Compare
 
