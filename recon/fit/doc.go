@@ -43,6 +43,13 @@
 // correlation matrix is reported beside it. Parameters on a bound are
 // flagged: their errors mean nothing.
 //
+// # Model files
+//
+// Result.ModelTOML writes the fitted model in the TOML form that
+// model.ParseTOML reads, best-fit values with the free parameters still
+// free and their 1σ in comments, so a fit can be restarted from its
+// solution or handed to the image reconstruction.
+//
 // # Units and conventions
 //
 // Parameters are in the model's user units: offsets and sizes in mas,

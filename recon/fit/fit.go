@@ -30,7 +30,8 @@ type Options struct {
 	// whose x and y are both free. They are first seeded from a coarse χ²
 	// map of that position (the other parameters at their start values):
 	// the component is placed at the lowest local minima of the map, at
-	// least one fringe spacing apart (see scanSeeds for the grid). Starts
+	// least one fringe spacing apart (the package documentation gives the
+	// grid). Starts
 	// beyond the minima found, and every extra start when NoScan is set,
 	// draw the position at random: uniformly within the bounds when both
 	// are bounded, otherwise at a separation uniform in [0.5, 1.5] times
