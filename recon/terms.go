@@ -223,11 +223,14 @@ func (o *Objective) Chi2r(t DataType) float64 {
 }
 
 // TotalChi2r returns Σχ²/ΣN over the used types (unweighted), NaN without data.
-func (o *Objective) TotalChi2r() float64 {
+func (o *Objective) TotalChi2r() float64 { return o.perPoint(&o.chi2) }
+
+// perPoint returns Σ v/ΣN over the used types, NaN without data.
+func (o *Objective) perPoint(v *[len(typeList)]float64) float64 {
 	s, n := 0.0, 0
 	for i, t := range typeList {
 		if o.use&t != 0 {
-			s += o.chi2[i]
+			s += v[i]
 			n += o.n[i]
 		}
 	}
@@ -243,19 +246,7 @@ func (o *Objective) TotalChi2r() float64 {
 // for ε ~ N(0, σ²) (the characteristic function of the normal distribution). It is below 1
 // when some phases have large errors, as phases near nulls of the visibility do (0.93 at
 // σ = 30°, 0.77 at 60°), and is the target of the discrepancy principle. NaN without data.
-func (o *Objective) ExpectedChi2r() float64 {
-	s, n := 0.0, 0
-	for i, t := range typeList {
-		if o.use&t != 0 {
-			s += o.expect[i]
-			n += o.n[i]
-		}
-	}
-	if n == 0 {
-		return math.NaN()
-	}
-	return s / float64(n)
-}
+func (o *Objective) ExpectedChi2r() float64 { return o.perPoint(&o.expect) }
 
 // expectedPhaseTerm is E[2(1 − cos ε)]/σ² for ε ~ N(0, σ²), σ in radians (ExpectedChi2r).
 func expectedPhaseTerm(sigma float64) float64 {
