@@ -19,7 +19,8 @@ of the fit to the data.
 The grid, the start image and the regularization weight are chosen from the
 data unless given: the pixel is a quarter of the nominal resolution
 λmin/(2·Bmax), the field three times the size of a disc or Gaussian fitted to
-V², and the weight the one at which χ²ᵣ of the data is closest to 1.
+V², and the weight the one at which χ²ᵣ of the data is closest to its expected
+value (1, or a little less where phases have large errors).
 -from-model FILE takes the object's size from a model file instead (one
 written by 'vcz fit -save-model', or 'vcz fit -json' output): the field is
 three times the diameter of the circle holding the model (largest component
@@ -47,6 +48,7 @@ type imageSummary struct {
 	Weight      float64          `json:"weight"`
 	WeightAuto  bool             `json:"weight_auto"`
 	Chi2r       float64          `json:"chi2r"`
+	Chi2rTarget float64          `json:"chi2r_expected"`
 	Chi2ByType  map[string]chi2J `json:"chi2r_by_type"`
 	RegValue    float64          `json:"regularizer_value"`
 	Iterations  int              `json:"iterations"`
@@ -134,7 +136,7 @@ func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string,
 	}
 	prog := newProgressLine(stderr, quiet)
 	s.Progress = func(pr recon.Progress) bool {
-		prog.update(pr.Stage, pr.Iter, pr.Objective, pr.Chi2r, pr.Weight)
+		prog.report(pr)
 		return true
 	}
 	t0 := time.Now()
@@ -179,7 +181,7 @@ func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageS
 		Outputs: paths, Target: info.target, Regularizer: info.reg,
 		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
 			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
-		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, RegValue: res.Reg,
+		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, RegValue: res.Reg,
 		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
 		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
 		Notices: nonNil(res.Notices),
@@ -200,7 +202,11 @@ func printImageSummary(w io.Writer, s imageSummary) {
 	}
 	how := "given"
 	if s.WeightAuto {
-		how = fmt.Sprintf("chosen from %d weights so that χ²ᵣ is closest to 1", len(s.Path))
+		plural := "s"
+		if len(s.Path) == 1 {
+			plural = ""
+		}
+		how = fmt.Sprintf("chosen from %d weight%s so that χ²ᵣ is closest to its expected value %.3g", len(s.Path), plural, s.Chi2rTarget)
 	}
 	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)

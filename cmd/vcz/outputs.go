@@ -70,6 +70,7 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		{Key: "REGVAL", Value: res.Reg, Comment: "regularizer value R(x)"},
 		{Key: "WTAUTO", Value: len(res.Path) > 0, Comment: "weight chosen by the discrepancy principle"},
 		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all fitted data"},
+		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
 	}
 	for _, t := range res.Chi2 {
 		key := "CHI2" + chi2Key(t.Type)

@@ -4,10 +4,13 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 	"sync"
 	"time"
 
 	"golang.org/x/term"
+
+	"vcz/recon"
 )
 
 // isTerminal reports whether w is a terminal.
@@ -37,17 +40,20 @@ func newProgressLine(w io.Writer, quiet bool) *progressLine {
 	return &progressLine{w: w, tty: isTerminal(w), started: time.Now()}
 }
 
-// update shows one state; it is safe for concurrent use.
-func (p *progressLine) update(stage string, iter int, objective, chi2r, weight float64) {
+// report shows the state after an iteration: stage, iteration, objective, total χ²ᵣ and
+// χ²ᵣ of each data type fitted, weight and time. It is safe for concurrent use.
+func (p *progressLine) report(pr recon.Progress) {
 	if p == nil {
 		return
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	now := time.Now()
-	newStage := stage != p.stage
-	p.stage = stage
-	text := fmt.Sprintf("%-16s iter %4d  objective %-11.5g χ²ᵣ %-9.4g μ %-9.3g %5.1fs", stage, iter, objective, chi2r, weight, now.Sub(p.started).Seconds())
+	newStage := pr.Stage != p.stage
+	p.stage = pr.Stage
+	text := fmt.Sprintf("%-16s iter %4d  objective %-11.5g χ²ᵣ %.4g%s  μ %-9.3g %5.1fs",
+		pr.Stage, pr.Iter, pr.Objective, pr.Chi2r, typesText(pr.Types), pr.Weight, now.Sub(p.started).Seconds())
+	iter := pr.Iter
 	if p.tty {
 		if !newStage && now.Sub(p.last) < 100*time.Millisecond {
 			return
@@ -74,4 +80,22 @@ func (p *progressLine) done() {
 		fmt.Fprint(p.w, "\r\033[K")
 	}
 	p.dirty = false
+}
+
+// typesText returns " (vis2 1.02 t3phi 0.98)", χ²ᵣ of each data type, or "" for fewer than
+// two types.
+func typesText(types []recon.TermChi2) string {
+	if len(types) < 2 {
+		return ""
+	}
+	var b strings.Builder
+	b.WriteString(" (")
+	for i, t := range types {
+		if i > 0 {
+			b.WriteByte(' ')
+		}
+		fmt.Fprintf(&b, "%s %.3g", t.Type, t.Chi2r)
+	}
+	b.WriteByte(')')
+	return b.String()
 }
