@@ -122,17 +122,6 @@ func (f jfloat) MarshalJSON() ([]byte, error) {
 	return json.Marshal(x)
 }
 
-// paramUnit returns the unit users read for a parameter.
-func paramUnit(name string) string {
-	switch name {
-	case "x", "y", "diameter", "fwhm":
-		return "mas"
-	case "pa", "inc":
-		return "deg"
-	}
-	return ""
-}
-
 func runFit(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("fit", "-model SPEC [options] FILE...", fitDoc, stderr)
 	var sf selectionFlags
@@ -311,7 +300,7 @@ func makeFitSummary(res *fit.Result, starts int) fitSummary {
 	for _, p := range res.Params {
 		c := res.Model.Components[p.Ref.Comp]
 		s.Params = append(s.Params, fitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
-			Param: p.Ref.Name, Value: jfloat(p.Value), Error: jfloat(p.Err), Unit: paramUnit(p.Ref.Name), AtBound: p.AtBound})
+			Param: p.Ref.Name, Value: jfloat(p.Value), Error: jfloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
 	}
 	for _, t := range res.PerType {
 		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}

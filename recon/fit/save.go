@@ -53,7 +53,7 @@ func (r *Result) ModelTOML(header ...string) []byte {
 						b.WriteString("  # uncertainty not available")
 					default:
 						fmt.Fprintf(&b, "  # ± %.4g", fp.Err)
-						if u := unitOf(p.Name); u != "" {
+						if u := ParamUnit(p.Name); u != "" {
 							b.WriteString(" " + u)
 						}
 						b.WriteString(" (1σ)")
@@ -72,8 +72,9 @@ func tomlFloat(x float64) string {
 	return strconv.FormatFloat(x, 'g', -1, 64)
 }
 
-// unitOf returns the unit of a parameter as users read it.
-func unitOf(name string) string {
+// ParamUnit returns the unit in which users read and write a model parameter: "mas" for
+// positions and sizes, "deg" for angles, "" for fluxes and coefficients.
+func ParamUnit(name string) string {
 	switch name {
 	case "x", "y", "diameter", "fwhm":
 		return "mas"
