@@ -31,6 +31,8 @@ type GridOptions struct {
 	// e.g. from a fitted model; it replaces the V² fit of the size, and ObjectSource names
 	// where it came from in the reasoning. A field of view capped at the largest constrained
 	// scale is still kept at 1.25 times ObjectSize or more, so that the object is inside.
+	// ObjectSource with a zero ObjectSize (a source without extent) is named in the reasoning
+	// and the V² fit used.
 	ObjectSize   float64
 	ObjectSource string
 }
@@ -130,6 +132,9 @@ func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
 		fov = factor * opt.ObjectSize
 		g.Reasons = append(g.Reasons, fmt.Sprintf("%s: object size %.4g mas; field of view %.3g × that = %.4g mas", src, opt.ObjectSize/Mas, factor, fov/Mas))
 	} else if model, size, ok := fitSize(d); ok {
+		if opt.ObjectSource != "" {
+			g.Reasons = append(g.Reasons, fmt.Sprintf("%s: no extent (a point at the centre); the size comes from the V² fit", opt.ObjectSource))
+		}
 		g.SizeModel, g.Size = model, size
 		fov = factor * size
 		g.Reasons = append(g.Reasons, fmt.Sprintf("V² fit: %s of %.4g mas; field of view %.3g × that = %.4g mas", model, size/Mas, factor, fov/Mas))

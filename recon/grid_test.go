@@ -3,6 +3,7 @@ package recon
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 )
 
@@ -155,5 +156,33 @@ func TestResample(t *testing.T) {
 	}
 	if math.Abs(f-1) > 1e-12 || math.Abs(sx/f-3) > 1e-12 || math.Abs(sy/f-2) > 1e-12 {
 		t.Errorf("flux %g, centroid (%g, %g), want 1 at (3, 2)", f, sx/f, sy/f)
+	}
+}
+
+// TestChooseGridObjectSize checks a caller-given object size: it replaces the V² fit (field
+// three times the size, the rule of TestChooseGridFit), and a source without extent is named
+// in the reasoning while the V² fit decides.
+func TestChooseGridObjectSize(t *testing.T) {
+	rng := rand.New(rand.NewPCG(2, 2))
+	d := observe(rng, newSynthArray(rng, 5, 50), discVis(3*Mas), synthOpts{nchan: 5, nha: 6, lmin: 1.5e-6, lmax: 2.4e-6, hspan: 1.5, sigV2: 0.01})
+	g, err := ChooseGrid(d, GridOptions{ObjectSize: 2 * Mas, ObjectSource: "model file m.toml"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The field asked for is 6 mas; the grid then grows to its minimum of MinN pixels.
+	want := "model file m.toml: object size 2 mas; field of view 3 × that = 6 mas"
+	if g.SizeModel != "model file m.toml" || g.Size != 2*Mas || len(g.Reasons) < 2 || g.Reasons[1] != want {
+		t.Errorf("given size: %s %.4g mas, reasons %q; want the model file, 2 mas and %q", g.SizeModel, g.Size/Mas, g.Reasons, want)
+	}
+	g, err = ChooseGrid(d, GridOptions{ObjectSource: "model file p.toml"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	said := false
+	for _, r := range g.Reasons {
+		said = said || strings.Contains(r, "p.toml: no extent")
+	}
+	if g.SizeModel != "uniform disc" || !said {
+		t.Errorf("no extent: size from %q, reasons %q", g.SizeModel, g.Reasons)
 	}
 }
