@@ -5,6 +5,8 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"os"
+	"path/filepath"
 	"runtime/debug"
 	"sort"
 	"strings"
@@ -41,6 +43,22 @@ func badInput(err error) error {
 // badInputf formats a bad-input error.
 func badInputf(format string, args ...any) error {
 	return badInput(fmt.Errorf(format, args...))
+}
+
+// checkOutputs returns a bad-input error naming the first of paths whose folder does not
+// exist (or is not a folder), so that a run fails at once rather than after its work.
+// Empty paths are skipped.
+func checkOutputs(paths ...string) error {
+	for _, p := range paths {
+		if p == "" {
+			continue
+		}
+		dir := filepath.Dir(p)
+		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+			return badInputf("%s: cannot write: folder %s does not exist", p, dir)
+		}
+	}
+	return nil
 }
 
 // failure marks err as a failure of the computation (exit 1).

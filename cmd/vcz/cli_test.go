@@ -63,6 +63,9 @@ func TestUsageErrors(t *testing.T) {
 		{"image", "-reg", "nosuch", "x.oifits"},
 		{"inspect", filepath.Join("..", "..", "testdata", "oifits", "bad", "vis2err-negative.oifits")},
 		{"inspect", "no-such-file.oifits"},
+		// An output folder that does not exist is found before any work.
+		{"image", "-o", filepath.Join("no-such-folder", "x.fits"), filepath.Join("demodata", "vaeloris.oifits")},
+		{"simulate", "-plan", filepath.Join("..", "..", "examples", "plan-six-demo.toml"), "-model", "ud:diameter=1", "-o", filepath.Join("no-such-folder", "x.oifits")},
 	} {
 		_, errs, code := runCmd(t, args...)
 		if code != exitBadInput {

@@ -155,6 +155,13 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *starts < 0 || *maxIter < 1 {
 		return badInputf("fit: -starts must be ≥ 0 and -max-iter ≥ 1")
 	}
+	plotFile := ""
+	if *plotPrefix != "" {
+		plotFile = *plotPrefix + "-vis2.png"
+	}
+	if err := checkOutputs(*writeImage, *saveModel, plotFile); err != nil {
+		return err
+	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
 		return badInputf("fit: -n %d must be an even number from 2 to 4096", *n)
 	}

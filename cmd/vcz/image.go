@@ -92,6 +92,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		base := filepath.Base(fs.Arg(0))
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
 	}
+	if err := checkOutputs(*out); err != nil {
+		return err
+	}
 	sel, err := f.sel.selection()
 	if err != nil {
 		return badInputf("image: %v", err)

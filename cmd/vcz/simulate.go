@@ -64,6 +64,9 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if *n < 2 || *n%2 != 0 || *n > 4096 {
 		return badInputf("simulate: -n %d must be an even number from 2 to 4096", *n)
 	}
+	if err := checkOutputs(*out, *writeImage); err != nil {
+		return err
+	}
 	plan, err := simulate.LoadPlan(*planPath)
 	if err != nil {
 		return badInput(err)

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 )
@@ -25,7 +26,19 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 	}
 	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
 	if err != nil {
-		return fmt.Errorf("safefile: %w", err)
+		// Name the file asked for, not the temporary one, and say why in words.
+		var why error = err
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			why = pe.Err
+		}
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			return &writeError{fmt.Sprintf("%s: cannot write: folder %s does not exist", path, filepath.Clean(dir)), err}
+		case errors.Is(err, fs.ErrPermission):
+			return &writeError{fmt.Sprintf("%s: cannot write in folder %s: permission denied", path, filepath.Clean(dir)), err}
+		}
+		return fmt.Errorf("%s: cannot write: %w", path, why)
 	}
 	tmpName := tmp.Name()
 	defer func() {
@@ -55,6 +68,16 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 	}
 	return nil
 }
+
+// writeError is an error with a message of its own that still wraps the cause, so that
+// errors.Is(err, fs.ErrNotExist) holds.
+type writeError struct {
+	msg string
+	err error
+}
+
+func (e *writeError) Error() string { return e.msg }
+func (e *writeError) Unwrap() error { return e.err }
 
 // umask returns a conservative process umask. Reading the real umask needs
 // syscall.Umask, which changes it momentarily and races with other

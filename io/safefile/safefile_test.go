@@ -4,8 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
@@ -80,8 +82,14 @@ func TestWriteFailureKeepsOldFileAndRemovesTemp(t *testing.T) {
 
 func TestWriteMissingDirectory(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "no", "such", "dir", "f")
-	if err := WriteBytes(path, []byte("x")); err == nil {
+	err := WriteBytes(path, []byte("x"))
+	if err == nil {
 		t.Fatal("expected an error for a missing directory")
+	}
+	// The message names the file asked for and the missing folder, not the temporary file.
+	want := path + ": cannot write: folder " + filepath.Dir(path) + " does not exist"
+	if !strings.HasPrefix(err.Error(), want) || strings.Contains(err.Error(), ".tmp-") || !errors.Is(err, fs.ErrNotExist) {
+		t.Errorf("error %q, want it to start with %q and wrap fs.ErrNotExist", err, want)
 	}
 	if err := Write(filepath.Join(t.TempDir(), "f"), nil); err == nil {
 		t.Fatal("expected an error for a nil fill")
