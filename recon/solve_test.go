@@ -2,6 +2,7 @@ package recon
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -11,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 
+	"vcz/recon/optim"
 	"vcz/regularizers"
 )
 
@@ -402,5 +404,21 @@ func TestRecentre(t *testing.T) {
 	}
 	if sh := recentre(img, n); sh != [2]int{} {
 		t.Errorf("a centred image moved by %v", sh)
+	}
+}
+
+// TestStopReasonAtLimit checks that a run stopped by its iteration limit says how much its
+// objective still fell over the last iterations, and that the figure is the relative
+// decrease of the objective (non-negative: the objective never rises).
+func TestStopReasonAtLimit(t *testing.T) {
+	d := standardObs(4, discVis(5*Mas))
+	r, err := Solve(Problem{Data: d, Grid: Grid{N: 32, Pixel: 0.5 * Mas}, Reg: tvReg, Weight: 100}, Settings{MaxIter: 60, FTol: 1e-15, Starts: 1, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var pct float64
+	_, err = fmt.Sscanf(r.StopReason, "iteration limit reached (objective down %g %% over the last 50 iterations)", &pct)
+	if err != nil || r.Status != optim.IterationLimit || pct < 0 {
+		t.Errorf("stop reason %q (status %v)", r.StopReason, r.Status)
 	}
 }
