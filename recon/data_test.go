@@ -126,6 +126,18 @@ func TestFromFilesErrors(t *testing.T) {
 	if _, err := FromFiles(f, Selection{}); err == nil || !strings.Contains(err.Error(), "a.oifits: OI_T3 (HDU 4) row 1: T3PHI has 1 values for 2 channels") {
 		t.Errorf("error %v", err)
 	}
+	// Errors that are not positive on usable values name the column (in-memory files are not
+	// checked by the decoder).
+	f = smallFiles()
+	f[0].T3[0].Rows[0].PhiErr[0] = 0
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "a.oifits: OI_T3 (HDU 4) row 1: T3PHIERR is 0; errors must be positive" {
+		t.Errorf("error %v", err)
+	}
+	f = smallFiles()
+	f[0].Vis[0].Rows[0].AmpErr[1] = -2
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "a.oifits: OI_VIS (HDU 5) row 1: VISAMPERR is -2; errors must be positive" {
+		t.Errorf("error %v", err)
+	}
 }
 
 // TestSummary checks the summary figures by hand. Resolution = λmin/(2·Bmax) and largest

@@ -203,15 +203,8 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					if !targetOK(row.TargetID) || !mjdOK(row.MJD) {
 						continue
 					}
-					for _, e := range []error{
-						width("OI_T3", tb.HDU, r+1, "T3AMP", len(row.Amp), nw),
-						width("OI_T3", tb.HDU, r+1, "T3AMPERR", len(row.AmpErr), nw),
-						width("OI_T3", tb.HDU, r+1, "T3PHI", len(row.Phi), nw),
-						width("OI_T3", tb.HDU, r+1, "T3PHIERR", len(row.PhiErr), nw),
-						width("OI_T3", tb.HDU, r+1, "FLAG", len(row.Flag), nw)} {
-						if e != nil {
-							return nil, e
-						}
+					if err := t3Cols.widths(width, tb.HDU, r+1, nw, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag); err != nil {
+						return nil, err
 					}
 					uvOK := finite(row.U1Coord) && finite(row.V1Coord) && finite(row.U2Coord) && finite(row.V2Coord)
 					for c := 0; c < nw; c++ {
@@ -223,15 +216,11 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 							d.T3Count.Flagged++
 							continue
 						}
-						ampOK := types&T3Amp != 0 && uvOK && finite(row.Amp[c]) && finite(row.AmpErr[c])
-						phiOK := types&T3Phi != 0 && uvOK && finite(row.Phi[c]) && finite(row.PhiErr[c])
-						if ampOK && !(row.AmpErr[c] > 0) {
-							return nil, fmt.Errorf("%s: OI_T3 (HDU %d) row %d: T3AMPERR is %g; errors must be positive", f.Name, tb.HDU, r+1, row.AmpErr[c])
+						v, err := t3Cols.channel(f.Name, tb.HDU, r+1, c, row.Amp, row.AmpErr, row.Phi, row.PhiErr, types&T3Amp != 0 && uvOK, types&T3Phi != 0 && uvOK)
+						if err != nil {
+							return nil, err
 						}
-						if phiOK && !(row.PhiErr[c] > 0) {
-							return nil, fmt.Errorf("%s: OI_T3 (HDU %d) row %d: T3PHIERR is %g; errors must be positive", f.Name, tb.HDU, r+1, row.PhiErr[c])
-						}
-						if !ampOK && !phiOK {
+						if !v.ampOK && !v.phiOK {
 							d.T3Count.NonFinite++
 							continue
 						}
@@ -244,19 +233,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						p.Lambda = append(p.Lambda, l)
 						p.DLambda = append(p.DLambda, w.EffBand[c])
 						p.MJD = append(p.MJD, row.MJD)
-						a, ae, ph, pe := math.NaN(), math.NaN(), math.NaN(), math.NaN()
-						if ampOK {
-							a, ae = row.Amp[c], row.AmpErr[c]
-						}
-						if phiOK {
-							ph, pe = row.Phi[c]*math.Pi/180, row.PhiErr[c]*math.Pi/180
-						}
-						p.Amp = append(p.Amp, a)
-						p.AmpErr = append(p.AmpErr, ae)
-						p.Phi = append(p.Phi, ph)
-						p.PhiErr = append(p.PhiErr, pe)
-						p.AmpOK = append(p.AmpOK, ampOK)
-						p.PhiOK = append(p.PhiOK, phiOK)
+						v.appendTo(&p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK)
 						p.Origin = append(p.Origin, Origin{File: fi, HDU: tb.HDU, Row: r + 1, Channel: c})
 						use(tb.InsName, w, c, row.TargetID)
 					}
@@ -288,15 +265,8 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					if !targetOK(row.TargetID) || !mjdOK(row.MJD) {
 						continue
 					}
-					for _, e := range []error{
-						width("OI_VIS", tb.HDU, r+1, "VISAMP", len(row.Amp), nw),
-						width("OI_VIS", tb.HDU, r+1, "VISAMPERR", len(row.AmpErr), nw),
-						width("OI_VIS", tb.HDU, r+1, "VISPHI", len(row.Phi), nw),
-						width("OI_VIS", tb.HDU, r+1, "VISPHIERR", len(row.PhiErr), nw),
-						width("OI_VIS", tb.HDU, r+1, "FLAG", len(row.Flag), nw)} {
-						if e != nil {
-							return nil, e
-						}
+					if err := visCols.widths(width, tb.HDU, r+1, nw, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag); err != nil {
+						return nil, err
 					}
 					uvOK := finite(row.UCoord) && finite(row.VCoord)
 					for c := 0; c < nw; c++ {
@@ -308,15 +278,11 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 							d.VisCount.Flagged++
 							continue
 						}
-						ampOK := types&VisAmp != 0 && uvOK && finite(row.Amp[c]) && finite(row.AmpErr[c])
-						phiOK := types&VisPhi != 0 && uvOK && finite(row.Phi[c]) && finite(row.PhiErr[c])
-						if ampOK && !(row.AmpErr[c] > 0) {
-							return nil, fmt.Errorf("%s: OI_VIS (HDU %d) row %d: VISAMPERR is %g; errors must be positive", f.Name, tb.HDU, r+1, row.AmpErr[c])
+						v, err := visCols.channel(f.Name, tb.HDU, r+1, c, row.Amp, row.AmpErr, row.Phi, row.PhiErr, types&VisAmp != 0 && uvOK, types&VisPhi != 0 && uvOK)
+						if err != nil {
+							return nil, err
 						}
-						if phiOK && !(row.PhiErr[c] > 0) {
-							return nil, fmt.Errorf("%s: OI_VIS (HDU %d) row %d: VISPHIERR is %g; errors must be positive", f.Name, tb.HDU, r+1, row.PhiErr[c])
-						}
-						if !ampOK && !phiOK {
+						if !v.ampOK && !v.phiOK {
 							d.VisCount.NonFinite++
 							continue
 						}
@@ -327,19 +293,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						p.Lambda = append(p.Lambda, l)
 						p.DLambda = append(p.DLambda, w.EffBand[c])
 						p.MJD = append(p.MJD, row.MJD)
-						a, ae, ph, pe := math.NaN(), math.NaN(), math.NaN(), math.NaN()
-						if ampOK {
-							a, ae = row.Amp[c], row.AmpErr[c]
-						}
-						if phiOK {
-							ph, pe = row.Phi[c]*math.Pi/180, row.PhiErr[c]*math.Pi/180
-						}
-						p.Amp = append(p.Amp, a)
-						p.AmpErr = append(p.AmpErr, ae)
-						p.Phi = append(p.Phi, ph)
-						p.PhiErr = append(p.PhiErr, pe)
-						p.AmpOK = append(p.AmpOK, ampOK)
-						p.PhiOK = append(p.PhiOK, phiOK)
+						v.appendTo(&p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK)
 						p.AmpTyp = append(p.AmpTyp, at)
 						p.PhiTyp = append(p.PhiTyp, pt)
 						p.Origin = append(p.Origin, Origin{File: fi, HDU: tb.HDU, Row: r + 1, Channel: c})
@@ -370,3 +324,64 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// ampPhaseCols names the amplitude and phase columns of an OI_T3 or OI_VIS table, whose
+// channels FromFiles reads alike.
+type ampPhaseCols struct{ ext, amp, phi string }
+
+var (
+	t3Cols  = ampPhaseCols{"OI_T3", "T3AMP", "T3PHI"}
+	visCols = ampPhaseCols{"OI_VIS", "VISAMP", "VISPHI"}
+)
+
+// widths checks that every column of a row has one value per channel, with width's error.
+func (k ampPhaseCols) widths(width func(ext string, hdu, row int, col string, got, n int) error, hdu, row, nw int, amp, ampErr, phi, phiErr []float64, flag []bool) error {
+	for _, c := range []struct {
+		name string
+		n    int
+	}{{k.amp, len(amp)}, {k.amp + "ERR", len(ampErr)}, {k.phi, len(phi)}, {k.phi + "ERR", len(phiErr)}, {"FLAG", len(flag)}} {
+		if err := width(k.ext, hdu, row, c.name, c.n, nw); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// ampPhase is one channel's amplitude and phase (radians) with their errors, NaN where not
+// usable.
+type ampPhase struct {
+	a, ae, ph, pe float64
+	ampOK, phiOK  bool
+}
+
+// channel reads channel c of a row: the amplitude is usable when wantAmp and both it and its
+// error are finite, likewise the phase; a usable value with an error that is not positive is
+// an error naming the file, table, row and column.
+func (k ampPhaseCols) channel(file string, hdu, row, c int, amp, ampErr, phi, phiErr []float64, wantAmp, wantPhi bool) (ampPhase, error) {
+	v := ampPhase{a: math.NaN(), ae: math.NaN(), ph: math.NaN(), pe: math.NaN()}
+	v.ampOK = wantAmp && finite(amp[c]) && finite(ampErr[c])
+	v.phiOK = wantPhi && finite(phi[c]) && finite(phiErr[c])
+	if v.ampOK && !(ampErr[c] > 0) {
+		return v, fmt.Errorf("%s: %s (HDU %d) row %d: %sERR is %g; errors must be positive", file, k.ext, hdu, row, k.amp, ampErr[c])
+	}
+	if v.phiOK && !(phiErr[c] > 0) {
+		return v, fmt.Errorf("%s: %s (HDU %d) row %d: %sERR is %g; errors must be positive", file, k.ext, hdu, row, k.phi, phiErr[c])
+	}
+	if v.ampOK {
+		v.a, v.ae = amp[c], ampErr[c]
+	}
+	if v.phiOK {
+		v.ph, v.pe = phi[c]*math.Pi/180, phiErr[c]*math.Pi/180
+	}
+	return v, nil
+}
+
+// appendTo appends v to the parallel slices of a point set.
+func (v ampPhase) appendTo(amp, ampErr, phi, phiErr *[]float64, ampOK, phiOK *[]bool) {
+	*amp = append(*amp, v.a)
+	*ampErr = append(*ampErr, v.ae)
+	*phi = append(*phi, v.ph)
+	*phiErr = append(*phiErr, v.pe)
+	*ampOK = append(*ampOK, v.ampOK)
+	*phiOK = append(*phiOK, v.phiOK)
+}
