@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"vcz/io/fitsimage"
+	"vcz/io/preview"
 )
 
 // runCmd runs the program with args and returns stdout, stderr and the exit code.
@@ -63,6 +64,7 @@ func TestUsageErrors(t *testing.T) {
 		{"image", "-reg", "nosuch", "x.oifits"},
 		{"inspect", filepath.Join("..", "..", "testdata", "oifits", "bad", "vis2err-negative.oifits")},
 		{"inspect", "no-such-file.oifits"},
+		{"image", "-stretch", "cubic", filepath.Join("demodata", "vaeloris.oifits")},
 		// An output folder that does not exist is found before any work.
 		{"image", "-o", filepath.Join("no-such-folder", "x.fits"), filepath.Join("demodata", "vaeloris.oifits")},
 		{"simulate", "-plan", filepath.Join("..", "..", "examples", "plan-six-demo.toml"), "-model", "ud:diameter=1", "-o", filepath.Join("no-such-folder", "x.oifits")},
@@ -266,5 +268,18 @@ func TestInterspersedFlags(t *testing.T) {
 		if *o != c.o || strings.Join(fs.Args(), " ") != strings.Join(c.pos, " ") {
 			t.Errorf("%v: -o %q, args %q; want %q, %q", c.args, *o, fs.Args(), c.o, c.pos)
 		}
+	}
+}
+
+// TestParseStretch checks the names of -stretch against the stretches of io/preview.
+func TestParseStretch(t *testing.T) {
+	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Linear} {
+		f := imageFlags{stretch: in}
+		if err := f.parseStretch(); err != nil || f.stretchVal != want {
+			t.Errorf("%q: %v, %v; want %v", in, f.stretchVal, err, want)
+		}
+	}
+	if f := (imageFlags{stretch: "gamma"}); f.parseStretch() == nil {
+		t.Error("gamma: no error")
 	}
 }

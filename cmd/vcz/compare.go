@@ -75,6 +75,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
 	var cf compareFlags
 	cf.img.register(fs)
+	cf.img.registerStretch(fs)
 	cf.img.reg = "all"
 	if fl := fs.Lookup("reg"); fl != nil {
 		fl.DefValue = "all"
@@ -100,6 +101,9 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	}
 	if cf.parallel < 0 {
 		return badInputf("compare: -parallel %d must not be negative", cf.parallel)
+	}
+	if err := cf.img.parseStretch(); err != nil {
+		return badInputf("compare: %v", err)
 	}
 	sel, err := cf.img.sel.selection()
 	if err != nil {
@@ -444,7 +448,7 @@ func oneLine(s string) string {
 
 // compareInfo is the provenance of one regularizer's image.
 func compareInfo(files []*oifits.File, d *recon.Data, cf *compareFlags, name string, seconds float64) runInfo {
-	info := runInfo{files: d.Files, reg: name, seed: cf.img.seed, seconds: seconds}
+	info := runInfo{files: d.Files, reg: name, seed: cf.img.seed, seconds: seconds, stretch: cf.img.stretchVal}
 	if len(d.Targets) == 1 {
 		info.target = d.Targets[0]
 		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)

@@ -105,7 +105,7 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 	}
 	rep.Alignment = "integer-pixel shift to the cross-correlation peak with the first successful image"
 	if len(ok) > 0 {
-		if err := writeAgreement(dir, choice, ok, rep); err != nil {
+		if err := writeAgreement(dir, choice, ok, rep, cf.img.stretchVal); err != nil {
 			return nil, err
 		}
 		if err := writeComparePlots(dir, d, ok); err != nil {
@@ -134,7 +134,7 @@ func chi2Label(res *recon.Result) string {
 }
 
 // writeAgreement writes the panel, the spread map and the robust image.
-func writeAgreement(dir string, choice recon.GridChoice, ok []*compareRun, rep *compareReport) error {
+func writeAgreement(dir string, choice recon.GridChoice, ok []*compareRun, rep *compareReport, stretch preview.Stretch) error {
 	n := choice.N
 	pix := choice.Pixel / recon.Mas
 	var frames []preview.Frame
@@ -146,7 +146,7 @@ func writeAgreement(dir string, choice recon.GridChoice, ok []*compareRun, rep *
 	cols := min(len(frames), 3)
 	if err := preview.WritePanel(filepath.Join(dir, "compare-panel.png"), frames, preview.Options{
 		Title: "Regularizers compared — " + orNone(rep.Target), Pixel: pix, Beam: beam, Columns: cols,
-		ColorbarLabel: "flux per pixel (total 1)"}); err != nil {
+		ColorbarLabel: "flux per pixel (total 1)", Stretch: stretch}); err != nil {
 		return err
 	}
 	imgs := make([][]float64, len(ok))

@@ -77,6 +77,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	var f imageFlags
 	f.register(fs)
 	f.registerFromModel(fs)
+	f.registerStretch(fs)
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
 	noPNG := fs.Bool("no-png", false, "do not write the PNG preview")
 	noPlots := fs.Bool("no-plots", false, "do not write the data-fit plots")
@@ -94,6 +95,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	}
 	if err := checkOutputs(*out); err != nil {
 		return err
+	}
+	if err := f.parseStretch(); err != nil {
+		return badInputf("image: %v", err)
 	}
 	sel, err := f.sel.selection()
 	if err != nil {
@@ -148,7 +152,7 @@ func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string,
 	if err != nil {
 		return sum, failure(err)
 	}
-	info := runInfo{files: d.Files, reg: regLabel(f.usedRegs), seed: f.seed, seconds: time.Since(t0).Seconds()}
+	info := runInfo{files: d.Files, reg: regLabel(f.usedRegs), seed: f.seed, seconds: time.Since(t0).Seconds(), stretch: f.stretchVal}
 	if len(d.Targets) == 1 {
 		info.target = d.Targets[0]
 		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)

@@ -13,6 +13,7 @@ import (
 	"strings"
 
 	"vcz/io/fitsimage"
+	"vcz/io/preview"
 	"vcz/recon"
 	"vcz/recon/model"
 )
@@ -42,6 +43,26 @@ type imageFlags struct {
 	// flag set it was registered on, to learn whether -start was given.
 	fromModel string
 	fs        *flag.FlagSet
+	// stretch is the display stretch of the PNG previews (-stretch, vcz image and
+	// compare only).
+	stretch    string
+	stretchVal preview.Stretch
+}
+
+// registerStretch adds -stretch, the display stretch of the previews, to fs.
+func (f *imageFlags) registerStretch(fs *flag.FlagSet) {
+	fs.StringVar(&f.stretch, "stretch", "linear", "display stretch of the PNG previews: linear, sqrt, asinh or log (the FITS image is not changed)")
+}
+
+// parseStretch sets stretchVal from -stretch.
+func (f *imageFlags) parseStretch() error {
+	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
+		if strings.EqualFold(strings.TrimSpace(f.stretch), s.String()) || (f.stretch == "" && s == preview.Linear) {
+			f.stretchVal = s
+			return nil
+		}
+	}
+	return fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", f.stretch)
 }
 
 func (f *imageFlags) register(fs *flag.FlagSet) {

@@ -26,6 +26,7 @@ type runInfo struct {
 	hasRADec bool
 	seconds  float64
 	title    string
+	stretch  preview.Stretch // of the PNG preview
 }
 
 // outputPaths are the files written for one reconstruction.
@@ -199,6 +200,7 @@ func writePreview(path string, res *recon.Result, info runInfo) error {
 		Pixel:         res.Grid.Pixel / recon.Mas,
 		Beam:          preview.Beam{Major: res.Grid.Resolution / recon.Mas},
 		ColorbarLabel: "flux per pixel (total 1)",
+		Stretch:       info.stretch,
 	}
 	return preview.WriteFile(path, res.Image, res.Grid.N, res.Grid.N, opt)
 }
