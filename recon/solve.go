@@ -149,6 +149,12 @@ type Result struct {
 	// first; their spread says how much the start matters.
 	StartObjectives []float64
 	Notices         []string
+	// Warnings is the quality verdict: one sentence for each reason to doubt the result
+	// (χ²ᵣ well above its expected value, a stalled run or one stopped at its iteration limit
+	// with the objective still falling, a weight at the edge of the searched range, starts
+	// that disagree, one data type fitted far worse than the others), each saying what to
+	// try. Empty when none applies. The image is returned all the same.
+	Warnings []string
 }
 
 // ErrStopped is returned by Solve when Settings.Progress asked it to stop.
