@@ -569,6 +569,13 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		res.StopReason = fmt.Sprintf("converged: relative objective change below %g per iteration over %d iterations", ftol, ftolWindow)
 	}
 	res.TotalIter += e.total
+	vin := verdictInput{expect: map[DataType]float64{}, tail: bestTail, auto: auto, maxIters: s.MaxIter}
+	for _, t := range typeList {
+		if use&t != 0 {
+			vin.expect[t] = e.obj.ExpectedChi2rOf(t)
+		}
+	}
+	res.Warnings = verdict(res, vin)
 	if !p.Unnormalized {
 		f := 0.0
 		for _, v := range x {

@@ -257,6 +257,16 @@ func expectedPhaseTerm(sigma float64) float64 {
 	return -2 * math.Expm1(-v/2) / v
 }
 
+// ExpectedChi2rOf returns the expected χ²ᵣ of one data type (see ExpectedChi2r), NaN when it
+// has no data.
+func (o *Objective) ExpectedChi2rOf(t DataType) float64 {
+	i := t.index()
+	if o.n[i] == 0 {
+		return math.NaN()
+	}
+	return o.expect[i] / float64(o.n[i])
+}
+
 // FluxScale returns the fitted scale of the correlated-flux amplitudes (0 without them).
 func (o *Objective) FluxScale() float64 { return o.scale }
 
