@@ -60,9 +60,6 @@ func StartImageFor(s Start, g Grid, choice GridChoice, seed uint64) ([]float64, 
 	kind := s.Kind
 	if kind == StartAuto {
 		kind = StartGaussian
-		if choice.SizeModel == "uniform disc" {
-			kind = StartUniformDisc
-		}
 	}
 	if size <= 0 && choice.Size > 0 {
 		size = choice.Size

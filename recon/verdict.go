@@ -65,7 +65,9 @@ func verdict(res *Result, in verdictInput) []string {
 	case res.Status == optim.IterationLimit && !(in.tail <= VerdictTail):
 		w = append(w, fmt.Sprintf("the final run stopped at its limit of %d iterations with the objective still falling (%.2g %% over the last %d iterations); raise -iter", in.maxIters, 100*in.tail, tailWindow))
 	}
-	if in.auto && in.atEdge != "" {
+	if in.auto && in.atEdge == "stalled" {
+		w = append(w, "every run of the automatic weight search stalled; the weight is the first one tried: set -weight by hand or try -start gauss")
+	} else if in.auto && in.atEdge != "" {
 		w = append(w, fmt.Sprintf("the automatic weight %.3g is at the %s edge of the searched range: no weight there gave the expected χ²ᵣ; set -weight by hand and compare", res.Weight, in.atEdge))
 	}
 	if k := len(res.StartObjectives); k > 1 {
