@@ -189,18 +189,18 @@ const (
 
 // engine is a reconstruction on one grid.
 type engine struct {
-	p         Problem
-	s         Settings
-	grid      GridChoice
-	obj       *Objective
-	reg       Regularizer
-	rgrad     []float64
-	xn        []float64 // the normalised image x/Σx
-	lower     []float64
-	upper     []float64
-	rho       float64 // weight of the flux term ρ(Σx − 1)²
-	total     int     // iterations of all runs
-	stopped   bool    // Progress asked to stop
+	p       Problem
+	s       Settings
+	grid    GridChoice
+	obj     *Objective
+	reg     Regularizer
+	rgrad   []float64
+	xn      []float64 // the normalised image x/Σx
+	lower   []float64
+	upper   []float64
+	rho     float64 // weight of the flux term ρ(Σx − 1)²
+	total   int     // iterations of all runs
+	stopped bool    // Progress asked to stop
 }
 
 func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
@@ -354,7 +354,7 @@ func (e *engine) run(x0 []float64, mu float64, use DataType, maxIter int, stage 
 	f0 := f(nil, x0)
 	hist := make([]float64, 0, maxIter+1)
 	var types []TermChi2
-	var segStart int  // index in hist where the current segment starts
+	var segStart int   // index in hist where the current segment starts
 	var windowHit bool // the current segment met the relative-change test
 	st := optim.Settings{FTol: -1, PGTol: e.s.PGTol, Memory: lbfgsMemory}
 	st.Callback = func(it optim.Iter) bool {
