@@ -40,37 +40,37 @@
 // Solve minimises J(x/F) + μ·R(x/F) + ρ(F − 1)² (F = Σx, ρ the number of data) subject to
 // x ≥ 0 (and x = 0 outside an optional support), with the bound-constrained quasi-Newton
 // method of vcz/recon/optim. The data terms and the regularizer see the normalised image,
-// so the flux term only fixes the scale, and the result is normalised to flux 1. A run stops
-// when the objective decreased by less than FTol (1e-7) relative per iteration over 5
-// iterations, on the projected-gradient test of optim, or at the iteration limit.
+// so the flux term only fixes the scale, and the result is normalised to flux 1. Every run
+// starts without curvature memory; it has converged when the objective fell by less than
+// FTol (1e-7) relative per iteration over 10 iterations and a restart without memory gains
+// nothing either, or on the projected-gradient test of optim; a run that ends early having
+// moved nothing is marked stalled.
 //
 // The steps, each measured on the test cases of this package (solve_test.go and the
-// benchmark):
-//   - Start: by default the simple model that fits the V² data best (uniform disc or
-//     Gaussian, from the grid choice). From a Gaussian, a disc's V² beyond the first null is
-//     out of reach and the fit stalls at χ²ᵣ ≈ 3.6 (measured), while the disc start reaches
-//     χ²ᵣ ≈ 1.05.
-//   - Amplitude pass: V², T3 and VIS amplitudes alone first, then all data; by default only
-//     from a smooth blob (Gaussian or flat start), where it helps, not from the fitted disc,
-//     where it was measured to hurt (Settings.NoAmplitudeFirst).
-//   - Phase smoothing: the amplitude pass and the weight search fit closure (and absolute
-//     visibility) phases through a smoothed term whose gradient stays bounded where the model
-//     amplitude passes near zero (Objective.SetPhaseSmoothing); the final run fits the exact
-//     terms. Without it total variation crept with steps of 10⁻¹⁶ at χ²ᵣ = 110 on the
-//     simulated ring; with it, χ²ᵣ ≈ 1.
-//   - Weight: automatic by the discrepancy principle: warm-started runs along μ0·10^(−k/2)
-//     from μ0 = 0.1·N/R(x0) until χ²ᵣ ≤ τ + 2√(2/N) (τ within its statistical scatter), or
-//     upwards when the first weight already fits below τ − 2√(2/N); interpolation of log μ at
-//     χ²ᵣ = τ when it is crossed, else the weight with χ²ᵣ closest to τ, and a final run; the
-//     path (μ, χ²ᵣ, R) is kept in Result.Path. The target τ is the expected χ²ᵣ
-//     (Objective.ExpectedChi2r): 1, or less where wrap-safe phase terms have large errors.
+// benchmark) and on the independent validation suite (package vcz/recon/validate):
+//   - Start: by default a Gaussian with the second moment of the object size fitted to V²
+//     (StartAuto); a fitted uniform disc trapped ring-like objects.
+//   - Amplitude pass: V², T3 and VIS amplitudes alone first from a smooth start.
+//   - Phase smoothing: the weight search (or, at a given weight, a first run) fits closure
+//     (and absolute visibility) phases through the smoothed term
+//     2(|z| − Re z)/(√(|z|²+η²)σ²) (Objective.SetPhaseSmoothing), zero whenever the phase
+//     matches, at every amplitude, with η a tenth of the typical model amplitude of the data;
+//     the final run fits the exact wrap-safe terms.
+//   - Weight: automatic by the discrepancy principle: the weight at which χ²ᵣ equals its
+//     expected value τ (Objective.ExpectedChi2r: 1, or less where wrap-safe phase terms have
+//     large errors), bracketed by decades from μ0 = 0.1·N/R(x0) within 10 decades down and 6
+//     up, then refined by regula falsi in log μ; a decade that lowers χ²ᵣ by less than the
+//     tolerance stops the descent (a plateau); stalled runs are retried once from the start
+//     and never used or continued from. The path (μ, χ²ᵣ, R, iterations, converged, stalled)
+//     is kept in Result.Path.
 //   - Position: without absolute phases the image is moved by whole pixels before the final
 //     run so that its centroid is at the centre (Result.Shift).
-//   - Multi-start (Settings.Starts): by default 3 starts (the given one and two seeded random
-//     images, keeping the lowest objective) on grids up to 64², where it lowered χ²ᵣ of the
-//     total-variation binary from 2.2 to 1.3; one start on larger grids for speed.
-//     Coarse-to-fine (Settings.CoarseToFine) never helped on the tests and is an option.
-//     On the 90² and 96² grids of the fidelity test neither helped (Settings.Starts).
+//   - Starts (Settings.Starts): one by default; more add seeded random starts, keeping the
+//     lowest objective, and the verdict warns when they disagree.
+//   - Verdict: Result.Warnings says why a result is doubtful (χ²ᵣ above 1.25 times its
+//     expected value, one data type fitted far worse than the others, a stalled final run or
+//     one stopped at its iteration limit while still improving, a weight at the edge of the
+//     searched range, disagreeing starts).
 //
 // # Fidelity
 //
