@@ -7,7 +7,7 @@ import (
 
 // The example observing plans of the suite, relative to the module root.
 const (
-	SixPlan  = "examples/plan-six-demo.toml"    // six telescopes, 39–326 m, 8 channels, 8 exposures
+	SixPlan  = "examples/plan-six-demo.toml"     // six telescopes, 39–326 m, 8 channels, 8 exposures
 	FourPlan = "examples/plan-four-compact.toml" // four telescopes, 24–52 m, 5 channels, 5 exposures
 )
 

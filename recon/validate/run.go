@@ -114,17 +114,17 @@ type Options struct {
 
 // Row is the outcome of one case.
 type Row struct {
-	Case              string
-	Scene, Family     string
-	Array, Model      string
-	N                 int // usable measurements
-	Default           Outcome
-	Oracle            *Outcome    // nil without the scan
-	Scan              [][2]float64 // the oracle scan: weight, L1
-	Err               error
-	GenerateSeconds   float64
-	DefaultSeconds    float64
-	OracleSeconds     float64
+	Case            string
+	Scene, Family   string
+	Array, Model    string
+	N               int // usable measurements
+	Default         Outcome
+	Oracle          *Outcome     // nil without the scan
+	Scan            [][2]float64 // the oracle scan: weight, L1
+	Err             error
+	GenerateSeconds float64
+	DefaultSeconds  float64
+	OracleSeconds   float64
 }
 
 // Ratio is L1 of the default over L1 of the oracle, NaN without an oracle.

@@ -78,7 +78,7 @@ func Summary(rows []Row) string {
 	var b strings.Builder
 	type group struct {
 		n, errs, ratioOK, withOracle, chiOK, mirrored int
-		ratios, l1s                                    []float64
+		ratios, l1s                                   []float64
 	}
 	groups := map[string]*group{}
 	var keys []string
