@@ -39,6 +39,11 @@ outputs are complete with the same hash (-force redoes them). Every file is
 written to a temporary name and renamed, and the status file last, so a run
 killed at any moment loses no finished epoch.
 
+The quality verdict of each epoch's image is printed after the summary as
+"warning: epoch NAME: ..." lines on stderr, and kept in its FITS header
+(NWARN, WARNn) and the summary; -strict makes any warning exit 1 once every
+output is written. Neither changes the hash.
+
 -shard K/N takes every N-th epoch starting at the K-th; inside a SLURM job
 array the shard follows SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT (or
 _MIN and _MAX) unless -shard is given. Shards write summary-K-of-N.json;
@@ -60,7 +65,8 @@ Outputs in the folder (-out, default "batch"):
   EPOCH.fits, EPOCH.png        image and preview of each epoch
   EPOCH.status.json            hash, outputs and summary row of each epoch
   summary.json, summary.csv    epoch, MJD range, points and χ²ᵣ per data type,
-                               weight, iterations, seconds, status, error
+                               weight, iterations, seconds, status, warnings
+                               (a list in JSON, their number in CSV), error
   montage.png, epochs.gif      all epochs on one colour scale, with dates
 With -joint also:
   joint.fits                   the jointly reconstructed cube (axis 3 = epoch,
@@ -195,7 +201,8 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	joint := fs.Bool("joint", false, "also reconstruct all epochs together with a temporal regularizer λ·Σ‖x_t − x_{t−1}‖²")
 	tweight := fs.String("temporal-weight", "auto", "temporal weight λ of -joint, or auto (the largest that raises no epoch's χ²ᵣ by more than 5%)")
 	parallel := fs.Int("parallel", 0, "worker goroutines of all epochs together (default: number of CPUs)")
-	quiet := fs.Bool("quiet", false, "print nothing on stderr but errors")
+	quiet := fs.Bool("quiet", false, quietUsage)
+	strict := fs.Bool("strict", false, strictUsage+"; with -collect, any warning in the merged summary")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -207,7 +214,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *out == "" {
 			*out = dirs[0]
 		}
-		return collectShards(*out, append([]string{*out}, dirs...), stdout, *quiet)
+		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict)
 	}
 	epochs, jobOut, err := batchEpochs(*job, fs.Args(), &f, *gap)
 	if err != nil {
@@ -264,7 +271,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	rows := make([]batch.Row, len(mine))
-	disp := newBatchDisplay(stderr, *quiet, mine)
+	disp := newBatchDisplay(stderr, *quiet, mine, rows)
 	jobs := make([]batch.Job, len(mine))
 	for i, e := range mine {
 		jobs[i] = batch.Job{Workers: e.flags.workers, Do: func() error {
@@ -297,18 +304,33 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if !*quiet {
 		printBatchSummary(stdout, sum, *out, name)
 	}
+	// The verdict comes last, after the joint run's messages, whatever happens there.
 	if *joint {
 		if sum.Failed() > 0 {
+			printBatchWarnings(stderr, sum)
 			return failure(fmt.Errorf("%d of %d epochs failed; the joint reconstruction needs them all", sum.Failed(), len(mine)))
 		}
 		if err := runJoint(mine, rows, *out, lambda, stdout, stderr, *quiet); err != nil {
+			printBatchWarnings(stderr, sum)
 			return err
 		}
 	}
+	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
 		return failure(fmt.Errorf("%d of %d epochs failed (see %s)", n, len(mine), filepath.Join(*out, name+".csv")))
 	}
-	return nil
+	return strictFailure(*strict, "batch", nwarn)
+}
+
+// printBatchWarnings prints the warnings of every epoch of s as "warning: epoch NAME: ..."
+// lines and returns their number.
+func printBatchWarnings(w io.Writer, s *batch.Summary) int {
+	n := 0
+	for _, r := range s.Rows {
+		printWarnings(w, "epoch "+r.Epoch, r.Warnings)
+		n += len(r.Warnings)
+	}
+	return n
 }
 
 // batchEpochs builds the epoch list from a job file or from files split at gaps.
@@ -461,7 +483,7 @@ func readJobFile(path string, shared *imageFlags) ([]*batchEpoch, string, error)
 func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 	t0 := time.Now()
 	row := batch.Row{Index: e.index, Epoch: e.name, MJDMin: e.mjdMin, MJDMax: e.mjdMax, Status: batch.StateFailed,
-		Points: map[string]int{}, Chi2r: map[string]float64{}}
+		Points: map[string]int{}, Chi2r: map[string]float64{}, Warnings: []string{}}
 	fail := func(err error) batch.Row {
 		row.Error = strings.ReplaceAll(strings.TrimSpace(err.Error()), "\n", "; ")
 		row.Seconds = time.Since(t0).Seconds()
@@ -478,6 +500,7 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 		if st, ok := batch.Complete(statusPath, hash); ok {
 			r := st.Row
 			r.Index, r.Skipped = e.index, true
+			r.Warnings = nonNil(r.Warnings)
 			return r
 		}
 	}
@@ -506,6 +529,7 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 		row.Chi2r[name] = c.Chi2r
 	}
 	row.Chi2rTotal, row.Weight, row.Iterations = sum.Chi2r, sum.Weight, sum.TotalIter
+	row.Warnings = nonNil(sum.Warnings)
 	row.FITS = filepath.Base(fitsPath)
 	if sum.Outputs.PNG != "" {
 		row.PNG = filepath.Base(sum.Outputs.PNG)
@@ -575,7 +599,7 @@ func writeMontage(dir, suffix string, rows []batch.Row, title string) error {
 }
 
 // collectShards merges the shard summaries found in dirs into out/summary.json.
-func collectShards(out string, dirs []string, stdout io.Writer, quiet bool) error {
+func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict bool) error {
 	var parts []*batch.Summary
 	seen := map[string]bool{}
 	for _, d := range dirs {
@@ -612,24 +636,31 @@ func collectShards(out string, dirs []string, stdout io.Writer, quiet bool) erro
 	if !quiet {
 		printBatchSummary(stdout, sum, out, "summary")
 	}
+	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
 		return failure(fmt.Errorf("%d of %d epochs failed", n, len(sum.Rows)))
 	}
-	return nil
+	return strictFailure(strict, "batch -collect", nwarn)
 }
 
 func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string) {
-	skipped := 0
+	skipped, warned := 0, 0
 	for _, r := range s.Rows {
 		if r.Skipped {
 			skipped++
 		}
+		if len(r.Warnings) > 0 {
+			warned++
+		}
 	}
-	fmt.Fprintf(w, "%d of %d epochs (shard %s): %d done (%d of them found complete), %d failed\n",
-		len(s.Rows), s.Epochs, s.Shard, len(s.Rows)-s.Failed(), skipped, s.Failed())
+	fmt.Fprintf(w, "%d of %d epochs (shard %s): %d done (%d of them found complete, %d with warnings), %d failed\n",
+		len(s.Rows), s.Epochs, s.Shard, len(s.Rows)-s.Failed(), skipped, warned, s.Failed())
 	for _, r := range s.Rows {
-		if r.Status != batch.StateDone {
+		switch {
+		case r.Status != batch.StateDone:
 			fmt.Fprintf(w, "  %s FAILED: %s\n", r.Epoch, r.Error)
+		case len(r.Warnings) > 0:
+			fmt.Fprintf(w, "  %s finished with %s\n", r.Epoch, countWarnings(len(r.Warnings)))
 		}
 	}
 	fmt.Fprintf(w, "Wrote %s and %s\n", filepath.Join(dir, name+".json"), filepath.Join(dir, name+".csv"))
@@ -643,11 +674,13 @@ type batchDisplay struct {
 	tty    bool
 	quiet  bool
 	epochs []*batchEpoch
-	dirty  bool
+	// rows are the epochs' summary rows, each filled by its job before its end event.
+	rows  []batch.Row
+	dirty bool
 }
 
-func newBatchDisplay(w io.Writer, quiet bool, epochs []*batchEpoch) *batchDisplay {
-	return &batchDisplay{w: w, tty: isTerminal(w), quiet: quiet, epochs: epochs}
+func newBatchDisplay(w io.Writer, quiet bool, epochs []*batchEpoch, rows []batch.Row) *batchDisplay {
+	return &batchDisplay{w: w, tty: isTerminal(w), quiet: quiet, epochs: epochs, rows: rows}
 }
 
 func (b *batchDisplay) event(ev batch.Event) {
@@ -673,8 +706,11 @@ func (b *batchDisplay) event(ev batch.Event) {
 	}
 	if ev.Ended {
 		what := "done"
-		if ev.Err != nil {
+		switch {
+		case ev.Err != nil:
 			what = "FAILED: " + ev.Err.Error()
+		case len(b.rows[ev.Job].Warnings) > 0:
+			what = "finished with " + countWarnings(len(b.rows[ev.Job].Warnings))
 		}
 		fmt.Fprintf(b.w, "%s %s (%s)\n", name, what, state)
 	}

@@ -44,7 +44,10 @@ Outputs in DIR (made if missing):
 Progress goes to stderr, one line per regularizer. A regularizer that fails
 (an error or non-finite values) is reported in the table and the report and
 the others complete; the exit status is then 1. A run that stops at the
-iteration limit is marked as not converged but does not fail.`
+iteration limit is marked as not converged but does not fail. The quality
+verdict of each image follows the table as "warning: NAME: ..." lines on
+stderr, and is in its FITS header (NWARN, WARNn), the table (a count) and
+the JSON (a "warnings" list per row); -strict makes any warning exit 1.`
 
 // compareRun is one regularizer's reconstruction in a comparison.
 type compareRun struct {
@@ -65,6 +68,7 @@ type compareFlags struct {
 	out      string
 	quiet    bool
 	asJSON   bool
+	strict   bool
 }
 
 func init() {
@@ -87,8 +91,9 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs.StringVar(&cf.weights, "weights", "", "weights per regularizer, e.g. mem=1e4,tv=auto (overrides -weight for those named)")
 	fs.IntVar(&cf.parallel, "parallel", 0, "regularizers reconstructed at the same time (default: min(number of regularizers, GOMAXPROCS))")
 	fs.StringVar(&cf.out, "o", "", "output folder (default: FIRSTFILE-compare)")
-	fs.BoolVar(&cf.quiet, "quiet", false, "print nothing on stderr but errors")
+	fs.BoolVar(&cf.quiet, "quiet", false, quietUsage)
 	fs.BoolVar(&cf.asJSON, "json", false, "print the table as JSON on stdout")
+	fs.BoolVar(&cf.strict, "strict", false, strictUsage)
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -155,15 +160,19 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, "Wrote %s\n", filepath.Join(cf.out, "report.html"))
 	}
 	var failed []string
+	nwarn := 0
 	for _, r := range runs {
 		if r.err != nil {
 			failed = append(failed, r.name)
+			continue
 		}
+		printWarnings(stderr, r.name, r.res.Warnings)
+		nwarn += len(r.res.Warnings)
 	}
 	if len(failed) > 0 {
 		return failure(fmt.Errorf("compare: %d of %d regularizers failed (%s); see %s", len(failed), len(runs), strings.Join(failed, ", "), filepath.Join(cf.out, "report.html")))
 	}
-	return nil
+	return strictFailure(cf.strict, "compare", nwarn)
 }
 
 // compareRuns builds one run per regularizer, all on the grid chosen once
@@ -427,7 +436,11 @@ func (p *multiProgress) end(i int, r *compareRun) {
 		p.set(i, "failed: "+oneLine(r.err.Error()), true)
 		return
 	}
-	p.set(i, fmt.Sprintf("done     χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", r.res.Chi2r, r.res.Weight, r.res.TotalIter, r.seconds), true)
+	what := "done    "
+	if n := len(r.res.Warnings); n > 0 {
+		what = "done with " + countWarnings(n) + ":"
+	}
+	p.set(i, fmt.Sprintf("%s χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", what, r.res.Chi2r, r.res.Weight, r.res.TotalIter, r.seconds), true)
 }
 
 // finish draws the final state on a terminal.

@@ -32,8 +32,11 @@ type compareRow struct {
 	Iterations  int                `json:"iterations"`
 	Converged   bool               `json:"converged"`
 	Seconds     float64            `json:"seconds"`
-	Error       string             `json:"error,omitempty"`
-	FITS        string             `json:"fits,omitempty"`
+	// Warnings is the quality verdict of the image (recon.Result.Warnings); an
+	// empty list when none or when the run failed.
+	Warnings []string `json:"warnings"`
+	Error    string   `json:"error,omitempty"`
+	FITS     string   `json:"fits,omitempty"`
 }
 
 // compareReport is the JSON form of a comparison.
@@ -64,7 +67,7 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 	}
 	var ok []*compareRun
 	for _, r := range runs {
-		row := compareRow{Regularizer: r.name, Seconds: r.seconds, Chi2ByType: map[string]float64{}}
+		row := compareRow{Regularizer: r.name, Seconds: r.seconds, Chi2ByType: map[string]float64{}, Warnings: []string{}}
 		if r.err != nil {
 			row.Error = oneLine(r.err.Error())
 			row.Weight, row.Chi2r, row.RegValue = math.NaN(), math.NaN(), math.NaN()
@@ -79,6 +82,7 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 			row.FITS = filepath.Base(out)
 			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
 			row.Iterations = res.TotalIter
+			row.Warnings = nonNil(res.Warnings)
 			row.Converged = res.Status.Converged() || len(res.StopReason) >= 9 && res.StopReason[:9] == "converged"
 			for _, t := range res.Chi2 {
 				row.Chi2ByType[t.Type.String()] = t.Chi2r
@@ -331,7 +335,7 @@ func writeCompareTable(dir string, rep *compareReport) error {
 		for _, t := range types {
 			head = append(head, "chi2r_"+t)
 		}
-		head = append(head, "regularizer_value", "iterations", "converged", "seconds", "error")
+		head = append(head, "regularizer_value", "iterations", "converged", "warnings", "seconds", "error")
 		cw.Write(head)
 		for _, r := range rep.Rows {
 			rec := []string{r.Regularizer, fmtF(r.Weight), strconv.FormatBool(r.WeightAuto), fmtF(r.Chi2r)}
@@ -342,7 +346,7 @@ func writeCompareTable(dir string, rep *compareReport) error {
 					rec = append(rec, "")
 				}
 			}
-			rec = append(rec, fmtF(r.RegValue), strconv.Itoa(r.Iterations), strconv.FormatBool(r.Converged), strconv.FormatFloat(r.Seconds, 'f', 2, 64), r.Error)
+			rec = append(rec, fmtF(r.RegValue), strconv.Itoa(r.Iterations), strconv.FormatBool(r.Converged), strconv.Itoa(len(r.Warnings)), strconv.FormatFloat(r.Seconds, 'f', 2, 64), r.Error)
 			cw.Write(rec)
 		}
 		cw.Flush()
@@ -365,13 +369,21 @@ func writeCompareTable(dir string, rep *compareReport) error {
 
 func printCompareTable(w io.Writer, rep *compareReport) {
 	fmt.Fprintf(w, "Grid: %d × %d pixels of %.4g mas; resolution %.4g mas\n", rep.GridN, rep.GridN, rep.PixelMas, rep.ResolutionMas)
-	fmt.Fprintf(w, "%-10s %-10s %-8s %-10s %-6s %-9s %s\n", "reg", "weight", "χ²ᵣ", "R(x)", "iter", "converged", "seconds")
+	fmt.Fprintf(w, "%-10s %-10s %-8s %-10s %-6s %-13s %s\n", "reg", "weight", "χ²ᵣ", "R(x)", "iter", "result", "seconds")
 	for _, r := range rep.Rows {
 		if r.Error != "" {
 			fmt.Fprintf(w, "%-10s FAILED: %s\n", r.Regularizer, r.Error)
 			continue
 		}
-		fmt.Fprintf(w, "%-10s %-10.4g %-8.4g %-10.4g %-6d %-9v %.1f\n", r.Regularizer, r.Weight, r.Chi2r, r.RegValue, r.Iterations, r.Converged, r.Seconds)
+		// A row with warnings never reads as a success.
+		result := "converged"
+		switch {
+		case len(r.Warnings) > 0:
+			result = countWarnings(len(r.Warnings))
+		case !r.Converged:
+			result = "stopped"
+		}
+		fmt.Fprintf(w, "%-10s %-10.4g %-8.4g %-10.4g %-6d %-13s %.1f\n", r.Regularizer, r.Weight, r.Chi2r, r.RegValue, r.Iterations, result, r.Seconds)
 	}
 }
 
@@ -398,6 +410,7 @@ table { border-collapse: collapse; font-size: 0.9em; }
 td, th { border: 1px solid #bbb; padding: 0.2em 0.5em; text-align: right; }
 th:first-child, td:first-child { text-align: left; }
 .failed { background: #fdd; }
+.warned { background: #ffd; }
 .caution { background: #ffd; border-left: 4px solid #cc0; padding: 0.5em 1em; }
 </style>
 </head>
@@ -407,8 +420,8 @@ th:first-child, td:first-child { text-align: left; }
 <p class="caution">Caution: an image is one solution consistent with the data, not a photograph. Features smaller than the resolution λ/(2·B<sub>max</sub>) = {{printf "%.3g" .ResolutionMas}} mas are not constrained by the data, and a feature that only one regularizer shows is suspect.</p>
 <h2>Results</h2>
 <div class="scroll"><table>
-<tr><th>regularizer</th><th>weight μ</th><th>χ²ᵣ</th>{{range .Types}}<th>χ²ᵣ {{.}}</th>{{end}}<th>R(x)</th><th>iterations</th><th>converged</th><th>seconds</th><th>error</th></tr>
-{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{.Regularizer}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
+<tr><th>regularizer</th><th>weight μ</th><th>χ²ᵣ</th>{{range .Types}}<th>χ²ᵣ {{.}}</th>{{end}}<th>R(x)</th><th>iterations</th><th>converged</th><th>warnings</th><th>seconds</th><th>error</th></tr>
+{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{.Regularizer}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
 {{end}}</table></div>
 {{if .Panel}}<h2>Images on one colour scale</h2><img src="{{.Panel}}" alt="panel of the images">{{end}}
 {{if .Spread}}<h2>Agreement</h2>
@@ -420,7 +433,7 @@ th:first-child, td:first-child { text-align: left; }
 {{if .V2}}<img src="{{.V2}}" alt="V2 data and models">{{end}}
 {{if .T3}}<img src="{{.T3}}" alt="closure phase data and models">{{end}}
 <h2>Each regularizer</h2>
-{{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}
+{{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Warnings}}<ul class="warned">{{range .Warnings}}<li>Warning: {{.}}</li>{{end}}</ul>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}
 {{end}}
 </body>
 </html>
@@ -428,6 +441,7 @@ th:first-child, td:first-child { text-align: left; }
 
 type reportEach struct {
 	Name, Error   string
+	Warnings      []string
 	Image, LCurve template.URL
 }
 
@@ -449,7 +463,7 @@ func writeCompareHTML(dir string, rep *compareReport, runs []*compareRun) error 
 		data.Target = "unknown target"
 	}
 	for i, r := range runs {
-		e := reportEach{Name: r.name, Error: rep.Rows[i].Error}
+		e := reportEach{Name: r.name, Error: rep.Rows[i].Error, Warnings: rep.Rows[i].Warnings}
 		if r.err == nil {
 			e.Image = dataURI(filepath.Join(dir, r.name+".png"))
 			e.LCurve = dataURI(filepath.Join(dir, r.name+"-lcurve.png"))

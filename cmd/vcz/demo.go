@@ -34,12 +34,15 @@ six-telescope array. It writes into DIR:
   vaeloris-compare.png       model and reconstruction side by side
 
 and prints where they are. The reconstruction is one image consistent with
-the data; compare it with the model to see what the data constrain.`
+the data; compare it with the model to see what the data constrain. The
+quality verdict of the reconstruction, if it doubts the result, follows as
+"warning:" lines on stderr (and in the FITS header, NWARN and WARNn).`
 
 func runDemo(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("demo", "[-o DIR]", demoDoc, stderr)
 	dir := fs.String("o", "vcz-demo", "output folder (made if missing)")
-	quiet := fs.Bool("quiet", false, "print nothing on stderr but errors")
+	quiet := fs.Bool("quiet", false, quietUsage)
+	strict := registerStrict(fs)
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -102,5 +105,6 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return failure(err)
 	}
 	fmt.Fprintf(stdout, "Wrote %s\nWrote %s\n", truthPath, panel)
-	return nil
+	printWarnings(stderr, "", sum.Warnings)
+	return strictFailure(*strict, "demo", len(sum.Warnings))
 }

@@ -41,7 +41,7 @@ reconstructs one image from the merged files. The main options: -n and
 priordist, alone or as a list with relative weights (mem,compact:0.1);
 -weight (a number or auto, the discrepancy principle); -prior and -start;
 -support; -use and -data-weights for the data types; -iter, -seed, -starts,
--coarse, -workers; -no-png, -no-plots, -quiet, -json. -from-model FILE takes
+-coarse, -workers; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
 the default field (three times the model's extent, its largest component
 offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
@@ -83,19 +83,52 @@ report.html.
 
 reconstructs one image per epoch, concurrently within the CPU budget,
 resumable, sharded by -shard K/N or the SLURM array variables; -collect merges
-shard summaries; -joint adds a temporal regularizer across epochs.
+shard summaries; -joint adds a temporal regularizer across epochs. Options
+of image apply to every epoch; -strict fails the run on any warning.
 
 # Demo
 
-	vcz demo [-o DIR]
+	vcz demo [-o DIR] [-strict] [-quiet]
 
 writes the embedded demo data, its reconstruction, the model it was
 simulated from and a side-by-side comparison into DIR (default vcz-demo).
 
+# Quality verdict
+
+Every reconstruction (image, demo, compare, batch) is judged once it is
+done: one warning for each reason to doubt it — χ²ᵣ more than 1.25 times
+its expected value, one data type fitted far worse than the others, the
+final run stalled or stopped at its iteration limit (-iter) while the
+objective still fell, an automatic weight at the edge of the searched range,
+or several starts that ended far apart — each saying what to try. The image
+is written all the same. The warnings go
+
+	on stderr    one line each after the summary: "warning: TEXT", in
+	             compare "warning: NAME: TEXT", in batch
+	             "warning: epoch NAME: TEXT" (also with -quiet)
+	FITS header  NWARN = their number (0 when none) and WARN1, WARN2, ...
+	             with the full text in ASCII, long ones continued on
+	             CONTINUE cards (long-string convention, announced by
+	             LONGSTRN)
+	JSON         "warnings": a list of strings, [] when none (image -json;
+	             compare.json and compare -json per row; batch
+	             summary.json and status files per epoch)
+	tables       the number of warnings in compare.csv and summary.csv,
+	             and in the text tables
+
+A summary with warnings says "finished with N warnings" instead of
+"converged". -strict (image, demo, compare, batch, batch -collect) exits with
+status 1 when there is any warning, after writing every output; without it
+the status stays 0. Neither the warnings nor -strict enter the batch hash,
+so a rerun with -strict finds finished epochs complete and reports their
+warnings from the status files. The joint reconstruction of batch -joint
+has no verdict of its own; its epochs' independent images do.
+
 # Exit status
 
 0 on success, 1 when the computation failed (no convergence where that is an
-error, non-finite values, an output that could not be written), 2 for bad
+error, non-finite values, an output that could not be written) or, with
+-strict, when the quality verdict gave a warning, 2 for bad
 input files, bad options or wrong usage. Errors are one line on standard
 error, naming the file and, where it applies, the table (HDU number and
 EXTNAME), row and column. Outputs are written to a temporary file and renamed,

@@ -31,6 +31,13 @@ The image is one solution consistent with the data, not a photograph:
 features smaller than the resolution λ/(2·Bmax) are not constrained, and a
 feature is only trusted when it survives a change of regularizer.
 
+A quality verdict follows the summary: one "warning:" line on stderr for
+each reason to doubt the image (χ²ᵣ well above its expected value, a run
+stopped at -iter while still improving, a weight at the edge of the searched
+range, starts that disagree, a data type fitted far worse), also in the FITS
+header (NWARN, WARN1, ...) and in "warnings" of -json. -strict makes any
+warning exit with status 1, after every output is written.
+
 Outputs (OUT defaults to the first file's name with -image.fits):
   OUT.fits            the image, normalised to a total flux of 1, with provenance
   OUT.png             preview: north up, east left, scale bar, resolution circle
@@ -58,6 +65,8 @@ type imageSummary struct {
 	Seconds     float64          `json:"seconds"`
 	Path        []pathJ          `json:"weight_path,omitempty"`
 	Notices     []string         `json:"notices"`
+	// Warnings is the quality verdict (recon.Result.Warnings): an empty list when none.
+	Warnings []string `json:"warnings"`
 }
 
 type chi2J struct {
@@ -81,8 +90,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
 	noPNG := fs.Bool("no-png", false, "do not write the PNG preview")
 	noPlots := fs.Bool("no-plots", false, "do not write the data-fit plots")
-	quiet := fs.Bool("quiet", false, "print nothing on stderr but errors")
+	quiet := fs.Bool("quiet", false, quietUsage)
 	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
+	strict := registerStrict(fs)
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -114,12 +124,14 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		return enc.Encode(sum)
-	}
-	if !*quiet {
+		if err := enc.Encode(sum); err != nil {
+			return failure(err)
+		}
+	} else if !*quiet {
 		printImageSummary(stdout, sum)
 	}
-	return nil
+	printWarnings(stderr, "", sum.Warnings)
+	return strictFailure(*strict, "image", len(sum.Warnings))
 }
 
 // reconstruct runs one reconstruction of d with the options f and writes its
@@ -191,7 +203,7 @@ func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageS
 		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, RegValue: res.Reg,
 		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
 		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
-		Notices: nonNil(res.Notices),
+		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
 	}
 	for _, t := range res.Chi2 {
 		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
@@ -228,9 +240,13 @@ func printImageSummary(w io.Writer, s imageSummary) {
 	if !s.Converged {
 		conv = "NOT converged"
 	}
-	if s.Converged {
+	switch {
+	case len(s.Warnings) > 0:
+		// The verdict doubts the result: the line must not read as a success.
+		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), finished with %s (stop: %s), %.1f s\n", s.Iterations, s.TotalIter, countWarnings(len(s.Warnings)), stopText(s.Status), s.Seconds)
+	case s.Converged:
 		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s, %.1f s\n", s.Iterations, s.TotalIter, s.Status, s.Seconds)
-	} else {
+	default:
 		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s: %s, %.1f s\n", s.Iterations, s.TotalIter, conv, s.Status, s.Seconds)
 	}
 	for _, n := range s.Notices {

@@ -87,6 +87,7 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		fitsimage.Card{Key: "PIXMAS", Value: res.Grid.Pixel / recon.Mas, Comment: "pixel size (mas)"},
 		fitsimage.Card{Key: "RESOLMAS", Value: res.Grid.Resolution / recon.Mas, Comment: "nominal resolution lambda_min/(2 B_max) (mas)"},
 	)
+	c = append(c, warningCards(res.Warnings)...)
 	for i, f := range info.files {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
 	}

@@ -30,6 +30,31 @@ type Card struct {
 // string, logical, integer or real number.
 type RawValue string
 
+// LongString is a string value that may be longer than the 68 characters one
+// card holds between its quotes. It is written with the long-string
+// convention of the FITS standard (version 4.0, Chen et al. 2018, sect.
+// 4.2.1.2; recalled from memory): the value is cut into pieces, each but the
+// last ending with '&', the first on the keyword's own card and the others
+// on CONTINUE cards, which have blanks in columns 9-10 and the quoted piece
+// from column 11; the comment goes on the last card. A value that fits one
+// card is written exactly as a string. Parse joins the pieces back into one
+// string value, so a LongString reads back as a string.
+type LongString string
+
+// continueKey is the keyword of the cards that carry the further pieces of
+// a long string.
+const continueKey = "CONTINUE"
+
+// longStringKey is the keyword that announces the long-string convention
+// (HEASARC's convention, 'OGIP 1.0'; no longer needed by the FITS standard
+// 4.0, but fitsverify warns without it).
+const longStringKey = "LONGSTRN"
+
+// maxStringPiece is the longest text, quotes doubled, between the quotes of
+// one card: 80 columns minus the keyword, the value indicator and the two
+// quotes.
+const maxStringPiece = cardSize - 10 - 2
+
 // isCommentary reports whether key names a commentary keyword, whose card
 // has no value indicator (Pence et al. 2010, sect. 4.4.2.4).
 func isCommentary(key string) bool {
@@ -101,6 +126,15 @@ func encodeCards(dst []byte, c Card) ([]byte, error) {
 		if len(val) > 70 {
 			return dst, fmt.Errorf("fitsfile: keyword %s: string value longer than 68 characters", c.Key)
 		}
+	case LongString:
+		if err := checkText(string(v)); err != nil {
+			return dst, fmt.Errorf("fitsfile: keyword %s: value %v", c.Key, err)
+		}
+		text := strings.TrimRight(string(v), " ")
+		if len(text)+strings.Count(text, "'") <= maxStringPiece {
+			return encodeCards(dst, Card{Key: c.Key, Value: text, Comment: c.Comment})
+		}
+		return encodeLongString(dst, key, text, c.Comment), nil
 	case bool:
 		val = fmt.Sprintf("%20s", map[bool]string{true: "T", false: "F"}[v])
 	case int:
@@ -134,6 +168,54 @@ func encodeCards(dst []byte, c Card) ([]byte, error) {
 	return appendPadded(dst, rec), nil
 }
 
+// encodeLongString appends the cards of a string too long for one card
+// (see LongString): text, without trailing blanks, is cut into pieces of at
+// most maxStringPiece-1 characters once quotes are doubled (a doubled quote
+// is never split), so that every piece but the last has room for its '&'.
+// The comment goes on the last card, which is an extra one with an empty
+// piece when the last piece leaves too little room; it is cut to the room
+// left there.
+func encodeLongString(dst []byte, key, text, comment string) []byte {
+	var pieces []string
+	var b strings.Builder
+	for i := 0; i < len(text); i++ {
+		ch := text[i]
+		w := 1
+		if ch == '\'' {
+			w = 2
+		}
+		if b.Len()+w > maxStringPiece-1 {
+			pieces = append(pieces, b.String())
+			b.Reset()
+		}
+		b.WriteByte(ch)
+		if w == 2 {
+			b.WriteByte(ch)
+		}
+	}
+	pieces = append(pieces, b.String())
+	if last := pieces[len(pieces)-1]; comment != "" && 10+len(last)+2+3+len(comment) > cardSize {
+		// The comment gets a card of its own, after an empty piece.
+		pieces = append(pieces, "")
+	}
+	for i, p := range pieces {
+		rec := key + "= '"
+		if i > 0 {
+			rec = fmt.Sprintf("%-10s'", continueKey)
+		}
+		if i < len(pieces)-1 {
+			dst = appendPadded(dst, rec+p+"&'")
+			continue
+		}
+		rec += p + "'"
+		if room := cardSize - len(rec) - 3; comment != "" && room > 0 {
+			rec += " / " + comment[:min(len(comment), room)]
+		}
+		dst = appendPadded(dst, rec)
+	}
+	return dst
+}
+
 // checkText reports an error when s holds characters outside printable
 // ASCII, which FITS headers do not allow (Pence et al. 2010, sect. 4.1.1).
 func checkText(s string) error {
@@ -163,32 +245,11 @@ func parseCard(rec []byte) (Card, error) {
 	rest := string(rec[10:])
 	trimmed := strings.TrimLeft(rest, " ")
 	if strings.HasPrefix(trimmed, "'") {
-		var b strings.Builder
-		i := 1
-		closed := false
-		for i < len(trimmed) {
-			if trimmed[i] == '\'' {
-				if i+1 < len(trimmed) && trimmed[i+1] == '\'' {
-					b.WriteByte('\'')
-					i += 2
-					continue
-				}
-				closed = true
-				i++
-				break
-			}
-			b.WriteByte(trimmed[i])
-			i++
+		v, com, err := parseString(trimmed)
+		if err != nil {
+			return Card{Key: key}, fmt.Errorf("keyword %s: %v", key, err)
 		}
-		if !closed {
-			return Card{Key: key}, fmt.Errorf("keyword %s: string value has no closing quote", key)
-		}
-		com := ""
-		if j := strings.IndexByte(trimmed[i:], '/'); j >= 0 {
-			com = strings.TrimSpace(trimmed[i+j+1:])
-		}
-		// Trailing spaces in a string value are not significant (sect. 4.2.1.1).
-		return Card{Key: key, Value: strings.TrimRight(b.String(), " "), Comment: com}, nil
+		return Card{Key: key, Value: v, Comment: com}, nil
 	}
 	val, com := trimmed, ""
 	if j := strings.IndexByte(trimmed, '/'); j >= 0 {
@@ -221,6 +282,56 @@ func parseCard(rec []byte) (Card, error) {
 		c.Value = RawValue(val)
 	}
 	return c, nil
+}
+
+// parseString decodes a quoted string value at the start of s (which begins
+// with the opening quote) and the comment after it. Doubled quotes stand for
+// one; trailing blanks of the value are not significant (Pence et al. 2010,
+// sect. 4.2.1.1) and are removed.
+func parseString(s string) (val, com string, err error) {
+	var b strings.Builder
+	i := 1
+	closed := false
+	for i < len(s) {
+		if s[i] == '\'' {
+			if i+1 < len(s) && s[i+1] == '\'' {
+				b.WriteByte('\'')
+				i += 2
+				continue
+			}
+			closed = true
+			i++
+			break
+		}
+		b.WriteByte(s[i])
+		i++
+	}
+	if !closed {
+		return "", "", fmt.Errorf("string value has no closing quote")
+	}
+	if j := strings.IndexByte(s[i:], '/'); j >= 0 {
+		com = strings.TrimSpace(s[i+j+1:])
+	}
+	return strings.TrimRight(b.String(), " "), com, nil
+}
+
+// continuation decodes a CONTINUE card of the long-string convention (see
+// LongString): ok is false when rec is not one, that is when it lacks the
+// keyword, has something other than blanks in columns 9-10 or no quoted
+// string from column 11 on.
+func continuation(rec []byte) (piece, com string, ok bool, err error) {
+	if string(rec[:10]) != fmt.Sprintf("%-10s", continueKey) {
+		return "", "", false, nil
+	}
+	rest := strings.TrimLeft(string(rec[10:]), " ")
+	if !strings.HasPrefix(rest, "'") {
+		return "", "", false, nil
+	}
+	piece, com, err = parseString(rest)
+	if err != nil {
+		return "", "", false, fmt.Errorf("keyword %s: %v", continueKey, err)
+	}
+	return piece, com, true, nil
 }
 
 // isFITSReal rejects the spellings strconv accepts but FITS does not, such

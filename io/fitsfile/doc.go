@@ -14,7 +14,9 @@
 // with spaces and data with zeros (sect. 3.3). Binary table columns of types
 // L (bytes 'T'/'F'), B, I, J, K, E, D and A (space padded) are supported,
 // scalar or with a repeat count (vector columns), with optional TUNIT and
-// TDIM.
+// TDIM. A LongString value longer than one card holds continues on
+// CONTINUE cards (the long-string convention, FITS standard 4.0 sect.
+// 4.2.1.2), announced by LONGSTRN; Parse joins such cards into one string.
 //
 // # Reading
 //

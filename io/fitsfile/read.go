@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/big"
+	"strings"
 )
 
 // Kind classifies an HDU.
@@ -103,6 +104,7 @@ func parseHDU(data []byte, pos int64, index int) (*HDU, int64, error) {
 	}
 	// Read header blocks until the END card.
 	end := false
+	open := false // the last card's string value ends in '&'
 	p := pos
 	for !end {
 		if size-p < BlockSize {
@@ -124,11 +126,30 @@ func parseHDU(data []byte, pos int64, index int) (*HDU, int64, error) {
 					return nil, 0, ferr("header card %d holds the non-ASCII byte 0x%02x", len(h.Header.Cards)+1, c)
 				}
 			}
+			if open {
+				// A string ending in '&' continues on a CONTINUE card (LongString).
+				piece, com, ok, err := continuation(rec)
+				if err != nil {
+					return nil, 0, ferr("header card %d: %v", len(h.Header.Cards)+1, err)
+				}
+				if ok {
+					prev := &h.Header.Cards[len(h.Header.Cards)-1]
+					s := prev.Value.(string)
+					prev.Value = s[:len(s)-1] + piece
+					if com != "" {
+						prev.Comment = strings.TrimSpace(prev.Comment + " " + com)
+					}
+					open = strings.HasSuffix(piece, "&")
+					continue
+				}
+			}
 			c, err := parseCard(rec)
 			if err != nil {
 				return nil, 0, ferr("%v", err)
 			}
 			h.Header.Cards = append(h.Header.Cards, c)
+			s, isString := c.Value.(string)
+			open = isString && strings.HasSuffix(s, "&")
 		}
 	}
 	dataStart := p

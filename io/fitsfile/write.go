@@ -35,11 +35,23 @@ func (w *Writer) write(b []byte) error {
 
 // writeHeader writes the mandatory cards, then extra, then END, padded
 // with spaces to a multiple of 2880 bytes.
+//
+// Before the first long string that needs CONTINUE cards it adds the
+// keyword LONGSTRN = 'OGIP 1.0', which HEASARC's long-string convention
+// recommends and fitsverify asks for, unless the header has it already.
 func (w *Writer) writeHeader(mandatory, extra []Card) error {
 	buf := make([]byte, 0, BlockSize)
 	var err error
+	announced := false
+	for _, c := range extra {
+		announced = announced || c.Key == longStringKey
+	}
 	for _, list := range [][]Card{mandatory, extra} {
 		for _, c := range list {
+			if s, ok := c.Value.(LongString); ok && !announced && len(s)+strings.Count(string(s), "'") > maxStringPiece {
+				buf, _ = encodeCards(buf, Card{Key: longStringKey, Value: "OGIP 1.0", Comment: "long strings continue on CONTINUE cards"})
+				announced = true
+			}
 			if buf, err = encodeCards(buf, c); err != nil {
 				return err
 			}

@@ -15,9 +15,11 @@ import (
 )
 
 // Card is one extra header keyword. Value is a string, float64, int, bool
-// (other integer and float types are converted). For the commentary keys
-// HISTORY and COMMENT the text is Value (a string) or, when Value is nil,
-// Comment; long texts continue on further cards.
+// (other integer and float types are converted); a string too long for one
+// card is written with the long-string convention (fitsfile.LongString) and
+// reads back whole. For the commentary keys HISTORY and COMMENT the text is
+// Value (a string) or, when Value is nil, Comment; long texts continue on
+// further cards.
 type Card struct {
 	Key     string
 	Value   any
@@ -96,7 +98,10 @@ func convert(c Card) (fitsfile.Card, error) {
 		v = int(x)
 	case float32:
 		v = float64(x)
-	case string, float64, int, bool:
+	case string:
+		// Longer strings continue on CONTINUE cards (fitsfile.LongString).
+		v = fitsfile.LongString(x)
+	case float64, int, bool:
 	default:
 		return fitsfile.Card{}, fmt.Errorf("keyword %s: unsupported value type %T", c.Key, c.Value)
 	}

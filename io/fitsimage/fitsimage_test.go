@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -290,5 +291,45 @@ func TestDecodeErrors(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("err = %v, want it to contain %q", err, tc.want)
 		}
+	}
+}
+
+// A string card too long for one card is written with the long-string convention
+// (FITS standard 4.0, sect. 4.2.1.2), passes fitsverify, reads back whole, and a file
+// read and written again is the same, byte for byte.
+func TestLongStringCard(t *testing.T) {
+	text := strings.Repeat("a warning that goes on and on; ", 8)
+	im := testImage(6, 6, 0)
+	im.Cards = append(im.Cards, Card{Key: "WARN1", Value: text, Comment: "long"})
+	dir := t.TempDir()
+	first := filepath.Join(dir, "a.fits")
+	if err := WriteFile(first, im); err != nil {
+		t.Fatal(err)
+	}
+	fitstest.Verify(t, first)
+	got, err := ReadFile(first)
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, c := range got.Cards {
+		if c.Key == "WARN1" {
+			found = true
+			if c.Value != strings.TrimRight(text, " ") || c.Comment != "long" {
+				t.Errorf("WARN1 read back as %q / %q", c.Value, c.Comment)
+			}
+		}
+	}
+	if !found {
+		t.Fatal("WARN1 not read back")
+	}
+	second := filepath.Join(dir, "b.fits")
+	if err := WriteFile(second, got); err != nil {
+		t.Fatal(err)
+	}
+	a, _ := os.ReadFile(first)
+	b, _ := os.ReadFile(second)
+	if !bytes.Equal(a, b) {
+		t.Error("the file read and written again differs")
 	}
 }

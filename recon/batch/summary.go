@@ -43,6 +43,9 @@ type Row struct {
 	Seconds    float64            `json:"seconds"`
 	FITS       string             `json:"fits,omitempty"`
 	PNG        string             `json:"png,omitempty"`
+	// Warnings is the quality verdict of the epoch's image (recon.Result.Warnings);
+	// WriteJSON writes an empty list for none.
+	Warnings []string `json:"warnings"`
 }
 
 // Summary is a batch summary: the epochs handled, sorted by Index, and the shard that
@@ -67,9 +70,17 @@ func (s *Summary) Failed() int {
 // TypeOrder is the column order of the data types in the CSV table.
 var TypeOrder = []string{"vis2", "t3amp", "t3phi", "visamp", "visphi"}
 
-// WriteJSON writes s to path atomically.
+// WriteJSON writes s to path atomically. Rows without warnings get an empty
+// "warnings" list, never null.
 func WriteJSON(path string, s *Summary) error {
-	b, err := json.MarshalIndent(s, "", "  ")
+	c := *s
+	c.Rows = append([]Row(nil), s.Rows...)
+	for i := range c.Rows {
+		if c.Rows[i].Warnings == nil {
+			c.Rows[i].Warnings = []string{}
+		}
+	}
+	b, err := json.MarshalIndent(&c, "", "  ")
 	if err != nil {
 		return err
 	}
@@ -91,7 +102,7 @@ func ReadJSON(path string) (*Summary, error) {
 
 // EncodeCSV writes the rows as a CSV table (RFC 4180) with a header line: epoch, MJD range,
 // status, the points and χ²ᵣ of each data type (empty for a type the epoch lacks), total
-// χ²ᵣ, weight, iterations, seconds and the error.
+// χ²ᵣ, weight, iterations, seconds, the number of warnings and the error.
 func EncodeCSV(w io.Writer, s *Summary) error {
 	cw := csv.NewWriter(w)
 	head := []string{"epoch", "mjd_min", "mjd_max", "status"}
@@ -101,7 +112,7 @@ func EncodeCSV(w io.Writer, s *Summary) error {
 	for _, t := range TypeOrder {
 		head = append(head, "chi2r_"+t)
 	}
-	head = append(head, "chi2r", "weight", "iterations", "seconds", "error")
+	head = append(head, "chi2r", "weight", "iterations", "seconds", "warnings", "error")
 	cw.Write(head)
 	g := func(x float64) string { return strconv.FormatFloat(x, 'g', 8, 64) }
 	for _, r := range s.Rows {
@@ -131,7 +142,7 @@ func EncodeCSV(w io.Writer, s *Summary) error {
 		} else {
 			rec = append(rec, "", "", "")
 		}
-		rec = append(rec, strconv.FormatFloat(r.Seconds, 'f', 2, 64), r.Error)
+		rec = append(rec, strconv.FormatFloat(r.Seconds, 'f', 2, 64), strconv.Itoa(len(r.Warnings)), r.Error)
 		cw.Write(rec)
 	}
 	cw.Flush()

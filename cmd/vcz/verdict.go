@@ -1,0 +1,77 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"io"
+	"strings"
+
+	"vcz/io/fitsimage"
+)
+
+// The quality verdict of a reconstruction (recon.Result.Warnings) goes
+// everywhere the result goes: one "warning:" line per reason on stderr after
+// the run's summary, NWARN and WARNn in the image's FITS header, a
+// "warnings" list in JSON and a count in tables. -strict turns any warning
+// into exit status 1 once every output is written.
+
+// strictUsage is the help text of -strict.
+const strictUsage = "exit with status 1 when the quality verdict gives any warning (the outputs are still written)"
+
+// registerStrict adds -strict to fs.
+func registerStrict(fs *flag.FlagSet) *bool {
+	return fs.Bool("strict", false, strictUsage)
+}
+
+// quietUsage is the help text of -quiet: warnings are results, not chatter,
+// so they are printed like errors.
+const quietUsage = "print nothing on stderr but warnings and errors"
+
+// printWarnings writes each warning as one line on w: "warning: TEXT", or
+// "warning: LABEL: TEXT" when label is not empty.
+func printWarnings(w io.Writer, label string, warnings []string) {
+	for _, s := range warnings {
+		s = oneLine(s)
+		if label != "" {
+			fmt.Fprintf(w, "warning: %s: %s\n", label, s)
+		} else {
+			fmt.Fprintf(w, "warning: %s\n", s)
+		}
+	}
+}
+
+// countWarnings says "1 warning" or "N warnings".
+func countWarnings(n int) string {
+	if n == 1 {
+		return "1 warning"
+	}
+	return fmt.Sprintf("%d warnings", n)
+}
+
+// warningCards are the FITS header cards of the verdict: NWARN, the number of
+// warnings (also when 0), and WARN1, WARN2, ... with each warning's full
+// text, in printable ASCII (fitsASCII) and continued on CONTINUE cards when
+// longer than one card (long-string convention, FITS standard 4.0 sect.
+// 4.2.1.2).
+func warningCards(warnings []string) []fitsimage.Card {
+	c := []fitsimage.Card{{Key: "NWARN", Value: len(warnings), Comment: "quality warnings of the reconstruction (WARNn)"}}
+	for i, s := range warnings {
+		c = append(c, fitsimage.Card{Key: fmt.Sprintf("WARN%d", i+1), Value: fitsASCII(oneLine(s)), Comment: "quality warning"})
+	}
+	return c
+}
+
+// strictFailure is the error of a run with -strict whose results carry n
+// warnings (0: nil). what names the command.
+func strictFailure(strict bool, what string, n int) error {
+	if !strict || n == 0 {
+		return nil
+	}
+	return failure(fmt.Errorf("%s: %s with -strict (outputs written; see the warning lines above)", what, countWarnings(n)))
+}
+
+// stopText is a stop reason that does not claim success, for a summary line
+// of a result with warnings.
+func stopText(reason string) string {
+	return strings.TrimPrefix(reason, "converged: ")
+}
