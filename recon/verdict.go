@@ -62,6 +62,8 @@ func verdict(res *Result, in verdictInput) []string {
 	switch {
 	case in.stalled:
 		w = append(w, fmt.Sprintf("the final run stalled after %d iterations (steps too small to move the image) before converging; try -start gauss or another -reg", res.Iter))
+	case res.Status == optim.IterationLimit && math.IsNaN(in.tail):
+		w = append(w, fmt.Sprintf("the final run stopped at its limit of %d iterations, too few to tell whether it converged; raise -iter", in.maxIters))
 	case res.Status == optim.IterationLimit && !(in.tail <= VerdictTail):
 		w = append(w, fmt.Sprintf("the final run stopped at its limit of %d iterations with the objective still falling (%.2g %% over the last %d iterations); raise -iter", in.maxIters, 100*in.tail, tailWindow))
 	}
