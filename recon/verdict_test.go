@@ -1,0 +1,55 @@
+package recon
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"vcz/recon/optim"
+)
+
+// TestVerdict checks each rule of the quality verdict on results made by hand: a result that
+// meets every threshold has no warning, and each defect gives exactly one warning that names
+// it.
+func TestVerdict(t *testing.T) {
+	good := func() (*Result, verdictInput) {
+		r := &Result{Chi2r: 1.02, Chi2rTarget: 1, Status: optim.IterationLimit, Weight: 10, Iter: 500,
+			Chi2: []TermChi2{{Type: Vis2, N: 100, Chi2r: 1.0}, {Type: T3Phi, N: 100, Chi2r: 1.04}}}
+		in := verdictInput{expect: map[DataType]float64{Vis2: 1, T3Phi: 1}, tail: 1e-5, auto: true, maxIters: 500}
+		return r, in
+	}
+	r, in := good()
+	if w := verdict(r, in); len(w) != 0 {
+		t.Fatalf("a good result has warnings %q", w)
+	}
+	for _, tc := range []struct {
+		name string
+		edit func(*Result, *verdictInput)
+		want string
+	}{
+		{"chi2 above", func(r *Result, _ *verdictInput) { r.Chi2r = 1.3 }, "expected value"},
+		{"one type worse", func(r *Result, _ *verdictInput) {
+			r.Chi2[1].Chi2r = 2.6
+			r.Chi2r = 1.2 // below the total threshold: only the type rule fires
+		}, "t3phi fit at 2.6"},
+		{"still falling", func(_ *Result, in *verdictInput) { in.tail = 0.01 }, "still falling"},
+		{"too short", func(_ *Result, in *verdictInput) { in.tail = math.NaN() }, "too few"},
+		{"stalled", func(_ *Result, in *verdictInput) { in.stalled = true }, "stalled"},
+		{"edge", func(_ *Result, in *verdictInput) { in.atEdge = "lower" }, "lower edge"},
+		{"search stalled", func(_ *Result, in *verdictInput) { in.atEdge = "stalled" }, "weight search stalled"},
+		{"starts", func(r *Result, _ *verdictInput) { r.StartObjectives = []float64{100, 110} }, "starts"},
+	} {
+		r, in := good()
+		tc.edit(r, &in)
+		w := verdict(r, in)
+		if len(w) != 1 || !strings.Contains(w[0], tc.want) {
+			t.Errorf("%s: warnings %q, want one naming %q", tc.name, w, tc.want)
+		}
+	}
+	// A given weight is never at the edge of a search.
+	r, in = good()
+	in.auto, in.atEdge = false, "upper"
+	if w := verdict(r, in); len(w) != 0 {
+		t.Errorf("given weight: warnings %q", w)
+	}
+}
