@@ -56,12 +56,15 @@
 //     2(|z| − Re z)/(√(|z|²+η²)σ²) (Objective.SetPhaseSmoothing), zero whenever the phase
 //     matches, at every amplitude, with η a tenth of the typical model amplitude of the data;
 //     the final run fits the exact wrap-safe terms.
-//   - Weight: automatic by the discrepancy principle: the weight at which χ²ᵣ equals its
-//     expected value τ (Objective.ExpectedChi2r: 1, or less where wrap-safe phase terms have
-//     large errors), bracketed by decades from μ0 = 0.1·N/R(x0) within 10 decades down and 6
-//     up, then refined by regula falsi in log μ; a decade that lowers χ²ᵣ by less than the
-//     tolerance stops the descent (a plateau); stalled runs are retried once from the start
-//     and never used or continued from. The path (μ, χ²ᵣ, R, iterations, converged, stalled)
+//   - Weight: automatic: χ²ᵣ rises with μ from a floor χ²_min (the least-regularized
+//     images, which fit some of the noise) to far above its expected value τ
+//     (Objective.ExpectedChi2r: 1, or less where wrap-safe phase terms have large errors).
+//     The weight aims at χ²_min + max(0.3·(τ − χ²_min), 0.005·χ²_min): down by decades from
+//     μ0 = 0.1·N/R(x0) to the floor, up if needed, then regula falsi in log μ; stalled runs
+//     are retried once from the start and never used or continued from; one correction of
+//     the final weight along the slope of the path when the final run lands off the aim.
+//     Measured on the validation suite, χ²ᵣ = τ (the discrepancy principle)
+//     over-regularizes sparse arrays. The path (μ, χ²ᵣ, R, iterations, converged, stalled)
 //     is kept in Result.Path.
 //   - Position: without absolute phases the image is moved by whole pixels before the final
 //     run so that its centroid is at the centre (Result.Shift).

@@ -32,7 +32,7 @@ type Problem struct {
 	// Reg is the regularizer; nil means none.
 	Reg RegularizerFunc
 	// Weight is the regularization weight μ in J(x) + μ·R(x). Zero with Reg set means
-	// automatic (ChooseWeight: the discrepancy principle).
+	// automatic (chosen from the data; see chooseWeight).
 	Weight float64
 	// Support, when positive, holds the pixels farther than Support radians from the
 	// centre at zero.
@@ -463,7 +463,7 @@ const amplitudeTypes = Vis2 | T3Amp | VisAmp
 // Solve reconstructs an image. The steps: choose the grid (unless given); make the start
 // image; with CoarseToFine, reconstruct on the half grid first and start from its upsampled
 // image; fit the amplitude data alone (unless NoAmplitudeFirst or the data lack either kind);
-// choose the weight by the discrepancy principle when it is automatic; run the final
+// choose the weight from the χ²ᵣ it gives when it is automatic; run the final
 // reconstruction (with Starts > 1 from several starts, keeping the lowest objective). The
 // image is normalised to flux 1. Non-finite values stop Solve with an error saying where.
 func Solve(p Problem, s Settings) (*Result, error) {
@@ -638,8 +638,8 @@ func Solve(p Problem, s Settings) (*Result, error) {
 				if err != nil {
 					return nil, err
 				}
-				c2 := e.chi2rOf(r.X, mu2)
-				res.Path = append(res.Path, WeightStep{Weight: mu2, Chi2r: c2, Iter: r.Iter, Converged: r.Converged, Stalled: r.Stalled})
+				c2, reg := e.measure(r.X, mu2)
+				res.Path = append(res.Path, WeightStep{Weight: mu2, Chi2r: c2, Reg: reg, Iter: r.Iter, Converged: r.Converged, Stalled: r.Stalled})
 				if !r.Stalled && math.Abs(c2-ws.target) < math.Abs(c-ws.target) {
 					best, mu = r, mu2
 				}

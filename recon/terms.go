@@ -299,7 +299,7 @@ func (o *Objective) perPoint(v *[len(typeList)]float64) float64 {
 // error σ (radians) E[2(1 − cos ε)]/σ² = 2(1 − e^(−σ²/2))/σ², because E[cos ε] = e^(−σ²/2)
 // for ε ~ N(0, σ²) (the characteristic function of the normal distribution). It is below 1
 // when some phases have large errors, as phases near nulls of the visibility do (0.93 at
-// σ = 30°, 0.77 at 60°), and is the target of the discrepancy principle. NaN without data.
+// σ = 30°, 0.77 at 60°), and bounds the target of the automatic weight. NaN without data.
 func (o *Objective) ExpectedChi2r() float64 { return o.perPoint(&o.expect) }
 
 // expectedPhaseTerm is E[2(1 − cos ε)]/σ² for ε ~ N(0, σ²), σ in radians (ExpectedChi2r).

@@ -23,7 +23,7 @@ be seen.
 
 The grid is chosen once from the data (or from -n, -pixel, -fov) and used by
 every regularizer. Each regularizer's weight is chosen automatically (the
-weight at which χ²ᵣ is closest to its expected value) unless given with -weight (all) or
+weight chosen from the data by the χ²ᵣ it gives) unless given with -weight (all) or
 -weights (per regularizer, e.g. mem=1e4,tv=auto). The regularizers run in
 parallel: at most GOMAXPROCS goroutines in all, split between concurrent
 reconstructions and the workers of each transform; the images do not depend
@@ -86,7 +86,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		fl.Usage = "regularizers to compare, comma-separated from " + regList() + ", or all"
 	}
 	if fl := fs.Lookup("weight"); fl != nil {
-		fl.Usage = "regularization weight μ of every regularizer, or auto (the weight at which χ²ᵣ is closest to its expected value, about 1)"
+		fl.Usage = "regularization weight μ of every regularizer, or auto (chosen from the data: χ²ᵣ between the floor of the least-regularized images and its expected value, about 1)"
 	}
 	fs.StringVar(&cf.weights, "weights", "", "weights per regularizer, e.g. mem=1e4,tv=auto (overrides -weight for those named)")
 	fs.IntVar(&cf.parallel, "parallel", 0, "regularizers reconstructed at the same time (default: min(number of regularizers, GOMAXPROCS))")

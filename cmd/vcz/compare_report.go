@@ -90,10 +90,9 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 			if len(res.Path) > 1 {
 				lp := plots.LPath{Name: r.name, Chosen: -1}
 				for i, s := range res.Path {
-					lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg})
-					// The final weight may be interpolated between steps: mark the
-					// step nearest to it in log μ.
-					if lp.Chosen < 0 || math.Abs(math.Log(s.Weight/res.Weight)) < math.Abs(math.Log(res.Path[lp.Chosen].Weight/res.Weight)) {
+					lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg, Stalled: s.Stalled})
+					// The final weight is that of one step of the path (recon.Result.Path).
+					if s.Weight == res.Weight {
 						lp.Chosen = i
 					}
 				}

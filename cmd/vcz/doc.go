@@ -39,7 +39,7 @@ Selection options: -target, -wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES.
 reconstructs one image from the merged files. The main options: -n and
 -pixel (or -fov) for the grid; -reg with mem, tv, smooth, compact and
 priordist, alone or as a list with relative weights (mem,compact:0.1);
--weight (a number or auto, the discrepancy principle); -prior and -start;
+-weight (a number or auto: χ²ᵣ between its floor and its expected value); -prior and -start;
 -support; -use and -data-weights for the data types; -iter, -seed, -starts,
 -coarse, -workers; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
 the default field (three times the model's extent, its largest component

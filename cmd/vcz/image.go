@@ -19,8 +19,10 @@ of the fit to the data.
 The grid, the start image and the regularization weight are chosen from the
 data unless given: the pixel is a quarter of the nominal resolution
 λmin/(2·Bmax), the field three times the size of a disc or Gaussian fitted to
-V², and the weight the one at which χ²ᵣ of the data is closest to its expected
-value (1, or a little less where phases have large errors).
+V², and the weight the one at which χ²ᵣ of the data lies three tenths of the
+way from the floor that the least-regularized images reach to its expected
+value (1, or a little less where phases have large errors): images with more
+free pixels than the data constrain fit some of the noise.
 -from-model FILE takes the object's size from a model file instead (one
 written by 'vcz fit -save-model', or 'vcz fit -json' output): the field is
 three times the diameter of the circle holding the model (largest component
@@ -48,23 +50,27 @@ Outputs (OUT defaults to the first file's name with -image.fits):
 
 // imageSummary is the JSON summary of one reconstruction.
 type imageSummary struct {
-	Outputs     outputPaths      `json:"outputs"`
-	Target      string           `json:"target"`
-	Grid        inspectGrid      `json:"grid"`
-	Regularizer string           `json:"regularizer"`
-	Weight      float64          `json:"weight"`
-	WeightAuto  bool             `json:"weight_auto"`
-	Chi2r       float64          `json:"chi2r"`
-	Chi2rTarget float64          `json:"chi2r_expected"`
-	Chi2ByType  map[string]chi2J `json:"chi2r_by_type"`
-	RegValue    float64          `json:"regularizer_value"`
-	Iterations  int              `json:"iterations"`
-	TotalIter   int              `json:"total_iterations"`
-	Status      string           `json:"status"`
-	Converged   bool             `json:"converged"`
-	Seconds     float64          `json:"seconds"`
-	Path        []pathJ          `json:"weight_path,omitempty"`
-	Notices     []string         `json:"notices"`
+	Outputs     outputPaths `json:"outputs"`
+	Target      string      `json:"target"`
+	Grid        inspectGrid `json:"grid"`
+	Regularizer string      `json:"regularizer"`
+	Weight      float64     `json:"weight"`
+	WeightAuto  bool        `json:"weight_auto"`
+	Chi2r       float64     `json:"chi2r"`
+	Chi2rTarget float64     `json:"chi2r_expected"`
+	// Chi2rFloor and Chi2rAim: the χ²ᵣ of the least-regularized images and the χ²ᵣ the
+	// automatic weight aimed at (absent for a given weight).
+	Chi2rFloor float64          `json:"chi2r_floor,omitempty"`
+	Chi2rAim   float64          `json:"chi2r_aim,omitempty"`
+	Chi2ByType map[string]chi2J `json:"chi2r_by_type"`
+	RegValue   float64          `json:"regularizer_value"`
+	Iterations int              `json:"iterations"`
+	TotalIter  int              `json:"total_iterations"`
+	Status     string           `json:"status"`
+	Converged  bool             `json:"converged"`
+	Seconds    float64          `json:"seconds"`
+	Path       []pathJ          `json:"weight_path,omitempty"`
+	Notices    []string         `json:"notices"`
 	// Warnings is the quality verdict (recon.Result.Warnings): an empty list when none.
 	Warnings []string `json:"warnings"`
 }
@@ -200,7 +206,7 @@ func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageS
 		Outputs: paths, Target: info.target, Regularizer: info.reg,
 		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
 			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
-		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, RegValue: res.Reg,
+		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
 		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
 		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
 		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
@@ -225,7 +231,7 @@ func printImageSummary(w io.Writer, s imageSummary) {
 		if len(s.Path) == 1 {
 			plural = ""
 		}
-		how = fmt.Sprintf("chosen from %d weight%s so that χ²ᵣ is closest to its expected value %.3g", len(s.Path), plural, s.Chi2rTarget)
+		how = fmt.Sprintf("chosen from %d weight%s: χ²ᵣ aimed at %.3g, between %.3g of the least-regularized images and its expected value %.3g", len(s.Path), plural, s.Chi2rAim, s.Chi2rFloor, s.Chi2rTarget)
 	}
 	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)

@@ -71,7 +71,7 @@ func (f *imageFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&f.pixel, "pixel", "", "pixel size with a unit, e.g. 0.25mas or 250uas (default: a quarter of λmin/(2·Bmax))")
 	fs.StringVar(&f.fov, "fov", "", "field of view with a unit, e.g. 12mas (default: three times the fitted object size)")
 	fs.StringVar(&f.reg, "reg", "tv", "regularizer(s): "+regList()+"; several as a list with weights relative to the first, e.g. mem,compact:0.1")
-	fs.StringVar(&f.weight, "weight", "auto", "regularization weight μ, or auto (the weight at which χ²ᵣ is closest to its expected value, about 1)")
+	fs.StringVar(&f.weight, "weight", "auto", "regularization weight μ, or auto (chosen from the data: χ²ᵣ between the floor of the least-regularized images and its expected value, about 1)")
 	fs.StringVar(&f.prior, "prior", "flat", "prior image of mem and priordist: flat, gauss[:FWHM], disc[:DIAMETER] or a FITS file")
 	fs.StringVar(&f.start, "start", "auto", "start image: auto (best of a disc and a Gaussian fitted to V²), gauss[:FWHM], disc[:DIAMETER], ld[:DIAMETER[:COEF]], flat, random, or a FITS file")
 	fs.StringVar(&f.support, "support", "", "hold pixels farther than this radius from the centre at zero, e.g. 3mas")

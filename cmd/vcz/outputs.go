@@ -69,7 +69,7 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		{Key: "REGUL", Value: info.reg, Comment: "regularizer(s)"},
 		{Key: "REGWT", Value: res.Weight, Comment: "regularization weight mu"},
 		{Key: "REGVAL", Value: res.Reg, Comment: "regularizer value R(x)"},
-		{Key: "WTAUTO", Value: len(res.Path) > 0, Comment: "weight chosen by the discrepancy principle"},
+		{Key: "WTAUTO", Value: len(res.Path) > 0, Comment: "weight chosen from the data (chi2r aim)"},
 		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all fitted data"},
 		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
 	}
@@ -98,7 +98,7 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + r})
 	}
 	for _, s := range res.Path {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: mu=%.6g chi2r=%.6g R=%.6g iter=%d", s.Weight, s.Chi2r, s.Reg, s.Iter)})
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: mu=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
 	}
 	for _, n := range res.Notices {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "note: " + n})
@@ -285,7 +285,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 	if len(res.Path) > 1 {
 		lp := plots.LPath{Name: label, Chosen: -1}
 		for i, s := range res.Path {
-			lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg})
+			lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg, Stalled: s.Stalled})
 			if s.Weight == res.Weight {
 				lp.Chosen = i
 			}
@@ -348,4 +348,15 @@ func fitsASCII(s string) string {
 		}
 	}
 	return b.String()
+}
+
+// stepFlags says how a run of the weight search ended, for the HISTORY cards.
+func stepFlags(s recon.WeightStep) string {
+	switch {
+	case s.Stalled:
+		return " stalled"
+	case s.Converged:
+		return " converged"
+	}
+	return ""
 }

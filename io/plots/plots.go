@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"sort"
 	"strconv"
 
 	"gonum.org/v1/plot"
@@ -521,6 +522,8 @@ func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 // pass a penalty form (e.g. −S for an entropy S ≤ 0).
 type LPoint struct {
 	Weight, Misfit, Regularizer float64
+	// Stalled marks a run that moved nothing: drawn as a red cross, not joined.
+	Stalled bool
 }
 
 // LPath is the weight path of one regularizer; Chosen is the index of the
@@ -532,9 +535,10 @@ type LPath struct {
 }
 
 // LCurve plots each path's data misfit against its regularizer value on
-// log-log axes, points joined in the order given, the chosen weight marked
-// with a large ring and labelled with its value. Points with non-finite or
-// non-positive coordinates are skipped.
+// log-log axes, points joined in the order of their weights (a search may try
+// them in any order), stalled runs drawn as red crosses and not joined, the
+// chosen weight marked with a large ring and labelled with its value. Points
+// with non-finite or non-positive coordinates are skipped.
 func LCurve(paths []LPath, opt Options) (*Figure, error) {
 	p := newPlot(opt.title("L-curve"), "regularizer value", "data misfit χ²ᵣ")
 	p.X.Scale, p.Y.Scale = plot.LogScale{}, plot.LogScale{}
@@ -542,16 +546,36 @@ func LCurve(paths []LPath, opt Options) (*Figure, error) {
 	p.Add(plotter.NewGrid())
 	total := 0
 	for k, path := range paths {
-		var xy plotter.XYs
+		var xy, stalled plotter.XYs
 		chosen := -1
-		for i, q := range path.Points {
+		order := make([]int, len(path.Points))
+		for i := range order {
+			order[i] = i
+		}
+		sort.SliceStable(order, func(a, b int) bool { return path.Points[order[a]].Weight > path.Points[order[b]].Weight })
+		for _, i := range order {
+			q := path.Points[i]
 			if !finite(q.Misfit, q.Regularizer) || q.Misfit <= 0 || q.Regularizer <= 0 {
+				continue
+			}
+			if q.Stalled {
+				stalled = append(stalled, plotter.XY{X: q.Regularizer, Y: q.Misfit})
 				continue
 			}
 			if i == path.Chosen {
 				chosen = len(xy)
 			}
 			xy = append(xy, plotter.XY{X: q.Regularizer, Y: q.Misfit})
+		}
+		if len(stalled) > 0 {
+			sc, err := plotter.NewScatter(stalled)
+			if err != nil {
+				return nil, fmt.Errorf("plots: L-curve: %w", err)
+			}
+			sc.GlyphStyle = draw.GlyphStyle{Shape: draw.CrossGlyph{}, Radius: vg.Points(4), Color: color.RGBA{R: 200, A: 255}}
+			p.Add(sc)
+			p.Legend.Add("stalled run", sc)
+			total += len(stalled)
 		}
 		if len(xy) == 0 {
 			continue

@@ -89,7 +89,7 @@ func TestAllPlotsRender(t *testing.T) {
 			grid.Values = append(grid.Values, 1+math.Hypot(grid.X[ix]-1, grid.Y[iy]))
 		}
 	}
-	path := []LPoint{{1e3, 30, 0.01}, {1e2, 5, 0.1}, {10, 1.1, 1}, {1, 0.9, 10}}
+	path := []LPoint{{1e3, 30, 0.01, false}, {1e2, 5, 0.1, false}, {10, 1.1, 1, false}, {1, 0.9, 10, false}, {0.3, 0.95, 12, true}}
 	cases := []struct {
 		name string
 		make func(Options) (*Figure, error)
@@ -145,7 +145,7 @@ func TestEmptyInput(t *testing.T) {
 			return ResidualPlot([]Residuals{{"x", []float64{1}, []float64{nan}}}, Options{})
 		},
 		"lcurve empty": func() (*Figure, error) { return LCurve(nil, Options{}) },
-		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3}}, 0}}, Options{}) },
+		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3, false}}, 0}}, Options{}) },
 		"chi2 NaN": func() (*Figure, error) {
 			return Chi2Map(Grid{X: []float64{0}, Y: []float64{0}, Values: []float64{nan}}, Options{})
 		},
