@@ -68,8 +68,9 @@
 // weights: 12 + 8w bytes (float32 weights) or 12 + 16w bytes, plus 16
 // bytes of scratch. It holds the upsampled grid (16·fx·fy bytes for an
 // fx×fy grid, fx the smallest power of two ≥ 2·nx), spreading bands of
-// about the same size, and small FFT scratch: about 2.1 grids plus 84
-// bytes per point at Tol = 1e-6. A call costs about 2w² multiply-adds per
+// about the same size (at most 8 bands, one per 4(w+8) fine rows, which
+// overlap by at most w+7 rows), and small FFT scratch: about 2.3 grids
+// plus 84 bytes per point at Tol = 1e-6. A call costs about 2w² multiply-adds per
 // point and one 2D FFT of the upsampled grid restricted by the symmetry
 // of real images and the zero rows of the padded image. The default
 // build is plain Go; GOAMD64=v3 (fused multiply-add) is optional and
@@ -85,8 +86,10 @@
 // the pointers the constructors return and do not copy the structs: the
 // helper goroutines of a parallel transform stop when its pointer
 // becomes unreachable. With Options.Workers > 1 a call itself runs on
-// several goroutines: each worker writes a disjoint block or its own
-// buffer, and buffers are reduced in a fixed order, so repeated calls
-// give bitwise identical results and different worker counts agree to
-// about 1e-15 relative (tests demand 1e-13).
+// several goroutines. Every step of a call is divided into shards fixed
+// by the problem (image size, points, tolerance), never by the number of
+// workers, who only take shards in turn; each shard writes a disjoint
+// block or its own buffer, and the spreading buffers of Adjoint are
+// summed in shard order. Results are therefore bitwise identical for any
+// number of workers and any scheduling (TestWorkers).
 package nufft

@@ -14,10 +14,12 @@ import (
 // exact values every 32 steps, so each point costs nx+ny table entries
 // and nx·ny multiply-adds.
 //
-// Results do not depend on the number of workers: Forward splits the
-// points and Adjoint splits the image rows, and every output is summed in
-// the same order in either case. An Exact must not be used by several
-// goroutines at once; make one per goroutine.
+// Results do not depend on the number of workers: Forward divides the
+// points and Adjoint the image rows into shards fixed by the problem,
+// each output is summed in the same order whatever the shards, and the
+// tables restart at the same indices (multiples of 32 along each axis),
+// so every entry is computed the same way. An Exact must not be used by
+// several goroutines at once; make one per goroutine.
 type Exact struct {
 	*exact
 }
@@ -27,15 +29,29 @@ type exact struct {
 	s, t    []float64 // frequencies in cycles per pixel along ix and iy, reduced to [−1/2, 1/2)
 	scratch [][]complex128
 
-	pool *pool
+	pool                 *pool
+	fwdShards, adjShards int
+
 	// Arguments of the running phase, set before pool.run.
-	fwd      bool
-	dstC     []complex128
-	srcR     []float64
-	dstR     []float64
-	srcC     []complex128
-	nWorkers int
+	fwd  bool
+	dstC []complex128
+	srcR []float64
+	dstR []float64
+	srcC []complex128
 }
+
+const (
+	// exactSerial is the number of multiply-adds below which one
+	// goroutine is faster (common practice, no source).
+	exactSerial = 2e6
+	// exactPoints bounds the number of Forward shards. Adjoint takes
+	// shards of exactRows image rows, a multiple of tableRun so that
+	// they align with the table restarts; each shard builds the x table
+	// of every point again, which costs about as much as two rows.
+	exactPoints = 64
+	tableRun    = 32
+	exactRows   = 2 * tableRun
+)
 
 // NewExact makes a direct-sum transform; see Transform for the sums and
 // Options for the defaults. It copies u and v.
@@ -44,29 +60,37 @@ func NewExact(nx, ny int, pixel float64, u, v []float64, opt Options) (*Exact, e
 	if err != nil {
 		return nil, err
 	}
+	x := &Exact{newExact(r, u, v)}
+	if x.pool.n > 1 {
+		runtime.AddCleanup(x, stopPool, x.pool.ch)
+	}
+	return x, nil
+}
+
+func newExact(r resolved, u, v []float64) *exact {
+	nx, ny := r.nx, r.ny
 	e := &exact{nx: nx, ny: ny, s: make([]float64, r.m), t: make([]float64, r.m)}
 	for k := range u {
 		// x = −(ix − nx/2)·pixel and y = (iy − ny/2)·pixel (CONVENTIONS.md),
 		// so u·x + v·y = s·(ix − nx/2) + t·(iy − ny/2).
-		e.s[k] = reduce(-u[k] * pixel)
-		e.t[k] = reduce(v[k] * pixel)
+		e.s[k] = reduce(-u[k] * r.pixel)
+		e.t[k] = reduce(v[k] * r.pixel)
 	}
 	w := r.workers
-	// Below about 2e6 multiply-adds one goroutine is faster (common
-	// practice, no source).
-	if float64(r.m)*float64(nx)*float64(ny) < 2e6 {
+	e.fwdShards, e.adjShards = 1, 1
+	if float64(r.m)*float64(nx)*float64(ny) < exactSerial {
 		w = 1
+	} else {
+		e.fwdShards = min(r.m, exactPoints)
+		e.adjShards = chunks(ny, exactRows)
+		w = min(w, max(e.fwdShards, e.adjShards))
 	}
 	e.pool = newPool(w)
 	e.scratch = make([][]complex128, w)
 	for i := range e.scratch {
 		e.scratch[i] = make([]complex128, nx+ny)
 	}
-	x := &Exact{e}
-	if w > 1 {
-		runtime.AddCleanup(x, stopPool, e.pool.ch)
-	}
-	return x, nil
+	return e
 }
 
 // Len returns the number of points m.
@@ -81,7 +105,7 @@ func (e *Exact) Forward(dst []complex128, img []float64) {
 	mustLen("Exact.Forward", "dst", len(dst), len(e.s))
 	mustLen("Exact.Forward", "img", len(img), e.nx*e.ny)
 	e.fwd, e.dstC, e.srcR = true, dst, img
-	e.pool.run(e.exact, e.pool.n)
+	e.pool.run(e.exact, e.fwdShards)
 	e.dstC, e.srcR = nil, nil
 }
 
@@ -91,34 +115,36 @@ func (e *Exact) Adjoint(dst []float64, vis []complex128) {
 	mustLen("Exact.Adjoint", "dst", len(dst), e.nx*e.ny)
 	mustLen("Exact.Adjoint", "vis", len(vis), len(e.s))
 	e.fwd, e.dstR, e.srcC = false, dst, vis
-	e.pool.run(e.exact, e.pool.n)
+	e.pool.run(e.exact, e.adjShards)
 	e.dstR, e.srcC = nil, nil
 }
 
-func (e *exact) do(i int) {
-	n := e.pool.n
+func (e *exact) do(w, s int) {
 	if e.fwd {
-		lo, hi := span(len(e.s), i, n)
-		e.forward(e.scratch[i], lo, hi)
-	} else {
-		lo, hi := span(e.ny, i, n)
-		e.adjoint(e.scratch[i], lo, hi)
+		lo, hi := span(len(e.s), s, e.fwdShards)
+		e.forward(e.scratch[w], lo, hi)
+		return
 	}
+	lo, hi := 0, e.ny
+	if e.adjShards > 1 {
+		lo, hi = chunk(e.ny, s, exactRows)
+	}
+	e.adjoint(e.scratch[w], lo, hi)
 }
 
 // phaseTable sets tab[i] = exp(−2πi f (i − off)) for i in [0, len(tab)),
-// by recurrence restarted from math.Sincos every 32 entries, which keeps
-// the rounding error below about 1e-15.
+// by recurrence restarted from math.Sincos every tableRun entries from
+// tab[0], which keeps the rounding error below about 1e-15.
 func phaseTable(tab []complex128, f float64, off int) {
 	sn, cs := math.Sincos(-2 * math.Pi * f)
 	step := complex(cs, sn)
-	for i0 := 0; i0 < len(tab); i0 += 32 {
+	for i0 := 0; i0 < len(tab); i0 += tableRun {
 		// Reduce f·(i0−off) modulo 1 before scaling by 2π.
 		a := f * float64(i0-off)
 		a -= math.Round(a)
 		sn, cs := math.Sincos(-2 * math.Pi * a)
 		z := complex(cs, sn)
-		end := min(i0+32, len(tab))
+		end := min(i0+tableRun, len(tab))
 		for j := i0; j < end; j++ {
 			tab[j] = z
 			z *= step
@@ -150,6 +176,9 @@ func (e *exact) forward(tab []complex128, lo, hi int) {
 	}
 }
 
+// adjoint sets the image rows [lo, hi); lo must be a multiple of
+// tableRun, so that the rows' table entries are those of a whole-image
+// table.
 func (e *exact) adjoint(tab []complex128, lo, hi int) {
 	nx, ny := e.nx, e.ny
 	ex, ey := tab[:nx], tab[nx:nx+ny]

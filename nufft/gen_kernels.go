@@ -27,7 +27,7 @@ func main() {
 		fmt.Fprintf(&b, "\tcase %d:\n\t\tif p.wts32 != nil {\n\t\t\tp.interp%df32(lo, hi)\n\t\t} else {\n\t\t\tp.interp%d(lo, hi)\n\t\t}\n", w, w, w)
 	}
 	b.WriteString("\tdefault:\n\t\treturn false\n\t}\n\treturn true\n}\n\n")
-	b.WriteString("// spreadUnrolled is the unrolled form of the spreading loop of worker i\n// over sorted points [lo, hi) into band, whose first row is fine row ylo.\n")
+	b.WriteString("// spreadUnrolled is the unrolled form of the spreading loop of a shard\n// over sorted points [lo, hi) into band, whose first row is fine row ylo.\n")
 	b.WriteString("func (p *plan) spreadUnrolled(band []complex128, ylo, lo, hi int) bool {\n\tswitch p.w {\n")
 	for w := minW; w <= maxW; w++ {
 		fmt.Fprintf(&b, "\tcase %d:\n\t\tif p.wts32 != nil {\n\t\t\tp.spread%df32(band, ylo, lo, hi)\n\t\t} else {\n\t\t\tp.spread%d(band, ylo, lo, hi)\n\t\t}\n", w, w, w)

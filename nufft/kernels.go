@@ -104,7 +104,7 @@ func (p *plan) interpUnrolled(lo, hi int) bool {
 	return true
 }
 
-// spreadUnrolled is the unrolled form of the spreading loop of worker i
+// spreadUnrolled is the unrolled form of the spreading loop of a shard
 // over sorted points [lo, hi) into band, whose first row is fine row ylo.
 func (p *plan) spreadUnrolled(band []complex128, ylo, lo, hi int) bool {
 	switch p.w {

@@ -18,7 +18,8 @@ type Options struct {
 
 	// Workers is the largest number of goroutines one call may use.
 	// Zero means runtime.GOMAXPROCS(0). Small problems run serially
-	// whatever the setting.
+	// whatever the setting. It changes the speed of a call, never its
+	// result.
 	Workers int
 }
 

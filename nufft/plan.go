@@ -9,21 +9,32 @@ import (
 // and a Kaiser–Bessel gridding kernel (see the package documentation).
 // Everything that depends only on the points — the kernel weights of
 // every point along each axis, the grid offsets, the order of the points
-// sorted into bins, the worker split — is computed by NewPlan, so a call
-// costs one pass over the points and one 2D FFT.
+// sorted into bins, the division of the work into shards — is computed
+// by NewPlan, so a call costs one pass over the points and one 2D FFT.
 //
 // A Plan must not be used by several goroutines at once: it holds the
 // grid and scratch buffers. Make one Plan per goroutine. With
-// Options.Workers > 1 each call runs on several goroutines itself, and
-// its result does not depend on scheduling.
+// Options.Workers > 1 each call runs on several goroutines itself; its
+// result does not depend on scheduling nor on the number of workers.
 type Plan struct {
 	*plan
 }
 
 const (
 	binRows   = 8  // fine-grid rows per bin when sorting points
-	colBlock  = 16 // columns per batched column FFT
+	colBlock  = 16 // columns per batched column FFT, one shard each
 	serialOps = 4e6
+
+	// Shard sizes of the phases without reduction (any size gives the
+	// same bits; these keep a shard well above the cost of taking it),
+	// and the bounds on the number of spreading shards, each of which
+	// holds a band of the grid: at most maxSpread, and at least
+	// minSpread points each (common practice, no source).
+	rowPairShard = 8    // image row pairs per shard of the x transforms
+	fillShard    = 64   // fine rows per shard of the Hermitian fill
+	interpShard  = 4096 // points per interpolation shard
+	maxSpread    = 8
+	minSpread    = 1024
 
 	// f32Tol is the loosest tolerance at which the kernel weights are
 	// stored as float32: their rounding (relative 6e-8) then adds at
@@ -60,20 +71,21 @@ type plan struct {
 	// rows for the column-to-row hand-over.
 	grid []complex128
 
-	// Adjoint spreading: worker i spreads its points into band rows
-	// [bandLo[i], bandLo[i]+bandRows[i]) of the unwrapped y range,
-	// stored at band[bandOff[i]:]. rowSrc[rowStart[r]:rowStart[r+1]]
+	// Adjoint spreading: shard s spreads its points into band rows
+	// [bandLo[s], bandLo[s]+bandRows[s]) of the unwrapped y range,
+	// stored at band[bandOff[s]:]. rowSrc[rowStart[r]:rowStart[r+1]]
 	// lists the offsets in band of the rows that fold onto fine row r,
-	// in worker order, which fixes the order of the reduction.
+	// in shard order, which fixes the order of the reduction.
 	band      []complex128
 	bandLo    []int
 	bandRows  []int
 	bandOff   []int
 	rowStart  []int32
 	rowSrc    []int32
-	ptLo      []int // worker i owns sorted points [ptLo[i], ptLo[i+1])
-	scratch   [][]complex128
+	ptLo      []int          // shard s spreads sorted points [ptLo[s], ptLo[s+1])
+	scratch   [][]complex128 // per worker
 	workers   int
+	shards    [nPhases]int // number of shards of each phase
 	pool      *pool
 	imageRows []int32 // fine row of each image row iy
 
@@ -93,6 +105,7 @@ const (
 	phAdjSpread
 	phAdjCols
 	phAdjRows
+	nPhases
 )
 
 // NewPlan makes a fast transform for an nx×ny image with the given pixel
@@ -204,13 +217,28 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.fftY = newFFTPlan(fy)
 	p.grid = make([]complex128, fx*fy)
 
-	// Workers: serial below a size threshold (common practice, no source).
-	nw := r.workers
+	// Shards: every phase is divided into a number of shards fixed by
+	// the problem, never by the workers, who only take shards in turn
+	// (pool.run). A small problem runs serially in one spreading shard
+	// (common practice, no source).
 	ops := float64(m)*float64(4*w*w) + 5*float64(fx*fy)*math.Log2(float64(fx*fy))
-	if ops < serialOps {
-		nw = 1
+	serial := ops < serialOps
+	pairs := (r.ny + 1) / 2
+	p.shards[phFwdRows] = chunks(pairs, rowPairShard)
+	p.shards[phAdjRows] = p.shards[phFwdRows]
+	p.shards[phFwdCols] = p.hc / colBlock
+	p.shards[phAdjCols] = p.shards[phFwdCols]
+	p.shards[phFwdFill] = chunks(fy, fillShard)
+	p.shards[phFwdInterp] = chunks(m, interpShard)
+	ns := 1
+	if !serial {
+		ns = min(maxSpread, max(1, fy/(4*(w+binRows))), max(1, m/minSpread))
 	}
-	nw = min(nw, max(1, m/64+1), p.hc/colBlock)
+	p.shards[phAdjSpread] = ns
+	nw := 1
+	if !serial {
+		nw = min(r.workers, max(p.shards[phFwdRows], p.shards[phFwdCols], p.shards[phFwdInterp]))
+	}
 	p.workers = nw
 	p.pool = newPool(nw)
 	p.scratch = make([][]complex128, nw)
@@ -218,16 +246,20 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		p.scratch[i] = make([]complex128, 2*max(fx, fy*colBlock))
 	}
 
-	// Adjoint bands: worker i spreads sorted points [ptLo[i], ptLo[i+1]).
-	p.ptLo = make([]int, nw+1)
-	for i := range nw + 1 {
-		p.ptLo[i], _ = span(m, i, nw)
+	// Spreading bands: shard s spreads sorted points [ptLo[s], ptLo[s+1])
+	// into its own band, which spans the fine rows its points touch.
+	// Because the points are sorted by bin row, the bands overlap by at
+	// most binRows − 1 + w rows, so they add at most ns·(binRows + w)
+	// rows to the fy rows of the grid.
+	p.ptLo = make([]int, ns+1)
+	for i := range ns + 1 {
+		p.ptLo[i], _ = span(m, i, ns)
 	}
-	p.bandLo = make([]int, nw)
-	p.bandRows = make([]int, nw)
-	p.bandOff = make([]int, nw)
+	p.bandLo = make([]int, ns)
+	p.bandRows = make([]int, ns)
+	p.bandOff = make([]int, ns)
 	off := 0
-	for i := range nw {
+	for i := range ns {
 		lo, hi := p.ptLo[i], p.ptLo[i+1]
 		if lo == hi {
 			p.bandOff[i] = off
@@ -248,7 +280,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	var src []int32
 	for r := range fy {
 		p.rowStart[r] = int32(len(src))
-		for i := range nw {
+		for i := range ns {
 			for _, rr := range []int{r - p.bandLo[i], r - p.bandLo[i] + fy, r - p.bandLo[i] + 2*fy} {
 				if rr >= 0 && rr < p.bandRows[i] {
 					src = append(src, int32(p.bandOff[i]+rr*fx))
@@ -279,7 +311,8 @@ func (p *Plan) Size() (nx, ny int) { return p.nx, p.ny }
 // upsampled grid, which sets the cost per point (about 2w² multiply-adds).
 func (p *Plan) KernelWidth() int { return p.w }
 
-// Workers returns the number of goroutines a call uses.
+// Workers returns the largest number of goroutines a call uses. It
+// changes the speed of a call, not its result.
 func (p *Plan) Workers() int { return p.workers }
 
 // Forward sets dst[k] = Σ img[iy·nx+ix] exp(−2πi (u_k x + v_k y)) to the
@@ -311,31 +344,29 @@ func (p *Plan) Adjoint(dst []float64, vis []complex128) {
 
 func (p *plan) runPhase(ph int) {
 	p.phase = ph
-	p.pool.run(p, p.workers)
+	p.pool.run(p, p.shards[ph])
 }
 
-func (p *plan) do(i int) {
-	n := p.workers
+func (p *plan) do(w, s int) {
 	switch p.phase {
 	case phFwdRows:
-		lo, hi := span((p.ny+1)/2, i, n)
-		p.fwdRows(p.scratch[i], lo, hi)
+		lo, hi := chunk((p.ny+1)/2, s, rowPairShard)
+		p.fwdRows(p.scratch[w], lo, hi)
 	case phFwdCols:
-		lo, hi := span(p.hc/colBlock, i, n)
-		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, false)
+		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, false)
 	case phFwdFill:
-		lo, hi := span(p.fy, i, n)
+		lo, hi := chunk(p.fy, s, fillShard)
 		p.fwdFill(lo, hi)
 	case phFwdInterp:
-		p.interp(p.ptLo[i], p.ptLo[i+1])
+		lo, hi := chunk(p.m, s, interpShard)
+		p.interp(lo, hi)
 	case phAdjSpread:
-		p.spread(i)
+		p.spread(s)
 	case phAdjCols:
-		lo, hi := span(p.hc/colBlock, i, n)
-		p.cols(p.scratch[i], lo*colBlock, hi*colBlock, true)
+		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, true)
 	case phAdjRows:
-		lo, hi := span((p.ny+1)/2, i, n)
-		p.adjRows(p.scratch[i], lo, hi)
+		lo, hi := chunk((p.ny+1)/2, s, rowPairShard)
+		p.adjRows(p.scratch[w], lo, hi)
 	}
 }
 
@@ -348,7 +379,7 @@ func (p *plan) do(i int) {
 // cover 0 … fx/2; Forward fills the other columns by symmetry.
 
 // fwdRows places corrected image rows on their fine rows and transforms
-// them along x, two at a time; worker i takes the row pairs [lo, hi).
+// them along x, two at a time, for the row pairs [lo, hi).
 func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 	nx, fx, hc := p.nx, p.fx, p.hc
 	z, buf := scr[:fx], scr[fx:2*fx]
@@ -439,7 +470,7 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	}
 }
 
-// bandRow sets d to the sum, in worker order, of the band rows folding
+// bandRow sets d to the sum, in shard order, of the band rows folding
 // onto fine row r, at columns c … c+len(d)−1.
 func (p *plan) bandRow(d []complex128, r, c int) {
 	srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
@@ -565,7 +596,7 @@ func (p *plan) interpWrap(i int) {
 	p.sorted[i] = complex(ar, ai)
 }
 
-// spread adds the points of worker i, times their kernel weights, into
+// spread adds the points of shard i, times their kernel weights, into
 // its band.
 func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
