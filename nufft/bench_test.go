@@ -140,3 +140,25 @@ func (p *plan) timeSplit(adjoint bool, reps int, vis []complex128, img, out []fl
 	}
 	return fft, grid
 }
+
+// BenchmarkExactAdjoint runs a problem of the size for which New picks
+// Exact, serially and with two workers.
+func BenchmarkExactAdjoint(b *testing.B) {
+	const n, m = 128, 200
+	for _, w := range []int{1, 2} {
+		b.Run(fmt.Sprintf("n=%d/m=%d/workers=%d", n, m, w), func(b *testing.B) {
+			pixel, u, v, img := benchProblem(n, m)
+			e, err := NewExact(n, n, pixel, u, v, Options{Workers: w})
+			if err != nil {
+				b.Fatal(err)
+			}
+			vis := make([]complex128, m)
+			e.Forward(vis, img)
+			out := make([]float64, n*n)
+			b.ReportAllocs()
+			for b.Loop() {
+				e.Adjoint(out, vis)
+			}
+		})
+	}
+}
