@@ -755,12 +755,14 @@ const (
 // Constants of the weight target (chooseWeight), measured on the validation suite
 // (recon/validate): FloorShare is the share α of the gap between the floor and the expected
 // χ²ᵣ above the floor that the target lies at; FloorMargin the least relative margin above
-// the floor; FloorFlat the fall of χ²ᵣ over a decade of weight (relative to τ) below which the
-// floor is reached.
+// the floor; FloorNoise the least margin in units of the standard deviation of χ²ᵣ for N
+// data, τ·√(2/N) (χ² with N degrees of freedom has variance 2N); FloorFlat the fall of χ²ᵣ
+// over a decade of weight (relative to τ) below which the floor is reached.
 const (
 	FloorShare  = 0.3
 	FloorMargin = 0.005
 	FloorFlat   = 0.002
+	FloorNoise  = 0.5
 )
 
 // chooseWeight picks the regularization weight from the data. χ²ᵣ(μ) rises with μ from a
@@ -776,10 +778,14 @@ const (
 // floor to τ, while χ²ᵣ = τ over-regularizes sparse arrays (four telescopes: floor 0.84–0.88,
 // relative L1 up to 1.6 times the best). The target is therefore
 //
-//	χ²_target = χ²_min + max(FloorShare·(τ − χ²_min), FloorMargin·χ²_min),
+//	χ²_target = χ²_min + max(FloorShare·(τ − χ²_min), FloorMargin·χ²_min, FloorNoise·τ·√(2/N)),
 //
 // which is also right when calibration errors lift the floor above τ (the least
-// regularization that fits as well as the data allow). The search runs from μ0 down by
+// regularization that fits as well as the data allow). The last margin matters where the
+// image cannot absorb the noise (sparse data, floor ≈ τ): χ²ᵣ then differs between images
+// by less than its own scatter, and without it the search took the least-regularized image
+// (four telescopes, discs: relative L1 2–4 times the best fixed weight's; with it, within
+// 1.0–1.3 times). The search runs from μ0 down by
 // decades until χ²ᵣ falls by less than FloorFlat·τ over a decade (the floor) or
 // weightDecadesDown is reached, then up from μ0 by decades if no weight was above the
 // target, then refines log μ between the weights that bracket the target by regula falsi
@@ -849,7 +855,8 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) (weightSearch, error) {
 		ws.image, ws.weight, ws.edge = x0, mu0, "stalled"
 		return ws, nil
 	}
-	ws.target = ws.floor + math.Max(FloorShare*(tau-ws.floor), FloorMargin*ws.floor)
+	n := float64(max(e.p.Data.Len(use), 1))
+	ws.target = ws.floor + max(FloorShare*(tau-ws.floor), FloorMargin*ws.floor, FloorNoise*tau*math.Sqrt(2/n))
 	tol := ws.tol()
 	// bracket returns the usable steps nearest the target from above (larger χ²ᵣ) and
 	// from below, −1 where there is none.
