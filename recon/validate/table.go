@@ -19,13 +19,16 @@ const (
 
 // Failures lists, one phrase each, the targets the row misses; an error is one failure.
 // Without an oracle the ratio is not checked.
-func (r Row) Failures() []string {
+func (r Row) Failures() []string { return r.failures(MaxRatio) }
+
+// failures is Failures with maxRatio in place of MaxRatio.
+func (r Row) failures(maxRatio float64) []string {
 	if r.Err != nil {
 		return []string{"error: " + r.Err.Error()}
 	}
 	var f []string
-	if r.Oracle != nil && !(r.Ratio() <= MaxRatio) {
-		f = append(f, fmt.Sprintf("L1 %.3f is %.2f × the oracle's %.3f (want ≤ %.2f)", r.Default.L1, r.Ratio(), r.Oracle.L1, MaxRatio))
+	if r.Oracle != nil && !(r.Ratio() <= maxRatio) {
+		f = append(f, fmt.Sprintf("L1 %.3f is %.2f × the oracle's %.3f (want ≤ %.2f)", r.Default.L1, r.Ratio(), r.Oracle.L1, maxRatio))
 	}
 	if q := r.Default.Chi2r / r.Default.Chi2rTarget; !(q >= MinChi2Ratio && q <= MaxChi2Ratio) {
 		f = append(f, fmt.Sprintf("χ²ᵣ %.3f is %.2f × its expected %.3f (want %.2f–%.2f)", r.Default.Chi2r, q, r.Default.Chi2rTarget, MinChi2Ratio, MaxChi2Ratio))
