@@ -82,7 +82,7 @@ func (f *imageFlags) register(fs *flag.FlagSet) {
 	fs.IntVar(&f.starts, "starts", 0, "number of starts at the final weight, keeping the lowest objective (default 3 up to 64² pixels, else 1)")
 	fs.BoolVar(&f.coarse, "coarse", false, "reconstruct on a half-resolution grid first and start from it")
 	fs.BoolVar(&f.noAmp, "no-amp-first", false, "skip the first pass on amplitudes before phases are fitted")
-	fs.IntVar(&f.workers, "workers", 0, "worker goroutines of the transform (default: number of CPUs)")
+	fs.IntVar(&f.workers, "workers", 0, "worker goroutines of the transform (default: number of CPUs); the image is the same for any number")
 }
 
 // registerFromModel adds -from-model to fs, which must already hold the
