@@ -173,7 +173,9 @@ func formatTick(v float64) string {
 
 // logTicks labels decades; also 2 and 5 times each decade when the axis
 // spans less than two decades, and every integer multiple when it spans
-// less than one. Unlabelled multiples are minor ticks.
+// less than one. Unlabelled multiples are minor ticks. An axis so short that fewer than
+// three of those would be labelled (a χ²ᵣ from 0.86 to 0.90) gets the 1-2-5 ticks of
+// cleanTicks instead, which a logarithmic scale over such a span draws almost evenly.
 type logTicks struct{}
 
 func (logTicks) Ticks(min, max float64) []plot.Tick {
@@ -195,6 +197,15 @@ func (logTicks) Ticks(min, max float64) []plot.Tick {
 			}
 			ts = append(ts, t)
 		}
+	}
+	labelled := 0
+	for _, t := range ts {
+		if t.Label != "" {
+			labelled++
+		}
+	}
+	if labelled < 3 {
+		return cleanTicks{}.Ticks(min, max)
 	}
 	return ts
 }

@@ -381,6 +381,16 @@ func TestTicks(t *testing.T) {
 	if strings.Join(lab, " ") != "0.5 0.6 0.7 0.8 0.9 1" {
 		t.Errorf("logTicks(0.5, 1.1) labels %v", lab)
 	}
+	// A span holding one multiple of its decade falls back to 1-2-5 steps.
+	lab = lab[:0]
+	for _, tk := range (logTicks{}).Ticks(0.862, 0.903) {
+		if tk.Label != "" {
+			lab = append(lab, tk.Label)
+		}
+	}
+	if strings.Join(lab, " ") != "0.87 0.88 0.89 0.9" {
+		t.Errorf("logTicks(0.862, 0.903) labels %v", lab)
+	}
 }
 
 func TestWriteFile(t *testing.T) {
