@@ -59,7 +59,8 @@
 //   - Weight: automatic: χ²ᵣ rises with μ from a floor χ²_min (the least-regularized
 //     images, which fit some of the noise) to far above its expected value τ
 //     (Objective.ExpectedChi2r: 1, or less where wrap-safe phase terms have large errors).
-//     The weight aims at χ²_min + max(0.3·(τ − χ²_min), 0.005·χ²_min): down by decades from
+//     The weight aims at χ²_min + max(0.3·(τ − χ²_min), 0.005·χ²_min, 0.5·τ·√(2/N)) (the
+//     last is half the scatter of χ²ᵣ over N data): down by decades from
 //     μ0 = 0.1·N/R(x0) to the floor, up if needed, then regula falsi in log μ; stalled runs
 //     are retried once from the start and never used or continued from; one correction of
 //     the final weight along the slope of the path when the final run lands off the aim.
