@@ -79,7 +79,7 @@ func (f *imageFlags) register(fs *flag.FlagSet) {
 	fs.StringVar(&f.weights, "data-weights", "", "weights of the data types in χ², e.g. vis2=1,t3phi=2 (default 1 each)")
 	fs.IntVar(&f.iter, "iter", 0, fmt.Sprintf("iteration limit of the final reconstruction (default %d)", recon.DefaultMaxIter))
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of every random choice; the same seed gives the same image")
-	fs.IntVar(&f.starts, "starts", 0, "number of starts at the final weight: the start image and seeded random images, keeping the lowest objective (default 1)")
+	fs.IntVar(&f.starts, "starts", 0, "number of starts at the final weight: the start image and seeded random images, keeping the lowest objective (default 1, and 3 when that one fits worse than the noise allows)")
 	fs.BoolVar(&f.coarse, "coarse", false, "reconstruct on a half-resolution grid first and start from it")
 	fs.BoolVar(&f.noAmp, "no-amp-first", false, "skip the first pass on amplitudes before phases are fitted")
 	fs.IntVar(&f.workers, "workers", 0, "worker goroutines of the transform (default: number of CPUs); the image is the same for any number")
