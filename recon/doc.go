@@ -69,8 +69,9 @@
 //     is kept in Result.Path.
 //   - Position: without absolute phases the image is moved by whole pixels before the final
 //     run so that its centroid is at the centre (Result.Shift).
-//   - Starts (Settings.Starts): one by default; more add seeded random starts, keeping the
-//     lowest objective, and the verdict warns when they disagree.
+//   - Starts (Settings.Starts): one by default, and RescueStarts seeded random starts more
+//     when it fits worse than the noise allows; more on request; the lowest objective is
+//     kept, and the verdict warns when the starts disagree.
 //   - Verdict: Result.Warnings says why a result is doubtful (χ²ᵣ above 1.25 times its
 //     expected value, one data type fitted far worse than the others, a stalled final run or
 //     one stopped at its iteration limit while still improving, a weight at the edge of the
