@@ -623,9 +623,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 			// wrong minimum: try RescueStarts seeded random starts as well and keep the
 			// lowest objective.
 			rescue = false
-			tau := e.obj.ExpectedChi2r()
-			ref := math.Max(tau, ws.target)
-			lim := ref + 2*tau*math.Sqrt(2/float64(max(e.p.Data.Len(use), 1)))
+			lim := math.Max(e.obj.ExpectedChi2r(), ws.target) + 2*e.chi2rScatter()
 			if c := e.chi2rOf(best.X, mu); c > lim {
 				res.Notices = append(res.Notices, fmt.Sprintf("the start fitted at χ²ᵣ %.3g, above the %.3g that the noise allows: %d random starts tried as well", c, lim, RescueStarts))
 				res.StartObjectives = append(res.StartObjectives, best.F)
@@ -877,8 +875,7 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) (weightSearch, error) {
 		ws.image, ws.weight, ws.edge = x0, mu0, "stalled"
 		return ws, nil
 	}
-	n := float64(max(e.p.Data.Len(use), 1))
-	ws.target = ws.floor + max(FloorShare*(tau-ws.floor), FloorMargin*ws.floor, FloorNoise*tau*math.Sqrt(2/n))
+	ws.target = ws.floor + max(FloorShare*(tau-ws.floor), FloorMargin*ws.floor, FloorNoise*e.chi2rScatter())
 	tol := ws.tol()
 	// bracket returns the usable steps nearest the target from above (larger χ²ᵣ) and
 	// from below, −1 where there is none.
@@ -1000,6 +997,13 @@ func (ws *weightSearch) slope(mu float64) float64 {
 		return 0
 	}
 	return (b.Chi2r - a.Chi2r) / (math.Log(b.Weight) - math.Log(a.Weight))
+}
+
+// chi2rScatter returns the standard deviation of χ²ᵣ over the N data the engine fits,
+// τ·√(2/N) with τ the expected χ²ᵣ (χ² with N degrees of freedom has variance 2N).
+func (e *engine) chi2rScatter() float64 {
+	n := float64(max(e.p.Data.Len(e.obj.Use()), 1))
+	return e.obj.ExpectedChi2r() * math.Sqrt(2/n)
 }
 
 // chi2rOf returns the total χ²ᵣ of x (exact terms).
