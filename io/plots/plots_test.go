@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -352,44 +353,32 @@ func TestResiduals(t *testing.T) {
 	NormalizedResiduals(nil, []float64{1}, []float64{1, 2}, []float64{1})
 }
 
-func TestTicks(t *testing.T) {
-	got := cleanTicks{}.Ticks(0, 50)
+// tickLabels joins the labels of the labelled ticks.
+func tickLabels(ts []plot.Tick) string {
 	var lab []string
-	for _, tk := range got {
+	for _, tk := range ts {
 		if tk.Label != "" {
 			lab = append(lab, tk.Label)
 		}
 	}
-	if strings.Join(lab, " ") != "0 10 20 30 40 50" {
-		t.Errorf("cleanTicks(0, 50) labels %v", lab)
-	}
-	lab = lab[:0]
-	for _, tk := range (logTicks{}).Ticks(0.01, 3) {
-		if tk.Label != "" {
-			lab = append(lab, tk.Label)
+	return strings.Join(lab, " ")
+}
+
+func TestTicks(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		got  string
+		want string
+	}{
+		{"cleanTicks(0, 50)", tickLabels(cleanTicks{}.Ticks(0, 50)), "0 10 20 30 40 50"},
+		{"logTicks(0.01, 3)", tickLabels(logTicks{}.Ticks(0.01, 3)), "0.01 0.1 1"},
+		{"logTicks(0.5, 1.1)", tickLabels(logTicks{}.Ticks(0.5, 1.1)), "0.5 0.6 0.7 0.8 0.9 1"},
+		// A span holding one multiple of its decade falls back to 1-2-5 steps.
+		{"logTicks(0.862, 0.903)", tickLabels(logTicks{}.Ticks(0.862, 0.903)), "0.87 0.88 0.89 0.9"},
+	} {
+		if c.got != c.want {
+			t.Errorf("%s labels %q, want %q", c.name, c.got, c.want)
 		}
-	}
-	if strings.Join(lab, " ") != "0.01 0.1 1" {
-		t.Errorf("logTicks(0.01, 3) labels %v", lab)
-	}
-	lab = lab[:0]
-	for _, tk := range (logTicks{}).Ticks(0.5, 1.1) {
-		if tk.Label != "" {
-			lab = append(lab, tk.Label)
-		}
-	}
-	if strings.Join(lab, " ") != "0.5 0.6 0.7 0.8 0.9 1" {
-		t.Errorf("logTicks(0.5, 1.1) labels %v", lab)
-	}
-	// A span holding one multiple of its decade falls back to 1-2-5 steps.
-	lab = lab[:0]
-	for _, tk := range (logTicks{}).Ticks(0.862, 0.903) {
-		if tk.Label != "" {
-			lab = append(lab, tk.Label)
-		}
-	}
-	if strings.Join(lab, " ") != "0.87 0.88 0.89 0.9" {
-		t.Errorf("logTicks(0.862, 0.903) labels %v", lab)
 	}
 }
 
