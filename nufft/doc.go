@@ -5,7 +5,7 @@
 //
 // For an nx×ny image img[iy*nx+ix] with pixel size p (radians) the pixel
 // (ix, iy) sits at x = −(ix − nx/2)·p, y = (iy − ny/2)·p (integer
-// division; x east, y north; ../shared/CONVENTIONS.md). For points u_k,
+// division; x east, y north; CONVENTIONS.md at the repository root). For points u_k,
 // v_k in cycles per radian,
 //
 //	Forward: dst[k] = Σ_p img[p] · exp(−2πi (u_k x_p + v_k y_p))
