@@ -47,13 +47,14 @@ type Problem struct {
 
 // Settings control Solve. The zero value gives the documented defaults.
 type Settings struct {
-	// MaxIter is the iteration limit of the final reconstruction; 0 means 500.
+	// MaxIter is the iteration limit of the final reconstruction; 0 means DefaultMaxIter.
 	MaxIter int
 	// PathIter is the iteration limit of each step of the weight search and of the first
-	// pass on amplitudes; 0 means 100.
+	// passes (amplitudes, smoothed phases); 0 means DefaultPathIter.
 	PathIter int
 	// FTol stops a run when the objective decreased by less than FTol·max(|f|, 1) per
-	// iteration on average over the last 5 iterations; 0 means 1e-7.
+	// iteration on average over the last 10 iterations and a restart without curvature
+	// memory confirms it; 0 means DefaultFTol.
 	FTol float64
 	// PGTol is the projected-gradient norm that stops a run; 0 means the optim default.
 	PGTol float64
@@ -63,30 +64,17 @@ type Settings struct {
 	// seeded random images; the lowest objective is kept. 0 means 1, and 1 + RescueStarts
 	// when that start fits worse than the noise allows (χ²ᵣ above the larger of its
 	// expected value and the weight search's aim by more than twice its scatter √(2/N)).
-	// Measured on the validation suite: the rescue saved a point group whose one start
-	// ended at χ²ᵣ 10 times expected (relative L1 0.88 → 0.17) and changed no other default
-	// image; three starts everywhere on the 53 four-telescope cases also saved it, but raised
-	// the median L1 from 0.048 to 0.109 (flat errors) and from 0.066 to 0.137 (errors
-	// growing near nulls), since a random start that fits a little better often gives a
-	// worse image. On the simulated disc of the fidelity test likewise a random start whose
-	// objective was 0.02 % lower gave L1 0.089 against 0.046, for 3 times the time.
-	// Coarse-to-fine, measured the same way, never lowered χ²ᵣ and is off by default (L1
-	// 0.046, 0.055 and 0.079 on the simulated disc, binary and ring against 0.046, 0.040
-	// and 0.061).
+	// Why one start by default: see the package's design notes.
 	Starts int
 	// CoarseToFine first reconstructs on a grid of half the pixels (rounded up to an even
 	// number) over the same field (with the same settings, automatic weight included) and
-	// starts the full grid from its resampled image. Grids under 32 pixels ignore it.
+	// starts the full grid from its resampled image. Grids under 32 pixels ignore it. Off
+	// by default (design notes).
 	CoarseToFine bool
 	// NoAmplitudeFirst turns off the first pass on amplitude data (V², T3 and VIS
 	// amplitudes) that precedes fitting the phases. The pass runs by default when the start
 	// is a smooth blob (a Gaussian, also when StartAuto picks one, or the flat disc) and the
-	// data have both amplitudes and phases: the phase gradient scales as 1/|V| and stalls
-	// where a smooth start has |V| ≈ 0. Measured on the disc test from a Gaussian start, the
-	// pass lowered the final χ²ᵣ in 4 of 4 cases (10.9 against 13.3, 10.5 against 14.7, 2.2
-	// against 4.4, 1.8 against 1.9); from the fitted uniform-disc start it raised χ²ᵣ
-	// (4.5 against 1.04 in the worst case) and is therefore not run; on the binary test it
-	// changed nothing. (Measured before the phase terms were smoothed in the first passes.)
+	// data have both amplitudes and phases (design notes).
 	NoAmplitudeFirst bool
 	// WeightSteps is the largest number of weights tried by the automatic choice; 0 means 14.
 	WeightSteps int
@@ -546,6 +534,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		smoothing = 0
 	}
 	e.obj.SetPhaseSmoothing(smoothing)
+	var first *runOut // the smoothed-phase run at mu from x0, when done
 	ampFirst := !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(T3Phi|VisPhi) != 0
 	if ampFirst && !s.CoarseToFine && smoothStart(p.Start, g) {
 		r, err := e.run(x0, mu, use&amplitudeTypes, s.PathIter, "amplitudes")
@@ -553,10 +542,34 @@ func Solve(p Problem, s Settings) (*Result, error) {
 			return nil, err
 		}
 		x0 = r.X
+		// The amplitudes fix the image only up to a turn by 180°, which changes the sign
+		// of every closure phase. Where the phases are few or noisy, the phase fit does
+		// not turn the image over by itself: fit the smoothed phases from both
+		// orientations and go on from the lower objective.
+		// The run from the chosen orientation is the first step of the weight search, or
+		// the smoothed-phase run at a given weight.
+		if use&T3Phi != 0 {
+			a, err := e.run(x0, mu, use, s.PathIter, "smoothed phases")
+			if err != nil {
+				return nil, err
+			}
+			rot := reflect(x0, g.N)
+			b, err := e.run(rot, mu, use, s.PathIter, "smoothed phases, turned")
+			if err != nil {
+				return nil, err
+			}
+			first = &a
+			if b.F < a.F {
+				x0, first = rot, &b
+				res.Notices = append(res.Notices, fmt.Sprintf("the amplitude fit turned by 180° fitted the phases better (objective %.6g against %.6g): went on from it", b.F, a.F))
+			}
+		}
 	}
 	var edge string
 	var ws weightSearch
-	if !auto && smoothing > 0 && use&(T3Phi|VisPhi) != 0 {
+	if !auto && first != nil {
+		x0 = first.X
+	} else if !auto && smoothing > 0 && use&(T3Phi|VisPhi) != 0 {
 		// The exact phase terms are stiff where the model amplitudes pass near zero: fit
 		// the smoothed ones first, as the weight search does (measured: from the amplitude
 		// pass straight to the exact terms, a fixed-weight binary stopped at χ²ᵣ = 253).
@@ -567,7 +580,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		x0 = r.X
 	}
 	if auto {
-		ws, err = e.chooseWeight(x0, mu)
+		ws, err = e.chooseWeight(x0, mu, first)
 		res.Path = ws.path
 		if err != nil {
 			return nil, err
@@ -630,6 +643,12 @@ func Solve(p Problem, s Settings) (*Result, error) {
 				starts += RescueStarts
 			}
 		}
+	}
+	if r, ok, err := e.tryReflection(best, mu, use, s.MaxIter); err != nil {
+		return nil, err
+	} else if ok {
+		res.Notices = append(res.Notices, fmt.Sprintf("the image turned by 180° fitted better (objective %.6g against %.6g): kept it, refitted", r.F, best.F))
+		best = r
 	}
 	if len(res.StartObjectives) > 1 {
 		// Put the kept objective first.
@@ -815,7 +834,7 @@ const (
 // that stalled (moved nothing) is retried once from the search's start image and, if it
 // stalls again, is recorded as stalled and neither used nor continued from. The weight
 // returned is that of the usable run nearest to the target, preferring one at or below it.
-func (e *engine) chooseWeight(x0 []float64, mu0 float64) (weightSearch, error) {
+func (e *engine) chooseWeight(x0 []float64, mu0 float64, first *runOut) (weightSearch, error) {
 	use := e.obj.Use()
 	var ws weightSearch
 	images := map[int][]float64{}
@@ -826,9 +845,14 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64) (weightSearch, error) {
 	// it stalled twice or failed to give a finite χ²ᵣ.
 	step := func(x []float64, mu float64) (int, error) {
 		label := fmt.Sprintf("weight %d/%d", len(ws.path)+1, steps)
-		r, err := e.run(x, mu, use, e.s.PathIter, label)
-		if err != nil {
-			return -1, err
+		var r runOut
+		if first != nil && len(ws.path) == 0 && mu == mu0 && sameImage(x, x0) {
+			r = *first // done already, from x0 at μ0
+		} else {
+			var err error
+			if r, err = e.run(x, mu, use, e.s.PathIter, label); err != nil {
+				return -1, err
+			}
 		}
 		if r.Stalled && !sameImage(x, x0) {
 			r2, err := e.run(x0, mu, use, e.s.PathIter, label+" retry")
@@ -1023,6 +1047,38 @@ func sameImage(a, b []float64) bool {
 		}
 	}
 	return true
+}
+
+// tryReflection evaluates the objective at weight mu of best's image turned by 180° about
+// the centre pixel. V² and visibility amplitudes do not change under that turn; closure
+// phases change sign. With few or noisy closure phases the search can settle in the turned
+// basin, whose image fits the amplitudes as well and the phases worse; when the turned image
+// evaluates lower, it is refitted and returned with ok set if its objective stays lower.
+func (e *engine) tryReflection(best runOut, mu float64, use DataType, maxIter int) (runOut, bool, error) {
+	n := e.grid.N
+	rot := reflect(best.X, n)
+	f := e.f(mu)
+	if !(f(nil, rot) < best.F) {
+		return runOut{}, false, nil
+	}
+	r, err := e.run(rot, mu, use, maxIter, "turned by 180°")
+	if err != nil {
+		return runOut{}, false, err
+	}
+	return r, r.F < best.F, nil
+}
+
+// reflect returns img (n × n) turned by 180° about the centre pixel (n/2, n/2); the
+// first row and column, which have no partner, stay in place.
+func reflect(img []float64, n int) []float64 {
+	out := make([]float64, n*n)
+	for iy := 0; iy < n; iy++ {
+		jy := (n - iy) % n
+		for ix := 0; ix < n; ix++ {
+			out[jy*n+(n-ix)%n] = img[iy*n+ix]
+		}
+	}
+	return out
 }
 
 // recentre moves img (n × n) in place, cyclically, by the whole number of pixels that brings
