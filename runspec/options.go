@@ -199,6 +199,10 @@ var options = []option{
 			return nil
 		},
 		format: func(s *Spec) string { return formatPrior(s.Prior) }},
+	{name: "from-model", group: Model,
+		usage:  "model file (TOML as written by 'vcz fit -save-model', or the output of 'vcz fit -json') whose extent sets the default field of view and whose image is the default start",
+		parse:  func(s *Spec, _, text string) error { s.FromModel = text; return nil },
+		format: func(s *Spec) string { return s.FromModel }},
 	{name: "start", group: Recon, def: "auto",
 		usage: "start image: auto (best of a disc and a Gaussian fitted to V²), gauss[:FWHM], disc[:DIAMETER], ld[:DIAMETER[:COEF]], flat, random, or a FITS file",
 		parse: func(s *Spec, name, text string) error {
@@ -210,10 +214,6 @@ var options = []option{
 			return nil
 		},
 		format: func(s *Spec) string { return formatStart(s.Start) }},
-	{name: "from-model", group: Model,
-		usage:  "model file (TOML as written by 'vcz fit -save-model', or the output of 'vcz fit -json') whose extent sets the default field of view and whose image is the default start",
-		parse:  func(s *Spec, _, text string) error { s.FromModel = text; return nil },
-		format: func(s *Spec) string { return s.FromModel }},
 	{name: "support", group: Recon, usage: "hold pixels farther than this radius from the centre at zero, e.g. 3mas",
 		parse: func(s *Spec, name, text string) error {
 			return parsePositiveAngle(&s.Support, name, text, "a positive radius such as 3mas")
