@@ -54,10 +54,9 @@ func flagSpec(t *testing.T, g Group, args ...string) (Spec, error) {
 	return f.Spec()
 }
 
-// The zero Spec is `vcz image` without options: the problem and settings the command built
-// before the Spec existed (held equal to its imageFlags.problem on 35 command lines when
-// the Spec was introduced): grid, weight and start chosen by Solve, tv with its default
-// threshold, every data type at weight 1, seed 1, GOMAXPROCS transform workers.
+// The zero Spec is `vcz image` without options: grid, weight and start chosen by Solve, tv
+// with its default threshold, every data type at weight 1, seed 1, GOMAXPROCS transform
+// workers.
 func TestZeroSpecProblem(t *testing.T) {
 	d := data(t)
 	p, s, err := Spec{}.Problem(d)
