@@ -56,15 +56,14 @@ func simulateCase(t testing.TB, c simCase) (*Data, *model.Model) {
 	return d, m
 }
 
-// cliTV and cliMaxEnt are the regularizers as `vcz image` makes them by default: total
-// variation with the default threshold, maximum entropy with a flat prior.
-func cliTV(g Grid) (Regularizer, error) { return &regularizers.TV{NX: g.N, NY: g.N}, nil }
-func cliMaxEnt(g Grid) (Regularizer, error) {
-	p, err := regularizers.FlatPrior(g.N, g.N, 1)
-	if err != nil {
-		return nil, err
-	}
-	return &regularizers.MaxEnt{NX: g.N, NY: g.N, Prior: p}, nil
+// cliTV and cliMaxEnt are the regularizers as `vcz image` makes them from -reg tv and -reg
+// mem with the other options at their defaults: the registry's tv with the default threshold,
+// and its mem with the flat prior.
+func cliTV(g Grid) (Regularizer, error)     { return cliReg("tv", g) }
+func cliMaxEnt(g Grid) (Regularizer, error) { return cliReg("mem", g) }
+
+func cliReg(name string, g Grid) (Regularizer, error) {
+	return regularizers.Build([]regularizers.NamedTerm{{Name: name, Rel: 1}}, g.N, g.N, regularizers.Options{})
 }
 
 func fidelityOf(t testing.TB, d *Data, m *model.Model, p Problem, s Settings) (ncc, l1 float64, r *Result) {

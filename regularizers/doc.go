@@ -4,6 +4,15 @@
 // compactness (Compact, PriorDistance), and weighted sums of them (Sum),
 // together with builders of prior images and a support mask.
 //
+// # Registry
+//
+// The regularizers users name ("mem", "tv", "smooth", "compact",
+// "priordist") are rows of a registry (registry.go): name, one help line and
+// a constructor on an NX × NY grid with Options (prior image, TV
+// threshold). ParseList reads lists such as "mem,compact:0.1", weights
+// relative to the first term, and Build makes their regularizer. A new
+// regularizer is its own file plus one registry row.
+//
 // # Conventions
 //
 // An image is a row-major []float64 of NX*NY pixels, x[iy*NX+ix]; the

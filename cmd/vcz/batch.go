@@ -4,19 +4,24 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
+
+	"github.com/BurntSushi/toml"
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/preview"
 	"vcz/recon"
 	"vcz/recon/batch"
+	"vcz/runspec"
 )
 
 func init() {
@@ -34,7 +39,9 @@ Epochs run concurrently; the worker goroutines of all running epochs (their
 transforms' workers included) never exceed the number of CPUs. An epoch that
 fails is recorded with its error and the others go on; the exit status is 1
 when any failed. Each epoch's FITS header (INHASH) and its status file record
-a SHA-256 of its input files and settings; a rerun skips the epochs whose
+a SHA-256 of its input files and the canonical text of its options (the
+options that differ from the defaults, the worker count left out, also in
+the FITS header as "option:" HISTORY cards); a rerun skips the epochs whose
 outputs are complete with the same hash (-force redoes them). Every file is
 written to a temporary name and renamed, and the status file last, so a run
 killed at any moment loses no finished epoch.
@@ -52,10 +59,11 @@ draws the montage and animation.
 
 Job file (TOML; paths relative to the job file):
   output = "epochs"              output folder (-out overrides)
-  [image]                        shared settings, the 'vcz image' options:
-    target, wave, mjd, instruments, use, grid (pixels per side), pixel, fov,
-    regularizer, weight, prior, start, support, tv_eps, data_weights,
-    iterations, seed, starts, coarse, amplitudes_first, workers
+  [image]                        shared settings: the 'vcz image' options,
+                                 each key the flag's name without the dash:
+    target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
+    support, tv-eps, data-weights, iter, seed, starts, coarse, no-amp-first,
+    workers (e.g. n = 64, reg = "mem,compact:0.1", coarse = true)
   [[epoch]]
     name = "night-1"             used for the output names (default epoch-NN)
     files = ["a.oifits", "b.oifits"]
@@ -73,101 +81,21 @@ With -joint also:
                                MJD of each plane in keys MJDnnn)
   EPOCH-joint.fits/.png        its planes as images`
 
-// jobSettings are the image options of a job file; nil fields are not set.
-type jobSettings struct {
-	Target          *string  `toml:"target"`
-	Wave            *string  `toml:"wave"`
-	MJD             *string  `toml:"mjd"`
-	Instruments     *string  `toml:"instruments"`
-	Use             *string  `toml:"use"`
-	Grid            *int     `toml:"grid"`
-	Pixel           *string  `toml:"pixel"`
-	FOV             *string  `toml:"fov"`
-	Regularizer     *string  `toml:"regularizer"`
-	Weight          any      `toml:"weight"`
-	Prior           *string  `toml:"prior"`
-	Start           *string  `toml:"start"`
-	Support         *string  `toml:"support"`
-	TVEps           *float64 `toml:"tv_eps"`
-	DataWeights     *string  `toml:"data_weights"`
-	Iterations      *int     `toml:"iterations"`
-	Seed            *int64   `toml:"seed"`
-	Starts          *int     `toml:"starts"`
-	Coarse          *bool    `toml:"coarse"`
-	AmplitudesFirst *bool    `toml:"amplitudes_first"`
-	Workers         *int     `toml:"workers"`
-}
-
-type jobEpoch struct {
-	Name  string   `toml:"name"`
-	Files []string `toml:"files"`
-	jobSettings
-}
-
+// jobFile is a job file. The option tables [image] and [[epoch]] are decoded as TOML
+// tables whose keys are the flag names (runspec.Spec.SetTable); an epoch also has its name
+// and files.
 type jobFile struct {
-	Output string      `toml:"output"`
-	Image  jobSettings `toml:"image"`
-	Epoch  []jobEpoch  `toml:"epoch"`
+	Output string           `toml:"output"`
+	Image  map[string]any   `toml:"image"`
+	Epoch  []map[string]any `toml:"epoch"`
 }
 
-// apply sets the fields of f given in s.
-func (s *jobSettings) apply(f *imageFlags) error {
-	set := func(dst *string, v *string) {
-		if v != nil {
-			*dst = *v
-		}
-	}
-	set(&f.sel.target, s.Target)
-	set(&f.sel.wave, s.Wave)
-	set(&f.sel.mjd, s.MJD)
-	set(&f.sel.ins, s.Instruments)
-	set(&f.sel.use, s.Use)
-	set(&f.pixel, s.Pixel)
-	set(&f.fov, s.FOV)
-	set(&f.reg, s.Regularizer)
-	set(&f.prior, s.Prior)
-	set(&f.start, s.Start)
-	set(&f.support, s.Support)
-	set(&f.weights, s.DataWeights)
-	if s.Grid != nil {
-		f.n = *s.Grid
-	}
-	switch w := s.Weight.(type) {
-	case nil:
-	case string:
-		f.weight = w
-	case int64:
-		f.weight = fmt.Sprint(w)
-	case float64:
-		f.weight = fmt.Sprint(w)
-	default:
-		return fmt.Errorf("weight: want a number or \"auto\", not %v", w)
-	}
-	if s.TVEps != nil {
-		f.tvEps = *s.TVEps
-	}
-	if s.Iterations != nil {
-		f.iter = *s.Iterations
-	}
-	if s.Seed != nil {
-		if *s.Seed < 0 {
-			return fmt.Errorf("seed %d must not be negative", *s.Seed)
-		}
-		f.seed = uint64(*s.Seed)
-	}
-	if s.Starts != nil {
-		f.starts = *s.Starts
-	}
-	if s.Coarse != nil {
-		f.coarse = *s.Coarse
-	}
-	if s.AmplitudesFirst != nil {
-		f.noAmp = !*s.AmplitudesFirst
-	}
-	if s.Workers != nil {
-		f.workers = *s.Workers
-	}
-	return nil
+// renamedKeys are the job-file keys of earlier versions, which named some options
+// differently from their flags, with a hint for the message of an unknown key.
+var renamedKeys = map[string]string{
+	"regularizer": "reg", "grid": "n", "iterations": "iter", "tv_eps": "tv-eps",
+	"data_weights": "data-weights", "instruments": "ins",
+	"amplitudes_first": "no-amp-first (true skips the first pass on amplitudes)",
 }
 
 // batchEpoch is one epoch to image.
@@ -175,23 +103,20 @@ type batchEpoch struct {
 	index  int
 	name   string
 	files  []string
-	flags  imageFlags
+	spec   runspec.Spec
 	mjdMin float64 // of the split, or of the data once read; 0 when unknown
 	mjdMax float64
 }
 
-// settingsText is the canonical text of the options that change an epoch's image,
-// hashed with its files. Worker counts do not change the image and are left out.
+// settingsText is the text hashed with an epoch's files: the canonical text of its
+// options, which leaves out the worker count (the image does not depend on it).
 func (e *batchEpoch) settingsText() string {
-	f := e.flags
-	return fmt.Sprintf("vcz batch v1\nsel=%+v\nn=%d pixel=%q fov=%q reg=%q weight=%q prior=%q start=%q support=%q tveps=%g weights=%q iter=%d seed=%d starts=%d coarse=%t noamp=%t\n",
-		f.sel, f.n, f.pixel, f.fov, f.reg, f.weight, f.prior, f.start, f.support, f.tvEps, f.weights, f.iter, f.seed, f.starts, f.coarse, f.noAmp)
+	return "vcz batch v2\n" + e.spec.String()
 }
 
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
-	var f imageFlags
-	f.register(fs)
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
 	job := fs.String("job", "", "job file (TOML) listing the epochs and their settings")
 	out := fs.String("out", "", "output folder (default: the job file's output, else batch)")
 	gap := fs.Float64("gap", recon.NightGap, "split FILE arguments into epochs at gaps in MJD longer than this (days)")
@@ -216,7 +141,11 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		}
 		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict)
 	}
-	epochs, jobOut, err := batchEpochs(*job, fs.Args(), &f, *gap)
+	shared, err := opts.Spec()
+	if err != nil {
+		return badInputf("batch: %v", err)
+	}
+	epochs, jobOut, err := batchEpochs(*job, fs.Args(), shared, *gap)
 	if err != nil {
 		return err
 	}
@@ -266,15 +195,15 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	// Each epoch gets an equal part of the budget when the user did not fix its workers.
 	conc := min(len(mine), budget)
 	for _, e := range mine {
-		if e.flags.workers == 0 {
-			e.flags.workers = max(1, budget/max(conc, 1))
+		if e.spec.Workers == 0 {
+			e.spec.Workers = max(1, budget/max(conc, 1))
 		}
 	}
 	rows := make([]batch.Row, len(mine))
 	disp := newBatchDisplay(stderr, *quiet, mine, rows)
 	jobs := make([]batch.Job, len(mine))
 	for i, e := range mine {
-		jobs[i] = batch.Job{Workers: e.flags.workers, Do: func() error {
+		jobs[i] = batch.Job{Workers: e.spec.Workers, Do: func() error {
 			r := runEpoch(e, *out, *force)
 			rows[i] = r
 			if r.Status != batch.StateDone {
@@ -334,7 +263,7 @@ func printBatchWarnings(w io.Writer, s *batch.Summary) int {
 }
 
 // batchEpochs builds the epoch list from a job file or from files split at gaps.
-func batchEpochs(job string, files []string, shared *imageFlags, gap float64) ([]*batchEpoch, string, error) {
+func batchEpochs(job string, files []string, shared runspec.Spec, gap float64) ([]*batchEpoch, string, error) {
 	if job != "" {
 		if len(files) > 0 {
 			return nil, "", badInputf("batch: give either -job or OIFITS files, not both")
@@ -366,7 +295,7 @@ func batchEpochs(job string, files []string, shared *imageFlags, gap float64) ([
 	}
 	var epochs []*batchEpoch
 	for _, r := range batch.Clusters(all, gap) {
-		e := &batchEpoch{flags: *shared, mjdMin: r.Min, mjdMax: r.Max}
+		e := &batchEpoch{spec: shared, mjdMin: r.Min, mjdMax: r.Max}
 		for i, s := range spans {
 			for _, m := range s.mjd {
 				if m >= r.Min && m <= r.Max {
@@ -377,14 +306,14 @@ func batchEpochs(job string, files []string, shared *imageFlags, gap float64) ([
 		}
 		// Select the epoch's rows of files that span several epochs; the margin keeps rows
 		// at the ends whatever the rounding of the MJD column.
-		if e.flags.sel.mjd == "" {
-			e.flags.sel.mjd = fmt.Sprintf("%.6f:%.6f", r.Min-1e-5, r.Max+1e-5)
+		if e.spec.MJDMin == 0 && e.spec.MJDMax == 0 {
+			e.spec.MJDMin, e.spec.MJDMax = roundMJD(r.Min-1e-5), roundMJD(r.Max+1e-5)
 		}
 		epochs = append(epochs, e)
 	}
 	for i, s := range spans {
 		if s.err != nil {
-			epochs = append(epochs, &batchEpoch{flags: *shared, files: []string{files[i]}, mjdMin: math.Inf(1), mjdMax: math.Inf(1)})
+			epochs = append(epochs, &batchEpoch{spec: shared, files: []string{files[i]}, mjdMin: math.Inf(1), mjdMax: math.Inf(1)})
 		}
 	}
 	sort.SliceStable(epochs, func(a, b int) bool { return epochs[a].mjdMin < epochs[b].mjdMin })
@@ -422,8 +351,15 @@ func fileMJDs(f *oifits.File) []float64 {
 	return m
 }
 
-// readJobFile reads a job file; unknown keys are errors naming the key and its line.
-func readJobFile(path string, shared *imageFlags) ([]*batchEpoch, string, error) {
+// roundMJD rounds an MJD to 6 decimals (0.09 s), as the epochs' selections are written.
+func roundMJD(m float64) float64 {
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(m, 'f', 6, 64), 64)
+	return r
+}
+
+// readJobFile reads a job file; the options of each epoch start from shared. Unknown keys
+// are errors naming the key and its line.
+func readJobFile(path string, shared runspec.Spec) ([]*batchEpoch, string, error) {
 	src, err := os.ReadFile(path)
 	if err != nil {
 		return nil, "", badInput(err)
@@ -435,10 +371,23 @@ func readJobFile(path string, shared *imageFlags) ([]*batchEpoch, string, error)
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
-		return nil, "", badInputf("%s:%d: unknown key %s (see 'vcz batch --help')", path, keyLine(src, k), k.String())
+		return nil, "", badInputf("%s:%d: unknown key %s (see 'vcz batch --help')", path, keyLine(src, k, -1), k.String())
 	}
-	if err := jf.Image.apply(shared); err != nil {
-		return nil, "", badInputf("%s: [image] %v", path, err)
+	// optionErr reports a bad key of the table (image, or the index-th epoch) as the
+	// others: an unknown key with its line, a bad value after where.
+	optionErr := func(err error, table string, index int, where string) error {
+		var oe *runspec.OptionError
+		if errors.As(err, &oe) && errors.Is(err, runspec.ErrUnknownOption) {
+			hint := ""
+			if h, ok := renamedKeys[oe.Option]; ok {
+				hint = "; job keys are the flag names: " + h
+			}
+			return badInputf("%s:%d: unknown key %s.%s (see 'vcz batch --help'%s)", path, keyLine(src, toml.Key{table, oe.Option}, index), table, oe.Option, hint)
+		}
+		return badInputf("%s: %s %v", path, where, err)
+	}
+	if err := shared.SetTable(jf.Image, runspec.Select|runspec.Types|runspec.Recon); err != nil {
+		return nil, "", optionErr(err, "image", -1, "[image]")
 	}
 	if len(jf.Epoch) == 0 {
 		return nil, "", badInputf("%s: no [[epoch]] listed", path)
@@ -446,8 +395,17 @@ func readJobFile(path string, shared *imageFlags) ([]*batchEpoch, string, error)
 	dir := filepath.Dir(path)
 	seen := map[string]bool{}
 	var epochs []*batchEpoch
-	for i, je := range jf.Epoch {
-		e := &batchEpoch{index: i, name: strings.TrimSpace(je.Name), flags: *shared}
+	for i, tbl := range jf.Epoch {
+		opts := maps.Clone(tbl)
+		delete(opts, "name")
+		delete(opts, "files")
+		name := ""
+		if v, ok := tbl["name"]; ok {
+			if name, ok = v.(string); !ok {
+				return nil, "", badInputf("%s: epoch %d: name %v: want a string", path, i+1, v)
+			}
+		}
+		e := &batchEpoch{index: i, name: strings.TrimSpace(name), spec: shared}
 		if e.name == "" {
 			e.name = fmt.Sprintf("epoch-%02d", i+1)
 		}
@@ -458,17 +416,22 @@ func readJobFile(path string, shared *imageFlags) ([]*batchEpoch, string, error)
 			return nil, "", badInputf("%s: epoch %d: name %q is used twice", path, i+1, e.name)
 		}
 		seen[e.name] = true
-		if len(je.Files) == 0 {
+		list, _ := tbl["files"].([]any)
+		if len(list) == 0 {
 			return nil, "", badInputf("%s: epoch %q lists no files", path, e.name)
 		}
-		for _, p := range je.Files {
+		for _, v := range list {
+			p, ok := v.(string)
+			if !ok {
+				return nil, "", badInputf("%s: epoch %q: files: %v is not a file name", path, e.name, v)
+			}
 			if !filepath.IsAbs(p) {
 				p = filepath.Join(dir, p)
 			}
 			e.files = append(e.files, p)
 		}
-		if err := je.jobSettings.apply(&e.flags); err != nil {
-			return nil, "", badInputf("%s: epoch %q: %v", path, e.name, err)
+		if err := e.spec.SetTable(opts, runspec.Select|runspec.Types|runspec.Recon); err != nil {
+			return nil, "", optionErr(err, "epoch", i, fmt.Sprintf("epoch %q:", e.name))
 		}
 		epochs = append(epochs, e)
 	}
@@ -504,20 +467,15 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 			return r
 		}
 	}
-	sel, err := e.flags.sel.selection()
-	if err != nil {
-		return fail(err)
-	}
-	files, d, err := readData(e.files, sel)
+	files, d, err := readData(e.files, e.spec.Selection())
 	if err != nil {
 		return fail(err)
 	}
 	if lo, hi, ok := dataMJDRange(d); ok {
 		row.MJDMin, row.MJDMax = lo, hi
 	}
-	f := e.flags
 	fitsPath := filepath.Join(out, e.name+".fits")
-	sum, err := reconstruct(files, d, &f, fitsPath, true, false, true, io.Discard)
+	sum, err := reconstruct(files, d, e.spec, preview.Linear, fitsPath, true, false, true, io.Discard)
 	if err != nil {
 		return fail(err)
 	}

@@ -21,7 +21,9 @@ func tomlDecode(src []byte, v any) (toml.MetaData, error) {
 	return toml.Decode(string(src), v)
 }
 
-func keyLine(src []byte, k toml.Key) int { return model.KeyLine(src, k, -1) }
+// keyLine is the line of key k in a TOML source, in the index-th element of an array of
+// tables (any element when index < 0).
+func keyLine(src []byte, k toml.Key, index int) int { return model.KeyLine(src, k, index) }
 
 func runtimeProcs() int { return runtime.GOMAXPROCS(0) }
 
@@ -33,17 +35,12 @@ func commonGrid(epochs []*batchEpoch) error {
 	}
 	var lastErr error
 	for _, e := range epochs {
-		sel, err := e.flags.sel.selection()
-		if err != nil {
-			return badInputf("batch: %v", err)
-		}
-		_, d, err := readData(e.files, sel)
+		_, d, err := readData(e.files, e.spec.Selection())
 		if err != nil {
 			lastErr = err
 			continue
 		}
-		f := e.flags
-		p, _, err := f.problem(d)
+		p, _, err := e.spec.Problem(d)
 		if err != nil {
 			return badInput(err)
 		}
@@ -53,7 +50,7 @@ func commonGrid(epochs []*batchEpoch) error {
 			continue
 		}
 		for _, o := range epochs {
-			o.flags.n, o.flags.pixel, o.flags.fov = ch.N, fmt.Sprintf("%.12gmas", ch.Pixel/recon.Mas), ""
+			o.spec.Grid, o.spec.Pixel, o.spec.FOV = ch.N, ch.Pixel, 0
 		}
 		return nil
 	}
@@ -82,16 +79,11 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 				e.name, g.N, g.Pixel/recon.Mas, grid.N, grid.Pixel/recon.Mas))
 		}
 		starts[t] = im.Data[:g.N*g.N]
-		sel, err := e.flags.sel.selection()
-		if err != nil {
-			return badInput(err)
-		}
-		_, d, err := readData(e.files, sel)
+		_, d, err := readData(e.files, e.spec.Selection())
 		if err != nil {
 			return err
 		}
-		f := e.flags
-		p, s, err := f.problem(d)
+		p, s, err := e.spec.Problem(d)
 		if err != nil {
 			return badInput(err)
 		}
@@ -102,7 +94,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 				return failure(err)
 			}
 		}
-		je, err := batch.NewJointEpoch(d, g, p.Terms, reg, rows[t].Weight, e.flags.workers)
+		je, err := batch.NewJointEpoch(d, g, p.Terms, reg, rows[t].Weight, e.spec.Workers)
 		if err != nil {
 			return failure(fmt.Errorf("epoch %s: %w", e.name, err))
 		}

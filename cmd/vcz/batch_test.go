@@ -1,7 +1,9 @@
 package main
 
 import (
+	"flag"
 	"fmt"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -13,9 +15,11 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
+	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
+	"vcz/runspec"
 )
 
 // writeEpoch simulates one small night of an invented target (three hour angles, two
@@ -67,7 +71,7 @@ func TestBatchFailureRerunForce(t *testing.T) {
 	job := filepath.Join(dir, "job.toml")
 	src := `output = "out"
 [image]
-regularizer = "tv"
+reg = "tv"
 seed = 3
 
 [[epoch]]
@@ -152,14 +156,28 @@ files = ["n3.oifits"]
 	}
 }
 
-// An unknown key of a job file is an error naming the key and its line.
+// An unknown key of a job file is an error naming the key and its line; a key of the
+// earlier job files says the name it has now, and a bad value names the key.
 func TestBatchJobUnknownKey(t *testing.T) {
 	dir := t.TempDir()
 	job := filepath.Join(dir, "job.toml")
-	os.WriteFile(job, []byte("[image]\nregularizer = \"tv\"\ncolour = 3\n[[epoch]]\nfiles = [\"a.oifits\"]\n"), 0o644)
-	_, errs, code := runCmd(t, "batch", "-job", job)
-	if code != exitBadInput || !strings.Contains(errs, "job.toml:3:") || !strings.Contains(errs, "image.colour") {
-		t.Fatalf("exit %d: %s", code, errs)
+	for _, c := range []struct{ src, want string }{
+		{"[image]\nreg = \"tv\"\ncolour = 3\n[[epoch]]\nfiles = [\"a.oifits\"]\n", "job.toml:3: unknown key image.colour (see 'vcz batch --help')"},
+		{"colour = 3\n[[epoch]]\nfiles = [\"a.oifits\"]\n", "job.toml:1: unknown key colour"},
+		{"[image]\nregularizer = \"tv\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", "job.toml:2: unknown key image.regularizer (see 'vcz batch --help'; job keys are the flag names: reg)"},
+		{"[[epoch]]\nfiles = [\"a.oifits\"]\n[[epoch]]\nfiles = [\"b.oifits\"]\niterations = 3\n", "job.toml:5: unknown key epoch.iterations (see 'vcz batch --help'; job keys are the flag names: iter)"},
+		{"[image]\npixel = \"x\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", `job.toml: [image] pixel "x": want a positive angle such as 0.25mas`},
+		{"[[epoch]]\nname = \"e\"\nfiles = [\"a.oifits\"]\nn = 33\n", `job.toml: epoch "e": n 33: the grid size must be a positive even number`},
+		{"[[epoch]]\nfiles = [\"a.oifits\"]\nseed = -3\n", `job.toml: epoch "epoch-01": seed -3 must not be negative`},
+		{"[[epoch]]\nfiles = [\"a.oifits\"]\nuse = [\"vis2\"]\n", `job.toml: epoch "epoch-01": use: want a string, number or boolean, not [vis2]`},
+	} {
+		if err := os.WriteFile(job, []byte(c.src), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		_, errs, code := runCmd(t, "batch", "-job", job)
+		if code != exitBadInput || !strings.Contains(errs, c.want) || strings.Count(errs, "\n") != 1 {
+			t.Errorf("%q: exit %d, %q; want %q", c.src, code, errs, c.want)
+		}
 	}
 }
 
@@ -328,17 +346,40 @@ func TestBatchJoint(t *testing.T) {
 	}
 }
 
+// batch --help lists every option of a job file, and the hash of an epoch does not depend
+// on its worker count (the image does not).
+func TestBatchJobKeysAndHash(t *testing.T) {
+	fs := newFlagSet("x", "", "", io.Discard)
+	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
+	fs.VisitAll(func(f *flag.Flag) {
+		if !strings.Contains(batchDoc, " "+f.Name+",") && !strings.Contains(batchDoc, " "+f.Name+" (") {
+			t.Errorf("batch --help does not list the job key %s", f.Name)
+		}
+	})
+	a := &batchEpoch{spec: runspec.Spec{Grid: 64, Workers: 1}}
+	b := &batchEpoch{spec: runspec.Spec{Grid: 64, Workers: 7}}
+	c := &batchEpoch{spec: runspec.Spec{Grid: 64, Iterations: 10}}
+	if a.settingsText() != b.settingsText() || a.settingsText() == c.settingsText() {
+		t.Errorf("settings texts %q, %q, %q", a.settingsText(), b.settingsText(), c.settingsText())
+	}
+	ha, err1 := batch.Hash(a.settingsText(), nil)
+	hb, err2 := batch.Hash(b.settingsText(), nil)
+	if err1 != nil || err2 != nil || ha != hb {
+		t.Errorf("hashes %s, %s (%v, %v)", ha, hb, err1, err2)
+	}
+}
+
 // The example job file reads: four epochs, the shared settings and the overrides.
 func TestBatchExampleJob(t *testing.T) {
-	var f imageFlags
-	epochs, out, err := readJobFile(filepath.Join("..", "..", "examples", "batch", "job.toml"), &f)
+	epochs, out, err := readJobFile(filepath.Join("..", "..", "examples", "batch", "job.toml"), runspec.Spec{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if len(epochs) != 4 || filepath.Base(out) != "vaeloris-epochs" || len(epochs[1].files) != 2 {
 		t.Fatalf("%d epochs, output %q", len(epochs), out)
 	}
-	if epochs[0].flags.n != 64 || epochs[0].flags.sel.use != "vis2,t3phi" || epochs[2].flags.sel.use != "vis2" || epochs[3].flags.sel.wave == "" {
-		t.Fatalf("settings %+v / %+v", epochs[0].flags, epochs[2].flags)
+	e0, e2, e3 := epochs[0].spec, epochs[2].spec, epochs[3].spec
+	if e0.Grid != 64 || e0.Iterations != 300 || *e0.Seed != 7 || e0.Use != recon.Vis2|recon.T3Phi || e2.Use != recon.Vis2 || e3.WaveMax == 0 {
+		t.Fatalf("settings %+v / %+v", e0, e2)
 	}
 }

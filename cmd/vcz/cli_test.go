@@ -89,27 +89,6 @@ func TestBadFileMessage(t *testing.T) {
 	}
 }
 
-func TestParseAngle(t *testing.T) {
-	for _, c := range []struct {
-		in   string
-		want float64 // mas
-	}{{"0.25mas", 0.25}, {"250uas", 0.25}, {"0.001arcsec", 1}, {"2", 2}, {"1.5 mas", 1.5}} {
-		got, err := parseAngle(c.in)
-		if err != nil {
-			t.Errorf("%q: %v", c.in, err)
-			continue
-		}
-		if d := got/masRad - c.want; d > 1e-12*c.want || d < -1e-12*c.want {
-			t.Errorf("%q = %g mas, want %g", c.in, got/masRad, c.want)
-		}
-	}
-	for _, bad := range []string{"", "mas", "1.2furlong", "x1mas"} {
-		if _, err := parseAngle(bad); err == nil {
-			t.Errorf("%q: no error", bad)
-		}
-	}
-}
-
 // masRad is one milliarcsecond in radians, π/(180·3600·1000) by definition.
 const masRad = 3.141592653589793 / (180 * 3600 * 1000)
 
@@ -274,12 +253,11 @@ func TestInterspersedFlags(t *testing.T) {
 // TestParseStretch checks the names of -stretch against the stretches of io/preview.
 func TestParseStretch(t *testing.T) {
 	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Linear} {
-		f := imageFlags{stretch: in}
-		if err := f.parseStretch(); err != nil || f.stretchVal != want {
-			t.Errorf("%q: %v, %v; want %v", in, f.stretchVal, err, want)
+		if got, err := parseStretch(in); err != nil || got != want {
+			t.Errorf("%q: %v, %v; want %v", in, got, err, want)
 		}
 	}
-	if f := (imageFlags{stretch: "gamma"}); f.parseStretch() == nil {
+	if _, err := parseStretch("gamma"); err == nil {
 		t.Error("gamma: no error")
 	}
 }

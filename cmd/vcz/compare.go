@@ -13,7 +13,10 @@ import (
 	"time"
 
 	"vcz/io/oifits"
+	"vcz/io/preview"
 	"vcz/recon"
+	"vcz/regularizers"
+	"vcz/runspec"
 )
 
 const compareDoc = `Reconstruct the same data with several regularizers (all of them by default)
@@ -52,6 +55,7 @@ the JSON (a "warnings" list per row); -strict makes any warning exit 1.`
 // compareRun is one regularizer's reconstruction in a comparison.
 type compareRun struct {
 	name     string
+	spec     runspec.Spec
 	problem  recon.Problem
 	settings recon.Settings
 
@@ -60,9 +64,11 @@ type compareRun struct {
 	seconds float64
 }
 
-// compareFlags are the options of compare beyond those of image.
+// compareFlags are the options of compare.
 type compareFlags struct {
-	img      imageFlags
+	spec     runspec.Spec    // the image options but -reg
+	regs     string          // -reg: names of single regularizers, or all
+	stretch  preview.Stretch // -stretch
 	weights  string
 	parallel int
 	out      string
@@ -78,13 +84,9 @@ func init() {
 func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
 	var cf compareFlags
-	cf.img.register(fs)
-	cf.img.registerStretch(fs)
-	cf.img.reg = "all"
-	if fl := fs.Lookup("reg"); fl != nil {
-		fl.DefValue = "all"
-		fl.Usage = "regularizers to compare, comma-separated from " + regList() + ", or all"
-	}
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon, "reg")
+	stretch := registerStretch(fs)
+	fs.StringVar(&cf.regs, "reg", "all", "regularizers to compare, comma-separated from "+regularizers.NameList()+", or all")
 	if fl := fs.Lookup("weight"); fl != nil {
 		fl.Usage = "regularization weight μ of every regularizer, or auto (chosen from the data: χ²ᵣ between the floor of the least-regularized images and its expected value, about 1)"
 	}
@@ -107,14 +109,15 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if cf.parallel < 0 {
 		return badInputf("compare: -parallel %d must not be negative", cf.parallel)
 	}
-	if err := cf.img.parseStretch(); err != nil {
-		return badInputf("compare: %v", err)
-	}
-	sel, err := cf.img.sel.selection()
+	st, err := parseStretch(*stretch)
 	if err != nil {
 		return badInputf("compare: %v", err)
 	}
-	files, d, err := readData(fs.Args(), sel)
+	cf.stretch = st
+	if cf.spec, err = opts.Spec(); err != nil {
+		return badInputf("compare: %v", err)
+	}
+	files, d, err := readData(fs.Args(), cf.spec.Selection())
 	if err != nil {
 		return err
 	}
@@ -145,7 +148,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		prog = newMultiProgress(stderr, runs)
 	}
 	t0 := time.Now()
-	runParallel(runs, par, cf.img.workers, prog)
+	runParallel(runs, par, cf.spec.Workers, prog)
 	prog.finish()
 	rep, err := writeComparison(cf.out, files, d, choice, runs, &cf, time.Since(t0).Seconds())
 	if err != nil {
@@ -179,7 +182,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 // from the data.
 func compareRuns(d *recon.Data, cf *compareFlags) ([]*compareRun, recon.GridChoice, error) {
 	var choice recon.GridChoice
-	names, err := parseCompareRegs(cf.img.reg)
+	names, err := parseCompareRegs(cf.regs)
 	if err != nil {
 		return nil, choice, err
 	}
@@ -189,12 +192,14 @@ func compareRuns(d *recon.Data, cf *compareFlags) ([]*compareRun, recon.GridChoi
 	}
 	var runs []*compareRun
 	for i, name := range names {
-		f := cf.img // a copy: problem records the terms it used
-		f.reg = name
+		spec := cf.spec
+		spec.Regularizers = []regularizers.NamedTerm{{Name: name, Rel: 1}}
 		if w, ok := perReg[name]; ok {
-			f.weight = w
+			if err := spec.Set("weight", w); err != nil {
+				return nil, choice, fmt.Errorf("%s: %v", name, err)
+			}
 		}
-		p, s, err := f.problem(d)
+		p, s, err := spec.Problem(d)
 		if err != nil {
 			return nil, choice, fmt.Errorf("%s: %v", name, err)
 		}
@@ -204,7 +209,7 @@ func compareRuns(d *recon.Data, cf *compareFlags) ([]*compareRun, recon.GridChoi
 			}
 		}
 		p.Grid = choice.Grid
-		runs = append(runs, &compareRun{name: name, problem: p, settings: s})
+		runs = append(runs, &compareRun{name: name, spec: spec, problem: p, settings: s})
 	}
 	return runs, choice, nil
 }
@@ -215,8 +220,8 @@ func parseCompareRegs(s string) ([]string, error) {
 	s = strings.TrimSpace(s)
 	if s == "" || strings.EqualFold(s, "all") {
 		var names []string
-		for _, r := range regNames {
-			names = append(names, r.name)
+		for _, k := range regularizers.Kinds() {
+			names = append(names, k.Name)
 		}
 		return names, nil
 	}
@@ -227,8 +232,8 @@ func parseCompareRegs(s string) ([]string, error) {
 		if name == "" {
 			continue
 		}
-		if _, err := parseRegSpec(name); err != nil || strings.Contains(name, ":") {
-			return nil, fmt.Errorf("-reg: unknown regularizer %q (use %s, or all)", name, regList())
+		if _, ok := regularizers.Lookup(name); !ok {
+			return nil, fmt.Errorf("-reg: unknown regularizer %q (use %s, or all)", name, regularizers.NameList())
 		}
 		if seen[name] {
 			return nil, fmt.Errorf("-reg: %s named twice", name)
@@ -460,13 +465,12 @@ func oneLine(s string) string {
 }
 
 // compareInfo is the provenance of one regularizer's image.
-func compareInfo(files []*oifits.File, d *recon.Data, cf *compareFlags, name string, seconds float64) runInfo {
-	info := runInfo{files: d.Files, reg: name, seed: cf.img.seed, seconds: seconds, stretch: cf.img.stretchVal}
+func compareInfo(files []*oifits.File, d *recon.Data, cf *compareFlags, r *compareRun) runInfo {
+	info := runInfo{files: d.Files, reg: r.name, seed: r.settings.Seed, seconds: r.seconds, stretch: cf.stretch, options: r.spec.String()}
 	if len(d.Targets) == 1 {
 		info.target = d.Targets[0]
 		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
 	}
-	info.selText = selectionText(&cf.img)
 	info.title = imageTitle(d, info)
 	return info
 }

@@ -74,7 +74,7 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 		} else {
 			res := r.res
 			res.Grid.Reasons, res.Grid.SizeModel, res.Grid.Size = choice.Reasons, choice.SizeModel, choice.Size
-			info := compareInfo(files, d, cf, r.name, r.seconds)
+			info := compareInfo(files, d, cf, r)
 			out := filepath.Join(dir, r.name+".fits")
 			if _, err := writeResult(out, d, res, info, true, false); err != nil {
 				return nil, err
@@ -108,7 +108,7 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 	}
 	rep.Alignment = "integer-pixel shift to the cross-correlation peak with the first successful image"
 	if len(ok) > 0 {
-		if err := writeAgreement(dir, choice, ok, rep, cf.img.stretchVal); err != nil {
+		if err := writeAgreement(dir, choice, ok, rep, cf.stretch); err != nil {
 			return nil, err
 		}
 		if err := writeComparePlots(dir, d, ok); err != nil {

@@ -21,6 +21,8 @@ import (
 	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
+	"vcz/regularizers"
+	"vcz/runspec"
 )
 
 // simulateFile simulates the demo observing plan (six telescopes, 8 hour
@@ -83,8 +85,8 @@ func TestCompareBinary(t *testing.T) {
 	path := simulateFile(t, dir, "ud:diameter=1.5;point:x=1.8,y=1.2,flux=0.3")
 	out := filepath.Join(dir, "out")
 	_, rep := compareOn(t, path, out, "-n", "48", "-iter", "150", "-starts", "1")
-	if len(rep.Rows) != len(regNames) {
-		t.Fatalf("%d rows, want one per regularizer (%d)", len(rep.Rows), len(regNames))
+	if len(rep.Rows) != len(regularizers.Kinds()) {
+		t.Fatalf("%d rows, want one per regularizer (%d)", len(rep.Rows), len(regularizers.Kinds()))
 	}
 	const tx, ty, ratio = 1.8, 1.2, 0.3
 	for _, row := range rep.Rows {
@@ -133,7 +135,7 @@ func TestCompareBinary(t *testing.T) {
 			t.Errorf("%s: flux ratio %.3f, true %.3f", row.Regularizer, got, ratio)
 		}
 	}
-	checkReport(t, out, len(regNames))
+	checkReport(t, out, len(regularizers.Kinds()))
 }
 
 // TestCompareDisc reconstructs a uniform disc of 2 mas with every
@@ -318,10 +320,7 @@ func TestCompareFailure(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var cf compareFlags
-	fs := newFlagSet("compare", "", "", &bytes.Buffer{})
-	cf.img.register(fs)
-	cf.img.reg, cf.img.n, cf.img.iter, cf.img.starts = "tv,smooth", 32, 60, 1
+	cf := compareFlags{regs: "tv,smooth", spec: runspec.Spec{Grid: 32, Iterations: 60, Starts: 1}}
 	runs, choice, err := compareRuns(d, &cf)
 	if err != nil {
 		t.Fatal(err)
@@ -399,10 +398,7 @@ func BenchmarkCompare(b *testing.B) {
 		b.Fatal(err)
 	}
 	mk := func() []*compareRun {
-		var cf compareFlags
-		fs := newFlagSet("compare", "", "", &bytes.Buffer{})
-		cf.img.register(fs)
-		cf.img.reg, cf.img.n, cf.img.iter, cf.img.starts = "mem,tv,smooth,compact", 128, 100, 1
+		cf := compareFlags{regs: "mem,tv,smooth,compact", spec: runspec.Spec{Grid: 128, Iterations: 100, Starts: 1}}
 		runs, _, err := compareRuns(d, &cf)
 		if err != nil {
 			b.Fatal(err)

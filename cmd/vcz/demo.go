@@ -13,6 +13,7 @@ import (
 	"vcz/io/safefile"
 	"vcz/recon"
 	"vcz/recon/simulate"
+	"vcz/runspec"
 )
 
 // demoOIFITS is the demo data set: simulated observations of the invented
@@ -71,11 +72,9 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	rep := makeInspectReport(d)
 	fmt.Fprintf(stdout, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
-	var f imageFlags
-	defaults := newFlagSet("demo", "", "", stderr)
-	f.register(defaults) // the defaults of vcz image
 	out := filepath.Join(*dir, "vaeloris-image.fits")
-	sum, err := reconstruct(files, d, &f, out, true, true, *quiet, stderr)
+	// The zero Spec is vcz image with no option.
+	sum, err := reconstruct(files, d, runspec.Spec{}, preview.Linear, out, true, true, *quiet, stderr)
 	if err != nil {
 		return err
 	}

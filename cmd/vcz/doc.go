@@ -84,7 +84,15 @@ report.html.
 reconstructs one image per epoch, concurrently within the CPU budget,
 resumable, sharded by -shard K/N or the SLURM array variables; -collect merges
 shard summaries; -joint adds a temporal regularizer across epochs. Options
-of image apply to every epoch; -strict fails the run on any warning.
+of image apply to every epoch; -strict fails the run on any warning. In a
+job file ([image] and each [[epoch]]) the keys are the flag names without
+the dash: reg, n, iter, tv-eps, data-weights, ins, no-amp-first and so on
+(job files of earlier versions named some differently: regularizer, grid,
+iterations, tv_eps, data_weights, instruments, amplitudes_first).
+
+The FITS header of every reconstruction records the options that differ
+from the defaults as HISTORY cards "option: NAME=VALUE", the canonical
+form that batch also hashes to find finished epochs.
 
 # Demo
 

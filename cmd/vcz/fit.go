@@ -15,6 +15,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
+	"vcz/runspec"
 )
 
 const fitDoc = `Fit a parametric model (discs, limb-darkened discs, Gaussians, rings, point
@@ -124,8 +125,7 @@ func (f jfloat) MarshalJSON() ([]byte, error) {
 
 func runFit(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("fit", "-model SPEC [options] FILE...", fitDoc, stderr)
-	var sf selectionFlags
-	sf.register(fs, true)
+	selFlags := runspec.RegisterFlags(fs, runspec.Select|runspec.Types)
 	spec := fs.String("model", "", "model to fit: a TOML model file or the inline form, e.g. \"ud:diameter~3(0.5..10)\"")
 	starts := fs.Int("starts", 0, "number of starts (default: 16 when a component's x and y are both free, else 1)")
 	seed := fs.Uint64("seed", 1, "seed of the extra starts")
@@ -169,10 +169,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("fit: -model: %v", err)
 	}
-	sel, err := sf.selection()
+	selSpec, err := selFlags.Spec()
 	if err != nil {
 		return badInputf("fit: %v", err)
 	}
+	sel := selSpec.Selection()
 	files, d, err := readData(fs.Args(), sel)
 	if err != nil {
 		return err
@@ -183,7 +184,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *grid {
 		gopt := fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, Fit: opt}
 		if *gridSep != "" {
-			lo, hi, err := parseRange(*gridSep, parseAngle)
+			lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
 			if err != nil {
 				return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
 			}
@@ -237,7 +238,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *writeImage != "" {
 		px := 0.0
 		if *pixel != "" {
-			if px, err = parseAngle(*pixel); err != nil || !(px > 0) {
+			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
 				return badInputf("fit: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		} else if px = d.Summarize().Resolution / 4; !(px > 0) {

@@ -14,6 +14,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
+	"vcz/runspec"
 )
 
 // simulatedFile writes data of the model spec observed with the four-station
@@ -270,21 +271,19 @@ func hasReason(reasons []string, prefix string) bool {
 func problemFor(t *testing.T, data string, args ...string) (recon.Problem, recon.GridChoice) {
 	t.Helper()
 	fs := newFlagSet("image", "", "", io.Discard)
-	var f imageFlags
-	f.register(fs)
-	f.registerFromModel(fs)
+	opts := runspec.RegisterFlags(fs, runspec.All)
 	if err := parseFlags(fs, append(args, data), io.Discard); err != nil {
 		t.Fatal(err)
 	}
-	sel, err := f.sel.selection()
+	spec, err := opts.Spec()
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, d, err := readData(fs.Args(), sel)
+	_, d, err := readData(fs.Args(), spec.Selection())
 	if err != nil {
 		t.Fatal(err)
 	}
-	p, _, err := f.problem(d)
+	p, _, err := spec.Problem(d)
 	if err != nil {
 		t.Fatalf("%v: %v", args, err)
 	}

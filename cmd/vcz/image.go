@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"flag"
 	"fmt"
 	"io"
 	"path/filepath"
@@ -9,7 +10,9 @@ import (
 	"time"
 
 	"vcz/io/oifits"
+	"vcz/io/preview"
 	"vcz/recon"
+	"vcz/runspec"
 )
 
 const imageDoc = `Reconstruct an image from one or more OIFITS files (merged into one data set)
@@ -89,10 +92,8 @@ type pathJ struct {
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
-	var f imageFlags
-	f.register(fs)
-	f.registerFromModel(fs)
-	f.registerStretch(fs)
+	opts := runspec.RegisterFlags(fs, runspec.All)
+	stretch := registerStretch(fs)
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
 	noPNG := fs.Bool("no-png", false, "do not write the PNG preview")
 	noPlots := fs.Bool("no-plots", false, "do not write the data-fit plots")
@@ -112,18 +113,19 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err := checkOutputs(*out); err != nil {
 		return err
 	}
-	if err := f.parseStretch(); err != nil {
-		return badInputf("image: %v", err)
-	}
-	sel, err := f.sel.selection()
+	st, err := parseStretch(*stretch)
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
-	files, d, err := readData(fs.Args(), sel)
+	spec, err := opts.Spec()
+	if err != nil {
+		return badInputf("image: %v", err)
+	}
+	files, d, err := readData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
-	sum, err := reconstruct(files, d, &f, *out, !*noPNG, !*noPlots, *quiet, stderr)
+	sum, err := reconstruct(files, d, spec, st, *out, !*noPNG, !*noPlots, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -140,9 +142,26 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	return strictFailure(*strict, "image", len(sum.Warnings))
 }
 
-// reconstruct runs one reconstruction of d with the options f and writes its
-// outputs to out. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string, png, withPlots, quiet bool, stderr io.Writer) (imageSummary, error) {
+// stretchUsage is the help of -stretch, the display stretch of the PNG previews (vcz image
+// and compare).
+const stretchUsage = "display stretch of the PNG previews: linear, sqrt, asinh or log (the FITS image is not changed)"
+
+// registerStretch adds -stretch to fs.
+func registerStretch(fs *flag.FlagSet) *string { return fs.String("stretch", "linear", stretchUsage) }
+
+// parseStretch reads the value of -stretch; "" is linear.
+func parseStretch(text string) (preview.Stretch, error) {
+	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
+		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
+			return s, nil
+		}
+	}
+	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
+}
+
+// reconstruct runs one reconstruction of d as spec says and writes its outputs to out,
+// previews with the stretch st. Messages go to stderr unless quiet.
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, st preview.Stretch, out string, png, withPlots, quiet bool, stderr io.Writer) (imageSummary, error) {
 	var sum imageSummary
 	if len(d.Targets) > 1 {
 		return sum, badInputf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
@@ -150,7 +169,7 @@ func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string,
 	if d.Len(recon.AllTypes) == 0 {
 		return sum, badInputf("no usable data points after selection")
 	}
-	p, s, err := f.problem(d)
+	p, s, err := spec.Problem(d)
 	if err != nil {
 		return sum, badInput(err)
 	}
@@ -170,12 +189,12 @@ func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string,
 	if err != nil {
 		return sum, failure(err)
 	}
-	info := runInfo{files: d.Files, reg: regLabel(f.usedRegs), seed: f.seed, seconds: time.Since(t0).Seconds(), stretch: f.stretchVal}
+	info := runInfo{files: d.Files, reg: spec.RegularizerLabel(), seed: s.Seed, seconds: time.Since(t0).Seconds(), stretch: st}
 	if len(d.Targets) == 1 {
 		info.target = d.Targets[0]
 		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
 	}
-	info.selText = selectionText(f)
+	info.options = spec.String()
 	info.title = imageTitle(d, info)
 	paths, err := writeResult(out, d, res, info, png, withPlots)
 	if err != nil {
@@ -183,22 +202,6 @@ func reconstruct(files []*oifits.File, d *recon.Data, f *imageFlags, out string,
 	}
 	sum = makeImageSummary(res, info, paths)
 	return sum, nil
-}
-
-// selectionText describes the selection options for the provenance.
-func selectionText(f *imageFlags) string {
-	var parts []string
-	add := func(k, v string) {
-		if v != "" {
-			parts = append(parts, k+"="+v)
-		}
-	}
-	add("target", f.sel.target)
-	add("wave", f.sel.wave)
-	add("mjd", f.sel.mjd)
-	add("ins", f.sel.ins)
-	add("use", f.sel.use)
-	return strings.Join(parts, " ")
 }
 
 func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageSummary {
@@ -235,8 +238,8 @@ func printImageSummary(w io.Writer, s imageSummary) {
 	}
 	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
-	for _, tn := range typeNames {
-		name := tn.t.String()
+	for _, t := range recon.DataTypes() {
+		name := t.String()
 		if c, ok := s.Chi2ByType[name]; ok {
 			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)
 		}

@@ -11,6 +11,7 @@ import (
 
 	"vcz/io/plots"
 	"vcz/recon"
+	"vcz/runspec"
 )
 
 const inspectDoc = `Summarise one or more OIFITS files, merged into one data set: targets,
@@ -72,8 +73,7 @@ type inspectGrid struct {
 
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
-	var sel selectionFlags
-	sel.register(fs, false)
+	selFlags := runspec.RegisterFlags(fs, runspec.Select)
 	asJSON := fs.Bool("json", false, "print the summary as one JSON object on stdout")
 	plotDir := fs.String("plot", "", "write PNG plots of the data into this folder (made if missing)")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -82,11 +82,11 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() == 0 {
 		return badInputf("inspect: no OIFITS file given (run 'vcz inspect --help')")
 	}
-	s, err := sel.selection()
+	spec, err := selFlags.Spec()
 	if err != nil {
 		return badInputf("inspect: %v", err)
 	}
-	_, d, err := readData(fs.Args(), s)
+	_, d, err := readData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}

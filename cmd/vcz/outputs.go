@@ -19,7 +19,7 @@ import (
 type runInfo struct {
 	files    []string
 	target   string
-	selText  string
+	options  string // canonical text of the run's options (runspec.Spec.String)
 	reg      string
 	seed     uint64
 	ra, dec  float64
@@ -91,8 +91,10 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 	for i, f := range info.files {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
 	}
-	if info.selText != "" {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "selection: " + info.selText})
+	for _, line := range strings.Split(strings.TrimSuffix(info.options, "\n"), "\n") {
+		if line != "" {
+			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
+		}
 	}
 	for _, r := range res.Grid.Reasons {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + r})

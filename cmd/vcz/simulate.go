@@ -10,6 +10,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
+	"vcz/runspec"
 )
 
 const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
@@ -102,7 +103,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if *writeImage != "" {
 		px := 0.0
 		if *pixel != "" {
-			if px, err = parseAngle(*pixel); err != nil || !(px > 0) {
+			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
 				return badInputf("simulate: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		} else {

@@ -4,51 +4,26 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"runtime"
 	"sync"
 	"time"
 
 	"vcz/recon"
-	"vcz/regularizers"
+	"vcz/runspec"
 )
 
 // DefaultProblem returns the reconstruction problem and settings that `vcz image DATA -o
-// OUT.fits` builds from d with every option at its default. It mirrors imageFlags.problem
-// and parseRegSpec / regularizerFunc of cmd/vcz (imageopts.go, regspec.go) and must follow
-// them when the command's defaults change:
-//
-//   - grid: recon.ChooseGrid with zero GridOptions, chosen inside Solve (-n, -pixel, -fov
-//     unset);
-//   - regularizer: -reg tv alone, i.e. regularizers.TV on the grid with Eps 0 (its default
-//     edge threshold, -tv-eps 0) and the default reference mean;
-//   - weight: -weight auto, i.e. Problem.Weight 0 (the automatic choice of Solve);
-//   - start: -start auto, i.e. recon.Start{Kind: recon.StartAuto};
-//   - data weights 1 for every type, every type used (-data-weights and -use unset), no
-//     support;
-//   - settings: -seed 1, -iter, -starts, -coarse and -no-amp-first at their zero values,
-//     -workers 0, i.e. GOMAXPROCS transform workers.
-//
-// Like the command it refuses data with several targets or no usable point.
+// OUT.fits` builds from d with every option at its default: the zero runspec.Spec (grid,
+// weight and start chosen from the data, tv with its default edge threshold, every data
+// type at weight 1, seed 1, GOMAXPROCS transform workers). Like the command it refuses
+// data with several targets or no usable point.
 func DefaultProblem(d *recon.Data) (recon.Problem, recon.Settings, error) {
-	p := recon.Problem{Data: d}
-	var s recon.Settings
 	if len(d.Targets) > 1 {
-		return p, s, fmt.Errorf("validate: the data hold %d targets", len(d.Targets))
+		return recon.Problem{Data: d}, recon.Settings{}, fmt.Errorf("validate: the data hold %d targets", len(d.Targets))
 	}
 	if d.Len(recon.AllTypes) == 0 {
-		return p, s, errors.New("validate: no usable data points")
+		return recon.Problem{Data: d}, recon.Settings{}, errors.New("validate: no usable data points")
 	}
-	p.Reg = func(g recon.Grid) (recon.Regularizer, error) {
-		return &regularizers.TV{NX: g.N, NY: g.N, Eps: 0}, nil
-	}
-	p.Weight = 0
-	p.Start = recon.Start{Kind: recon.StartAuto}
-	for i := range p.Terms.Weights {
-		p.Terms.Weights[i] = 1
-	}
-	s.Seed = 1
-	s.Workers = runtime.GOMAXPROCS(0)
-	return p, s, nil
+	return runspec.Spec{}.Problem(d)
 }
 
 // Outcome is one reconstruction scored against the truth.

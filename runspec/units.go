@@ -1,0 +1,199 @@
+package runspec
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"vcz/recon"
+)
+
+// angleUnits and waveUnits are the units users may write, in radians and metres.
+var (
+	angleUnits = map[string]float64{
+		"uas": recon.Mas / 1000, "µas": recon.Mas / 1000, "mas": recon.Mas,
+		"arcsec": recon.Mas * 1000, "as": recon.Mas * 1000, "deg": math.Pi / 180, "rad": 1,
+	}
+	waveUnits = map[string]float64{"nm": 1e-9, "um": 1e-6, "µm": 1e-6, "micron": 1e-6, "m": 1}
+)
+
+// ParseAngle reads an angle with a unit (uas, mas, arcsec, deg, rad); a bare number is in
+// milliarcseconds. The result is in radians.
+func ParseAngle(s string) (float64, error) { return parseWithUnit(s, "mas", angleUnits) }
+
+// ParseWavelength reads a wavelength with a unit (nm, um, µm, m); a bare number is in
+// micrometres. The result is in metres.
+func ParseWavelength(s string) (float64, error) { return parseWithUnit(s, "um", waveUnits) }
+
+func parseWithUnit(s, def string, units map[string]float64) (float64, error) {
+	s = strings.TrimSpace(s)
+	i := len(s)
+	for i > 0 && !strings.ContainsRune("0123456789.", rune(s[i-1])) {
+		i--
+	}
+	num, unit := s[:i], strings.TrimSpace(s[i:])
+	if unit == "" {
+		unit = def
+	}
+	f, ok := units[unit]
+	if !ok {
+		names := make([]string, 0, len(units))
+		for k := range units {
+			names = append(names, k)
+		}
+		sort.Strings(names)
+		return 0, fmt.Errorf("unknown unit %q in %q (use %s)", unit, s, strings.Join(names, ", "))
+	}
+	x, err := strconv.ParseFloat(num, 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return 0, fmt.Errorf("%q is not a number with a unit", s)
+	}
+	return x * f, nil
+}
+
+// formatWithUnit writes x (in the base unit, factor 1) in the given unit with the fewest
+// digits that parseWithUnit reads back as exactly x, and in the base unit when no
+// precision does.
+func formatWithUnit(x float64, unit string, units map[string]float64, base string) string {
+	f := units[unit]
+	for prec := 1; prec <= 17; prec++ {
+		s := strconv.FormatFloat(x/f, 'g', prec, 64) + unit
+		if y, err := parseWithUnit(s, unit, units); err == nil && y == x {
+			return s
+		}
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64) + base
+}
+
+// formatAngle writes an angle in radians in mas, exactly ("" for 0).
+func formatAngle(x float64) string {
+	if x == 0 {
+		return ""
+	}
+	return formatWithUnit(x, "mas", angleUnits, "rad")
+}
+
+// formatWavelength writes a wavelength in metres in µm, exactly ("" for 0).
+func formatWavelength(x float64) string {
+	if x == 0 {
+		return ""
+	}
+	return formatWithUnit(x, "um", waveUnits, "m")
+}
+
+// formatNumber writes x exactly ("" for 0).
+func formatNumber(x float64) string {
+	if x == 0 {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'f', -1, 64)
+}
+
+// ParseRange parses "lo:hi" where either side may be empty (no limit, returned as 0).
+func ParseRange(s string, parse func(string) (float64, error)) (lo, hi float64, err error) {
+	a, b, ok := strings.Cut(s, ":")
+	if !ok {
+		return 0, 0, errors.New("want LOW:HIGH")
+	}
+	if a = strings.TrimSpace(a); a != "" {
+		if lo, err = parse(a); err != nil {
+			return 0, 0, err
+		}
+	}
+	if b = strings.TrimSpace(b); b != "" {
+		if hi, err = parse(b); err != nil {
+			return 0, 0, err
+		}
+	}
+	if lo != 0 && hi != 0 && hi < lo {
+		return 0, 0, errors.New("the upper limit is below the lower one")
+	}
+	return lo, hi, nil
+}
+
+// formatRange is the text ParseRange reads as lo, hi ("" when both are 0).
+func formatRange(lo, hi float64, format func(float64) string) string {
+	if lo == 0 && hi == 0 {
+		return ""
+	}
+	return format(lo) + ":" + format(hi)
+}
+
+// typeAliases are the words for groups of data types.
+var typeAliases = []struct {
+	word string
+	t    recon.DataType
+}{
+	{"t3", recon.T3Amp | recon.T3Phi},
+	{"vis", recon.VisAmp | recon.VisPhi},
+}
+
+// typeWords lists the words of ParseTypes: each data type's name, and each group's word
+// after its last member.
+func typeWords() []string {
+	var w []string
+	for _, t := range recon.DataTypes() {
+		w = append(w, t.String())
+		for _, a := range typeAliases {
+			if a.t&t != 0 && a.t&^(t|(t-1)) == 0 {
+				w = append(w, a.word)
+			}
+		}
+	}
+	return w
+}
+
+// typeNames lists the names of the single data types, in the order of recon.DataTypes.
+func typeNames() []string {
+	var w []string
+	for _, t := range recon.DataTypes() {
+		w = append(w, t.String())
+	}
+	return w
+}
+
+// ParseTypes reads a comma-separated list of data types (vis2, t3amp, t3phi, visamp,
+// visphi, and t3 and vis for both parts of a triangle or a visibility).
+func ParseTypes(s string) (recon.DataType, error) {
+	var t recon.DataType
+	for _, w := range strings.Split(s, ",") {
+		w = strings.ToLower(strings.TrimSpace(w))
+		if w == "" {
+			continue
+		}
+		found := false
+		for _, ty := range recon.DataTypes() {
+			if ty.String() == w {
+				t |= ty
+				found = true
+			}
+		}
+		for _, a := range typeAliases {
+			if a.word == w {
+				t |= a.t
+				found = true
+			}
+		}
+		if !found {
+			return 0, fmt.Errorf("unknown data type %q (use %s)", w, strings.Join(typeWords(), ", "))
+		}
+	}
+	if t == 0 {
+		return 0, errors.New("no data type given")
+	}
+	return t, nil
+}
+
+// formatTypes is the list ParseTypes reads as t ("" for 0).
+func formatTypes(t recon.DataType) string {
+	var w []string
+	for _, ty := range recon.DataTypes() {
+		if t&ty != 0 {
+			w = append(w, ty.String())
+		}
+	}
+	return strings.Join(w, ",")
+}
