@@ -228,7 +228,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 	var resid []plots.Residuals
 	if n := d.Vis2.Len(); n > 0 {
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
-			[]plots.ModelValues{{Name: label, Value: obs.Vis2}}, nil,
+			[]plots.ModelValues{{Name: label, Value: obs.Of(recon.Vis2)}}, nil,
 			plots.Options{Title: "V² — data and image model — " + orNone(info.target)})
 		if err != nil {
 			return nil, err
@@ -239,7 +239,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		r := plots.Residuals{Name: "V²"}
 		for i := 0; i < n; i++ {
 			r.Freq = append(r.Freq, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-			r.Value = append(r.Value, (d.Vis2.Value[i]-obs.Vis2[i])/d.Vis2.Err[i])
+			r.Value = append(r.Value, (d.Vis2.Value[i]-obs.Of(recon.Vis2)[i])/d.Vis2.Err[i])
 		}
 		resid = append(resid, r)
 	}
@@ -257,8 +257,8 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		td.V2 = append(td.V2, t.V2[i])
 		td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
 		td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
-		tm = append(tm, obs.T3Phi[i]*180/math.Pi)
-		dphi := math.Remainder(t.Phi[i]-obs.T3Phi[i], 2*math.Pi)
+		tm = append(tm, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+		dphi := math.Remainder(t.Phi[i]-obs.Of(recon.T3Phi)[i], 2*math.Pi)
 		rp.Freq = append(rp.Freq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 		rp.Value = append(rp.Value, dphi/t.PhiErr[i])
 	}

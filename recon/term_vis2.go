@@ -1,0 +1,65 @@
+package recon
+
+// vis2Kind is the term of squared visibilities (OI_VIS2 VIS2DATA, VIS2ERR; Pauls et al. 2005,
+// PASP 117, 1255): the Gaussian χ² of the normalised residuals
+//
+//	r = (|V|² − V²ₒ)/σ,  χ² = Σ r²,
+//
+// with the gradient ∂r²/∂(Re V, Im V) = 4 r/σ · V. Its expected χ² is one per datum.
+type vis2Kind struct{}
+
+func (vis2Kind) count(d *Data) int { return d.Vis2.Len() }
+
+func (vis2Kind) bind(d *Data, c termConfig) term {
+	t := &vis2Term{d: d}
+	p := newPicker(c)
+	for i := range d.Vis2.Value {
+		if p.keep() {
+			t.idx = append(t.idx, int32(i))
+		}
+	}
+	return t
+}
+
+func (vis2Kind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+	out := make([]float64, d.Vis2.Len())
+	for i, r := range s.vis2 {
+		v := at(vis, r)
+		out[i] = real(v)*real(v) + imag(v)*imag(v)
+	}
+	return out
+}
+
+// vis2Term is the V² term over the data idx of d.Vis2.
+type vis2Term struct {
+	d   *Data
+	idx []int32
+}
+
+func (t *vis2Term) len() int          { return len(t.idx) }
+func (t *vis2Term) expected() float64 { return float64(len(t.idx)) }
+func (t *vis2Term) notices() []string { return nil }
+func (t *vis2Term) residual(v complex128, i int32) float64 {
+	return (real(v)*real(v) + imag(v)*imag(v) - t.d.Vis2.Value[i]) / t.d.Vis2.Err[i]
+}
+
+func (t *vis2Term) eval(c *evalCtx, k, parts int) (float64, float64) {
+	lo, hi := part(len(t.idx), k, parts)
+	s := 0.0
+	for _, i := range t.idx[lo:hi] {
+		r := c.s.vis2[i]
+		v := at(c.vis, r)
+		res := t.residual(v, i)
+		s += res * res
+		if c.grad != nil {
+			addGrad(c.grad, r, complex(4*c.w*res/t.d.Vis2.Err[i], 0)*v)
+		}
+	}
+	return s, 0
+}
+
+func (t *vis2Term) residuals(dst []float64, c *evalCtx) {
+	for j, i := range t.idx {
+		dst[j] = t.residual(at(c.vis, c.s.vis2[i]), i)
+	}
+}
