@@ -54,7 +54,7 @@ func NewModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*Model, error)
 	if mk == nil {
 		mk = NewTransform(0)
 	}
-	m := &Model{Grid: g, norm: normalize, sampling: newSampling(d, AllTypes)}
+	m := &Model{Grid: g, norm: normalize, sampling: newSampling(d, nil)}
 	if len(m.U) == 0 {
 		return nil, fmt.Errorf("recon: the data set has no (u,v) points")
 	}

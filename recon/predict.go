@@ -39,7 +39,7 @@ func Predict(d *Data, g Grid, img []float64, mk TransformFunc) (*Prediction, err
 // (u[k], v[k]) (cycles/rad, the sign convention of CONVENTIONS.md) to dst[k], as
 // recon/model's Model.VisMany does.
 func PredictVis(d *Data, vis func(dst []complex128, u, v []float64)) *Prediction {
-	s := newSampling(d, AllTypes)
+	s := newSampling(d, nil)
 	buf := make([]complex128, len(s.U))
 	vis(buf, s.U, s.V)
 	return predict(d, &s, buf)

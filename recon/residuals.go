@@ -36,8 +36,7 @@ func NewResiduals(d *Data, opt ResidualOptions) *Residuals {
 	if use == 0 {
 		use = AllTypes
 	}
-	r := &Residuals{s: newSampling(d, use)}
-	r.c = evalCtx{s: &r.s, w: 1}
+	r := &Residuals{}
 	c := termConfig{lsq: true, stride: opt.Stride}
 	for i, row := range typeTable {
 		r.off[i] = r.total
@@ -53,6 +52,14 @@ func NewResiduals(d *Data, opt ResidualOptions) *Residuals {
 			r.use |= row.Type
 		}
 	}
+	n := newNeeds(d)
+	for _, t := range r.terms {
+		if t != nil {
+			t.need(n)
+		}
+	}
+	r.s = newSampling(d, n)
+	r.c = evalCtx{s: &r.s, w: 1}
 	return r
 }
 

@@ -56,6 +56,8 @@ type term interface {
 	expected() float64
 	// notices says what the term leaves out or treats specially, one sentence each.
 	notices() []string
+	// need marks the data of the term in n, whose points a sampling must hold.
+	need(n *needs)
 }
 
 // scaler is a term with a free scale fitted at its least-squares optimum before each
@@ -108,21 +110,35 @@ type sampling struct {
 	dedup int      // number of baselines that were found already present
 }
 
-// newSampling collects the distinct (u,v) points of the data of d in the tables of the types
-// in use, deduplicating baselines that coincide (exactly or to 1e-9 of the longest baseline,
-// and with either sign). The points of a table come in the order of its data: V², then the
-// three sides of each triangle, then the complex visibilities; data of a table no type in use
-// reads get no point.
-func newSampling(d *Data, use DataType) sampling {
-	var s sampling
-	reads := func(table string) bool {
-		for _, r := range typeTable {
-			if use&r.Type != 0 && r.Table == table {
-				return true
-			}
-		}
-		return false
+// needs marks the data whose points a sampling holds: one flag per datum of each table.
+type needs struct {
+	vis2, t3, vis []bool
+}
+
+// newNeeds returns the marks for d, all false.
+func newNeeds(d *Data) *needs {
+	return &needs{vis2: make([]bool, d.Vis2.Len()), t3: make([]bool, d.T3.Len()), vis: make([]bool, d.Vis.Len())}
+}
+
+// mark sets the flags of the data idx in f.
+func mark(f []bool, idx []int32) {
+	for _, i := range idx {
+		f[i] = true
 	}
+}
+
+// newSampling collects the distinct (u,v) points of the data of d that n marks (all of them
+// when n is nil), deduplicating baselines that coincide (exactly or to 1e-9 of the longest
+// baseline of d, and with either sign). The points come in the order of the data: V², then
+// the three sides of each triangle, then the complex visibilities. Data that n does not mark
+// get no point.
+func newSampling(d *Data, n *needs) sampling {
+	var s sampling
+	all := n == nil
+	if all {
+		n = &needs{}
+	}
+	want := func(f []bool, i int) bool { return all || f[i] }
 	fmax := 0.0
 	for i := range d.Vis2.U {
 		fmax = math.Max(fmax, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
@@ -157,14 +173,14 @@ func newSampling(d *Data, use DataType) sampling {
 		return ref{i, conj}
 	}
 	s.vis2 = make([]ref, d.Vis2.Len())
-	if reads("OI_VIS2") {
-		for i := range s.vis2 {
+	for i := range s.vis2 {
+		if want(n.vis2, i) {
 			s.vis2[i] = add(d.Vis2.U[i], d.Vis2.V[i])
 		}
 	}
 	s.t3 = make([][3]ref, d.T3.Len())
-	if reads("OI_T3") {
-		for i := range s.t3 {
+	for i := range s.t3 {
+		if want(n.t3, i) {
 			t := &d.T3
 			r3 := add(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i])
 			r3.conj = !r3.conj
@@ -172,8 +188,8 @@ func newSampling(d *Data, use DataType) sampling {
 		}
 	}
 	s.cvis = make([]ref, d.Vis.Len())
-	if reads("OI_VIS") {
-		for i := range s.cvis {
+	for i := range s.cvis {
+		if want(n.vis, i) {
 			s.cvis[i] = add(d.Vis.U[i], d.Vis.V[i])
 		}
 	}

@@ -41,6 +41,9 @@ type t3AmpTerm struct {
 func (t *t3AmpTerm) len() int          { return len(t.idx) }
 func (t *t3AmpTerm) expected() float64 { return float64(len(t.idx)) }
 func (t *t3AmpTerm) notices() []string { return nil }
+func (t *t3AmpTerm) need(n *needs) {
+	mark(n.t3, t.idx)
+}
 
 func (t *t3AmpTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
 	d := t.d

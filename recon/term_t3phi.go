@@ -54,6 +54,9 @@ type t3PhiTerm struct {
 
 func (t *t3PhiTerm) len() int          { return len(t.idx) }
 func (t *t3PhiTerm) notices() []string { return nil }
+func (t *t3PhiTerm) need(n *needs) {
+	mark(n.t3, t.idx)
+}
 
 func (t *t3PhiTerm) expected() float64 {
 	s := 0.0

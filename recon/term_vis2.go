@@ -39,6 +39,9 @@ type vis2Term struct {
 func (t *vis2Term) len() int          { return len(t.idx) }
 func (t *vis2Term) expected() float64 { return float64(len(t.idx)) }
 func (t *vis2Term) notices() []string { return nil }
+func (t *vis2Term) need(n *needs) {
+	mark(n.vis2, t.idx)
+}
 func (t *vis2Term) residual(v complex128, i int32) float64 {
 	return (real(v)*real(v) + imag(v)*imag(v) - t.d.Vis2.Value[i]) / t.d.Vis2.Err[i]
 }

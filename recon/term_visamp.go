@@ -88,6 +88,11 @@ type visAmpTerm struct {
 func (t *visAmpTerm) len() int          { return len(t.va) + len(t.vc) + len(t.vx) }
 func (t *visAmpTerm) expected() float64 { return float64(t.len()) }
 func (t *visAmpTerm) notices() []string { return t.note }
+func (t *visAmpTerm) need(n *needs) {
+	mark(n.vis, t.va)
+	mark(n.vis, t.vc)
+	mark(n.vis, t.vx)
+}
 
 // prepare fits the flux scale of the correlated fluxes; 0 without them.
 func (t *visAmpTerm) prepare(c *evalCtx) float64 {

@@ -71,6 +71,10 @@ type visPhiTerm struct {
 
 func (t *visPhiTerm) len() int          { return len(t.vp) + len(t.vx) }
 func (t *visPhiTerm) notices() []string { return t.note }
+func (t *visPhiTerm) need(n *needs) {
+	mark(n.vis, t.vp)
+	mark(n.vis, t.vx)
+}
 
 func (t *visPhiTerm) expected() float64 {
 	s := 0.0
