@@ -68,49 +68,8 @@ func (s *selectionFlags) selection() (recon.Selection, error) {
 	return sel, nil
 }
 
-// typeNames are the words users type for the data types.
-var typeNames = []struct {
-	name string
-	t    recon.DataType
-}{
-	{"vis2", recon.Vis2},
-	{"t3amp", recon.T3Amp},
-	{"t3phi", recon.T3Phi},
-	{"visamp", recon.VisAmp},
-	{"visphi", recon.VisPhi},
-}
-
-func parseTypes(s string) (recon.DataType, error) {
-	var t recon.DataType
-	for _, w := range strings.Split(s, ",") {
-		w = strings.ToLower(strings.TrimSpace(w))
-		if w == "" {
-			continue
-		}
-		found := false
-		for _, tn := range typeNames {
-			if tn.name == w {
-				t |= tn.t
-				found = true
-			}
-		}
-		if w == "t3" {
-			t |= recon.T3Amp | recon.T3Phi
-			found = true
-		}
-		if w == "vis" {
-			t |= recon.VisAmp | recon.VisPhi
-			found = true
-		}
-		if !found {
-			return 0, fmt.Errorf("unknown data type %q (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)", w)
-		}
-	}
-	if t == 0 {
-		return 0, errors.New("no data type given")
-	}
-	return t, nil
-}
+// parseTypes reads the -use list of data types (recon.ParseDataTypes).
+func parseTypes(s string) (recon.DataType, error) { return recon.ParseDataTypes(s) }
 
 // parseRange parses "lo:hi" where either side may be empty (no limit).
 func parseRange(s string, parse func(string) (float64, error)) (lo, hi float64, err error) {

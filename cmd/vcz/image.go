@@ -235,8 +235,8 @@ func printImageSummary(w io.Writer, s imageSummary) {
 	}
 	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
-	for _, tn := range typeNames {
-		name := tn.t.String()
+	for _, t := range recon.DataTypes() {
+		name := t.String()
 		if c, ok := s.Chi2ByType[name]; ok {
 			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)
 		}

@@ -74,9 +74,9 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
 	}
 	for _, t := range res.Chi2 {
-		key := "CHI2" + chi2Key(t.Type)
+		key := "CHI2" + t.Type.Info().Key
 		c = append(c, fitsimage.Card{Key: key, Value: t.Chi2r, Comment: fmt.Sprintf("reduced chi2 of %s (%d points)", t.Type, t.N)})
-		c = append(c, fitsimage.Card{Key: "NPT" + chi2Key(t.Type), Value: t.N, Comment: fmt.Sprintf("number of %s points fitted", t.Type)})
+		c = append(c, fitsimage.Card{Key: "NPT" + t.Type.Info().Key, Value: t.N, Comment: fmt.Sprintf("number of %s points fitted", t.Type)})
 	}
 	c = append(c,
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the final run"},
@@ -119,23 +119,6 @@ func orUnknown(s string) string {
 		return "UNKNOWN"
 	}
 	return s
-}
-
-// chi2Key is the short name of a data type used in FITS keys.
-func chi2Key(t recon.DataType) string {
-	switch t {
-	case recon.Vis2:
-		return "V2"
-	case recon.T3Amp:
-		return "T3A"
-	case recon.T3Phi:
-		return "T3P"
-	case recon.VisAmp:
-		return "VA"
-	case recon.VisPhi:
-		return "VP"
-	}
-	return "X"
 }
 
 // writeResult writes the FITS image of res to out and, when wanted, its PNG
@@ -233,10 +216,10 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-vis2.png"); err != nil {
+		if err := save(fig, "-"+recon.Vis2.String()+".png"); err != nil {
 			return nil, err
 		}
-		r := plots.Residuals{Name: "V²"}
+		r := plots.Residuals{Name: recon.Vis2.Info().Label}
 		for i := 0; i < n; i++ {
 			r.Freq = append(r.Freq, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
 			r.Value = append(r.Value, (d.Vis2.Value[i]-obs.Of(recon.Vis2)[i])/d.Vis2.Err[i])
@@ -246,7 +229,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 	t := &d.T3
 	var td plots.T3Data
 	var tm []float64
-	rp := plots.Residuals{Name: "closure phase"}
+	rp := plots.Residuals{Name: recon.T3Phi.Info().Label}
 	for i := range t.Lambda {
 		if !t.PhiOK[i] {
 			continue
@@ -268,7 +251,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-t3phi.png"); err != nil {
+		if err := save(fig, "-"+recon.T3Phi.String()+".png"); err != nil {
 			return nil, err
 		}
 		resid = append(resid, rp)
