@@ -46,21 +46,21 @@ func (t *t3AmpTerm) need(n *needs) {
 }
 
 func (t *t3AmpTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
-	d := t.d
+	amp, aerr, refs, vis, grad := t.d.T3.Amp, t.d.T3.AmpErr, c.s.t3, c.vis, c.grad
 	lo, hi := part(len(t.idx), k, parts)
 	s := 0.0
 	for _, i := range t.idx[lo:hi] {
-		r := c.s.t3[i]
-		w1, w2, w3 := sides(c.vis, r)
+		r := refs[i]
+		w1, w2, w3 := sides(vis, r)
 		a1, a2, a3 := abs(w1), abs(w2), abs(w3)
-		sig := d.T3.AmpErr[i]
-		res := (a1*a2*a3 - d.T3.Amp[i]) / sig
+		sig := aerr[i]
+		res := (a1*a2*a3 - amp[i]) / sig
 		s += res * res
-		if c.grad != nil {
+		if grad != nil {
 			g := 2 * c.w * res / sig
-			addGrad(c.grad, r[0], complex(g*a2*a3, 0)*unit(w1, a1))
-			addGrad(c.grad, r[1], complex(g*a1*a3, 0)*unit(w2, a2))
-			addGrad(c.grad, r[2], complex(g*a1*a2, 0)*unit(w3, a3))
+			addGrad(grad, r[0], complex(g*a2*a3, 0)*unit(w1, a1))
+			addGrad(grad, r[1], complex(g*a1*a3, 0)*unit(w2, a2))
+			addGrad(grad, r[2], complex(g*a1*a2, 0)*unit(w3, a3))
 		}
 	}
 	return s, 0

@@ -67,13 +67,13 @@ func (t *t3PhiTerm) expected() float64 {
 }
 
 func (t *t3PhiTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
-	w, g := c.w, c.grad
+	w, g, refs, vis := c.w, c.grad, c.s.t3, c.vis
 	s, sm := 0.0, 0.0
 	eta := c.smooth * t.scale
 	lo, hi := part(len(t.idx), k, parts)
 	for j := lo; j < hi; j++ {
-		r := c.s.t3[t.idx[j]]
-		w1, w2, w3 := sides(c.vis, r)
+		r := refs[t.idx[j]]
+		w1, w2, w3 := sides(vis, r)
 		e := t.e[j]
 		b := w1 * w2 * w3 * e // B·exp(−iφₒ): its argument is φ − φₒ
 		ab2 := real(b)*real(b) + imag(b)*imag(b)

@@ -47,15 +47,17 @@ func (t *vis2Term) residual(v complex128, i int32) float64 {
 }
 
 func (t *vis2Term) eval(c *evalCtx, k, parts int) (float64, float64) {
+	val, verr, refs, vis, grad := t.d.Vis2.Value, t.d.Vis2.Err, c.s.vis2, c.vis, c.grad
 	lo, hi := part(len(t.idx), k, parts)
 	s := 0.0
 	for _, i := range t.idx[lo:hi] {
-		r := c.s.vis2[i]
-		v := at(c.vis, r)
-		res := t.residual(v, i)
+		r := refs[i]
+		v := at(vis, r)
+		sig := verr[i]
+		res := (real(v)*real(v) + imag(v)*imag(v) - val[i]) / sig
 		s += res * res
-		if c.grad != nil {
-			addGrad(c.grad, r, complex(4*c.w*res/t.d.Vis2.Err[i], 0)*v)
+		if grad != nil {
+			addGrad(grad, r, complex(4*c.w*res/sig, 0)*v)
 		}
 	}
 	return s, 0

@@ -226,7 +226,8 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	// Free scales are fitted first, over all the data of their term.
 	for i, t := range o.terms {
 		if sc, ok := t.(scaler); ok && o.use&typeList[i] != 0 {
-			o.scale = sc.prepare(&evalCtx{s: &m.sampling, vis: m.vis})
+			o.parts[0].ctx = evalCtx{s: &m.sampling, vis: m.vis}
+			o.scale = sc.prepare(&o.parts[0].ctx)
 		}
 	}
 	var wg sync.WaitGroup
@@ -288,6 +289,7 @@ type termPart struct {
 	gvis  []complex128 // ∂J/∂V of the part (part 0 uses the model's own buffer)
 	chi2  [nTypes]float64
 	extra float64
+	ctx   evalCtx // kept here, so that an evaluation allocates nothing
 }
 
 // evalPart evaluates the used terms on part k of parts of their data (a contiguous share of
@@ -298,13 +300,14 @@ func (o *Objective) evalPart(pt *termPart, k, parts int) {
 	if k > 0 {
 		clear(pt.gvis)
 	}
-	c := evalCtx{s: &o.m.sampling, vis: o.m.vis, grad: pt.gvis, smooth: o.smooth}
+	c := &pt.ctx
+	*c = evalCtx{s: &o.m.sampling, vis: o.m.vis, grad: pt.gvis, smooth: o.smooth}
 	for i, t := range o.terms {
 		if o.use&typeList[i] == 0 {
 			continue
 		}
 		c.w = o.w[i]
-		chi2, extra := t.eval(&c, k, parts)
+		chi2, extra := t.eval(c, k, parts)
 		pt.chi2[i] = chi2
 		pt.extra += extra
 	}
