@@ -22,7 +22,7 @@ const (
 	VisPhi                      // visibility phase, OI_VIS VISPHI
 
 	// AllTypes selects every data type.
-	AllTypes = 1<<len(typeTable) - 1
+	AllTypes DataType = 1<<len(typeTable) - 1
 )
 
 // TypeInfo describes one data type: a row of the table of data types. Every list of data types
@@ -95,6 +95,9 @@ func (t DataType) String() string {
 	}
 	return strings.Join(s, "+")
 }
+
+// Words returns the words of the set bits joined by ", ", e.g. "vis2, t3phi", for help texts.
+func (t DataType) Words() string { return strings.ReplaceAll(t.String(), "+", ", ") }
 
 // index returns the position of a single data type in DataTypes().
 func (t DataType) index() int {

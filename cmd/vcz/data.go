@@ -29,7 +29,7 @@ func (s *selectionFlags) register(fs *flag.FlagSet, withTypes bool) {
 	fs.StringVar(&s.mjd, "mjd", "", "keep rows in this MJD range, e.g. 60100.0:60100.9 (either side may be empty)")
 	fs.StringVar(&s.ins, "ins", "", "keep only these instruments (INSNAME, comma-separated)")
 	if withTypes {
-		fs.StringVar(&s.use, "use", "", "data types to fit, comma-separated from vis2, t3amp, t3phi, visamp, visphi (default: all present)")
+		fs.StringVar(&s.use, "use", "", "data types to fit, comma-separated from "+recon.AllTypes.Words()+" (default: all present)")
 	}
 }
 
