@@ -79,6 +79,19 @@ type evalCtx struct {
 // part returns the bounds of part k of parts of a list of n items.
 func part(n, k, parts int) (lo, hi int) { return n * k / parts, n * (k + 1) / parts }
 
+// pickOK returns the indices i < n with ok[i] true (every i when ok is nil), keeping every
+// stride-th of them (termConfig.stride).
+func pickOK(n int, ok []bool, c termConfig) []int32 {
+	var idx []int32
+	p := newPicker(c)
+	for i := range n {
+		if (ok == nil || ok[i]) && p.keep() {
+			idx = append(idx, int32(i))
+		}
+	}
+	return idx
+}
+
 // picker keeps every stride-th item offered to it (termConfig.stride).
 type picker struct{ stride, seen int }
 

@@ -13,14 +13,7 @@ type t3AmpKind struct{}
 func (t3AmpKind) count(d *Data) int { return countTrue(d.T3.AmpOK) }
 
 func (t3AmpKind) bind(d *Data, c termConfig) term {
-	t := &t3AmpTerm{d: d}
-	p := newPicker(c)
-	for i, ok := range d.T3.AmpOK {
-		if ok && p.keep() {
-			t.idx = append(t.idx, int32(i))
-		}
-	}
-	return t
+	return &t3AmpTerm{d: d, idx: pickOK(d.T3.Len(), d.T3.AmpOK, c)}
 }
 
 func (t3AmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {

@@ -19,15 +19,10 @@ type t3PhiKind struct{}
 func (t3PhiKind) count(d *Data) int { return countTrue(d.T3.PhiOK) }
 
 func (t3PhiKind) bind(d *Data, c termConfig) term {
-	t := &t3PhiTerm{d: d}
-	p := newPicker(c)
-	for i, ok := range d.T3.PhiOK {
-		if ok && p.keep() {
-			t.idx = append(t.idx, int32(i))
-			sn, cs := math.Sincos(d.T3.Phi[i])
-			t.e = append(t.e, complex(cs, -sn))
-			t.is2 = append(t.is2, 1/(d.T3.PhiErr[i]*d.T3.PhiErr[i]))
-		}
+	t := &t3PhiTerm{d: d, idx: pickOK(d.T3.Len(), d.T3.PhiOK, c)}
+	for _, i := range t.idx {
+		t.e = append(t.e, phasor(d.T3.Phi[i]))
+		t.is2 = append(t.is2, 1/(d.T3.PhiErr[i]*d.T3.PhiErr[i]))
 	}
 	t.scale, _ = phaseScales(d)
 	return t

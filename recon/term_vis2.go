@@ -11,14 +11,7 @@ type vis2Kind struct{}
 func (vis2Kind) count(d *Data) int { return d.Vis2.Len() }
 
 func (vis2Kind) bind(d *Data, c termConfig) term {
-	t := &vis2Term{d: d}
-	p := newPicker(c)
-	for i := range d.Vis2.Value {
-		if p.keep() {
-			t.idx = append(t.idx, int32(i))
-		}
-	}
-	return t
+	return &vis2Term{d: d, idx: pickOK(d.Vis2.Len(), nil, c)}
 }
 
 func (vis2Kind) predict(d *Data, s *sampling, vis []complex128) []float64 {
