@@ -24,16 +24,13 @@ func (visAmpKind) count(d *Data) int { return countTrue(d.Vis.AmpOK) }
 func (visAmpKind) bind(d *Data, c termConfig) term {
 	p := &d.Vis
 	t := &visAmpTerm{d: d}
-	pa, pc, px := newPicker(c), newPicker(c), newPicker(c)
+	t.vx, t.ex = complexVis(p, c)
+	pa, pc := newPicker(c), newPicker(c)
 	ndiff := 0
 	for i := range p.Lambda {
 		absA := p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute
 		switch {
-		case c.complexVis && absA && p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute:
-			if px.keep() {
-				t.vx = append(t.vx, int32(i))
-				t.ex = append(t.ex, phasor(p.Phi[i]))
-			}
+		case c.complexVis && complexPair(p, i):
 		case absA:
 			if pa.keep() {
 				t.va = append(t.va, int32(i))
@@ -67,6 +64,28 @@ func (visAmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
 func phasor(phi float64) complex128 {
 	s, c := math.Sincos(phi)
 	return complex(c, -s)
+}
+
+// complexPair reports whether both the amplitude and the phase of complex visibility i are
+// absolute and usable, so that TermOptions.ComplexVis fits them as one complex number.
+func complexPair(p *VisPoints, i int) bool {
+	return p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute && p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute
+}
+
+// complexVis returns the complex visibilities that c fits as complex numbers (none unless
+// c.complexVis) and their rotations exp(−iφₒ); the amplitude and phase terms both take them.
+func complexVis(p *VisPoints, c termConfig) (vx []int32, ex []complex128) {
+	if !c.complexVis {
+		return nil, nil
+	}
+	pk := newPicker(c)
+	for i := range p.Lambda {
+		if complexPair(p, i) && pk.keep() {
+			vx = append(vx, int32(i))
+			ex = append(ex, phasor(p.Phi[i]))
+		}
+	}
+	return vx, ex
 }
 
 // complexResidual returns z = (V − Aₒe^(iφₒ))·e^(−iφₒ), e = e^(−iφₒ): the residual of a

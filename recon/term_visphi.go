@@ -22,17 +22,13 @@ func (visPhiKind) count(d *Data) int { return countTrue(d.Vis.PhiOK) }
 func (visPhiKind) bind(d *Data, c termConfig) term {
 	p := &d.Vis
 	t := &visPhiTerm{d: d}
-	pp, px := newPicker(c), newPicker(c)
+	t.vx, t.ex = complexVis(p, c)
+	pp := newPicker(c)
 	ndiff := 0
 	for i := range p.Lambda {
-		absP := p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute
 		switch {
-		case c.complexVis && absP && p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute:
-			if px.keep() {
-				t.vx = append(t.vx, int32(i))
-				t.ex = append(t.ex, phasor(p.Phi[i]))
-			}
-		case absP:
+		case c.complexVis && complexPair(p, i):
+		case p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute:
 			if pp.keep() {
 				t.vp = append(t.vp, int32(i))
 				t.e = append(t.e, phasor(p.Phi[i]))
