@@ -1,62 +1,9 @@
 package recon
 
 import (
-	"fmt"
 	"math"
 	"sort"
 )
-
-// DataType is a bit set of the kinds of interferometric data a data set holds and a
-// reconstruction uses.
-type DataType uint
-
-// The data types. A closure triangle gives a T3Amp and a T3Phi measurement, a complex
-// visibility a VisAmp and a VisPhi measurement; each may be valid while the other is not.
-const (
-	Vis2   DataType = 1 << iota // squared visibility, OI_VIS2 VIS2DATA
-	T3Amp                       // triple-product amplitude, OI_T3 T3AMP
-	T3Phi                       // closure phase, OI_T3 T3PHI
-	VisAmp                      // visibility amplitude, OI_VIS VISAMP
-	VisPhi                      // visibility phase, OI_VIS VISPHI
-
-	// AllTypes selects every data type.
-	AllTypes = Vis2 | T3Amp | T3Phi | VisAmp | VisPhi
-)
-
-var typeNames = [...]string{"vis2", "t3amp", "t3phi", "visamp", "visphi"}
-
-// typeList lists the single data types in a fixed order (the order of the χ² report).
-var typeList = [...]DataType{Vis2, T3Amp, T3Phi, VisAmp, VisPhi}
-
-// DataTypes returns the single data types in the order of the χ² report and of Weights.
-func DataTypes() [len(typeList)]DataType { return typeList }
-
-// String returns the lower-case names of the set bits joined by "+", e.g. "vis2+t3phi".
-func (t DataType) String() string {
-	if t == 0 {
-		return "none"
-	}
-	s := ""
-	for i, n := range typeNames {
-		if t&(1<<i) != 0 {
-			if s != "" {
-				s += "+"
-			}
-			s += n
-		}
-	}
-	return s
-}
-
-// index returns the position of a single data type in DataTypes().
-func (t DataType) index() int {
-	for i := range typeList {
-		if typeList[i] == t {
-			return i
-		}
-	}
-	panic(fmt.Sprintf("recon: %d is not a single data type", t))
-}
 
 // AmpType says what an OI_VIS amplitude means (OIFITS v2 keyword AMPTYP; Duvert, Young &
 // Hummel 2017, table 6).
@@ -164,23 +111,9 @@ type Data struct {
 // its amplitude and once for its phase, and likewise a complex visibility.
 func (d *Data) Len(types DataType) int {
 	n := 0
-	if types&Vis2 != 0 {
-		n += d.Vis2.Len()
-	}
-	for i := range d.T3.Lambda {
-		if types&T3Amp != 0 && d.T3.AmpOK[i] {
-			n++
-		}
-		if types&T3Phi != 0 && d.T3.PhiOK[i] {
-			n++
-		}
-	}
-	for i := range d.Vis.Lambda {
-		if types&VisAmp != 0 && d.Vis.AmpOK[i] {
-			n++
-		}
-		if types&VisPhi != 0 && d.Vis.PhiOK[i] {
-			n++
+	for _, r := range typeTable {
+		if types&r.Type != 0 {
+			n += r.kind.count(d)
 		}
 	}
 	return n
@@ -189,9 +122,9 @@ func (d *Data) Len(types DataType) int {
 // Available returns the data types that have at least one usable measurement.
 func (d *Data) Available() DataType {
 	var t DataType
-	for _, ty := range typeList {
-		if d.Len(ty) > 0 {
-			t |= ty
+	for _, r := range typeTable {
+		if r.kind.count(d) > 0 {
+			t |= r.Type
 		}
 	}
 	return t

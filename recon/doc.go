@@ -25,12 +25,16 @@
 //
 // NewModel collects the distinct (u,v) points of all data — closure-triangle baselines
 // usually coincide with V² baselines, and a baseline given with the opposite sign is the
-// conjugate of a stored one — and makes one transform (package vcz/nufft) for them. Objective
-// sums the weighted χ² of V² (Gaussian), closure phases (wrap-safe 2(1 − cos Δφ)/σ²), T3
-// amplitudes (Gaussian on |B|) and complex visibilities (amplitudes; absolute phases,
-// wrap-safe; correlated fluxes with a free scale at its least-squares optimum; differential
-// quantities left out with a notice), value and gradient in one pass: one Forward and one
-// Adjoint per evaluation. The gradient includes the flux normalisation:
+// conjugate of a stored one — and makes one transform (package vcz/nufft) for them. The data
+// types are one table (types.go: word, FITS key, label, unit, OIFITS table) and each has one
+// data term in its own file (term_*.go: formula and source, χ² with its gradient with
+// respect to the model visibilities, residuals for least squares, expected χ², model
+// values). Objective sums the weighted χ² of V² (Gaussian), closure phases (wrap-safe
+// 2(1 − cos Δφ)/σ²), T3 amplitudes (Gaussian on |B|) and complex visibilities (amplitudes;
+// absolute phases, wrap-safe; correlated fluxes with a free scale at its least-squares
+// optimum; differential quantities left out with a notice), value and gradient in one pass:
+// one Forward and one Adjoint per evaluation. Residuals gives the same terms as residual
+// vectors for the analytic fits of vcz/recon/fit, and Predict the model values for plots. The gradient includes the flux normalisation:
 // ∂J/∂x_p = (Re Σ conj(G_k) a_kp − Re Σ conj(G_k) V_k)/F with G_k = ∂J/∂Re V_k + i ∂J/∂Im V_k.
 // χ²ᵣ is χ²/N per data type and Σχ²/ΣN in total (N the number of measurements, no
 // correction for the number of free pixels).

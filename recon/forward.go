@@ -2,7 +2,6 @@ package recon
 
 import (
 	"fmt"
-	"math"
 
 	"vcz/nufft"
 )
@@ -27,33 +26,20 @@ func NewTransform(workers int) TransformFunc {
 	}
 }
 
-// ref points a datum to a distinct (u,v) point of the model; conj says the datum sees the
-// complex conjugate of that point's visibility, either because its baseline is the negative of
-// the stored one (V(−u,−v) = conj V(u,v) for a real image) or because it is the third side of a
-// closure triangle.
-type ref struct {
-	i    int32
-	conj bool
-}
-
 // Model is the forward model of a gray image: the normalised complex visibility
 // V(u,v) = Σ x_p exp(−2πi(u x_p + v y_p)) / Σ x_p at every distinct (u,v) point of a data set,
 // computed with one transform. It holds the buffers of one evaluation and is not safe for
 // concurrent use.
 type Model struct {
 	Grid
-	U, V []float64 // the distinct points (cycles/rad), u >= 0 after the sign choice
+	sampling // the distinct points U, V and the points each datum sees
 
-	tr    Transform
-	norm  bool         // divide by the total flux
-	flux  float64      // Σ x of the last Forward
-	vis   []complex128 // model visibilities at U, V of the last Forward
-	gvis  []complex128 // accumulated ∂J/∂Re V + i ∂J/∂Im V
-	adj   []float64
-	vis2  []ref
-	t3    [][3]ref // the three factors W1·W2·W3 of each bispectrum
-	cvis  []ref
-	dedup int // number of baselines that were found already present
+	tr   Transform
+	norm bool         // divide by the total flux
+	flux float64      // Σ x of the last Forward
+	vis  []complex128 // model visibilities at U, V of the last Forward
+	gvis []complex128 // accumulated ∂J/∂Re V + i ∂J/∂Im V
+	adj  []float64
 }
 
 // NewModel collects the distinct (u,v) points of all data of d, deduplicating baselines that
@@ -68,55 +54,7 @@ func NewModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*Model, error)
 	if mk == nil {
 		mk = NewTransform(0)
 	}
-	m := &Model{Grid: g, norm: normalize}
-	fmax := 0.0
-	for i := range d.Vis2.U {
-		fmax = math.Max(fmax, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-	}
-	for i := range d.T3.U1 {
-		fmax = math.Max(fmax, math.Hypot(d.T3.U1[i], d.T3.V1[i]))
-		fmax = math.Max(fmax, math.Hypot(d.T3.U2[i], d.T3.V2[i]))
-	}
-	for i := range d.Vis.U {
-		fmax = math.Max(fmax, math.Hypot(d.Vis.U[i], d.Vis.V[i]))
-	}
-	step := 1e-9 * fmax
-	if step == 0 {
-		step = 1
-	}
-	type key struct{ a, b int64 }
-	index := map[key]int32{}
-	add := func(u, v float64) ref {
-		conj := false
-		if u < 0 || (u == 0 && v < 0) {
-			u, v, conj = -u, -v, true
-		}
-		k := key{int64(math.Round(u / step)), int64(math.Round(v / step))}
-		if i, ok := index[k]; ok {
-			m.dedup++
-			return ref{i, conj}
-		}
-		i := int32(len(m.U))
-		index[k] = i
-		m.U = append(m.U, u)
-		m.V = append(m.V, v)
-		return ref{i, conj}
-	}
-	m.vis2 = make([]ref, d.Vis2.Len())
-	for i := range m.vis2 {
-		m.vis2[i] = add(d.Vis2.U[i], d.Vis2.V[i])
-	}
-	m.t3 = make([][3]ref, d.T3.Len())
-	for i := range m.t3 {
-		t := &d.T3
-		r3 := add(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i])
-		r3.conj = !r3.conj
-		m.t3[i] = [3]ref{add(t.U1[i], t.V1[i]), add(t.U2[i], t.V2[i]), r3}
-	}
-	m.cvis = make([]ref, d.Vis.Len())
-	for i := range m.cvis {
-		m.cvis[i] = add(d.Vis.U[i], d.Vis.V[i])
-	}
+	m := &Model{Grid: g, norm: normalize, sampling: newSampling(d, nil)}
 	if len(m.U) == 0 {
 		return nil, fmt.Errorf("recon: the data set has no (u,v) points")
 	}
@@ -130,10 +68,6 @@ func NewModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*Model, error)
 	m.adj = make([]float64, g.N*g.N)
 	return m, nil
 }
-
-// Points returns the number of distinct (u,v) points transformed and the number of baselines
-// that were found among them already.
-func (m *Model) Points() (distinct, shared int) { return len(m.U), m.dedup }
 
 // Forward computes the model visibilities of image x (len N²) at the distinct points and
 // returns the total flux Σ x. With normalisation on, the visibilities are divided by the flux;
@@ -158,23 +92,8 @@ func (m *Model) Forward(x []float64) float64 {
 	return f
 }
 
-// Vis returns the model visibility seen by a datum (valid after Forward).
-func (m *Model) at(r ref) complex128 {
-	v := m.vis[r.i]
-	if r.conj {
-		return complex(real(v), -imag(v))
-	}
-	return v
-}
-
-// addGrad adds the derivative G = ∂J/∂Re W + i ∂J/∂Im W of the objective with respect to the
-// visibility W a datum sees; for a conjugated datum it is the conjugate with respect to V.
-func (m *Model) addGrad(r ref, g complex128) {
-	if r.conj {
-		g = complex(real(g), -imag(g))
-	}
-	m.gvis[r.i] += g
-}
+// at returns the model visibility seen by a datum (valid after Forward).
+func (m *Model) at(r ref) complex128 { return at(m.vis, r) }
 
 // Gradient turns the accumulated visibility derivatives into the gradient with respect to the
 // image and writes it to grad. With V = A x / F and F = Σ x,

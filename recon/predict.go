@@ -5,15 +5,17 @@ import (
 	"math"
 )
 
-// Prediction holds the model observables of an image at every datum of a Data, in slices
-// parallel to the Data's: V² values, T3 amplitudes and closure phases (rad, in (−π, π]),
-// visibility amplitudes and phases (rad). They serve fit plots and residuals
-// ((data − model)/error, phases wrapped).
+// Prediction holds the model values of every datum of a Data, for each data type in a slice
+// parallel to the type's table in the Data (usable or not): V², T3 amplitudes and closure
+// phases per triangle, visibility amplitudes and phases per complex visibility. Phases are in
+// radians in (−π, π]. They serve fit plots and residuals ((data − model)/error, phases
+// wrapped).
 type Prediction struct {
-	Vis2           []float64
-	T3Amp, T3Phi   []float64
-	VisAmp, VisPhi []float64
+	values [nTypes][]float64
 }
+
+// Of returns the model values of one data type.
+func (p *Prediction) Of(t DataType) []float64 { return p.values[t.index()] }
 
 // Predict computes the model observables of img (N² pixels on grid g, any positive flux;
 // the model is normalised by it) at the data points of d. mk makes the transform; nil means
@@ -29,28 +31,26 @@ func Predict(d *Data, g Grid, img []float64, mk TransformFunc) (*Prediction, err
 	if f := m.Forward(img); !(f > 0) || math.IsInf(f, 0) {
 		return nil, fmt.Errorf("recon: image flux is %g; it must be positive", f)
 	}
-	p := &Prediction{
-		Vis2:   make([]float64, len(m.vis2)),
-		T3Amp:  make([]float64, len(m.t3)),
-		T3Phi:  make([]float64, len(m.t3)),
-		VisAmp: make([]float64, len(m.cvis)),
-		VisPhi: make([]float64, len(m.cvis)),
+	return predict(d, &m.sampling, m.vis), nil
+}
+
+// PredictVis computes the model observables at the data points of d of a model whose
+// visibilities vis sets: vis(dst, u, v) writes the normalised visibility at each point
+// (u[k], v[k]) (cycles/rad, the sign convention of CONVENTIONS.md) to dst[k], as
+// recon/model's Model.VisMany does.
+func PredictVis(d *Data, vis func(dst []complex128, u, v []float64)) *Prediction {
+	s := newSampling(d, nil)
+	buf := make([]complex128, len(s.U))
+	vis(buf, s.U, s.V)
+	return predict(d, &s, buf)
+}
+
+func predict(d *Data, s *sampling, vis []complex128) *Prediction {
+	p := &Prediction{}
+	for i, r := range typeTable {
+		p.values[i] = r.kind.predict(d, s, vis)
 	}
-	for i, r := range m.vis2 {
-		v := m.at(r)
-		p.Vis2[i] = real(v)*real(v) + imag(v)*imag(v)
-	}
-	for i, r := range m.t3 {
-		b := m.at(r[0]) * m.at(r[1]) * m.at(r[2])
-		p.T3Amp[i] = abs(b)
-		p.T3Phi[i] = math.Atan2(imag(b), real(b))
-	}
-	for i, r := range m.cvis {
-		v := m.at(r)
-		p.VisAmp[i] = abs(v)
-		p.VisPhi[i] = math.Atan2(imag(v), real(v))
-	}
-	return p, nil
+	return p
 }
 
 // WrapPhase returns phi reduced to (−π, π], for phase residuals.

@@ -9,6 +9,7 @@ import (
 	"sort"
 
 	"vcz/recon/optim"
+	"vcz/regularizers"
 )
 
 // Regularizer is a penalty on the image to be minimised together with the data terms. Eval
@@ -222,17 +223,7 @@ func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
 	e.xn = make([]float64, n*n)
 	e.lower = make([]float64, n*n)
 	if p.Support > 0 {
-		e.upper = make([]float64, n*n)
-		r2 := p.Support * p.Support
-		for iy := 0; iy < n; iy++ {
-			for ix := 0; ix < n; ix++ {
-				x, y := float64(ix-n/2)*g.Pixel, float64(iy-n/2)*g.Pixel
-				e.upper[iy*n+ix] = 0
-				if x*x+y*y <= r2 {
-					e.upper[iy*n+ix] = math.Inf(1)
-				}
-			}
-		}
+		_, e.upper = regularizers.SupportBounds(n, n, g.Pixel, p.Support)
 	}
 	if !p.Unnormalized {
 		// Nothing else depends on the flux: the flux term fixes it at 1, with a weight of

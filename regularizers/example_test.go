@@ -49,7 +49,7 @@ func ExampleGaussianPrior() {
 
 // Pixels farther than 1.5 pixels from the centre are held at zero.
 func ExampleSupportBounds() {
-	lower, upper := regularizers.SupportBounds(5, 5, 1.5)
+	lower, upper := regularizers.SupportBounds(5, 5, 1, 1.5)
 	for iy := range 5 {
 		for ix := range 5 {
 			if upper[iy*5+ix] > lower[iy*5+ix] {

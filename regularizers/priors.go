@@ -164,30 +164,30 @@ func ImagePrior(img []float64, flux, floor float64) ([]float64, error) {
 	return m, nil
 }
 
-// SupportMask returns an nx*ny mask that is true for the pixels whose
-// centre lies within radius pixels of the centre pixel (nx/2, ny/2).
-func SupportMask(nx, ny int, radius float64) []bool {
+// SupportMask returns an nx*ny mask, row-major, that is true for the pixels whose centre lies
+// within radius of the centre pixel (nx/2, ny/2): pixel (ix, iy) is inside when
+// ((ix − nx/2)·pixel)² + ((iy − ny/2)·pixel)² ≤ radius², pixel and radius in one unit (radians
+// for recon's grids, 1 for a radius in pixels).
+func SupportMask(nx, ny int, pixel, radius float64) []bool {
 	if nx <= 0 || ny <= 0 {
 		panic(fmt.Sprintf("regularizers: SupportMask: grid %dx%d is empty", nx, ny))
 	}
 	mask := make([]bool, nx*ny)
-	cx, cy := nx/2, ny/2
 	r2 := radius * radius
 	for iy := range ny {
 		for ix := range nx {
-			dx, dy := float64(ix-cx), float64(iy-cy)
-			mask[iy*nx+ix] = dx*dx+dy*dy <= r2
+			x, y := float64(ix-nx/2)*pixel, float64(iy-ny/2)*pixel
+			mask[iy*nx+ix] = x*x+y*y <= r2
 		}
 	}
 	return mask
 }
 
-// SupportBounds returns bounds for recon/optim that keep every pixel
-// non-negative and hold the pixels outside SupportMask(nx, ny, radius) at
-// zero: lower is 0 everywhere, upper is +Inf inside the support and 0
-// outside.
-func SupportBounds(nx, ny int, radius float64) (lower, upper []float64) {
-	mask := SupportMask(nx, ny, radius)
+// SupportBounds returns bounds for recon/optim that keep every pixel non-negative and hold
+// the pixels outside SupportMask(nx, ny, pixel, radius) at zero: lower is 0 everywhere,
+// upper is +Inf inside the support and 0 outside.
+func SupportBounds(nx, ny int, pixel, radius float64) (lower, upper []float64) {
+	mask := SupportMask(nx, ny, pixel, radius)
 	lower = make([]float64, len(mask))
 	upper = make([]float64, len(mask))
 	for i, in := range mask {

@@ -123,26 +123,29 @@ func TestPriorErrors(t *testing.T) {
 // TestSupportMask counts the pixels within radius r of the centre: they
 // are the integer lattice points with x^2 + y^2 <= r^2 (Gauss's circle
 // problem; counts 1, 5, 13, 29, 49, 81, 113, 149, 197, 253, 317 for
-// r = 0..10, OEIS A000328, from memory).
+// r = 0..10, OEIS A000328, from memory), in pixels and with a pixel of 0.25 (a power of two,
+// so that the scaled distances are exact).
 func TestSupportMask(t *testing.T) {
 	want := []int{1, 5, 13, 29, 49, 81, 113, 149, 197, 253, 317}
 	for r, w := range want {
-		mask := SupportMask(32, 30, float64(r))
-		n := 0
-		for _, in := range mask {
-			if in {
-				n++
+		for _, pixel := range []float64{1, 0.25} {
+			mask := SupportMask(32, 30, pixel, float64(r)*pixel)
+			n := 0
+			for _, in := range mask {
+				if in {
+					n++
+				}
+			}
+			if n != w {
+				t.Errorf("radius %d pixels of %g: %d pixels, want %d", r, pixel, n, w)
+			}
+			if !mask[15*32+16] {
+				t.Errorf("radius %d pixels of %g: centre pixel outside", r, pixel)
 			}
 		}
-		if n != w {
-			t.Errorf("radius %d: %d pixels, want %d", r, n, w)
-		}
-		if !mask[15*32+16] {
-			t.Errorf("radius %d: centre pixel outside", r)
-		}
 	}
-	lo, hi := SupportBounds(32, 30, 5)
-	mask := SupportMask(32, 30, 5)
+	lo, hi := SupportBounds(32, 30, 1, 5)
+	mask := SupportMask(32, 30, 1, 5)
 	for i := range mask {
 		if lo[i] != 0 || (mask[i] && !math.IsInf(hi[i], 1)) || (!mask[i] && hi[i] != 0) {
 			t.Fatalf("pixel %d: bounds [%g, %g], inside %v", i, lo[i], hi[i], mask[i])

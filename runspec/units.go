@@ -122,30 +122,6 @@ func formatRange(lo, hi float64, format func(float64) string) string {
 	return format(lo) + ":" + format(hi)
 }
 
-// typeAliases are the words for groups of data types.
-var typeAliases = []struct {
-	word string
-	t    recon.DataType
-}{
-	{"t3", recon.T3Amp | recon.T3Phi},
-	{"vis", recon.VisAmp | recon.VisPhi},
-}
-
-// typeWords lists the words of ParseTypes: each data type's name, and each group's word
-// after its last member.
-func typeWords() []string {
-	var w []string
-	for _, t := range recon.DataTypes() {
-		w = append(w, t.String())
-		for _, a := range typeAliases {
-			if a.t&t != 0 && a.t&^(t|(t-1)) == 0 {
-				w = append(w, a.word)
-			}
-		}
-	}
-	return w
-}
-
 // typeNames lists the names of the single data types, in the order of recon.DataTypes.
 func typeNames() []string {
 	var w []string
@@ -156,36 +132,9 @@ func typeNames() []string {
 }
 
 // ParseTypes reads a comma-separated list of data types (vis2, t3amp, t3phi, visamp,
-// visphi, and t3 and vis for both parts of a triangle or a visibility).
-func ParseTypes(s string) (recon.DataType, error) {
-	var t recon.DataType
-	for _, w := range strings.Split(s, ",") {
-		w = strings.ToLower(strings.TrimSpace(w))
-		if w == "" {
-			continue
-		}
-		found := false
-		for _, ty := range recon.DataTypes() {
-			if ty.String() == w {
-				t |= ty
-				found = true
-			}
-		}
-		for _, a := range typeAliases {
-			if a.word == w {
-				t |= a.t
-				found = true
-			}
-		}
-		if !found {
-			return 0, fmt.Errorf("unknown data type %q (use %s)", w, strings.Join(typeWords(), ", "))
-		}
-	}
-	if t == 0 {
-		return 0, errors.New("no data type given")
-	}
-	return t, nil
-}
+// visphi, and t3 and vis for both parts of a triangle or a visibility): the words of the
+// table of data types of package recon.
+func ParseTypes(s string) (recon.DataType, error) { return recon.ParseDataTypes(s) }
 
 // formatTypes is the list ParseTypes reads as t ("" for 0).
 func formatTypes(t recon.DataType) string {

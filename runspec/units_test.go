@@ -64,15 +64,9 @@ func TestFormatExact(t *testing.T) {
 // The words of -use are the data types of recon in their order, with t3 and vis after
 // their parts.
 func TestTypeWords(t *testing.T) {
-	got := typeWords()
-	want := []string{"vis2", "t3amp", "t3phi", "t3", "visamp", "visphi", "vis"}
-	if len(got) != len(want) {
-		t.Fatalf("%v, want %v", got, want)
-	}
-	for i := range want {
-		if got[i] != want[i] {
-			t.Fatalf("%v, want %v", got, want)
-		}
+	_, err := ParseTypes("bogus")
+	if want := `unknown data type "bogus" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`; err == nil || err.Error() != want {
+		t.Fatalf("error %v, want %s", err, want)
 	}
 	for _, c := range []struct {
 		in   string

@@ -15,6 +15,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
+	"vcz/regularizers"
 )
 
 func tomlDecode(src []byte, v any) (toml.MetaData, error) {
@@ -99,7 +100,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 			return failure(fmt.Errorf("epoch %s: %w", e.name, err))
 		}
 		if p.Support > 0 {
-			je.Upper = supportUpper(g, p.Support)
+			_, je.Upper = regularizers.SupportBounds(g.N, g.N, g.Pixel, p.Support)
 		}
 		j.Epochs = append(j.Epochs, je)
 	}
@@ -177,19 +178,4 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 			res.Lambda, res.Chi2rAll, res.Iter, filepath.Join(out, "joint.fits"))
 	}
 	return nil
-}
-
-// supportUpper is the upper bound of a support of radius r: 0 outside, +Inf inside.
-func supportUpper(g recon.Grid, r float64) []float64 {
-	n := g.N
-	u := make([]float64, n*n)
-	for iy := range n {
-		for ix := range n {
-			x, y := float64(ix-n/2)*g.Pixel, float64(iy-n/2)*g.Pixel
-			if x*x+y*y <= r*r {
-				u[iy*n+ix] = math.Inf(1)
-			}
-		}
-	}
-	return u
 }

@@ -281,11 +281,11 @@ func writeComparePlots(dir string, d *recon.Data, ok []*compareRun) error {
 		if err != nil {
 			return err
 		}
-		v2m = append(v2m, plots.ModelValues{Name: r.name, Value: obs.Vis2})
+		v2m = append(v2m, plots.ModelValues{Name: r.name, Value: obs.Of(recon.Vis2)})
 		var cp []float64
 		for i := range t.Lambda {
 			if t.PhiOK[i] {
-				cp = append(cp, obs.T3Phi[i]*180/math.Pi)
+				cp = append(cp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
 			}
 		}
 		cpm = append(cpm, plots.ModelValues{Name: r.name, Value: cp})

@@ -168,9 +168,9 @@ func TestCompareDisc(t *testing.T) {
 		}
 		cost := func(theta float64) float64 {
 			c := 0.0
-			for i := range obs.Vis2 {
+			for i := range obs.Of(recon.Vis2) {
 				v := recon.UniformDiscV(theta*recon.Mas, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-				c += (v*v - obs.Vis2[i]) * (v*v - obs.Vis2[i])
+				c += (v*v - obs.Of(recon.Vis2)[i]) * (v*v - obs.Of(recon.Vis2)[i])
 			}
 			return c
 		}

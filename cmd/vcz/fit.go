@@ -445,14 +445,13 @@ func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 		return nil
 	}
 	title := strings.Join(d.Targets, ", ")
+	obs := recon.PredictVis(d, m.VisMany)
 	var sets []plots.Residuals
 	if nv := d.Vis2.Len(); nv > 0 && res.Use&recon.Vis2 != 0 {
-		mv := make([]float64, nv)
+		mv := obs.Of(recon.Vis2)
 		fq := make([]float64, nv)
 		fmax := 0.0
 		for i := range mv {
-			w := m.Vis(d.Vis2.U[i], d.Vis2.V[i])
-			mv[i] = real(w)*real(w) + imag(w)*imag(w)
 			fq[i] = math.Hypot(d.Vis2.U[i], d.Vis2.V[i])
 			fmax = math.Max(fmax, fq[i])
 		}
@@ -469,10 +468,10 @@ func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 		}
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
 			[]plots.ModelValues{{Name: "fitted model", Value: mv}}, curves, plots.Options{Title: titled("V² and fitted model", title)})
-		if err := save(fig, err, "-vis2.png"); err != nil {
+		if err := save(fig, err, "-"+recon.Vis2.String()+".png"); err != nil {
 			return written, err
 		}
-		sets = append(sets, plots.Residuals{Name: "V²", Freq: fq, Value: plots.NormalizedResiduals(nil, d.Vis2.Value, mv, d.Vis2.Err)})
+		sets = append(sets, plots.Residuals{Name: recon.Vis2.Info().Label, Freq: fq, Value: plots.NormalizedResiduals(nil, d.Vis2.Value, mv, d.Vis2.Err)})
 	}
 	if res.Use&recon.T3Phi != 0 {
 		t := &d.T3
@@ -482,22 +481,21 @@ func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 			if !t.PhiOK[i] {
 				continue
 			}
-			b := m.Vis(t.U1[i], t.V1[i]) * m.Vis(t.U2[i], t.V2[i]) * conjC(m.Vis(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i]))
 			td.U1 = append(td.U1, t.U1[i])
 			td.V1 = append(td.V1, t.V1[i])
 			td.U2 = append(td.U2, t.U2[i])
 			td.V2 = append(td.V2, t.V2[i])
 			td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
 			td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
-			mp = append(mp, math.Atan2(imag(b), real(b))*180/math.Pi)
+			mp = append(mp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
 			fq = append(fq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 		}
 		if len(mp) > 0 {
 			fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: "fitted model", Value: mp}}, plots.Options{Title: titled("Closure phases and fitted model", title)})
-			if err := save(fig, err, "-t3phi.png"); err != nil {
+			if err := save(fig, err, "-"+recon.T3Phi.String()+".png"); err != nil {
 				return written, err
 			}
-			sets = append(sets, plots.Residuals{Name: "closure phase", Freq: fq, Value: plots.PhaseResiduals(nil, td.Phi, mp, td.Err)})
+			sets = append(sets, plots.Residuals{Name: recon.T3Phi.Info().Label, Freq: fq, Value: plots.PhaseResiduals(nil, td.Phi, mp, td.Err)})
 		}
 	}
 	if len(sets) > 0 {
@@ -515,8 +513,6 @@ func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 	}
 	return written, nil
 }
-
-func conjC(z complex128) complex128 { return complex(real(z), -imag(z)) }
 
 // baseNames returns the file names of paths without their folders, so that
 // written files carry no machine-specific paths.

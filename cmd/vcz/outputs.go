@@ -74,9 +74,9 @@ func fitsCards(res *recon.Result, info runInfo) []fitsimage.Card {
 		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
 	}
 	for _, t := range res.Chi2 {
-		key := "CHI2" + chi2Key(t.Type)
+		key := "CHI2" + t.Type.Info().Key
 		c = append(c, fitsimage.Card{Key: key, Value: t.Chi2r, Comment: fmt.Sprintf("reduced chi2 of %s (%d points)", t.Type, t.N)})
-		c = append(c, fitsimage.Card{Key: "NPT" + chi2Key(t.Type), Value: t.N, Comment: fmt.Sprintf("number of %s points fitted", t.Type)})
+		c = append(c, fitsimage.Card{Key: "NPT" + t.Type.Info().Key, Value: t.N, Comment: fmt.Sprintf("number of %s points fitted", t.Type)})
 	}
 	c = append(c,
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the final run"},
@@ -121,23 +121,6 @@ func orUnknown(s string) string {
 		return "UNKNOWN"
 	}
 	return s
-}
-
-// chi2Key is the short name of a data type used in FITS keys.
-func chi2Key(t recon.DataType) string {
-	switch t {
-	case recon.Vis2:
-		return "V2"
-	case recon.T3Amp:
-		return "T3A"
-	case recon.T3Phi:
-		return "T3P"
-	case recon.VisAmp:
-		return "VA"
-	case recon.VisPhi:
-		return "VP"
-	}
-	return "X"
 }
 
 // writeResult writes the FITS image of res to out and, when wanted, its PNG
@@ -230,25 +213,25 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 	var resid []plots.Residuals
 	if n := d.Vis2.Len(); n > 0 {
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
-			[]plots.ModelValues{{Name: label, Value: obs.Vis2}}, nil,
+			[]plots.ModelValues{{Name: label, Value: obs.Of(recon.Vis2)}}, nil,
 			plots.Options{Title: "V² — data and image model — " + orNone(info.target)})
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-vis2.png"); err != nil {
+		if err := save(fig, "-"+recon.Vis2.String()+".png"); err != nil {
 			return nil, err
 		}
-		r := plots.Residuals{Name: "V²"}
+		r := plots.Residuals{Name: recon.Vis2.Info().Label}
 		for i := 0; i < n; i++ {
 			r.Freq = append(r.Freq, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-			r.Value = append(r.Value, (d.Vis2.Value[i]-obs.Vis2[i])/d.Vis2.Err[i])
+			r.Value = append(r.Value, (d.Vis2.Value[i]-obs.Of(recon.Vis2)[i])/d.Vis2.Err[i])
 		}
 		resid = append(resid, r)
 	}
 	t := &d.T3
 	var td plots.T3Data
 	var tm []float64
-	rp := plots.Residuals{Name: "closure phase"}
+	rp := plots.Residuals{Name: recon.T3Phi.Info().Label}
 	for i := range t.Lambda {
 		if !t.PhiOK[i] {
 			continue
@@ -259,8 +242,8 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		td.V2 = append(td.V2, t.V2[i])
 		td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
 		td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
-		tm = append(tm, obs.T3Phi[i]*180/math.Pi)
-		dphi := math.Remainder(t.Phi[i]-obs.T3Phi[i], 2*math.Pi)
+		tm = append(tm, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+		dphi := math.Remainder(t.Phi[i]-obs.Of(recon.T3Phi)[i], 2*math.Pi)
 		rp.Freq = append(rp.Freq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 		rp.Value = append(rp.Value, dphi/t.PhiErr[i])
 	}
@@ -270,7 +253,7 @@ func writeFitPlots(stem string, d *recon.Data, res *recon.Result, info runInfo) 
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-t3phi.png"); err != nil {
+		if err := save(fig, "-"+recon.T3Phi.String()+".png"); err != nil {
 			return nil, err
 		}
 		resid = append(resid, rp)

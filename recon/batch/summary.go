@@ -10,6 +10,7 @@ import (
 	"strconv"
 
 	"vcz/io/safefile"
+	"vcz/recon"
 )
 
 // Epoch states recorded in Row.Status.
@@ -33,8 +34,8 @@ type Row struct {
 	Status  string  `json:"status"` // StateDone or StateFailed
 	Error   string  `json:"error,omitempty"`
 	Skipped bool    `json:"skipped,omitempty"` // found complete and not redone
-	// Points and Chi2r are per data type, keyed by the names "vis2", "t3amp", "t3phi",
-	// "visamp", "visphi".
+	// Points and Chi2r are per data type, keyed by the type's word (recon.DataType.String:
+	// "vis2", "t3phi", …).
 	Points     map[string]int     `json:"points"`
 	Chi2r      map[string]float64 `json:"chi2r"`
 	Chi2rTotal float64            `json:"chi2r_total"`
@@ -67,8 +68,15 @@ func (s *Summary) Failed() int {
 	return n
 }
 
-// TypeOrder is the column order of the data types in the CSV table.
-var TypeOrder = []string{"vis2", "t3amp", "t3phi", "visamp", "visphi"}
+// TypeOrder is the column order of the data types in the CSV table: their words in the order
+// of recon's table of data types.
+var TypeOrder = func() []string {
+	var w []string
+	for _, t := range recon.DataTypes() {
+		w = append(w, t.String())
+	}
+	return w
+}()
 
 // WriteJSON writes s to path atomically. Rows without warnings get an empty
 // "warnings" list, never null.

@@ -130,14 +130,14 @@ func Fit(d *recon.Data, m *model.Model, opt Options) (*Result, error) {
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, opt.Use)
+	t := newTerms(d, opt.Use, 1)
 	pr, err := newProblem(t, m)
 	if err != nil {
 		return nil, err
 	}
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	var best *run
-	res := &Result{Use: t.use, Notices: t.notices}
+	res := &Result{Use: t.Use(), Notices: t.Notices()}
 	var seeds [][]float64
 	if !opt.NoScan {
 		seeds = pr.scanSeeds(pr.x0, opt.Starts-1)
@@ -197,11 +197,11 @@ func newProblem(t *terms, m *model.Model) (*problem, error) {
 	if len(pr.refs) == 0 {
 		return nil, errors.New("fit: the model has no free parameter (mark one with '~' or free = true)")
 	}
-	if t.total == 0 {
-		return nil, fmt.Errorf("fit: no data of the types %v to fit", orAll(t.use))
+	if t.Len() == 0 {
+		return nil, fmt.Errorf("fit: no data of the types %v to fit", orAll(t.Use()))
 	}
-	if t.total < len(pr.refs) {
-		return nil, fmt.Errorf("fit: %d data for %d free parameters", t.total, len(pr.refs))
+	if t.Len() < len(pr.refs) {
+		return nil, fmt.Errorf("fit: %d data for %d free parameters", t.Len(), len(pr.refs))
 	}
 	for _, r := range pr.refs {
 		p, err := m.Param(r)
@@ -405,7 +405,7 @@ type run struct {
 // (GTol).
 func (pr *problem) lm(x0 []float64, opt Options) run {
 	p := len(x0)
-	n := pr.t.total
+	n := pr.t.Len()
 	ev0 := pr.evals
 	t := make([]float64, p)
 	pr.toInternal(t, x0)
@@ -558,7 +558,7 @@ func (pr *problem) lm(x0 []float64, opt Options) run {
 // χ² per type.
 func (pr *problem) finish(res *Result, best *run) {
 	p := len(pr.refs)
-	n := pr.t.total
+	n := pr.t.Len()
 	x := make([]float64, p)
 	pr.toUser(x, best.t)
 	r := make([]float64, n)
@@ -574,10 +574,10 @@ func (pr *problem) finish(res *Result, best *run) {
 	res.Iterations = best.iter
 	res.Converged = best.converged
 	res.Reason = best.reason
-	byType := pr.t.chi2ByType(r)
-	for i, ty := range recon.DataTypes() {
-		if pr.t.n[i] > 0 {
-			res.PerType = append(res.PerType, TypeChi2{Type: ty, N: pr.t.n[i], Chi2: byType[i], Chi2r: byType[i] / float64(pr.t.n[i])})
+	for _, ty := range recon.DataTypes() {
+		if n := pr.t.N(ty); n > 0 {
+			c := pr.t.Chi2Of(ty, r)
+			res.PerType = append(res.PerType, TypeChi2{Type: ty, N: n, Chi2: c, Chi2r: c / float64(n)})
 		}
 	}
 	res.Params = make([]Param, p)

@@ -79,35 +79,40 @@ func TestResidualsMatchChi2(t *testing.T) {
 	n.t3phi = 0.5 // large errors, so that some residuals exceed π
 	n.rng = rand.New(rand.NewPCG(1, 2))
 	d := synth(modelVis(truth), n)
-	tr := newTerms(d, 0)
-	r := make([]float64, tr.total)
+	tr := newTerms(d, 0, 1)
+	r := make([]float64, tr.Len())
 	m := mustLoad(t, "ud:diameter=2.2;point:x=2.5,y=1.5,flux=0.3")
 	tr.eval(r, m)
-	got := tr.chi2ByType(r)
-	var want [5]float64
+	types := recon.DataTypes()
+	got := make([]float64, len(types))
+	for i, ty := range types {
+		got[i] = tr.Chi2Of(ty, r)
+	}
+	want := make([]float64, len(types))
+	at := func(ty recon.DataType) *float64 { return &want[slices.Index(types[:], ty)] }
 	for i := range d.Vis2.Value {
 		w := m.Vis(d.Vis2.U[i], d.Vis2.V[i])
 		x := (real(w)*real(w) + imag(w)*imag(w) - d.Vis2.Value[i]) / d.Vis2.Err[i]
-		want[0] += x * x
+		*at(recon.Vis2) += x * x
 	}
 	wrapped := 0
 	for i := range d.T3.Phi {
 		p := &d.T3
 		b := m.Vis(p.U1[i], p.V1[i]) * m.Vis(p.U2[i], p.V2[i]) * cmplx.Conj(m.Vis(p.U1[i]+p.U2[i], p.V1[i]+p.V2[i]))
 		x := (cmplx.Abs(b) - p.Amp[i]) / p.AmpErr[i]
-		want[1] += x * x
+		*at(recon.T3Amp) += x * x
 		dphi := cmplx.Phase(b) - p.Phi[i]
 		if math.Abs(dphi) > math.Pi {
 			wrapped++
 		}
-		want[2] += 2 * (1 - math.Cos(dphi)) / (p.PhiErr[i] * p.PhiErr[i])
+		*at(recon.T3Phi) += 2 * (1 - math.Cos(dphi)) / (p.PhiErr[i] * p.PhiErr[i])
 	}
 	for i := range d.Vis.Amp {
 		p := &d.Vis
 		w := m.Vis(p.U[i], p.V[i])
 		x := (cmplx.Abs(w) - p.Amp[i]) / p.AmpErr[i]
-		want[3] += x * x
-		want[4] += 2 * (1 - math.Cos(cmplx.Phase(w)-p.Phi[i])) / (p.PhiErr[i] * p.PhiErr[i])
+		*at(recon.VisAmp) += x * x
+		*at(recon.VisPhi) += 2 * (1 - math.Cos(cmplx.Phase(w)-p.Phi[i])) / (p.PhiErr[i] * p.PhiErr[i])
 	}
 	if wrapped == 0 {
 		t.Fatal("no closure-phase residual wraps; the test does not exercise the wrap")

@@ -71,11 +71,11 @@ func GridSearch(d *recon.Data, primary *model.Model, opt GridOptions) (*GridResu
 	if err := primary.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, opt.Fit.Use)
-	if t.total == 0 {
+	t := newTerms(d, opt.Fit.Use, 1)
+	if t.Len() == 0 {
 		return nil, errors.New("fit: grid search: no data of the selected types")
 	}
-	g := &GridResult{N: t.total, BestChi2: math.Inf(1)}
+	g := &GridResult{N: t.Len(), BestChi2: math.Inf(1)}
 	base := primary.Clone()
 	if opt.Refit && len(base.Refs(true)) > 0 {
 		res, err := Fit(d, base, opt.Fit)
@@ -84,7 +84,7 @@ func GridSearch(d *recon.Data, primary *model.Model, opt GridOptions) (*GridResu
 		}
 		base = res.Model
 	}
-	r := make([]float64, t.total)
+	r := make([]float64, t.Len())
 	g.Chi2Primary = t.eval(r, base)
 
 	comp, err := model.New(model.Point, map[string]float64{"flux": opt.Ratio * base.TotalFlux()})

@@ -110,87 +110,9 @@ func (pr *problem) scanComponent(x0 []float64, c, ix, iy, k int) []scanMin {
 	if !(tot > 0) || fc == 0 {
 		return nil
 	}
-	t := pr.t
 	// The data scanned: every stride-th datum of each type.
-	stride := 1 + t.total/scanMaxData
-	need := make([]int, len(t.u)) // compact index + 1 of each frequency used, 0 = unused
-	var fu, fv []float64
-	use := func(i int) int {
-		if need[i] == 0 {
-			fu = append(fu, t.u[i])
-			fv = append(fv, t.v[i])
-			need[i] = len(fu)
-		}
-		return need[i] - 1
-	}
-	type v2d struct {
-		f        int
-		val, err float64
-	}
-	type t3d struct {
-		f                [3]int
-		amp, aerr, perr  float64
-		e                complex128
-		hasAmp, hasPhase bool
-	}
-	type vd struct {
-		f                int
-		amp, aerr, perr  float64
-		e                complex128
-		hasAmp, hasPhase bool
-	}
-	var v2s []v2d
-	var t3s []t3d
-	var vs []vd
-	d := t.d
-	for j := 0; j < len(t.v2); j += stride {
-		i := t.v2[j]
-		v2s = append(v2s, v2d{use(t.iv2[j]), d.Vis2.Value[i], d.Vis2.Err[i]})
-	}
-	t3 := map[int]*t3d{}
-	var t3order []int
-	addT3 := func(i int) *t3d {
-		if p, ok := t3[i]; ok {
-			return p
-		}
-		r := t.it3[i]
-		p := &t3d{f: [3]int{use(r[0]), use(r[1]), use(r[2])}}
-		t3[i] = p
-		t3order = append(t3order, i)
-		return p
-	}
-	for j := 0; j < len(t.t3a); j += stride {
-		i := t.t3a[j]
-		p := addT3(i)
-		p.amp, p.aerr, p.hasAmp = d.T3.Amp[i], d.T3.AmpErr[i], true
-	}
-	for j := 0; j < len(t.t3p); j += stride {
-		i := t.t3p[j]
-		p := addT3(i)
-		p.e, p.perr, p.hasPhase = t.e3[j], d.T3.PhiErr[i], true
-	}
-	for _, i := range t3order {
-		t3s = append(t3s, *t3[i])
-	}
-	vmap := map[int]int{}
-	addV := func(i int) *vd {
-		if j, ok := vmap[i]; ok {
-			return &vs[j]
-		}
-		vs = append(vs, vd{f: use(t.iva[i])})
-		vmap[i] = len(vs) - 1
-		return &vs[len(vs)-1]
-	}
-	for j := 0; j < len(t.va); j += stride {
-		i := t.va[j]
-		p := addV(i)
-		p.amp, p.aerr, p.hasAmp = d.Vis.Amp[i], d.Vis.AmpErr[i], true
-	}
-	for j := 0; j < len(t.vp); j += stride {
-		i := t.vp[j]
-		p := addV(i)
-		p.e, p.perr, p.hasPhase = t.ev[j], d.Vis.PhiErr[i], true
-	}
+	sub := newTerms(pr.t.d, pr.t.use, 1+pr.t.Len()/scanMaxData)
+	fu, fv := sub.u, sub.v
 	nf := len(fu)
 	qmax, qmin := 0.0, math.Inf(1)
 	for i := range fu {
@@ -294,34 +216,7 @@ func (pr *problem) scanComponent(x0 []float64, c, ix, iy, k int) []scanMin {
 				for i := range vis {
 					vis[i] = (rest[i] + cf*mv[i]) * ci
 				}
-				s := 0.0
-				for _, p := range v2s {
-					w := vis[p.f]
-					r := (real(w)*real(w) + imag(w)*imag(w) - p.val) / p.err
-					s += r * r
-				}
-				for _, p := range t3s {
-					b := vis[p.f[0]] * vis[p.f[1]] * cconj(vis[p.f[2]])
-					a := math.Sqrt(real(b)*real(b) + imag(b)*imag(b))
-					if p.hasAmp {
-						r := (a - p.amp) / p.aerr
-						s += r * r
-					}
-					if p.hasPhase {
-						s += phaseChi2(b*p.e, a, p.perr)
-					}
-				}
-				for _, p := range vs {
-					w := vis[p.f]
-					a := math.Sqrt(real(w)*real(w) + imag(w)*imag(w))
-					if p.hasAmp {
-						r := (a - p.amp) / p.aerr
-						s += r * r
-					}
-					if p.hasPhase {
-						s += phaseChi2(w*p.e, a, p.perr)
-					}
-				}
+				s := sub.Chi2(vis)
 				if s < best {
 					best, bl = s, l
 				}
@@ -361,17 +256,6 @@ func (pr *problem) scanFluxes(c int, fc, others float64) []float64 {
 		}
 	}
 	return out
-}
-
-// phaseChi2 returns 2(1 − cos Δφ)/σ² for z = |z| e^{iΔφ} of modulus a:
-// the square of the wrap-safe phase residual 2 sin(Δφ/2)/σ of terms.eval.
-// A zero z has no phase and counts as Δφ = π/2.
-func phaseChi2(z complex128, a, sigma float64) float64 {
-	c := 0.0
-	if a > 0 {
-		c = real(z) / a
-	}
-	return 2 * (1 - c) / (sigma * sigma)
 }
 
 // pickMinima returns the cells (row-major indices) of up to k local

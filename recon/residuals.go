@@ -1,0 +1,138 @@
+package recon
+
+import "fmt"
+
+// ResidualOptions select the data of Residuals.
+type ResidualOptions struct {
+	// Use is the set of data types fitted; 0 means every type.
+	Use DataType
+	// Stride keeps every Stride-th datum of each type's list (0 or 1: all), for cheap maps of
+	// χ² over a few parameters.
+	Stride int
+}
+
+// Residuals are the normalised residuals of the data of a data set for a least-squares fit of
+// a normalised model whose visibilities are computed elsewhere (recon/fit fits analytic
+// models). They come from the same data terms as the image objective (term_*.go), in the
+// order of the table of data types and, within a type, of the data: (|V|² − V²ₒ)/σ for V²,
+// (|B| − |B|ₒ)/σ for T3 amplitudes, 2 sin(Δφ/2)/σ for closure phases and absolute visibility
+// phases, and (|V| − Aₒ)/σ for absolute visibility amplitudes, so that the sum of squares of
+// each type is its χ² in Objective. Correlated fluxes, differential amplitudes and
+// differential phases cannot be fitted by a normalised model and are left out with a notice.
+// A Residuals is not safe for concurrent use.
+type Residuals struct {
+	s       sampling
+	terms   [nTypes]term // nil for the types not in use
+	n, off  [nTypes]int
+	total   int
+	use     DataType
+	notices []string
+	c       evalCtx
+}
+
+// NewResiduals selects the data of d that a fit of the types opt.Use uses.
+func NewResiduals(d *Data, opt ResidualOptions) *Residuals {
+	use := opt.Use
+	if use == 0 {
+		use = AllTypes
+	}
+	r := &Residuals{}
+	c := termConfig{lsq: true, stride: opt.Stride}
+	for i, row := range typeTable {
+		r.off[i] = r.total
+		if use&row.Type == 0 {
+			continue
+		}
+		t := row.kind.bind(d, c)
+		r.terms[i] = t
+		r.notices = append(r.notices, t.notices()...)
+		r.n[i] = t.len()
+		r.total += r.n[i]
+		if r.n[i] > 0 {
+			r.use |= row.Type
+		}
+	}
+	n := newNeeds(d)
+	for _, t := range r.terms {
+		if t != nil {
+			t.need(n)
+		}
+	}
+	r.s = newSampling(d, n)
+	r.c = evalCtx{s: &r.s, w: 1}
+	return r
+}
+
+// Points returns the distinct (u,v) points (cycles/rad) at which Eval and Chi2 want the model
+// visibilities. The slices belong to r.
+func (r *Residuals) Points() (u, v []float64) { return r.s.U, r.s.V }
+
+// Len returns the number of residuals.
+func (r *Residuals) Len() int { return r.total }
+
+// Use returns the data types that have data among the residuals.
+func (r *Residuals) Use() DataType { return r.use }
+
+// N returns the number of residuals of one data type.
+func (r *Residuals) N(t DataType) int { return r.n[t.index()] }
+
+// Notices lists what the residuals leave out, one sentence each.
+func (r *Residuals) Notices() []string { return r.notices }
+
+// Eval writes the normalised residuals of the model whose visibilities at Points are vis to
+// dst (length Len) and returns the sum of their squares.
+func (r *Residuals) Eval(dst []float64, vis []complex128) float64 {
+	if len(dst) != r.total || len(vis) != len(r.s.U) {
+		panic(fmt.Sprintf("recon: Residuals.Eval: %d residuals and %d visibilities for %d and %d", len(dst), len(vis), r.total, len(r.s.U)))
+	}
+	c := r.ctx(vis)
+	for i, t := range r.terms {
+		if t != nil {
+			t.residuals(dst[r.off[i]:r.off[i]+r.n[i]], c)
+		}
+	}
+	s := 0.0
+	for _, x := range dst {
+		s += x * x
+	}
+	return s
+}
+
+// Chi2 returns the χ² of the model whose visibilities at Points are vis, the sum of squares of
+// the residuals, without writing them; it is the cheaper of the two.
+func (r *Residuals) Chi2(vis []complex128) float64 {
+	if len(vis) != len(r.s.U) {
+		panic(fmt.Sprintf("recon: Residuals.Chi2: %d visibilities for %d points", len(vis), len(r.s.U)))
+	}
+	c := r.ctx(vis)
+	s := 0.0
+	for _, t := range r.terms {
+		if t != nil {
+			x, _ := t.eval(c, 0, 1)
+			s += x
+		}
+	}
+	return s
+}
+
+// Chi2Of returns the χ² of one data type from residuals res written by Eval.
+func (r *Residuals) Chi2Of(t DataType, res []float64) float64 {
+	i := t.index()
+	s := 0.0
+	for _, x := range res[r.off[i] : r.off[i]+r.n[i]] {
+		s += x * x
+	}
+	return s
+}
+
+// ctx prepares the evaluation at vis: free scales are fitted first.
+func (r *Residuals) ctx(vis []complex128) *evalCtx {
+	c := &r.c
+	c.vis = vis
+	for _, t := range r.terms {
+		if sc, ok := t.(scaler); ok {
+			sc.prepare(c)
+		}
+	}
+	return c
+}

@@ -1,0 +1,115 @@
+package recon
+
+import "math"
+
+// t3PhiKind is the term of closure phases (OI_T3 T3PHI, T3PHIERR in degrees, held in
+// radians; Pauls et al. 2005, PASP 117, 1255): the wrap-safe phase term of term_phase.go on
+// the bispectrum rotated by the measured phase, b = W1·W2·W3·exp(−iφₒ),
+//
+//	χ² = Σ 2(1 − cos φ)/σ²,  φ = arg b,  residual 2 sin(φ/2)/σ.
+//
+// With dJ/dφ = 2 sin φ/σ² and ∂φ/∂(Re, Im) W1 = i W1/|W1|² = i conj(W2 W3 e)·b/|b|², and
+// likewise for W2 and W3, one reciprocal serves all three sides. A zero bispectrum has no
+// phase: its term is 0, without gradient. While Solve smooths the phase terms
+// (SetPhaseSmoothing) the term is smoothPhase(b) with η the smoothing factor times the median
+// measured triple amplitude (phaseScales). The expected χ² is that of term_phase.go.
+// Triangles whose phase is not usable (PhiOK false) are left out.
+type t3PhiKind struct{}
+
+func (t3PhiKind) count(d *Data) int { return countTrue(d.T3.PhiOK) }
+
+func (t3PhiKind) bind(d *Data, c termConfig) term {
+	t := &t3PhiTerm{d: d, idx: pickOK(d.T3.Len(), d.T3.PhiOK, c)}
+	for _, i := range t.idx {
+		t.e = append(t.e, phasor(d.T3.Phi[i]))
+		t.is2 = append(t.is2, 1/(d.T3.PhiErr[i]*d.T3.PhiErr[i]))
+	}
+	t.scale, _ = phaseScales(d)
+	return t
+}
+
+func (t3PhiKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+	out := make([]float64, d.T3.Len())
+	for i, r := range s.t3 {
+		w1, w2, w3 := sides(vis, r)
+		b := w1 * w2 * w3
+		out[i] = math.Atan2(imag(b), real(b))
+	}
+	return out
+}
+
+// t3PhiTerm is the closure-phase term over the triangles idx of d.T3.
+type t3PhiTerm struct {
+	d     *Data
+	idx   []int32
+	e     []complex128 // exp(−iφₒ) of each datum
+	is2   []float64    // 1/σ² of each datum
+	scale float64      // typical triple amplitude, the unit of the smoothing
+}
+
+func (t *t3PhiTerm) len() int          { return len(t.idx) }
+func (t *t3PhiTerm) notices() []string { return nil }
+func (t *t3PhiTerm) need(n *needs) {
+	mark(n.t3, t.idx)
+}
+
+func (t *t3PhiTerm) expected() float64 {
+	s := 0.0
+	for _, i := range t.idx {
+		s += expectedPhaseTerm(t.d.T3.PhiErr[i])
+	}
+	return s
+}
+
+func (t *t3PhiTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
+	w, g, refs, vis := c.w, c.grad, c.s.t3, c.vis
+	s, sm := 0.0, 0.0
+	eta := c.smooth * t.scale
+	lo, hi := part(len(t.idx), k, parts)
+	for j := lo; j < hi; j++ {
+		r := refs[t.idx[j]]
+		w1, w2, w3 := sides(vis, r)
+		e := t.e[j]
+		b := w1 * w2 * w3 * e // B·exp(−iφₒ): its argument is φ − φₒ
+		ab2 := real(b)*real(b) + imag(b)*imag(b)
+		is2 := t.is2[j]
+		if eta > 0 {
+			// The smoothed term of SetPhaseSmoothing; ∂b/∂W1 = W2 W3 e, and likewise.
+			if ab2 > 0 {
+				s += 2 * (1 - real(b)/math.Sqrt(ab2)) * is2
+			}
+			v, gb := smoothPhase(b, eta, is2)
+			sm += v
+			if g != nil {
+				gb *= complex(w, 0)
+				addGrad(g, r[0], conj(w2*w3*e)*gb)
+				addGrad(g, r[1], conj(w1*w3*e)*gb)
+				addGrad(g, r[2], conj(w1*w2*e)*gb)
+			}
+			continue
+		}
+		if !(ab2 > 0) {
+			continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
+		}
+		ia := 1 / math.Sqrt(ab2)
+		cs, sn := real(b)*ia, imag(b)*ia
+		s += 2 * (1 - cs) * is2
+		if g != nil {
+			u := complex(0, 2*w*sn*is2*ia) * b * complex(ia, 0)
+			addGrad(g, r[0], conj(w2*w3*e)*u)
+			addGrad(g, r[1], conj(w1*w3*e)*u)
+			addGrad(g, r[2], conj(w1*w2*e)*u)
+		}
+	}
+	if eta > 0 {
+		return s, w * (sm - s)
+	}
+	return s, 0
+}
+
+func (t *t3PhiTerm) residuals(dst []float64, c *evalCtx) {
+	for k, i := range t.idx {
+		w1, w2, w3 := sides(c.vis, c.s.t3[i])
+		dst[k] = phaseResidual(w1*w2*w3*t.e[k], t.d.T3.PhiErr[i])
+	}
+}

@@ -1,0 +1,197 @@
+package recon
+
+import "math"
+
+// visAmpKind is the term of visibility amplitudes (OI_VIS VISAMP, VISAMPERR; OIFITS v2 AMPTYP,
+// Duvert, Young & Hummel 2017, table 6), by amplitude type:
+//
+//   - absolute amplitudes: the Gaussian χ² of r = (|V| − Aₒ)/σ, with ∂r²/∂V = 2 r/σ · V/|V|;
+//   - correlated fluxes: r = (s|V| − Aₒ)/σ with the flux scale s at its least-squares
+//     optimum s = Σ Aₒ|V|/σ² / Σ |V|²/σ², fitted before each evaluation (prepare); by the
+//     envelope theorem the gradient is taken at fixed s. Least-squares fits of normalised
+//     models leave them out;
+//   - differential amplitudes cannot be fitted by a gray image and are left out with a notice;
+//   - with TermOptions.ComplexVis, a visibility whose amplitude and phase are both absolute is
+//     fitted as one complex number with the error ellipse of its amplitude and phase errors:
+//     z = (V − Aₒe^(iφₒ))·e^(−iφₒ) has its real part along the measured phasor, and this term
+//     is the radial part (Re z/σ_A)²; the tangential part belongs to term_visphi.go.
+//
+// Its expected χ² is one per datum.
+type visAmpKind struct{}
+
+func (visAmpKind) count(d *Data) int { return countTrue(d.Vis.AmpOK) }
+
+func (visAmpKind) bind(d *Data, c termConfig) term {
+	p := &d.Vis
+	t := &visAmpTerm{d: d}
+	t.vx, t.ex = complexVis(p, c)
+	pa, pc := newPicker(c), newPicker(c)
+	ndiff := 0
+	for i := range p.Lambda {
+		absA := p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute
+		switch {
+		case c.complexVis && complexPair(p, i):
+		case absA:
+			if pa.keep() {
+				t.va = append(t.va, int32(i))
+			}
+		case p.AmpOK[i] && p.AmpTyp[i] == AmpCorrelatedFlux && !c.lsq:
+			if pc.keep() {
+				t.vc = append(t.vc, int32(i))
+			}
+		case p.AmpOK[i]:
+			ndiff++
+		}
+	}
+	if c.lsq {
+		t.note = leftOut(ndiff, "%d visibility amplitudes that are not absolute (differential or correlated flux) left out")
+	} else {
+		t.note = leftOut(ndiff, "%d differential visibility amplitudes left out: a gray image cannot model them")
+		t.note = append(t.note, leftOut(len(t.vc), "%d correlated-flux amplitudes fitted with a free flux scale")...)
+	}
+	return t
+}
+
+func (visAmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+	out := make([]float64, d.Vis.Len())
+	for i, r := range s.cvis {
+		out[i] = abs(at(vis, r))
+	}
+	return out
+}
+
+// phasor returns exp(−iφ), which rotates a model quantity by the measured phase φ.
+func phasor(phi float64) complex128 {
+	s, c := math.Sincos(phi)
+	return complex(c, -s)
+}
+
+// complexPair reports whether both the amplitude and the phase of complex visibility i are
+// absolute and usable, so that TermOptions.ComplexVis fits them as one complex number.
+func complexPair(p *VisPoints, i int) bool {
+	return p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute && p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute
+}
+
+// complexVis returns the complex visibilities that c fits as complex numbers (none unless
+// c.complexVis) and their rotations exp(−iφₒ); the amplitude and phase terms both take them.
+func complexVis(p *VisPoints, c termConfig) (vx []int32, ex []complex128) {
+	if !c.complexVis {
+		return nil, nil
+	}
+	pk := newPicker(c)
+	for i := range p.Lambda {
+		if complexPair(p, i) && pk.keep() {
+			vx = append(vx, int32(i))
+			ex = append(ex, phasor(p.Phi[i]))
+		}
+	}
+	return vx, ex
+}
+
+// complexResidual returns z = (V − Aₒe^(iφₒ))·e^(−iφₒ), e = e^(−iφₒ): the residual of a
+// complex visibility in the frame of the measured phasor, radial part real.
+func complexResidual(v complex128, amp float64, e complex128) complex128 {
+	return (v - complex(amp, 0)*conj(e)) * e
+}
+
+// visAmpTerm is the visibility-amplitude term over the absolute amplitudes va, the
+// correlated fluxes vc and the complex visibilities vx of d.Vis.
+type visAmpTerm struct {
+	d          *Data
+	va, vc, vx []int32
+	ex         []complex128 // exp(−iφₒ) of each of vx
+	scale      float64      // flux scale of the correlated fluxes at the last prepare
+	note       []string
+}
+
+func (t *visAmpTerm) len() int          { return len(t.va) + len(t.vc) + len(t.vx) }
+func (t *visAmpTerm) expected() float64 { return float64(t.len()) }
+func (t *visAmpTerm) notices() []string { return t.note }
+func (t *visAmpTerm) need(n *needs) {
+	mark(n.vis, t.va)
+	mark(n.vis, t.vc)
+	mark(n.vis, t.vx)
+}
+
+// prepare fits the flux scale of the correlated fluxes; 0 without them.
+func (t *visAmpTerm) prepare(c *evalCtx) float64 {
+	if len(t.vc) == 0 {
+		return 0
+	}
+	p := &t.d.Vis
+	num, den := 0.0, 0.0
+	for _, i := range t.vc {
+		a := abs(at(c.vis, c.s.cvis[i]))
+		is2 := 1 / (p.AmpErr[i] * p.AmpErr[i])
+		num += p.Amp[i] * a * is2
+		den += a * a * is2
+	}
+	sc := 0.0
+	if den > 0 {
+		sc = num / den
+	}
+	t.scale = sc
+	return sc
+}
+
+func (t *visAmpTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
+	p := &t.d.Vis
+	w, g := c.w, c.grad
+	s := 0.0
+	lo, hi := part(len(t.va), k, parts)
+	for _, i := range t.va[lo:hi] {
+		r := c.s.cvis[i]
+		v := at(c.vis, r)
+		a := abs(v)
+		sig := p.AmpErr[i]
+		res := (a - p.Amp[i]) / sig
+		s += res * res
+		if g != nil {
+			addGrad(g, r, complex(2*w*res/sig, 0)*unit(v, a))
+		}
+	}
+	sc := t.scale
+	lo, hi = part(len(t.vc), k, parts)
+	for _, i := range t.vc[lo:hi] {
+		r := c.s.cvis[i]
+		v := at(c.vis, r)
+		a := abs(v)
+		sig := p.AmpErr[i]
+		res := (sc*a - p.Amp[i]) / sig
+		s += res * res
+		if g != nil {
+			addGrad(g, r, complex(2*w*res*sc/sig, 0)*unit(v, a))
+		}
+	}
+	sa := 0.0
+	lo, hi = part(len(t.vx), k, parts)
+	for j := lo; j < hi; j++ {
+		i := t.vx[j]
+		r := c.s.cvis[i]
+		e := t.ex[j]
+		sr := p.AmpErr[i]
+		rr := real(complexResidual(at(c.vis, r), p.Amp[i], e)) / sr
+		sa += rr * rr
+		if g != nil {
+			addGrad(g, r, complex(2*w*rr/sr, 0)*conj(e))
+		}
+	}
+	return s + sa, 0
+}
+
+func (t *visAmpTerm) residuals(dst []float64, c *evalCtx) {
+	p := &t.d.Vis
+	k := 0
+	for _, i := range t.va {
+		dst[k] = (abs(at(c.vis, c.s.cvis[i])) - p.Amp[i]) / p.AmpErr[i]
+		k++
+	}
+	for _, i := range t.vc {
+		dst[k] = (t.scale*abs(at(c.vis, c.s.cvis[i])) - p.Amp[i]) / p.AmpErr[i]
+		k++
+	}
+	for j, i := range t.vx {
+		dst[k] = real(complexResidual(at(c.vis, c.s.cvis[i]), p.Amp[i], t.ex[j])) / p.AmpErr[i]
+		k++
+	}
+}
