@@ -60,7 +60,10 @@ documents every plan key and -help-model the model forms.
 
 fits a sum of analytic components by Levenberg–Marquardt; "~" marks a free
 parameter, "=" a fixed one, "(min..max)" its bounds. It prints each parameter
-± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type. A
+± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type, and
+each component relative to the brightest: separation (mas), position angle
+(degrees east of north), flux ratio and Δmag, with 1σ errors propagated from
+the covariance (also in -json and the -save-model file). A
 component whose x and y are both free gets 16 starts (-starts), seeded from
 the minima of a quick χ² map of its position, so a companion is found from a
 poor guess; -grid-search maps χ² of a point companion over separation and

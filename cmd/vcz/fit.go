@@ -31,7 +31,11 @@ Run 'vcz simulate -help-model' for every component and parameter.
 
 The table gives each free parameter with its 1σ uncertainty from the
 covariance matrix scaled by χ²ᵣ, the correlations above 0.5 and χ²ᵣ per data
-type. Binaries are multi-modal in separation and position angle: when a
+type. Every other component is then given relative to the brightest (the
+primary): separation (mas), position angle (degrees east of north), flux
+ratio and Δmag = −2.5 log10(ratio), with 1σ errors propagated to first order
+from the covariance; the same lines head the -save-model file and go in
+-json as "pairs". Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
 keeps the best. The extra starts are seeded from a quick χ² map of that
 position over the field (a few trial fluxes, the other parameters at their
@@ -76,6 +80,7 @@ type fitSummary struct {
 	Status       string           `json:"status"`
 	Starts       int              `json:"starts"`
 	BestStart    int              `json:"best_start"`
+	Pairs        []fitPairJ       `json:"pairs"`
 	Grid         *fitGridJ        `json:"grid_search,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
@@ -92,6 +97,22 @@ type fitParamJ struct {
 	Value     jfloat `json:"value"`
 	Error     jfloat `json:"error"`
 	Unit      string `json:"unit"`
+	AtBound   bool   `json:"at_bound"`
+}
+
+// fitPairJ is one component relative to the primary (fit.Pair);
+// components are counted from 1.
+type fitPairJ struct {
+	Primary   int    `json:"primary"`
+	Component int    `json:"component"`
+	Sep       jfloat `json:"separation_mas"`
+	SepErr    jfloat `json:"separation_error_mas"`
+	PA        jfloat `json:"pa_deg"`
+	PAErr     jfloat `json:"pa_error_deg"`
+	Ratio     jfloat `json:"flux_ratio"`
+	RatioErr  jfloat `json:"flux_ratio_error"`
+	DMag      jfloat `json:"dmag"`
+	DMagErr   jfloat `json:"dmag_error"`
 	AtBound   bool   `json:"at_bound"`
 }
 
@@ -310,6 +331,12 @@ func makeFitSummary(res *fit.Result, starts int) fitSummary {
 		s.Params = append(s.Params, fitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
 			Param: p.Ref.Name, Value: jfloat(p.Value), Error: jfloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
 	}
+	s.Pairs = []fitPairJ{}
+	for _, p := range res.Pairs {
+		s.Pairs = append(s.Pairs, fitPairJ{Primary: p.Primary + 1, Component: p.Comp + 1, Sep: jfloat(p.Sep), SepErr: jfloat(p.SepErr),
+			PA: jfloat(p.PA), PAErr: jfloat(p.PAErr), Ratio: jfloat(p.Ratio), RatioErr: jfloat(p.RatioErr),
+			DMag: jfloat(p.DMag), DMagErr: jfloat(p.DMagErr), AtBound: p.AtBound})
+	}
 	for _, t := range res.PerType {
 		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
 	}
@@ -342,6 +369,18 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 			note = "  (at a bound)"
 		}
 		fmt.Fprintf(w, "  %-14s %-9s %16.8g   %-12s %s%s\n", p.Name, p.Kind, float64(p.Value), e, p.Unit, note)
+	}
+	if len(s.Pairs) > 0 {
+		fmt.Fprintf(w, "\nRelative to component %d (the brightest), 1σ propagated from the covariance:\n", s.Pairs[0].Primary)
+		fmt.Fprintf(w, "  %-9s %-22s %-22s %-24s %s\n", "component", "separation (mas)", "PA (° east of north)", "flux ratio", "Δmag")
+		for _, p := range s.Pairs {
+			note := ""
+			if p.AtBound {
+				note = "  (a parameter at a bound: errors not meaningful)"
+			}
+			fmt.Fprintf(w, "  %-9d %-22s %-22s %-24s %s%s\n", p.Component, pm(p.Sep, p.SepErr), pm(p.PA, p.PAErr),
+				pm(p.Ratio, p.RatioErr), pm(p.DMag, p.DMagErr), note)
+		}
 	}
 	if len(s.Correlations) > 0 {
 		fmt.Fprintln(w, "\nCorrelations above 0.5:")
@@ -387,6 +426,21 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 	for _, msg := range s.Notices {
 		fmt.Fprintf(w, "note: %s\n", msg)
 	}
+}
+
+// pm writes a value and its 1σ error with five significant digits of the
+// value ("n/a" for a value that is not finite, no error when it is not
+// available or zero because nothing it depends on is free).
+func pm(v, e jfloat) string {
+	x, err := float64(v), float64(e)
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return "n/a"
+	}
+	s := fmt.Sprintf("%.5g", x)
+	if err > 0 && !math.IsInf(err, 0) {
+		s += fmt.Sprintf(" ± %.2g", err)
+	}
+	return s
 }
 
 func typeOrder(name string) int {

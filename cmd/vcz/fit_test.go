@@ -83,6 +83,25 @@ func TestFitBinaryEndToEnd(t *testing.T) {
 	if !s.Converged || s.Starts != 16 || len(s.CorrMatrix) != 4 || !(s.Chi2r > 0.5 && s.Chi2r < 2) {
 		t.Fatalf("summary %+v", s)
 	}
+	// The companion at (4, −3) mas east-north is at 5 mas, PA
+	// atan2(4, −3) = 126.87° east of north (CONVENTIONS.md), ratio 0.05,
+	// Δmag −2.5 log10 0.05 = 3.2526.
+	if len(s.Pairs) != 1 {
+		t.Fatalf("pairs %+v", s.Pairs)
+	}
+	pr := s.Pairs[0]
+	for _, q := range []struct {
+		name           string
+		got, err, want float64
+	}{{"separation", float64(pr.Sep), float64(pr.SepErr), 5}, {"PA", float64(pr.PA), float64(pr.PAErr), 126.8699},
+		{"ratio", float64(pr.Ratio), float64(pr.RatioErr), 0.05}, {"Δmag", float64(pr.DMag), float64(pr.DMagErr), 3.2526}} {
+		if !(q.err > 0) || math.Abs(q.got-q.want) > 5*q.err {
+			t.Errorf("%s = %g ± %g, truth %g", q.name, q.got, q.err, q.want)
+		}
+	}
+	if pr.Primary != 1 || pr.Component != 2 {
+		t.Errorf("pair %d from %d, want 2 from 1", pr.Component, pr.Primary)
+	}
 	if len(s.Plots) != 3 {
 		t.Fatalf("plots %v", s.Plots)
 	}

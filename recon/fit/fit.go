@@ -117,6 +117,10 @@ type Result struct {
 	Scanned int
 	Use     recon.DataType
 	Notices []string
+	// Pairs gives every component with a position relative to the
+	// primary (the brightest): separation, position angle, flux ratio and
+	// Δmag with their propagated 1σ errors (see Pairs).
+	Pairs []Pair
 }
 
 // Fit fits the free parameters of m to d by Levenberg–Marquardt and
@@ -160,6 +164,11 @@ func Fit(d *recon.Data, m *model.Model, opt Options) (*Result, error) {
 		}
 	}
 	pr.finish(res, best)
+	atBound := make([]bool, len(res.Params))
+	for i, p := range res.Params {
+		atBound[i] = p.AtBound
+	}
+	res.Pairs = Pairs(res.Model, pr.refs, res.Cov, atBound)
 	if !res.Converged {
 		return res, fmt.Errorf("fit: %w after %d iterations: %s", ErrNotConverged, res.Iterations, res.Reason)
 	}

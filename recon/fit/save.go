@@ -9,6 +9,26 @@ import (
 	"vcz/recon/model"
 )
 
+// String gives the pair in one line, e.g. "component 2 from component 1:
+// separation 5.0012 ± 0.0048 mas, PA 126.87 ± 0.06° east of north, flux
+// ratio 0.05003 ± 0.00025, Δmag 3.2526 ± 0.0055"; components are counted
+// from 1 as users read them.
+func (p Pair) String() string {
+	e := func(v, err float64, unit string) string {
+		s := strconv.FormatFloat(v, 'g', 5, 64)
+		if !math.IsNaN(err) && err > 0 {
+			s += " ± " + strconv.FormatFloat(err, 'g', 2, 64)
+		}
+		return s + unit
+	}
+	s := fmt.Sprintf("component %d from component %d: separation %s, PA %s east of north, flux ratio %s, Δmag %s",
+		p.Comp+1, p.Primary+1, e(p.Sep, p.SepErr, " mas"), e(p.PA, p.PAErr, "°"), e(p.Ratio, p.RatioErr, ""), e(p.DMag, p.DMagErr, ""))
+	if p.AtBound {
+		s += " (a parameter is at a bound: errors not meaningful)"
+	}
+	return s
+}
+
 // ModelTOML writes the fitted model of r as a model file in the TOML
 // form that model.ParseTOML reads: one [[component]] table per component
 // with every parameter at its best-fit value, the free ones written
@@ -16,7 +36,7 @@ import (
 // giving the 1σ uncertainty, the fixed ones as plain numbers (or with
 // free = false when they had bounds). Reading the file back and fitting
 // again starts from the solution. header lines are written first as
-// comments.
+// comments, then χ² and one comment line per pair (Pair.String).
 func (r *Result) ModelTOML(header ...string) []byte {
 	errs := map[model.Ref]Param{}
 	for _, p := range r.Params {
@@ -29,6 +49,9 @@ func (r *Result) ModelTOML(header ...string) []byte {
 		}
 	}
 	fmt.Fprintf(&b, "# χ²ᵣ %.6g (χ² %.8g, N = %d, %d free, DOF = %d)\n", r.Chi2r, r.Chi2, r.N, len(r.Params), r.DOF)
+	for _, p := range r.Pairs {
+		b.WriteString("# " + p.String() + "\n")
+	}
 	for i, c := range r.Model.Components {
 		fmt.Fprintf(&b, "\n[[component]]\nkind = %q\n", string(c.Kind()))
 		for _, p := range c.Params() {

@@ -47,6 +47,10 @@ func TestModelTOMLRoundTrip(t *testing.T) {
 	if !strings.HasPrefix(string(src), "# fitted to test data\n# second line\n") || !strings.Contains(string(src), "± ") {
 		t.Errorf("header or uncertainty comments missing:\n%s", src)
 	}
+	if len(res.Pairs) != 1 || !strings.Contains(string(src), "# "+res.Pairs[0].String()+"\n") ||
+		!strings.Contains(string(src), "component 2 from component 1: separation 5") {
+		t.Errorf("pair comment missing:\n%s", src)
+	}
 
 	py := "/usr/bin/python3"
 	if _, err := os.Stat(py); err != nil {
