@@ -63,7 +63,12 @@ parameter, "=" a fixed one, "(min..max)" its bounds. It prints each parameter
 ± 1σ (covariance scaled by χ²ᵣ), correlations and χ²ᵣ per data type, and
 each component relative to the brightest: separation (mas), position angle
 (degrees east of north), flux ratio and Δmag, with 1σ errors propagated from
-the covariance (also in -json and the -save-model file). A
+the covariance (also in -json and the -save-model file). The significance of
+each component (-no-significance skips it) is the χ² of the model without it
+against the χ² with it, rescaled so that the latter's χ²ᵣ is 1, as a p-value
+of the χ² distribution with the component's number of free parameters and a
+Gaussian-equivalent σ; it holds at a given position, a searched position
+reaches it by chance more often, and calibration errors inflate it. A
 component whose x and y are both free gets 16 starts (-starts), seeded from
 the minima of a quick χ² map of its position, so a companion is found from a
 poor guess; -grid-search maps χ² of a point companion over separation and

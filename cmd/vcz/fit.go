@@ -35,7 +35,17 @@ type. Every other component is then given relative to the brightest (the
 primary): separation (mas), position angle (degrees east of north), flux
 ratio and Δmag = −2.5 log10(ratio), with 1σ errors propagated to first order
 from the covariance; the same lines head the -save-model file and go in
--json as "pairs". Binaries are multi-modal in separation and position angle: when a
+-json as "pairs".
+
+The significance of each component with free parameters compares the χ²
+of the model without it (refitted) with the χ² with it, both divided by the
+χ²ᵣ with it so that it is 1; the difference is referred to the χ²
+distribution with as many degrees of freedom as the component has free
+parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
+0.27 %). It is calibrated for a component at a given position; when its
+position was searched (free x and y, -grid-search), chance alone reaches a
+given σ far more often, and calibration errors outside the error bars
+inflate it too. -no-significance skips it. Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
 keeps the best. The extra starts are seeded from a quick χ² map of that
 position over the field (a few trial fluxes, the other parameters at their
@@ -81,6 +91,7 @@ type fitSummary struct {
 	Starts       int              `json:"starts"`
 	BestStart    int              `json:"best_start"`
 	Pairs        []fitPairJ       `json:"pairs"`
+	Detections   []fitDetectJ     `json:"significance"`
 	Grid         *fitGridJ        `json:"grid_search,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
@@ -114,6 +125,20 @@ type fitPairJ struct {
 	DMag      jfloat `json:"dmag"`
 	DMagErr   jfloat `json:"dmag_error"`
 	AtBound   bool   `json:"at_bound"`
+}
+
+// fitDetectJ is the significance of one component (fit.Detection);
+// components are counted from 1.
+type fitDetectJ struct {
+	Component int    `json:"component"`
+	Chi2Null  jfloat `json:"chi2_without"`
+	Chi2Alt   jfloat `json:"chi2_with"`
+	Scale     jfloat `json:"chi2r_scale"`
+	Extra     int    `json:"extra_parameters"`
+	DeltaChi2 jfloat `json:"delta_chi2"`
+	PValue    jfloat `json:"p_value"`
+	Sigma     jfloat `json:"sigma"`
+	Searched  bool   `json:"position_searched"`
 }
 
 type fitCorrJ struct {
@@ -163,6 +188,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	saveModel := fs.String("save-model", "", "write the fitted model as a TOML model file (for -model and 'vcz image -from-model')")
 	n := fs.Int("n", 128, "grid size in pixels of -write-image")
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
+	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (and -json)")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -245,6 +271,22 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return badInputf("fit: %v", fitErr)
 	}
 	sum := makeFitSummary(res, opt.Starts)
+	sum.Detections = []fitDetectJ{}
+	if !*noSig {
+		for _, p := range res.Pairs {
+			det, err := fit.Significance(d, res, p.Comp, opt)
+			if err != nil {
+				continue // a fixed component has no significance to give
+			}
+			searched := false
+			for _, q := range res.Params {
+				searched = searched || (q.Ref.Comp == p.Comp && (q.Ref.Name == "x" || q.Ref.Name == "y"))
+			}
+			sum.Detections = append(sum.Detections, fitDetectJ{Component: p.Comp + 1, Chi2Null: jfloat(det.Chi2Null),
+				Chi2Alt: jfloat(det.Chi2Alt), Scale: jfloat(det.Scale), Extra: det.Extra, DeltaChi2: jfloat(det.DeltaChi2),
+				PValue: jfloat(det.PValue), Sigma: jfloat(det.Sigma), Searched: searched})
+		}
+	}
 	if g != nil {
 		sum.Grid = &fitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
 			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
@@ -279,6 +321,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		header := []string{
 			"Model fitted by vcz fit " + version + " to " + strings.Join(baseNames(fs.Args()), ", "),
 			"start model: " + m.String(),
+		}
+		for _, det := range sum.Detections {
+			header = append(header, detectionLine(det))
 		}
 		if !res.Converged {
 			header = append(header, "WARNING: the fit did not converge: "+res.Reason)
@@ -382,6 +427,19 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 				pm(p.Ratio, p.RatioErr), pm(p.DMag, p.DMagErr), note)
 		}
 	}
+	if len(s.Detections) > 0 {
+		fmt.Fprintln(w, "\nSignificance (χ² without against with the component, both divided by the χ²ᵣ with it):")
+		searched := false
+		for _, det := range s.Detections {
+			fmt.Fprintf(w, "  %s\n", detectionLine(det))
+			searched = searched || det.Searched
+		}
+		fmt.Fprintln(w, "  Caution: calibration errors outside the error bars inflate these figures.")
+		if searched {
+			fmt.Fprintln(w, "  A position that was searched raises the chance of a spurious companion: the figure")
+			fmt.Fprintln(w, "  holds at one position, and a search over the field reaches it by chance far more often.")
+		}
+	}
 	if len(s.Correlations) > 0 {
 		fmt.Fprintln(w, "\nCorrelations above 0.5:")
 		for _, c := range s.Correlations {
@@ -426,6 +484,19 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 	for _, msg := range s.Notices {
 		fmt.Fprintf(w, "note: %s\n", msg)
 	}
+}
+
+// detectionLine gives the significance of a component in one line.
+func detectionLine(d fitDetectJ) string {
+	sig := "n/a"
+	if x := float64(d.Sigma); !math.IsNaN(x) {
+		sig = fmt.Sprintf("%.1fσ", x)
+	}
+	p := fmt.Sprintf("p = %.2g", float64(d.PValue))
+	if d.PValue == 0 {
+		p = "p < 1e-300"
+	}
+	return fmt.Sprintf("component %d: Δχ² %.5g for %d parameters, %s, %s", d.Component, float64(d.DeltaChi2), d.Extra, p, sig)
 }
 
 // pm writes a value and its 1σ error with five significant digits of the

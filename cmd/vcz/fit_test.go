@@ -99,6 +99,10 @@ func TestFitBinaryEndToEnd(t *testing.T) {
 			t.Errorf("%s = %g ± %g, truth %g", q.name, q.got, q.err, q.want)
 		}
 	}
+	if len(s.Detections) != 1 || s.Detections[0].Component != 2 || s.Detections[0].Extra != 3 ||
+		!(s.Detections[0].Sigma > 5) || !s.Detections[0].Searched {
+		t.Errorf("significance %+v, want component 2 with 3 parameters above 5σ", s.Detections)
+	}
 	if pr.Primary != 1 || pr.Component != 2 {
 		t.Errorf("pair %d from %d, want 2 from 1", pr.Component, pr.Primary)
 	}

@@ -51,6 +51,18 @@
 // of the transformation (Pairs). On fitted binaries they agree with a
 // Monte Carlo of the covariance to about 1 %.
 //
+// # Significance
+//
+// Significance compares the χ² of a fit without a component with the χ²
+// with it, rescaled so that the fit with it has χ²ᵣ = 1, against the χ²
+// distribution with the component's number of free parameters
+// (NewDetection gives the source and the limits). For a single star and a
+// companion of free flux at a fixed position the false-detection rates at
+// 2σ and 3σ match the normal tails over 4 000 noise draws. With the
+// position searched too (16 seeded starts) the rates on the same data were
+// 60 % at 2σ and 12 % at 3σ over 300 draws: the figure is local, not
+// field-wide.
+//
 // # Model files
 //
 // Result.ModelTOML writes the fitted model in the TOML form that
