@@ -63,6 +63,18 @@
 // 60 % at 2σ and 12 % at 3σ over 300 draws: the figure is local, not
 // field-wide.
 //
+// # Detection limits
+//
+// DetectionLimits gives, at each position of a separation × position
+// angle grid next to a fitted model, the flux ratio of a point companion
+// that would have been detected at 3σ and 5σ (by default), from the
+// excess χ² such a companion would give the model, its free parameters
+// refitted to first order; Limits.WriteCSV writes the azimuthal mean and
+// worst case against separation. Companions injected at 1.5 times the 5σ
+// limit were detected at 5σ in 119 of 120 draws at three positions, at
+// half of it in 1 of 120. A 50 × 50 grid on 2 040 data takes about 5 s on
+// two shared cores (BenchmarkDetectionLimits).
+//
 // # Model files
 //
 // Result.ModelTOML writes the fitted model in the TOML form that
