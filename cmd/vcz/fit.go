@@ -57,6 +57,15 @@ separation and position angle (east of north) next to the model, reports the
 best cell, then fits the model plus a companion started there (its x, y and
 flux free).
 
+-limits PREFIX gives detection limits of a further point companion next to
+the fitted model, taken as the truth with its errors scaled to χ²ᵣ = 1: at
+each of -limits-nsep × -limits-npa positions (separations over -grid-sep),
+the flux ratio whose companion would change χ² by the Δχ² of a 3σ and a 5σ
+detection (3 degrees of freedom: its position and flux), the model's free
+parameters refitted to first order. PREFIX.csv gives the mean and worst
+ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
+against separation.
+
 Outputs with -plot PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
 (closure phases), PREFIX-residuals.png (normalised residuals) and, with
 -grid-search, PREFIX-grid.png (the χ² map). -write-image writes the fitted
@@ -93,6 +102,7 @@ type fitSummary struct {
 	Pairs        []fitPairJ       `json:"pairs"`
 	Detections   []fitDetectJ     `json:"significance"`
 	Grid         *fitGridJ        `json:"grid_search,omitempty"`
+	Limits       *fitLimitsJ      `json:"detection_limits,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
 	ModelFile    string           `json:"model_file,omitempty"`
@@ -139,6 +149,18 @@ type fitDetectJ struct {
 	PValue    jfloat `json:"p_value"`
 	Sigma     jfloat `json:"sigma"`
 	Searched  bool   `json:"position_searched"`
+}
+
+// fitLimitsJ gives the detection limits: the files written and the
+// azimuthal mean Δmag against separation at each significance (null
+// where no ratio up to 1 is detected).
+type fitLimitsJ struct {
+	CSV      string              `json:"csv"`
+	Plot     string              `json:"plot"`
+	Sep      []float64           `json:"separation_mas"`
+	MeanDMag map[string][]jfloat `json:"dmag_mean"`
+	Worst    map[string][]jfloat `json:"dmag_worst"`
+	Scale    jfloat              `json:"chi2r_scale"`
 }
 
 type fitCorrJ struct {
@@ -188,6 +210,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	saveModel := fs.String("save-model", "", "write the fitted model as a TOML model file (for -model and 'vcz image -from-model')")
 	n := fs.Int("n", 128, "grid size in pixels of -write-image")
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
+	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
+	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
+	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (and -json)")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -206,7 +231,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *plotPrefix != "" {
 		plotFile = *plotPrefix + "-vis2.png"
 	}
-	if err := checkOutputs(*writeImage, *saveModel, plotFile); err != nil {
+	limitsFile := ""
+	if *limits != "" {
+		limitsFile = *limits + ".csv"
+		if *limNSep < 2 || *limNPA < 1 {
+			return badInputf("fit: -limits-nsep must be ≥ 2 and -limits-npa ≥ 1")
+		}
+	}
+	if err := checkOutputs(*writeImage, *saveModel, plotFile, limitsFile); err != nil {
 		return err
 	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
@@ -227,18 +259,19 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	}
 	opt := fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}
 
+	// The separations of -grid-search and -limits, in mas.
+	sepMin, sepMax := 0.0, 0.75*d.Summarize().LargestScale/recon.Mas
+	if *gridSep != "" {
+		lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
+		if err != nil {
+			return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
+		}
+		sepMin, sepMax = lo/recon.Mas, hi/recon.Mas
+	}
 	var g *fit.GridResult
 	if *grid {
-		gopt := fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, Fit: opt}
-		if *gridSep != "" {
-			lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
-			if err != nil {
-				return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
-			}
-			gopt.SepMin, gopt.SepMax = lo/recon.Mas, hi/recon.Mas
-		} else {
-			gopt.SepMax = 0.75 * d.Summarize().LargestScale / recon.Mas
-		}
+		gopt := fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, Fit: opt,
+			SepMin: sepMin, SepMax: sepMax}
 		if *gridNSep < 2 || *gridNPA < 1 || !(*gridRatio > 0) {
 			return badInputf("fit: -grid-nsep must be ≥ 2, -grid-npa ≥ 1 and -grid-ratio > 0")
 		}
@@ -290,6 +323,17 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if g != nil {
 		sum.Grid = &fitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
 			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
+	}
+	if *limits != "" {
+		L, err := fit.DetectionLimits(d, res, fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA})
+		if err != nil {
+			return badInputf("fit: -limits: %v", err)
+		}
+		lj, err := writeLimits(L, *limits, strings.Join(d.Targets, ", "))
+		if err != nil {
+			return failure(err)
+		}
+		sum.Limits = lj
 	}
 	if *plotPrefix != "" {
 		written, err := fitPlots(d, res, g, *plotPrefix)
@@ -472,6 +516,28 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 		fmt.Fprintf(w, "Grid search (flux ratio %g): best separation %.4g mas, PA %.4g° (east %.4g, north %.4g mas), χ² %.6g vs %.6g without a companion\n",
 			g.Ratio, g.BestSep, g.BestPA, g.BestX, g.BestY, g.BestChi2, g.Chi2Primary)
 	}
+	if l := s.Limits; l != nil {
+		fmt.Fprintf(w, "\nDetection limits of a further point companion (Δmag, mean over position angle; errors scaled by χ²ᵣ %.3g):\n", float64(l.Scale))
+		var names []string
+		for name := range l.MeanDMag {
+			names = append(names, name)
+		}
+		sort.Strings(names)
+		fmt.Fprintf(w, "  %-16s", "separation (mas)")
+		for _, name := range names {
+			fmt.Fprintf(w, " %8s", name)
+		}
+		fmt.Fprintln(w)
+		step := max(1, len(l.Sep)/10)
+		for i := 0; i < len(l.Sep); i += step {
+			fmt.Fprintf(w, "  %-16.4g", l.Sep[i])
+			for _, name := range names {
+				fmt.Fprintf(w, " %8s", pm(l.MeanDMag[name][i], 0))
+			}
+			fmt.Fprintln(w)
+		}
+		fmt.Fprintf(w, "Wrote %s and %s\n", l.CSV, l.Plot)
+	}
 	for _, p := range s.Plots {
 		fmt.Fprintf(w, "Wrote %s\n", p)
 	}
@@ -484,6 +550,40 @@ func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
 	for _, msg := range s.Notices {
 		fmt.Fprintf(w, "note: %s\n", msg)
 	}
+}
+
+// writeLimits writes the CSV and the plot of detection limits and returns
+// their summary.
+func writeLimits(L *fit.Limits, prefix, target string) (*fitLimitsJ, error) {
+	j := &fitLimitsJ{CSV: prefix + ".csv", Plot: prefix + ".png", Sep: L.Sep, Scale: jfloat(L.Scale),
+		MeanDMag: map[string][]jfloat{}, Worst: map[string][]jfloat{}}
+	var lines []plots.ContrastLine
+	for k, s := range L.Sigmas {
+		name := fmt.Sprintf("%gσ", s)
+		mean, worst := make([]float64, len(L.Sep)), make([]float64, len(L.Sep))
+		for i := range L.Sep {
+			mean[i], worst[i] = fit.DMag(L.Mean[k][i]), fit.DMag(L.Worst[k][i])
+			j.MeanDMag[name] = append(j.MeanDMag[name], jfloat(mean[i]))
+			j.Worst[name] = append(j.Worst[name], jfloat(worst[i]))
+		}
+		lines = append(lines, plots.ContrastLine{Name: name + ", mean over position angle", Sep: L.Sep, DMag: mean},
+			plots.ContrastLine{Name: name + ", worst position angle", Sep: L.Sep, DMag: worst, Dashed: true})
+	}
+	// Colours by significance: both lines of one significance share one.
+	for k := range lines {
+		lines[k].Series = k / 2
+	}
+	if err := safefile.Write(j.CSV, L.WriteCSV); err != nil {
+		return nil, err
+	}
+	fig, err := plots.Contrast(lines, plots.Options{Title: titled("Detection limits of a point companion", target)})
+	if err != nil {
+		return nil, err
+	}
+	if err := fig.WriteFile(j.Plot); err != nil {
+		return nil, err
+	}
+	return j, nil
 }
 
 // detectionLine gives the significance of a component in one line.

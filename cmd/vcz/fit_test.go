@@ -427,3 +427,38 @@ func TestImageFromModelErrors(t *testing.T) {
 		}
 	}
 }
+
+// -limits on a simulated single star writes a CSV whose rows are the
+// separations asked for, with 5σ limits brighter (smaller Δmag) than 3σ
+// ones at every separation (a higher threshold needs a brighter
+// companion), and a valid PNG.
+func TestFitLimits(t *testing.T) {
+	data := simulatedFile(t, "ud:diameter=2.5")
+	prefix := filepath.Join(t.TempDir(), "lim")
+	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-limits", prefix, "-grid-sep", "1:20",
+		"-limits-nsep", "10", "-limits-npa", "12", "-json", data)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var s fitSummary
+	if err := json.Unmarshal([]byte(stdout), &s); err != nil {
+		t.Fatal(err)
+	}
+	l := s.Limits
+	if l == nil || len(l.Sep) != 10 || l.Sep[0] != 1 || l.Sep[9] != 20 || len(l.MeanDMag["3σ"]) != 10 {
+		t.Fatalf("limits %+v", l)
+	}
+	for i := range l.Sep {
+		if !(l.MeanDMag["5σ"][i] < l.MeanDMag["3σ"][i]) {
+			t.Errorf("%g mas: Δmag %g at 5σ, %g at 3σ", l.Sep[i], l.MeanDMag["5σ"][i], l.MeanDMag["3σ"][i])
+		}
+	}
+	b, err := os.ReadFile(prefix + ".csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if lines := strings.Split(strings.TrimSpace(string(b)), "\n"); len(lines) != 11 || !strings.HasPrefix(lines[0], "separation_mas,") {
+		t.Fatalf("CSV:\n%s", b)
+	}
+	checkPNG(t, prefix+".png")
+}

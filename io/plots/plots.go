@@ -752,3 +752,57 @@ func (integerTicks) Ticks(min, max float64) []plot.Tick {
 	}
 	return ts
 }
+
+// ContrastLine is one detection-limit curve: the magnitude difference
+// DMag of the faintest companion detected at each separation Sep (mas).
+type ContrastLine struct {
+	Name      string
+	Sep, DMag []float64
+	// Dashed draws the line dashed, e.g. for a worst case beside a mean.
+	Dashed bool
+	// Series picks the colour from the palette: lines with equal Series
+	// share a colour (e.g. the mean and worst case of one significance).
+	Series int
+}
+
+// Contrast plots detection limits, Δmag against separation in mas, one
+// line per ContrastLine, fainter companions (larger Δmag) higher up.
+// Non-finite points break nothing: they are left out.
+func Contrast(lines []ContrastLine, opt Options) (*Figure, error) {
+	p := newPlot(opt.title("Detection limits"), "separation (mas)", "Δmag (companion − primary)")
+	p.Add(plotter.NewGrid())
+	total := 0
+	for k, c := range lines {
+		if len(c.Sep) != len(c.DMag) {
+			return nil, fmt.Errorf("plots: contrast: line %q has %d separations and %d values", c.Name, len(c.Sep), len(c.DMag))
+		}
+		var xy plotter.XYs
+		for i := range c.Sep {
+			if finite(c.Sep[i], c.DMag[i]) {
+				xy = append(xy, plotter.XY{X: c.Sep[i], Y: c.DMag[i]})
+			}
+		}
+		if len(xy) == 0 {
+			continue
+		}
+		total += len(xy)
+		l, err := plotter.NewLine(xy)
+		if err != nil {
+			return nil, fmt.Errorf("plots: contrast: %w", err)
+		}
+		l.LineStyle.Width = vg.Points(1.6)
+		l.LineStyle.Color = seriesColor(c.Series)
+		if c.Dashed {
+			l.LineStyle.Dashes = []vg.Length{vg.Points(6), vg.Points(3)}
+		}
+		p.Add(l)
+		p.Legend.Add(legendName(c.Name, "limit", k, len(lines)), l)
+	}
+	if total == 0 {
+		return nil, fmt.Errorf("plots: contrast: %w", ErrNoData)
+	}
+	padX(p, false)
+	padY(p, false)
+	roomForLegend(p, len(lines), false)
+	return single(p, opt), nil
+}

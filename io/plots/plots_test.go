@@ -71,6 +71,7 @@ func uvTest() (u, v, lam []float64) {
 }
 
 func TestAllPlotsRender(t *testing.T) {
+	nan := math.NaN()
 	u, v, lam := uvTest()
 	n := len(u)
 	v2, e2, m2 := make([]float64, n), make([]float64, n), make([]float64, n)
@@ -112,6 +113,10 @@ func TestAllPlotsRender(t *testing.T) {
 		}},
 		{"L-curve", func(o Options) (*Figure, error) { return LCurve([]LPath{{"entropy", path, 2}}, o) }},
 		{"chi2 map", func(o Options) (*Figure, error) { return Chi2Map(grid, o) }},
+		{"contrast", func(o Options) (*Figure, error) {
+			sep := []float64{1, 2, 4, 8, 16}
+			return Contrast([]ContrastLine{{"3σ", sep, []float64{3, 5, 6, nan, 6.5}, false, 0}, {"5σ", sep, []float64{2, 4, 5, 5.2, 5.5}, true, 1}}, o)
+		}},
 	}
 	for _, c := range cases {
 		for _, o := range []Options{{}, {Width: 640, Height: 480, Title: "custom"}} {
@@ -133,6 +138,9 @@ func TestEmptyInput(t *testing.T) {
 	cases := map[string]func() (*Figure, error){
 		"uv empty": func() (*Figure, error) { return UVCoverage(UV{}, Options{}) },
 		"uv NaN":   func() (*Figure, error) { return UVCoverage(UV{U: []float64{nan}, V: []float64{1}}, Options{}) },
+		"contrast NaN": func() (*Figure, error) {
+			return Contrast([]ContrastLine{{"3σ", []float64{1}, []float64{nan}, false, 0}}, Options{})
+		},
 		"v2 empty": func() (*Figure, error) { return V2(V2Data{}, nil, nil, Options{}) },
 		"v2 all NaN": func() (*Figure, error) {
 			return V2(V2Data{U: []float64{1}, V: []float64{1}, Value: []float64{nan}}, nil, nil, Options{})
