@@ -45,7 +45,9 @@ parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
 0.27 %). It is calibrated for a component at a given position; when its
 position was searched (free x and y, -grid-search), chance alone reaches a
 given σ far more often, and calibration errors outside the error bars
-inflate it too. -no-significance skips it. Binaries are multi-modal in separation and position angle: when a
+inflate it too. -no-significance skips it.
+
+Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
 keeps the best. The extra starts are seeded from a quick χ² map of that
 position over the field (a few trial fluxes, the other parameters at their
