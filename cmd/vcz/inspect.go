@@ -123,10 +123,14 @@ func makeInspectReport(d *recon.Data) inspectReport {
 		MJD:        inspectRange{s.MJDMin, s.MJDMax},
 		Nights:     s.Nights,
 		Notices:    nonNil(d.Notices),
-		Grid: inspectGrid{
-			N: s.Grid.N, PixelMas: s.Grid.Pixel / recon.Mas, FOVMas: s.Grid.FOV / recon.Mas,
-			SizeModel: s.Grid.SizeModel, SizeMas: s.Grid.Size / recon.Mas, Reasons: nonNil(s.Grid.Reasons),
-		},
+		Grid:       inspectGrid{Reasons: nonNil(nil)},
+	}
+	// The grid vcz image would choose with default options; none without usable data.
+	if g, err := recon.ChooseGrid(d, recon.GridOptions{}); err == nil {
+		r.Grid = inspectGrid{
+			N: g.N, PixelMas: g.Pixel / recon.Mas, FOVMas: g.FOV / recon.Mas,
+			SizeModel: g.SizeModel, SizeMas: g.Size / recon.Mas, Reasons: nonNil(g.Reasons),
+		}
 	}
 	for _, in := range s.Instruments {
 		r.Instruments = append(r.Instruments, inspectInstrument{in.Name, in.Channels, in.LambdaMin * 1e6, in.LambdaMax * 1e6})
