@@ -19,6 +19,7 @@ import (
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/preview"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/runspec"
@@ -475,7 +476,7 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 		row.MJDMin, row.MJDMax = lo, hi
 	}
 	fitsPath := filepath.Join(out, e.name+".fits")
-	sum, err := reconstruct(files, d, e.spec, preview.Linear, fitsPath, true, false, true, io.Discard)
+	sum, err := reconstruct(files, d, e.spec, output.Outputs{NoPlots: true}, fitsPath, true, io.Discard)
 	if err != nil {
 		return fail(err)
 	}

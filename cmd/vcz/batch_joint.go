@@ -12,6 +12,7 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/preview"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
@@ -132,7 +133,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,
 		BUnit: "flux/pixel", Normalized: true}
 	cube.Cards = append(cube.Cards,
-		fitsimage.Card{Key: "CREATOR", Value: "vcz " + version, Comment: "software that made this image"},
+		fitsimage.Card{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the kept run"})
@@ -140,8 +141,8 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 		cube.Data = append(cube.Data, res.Images[t]...)
 		mid := (rows[t].MJDMin + rows[t].MJDMax) / 2
 		cube.Cards = append(cube.Cards,
-			fitsimage.Card{Key: fmt.Sprintf("MJD%03d", t+1), Value: mid, Comment: fitsASCII("mean MJD of plane " + fmt.Sprint(t+1))},
-			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: fitsASCII(truncate(e.name, 68)), Comment: "epoch name"},
+			fitsimage.Card{Key: fmt.Sprintf("MJD%03d", t+1), Value: mid, Comment: output.ASCII("mean MJD of plane " + fmt.Sprint(t+1))},
+			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: output.ASCII(output.Truncate(e.name, 68)), Comment: "epoch name"},
 			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", t+1), Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"})
 	}
 	for _, s := range res.Path {
@@ -154,7 +155,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 	for t, e := range epochs {
 		im := &fitsimage.Image{NX: n, NY: n, Pixel: grid.Pixel, Data: res.Images[t], RA: ra, Dec: dec, HasRADec: hasRADec,
 			BUnit: "flux/pixel", Normalized: true, Cards: []fitsimage.Card{
-				{Key: "CREATOR", Value: "vcz " + version, Comment: "software that made this image"},
+				{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 				{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda of the joint run"},
 				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
 				{Key: "MJD-AVG", Value: (rows[t].MJDMin + rows[t].MJDMax) / 2, Comment: "mean MJD of the epoch"},

@@ -10,6 +10,8 @@ import (
 	"runtime/debug"
 	"sort"
 	"strings"
+
+	"vcz/output"
 )
 
 // Exit codes, documented in doc.go.
@@ -21,7 +23,7 @@ const (
 
 // version is the release this source tree describes. Builds from a
 // checkout add the VCS revision when the toolchain records one.
-const version = "0.1.0-dev"
+const version = output.Version
 
 // exitError carries the exit code that an error should produce.
 type exitError struct {

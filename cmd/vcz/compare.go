@@ -12,7 +12,6 @@ import (
 	"sync"
 	"time"
 
-	"vcz/io/oifits"
 	"vcz/io/preview"
 	"vcz/recon"
 	"vcz/regularizers"
@@ -462,15 +461,4 @@ func (p *multiProgress) finish() {
 
 func oneLine(s string) string {
 	return strings.ReplaceAll(strings.TrimSpace(s), "\n", "; ")
-}
-
-// compareInfo is the provenance of one regularizer's image.
-func compareInfo(files []*oifits.File, d *recon.Data, cf *compareFlags, r *compareRun) runInfo {
-	info := runInfo{files: d.Files, reg: r.name, seed: r.settings.Seed, seconds: r.seconds, stretch: cf.stretch, options: r.spec.String()}
-	if len(d.Targets) == 1 {
-		info.target = d.Targets[0]
-		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
-	}
-	info.title = imageTitle(d, info)
-	return info
 }

@@ -18,6 +18,7 @@ import (
 	"vcz/io/plots"
 	"vcz/io/preview"
 	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
 )
 
@@ -74,9 +75,9 @@ func writeComparison(dir string, files []*oifits.File, d *recon.Data, choice rec
 		} else {
 			res := r.res
 			res.Grid.Reasons, res.Grid.SizeModel, res.Grid.Size = choice.Reasons, choice.SizeModel, choice.Size
-			info := compareInfo(files, d, cf, r)
 			out := filepath.Join(dir, r.name+".fits")
-			if _, err := writeResult(out, d, res, info, true, false); err != nil {
+			run := output.Run{Files: files, Data: d, Spec: r.spec, Result: res, Label: r.name}
+			if _, err := (output.Outputs{NoPlots: true, Stretch: cf.stretch}).Write(out, run); err != nil {
 				return nil, err
 			}
 			row.FITS = filepath.Base(out)
@@ -168,7 +169,7 @@ func writeAgreement(dir string, choice recon.GridChoice, ok []*compareRun, rep *
 		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", robust},
 	} {
 		im := &fitsimage.Image{NX: n, NY: n, Pixel: choice.Pixel, Data: o.img,
-			Cards: []fitsimage.Card{{Key: "COMMENT", Value: fitsASCII(o.title)}}}
+			Cards: []fitsimage.Card{{Key: "COMMENT", Value: output.ASCII(o.title)}}}
 		if err := fitsimage.WriteFile(filepath.Join(dir, o.name+".fits"), im); err != nil {
 			return err
 		}

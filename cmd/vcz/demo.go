@@ -11,6 +11,7 @@ import (
 	"vcz/io/oifits"
 	"vcz/io/preview"
 	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/simulate"
 	"vcz/runspec"
@@ -74,7 +75,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
 	out := filepath.Join(*dir, "vaeloris-image.fits")
 	// The zero Spec is vcz image with no option.
-	sum, err := reconstruct(files, d, runspec.Spec{}, preview.Linear, out, true, true, *quiet, stderr)
+	sum, err := reconstruct(files, d, runspec.Spec{}, output.Outputs{}, out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -85,7 +86,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	n, pixel := sum.Grid.N, sum.Grid.PixelMas*recon.Mas
 	truth := m.Image(n, n, pixel)
 	truthPath := filepath.Join(*dir, "vaeloris-truth.fits")
-	if err := writeModelFITS(truthPath, truth, n, pixel, files, "Vaeloris", "demo model (truth)"); err != nil {
+	if err := output.WriteModel(truthPath, truth, n, pixel, files, "Vaeloris", "demo model (truth)"); err != nil {
 		return failure(err)
 	}
 	rec, err := readImageData(out)

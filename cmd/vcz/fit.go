@@ -12,6 +12,7 @@ import (
 
 	"vcz/io/plots"
 	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
@@ -249,7 +250,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		if len(d.Targets) == 1 {
 			target = d.Targets[0]
 		}
-		if err := writeModelFITS(*writeImage, img, *n, px, files, target, "fitted model: "+res.Model.String()); err != nil {
+		if err := output.WriteModel(*writeImage, img, *n, px, files, target, "fitted model: "+res.Model.String()); err != nil {
 			return failure(err)
 		}
 		sum.Image = *writeImage

@@ -11,6 +11,7 @@ import (
 
 	"vcz/io/oifits"
 	"vcz/io/preview"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/runspec"
 )
@@ -53,14 +54,14 @@ Outputs (OUT defaults to the first file's name with -image.fits):
 
 // imageSummary is the JSON summary of one reconstruction.
 type imageSummary struct {
-	Outputs     outputPaths `json:"outputs"`
-	Target      string      `json:"target"`
-	Grid        inspectGrid `json:"grid"`
-	Regularizer string      `json:"regularizer"`
-	Weight      float64     `json:"weight"`
-	WeightAuto  bool        `json:"weight_auto"`
-	Chi2r       float64     `json:"chi2r"`
-	Chi2rTarget float64     `json:"chi2r_expected"`
+	Outputs     output.Paths `json:"outputs"`
+	Target      string       `json:"target"`
+	Grid        inspectGrid  `json:"grid"`
+	Regularizer string       `json:"regularizer"`
+	Weight      float64      `json:"weight"`
+	WeightAuto  bool         `json:"weight_auto"`
+	Chi2r       float64      `json:"chi2r"`
+	Chi2rTarget float64      `json:"chi2r_expected"`
 	// Chi2rFloor and Chi2rAim: the χ²ᵣ of the least-regularized images and the χ²ᵣ the
 	// automatic weight aimed at (absent for a given weight).
 	Chi2rFloor float64          `json:"chi2r_floor,omitempty"`
@@ -125,7 +126,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	sum, err := reconstruct(files, d, spec, st, *out, !*noPNG, !*noPlots, *quiet, stderr)
+	sum, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -159,9 +160,9 @@ func parseStretch(text string) (preview.Stretch, error) {
 	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
 }
 
-// reconstruct runs one reconstruction of d as spec says and writes its outputs to out,
-// previews with the stretch st. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, st preview.Stretch, out string, png, withPlots, quiet bool, stderr io.Writer) (imageSummary, error) {
+// reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
+// to out. Messages go to stderr unless quiet.
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (imageSummary, error) {
 	var sum imageSummary
 	if len(d.Targets) > 1 {
 		return sum, badInputf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
@@ -189,29 +190,23 @@ func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, st prev
 	if err != nil {
 		return sum, failure(err)
 	}
-	info := runInfo{files: d.Files, reg: spec.RegularizerLabel(), seed: s.Seed, seconds: time.Since(t0).Seconds(), stretch: st}
-	if len(d.Targets) == 1 {
-		info.target = d.Targets[0]
-		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
-	}
-	info.options = spec.String()
-	info.title = imageTitle(d, info)
-	paths, err := writeResult(out, d, res, info, png, withPlots)
+	run := output.Run{Files: files, Data: d, Spec: spec, Result: res, Seconds: time.Since(t0).Seconds()}
+	paths, err := outs.Write(out, run)
 	if err != nil {
-		return sum, err
+		return sum, failure(err)
 	}
-	sum = makeImageSummary(res, info, paths)
-	return sum, nil
+	return makeImageSummary(run, paths), nil
 }
 
-func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageSummary {
+func makeImageSummary(run output.Run, paths output.Paths) imageSummary {
+	res := run.Result
 	s := imageSummary{
-		Outputs: paths, Target: info.target, Regularizer: info.reg,
+		Outputs: paths, Target: run.Target(), Regularizer: run.Regularizer(),
 		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
 			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
 		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
 		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
-		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
+		Status: res.StopReason, Converged: res.Converged || res.Status.Converged(), Seconds: run.Seconds,
 		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
 	}
 	for _, t := range res.Chi2 {
