@@ -128,7 +128,7 @@ func (o Outputs) Write(out string, r Run) (Paths, error) {
 // Title is the title line of a preview of data d: target, date range, regularizer label.
 func Title(d *recon.Data, target, label string) string {
 	s := d.Summarize()
-	parts := []string{orNone(target)}
+	parts := []string{OrNone(target)}
 	if s.MJDMax > 0 {
 		if s.MJDMax-s.MJDMin < 1 {
 			parts = append(parts, preview.FormatMJD(s.MJDMin))
@@ -142,7 +142,8 @@ func Title(d *recon.Data, target, label string) string {
 	return strings.Join(parts, " · ")
 }
 
-func orNone(s string) string {
+// OrNone returns s, or "(none)" when s is empty.
+func OrNone(s string) string {
 	if s == "" {
 		return "(none)"
 	}
@@ -209,7 +210,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 	if n := d.Vis2.Len(); n > 0 {
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
 			[]plots.ModelValues{{Name: label, Value: obs.Vis2}}, nil,
-			plots.Options{Title: "V² — data and image model — " + orNone(target)})
+			plots.Options{Title: "V² — data and image model — " + OrNone(target)})
 		if err != nil {
 			return nil, err
 		}
@@ -238,7 +239,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 	}
 	if len(td.Phi) > 0 {
 		fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: label, Value: tm}},
-			plots.Options{Title: "Closure phase — data and image model — " + orNone(target)})
+			plots.Options{Title: "Closure phase — data and image model — " + OrNone(target)})
 		if err != nil {
 			return nil, err
 		}
@@ -248,7 +249,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		resid = append(resid, rp)
 	}
 	if len(resid) > 0 {
-		fig, err := plots.ResidualPlot(resid, plots.Options{Title: "Normalised residuals (data − model)/σ — " + orNone(target)})
+		fig, err := plots.ResidualPlot(resid, plots.Options{Title: "Normalised residuals (data − model)/σ — " + OrNone(target)})
 		if err != nil {
 			return nil, err
 		}
@@ -257,7 +258,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		}
 	}
 	if lp, ok := LCurve(label, res); ok {
-		fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + orNone(target)})
+		fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + OrNone(target)})
 		if err == nil {
 			if err := save(fig, "-lcurve.png"); err != nil {
 				return nil, err

@@ -23,6 +23,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 func init() {
@@ -202,9 +203,9 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	}
 	rows := make([]batch.Row, len(mine))
 	disp := newBatchDisplay(stderr, *quiet, mine, rows)
-	jobs := make([]batch.Job, len(mine))
+	jobs := make([]workflow.Task, len(mine))
 	for i, e := range mine {
-		jobs[i] = batch.Job{Workers: e.spec.Workers, Do: func() error {
+		jobs[i] = workflow.Task{Name: "epoch " + e.name, Workers: e.spec.Workers, Do: func() error {
 			r := runEpoch(e, *out, *force)
 			rows[i] = r
 			if r.Status != batch.StateDone {
@@ -213,7 +214,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 			return nil
 		}}
 	}
-	batch.Run(jobs, batch.RunOptions{Budget: budget, Events: disp.event})
+	workflow.RunTasks(jobs, workflow.PoolOptions{Budget: budget, Events: disp.event})
 	disp.finish()
 	sum := &batch.Summary{Shard: shard.String(), Epochs: len(epochs), Rows: rows}
 	name := "summary"
@@ -468,7 +469,7 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 			return r
 		}
 	}
-	files, d, err := readData(e.files, e.spec.Selection())
+	files, d, err := workflow.ReadData(e.files, e.spec.Selection())
 	if err != nil {
 		return fail(err)
 	}
@@ -476,7 +477,7 @@ func runEpoch(e *batchEpoch, out string, force bool) batch.Row {
 		row.MJDMin, row.MJDMax = lo, hi
 	}
 	fitsPath := filepath.Join(out, e.name+".fits")
-	sum, err := reconstruct(files, d, e.spec, output.Outputs{NoPlots: true}, fitsPath, true, io.Discard)
+	sum, _, err := reconstruct(files, d, e.spec, output.Outputs{NoPlots: true}, fitsPath, true, io.Discard)
 	if err != nil {
 		return fail(err)
 	}
@@ -642,7 +643,7 @@ func newBatchDisplay(w io.Writer, quiet bool, epochs []*batchEpoch, rows []batch
 	return &batchDisplay{w: w, tty: isTerminal(w), quiet: quiet, epochs: epochs, rows: rows}
 }
 
-func (b *batchDisplay) event(ev batch.Event) {
+func (b *batchDisplay) event(ev workflow.Event) {
 	if b.quiet {
 		return
 	}
@@ -654,7 +655,7 @@ func (b *batchDisplay) event(ev batch.Event) {
 	}
 	state := fmt.Sprintf("%d done, %d failed, %d running, %d waiting; %s elapsed, %s left",
 		ev.Done, ev.Failed, ev.Running, ev.Pending, ev.Elapsed.Round(time.Second), left)
-	name := b.epochs[ev.Job].name
+	name := b.epochs[ev.Task].name
 	if b.tty {
 		if ev.Ended && ev.Err != nil {
 			fmt.Fprintf(b.w, "\r\033[K%s failed: %v\n", name, ev.Err)
@@ -668,8 +669,8 @@ func (b *batchDisplay) event(ev batch.Event) {
 		switch {
 		case ev.Err != nil:
 			what = "FAILED: " + ev.Err.Error()
-		case len(b.rows[ev.Job].Warnings) > 0:
-			what = "finished with " + countWarnings(len(b.rows[ev.Job].Warnings))
+		case len(b.rows[ev.Task].Warnings) > 0:
+			what = "finished with " + countWarnings(len(b.rows[ev.Task].Warnings))
 		}
 		fmt.Fprintf(b.w, "%s %s (%s)\n", name, what, state)
 	}

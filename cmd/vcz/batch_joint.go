@@ -16,6 +16,7 @@ import (
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
+	"vcz/workflow"
 )
 
 func tomlDecode(src []byte, v any) (toml.MetaData, error) {
@@ -36,7 +37,7 @@ func commonGrid(epochs []*batchEpoch) error {
 	}
 	var lastErr error
 	for _, e := range epochs {
-		_, d, err := readData(e.files, e.spec.Selection())
+		_, d, err := workflow.ReadData(e.files, e.spec.Selection())
 		if err != nil {
 			lastErr = err
 			continue
@@ -80,7 +81,7 @@ func runJoint(epochs []*batchEpoch, rows []batch.Row, out string, lambda float64
 				e.name, g.N, g.Pixel/recon.Mas, grid.N, grid.Pixel/recon.Mas))
 		}
 		starts[t] = im.Data[:g.N*g.N]
-		_, d, err := readData(e.files, e.spec.Selection())
+		_, d, err := workflow.ReadData(e.files, e.spec.Selection())
 		if err != nil {
 			return err
 		}

@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"vcz/output"
+	"vcz/workflow"
 )
 
 // Exit codes, documented in doc.go.
@@ -144,6 +145,10 @@ func exitCode(err error, stderr io.Writer) int {
 	var ee *exitError
 	if errors.As(err, &ee) {
 		return ee.code
+	}
+	var ie *workflow.InputError
+	if errors.As(err, &ie) {
+		return exitBadInput
 	}
 	return exitFailure
 }

@@ -75,7 +75,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
 	out := filepath.Join(*dir, "vaeloris-image.fits")
 	// The zero Spec is vcz image with no option.
-	sum, err := reconstruct(files, d, runspec.Spec{}, output.Outputs{}, out, *quiet, stderr)
+	sum, res, err := reconstruct(files, d, runspec.Spec{}, output.Outputs{}, out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -89,10 +89,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err := output.WriteModel(truthPath, truth, n, pixel, files, "Vaeloris", "demo model (truth)"); err != nil {
 		return failure(err)
 	}
-	rec, err := readImageData(out)
-	if err != nil {
-		return failure(err)
-	}
+	rec := res.Image
 	panel := filepath.Join(*dir, "vaeloris-compare.png")
 	frames := []preview.Frame{
 		{Data: truth, NX: n, NY: n, Label: "model the data were simulated from"},

@@ -17,6 +17,7 @@ import (
 	"vcz/recon/fit"
 	"vcz/recon/model"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const fitDoc = `Fit a parametric model (discs, limb-darkened discs, Gaussians, rings, point
@@ -175,7 +176,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return badInputf("fit: %v", err)
 	}
 	sel := selSpec.Selection()
-	files, d, err := readData(fs.Args(), sel)
+	files, d, err := workflow.ReadData(fs.Args(), sel)
 	if err != nil {
 		return err
 	}

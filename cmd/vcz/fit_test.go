@@ -15,6 +15,7 @@ import (
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 // simulatedFile writes data of the model spec observed with the four-station
@@ -279,7 +280,7 @@ func problemFor(t *testing.T, data string, args ...string) (recon.Problem, recon
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, d, err := readData(fs.Args(), spec.Selection())
+	_, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		t.Fatal(err)
 	}

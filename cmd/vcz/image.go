@@ -7,13 +7,13 @@ import (
 	"io"
 	"path/filepath"
 	"strings"
-	"time"
 
 	"vcz/io/oifits"
 	"vcz/io/preview"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const imageDoc = `Reconstruct an image from one or more OIFITS files (merged into one data set)
@@ -122,11 +122,11 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
-	files, d, err := readData(fs.Args(), spec.Selection())
+	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
-	sum, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
+	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -162,17 +162,10 @@ func parseStretch(text string) (preview.Stretch, error) {
 
 // reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
 // to out. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (imageSummary, error) {
-	var sum imageSummary
-	if len(d.Targets) > 1 {
-		return sum, badInputf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
-	}
-	if d.Len(recon.AllTypes) == 0 {
-		return sum, badInputf("no usable data points after selection")
-	}
-	p, s, err := spec.Problem(d)
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (imageSummary, *recon.Result, error) {
+	im, err := workflow.NewImage(files, d, spec)
 	if err != nil {
-		return sum, badInput(err)
+		return imageSummary{}, nil, err
 	}
 	if !quiet {
 		for _, n := range d.Notices {
@@ -180,22 +173,15 @@ func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs ou
 		}
 	}
 	prog := newProgressLine(stderr, quiet)
-	s.Progress = func(pr recon.Progress) bool {
+	run, paths, err := im.Run(outs, out, func(pr recon.Progress) bool {
 		prog.report(pr)
 		return true
-	}
-	t0 := time.Now()
-	res, err := recon.Solve(p, s)
+	})
 	prog.done()
 	if err != nil {
-		return sum, failure(err)
+		return imageSummary{}, nil, failure(err)
 	}
-	run := output.Run{Files: files, Data: d, Spec: spec, Result: res, Seconds: time.Since(t0).Seconds()}
-	paths, err := outs.Write(out, run)
-	if err != nil {
-		return sum, failure(err)
-	}
-	return makeImageSummary(run, paths), nil
+	return makeImageSummary(run, paths), run.Result, nil
 }
 
 func makeImageSummary(run output.Run, paths output.Paths) imageSummary {

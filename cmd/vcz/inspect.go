@@ -10,8 +10,10 @@ import (
 	"strings"
 
 	"vcz/io/plots"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const inspectDoc = `Summarise one or more OIFITS files, merged into one data set: targets,
@@ -86,7 +88,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("inspect: %v", err)
 	}
-	_, d, err := readData(fs.Args(), spec.Selection())
+	_, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
@@ -149,7 +151,7 @@ func nonNil(s []string) []string {
 
 func printInspect(w io.Writer, r inspectReport) {
 	fmt.Fprintf(w, "Files:          %s\n", strings.Join(r.Files, ", "))
-	fmt.Fprintf(w, "Targets:        %s\n", orNone(strings.Join(r.Targets, ", ")))
+	fmt.Fprintf(w, "Targets:        %s\n", output.OrNone(strings.Join(r.Targets, ", ")))
 	fmt.Fprintf(w, "Instruments:\n")
 	for _, in := range r.Instruments {
 		fmt.Fprintf(w, "  %-20s %3d channels, %.4g–%.4g µm\n", in.Name, in.Channels, in.MinUm, in.MaxUm)
@@ -188,13 +190,6 @@ func printInspect(w io.Writer, r inspectReport) {
 	for _, p := range r.Plots {
 		fmt.Fprintf(w, "Wrote %s\n", p)
 	}
-}
-
-func orNone(s string) string {
-	if s == "" {
-		return "(none)"
-	}
-	return s
 }
 
 func plural(n int) string {

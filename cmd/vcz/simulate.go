@@ -128,12 +128,3 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	}
 	return nil
 }
-
-// readImageData reads the pixels of a FITS image.
-func readImageData(path string) ([]float64, error) {
-	im, err := fitsimage.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	return im.Data, nil
-}

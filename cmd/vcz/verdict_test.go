@@ -16,6 +16,7 @@ import (
 	"vcz/io/fitsimage"
 	"vcz/output"
 	"vcz/recon"
+	"vcz/workflow"
 )
 
 // headerScript prints a FITS file's primary header as JSON, read with astropy, which
@@ -186,7 +187,7 @@ func TestCompareVerdict(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var rep compareReport
+	var rep workflow.CompareReport
 	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -194,7 +195,7 @@ func TestCompareVerdict(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var file compareReport
+	var file workflow.CompareReport
 	if err := json.Unmarshal(raw, &file); err != nil {
 		t.Fatal(err)
 	}
