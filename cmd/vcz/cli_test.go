@@ -12,6 +12,7 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/preview"
+	"vcz/output"
 )
 
 // runCmd runs the program with args and returns stdout, stderr and the exit code.
@@ -114,7 +115,7 @@ func TestInspectDemoJSON(t *testing.T) {
 			t.Errorf("JSON lacks %q", k)
 		}
 	}
-	var rep inspectReport
+	var rep output.InspectReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -175,7 +176,7 @@ func TestImageEndToEnd(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var sum imageSummary
+	var sum output.ImageSummary
 	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}

@@ -70,7 +70,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
-	rep := makeInspectReport(d)
+	rep := output.NewInspectReport(d)
 	fmt.Fprintf(stdout, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
 	out := filepath.Join(*dir, "vaeloris-image.fits")

@@ -52,45 +52,6 @@ Outputs (OUT defaults to the first file's name with -image.fits):
   OUT-residuals.png   residuals normalised by their errors
   OUT-lcurve.png      the weight path, when the weight was chosen automatically`
 
-// imageSummary is the JSON summary of one reconstruction.
-type imageSummary struct {
-	Outputs     output.Paths `json:"outputs"`
-	Target      string       `json:"target"`
-	Grid        inspectGrid  `json:"grid"`
-	Regularizer string       `json:"regularizer"`
-	Weight      float64      `json:"weight"`
-	WeightAuto  bool         `json:"weight_auto"`
-	Chi2r       float64      `json:"chi2r"`
-	Chi2rTarget float64      `json:"chi2r_expected"`
-	// Chi2rFloor and Chi2rAim: the χ²ᵣ of the least-regularized images and the χ²ᵣ the
-	// automatic weight aimed at (absent for a given weight).
-	Chi2rFloor float64          `json:"chi2r_floor,omitempty"`
-	Chi2rAim   float64          `json:"chi2r_aim,omitempty"`
-	Chi2ByType map[string]chi2J `json:"chi2r_by_type"`
-	RegValue   float64          `json:"regularizer_value"`
-	Iterations int              `json:"iterations"`
-	TotalIter  int              `json:"total_iterations"`
-	Status     string           `json:"status"`
-	Converged  bool             `json:"converged"`
-	Seconds    float64          `json:"seconds"`
-	Path       []pathJ          `json:"weight_path,omitempty"`
-	Notices    []string         `json:"notices"`
-	// Warnings is the quality verdict (recon.Result.Warnings): an empty list when none.
-	Warnings []string `json:"warnings"`
-}
-
-type chi2J struct {
-	N     int     `json:"n"`
-	Chi2r float64 `json:"chi2r"`
-}
-
-type pathJ struct {
-	Weight float64 `json:"weight"`
-	Chi2r  float64 `json:"chi2r"`
-	Reg    float64 `json:"regularizer"`
-	Iter   int     `json:"iterations"`
-}
-
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.All)
@@ -162,10 +123,10 @@ func parseStretch(text string) (preview.Stretch, error) {
 
 // reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
 // to out. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (imageSummary, *recon.Result, error) {
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, *recon.Result, error) {
 	im, err := workflow.NewImage(files, d, spec)
 	if err != nil {
-		return imageSummary{}, nil, err
+		return output.ImageSummary{}, nil, err
 	}
 	if !quiet {
 		for _, n := range d.Notices {
@@ -179,32 +140,12 @@ func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs ou
 	})
 	prog.done()
 	if err != nil {
-		return imageSummary{}, nil, failure(err)
+		return output.ImageSummary{}, nil, failure(err)
 	}
-	return makeImageSummary(run, paths), run.Result, nil
+	return output.NewImageSummary(run, paths), run.Result, nil
 }
 
-func makeImageSummary(run output.Run, paths output.Paths) imageSummary {
-	res := run.Result
-	s := imageSummary{
-		Outputs: paths, Target: run.Target(), Regularizer: run.Regularizer(),
-		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
-			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
-		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
-		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
-		Status: res.StopReason, Converged: res.Converged || res.Status.Converged(), Seconds: run.Seconds,
-		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
-	}
-	for _, t := range res.Chi2 {
-		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
-	}
-	for _, p := range res.Path {
-		s.Path = append(s.Path, pathJ{p.Weight, p.Chi2r, p.Reg, p.Iter})
-	}
-	return s
-}
-
-func printImageSummary(w io.Writer, s imageSummary) {
+func printImageSummary(w io.Writer, s output.ImageSummary) {
 	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas (field %.4g mas)\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas, s.Grid.FOVMas)
 	for _, r := range s.Grid.Reasons {
 		fmt.Fprintf(w, "  - %s\n", r)

@@ -102,7 +102,7 @@ func TestImageVerdict(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var sum imageSummary
+	var sum output.ImageSummary
 	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -166,7 +166,7 @@ func TestDemoVerdictNone(t *testing.T) {
 // A summary without warnings has "warnings": [] in its JSON, not null (an empty list is
 // what a reader iterates over without a special case; common practice, no source).
 func TestImageSummaryEmptyWarnings(t *testing.T) {
-	b, err := json.Marshal(makeImageSummary(output.Run{Result: &recon.Result{}, Data: &recon.Data{}}, output.Paths{}))
+	b, err := json.Marshal(output.NewImageSummary(output.Run{Result: &recon.Result{}, Data: &recon.Data{}}, output.Paths{}))
 	if err != nil {
 		t.Fatal(err)
 	}
