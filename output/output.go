@@ -3,6 +3,7 @@ package output
 import (
 	"fmt"
 	"math"
+	"runtime/debug"
 	"strings"
 
 	"vcz/io/fitsimage"
@@ -284,4 +285,43 @@ func ClosurePhases(d *recon.Data) plots.T3Data {
 		td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
 	}
 	return td
+}
+
+// ParseStretch reads the value of -stretch, the display stretch of the previews; "" is
+// linear.
+func ParseStretch(text string) (preview.Stretch, error) {
+	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
+		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
+			return s, nil
+		}
+	}
+	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
+}
+
+// VersionString is Version with the VCS revision and the Go toolchain of the build when
+// the build records them.
+func VersionString() string {
+	v := Version
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		var rev, dirty string
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				if len(s.Value) > 12 {
+					rev = s.Value[:12]
+				} else {
+					rev = s.Value
+				}
+			case "vcs.modified":
+				if s.Value == "true" {
+					dirty = "+modified"
+				}
+			}
+		}
+		if rev != "" {
+			v += " (" + rev + dirty + ")"
+		}
+		v += " " + bi.GoVersion
+	}
+	return v
 }

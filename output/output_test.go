@@ -13,6 +13,7 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
+	"vcz/io/preview"
 	"vcz/recon"
 	"vcz/recon/optim"
 	"vcz/recon/simulate"
@@ -207,5 +208,17 @@ func TestASCII(t *testing.T) {
 		if got := ASCII(in); got != want {
 			t.Errorf("ASCII(%q) = %q, want %q", in, got, want)
 		}
+	}
+}
+
+// TestParseStretch checks the names of -stretch against the stretches of io/preview.
+func TestParseStretch(t *testing.T) {
+	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Linear} {
+		if got, err := ParseStretch(in); err != nil || got != want {
+			t.Errorf("%q: %v, %v; want %v", in, got, err, want)
+		}
+	}
+	if _, err := ParseStretch("gamma"); err == nil {
+		t.Error("gamma: no error")
 	}
 }

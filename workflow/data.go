@@ -2,6 +2,9 @@ package workflow
 
 import (
 	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
 
 	"vcz/io/oifits"
 	"vcz/recon"
@@ -26,4 +29,20 @@ func ReadData(paths []string, sel recon.Selection) ([]*oifits.File, *recon.Data,
 		return nil, nil, inputError("", err)
 	}
 	return files, d, nil
+}
+
+// CheckOutputs returns an *InputError naming the first of paths whose folder does not
+// exist (or is not a folder), so that a run fails at once rather than after its work.
+// Empty paths are skipped.
+func CheckOutputs(paths ...string) error {
+	for _, p := range paths {
+		if p == "" {
+			continue
+		}
+		dir := filepath.Dir(p)
+		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+			return inputError(p, fmt.Errorf("%s: cannot write: folder %s does not exist", p, dir))
+		}
+	}
+	return nil
 }

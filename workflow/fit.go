@@ -2,7 +2,12 @@ package workflow
 
 import (
 	"math"
+	"path/filepath"
+	"strings"
 
+	"vcz/io/oifits"
+	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
@@ -83,4 +88,40 @@ func hasFreePosition(m *model.Model) bool {
 		}
 	}
 	return false
+}
+
+// WriteImage writes the fitted model as an n×n FITS image with pixels of pixel rad (0: a
+// quarter of the resolution of d), with the world coordinates of the reconstructions of
+// files. An error choosing the pixel is an *InputError.
+func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifits.File, d *recon.Data) error {
+	if pixel == 0 {
+		if pixel = d.Summarize().Resolution / 4; !(pixel > 0) {
+			return inputErrorf("fit: -write-image: no baseline to choose a pixel from; give -pixel")
+		}
+	}
+	m := o.Result.Model
+	target := ""
+	if len(d.Targets) == 1 {
+		target = d.Targets[0]
+	}
+	return output.WriteModel(path, m.Image(n, n, pixel), n, pixel, files, target, "fitted model: "+m.String())
+}
+
+// SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
+// header names the data files (without their folders, so that the file carries no
+// machine-specific paths), the start model and, when the fit did not converge, why.
+func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
+	names := make([]string, len(dataFiles))
+	for i, p := range dataFiles {
+		names[i] = filepath.Base(p)
+	}
+	res := o.Result
+	header := []string{
+		"Model fitted by vcz fit " + output.Version + " to " + strings.Join(names, ", "),
+		"start model: " + o.Start.String(),
+	}
+	if !res.Converged {
+		header = append(header, "WARNING: the fit did not converge: "+res.Reason)
+	}
+	return safefile.WriteBytes(path, res.ModelTOML(header...))
 }

@@ -227,3 +227,41 @@ func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 	}
 	return epochs, out, nil
 }
+
+// Epochs lists the epochs of a batch: those of the job file when job is not "", else the
+// files split at gaps longer than gap days (SplitEpochs), each with the options shared. It
+// returns the output folder the job file names ("" for none). Errors are *InputError.
+func Epochs(job string, files []string, shared runspec.Spec, gap float64) ([]*Epoch, string, error) {
+	switch {
+	case job != "" && len(files) > 0:
+		return nil, "", inputErrorf("batch: give either -job or OIFITS files, not both")
+	case job != "":
+		return ReadJobFile(job, shared)
+	case len(files) == 0:
+		return nil, "", inputErrorf("batch: no job file or OIFITS file given (run 'vcz batch --help')")
+	case !(gap > 0):
+		return nil, "", inputErrorf("batch: -gap %g must be positive", gap)
+	}
+	return SplitEpochs(files, shared, gap), "", nil
+}
+
+// ChooseShard reads the shard of a batch from text ("K/N"), or when text is "" from the
+// variables of a SLURM job-array task (batch.ShardFromEnv with getenv); with neither it is
+// the whole batch. Errors are *InputError.
+func ChooseShard(text string, getenv func(string) string) (batch.Shard, error) {
+	if text != "" {
+		sh, err := batch.ParseShard(text)
+		if err != nil {
+			return sh, inputErrorf("batch: -shard: %v", err)
+		}
+		return sh, nil
+	}
+	sh, ok, err := batch.ShardFromEnv(getenv)
+	if err != nil {
+		return sh, inputErrorf("batch: %v", err)
+	}
+	if !ok {
+		sh = batch.Shard{K: 1, N: 1}
+	}
+	return sh, nil
+}

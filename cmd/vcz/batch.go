@@ -104,21 +104,9 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("batch: %v", err)
 	}
-	var epochs []*workflow.Epoch
-	jobOut := ""
-	switch {
-	case *job != "" && fs.NArg() > 0:
-		return badInputf("batch: give either -job or OIFITS files, not both")
-	case *job != "":
-		if epochs, jobOut, err = workflow.ReadJobFile(*job, shared); err != nil {
-			return err
-		}
-	case fs.NArg() == 0:
-		return badInputf("batch: no job file or OIFITS file given (run 'vcz batch --help')")
-	case !(*gap > 0):
-		return badInputf("batch: -gap %g must be positive", *gap)
-	default:
-		epochs = workflow.SplitEpochs(fs.Args(), shared, *gap)
+	epochs, jobOut, err := workflow.Epochs(*job, fs.Args(), shared, *gap)
+	if err != nil {
+		return err
 	}
 	if *out == "" {
 		*out = jobOut
@@ -126,15 +114,9 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if *out == "" {
 		*out = "batch"
 	}
-	shard := batch.Shard{K: 1, N: 1}
-	if *shardS != "" {
-		if shard, err = batch.ParseShard(*shardS); err != nil {
-			return badInputf("batch: -shard: %v", err)
-		}
-	} else if sh, ok, err := batch.ShardFromEnv(os.Getenv); err != nil {
-		return badInputf("batch: %v", err)
-	} else if ok {
-		shard = sh
+	shard, err := workflow.ChooseShard(*shardS, os.Getenv)
+	if err != nil {
+		return err
 	}
 	if *joint && shard.N > 1 {
 		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)

@@ -81,7 +81,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if *parallel < 0 {
 		return badInputf("compare: -parallel %d must not be negative", *parallel)
 	}
-	st, err := parseStretch(*stretch)
+	st, err := output.ParseStretch(*stretch)
 	if err != nil {
 		return badInputf("compare: %v", err)
 	}

@@ -6,11 +6,8 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"path/filepath"
 	"sort"
-	"strings"
 
-	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -96,7 +93,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *plotPrefix != "" {
 		plotFile = *plotPrefix + "-vis2.png"
 	}
-	if err := checkOutputs(*writeImage, *saveModel, plotFile); err != nil {
+	if err := workflow.CheckOutputs(*writeImage, *saveModel, plotFile); err != nil {
 		return err
 	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
@@ -156,28 +153,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
 				return badInputf("fit: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
-		} else if px = d.Summarize().Resolution / 4; !(px > 0) {
-			return badInputf("fit: -write-image: no baseline to choose a pixel from; give -pixel")
 		}
-		img := res.Model.Image(*n, *n, px)
-		target := ""
-		if len(d.Targets) == 1 {
-			target = d.Targets[0]
-		}
-		if err := output.WriteModel(*writeImage, img, *n, px, files, target, "fitted model: "+res.Model.String()); err != nil {
-			return failure(err)
+		if err := fo.WriteImage(*writeImage, *n, px, files, d); err != nil {
+			return err // an *InputError exits 2, any other error 1
 		}
 		sum.Image = *writeImage
 	}
 	if *saveModel != "" {
-		header := []string{
-			"Model fitted by vcz fit " + version + " to " + strings.Join(baseNames(fs.Args()), ", "),
-			"start model: " + fo.Start.String(),
-		}
-		if !res.Converged {
-			header = append(header, "WARNING: the fit did not converge: "+res.Reason)
-		}
-		if err := safefile.WriteBytes(*saveModel, res.ModelTOML(header...)); err != nil {
+		if err := fo.SaveModel(*saveModel, fs.Args()); err != nil {
 			return failure(err)
 		}
 		sum.ModelFile = *saveModel
@@ -264,14 +247,4 @@ func typeOrder(name string) int {
 		}
 	}
 	return len(recon.DataTypes())
-}
-
-// baseNames returns the file names of paths without their folders, so that
-// written files carry no machine-specific paths.
-func baseNames(paths []string) []string {
-	out := make([]string, len(paths))
-	for i, p := range paths {
-		out[i] = filepath.Base(p)
-	}
-	return out
 }

@@ -9,7 +9,6 @@ import (
 	"strings"
 
 	"vcz/io/oifits"
-	"vcz/io/preview"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/runspec"
@@ -72,10 +71,10 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		base := filepath.Base(fs.Arg(0))
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
 	}
-	if err := checkOutputs(*out); err != nil {
+	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
-	st, err := parseStretch(*stretch)
+	st, err := output.ParseStretch(*stretch)
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
@@ -111,22 +110,12 @@ const stretchUsage = "display stretch of the PNG previews: linear, sqrt, asinh o
 // registerStretch adds -stretch to fs.
 func registerStretch(fs *flag.FlagSet) *string { return fs.String("stretch", "linear", stretchUsage) }
 
-// parseStretch reads the value of -stretch; "" is linear.
-func parseStretch(text string) (preview.Stretch, error) {
-	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
-		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
-			return s, nil
-		}
-	}
-	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
-}
-
 // reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
 // to out. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, *recon.Result, error) {
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, output.Run, error) {
 	im, err := workflow.NewImage(files, d, spec)
 	if err != nil {
-		return output.ImageSummary{}, nil, err
+		return output.ImageSummary{}, output.Run{}, err
 	}
 	if !quiet {
 		for _, n := range d.Notices {
@@ -140,9 +129,9 @@ func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs ou
 	})
 	prog.done()
 	if err != nil {
-		return output.ImageSummary{}, nil, failure(err)
+		return output.ImageSummary{}, output.Run{}, failure(err)
 	}
-	return output.NewImageSummary(run, paths), run.Result, nil
+	return output.NewImageSummary(run, paths), run, nil
 }
 
 func printImageSummary(w io.Writer, s output.ImageSummary) {

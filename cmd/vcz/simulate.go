@@ -12,6 +12,7 @@ import (
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
@@ -66,7 +67,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if *n < 2 || *n%2 != 0 || *n > 4096 {
 		return badInputf("simulate: -n %d must be an even number from 2 to 4096", *n)
 	}
-	if err := checkOutputs(*out, *writeImage); err != nil {
+	if err := workflow.CheckOutputs(*out, *writeImage); err != nil {
 		return err
 	}
 	plan, err := simulate.LoadPlan(*planPath)
