@@ -15,12 +15,16 @@ import (
 const Creator = "vcz " + Version
 
 // FITSCards is the provenance of r as FITS header cards, in the order of the package doc.
-// DATE is the time of the call (UTC).
+// DATE is r.Date, or the time of the call when r.Date is zero (UTC).
 func FITSCards(r Run) []fitsimage.Card {
 	res := r.Result
+	date := r.Date
+	if date.IsZero() {
+		date = time.Now()
+	}
 	c := []fitsimage.Card{
 		{Key: "OBJECT", Value: orUnknown(r.Target()), Comment: "target"},
-		{Key: "DATE", Value: time.Now().UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
+		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
 		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
 		{Key: "REGUL", Value: r.Regularizer(), Comment: "regularizer(s)"},
 		{Key: "REGWT", Value: res.Weight, Comment: "regularization weight mu"},

@@ -5,6 +5,7 @@ import (
 	"math"
 	"runtime/debug"
 	"strings"
+	"time"
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
@@ -38,6 +39,10 @@ type Run struct {
 	// Spec.RegularizerLabel().
 	Label   string
 	Seconds float64 // time of the reconstruction, for summaries
+	// Date is the creation date written in the DATE card; the zero value means the time
+	// the header is made. A workflow that writes a result and keeps its image sets it, so
+	// that the image in memory and the file carry the same header.
+	Date time.Time
 }
 
 // Regularizer is the label of the regularizer of r: Label, or Spec.RegularizerLabel().

@@ -256,3 +256,49 @@ func WriteSummary(dir, name string, s *batch.Summary) error {
 	}
 	return batch.WriteCSV(filepath.Join(dir, name+".csv"), s)
 }
+
+// ShardRun is the outcome of Batch.RunShard.
+type ShardRun struct {
+	Epochs  []*Epoch      // the epochs of the shard, in order
+	Results []EpochResult // theirs, in the same order
+	Summary *batch.Summary
+	Name    string // of the summary files: "summary", or "summary-K-of-N" for a shard
+	// Montage says why montage.png and epochs.gif could not be drawn; nil when they were,
+	// and for a shard, which draws none. It does not fail the batch.
+	Montage error
+}
+
+// RunShard images the epochs of shard sh of all (Run), on one common grid when joint
+// (CommonGrid), and writes the summary NAME.json and NAME.csv and, for a whole batch, the
+// montage. events is as for Run. Its error is that of the common grid (an *InputError) or
+// of writing the summary; an epoch that failed is a row of the summary.
+func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(Event, *EpochResult)) (*ShardRun, error) {
+	sr := &ShardRun{Name: "summary"}
+	for _, e := range all {
+		if sh.Take(e.Index) {
+			sr.Epochs = append(sr.Epochs, e)
+		}
+	}
+	if joint {
+		if err := CommonGrid(sr.Epochs); err != nil {
+			return nil, err
+		}
+	}
+	sr.Results = b.Run(sr.Epochs, events)
+	rows := make([]batch.Row, len(sr.Results))
+	images := make([]*fitsimage.Image, len(sr.Results))
+	for i, r := range sr.Results {
+		rows[i], images[i] = r.Row, r.Image
+	}
+	sr.Summary = &batch.Summary{Shard: sh.String(), Epochs: len(all), Rows: rows}
+	if sh.N > 1 {
+		sr.Name = fmt.Sprintf("summary-%d-of-%d", sh.K, sh.N)
+	}
+	if err := WriteSummary(b.Out, sr.Name, sr.Summary); err != nil {
+		return nil, err
+	}
+	if sh.N <= 1 {
+		sr.Montage = WriteMontage(b.Out, "", rows, images, "")
+	}
+	return sr, nil
+}

@@ -44,7 +44,8 @@ func checkData(d *recon.Data) error {
 	return nil
 }
 
-// Run solves the problem and writes the files outs says to out (output.Outputs.Write).
+// Run solves the problem and writes the files outs says to out (output.Outputs.Write),
+// dated now (output.Run.Date).
 // progress, when non-nil, is called after every iteration (recon.Settings.Progress). The
 // run is returned with the paths written; an error of the solver or of writing is not an
 // *InputError.
@@ -56,7 +57,7 @@ func (im *Image) Run(outs output.Outputs, out string, progress func(recon.Progre
 	if err != nil {
 		return output.Run{}, output.Paths{}, err
 	}
-	run := output.Run{Files: im.Files, Data: im.Data, Spec: im.Spec, Result: res, Seconds: time.Since(t0).Seconds()}
+	run := output.Run{Files: im.Files, Data: im.Data, Spec: im.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
 	paths, err := outs.Write(out, run)
 	return run, paths, err
 }

@@ -9,7 +9,6 @@ import (
 	"sync"
 	"time"
 
-	"vcz/io/fitsimage"
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/runspec"
@@ -130,38 +129,16 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return failure(err)
 	}
-	var mine []*workflow.Epoch
-	for _, e := range epochs {
-		if shard.Take(e.Index) {
-			mine = append(mine, e)
-		}
-	}
-	if *joint {
-		if err := workflow.CommonGrid(mine); err != nil {
-			return err
-		}
-	}
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel}
-	disp := newBatchDisplay(stderr, *quiet, mine)
-	results := b.Run(mine, disp.event)
+	disp := newBatchDisplay(stderr, *quiet)
+	sr, err := b.RunShard(epochs, shard, *joint, disp.event)
 	disp.finish()
-	rows := make([]batch.Row, len(results))
-	images := make([]*fitsimage.Image, len(results))
-	for i, r := range results {
-		rows[i], images[i] = r.Row, r.Image
+	if err != nil {
+		return err
 	}
-	sum := &batch.Summary{Shard: shard.String(), Epochs: len(epochs), Rows: rows}
-	name := "summary"
-	if shard.N > 1 {
-		name = fmt.Sprintf("summary-%d-of-%d", shard.K, shard.N)
-	}
-	if err := workflow.WriteSummary(*out, name, sum); err != nil {
-		return failure(err)
-	}
-	if shard.N == 1 {
-		if err := workflow.WriteMontage(*out, "", sum.Rows, images, ""); err != nil && !*quiet {
-			fmt.Fprintf(stderr, "note: montage: %v\n", err)
-		}
+	sum, name := sr.Summary, sr.Name
+	if sr.Montage != nil && !*quiet {
+		fmt.Fprintf(stderr, "note: montage: %v\n", sr.Montage)
 	}
 	if !*quiet {
 		printBatchSummary(stdout, sum, *out, name)
@@ -170,16 +147,16 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if *joint {
 		if sum.Failed() > 0 {
 			printBatchWarnings(stderr, sum)
-			return failure(fmt.Errorf("%d of %d epochs failed; the joint reconstruction needs them all", sum.Failed(), len(mine)))
+			return failure(fmt.Errorf("%d of %d epochs failed; the joint reconstruction needs them all", sum.Failed(), len(sr.Epochs)))
 		}
-		if err := runJoint(b, mine, results, lambda, stdout, stderr, *quiet); err != nil {
+		if err := runJoint(b, sr.Epochs, sr.Results, lambda, stdout, stderr, *quiet); err != nil {
 			printBatchWarnings(stderr, sum)
 			return err
 		}
 	}
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
-		return failure(fmt.Errorf("%d of %d epochs failed (see %s)", n, len(mine), filepath.Join(*out, name+".csv")))
+		return failure(fmt.Errorf("%d of %d epochs failed (see %s)", n, len(sr.Epochs), filepath.Join(*out, name+".csv")))
 	}
 	return strictFailure(*strict, "batch", nwarn)
 }
@@ -243,16 +220,15 @@ func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string) {
 // batchDisplay shows the state of a batch: one line redrawn in place on a terminal, a
 // line per finished epoch otherwise.
 type batchDisplay struct {
-	mu     sync.Mutex
-	w      io.Writer
-	tty    bool
-	quiet  bool
-	epochs []*workflow.Epoch
-	dirty  bool
+	mu    sync.Mutex
+	w     io.Writer
+	tty   bool
+	quiet bool
+	dirty bool
 }
 
-func newBatchDisplay(w io.Writer, quiet bool, epochs []*workflow.Epoch) *batchDisplay {
-	return &batchDisplay{w: w, tty: isTerminal(w), quiet: quiet, epochs: epochs}
+func newBatchDisplay(w io.Writer, quiet bool) *batchDisplay {
+	return &batchDisplay{w: w, tty: isTerminal(w), quiet: quiet}
 }
 
 // event shows a start or end of an epoch; r is the epoch's result, filled at its end.
@@ -268,7 +244,7 @@ func (b *batchDisplay) event(ev workflow.Event, r *workflow.EpochResult) {
 	}
 	state := fmt.Sprintf("%d done, %d failed, %d running, %d waiting; %s elapsed, %s left",
 		ev.Done, ev.Failed, ev.Running, ev.Pending, ev.Elapsed.Round(time.Second), left)
-	name := b.epochs[ev.Task].Name
+	name := r.Row.Epoch // filled at the end, the only event that names the epoch
 	if b.tty {
 		if ev.Ended && ev.Err != nil {
 			fmt.Fprintf(b.w, "\r\033[K%s failed: %v\n", name, ev.Err)
