@@ -60,11 +60,11 @@ func NewImageSummary(run Run, paths Paths) ImageSummary {
 	s := ImageSummary{
 		Outputs: paths, Target: run.Target(), Regularizer: run.Regularizer(),
 		Grid: GridJ{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
-			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
+			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: NonNil(res.Grid.Reasons)},
 		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
 		Chi2ByType: map[string]Chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
 		Status: res.StopReason, Converged: res.Converged || res.Status.Converged(), Seconds: run.Seconds,
-		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
+		Notices: NonNil(res.Notices), Warnings: NonNil(res.Warnings),
 	}
 	for _, t := range res.Chi2 {
 		s.Chi2ByType[t.Type.String()] = Chi2J{N: t.N, Chi2r: t.Chi2r}
@@ -132,7 +132,7 @@ func NewInspectReport(d *recon.Data) InspectReport {
 	s := d.Summarize()
 	r := InspectReport{
 		Files:      s.Files,
-		Targets:    nonNil(s.Targets),
+		Targets:    NonNil(s.Targets),
 		Vis2:       InspectCounts(s.Vis2),
 		T3:         InspectCounts(s.T3),
 		Vis:        InspectCounts(s.Vis),
@@ -143,10 +143,10 @@ func NewInspectReport(d *recon.Data) InspectReport {
 		Largest:    s.LargestScale / recon.Mas,
 		MJD:        InspectRange{s.MJDMin, s.MJDMax},
 		Nights:     s.Nights,
-		Notices:    nonNil(d.Notices),
+		Notices:    NonNil(d.Notices),
 		Grid: GridJ{
 			N: s.Grid.N, PixelMas: s.Grid.Pixel / recon.Mas, FOVMas: s.Grid.FOV / recon.Mas,
-			SizeModel: s.Grid.SizeModel, SizeMas: s.Grid.Size / recon.Mas, Reasons: nonNil(s.Grid.Reasons),
+			SizeModel: s.Grid.SizeModel, SizeMas: s.Grid.Size / recon.Mas, Reasons: NonNil(s.Grid.Reasons),
 		},
 	}
 	for _, in := range s.Instruments {
@@ -161,8 +161,8 @@ func NewInspectReport(d *recon.Data) InspectReport {
 	return r
 }
 
-// nonNil returns s, or an empty list for nil.
-func nonNil(s []string) []string {
+// NonNil returns s, or an empty list for nil (JSON [] rather than null).
+func NonNil(s []string) []string {
 	if s == nil {
 		return []string{}
 	}

@@ -108,7 +108,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 		if st, ok := batch.Complete(statusPath, hash); ok {
 			r := st.Row
 			r.Index, r.Skipped = e.Index, true
-			r.Warnings = nonNil(r.Warnings)
+			r.Warnings = output.NonNil(r.Warnings)
 			return EpochResult{Row: r}
 		}
 	}
@@ -135,7 +135,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 		row.Chi2r[t.Type.String()] = t.Chi2r
 	}
 	row.Chi2rTotal, row.Weight, row.Iterations = res.Chi2r, res.Weight, res.TotalIter
-	row.Warnings = nonNil(res.Warnings)
+	row.Warnings = output.NonNil(res.Warnings)
 	row.FITS = filepath.Base(fitsPath)
 	if paths.PNG != "" {
 		row.PNG = filepath.Base(paths.PNG)

@@ -58,14 +58,6 @@ func writeJSON(w io.Writer, v any) error {
 	return enc.Encode(v)
 }
 
-// nonNil returns s, or an empty list for nil (JSON [] rather than null).
-func nonNil(s []string) []string {
-	if s == nil {
-		return []string{}
-	}
-	return s
-}
-
 func fmtF(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
 
 // Write writes every output of the comparison into dir (which must exist): each
@@ -96,7 +88,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 			row.FITS = filepath.Base(out)
 			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
 			row.Iterations = res.TotalIter
-			row.Warnings = nonNil(res.Warnings)
+			row.Warnings = output.NonNil(res.Warnings)
 			row.Converged = res.Converged || res.Status.Converged()
 			for _, t := range res.Chi2 {
 				row.Chi2ByType[t.Type.String()] = t.Chi2r
