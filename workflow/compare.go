@@ -23,16 +23,16 @@ type Entry struct {
 
 // CompareEntries gives one entry per regularizer named in regs ("all", or names of single
 // regularizers separated by commas), each the base spec with that regularizer alone and,
-// where weights ("mem=1e4,tv=auto") names it, that weight. Errors name the option (-reg,
-// -weights) as `vcz compare` spells it.
+// where weights ("mem=1e4,tv=auto") names it, that weight. Errors are *InputError and name
+// the option (-reg, -weights) as `vcz compare` spells it.
 func CompareEntries(base runspec.Spec, regs, weights string) ([]Entry, error) {
 	names, err := parseCompareRegs(regs)
 	if err != nil {
-		return nil, err
+		return nil, inputError("", err)
 	}
 	perReg, err := parseCompareWeights(weights, names)
 	if err != nil {
-		return nil, err
+		return nil, inputError("", err)
 	}
 	var out []Entry
 	for _, name := range names {
@@ -40,7 +40,7 @@ func CompareEntries(base runspec.Spec, regs, weights string) ([]Entry, error) {
 		spec.Regularizers = []regularizers.NamedTerm{{Name: name, Rel: 1}}
 		if w, ok := perReg[name]; ok {
 			if err := spec.Set("weight", w); err != nil {
-				return nil, fmt.Errorf("%s: %v", name, err)
+				return nil, inputErrorf("%s: %v", name, err)
 			}
 		}
 		out = append(out, Entry{Name: name, Spec: spec})

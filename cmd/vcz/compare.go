@@ -98,7 +98,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	}
 	entries, err := workflow.CompareEntries(spec, *regs, *weights)
 	if err != nil {
-		return badInput(err)
+		return err
 	}
 	cmp, err := workflow.NewComparison(files, d, entries)
 	if err != nil {
