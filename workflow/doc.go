@@ -1,8 +1,10 @@
 // Package workflow runs what the commands of vcz do, as functions of typed values: one
-// reconstruction (Image), several regularizers on the same data (Comparison), and many
-// epochs of one target, independently and jointly (Batch). The command parses flags into
-// runspec.Spec values, calls these, and prints; everything it does is reachable from Go
-// without flag strings.
+// reconstruction (NewImage, Image.Run), several regularizers on the same data
+// (CompareEntries, NewComparison, Comparison.Run and Write), many epochs of one target,
+// independently and jointly (Epochs, Batch.RunShard, Batch.Joint, Collect), and the fit of
+// a parametric model (FitModel). The command parses flags into runspec.Spec values, calls
+// these, and prints; everything it does is reachable from Go without flag strings. The
+// files a result is written to are package output's.
 //
 // # Layers
 //
