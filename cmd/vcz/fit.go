@@ -6,16 +6,14 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"path/filepath"
 	"sort"
-	"strings"
 
-	"vcz/io/plots"
-	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const fitDoc = `Fit a parametric model (discs, limb-darkened discs, Gaussians, rings, point
@@ -59,70 +57,6 @@ func init() {
 	register(&command{name: "fit", summary: "fit parametric models (discs, limb darkening, binaries) to the data", run: runFit})
 }
 
-// fitSummary is the JSON form of a fit.
-type fitSummary struct {
-	Model        string           `json:"model"`
-	Params       []fitParamJ      `json:"params"`
-	Correlations []fitCorrJ       `json:"correlations"`
-	CorrMatrix   [][]jfloat       `json:"correlation_matrix"`
-	Chi2         jfloat           `json:"chi2"`
-	N            int              `json:"n"`
-	DOF          int              `json:"dof"`
-	Chi2r        jfloat           `json:"chi2r"`
-	Chi2ByType   map[string]chi2J `json:"chi2r_by_type"`
-	Iterations   int              `json:"iterations"`
-	Evals        int              `json:"evaluations"`
-	Converged    bool             `json:"converged"`
-	Status       string           `json:"status"`
-	Starts       int              `json:"starts"`
-	BestStart    int              `json:"best_start"`
-	Grid         *fitGridJ        `json:"grid_search,omitempty"`
-	Plots        []string         `json:"plots"`
-	Image        string           `json:"image,omitempty"`
-	ModelFile    string           `json:"model_file,omitempty"`
-	Seeded       int              `json:"seeded_starts"`
-	Notices      []string         `json:"notices"`
-}
-
-type fitParamJ struct {
-	Name      string `json:"name"`
-	Component int    `json:"component"`
-	Kind      string `json:"kind"`
-	Param     string `json:"param"`
-	Value     jfloat `json:"value"`
-	Error     jfloat `json:"error"`
-	Unit      string `json:"unit"`
-	AtBound   bool   `json:"at_bound"`
-}
-
-type fitCorrJ struct {
-	A string `json:"a"`
-	B string `json:"b"`
-	R jfloat `json:"r"`
-}
-
-type fitGridJ struct {
-	Ratio       float64 `json:"flux_ratio"`
-	BestSep     float64 `json:"best_separation_mas"`
-	BestPA      float64 `json:"best_pa_deg"`
-	BestX       float64 `json:"best_east_mas"`
-	BestY       float64 `json:"best_north_mas"`
-	BestChi2    float64 `json:"best_chi2"`
-	Chi2Primary float64 `json:"chi2_without_companion"`
-	N           int     `json:"n"`
-}
-
-// jfloat is a float64 that is written as null in JSON when not finite.
-type jfloat float64
-
-func (f jfloat) MarshalJSON() ([]byte, error) {
-	x := float64(f)
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return []byte("null"), nil
-	}
-	return json.Marshal(x)
-}
-
 func runFit(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("fit", "-model SPEC [options] FILE...", fitDoc, stderr)
 	selFlags := runspec.RegisterFlags(fs, runspec.Select|runspec.Types)
@@ -159,7 +93,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *plotPrefix != "" {
 		plotFile = *plotPrefix + "-vis2.png"
 	}
-	if err := checkOutputs(*writeImage, *saveModel, plotFile); err != nil {
+	if err := workflow.CheckOutputs(*writeImage, *saveModel, plotFile); err != nil {
 		return err
 	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
@@ -174,62 +108,40 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return badInputf("fit: %v", err)
 	}
 	sel := selSpec.Selection()
-	files, d, err := readData(fs.Args(), sel)
+	files, d, err := workflow.ReadData(fs.Args(), sel)
 	if err != nil {
 		return err
 	}
-	opt := fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}
-
-	var g *fit.GridResult
+	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}}
 	if *grid {
-		gopt := fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, Fit: opt}
+		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit}
 		if *gridSep != "" {
 			lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
 			if err != nil {
 				return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
 			}
-			gopt.SepMin, gopt.SepMax = lo/recon.Mas, hi/recon.Mas
-		} else {
-			gopt.SepMax = 0.75 * d.Summarize().LargestScale / recon.Mas
+			fitSet.Grid.SepMin, fitSet.Grid.SepMax = lo/recon.Mas, hi/recon.Mas
 		}
 		if *gridNSep < 2 || *gridNPA < 1 || !(*gridRatio > 0) {
 			return badInputf("fit: -grid-nsep must be ≥ 2, -grid-npa ≥ 1 and -grid-ratio > 0")
 		}
-		g, err = fit.GridSearch(d, m, gopt)
-		if err != nil {
-			return badInputf("fit: grid search: %v", err)
-		}
-		comp, err := model.New(model.Point, map[string]float64{"flux": *gridRatio * m.TotalFlux(), "x": g.BestX, "y": g.BestY})
-		if err != nil {
-			return failure(err)
-		}
-		step := (gopt.SepMax - gopt.SepMin) / float64(gopt.NSep-1)
-		comp.SetFit("x", true, g.BestX-3*step, g.BestX+3*step)
-		comp.SetFit("y", true, g.BestY-3*step, g.BestY+3*step)
-		comp.SetFit("flux", true, 0, math.Inf(1))
-		m = m.Clone()
-		m.Components = append(m.Components, comp)
-		if *starts == 0 {
-			opt.Starts = 1 // the grid has found the start
-		}
-	} else if *starts == 0 {
-		opt.Starts = 1
-		if hasFreePosition(m) {
-			opt.Starts = 16
-		}
 	}
-
-	res, fitErr := fit.Fit(d, m, opt)
-	if res == nil {
-		return badInputf("fit: %v", fitErr)
+	fo, fitErr := workflow.FitModel(d, m, fitSet)
+	if fo == nil {
+		var ie *workflow.InputError
+		if errors.As(fitErr, &ie) {
+			return badInputf("fit: %v", fitErr)
+		}
+		return failure(fitErr)
 	}
-	sum := makeFitSummary(res, opt.Starts)
+	res, g := fo.Result, fo.Grid
+	sum := output.NewFitSummary(res, fo.Starts)
 	if g != nil {
-		sum.Grid = &fitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
+		sum.Grid = &output.FitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
 			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
 	}
 	if *plotPrefix != "" {
-		written, err := fitPlots(d, res, g, *plotPrefix)
+		written, err := output.FitPlots(d, res, g, *plotPrefix)
 		sum.Plots = append(sum.Plots, written...)
 		if err != nil {
 			return failure(err)
@@ -241,28 +153,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
 				return badInputf("fit: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
-		} else if px = d.Summarize().Resolution / 4; !(px > 0) {
-			return badInputf("fit: -write-image: no baseline to choose a pixel from; give -pixel")
 		}
-		img := res.Model.Image(*n, *n, px)
-		target := ""
-		if len(d.Targets) == 1 {
-			target = d.Targets[0]
-		}
-		if err := writeModelFITS(*writeImage, img, *n, px, files, target, "fitted model: "+res.Model.String()); err != nil {
-			return failure(err)
+		if err := fo.WriteImage(*writeImage, *n, px, files, d); err != nil {
+			return err // an *InputError exits 2, any other error 1
 		}
 		sum.Image = *writeImage
 	}
 	if *saveModel != "" {
-		header := []string{
-			"Model fitted by vcz fit " + version + " to " + strings.Join(baseNames(fs.Args()), ", "),
-			"start model: " + m.String(),
-		}
-		if !res.Converged {
-			header = append(header, "WARNING: the fit did not converge: "+res.Reason)
-		}
-		if err := safefile.WriteBytes(*saveModel, res.ModelTOML(header...)); err != nil {
+		if err := fo.SaveModel(*saveModel, fs.Args()); err != nil {
 			return failure(err)
 		}
 		sum.ModelFile = *saveModel
@@ -282,54 +180,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-// hasFreePosition reports whether a component of m has both x and y free.
-func hasFreePosition(m *model.Model) bool {
-	for _, c := range m.Components {
-		nfree := 0
-		for _, p := range c.Params() {
-			if p.Free && (p.Name == "x" || p.Name == "y") {
-				nfree++
-			}
-		}
-		if nfree == 2 {
-			return true
-		}
-	}
-	return false
-}
-
-func makeFitSummary(res *fit.Result, starts int) fitSummary {
-	s := fitSummary{
-		Model: res.Model.String(), Chi2: jfloat(res.Chi2), N: res.N, DOF: res.DOF, Chi2r: jfloat(res.Chi2r),
-		Chi2ByType: map[string]chi2J{}, Iterations: res.Iterations, Evals: res.Evals, Converged: res.Converged,
-		Status: res.Reason, Starts: starts, BestStart: res.Start, Seeded: res.Scanned, Plots: []string{},
-		Notices: append([]string{}, res.Notices...), Correlations: []fitCorrJ{},
-	}
-	for _, p := range res.Params {
-		c := res.Model.Components[p.Ref.Comp]
-		s.Params = append(s.Params, fitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
-			Param: p.Ref.Name, Value: jfloat(p.Value), Error: jfloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
-	}
-	for _, t := range res.PerType {
-		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
-	}
-	if res.Corr != nil {
-		k := len(res.Params)
-		for i := 0; i < k; i++ {
-			row := make([]jfloat, k)
-			for j := 0; j < k; j++ {
-				row[j] = jfloat(res.Corr.At(i, j))
-				if j > i && math.Abs(res.Corr.At(i, j)) > 0.5 {
-					s.Correlations = append(s.Correlations, fitCorrJ{A: res.Params[i].Ref.String(), B: res.Params[j].Ref.String(), R: jfloat(res.Corr.At(i, j))})
-				}
-			}
-			s.CorrMatrix = append(s.CorrMatrix, row)
-		}
-	}
-	return s
-}
-
-func printFit(w io.Writer, s fitSummary, d *recon.Data, n int) {
+func printFit(w io.Writer, s output.FitSummary, d *recon.Data, n int) {
 	fmt.Fprintf(w, "Fitted model: %s\n\n", s.Model)
 	fmt.Fprintf(w, "  %-14s %-9s %16s   %-12s\n", "parameter", "kind", "value", "1σ")
 	for _, p := range s.Params {
@@ -396,130 +247,4 @@ func typeOrder(name string) int {
 		}
 	}
 	return len(recon.DataTypes())
-}
-
-// circular reports whether every component of m is centred and circularly
-// symmetric, so that V² depends on the spatial frequency only and a model
-// curve against it is meaningful.
-func circular(m *model.Model) bool {
-	for _, c := range m.Components {
-		get := func(name string) float64 { v, _ := c.Get(name); return v }
-		switch c.Kind() {
-		case model.Background:
-			continue
-		case model.Point, model.UniformDisc, model.LinearLD, model.PowerLD, model.Gaussian:
-		case model.EllGaussian:
-			if get("ratio") != 1 {
-				return false
-			}
-		case model.Ring:
-			if get("inc") != 0 {
-				return false
-			}
-		default:
-			return false
-		}
-		if get("x") != 0 || get("y") != 0 {
-			return false
-		}
-	}
-	return true
-}
-
-// fitPlots writes the plots of a fit and returns the files written.
-func fitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
-	m := res.Model
-	var written []string
-	save := func(fig *plots.Figure, err error, suffix string) error {
-		if err != nil {
-			if errors.Is(err, plots.ErrNoData) {
-				return nil
-			}
-			return err
-		}
-		p := prefix + suffix
-		if err := fig.WriteFile(p); err != nil {
-			return err
-		}
-		written = append(written, p)
-		return nil
-	}
-	title := strings.Join(d.Targets, ", ")
-	obs := recon.PredictVis(d, m.VisMany)
-	var sets []plots.Residuals
-	if nv := d.Vis2.Len(); nv > 0 && res.Use&recon.Vis2 != 0 {
-		mv := obs.Of(recon.Vis2)
-		fq := make([]float64, nv)
-		fmax := 0.0
-		for i := range mv {
-			fq[i] = math.Hypot(d.Vis2.U[i], d.Vis2.V[i])
-			fmax = math.Max(fmax, fq[i])
-		}
-		var curves []plots.Curve
-		if circular(m) {
-			c := plots.Curve{Name: "fitted model"}
-			for k := 0; k <= 400; k++ {
-				q := 1.05 * fmax * float64(k) / 400
-				w := m.Vis(q, 0)
-				c.Freq = append(c.Freq, q)
-				c.Value = append(c.Value, real(w)*real(w)+imag(w)*imag(w))
-			}
-			curves = append(curves, c)
-		}
-		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
-			[]plots.ModelValues{{Name: "fitted model", Value: mv}}, curves, plots.Options{Title: titled("V² and fitted model", title)})
-		if err := save(fig, err, "-"+recon.Vis2.String()+".png"); err != nil {
-			return written, err
-		}
-		sets = append(sets, plots.Residuals{Name: recon.Vis2.Info().Label, Freq: fq, Value: plots.NormalizedResiduals(nil, d.Vis2.Value, mv, d.Vis2.Err)})
-	}
-	if res.Use&recon.T3Phi != 0 {
-		t := &d.T3
-		var td plots.T3Data
-		var mp, fq []float64
-		for i := range t.Lambda {
-			if !t.PhiOK[i] {
-				continue
-			}
-			td.U1 = append(td.U1, t.U1[i])
-			td.V1 = append(td.V1, t.V1[i])
-			td.U2 = append(td.U2, t.U2[i])
-			td.V2 = append(td.V2, t.V2[i])
-			td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
-			td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
-			mp = append(mp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
-			fq = append(fq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
-		}
-		if len(mp) > 0 {
-			fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: "fitted model", Value: mp}}, plots.Options{Title: titled("Closure phases and fitted model", title)})
-			if err := save(fig, err, "-"+recon.T3Phi.String()+".png"); err != nil {
-				return written, err
-			}
-			sets = append(sets, plots.Residuals{Name: recon.T3Phi.Info().Label, Freq: fq, Value: plots.PhaseResiduals(nil, td.Phi, mp, td.Err)})
-		}
-	}
-	if len(sets) > 0 {
-		fig, err := plots.ResidualPlot(sets, plots.Options{Title: titled("Normalised residuals of the fit", title)})
-		if err := save(fig, err, "-residuals.png"); err != nil {
-			return written, err
-		}
-	}
-	if g != nil {
-		fig, err := plots.Chi2Map(plots.Grid{X: g.Sep, Y: g.PA, Values: g.Chi2, XLabel: "separation (mas)", YLabel: "position angle, east of north (°)", ZLabel: "χ²"},
-			plots.Options{Title: titled("Companion search χ²", title)})
-		if err := save(fig, err, "-grid.png"); err != nil {
-			return written, err
-		}
-	}
-	return written, nil
-}
-
-// baseNames returns the file names of paths without their folders, so that
-// written files carry no machine-specific paths.
-func baseNames(paths []string) []string {
-	out := make([]string, len(paths))
-	for i, p := range paths {
-		out[i] = filepath.Base(p)
-	}
-	return out
 }
