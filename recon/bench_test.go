@@ -55,7 +55,7 @@ func BenchmarkImageNight(b *testing.B) {
 	s := d.summaryGeometry()
 	g := Grid{N: 128, Pixel: s.Resolution / 4}
 	// The cost of one Forward + Adjoint on the distinct points.
-	m, err := NewModel(d, g, true, nil)
+	m, err := NewForwardModel(d, g, true, nil)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -128,7 +128,7 @@ func BenchmarkObjective(b *testing.B) {
 	for _, n := range []int{64, 128} {
 		b.Run(map[int]string{64: "64", 128: "128"}[n], func(b *testing.B) {
 			g := Grid{N: n, Pixel: s.Resolution / 4}
-			m, err := NewModel(d, g, true, nil)
+			m, err := NewForwardModel(d, g, true, nil)
 			if err != nil {
 				b.Fatal(err)
 			}

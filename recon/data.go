@@ -149,8 +149,6 @@ type Summary struct {
 	// Resolution is the nominal resolution λmin/(2·Bmax), LargestScale the largest constrained
 	// scale λmax/Bmin (CONVENTIONS.md; common practice, no source).
 	Resolution, LargestScale float64
-	// Grid is the grid ChooseGrid suggests with default options.
-	Grid GridChoice
 	// MJDMin and MJDMax bound the observing epochs; Nights is the number of groups of epochs
 	// separated by gaps longer than NightGap.
 	MJDMin, MJDMax float64
@@ -162,8 +160,9 @@ type Summary struct {
 // however long, together (common practice, no source).
 const NightGap = 0.5
 
-// Summarize computes the summary of a data set. With no usable point the geometric figures are
-// zero.
+// Summarize computes the summary of a data set: counts and geometry only (the grid a
+// reconstruction would choose is ChooseGrid's). With no usable point the geometric figures
+// are zero.
 func (d *Data) Summarize() Summary {
 	s := Summary{
 		Files:       append([]string(nil), d.Files...),
@@ -226,9 +225,6 @@ func (d *Data) Summarize() Summary {
 		if mjds[i]-mjds[i-1] > NightGap {
 			s.Nights++
 		}
-	}
-	if g, err := ChooseGrid(d, GridOptions{}); err == nil {
-		s.Grid = g
 	}
 	return s
 }

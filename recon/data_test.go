@@ -169,9 +169,13 @@ func TestSummary(t *testing.T) {
 	if s.Nights != 3 {
 		t.Errorf("Nights = %d, want 3", s.Nights)
 	}
-	near("Grid pixel", s.Grid.Pixel, s.Resolution/4)
-	if !Friendly(s.Grid.N) || s.Grid.N < 32 {
-		t.Errorf("grid N = %d", s.Grid.N)
+	g, err := ChooseGrid(d, GridOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	near("Grid pixel", g.Pixel, s.Resolution/4)
+	if !Friendly(g.N) || g.N < 32 {
+		t.Errorf("grid N = %d", g.N)
 	}
 	if s.Vis2 != d.Vis2Count || len(s.Instruments) != 1 || s.Instruments[0].Channels != 2 {
 		t.Errorf("summary counts/instruments %+v %+v", s.Vis2, s.Instruments)

@@ -23,7 +23,7 @@
 //
 // # Forward model and data terms
 //
-// NewModel collects the distinct (u,v) points of all data — closure-triangle baselines
+// NewForwardModel collects the distinct (u,v) points of all data — closure-triangle baselines
 // usually coincide with V² baselines, and a baseline given with the opposite sign is the
 // conjugate of a stored one — and makes one transform (package vcz/nufft) for them. The data
 // types are one table (types.go: word, FITS key, label, unit, OIFITS table) and each has one

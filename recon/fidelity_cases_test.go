@@ -164,7 +164,7 @@ func TestTruthStartStable(t *testing.T) {
 					t.Fatal(err)
 				}
 				truth := m.Image(g.N, g.N, g.Pixel)
-				mod, err := NewModel(d, g.Grid, true, nil)
+				mod, err := NewForwardModel(d, g.Grid, true, nil)
 				if err != nil {
 					t.Fatal(err)
 				}

@@ -26,11 +26,11 @@ func NewTransform(workers int) TransformFunc {
 	}
 }
 
-// Model is the forward model of a gray image: the normalised complex visibility
+// ForwardModel is the forward model of a gray image: the normalised complex visibility
 // V(u,v) = Σ x_p exp(−2πi(u x_p + v y_p)) / Σ x_p at every distinct (u,v) point of a data set,
 // computed with one transform. It holds the buffers of one evaluation and is not safe for
 // concurrent use.
-type Model struct {
+type ForwardModel struct {
 	Grid
 	sampling // the distinct points U, V and the points each datum sees
 
@@ -42,19 +42,19 @@ type Model struct {
 	adj  []float64
 }
 
-// NewModel collects the distinct (u,v) points of all data of d, deduplicating baselines that
+// NewForwardModel collects the distinct (u,v) points of all data of d, deduplicating baselines that
 // coincide (exactly or to 1e-9 of the longest baseline, and with either sign), and makes one
 // transform for them with mk (nil means NewTransform(0)). With normalize false the model is
 // Σ x_p exp(...) without division by the flux, for images whose flux is known (the convex
 // complex-visibility case).
-func NewModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*Model, error) {
+func NewForwardModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*ForwardModel, error) {
 	if g.N < 2 || !(g.Pixel > 0) {
 		return nil, fmt.Errorf("recon: grid %d × %d of %g rad is not usable", g.N, g.N, g.Pixel)
 	}
 	if mk == nil {
 		mk = NewTransform(0)
 	}
-	m := &Model{Grid: g, norm: normalize, sampling: newSampling(d, nil)}
+	m := &ForwardModel{Grid: g, norm: normalize, sampling: newSampling(d, nil)}
 	if len(m.U) == 0 {
 		return nil, fmt.Errorf("recon: the data set has no (u,v) points")
 	}
@@ -72,7 +72,7 @@ func NewModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*Model, error)
 // Forward computes the model visibilities of image x (len N²) at the distinct points and
 // returns the total flux Σ x. With normalisation on, the visibilities are divided by the flux;
 // a flux that is zero or not finite leaves them non-finite, and the caller reports it.
-func (m *Model) Forward(x []float64) float64 {
+func (m *ForwardModel) Forward(x []float64) float64 {
 	if len(x) != m.N*m.N {
 		panic(fmt.Sprintf("recon: image has %d pixels, grid has %d", len(x), m.N*m.N))
 	}
@@ -93,7 +93,7 @@ func (m *Model) Forward(x []float64) float64 {
 }
 
 // at returns the model visibility seen by a datum (valid after Forward).
-func (m *Model) at(r ref) complex128 { return at(m.vis, r) }
+func (m *ForwardModel) at(r ref) complex128 { return at(m.vis, r) }
 
 // Gradient turns the accumulated visibility derivatives into the gradient with respect to the
 // image and writes it to grad. With V = A x / F and F = Σ x,
@@ -102,7 +102,7 @@ func (m *Model) at(r ref) complex128 { return at(m.vis, r) }
 //
 // where Re Σ conj(G_k)·a_kp is the adjoint transform of G. Without normalisation only the first
 // term remains, undivided.
-func (m *Model) Gradient(grad []float64) {
+func (m *ForwardModel) Gradient(grad []float64) {
 	m.tr.Adjoint(m.adj, m.gvis)
 	if !m.norm {
 		copy(grad, m.adj)

@@ -21,7 +21,7 @@ func (p *Prediction) Of(t DataType) []float64 { return p.values[t.index()] }
 // the model is normalised by it) at the data points of d. mk makes the transform; nil means
 // NewTransform(0).
 func Predict(d *Data, g Grid, img []float64, mk TransformFunc) (*Prediction, error) {
-	m, err := NewModel(d, g, true, mk)
+	m, err := NewForwardModel(d, g, true, mk)
 	if err != nil {
 		return nil, err
 	}

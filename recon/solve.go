@@ -205,7 +205,7 @@ func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
 	if mk == nil {
 		mk = NewTransform(s.Workers)
 	}
-	m, err := NewModel(p.Data, g.Grid, !p.Unnormalized, mk)
+	m, err := NewForwardModel(p.Data, g.Grid, !p.Unnormalized, mk)
 	if err != nil {
 		return nil, err
 	}

@@ -32,7 +32,7 @@ func standardObs(seed uint64, vis func(u, v float64) complex128) *Data {
 // reconstruction's visibilities.
 func reconV2(t *testing.T, d *Data, r *Result) *Data {
 	t.Helper()
-	m, err := NewModel(d, r.Grid.Grid, true, exactTransform)
+	m, err := NewForwardModel(d, r.Grid.Grid, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -374,7 +374,7 @@ func TestRecentre(t *testing.T) {
 	img := blobImage(n, 1.5, [][2]int{{10, 20}, {13, 18}}, []float64{1, 0.5})
 	rng := rand.New(rand.NewPCG(3, 3))
 	d := randomData(rng, 0.5/pixel/2)
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -37,7 +37,7 @@ type TermOptions struct {
 // are left out with a notice. An Objective holds the buffers of one evaluation and is not safe
 // for concurrent use.
 type Objective struct {
-	m      *Model
+	m      *ForwardModel
 	d      *Data
 	w      [nTypes]float64
 	terms  [nTypes]term
@@ -57,7 +57,7 @@ type Objective struct {
 }
 
 // NewObjective builds the data terms of d on model m (which must have been made from d).
-func NewObjective(d *Data, m *Model, opt TermOptions) *Objective {
+func NewObjective(d *Data, m *ForwardModel, opt TermOptions) *Objective {
 	o := &Objective{m: m, d: d, minParallel: parallelData}
 	c := termConfig{complexVis: opt.ComplexVis}
 	for i, r := range typeTable {
@@ -131,7 +131,7 @@ func (o *Objective) Available() DataType { return o.avail }
 func (o *Objective) Notices() []string { return o.notes }
 
 // Model returns the forward model.
-func (o *Objective) Model() *Model { return o.m }
+func (o *Objective) Model() *ForwardModel { return o.m }
 
 // N returns the number of data of one type in the terms.
 func (o *Objective) N(t DataType) int { return o.n[t.index()] }

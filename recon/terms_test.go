@@ -114,7 +114,7 @@ func TestModelAgainstDirectSum(t *testing.T) {
 		f    TransformFunc
 		tol  float64
 	}{{"exact", exactTransform, 1e-12}, {"default", NewTransform(1), 1e-5}} {
-		m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, mk.f)
+		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, mk.f)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -156,7 +156,7 @@ func TestClosurePhaseSign(t *testing.T) {
 	d.T3 = T3Points{U1: []float64{u1}, V1: []float64{0}, U2: []float64{u2}, V2: []float64{0.02 / pixel},
 		Amp: []float64{1}, AmpErr: []float64{1}, Phi: []float64{0}, PhiErr: []float64{1},
 		AmpOK: []bool{true}, PhiOK: []bool{true}, Lambda: []float64{1e-6}, DLambda: []float64{0}, MJD: []float64{0}, Origin: []Origin{{}}}
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -195,7 +195,7 @@ func TestObjectiveGradient(t *testing.T) {
 			{"visamp", true, TermOptions{Use: VisAmp}, 0},
 			{"visphi", true, TermOptions{Use: VisPhi}, 0},
 		} {
-			m, err := NewModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
+			m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -227,7 +227,7 @@ func TestPhaseSmoothing(t *testing.T) {
 	const n, pixel = 8, 1e-9
 	rng := rand.New(rand.NewPCG(5, 7))
 	d := randomData(rng, 0.5/pixel/2)
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -270,7 +270,7 @@ func TestSmoothedPhaseUnbiased(t *testing.T) {
 	const n, pixel = 8, 1e-9
 	rng := rand.New(rand.NewPCG(11, 7))
 	d := randomData(rng, 0.5/pixel/2)
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -329,7 +329,7 @@ func TestParallelParts(t *testing.T) {
 	const n, pixel = 8, 1e-9
 	rng := rand.New(rand.NewPCG(9, 7))
 	d := randomData(rng, 0.5/pixel/2)
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -368,7 +368,7 @@ func TestChi2Values(t *testing.T) {
 	const n, pixel = 8, 1e-9
 	rng := rand.New(rand.NewPCG(9, 9))
 	d := randomData(rng, 1/pixel/4)
-	m, err := NewModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -25,7 +25,7 @@ func TestSolveWorkers(t *testing.T) {
 			t.Fatal(err)
 		}
 		// The transform Solve made for the final grid, to confirm it ran on w workers.
-		m, err := NewModel(d, r.Grid.Grid, true, NewTransform(w))
+		m, err := NewForwardModel(d, r.Grid.Grid, true, NewTransform(w))
 		if err != nil {
 			t.Fatal(err)
 		}

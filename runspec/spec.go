@@ -139,6 +139,14 @@ func (s *Spec) regTerms() []regularizers.NamedTerm {
 // "mem + 0.1·compact".
 func (s Spec) RegularizerLabel() string { return regularizers.Label(s.regTerms()) }
 
+// SeedValue is the seed of s: *Seed, or the default seed 1 when Seed is nil.
+func (s Spec) SeedValue() uint64 {
+	if s.Seed != nil {
+		return *s.Seed
+	}
+	return defaultSeed
+}
+
 // Selection is the data selection of s.
 func (s Spec) Selection() recon.Selection {
 	return recon.Selection{Target: s.Target, WaveMin: s.WaveMin, WaveMax: s.WaveMax, MJDMin: s.MJDMin, MJDMax: s.MJDMax,
@@ -249,10 +257,7 @@ func (s Spec) Problem(d *recon.Data) (recon.Problem, recon.Settings, error) {
 	}
 	p.Terms.Use = s.Use
 	st.MaxIter = s.Iterations
-	st.Seed = defaultSeed
-	if s.Seed != nil {
-		st.Seed = *s.Seed
-	}
+	st.Seed = s.SeedValue()
 	st.Starts = s.Starts
 	st.CoarseToFine = s.Coarse
 	st.NoAmplitudeFirst = s.NoAmplitudeFirst

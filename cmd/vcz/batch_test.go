@@ -15,7 +15,6 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
-	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
@@ -346,9 +345,8 @@ func TestBatchJoint(t *testing.T) {
 	}
 }
 
-// batch --help lists every option of a job file, and the hash of an epoch does not depend
-// on its worker count (the image does not).
-func TestBatchJobKeysAndHash(t *testing.T) {
+// batch --help lists every option of a job file.
+func TestBatchJobKeys(t *testing.T) {
 	fs := newFlagSet("x", "", "", io.Discard)
 	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
 	fs.VisitAll(func(f *flag.Flag) {
@@ -356,30 +354,4 @@ func TestBatchJobKeysAndHash(t *testing.T) {
 			t.Errorf("batch --help does not list the job key %s", f.Name)
 		}
 	})
-	a := &batchEpoch{spec: runspec.Spec{Grid: 64, Workers: 1}}
-	b := &batchEpoch{spec: runspec.Spec{Grid: 64, Workers: 7}}
-	c := &batchEpoch{spec: runspec.Spec{Grid: 64, Iterations: 10}}
-	if a.settingsText() != b.settingsText() || a.settingsText() == c.settingsText() {
-		t.Errorf("settings texts %q, %q, %q", a.settingsText(), b.settingsText(), c.settingsText())
-	}
-	ha, err1 := batch.Hash(a.settingsText(), nil)
-	hb, err2 := batch.Hash(b.settingsText(), nil)
-	if err1 != nil || err2 != nil || ha != hb {
-		t.Errorf("hashes %s, %s (%v, %v)", ha, hb, err1, err2)
-	}
-}
-
-// The example job file reads: four epochs, the shared settings and the overrides.
-func TestBatchExampleJob(t *testing.T) {
-	epochs, out, err := readJobFile(filepath.Join("..", "..", "examples", "batch", "job.toml"), runspec.Spec{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(epochs) != 4 || filepath.Base(out) != "vaeloris-epochs" || len(epochs[1].files) != 2 {
-		t.Fatalf("%d epochs, output %q", len(epochs), out)
-	}
-	e0, e2, e3 := epochs[0].spec, epochs[2].spec, epochs[3].spec
-	if e0.Grid != 64 || e0.Iterations != 300 || *e0.Seed != 7 || e0.Use != recon.Vis2|recon.T3Phi || e2.Use != recon.Vis2 || e3.WaveMax == 0 {
-		t.Fatalf("settings %+v / %+v", e0, e2)
-	}
 }

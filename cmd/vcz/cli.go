@@ -5,11 +5,11 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
-	"runtime/debug"
 	"sort"
 	"strings"
+
+	"vcz/output"
+	"vcz/workflow"
 )
 
 // Exit codes, documented in doc.go.
@@ -18,10 +18,6 @@ const (
 	exitFailure  = 1 // the computation failed (no convergence, non-finite values, I/O while writing)
 	exitBadInput = 2 // bad input files, bad options or wrong usage
 )
-
-// version is the release this source tree describes. Builds from a
-// checkout add the VCS revision when the toolchain records one.
-const version = "0.1.0-dev"
 
 // exitError carries the exit code that an error should produce.
 type exitError struct {
@@ -43,22 +39,6 @@ func badInput(err error) error {
 // badInputf formats a bad-input error.
 func badInputf(format string, args ...any) error {
 	return badInput(fmt.Errorf(format, args...))
-}
-
-// checkOutputs returns a bad-input error naming the first of paths whose folder does not
-// exist (or is not a folder), so that a run fails at once rather than after its work.
-// Empty paths are skipped.
-func checkOutputs(paths ...string) error {
-	for _, p := range paths {
-		if p == "" {
-			continue
-		}
-		dir := filepath.Dir(p)
-		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
-			return badInputf("%s: cannot write: folder %s does not exist", p, dir)
-		}
-	}
-	return nil
 }
 
 // failure marks err as a failure of the computation (exit 1).
@@ -142,6 +122,10 @@ func exitCode(err error, stderr io.Writer) int {
 	var ee *exitError
 	if errors.As(err, &ee) {
 		return ee.code
+	}
+	var ie *workflow.InputError
+	if errors.As(err, &ie) {
+		return exitBadInput
 	}
 	return exitFailure
 }
@@ -238,35 +222,8 @@ func runVersion(args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() > 0 {
 		return badInputf("version takes no arguments")
 	}
-	fmt.Fprintf(stdout, "vcz %s\n", versionString())
+	fmt.Fprintf(stdout, "vcz %s\n", output.VersionString())
 	return nil
-}
-
-// versionString is the version with the VCS revision when known.
-func versionString() string {
-	v := version
-	if bi, ok := debug.ReadBuildInfo(); ok {
-		var rev, dirty string
-		for _, s := range bi.Settings {
-			switch s.Key {
-			case "vcs.revision":
-				if len(s.Value) > 12 {
-					rev = s.Value[:12]
-				} else {
-					rev = s.Value
-				}
-			case "vcs.modified":
-				if s.Value == "true" {
-					dirty = "+modified"
-				}
-			}
-		}
-		if rev != "" {
-			v += " (" + rev + dirty + ")"
-		}
-		v += " " + bi.GoVersion
-	}
-	return v
 }
 
 func runHelp(args []string, stdout, stderr io.Writer) error {

@@ -11,7 +11,7 @@ import (
 	"testing"
 
 	"vcz/io/fitsimage"
-	"vcz/io/preview"
+	"vcz/output"
 )
 
 // runCmd runs the program with args and returns stdout, stderr and the exit code.
@@ -41,7 +41,7 @@ func TestHelpAndVersion(t *testing.T) {
 		}
 	}
 	out, _, code = runCmd(t, "version")
-	if code != exitOK || !strings.HasPrefix(out, "vcz "+version) {
+	if code != exitOK || !strings.HasPrefix(out, "vcz "+output.Version) {
 		t.Fatalf("version: code %d, output %q", code, out)
 	}
 }
@@ -114,7 +114,7 @@ func TestInspectDemoJSON(t *testing.T) {
 			t.Errorf("JSON lacks %q", k)
 		}
 	}
-	var rep inspectReport
+	var rep output.InspectReport
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
@@ -175,7 +175,7 @@ func TestImageEndToEnd(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var sum imageSummary
+	var sum output.ImageSummary
 	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -247,17 +247,5 @@ func TestInterspersedFlags(t *testing.T) {
 		if *o != c.o || strings.Join(fs.Args(), " ") != strings.Join(c.pos, " ") {
 			t.Errorf("%v: -o %q, args %q; want %q, %q", c.args, *o, fs.Args(), c.o, c.pos)
 		}
-	}
-}
-
-// TestParseStretch checks the names of -stretch against the stretches of io/preview.
-func TestParseStretch(t *testing.T) {
-	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Linear} {
-		if got, err := parseStretch(in); err != nil || got != want {
-			t.Errorf("%q: %v, %v; want %v", in, got, err, want)
-		}
-	}
-	if _, err := parseStretch("gamma"); err == nil {
-		t.Error("gamma: no error")
 	}
 }

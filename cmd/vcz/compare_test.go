@@ -9,7 +9,6 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"runtime"
 	"strings"
 	"testing"
 	"time"
@@ -22,7 +21,7 @@ import (
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 	"vcz/regularizers"
-	"vcz/runspec"
+	"vcz/workflow"
 )
 
 // simulateFile simulates the demo observing plan (six telescopes, 8 hour
@@ -45,9 +44,9 @@ func simulateFile(t testing.TB, dir, spec string) string {
 	return path
 }
 
-// compareOn runs the whole comparison on a file through the command's own
-// functions and returns the runs and the report.
-func compareOn(t testing.TB, path, dir string, args ...string) ([]*compareRun, *compareReport) {
+// compareOn runs the whole comparison on a file through the command and returns the
+// report it wrote.
+func compareOn(t testing.TB, path, dir string, args ...string) *workflow.CompareReport {
 	t.Helper()
 	var stderr bytes.Buffer
 	err := runCompare(append([]string{path, "-o", dir, "-quiet"}, args...), &bytes.Buffer{}, &stderr)
@@ -58,11 +57,11 @@ func compareOn(t testing.TB, path, dir string, args ...string) ([]*compareRun, *
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rep compareReport
+	var rep workflow.CompareReport
 	if err := json.Unmarshal(b, &rep); err != nil {
 		t.Fatal(err)
 	}
-	return nil, &rep
+	return &rep
 }
 
 // readImage reads one regularizer's FITS image back.
@@ -84,7 +83,7 @@ func TestCompareBinary(t *testing.T) {
 	dir := t.TempDir()
 	path := simulateFile(t, dir, "ud:diameter=1.5;point:x=1.8,y=1.2,flux=0.3")
 	out := filepath.Join(dir, "out")
-	_, rep := compareOn(t, path, out, "-n", "48", "-iter", "150", "-starts", "1")
+	rep := compareOn(t, path, out, "-n", "48", "-iter", "150", "-starts", "1")
 	if len(rep.Rows) != len(regularizers.Kinds()) {
 		t.Fatalf("%d rows, want one per regularizer (%d)", len(rep.Rows), len(regularizers.Kinds()))
 	}
@@ -146,7 +145,7 @@ func TestCompareDisc(t *testing.T) {
 	dir := t.TempDir()
 	path := simulateFile(t, dir, "ud:diameter=2")
 	out := filepath.Join(dir, "out")
-	_, rep := compareOn(t, path, out, "-n", "48", "-iter", "150", "-starts", "1")
+	rep := compareOn(t, path, out, "-n", "48", "-iter", "150", "-starts", "1")
 	f, err := oifits.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
@@ -295,134 +294,4 @@ func screenshot(t *testing.T, page string) {
 	if len(colours) < 200 {
 		t.Errorf("screenshot has %d distinct colours: blank or images missing", len(colours))
 	}
-}
-
-// nanReg is a regularizer whose value is NaN, to make one run fail.
-type nanReg struct{}
-
-func (nanReg) Eval(grad, x []float64) float64 {
-	for i := range grad {
-		grad[i] = math.NaN()
-	}
-	return math.NaN()
-}
-
-// TestCompareFailure checks that a failing regularizer is reported in the
-// table and the report while the others complete.
-func TestCompareFailure(t *testing.T) {
-	dir := t.TempDir()
-	f, err := oifits.Decode(bytes.NewReader(demoOIFITS), "demo.oifits")
-	if err != nil {
-		t.Fatal(err)
-	}
-	files := []*oifits.File{f}
-	d, err := recon.FromFiles(files, recon.Selection{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	cf := compareFlags{regs: "tv,smooth", spec: runspec.Spec{Grid: 32, Iterations: 60, Starts: 1}}
-	runs, choice, err := compareRuns(d, &cf)
-	if err != nil {
-		t.Fatal(err)
-	}
-	runs[1].problem.Reg = func(recon.Grid) (recon.Regularizer, error) { return nanReg{}, nil }
-	runs[1].problem.Weight = 1
-	var progress bytes.Buffer
-	prog := newMultiProgress(&progress, runs)
-	runParallel(runs, 2, 0, prog)
-	rep, err := writeComparison(dir, files, d, choice, runs, &cf, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if runs[0].err != nil || rep.Rows[0].Error != "" {
-		t.Errorf("tv failed: %v", runs[0].err)
-	}
-	if runs[1].err == nil || rep.Rows[1].Error == "" {
-		t.Fatal("the NaN regularizer did not fail")
-	}
-	csvText, _ := os.ReadFile(filepath.Join(dir, "compare.csv"))
-	if !strings.Contains(string(csvText), rep.Rows[1].Error) {
-		t.Errorf("compare.csv lacks the error:\n%s", csvText)
-	}
-	page, _ := os.ReadFile(filepath.Join(dir, "report.html"))
-	if !strings.Contains(string(page), "Failed:") {
-		t.Error("report.html does not report the failure")
-	}
-	if _, err := os.Stat(filepath.Join(dir, "tv.fits")); err != nil {
-		t.Errorf("the successful run's image is missing: %v", err)
-	}
-	lines := progress.String()
-	for _, want := range []string{"waiting", "running", "done", "failed"} {
-		if !strings.Contains(lines, want) {
-			t.Errorf("progress lacks %q:\n%s", want, lines)
-		}
-	}
-}
-
-// TestCompareOptions checks the parsing of -reg and -weights.
-func TestCompareOptions(t *testing.T) {
-	for _, tc := range []struct {
-		reg, weights string
-		ok           bool
-	}{
-		{"all", "", true},
-		{"mem,tv", "mem=1e4,tv=auto", true},
-		{"mem,tv", "smooth=1", false},
-		{"mem,mem", "", false},
-		{"bogus", "", false},
-		{"mem", "mem=-1", false},
-		{"mem", "mem", false},
-	} {
-		names, err := parseCompareRegs(tc.reg)
-		if err == nil {
-			_, err = parseCompareWeights(tc.weights, names)
-		}
-		if (err == nil) != tc.ok {
-			t.Errorf("-reg %q -weights %q: error %v, want ok=%v", tc.reg, tc.weights, err, tc.ok)
-		}
-	}
-}
-
-// BenchmarkCompare measures four regularizers on a 128² grid: one
-// comparison (runs in parallel, one transform worker each when there are
-// fewer cores than runs) against the four reconstructions one after another
-// with every core given to the transform, as separate `vcz image` runs
-// would. The metric ratio is the first over the second (goal ≤ 0.6).
-func BenchmarkCompare(b *testing.B) {
-	f, err := oifits.Decode(bytes.NewReader(demoOIFITS), "demo.oifits")
-	if err != nil {
-		b.Fatal(err)
-	}
-	d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
-	if err != nil {
-		b.Fatal(err)
-	}
-	mk := func() []*compareRun {
-		cf := compareFlags{regs: "mem,tv,smooth,compact", spec: runspec.Spec{Grid: 128, Iterations: 100, Starts: 1}}
-		runs, _, err := compareRuns(d, &cf)
-		if err != nil {
-			b.Fatal(err)
-		}
-		for _, r := range runs {
-			r.settings.PathIter, r.settings.WeightSteps = 40, 4
-		}
-		return runs
-	}
-	b.ReportAllocs()
-	var par, seq time.Duration
-	for i := 0; i < b.N; i++ {
-		runs := mk()
-		t0 := time.Now()
-		runParallel(runs, len(runs), 0, nil)
-		par += time.Since(t0)
-		runs = mk()
-		t0 = time.Now()
-		for _, r := range runs {
-			runParallel([]*compareRun{r}, 1, runtime.GOMAXPROCS(0), nil)
-		}
-		seq += time.Since(t0)
-	}
-	b.ReportMetric(par.Seconds()/float64(b.N), "compare-s/op")
-	b.ReportMetric(seq.Seconds()/float64(b.N), "separate-s/op")
-	b.ReportMetric(par.Seconds()/seq.Seconds(), "ratio")
 }

@@ -9,11 +9,11 @@ import (
 	"path/filepath"
 
 	"vcz/io/oifits"
-	"vcz/io/preview"
 	"vcz/io/safefile"
+	"vcz/output"
 	"vcz/recon"
-	"vcz/recon/simulate"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 // demoOIFITS is the demo data set: simulated observations of the invented
@@ -69,38 +69,18 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
-	rep := makeInspectReport(d)
+	rep := output.NewInspectReport(d)
 	fmt.Fprintf(stdout, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
 	out := filepath.Join(*dir, "vaeloris-image.fits")
 	// The zero Spec is vcz image with no option.
-	sum, err := reconstruct(files, d, runspec.Spec{}, preview.Linear, out, true, true, *quiet, stderr)
+	sum, run, err := reconstruct(files, d, runspec.Spec{}, output.Outputs{}, out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
 	printImageSummary(stdout, sum)
-
-	// The truth on the reconstruction's grid, and a side-by-side panel.
-	_, m := simulate.Demo()
-	n, pixel := sum.Grid.N, sum.Grid.PixelMas*recon.Mas
-	truth := m.Image(n, n, pixel)
-	truthPath := filepath.Join(*dir, "vaeloris-truth.fits")
-	if err := writeModelFITS(truthPath, truth, n, pixel, files, "Vaeloris", "demo model (truth)"); err != nil {
-		return failure(err)
-	}
-	rec, err := readImageData(out)
-	if err != nil {
-		return failure(err)
-	}
-	panel := filepath.Join(*dir, "vaeloris-compare.png")
-	frames := []preview.Frame{
-		{Data: truth, NX: n, NY: n, Label: "model the data were simulated from"},
-		{Data: rec, NX: n, NY: n, Label: fmt.Sprintf("reconstruction (%s, χ²ᵣ %.2f)", sum.Regularizer, sum.Chi2r)},
-	}
-	if err := preview.WritePanel(panel, frames, preview.Options{
-		Title: "Vaeloris — demo: truth and reconstruction", Pixel: sum.Grid.PixelMas,
-		Beam: preview.Beam{Major: rep.Resolution}, ColorbarLabel: "flux per pixel (total 1)",
-	}); err != nil {
+	truthPath, panel := filepath.Join(*dir, "vaeloris-truth.fits"), filepath.Join(*dir, "vaeloris-compare.png")
+	if err := workflow.DemoTruth(truthPath, panel, run); err != nil {
 		return failure(err)
 	}
 	fmt.Fprintf(stdout, "Wrote %s\nWrote %s\n", truthPath, panel)

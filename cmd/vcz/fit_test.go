@@ -11,10 +11,12 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 // simulatedFile writes data of the model spec observed with the four-station
@@ -46,7 +48,7 @@ func simulatedFileWith(t *testing.T, planFile, spec string) string {
 	return p
 }
 
-func fitParam(t *testing.T, s fitSummary, name string) fitParamJ {
+func fitParam(t *testing.T, s output.FitSummary, name string) output.FitParamJ {
 	t.Helper()
 	for _, p := range s.Params {
 		if p.Name == name {
@@ -54,7 +56,7 @@ func fitParam(t *testing.T, s fitSummary, name string) fitParamJ {
 		}
 	}
 	t.Fatalf("no parameter %s in %+v", name, s.Params)
-	return fitParamJ{}
+	return output.FitParamJ{}
 }
 
 // A binary simulated through the OIFITS writer and reader is fitted back
@@ -70,7 +72,7 @@ func TestFitBinaryEndToEnd(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var s fitSummary
+	var s output.FitSummary
 	if err := json.Unmarshal([]byte(stdout), &s); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -135,7 +137,7 @@ func TestFitGridSearch(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var s fitSummary
+	var s output.FitSummary
 	if err := json.Unmarshal([]byte(stdout), &s); err != nil {
 		t.Fatal(err)
 	}
@@ -220,7 +222,7 @@ func TestFitSaveModelThenImage(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var s fitSummary
+	var s output.FitSummary
 	if err := json.Unmarshal([]byte(stdout), &s); err != nil {
 		t.Fatal(err)
 	}
@@ -249,7 +251,7 @@ func TestFitSaveModelThenImage(t *testing.T) {
 	}
 	x, y, d := float64(fitParam(t, s, "c2.x").Value), float64(fitParam(t, s, "c2.y").Value), float64(fitParam(t, s, "c1.diameter").Value)
 	size := 2 * math.Max(math.Hypot(x, y), d/2)
-	var grids []inspectGrid
+	var grids []output.GridJ
 	for _, from := range []string{saved, jsonFile} {
 		out := filepath.Join(dir, "img.fits")
 		stdout, errs, code := runCmd(t, "image", "-from-model", from, "-iter", "20", "-starts", "1", "-weight", "0.01",
@@ -257,7 +259,7 @@ func TestFitSaveModelThenImage(t *testing.T) {
 		if code != exitOK {
 			t.Fatalf("%s: exit %d: %s", from, code, errs)
 		}
-		var sum imageSummary
+		var sum output.ImageSummary
 		if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
 			t.Fatal(err)
 		}
@@ -302,7 +304,7 @@ func problemFor(t *testing.T, data string, args ...string) (recon.Problem, recon
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, d, err := readData(fs.Args(), spec.Selection())
+	_, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -7,12 +7,12 @@ import (
 	"io"
 	"path/filepath"
 	"strings"
-	"time"
 
 	"vcz/io/oifits"
-	"vcz/io/preview"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const imageDoc = `Reconstruct an image from one or more OIFITS files (merged into one data set)
@@ -51,45 +51,6 @@ Outputs (OUT defaults to the first file's name with -image.fits):
   OUT-residuals.png   residuals normalised by their errors
   OUT-lcurve.png      the weight path, when the weight was chosen automatically`
 
-// imageSummary is the JSON summary of one reconstruction.
-type imageSummary struct {
-	Outputs     outputPaths `json:"outputs"`
-	Target      string      `json:"target"`
-	Grid        inspectGrid `json:"grid"`
-	Regularizer string      `json:"regularizer"`
-	Weight      float64     `json:"weight"`
-	WeightAuto  bool        `json:"weight_auto"`
-	Chi2r       float64     `json:"chi2r"`
-	Chi2rTarget float64     `json:"chi2r_expected"`
-	// Chi2rFloor and Chi2rAim: the χ²ᵣ of the least-regularized images and the χ²ᵣ the
-	// automatic weight aimed at (absent for a given weight).
-	Chi2rFloor float64          `json:"chi2r_floor,omitempty"`
-	Chi2rAim   float64          `json:"chi2r_aim,omitempty"`
-	Chi2ByType map[string]chi2J `json:"chi2r_by_type"`
-	RegValue   float64          `json:"regularizer_value"`
-	Iterations int              `json:"iterations"`
-	TotalIter  int              `json:"total_iterations"`
-	Status     string           `json:"status"`
-	Converged  bool             `json:"converged"`
-	Seconds    float64          `json:"seconds"`
-	Path       []pathJ          `json:"weight_path,omitempty"`
-	Notices    []string         `json:"notices"`
-	// Warnings is the quality verdict (recon.Result.Warnings): an empty list when none.
-	Warnings []string `json:"warnings"`
-}
-
-type chi2J struct {
-	N     int     `json:"n"`
-	Chi2r float64 `json:"chi2r"`
-}
-
-type pathJ struct {
-	Weight float64 `json:"weight"`
-	Chi2r  float64 `json:"chi2r"`
-	Reg    float64 `json:"regularizer"`
-	Iter   int     `json:"iterations"`
-}
-
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.All)
@@ -110,10 +71,10 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		base := filepath.Base(fs.Arg(0))
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
 	}
-	if err := checkOutputs(*out); err != nil {
+	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
-	st, err := parseStretch(*stretch)
+	st, err := output.ParseStretch(*stretch)
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
@@ -121,11 +82,11 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
-	files, d, err := readData(fs.Args(), spec.Selection())
+	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
-	sum, err := reconstruct(files, d, spec, st, *out, !*noPNG, !*noPlots, *quiet, stderr)
+	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
 	if err != nil {
 		return err
 	}
@@ -149,29 +110,12 @@ const stretchUsage = "display stretch of the PNG previews: linear, sqrt, asinh o
 // registerStretch adds -stretch to fs.
 func registerStretch(fs *flag.FlagSet) *string { return fs.String("stretch", "linear", stretchUsage) }
 
-// parseStretch reads the value of -stretch; "" is linear.
-func parseStretch(text string) (preview.Stretch, error) {
-	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
-		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
-			return s, nil
-		}
-	}
-	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
-}
-
-// reconstruct runs one reconstruction of d as spec says and writes its outputs to out,
-// previews with the stretch st. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, st preview.Stretch, out string, png, withPlots, quiet bool, stderr io.Writer) (imageSummary, error) {
-	var sum imageSummary
-	if len(d.Targets) > 1 {
-		return sum, badInputf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
-	}
-	if d.Len(recon.AllTypes) == 0 {
-		return sum, badInputf("no usable data points after selection")
-	}
-	p, s, err := spec.Problem(d)
+// reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
+// to out. Messages go to stderr unless quiet.
+func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, output.Run, error) {
+	im, err := workflow.NewImage(files, d, spec)
 	if err != nil {
-		return sum, badInput(err)
+		return output.ImageSummary{}, output.Run{}, err
 	}
 	if !quiet {
 		for _, n := range d.Notices {
@@ -179,51 +123,18 @@ func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, st prev
 		}
 	}
 	prog := newProgressLine(stderr, quiet)
-	s.Progress = func(pr recon.Progress) bool {
+	run, paths, err := im.Run(outs, out, func(pr recon.Progress) bool {
 		prog.report(pr)
 		return true
-	}
-	t0 := time.Now()
-	res, err := recon.Solve(p, s)
+	})
 	prog.done()
 	if err != nil {
-		return sum, failure(err)
+		return output.ImageSummary{}, output.Run{}, failure(err)
 	}
-	info := runInfo{files: d.Files, reg: spec.RegularizerLabel(), seed: s.Seed, seconds: time.Since(t0).Seconds(), stretch: st}
-	if len(d.Targets) == 1 {
-		info.target = d.Targets[0]
-		info.ra, info.dec, info.hasRADec = targetCoords(files, info.target)
-	}
-	info.options = spec.String()
-	info.title = imageTitle(d, info)
-	paths, err := writeResult(out, d, res, info, png, withPlots)
-	if err != nil {
-		return sum, err
-	}
-	sum = makeImageSummary(res, info, paths)
-	return sum, nil
+	return output.NewImageSummary(run, paths), run, nil
 }
 
-func makeImageSummary(res *recon.Result, info runInfo, paths outputPaths) imageSummary {
-	s := imageSummary{
-		Outputs: paths, Target: info.target, Regularizer: info.reg,
-		Grid: inspectGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
-			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: nonNil(res.Grid.Reasons)},
-		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
-		Chi2ByType: map[string]chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
-		Status: res.StopReason, Converged: res.Status.Converged() || strings.HasPrefix(res.StopReason, "converged"), Seconds: info.seconds,
-		Notices: nonNil(res.Notices), Warnings: nonNil(res.Warnings),
-	}
-	for _, t := range res.Chi2 {
-		s.Chi2ByType[t.Type.String()] = chi2J{N: t.N, Chi2r: t.Chi2r}
-	}
-	for _, p := range res.Path {
-		s.Path = append(s.Path, pathJ{p.Weight, p.Chi2r, p.Reg, p.Iter})
-	}
-	return s
-}
-
-func printImageSummary(w io.Writer, s imageSummary) {
+func printImageSummary(w io.Writer, s output.ImageSummary) {
 	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas (field %.4g mas)\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas, s.Grid.FOVMas)
 	for _, r := range s.Grid.Reasons {
 		fmt.Fprintf(w, "  - %s\n", r)

@@ -4,14 +4,12 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
-	"math"
 	"os"
-	"path/filepath"
 	"strings"
 
-	"vcz/io/plots"
-	"vcz/recon"
+	"vcz/output"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const inspectDoc = `Summarise one or more OIFITS files, merged into one data set: targets,
@@ -22,54 +20,6 @@ suggested pixel size and grid, and the MJD range with the number of nights.
 
 With -plot DIR it also writes DIR/uv.png (the (u,v) coverage) and DIR/vis2.png
 (V² against spatial frequency).`
-
-// inspectReport is the JSON form of the summary. Angles are in
-// milliarcseconds, baselines in metres, frequencies in Mλ, wavelengths in µm.
-type inspectReport struct {
-	Files       []string            `json:"files"`
-	Targets     []string            `json:"targets"`
-	Instruments []inspectInstrument `json:"instruments"`
-	Vis2        inspectCounts       `json:"vis2"`
-	T3          inspectCounts       `json:"t3"`
-	Vis         inspectCounts       `json:"vis"`
-	Baseline    inspectRange        `json:"baseline_m"`
-	Frequency   inspectRange        `json:"frequency_mlambda"`
-	Wavelength  inspectRange        `json:"wavelength_um"`
-	Resolution  float64             `json:"resolution_mas"`
-	Largest     float64             `json:"largest_scale_mas"`
-	Grid        inspectGrid         `json:"suggested_grid"`
-	MJD         inspectRange        `json:"mjd"`
-	Nights      int                 `json:"nights"`
-	Notices     []string            `json:"notices"`
-	Plots       []string            `json:"plots,omitempty"`
-}
-
-type inspectInstrument struct {
-	Name     string  `json:"name"`
-	Channels int     `json:"channels"`
-	MinUm    float64 `json:"wavelength_min_um"`
-	MaxUm    float64 `json:"wavelength_max_um"`
-}
-
-type inspectCounts struct {
-	Valid     int `json:"valid"`
-	Flagged   int `json:"flagged"`
-	NonFinite int `json:"nonfinite"`
-}
-
-type inspectRange struct {
-	Min float64 `json:"min"`
-	Max float64 `json:"max"`
-}
-
-type inspectGrid struct {
-	N         int      `json:"n"`
-	PixelMas  float64  `json:"pixel_mas"`
-	FOVMas    float64  `json:"fov_mas"`
-	SizeModel string   `json:"size_model,omitempty"`
-	SizeMas   float64  `json:"size_mas,omitempty"`
-	Reasons   []string `json:"reasons"`
-}
 
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
@@ -86,15 +36,18 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("inspect: %v", err)
 	}
-	_, d, err := readData(fs.Args(), spec.Selection())
+	_, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
-	rep := makeInspectReport(d)
+	rep := output.NewInspectReport(d)
 	if *plotDir != "" {
-		paths, err := inspectPlots(d, *plotDir)
+		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
+			return badInputf("inspect: -plot: %v", err)
+		}
+		paths, err := output.DataPlots(d, *plotDir)
 		if err != nil {
-			return err
+			return failure(err)
 		}
 		rep.Plots = paths
 	}
@@ -107,49 +60,9 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-func makeInspectReport(d *recon.Data) inspectReport {
-	s := d.Summarize()
-	r := inspectReport{
-		Files:      s.Files,
-		Targets:    nonNil(s.Targets),
-		Vis2:       inspectCounts(s.Vis2),
-		T3:         inspectCounts(s.T3),
-		Vis:        inspectCounts(s.Vis),
-		Baseline:   inspectRange{s.BaselineMin, s.BaselineMax},
-		Frequency:  inspectRange{s.FreqMin / 1e6, s.FreqMax / 1e6},
-		Wavelength: inspectRange{s.LambdaMin * 1e6, s.LambdaMax * 1e6},
-		Resolution: s.Resolution / recon.Mas,
-		Largest:    s.LargestScale / recon.Mas,
-		MJD:        inspectRange{s.MJDMin, s.MJDMax},
-		Nights:     s.Nights,
-		Notices:    nonNil(d.Notices),
-		Grid: inspectGrid{
-			N: s.Grid.N, PixelMas: s.Grid.Pixel / recon.Mas, FOVMas: s.Grid.FOV / recon.Mas,
-			SizeModel: s.Grid.SizeModel, SizeMas: s.Grid.Size / recon.Mas, Reasons: nonNil(s.Grid.Reasons),
-		},
-	}
-	for _, in := range s.Instruments {
-		r.Instruments = append(r.Instruments, inspectInstrument{in.Name, in.Channels, in.LambdaMin * 1e6, in.LambdaMax * 1e6})
-	}
-	if r.Instruments == nil {
-		r.Instruments = []inspectInstrument{}
-	}
-	if math.IsInf(r.Largest, 0) {
-		r.Largest = 0
-	}
-	return r
-}
-
-func nonNil(s []string) []string {
-	if s == nil {
-		return []string{}
-	}
-	return s
-}
-
-func printInspect(w io.Writer, r inspectReport) {
+func printInspect(w io.Writer, r output.InspectReport) {
 	fmt.Fprintf(w, "Files:          %s\n", strings.Join(r.Files, ", "))
-	fmt.Fprintf(w, "Targets:        %s\n", orNone(strings.Join(r.Targets, ", ")))
+	fmt.Fprintf(w, "Targets:        %s\n", output.OrNone(strings.Join(r.Targets, ", ")))
 	fmt.Fprintf(w, "Instruments:\n")
 	for _, in := range r.Instruments {
 		fmt.Fprintf(w, "  %-20s %3d channels, %.4g–%.4g µm\n", in.Name, in.Channels, in.MinUm, in.MaxUm)
@@ -160,7 +73,7 @@ func printInspect(w io.Writer, r inspectReport) {
 	fmt.Fprintf(w, "Data points:    %-8s %8s %8s %10s\n", "", "valid", "flagged", "non-finite")
 	for _, c := range []struct {
 		name string
-		c    inspectCounts
+		c    output.InspectCounts
 	}{{"V²", r.Vis2}, {"closure", r.T3}, {"vis", r.Vis}} {
 		fmt.Fprintf(w, "                %-8s %8d %8d %10d\n", c.name, c.c.Valid, c.c.Flagged, c.c.NonFinite)
 	}
@@ -190,74 +103,9 @@ func printInspect(w io.Writer, r inspectReport) {
 	}
 }
 
-func orNone(s string) string {
-	if s == "" {
-		return "(none)"
-	}
-	return s
-}
-
 func plural(n int) string {
 	if n == 1 {
 		return ""
 	}
 	return "s"
-}
-
-// inspectPlots writes the (u,v) coverage and V² plots of d into dir.
-func inspectPlots(d *recon.Data, dir string) ([]string, error) {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return nil, badInputf("inspect: -plot: %v", err)
-	}
-	var uv plots.UV
-	addUV := func(u, v, l float64) {
-		uv.U = append(uv.U, u)
-		uv.V = append(uv.V, v)
-		uv.Wavelength = append(uv.Wavelength, l)
-	}
-	for i := range d.Vis2.Value {
-		addUV(d.Vis2.U[i], d.Vis2.V[i], d.Vis2.Lambda[i])
-	}
-	for i := range d.T3.Lambda {
-		t := &d.T3
-		addUV(t.U1[i], t.V1[i], t.Lambda[i])
-		addUV(t.U2[i], t.V2[i], t.Lambda[i])
-		addUV(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i], t.Lambda[i])
-	}
-	for i := range d.Vis.Lambda {
-		addUV(d.Vis.U[i], d.Vis.V[i], d.Vis.Lambda[i])
-	}
-	var written []string
-	title := strings.Join(d.Targets, ", ")
-	if len(uv.U) > 0 {
-		fig, err := plots.UVCoverage(uv, plots.Options{Title: titled("(u,v) coverage", title)})
-		if err != nil {
-			return nil, failure(err)
-		}
-		p := filepath.Join(dir, "uv.png")
-		if err := fig.WriteFile(p); err != nil {
-			return nil, failure(err)
-		}
-		written = append(written, p)
-	}
-	if d.Vis2.Len() > 0 {
-		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err}, nil, nil,
-			plots.Options{Title: titled("Squared visibility", title)})
-		if err != nil {
-			return nil, failure(err)
-		}
-		p := filepath.Join(dir, "vis2.png")
-		if err := fig.WriteFile(p); err != nil {
-			return nil, failure(err)
-		}
-		written = append(written, p)
-	}
-	return written, nil
-}
-
-func titled(what, target string) string {
-	if target == "" {
-		return what
-	}
-	return what + " — " + target
 }

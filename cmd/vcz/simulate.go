@@ -7,10 +7,12 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 	"vcz/runspec"
+	"vcz/workflow"
 )
 
 const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
@@ -65,7 +67,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if *n < 2 || *n%2 != 0 || *n > 4096 {
 		return badInputf("simulate: -n %d must be an even number from 2 to 4096", *n)
 	}
-	if err := checkOutputs(*out, *writeImage); err != nil {
+	if err := workflow.CheckOutputs(*out, *writeImage); err != nil {
 		return err
 	}
 	plan, err := simulate.LoadPlan(*planPath)
@@ -118,7 +120,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		if len(f.Targets) > 0 {
 			name = f.Targets[0].Name
 		}
-		if err := writeModelFITS(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
+		if err := output.WriteModel(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
 			return failure(err)
 		}
 		if !*quiet {
@@ -126,26 +128,4 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	return nil
-}
-
-// writeModelFITS writes a model image with the world coordinates of the
-// reconstructions, so truth and reconstruction compare pixel by pixel.
-func writeModelFITS(path string, img []float64, n int, pixel float64, files []*oifits.File, target, what string) error {
-	ra, dec, ok := targetCoords(files, target)
-	im := &fitsimage.Image{NX: n, NY: n, Pixel: pixel, Data: img, RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
-		Cards: []fitsimage.Card{
-			{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
-			{Key: "CREATOR", Value: "vcz " + version, Comment: "software that made this image"},
-			{Key: "HISTORY", Value: fitsASCII(what)},
-		}}
-	return fitsimage.WriteFile(path, im)
-}
-
-// readImageData reads the pixels of a FITS image.
-func readImageData(path string) ([]float64, error) {
-	im, err := fitsimage.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	return im.Data, nil
 }

@@ -6,7 +6,7 @@ import (
 	"io"
 	"strings"
 
-	"vcz/io/fitsimage"
+	"vcz/output"
 )
 
 // The quality verdict of a reconstruction (recon.Result.Warnings) goes
@@ -31,7 +31,7 @@ const quietUsage = "print nothing on stderr but warnings and errors"
 // "warning: LABEL: TEXT" when label is not empty.
 func printWarnings(w io.Writer, label string, warnings []string) {
 	for _, s := range warnings {
-		s = oneLine(s)
+		s = output.OneLine(s)
 		if label != "" {
 			fmt.Fprintf(w, "warning: %s: %s\n", label, s)
 		} else {
@@ -46,19 +46,6 @@ func countWarnings(n int) string {
 		return "1 warning"
 	}
 	return fmt.Sprintf("%d warnings", n)
-}
-
-// warningCards are the FITS header cards of the verdict: NWARN, the number of
-// warnings (also when 0), and WARN1, WARN2, ... with each warning's full
-// text, in printable ASCII (fitsASCII) and continued on CONTINUE cards when
-// longer than one card (long-string convention, FITS standard 4.0 sect.
-// 4.2.1.2).
-func warningCards(warnings []string) []fitsimage.Card {
-	c := []fitsimage.Card{{Key: "NWARN", Value: len(warnings), Comment: "quality warnings of the reconstruction (WARNn)"}}
-	for i, s := range warnings {
-		c = append(c, fitsimage.Card{Key: fmt.Sprintf("WARN%d", i+1), Value: fitsASCII(oneLine(s)), Comment: "quality warning"})
-	}
-	return c
 }
 
 // strictFailure is the error of a run with -strict whose results carry n

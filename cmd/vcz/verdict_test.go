@@ -14,7 +14,9 @@ import (
 	"vcz/io/fitsfile"
 	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"
+	"vcz/output"
 	"vcz/recon"
+	"vcz/workflow"
 )
 
 // headerScript prints a FITS file's primary header as JSON, read with astropy, which
@@ -63,8 +65,8 @@ func checkWarningHeader(t *testing.T, path string, warnings []string) {
 	}
 	for i, w := range warnings {
 		key := fmt.Sprintf("WARN%d", i+1)
-		if s, _, _ := h.String(key); s != fitsASCII(w) {
-			t.Errorf("%s: %s = %q, want %q", path, key, s, fitsASCII(w))
+		if s, _, _ := h.String(key); s != output.ASCII(w) {
+			t.Errorf("%s: %s = %q, want %q", path, key, s, output.ASCII(w))
 		}
 	}
 	if h.Has(fmt.Sprintf("WARN%d", len(warnings)+1)) {
@@ -80,8 +82,8 @@ func checkWarningHeader(t *testing.T, path string, warnings []string) {
 	}
 	for i, w := range warnings {
 		key := fmt.Sprintf("WARN%d", i+1)
-		if got[key] != fitsASCII(w) {
-			t.Errorf("astropy: %s = %q, want %q", key, got[key], fitsASCII(w))
+		if got[key] != output.ASCII(w) {
+			t.Errorf("astropy: %s = %q, want %q", key, got[key], output.ASCII(w))
 		}
 	}
 }
@@ -100,7 +102,7 @@ func TestImageVerdict(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var sum imageSummary
+	var sum output.ImageSummary
 	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -115,7 +117,7 @@ func TestImageVerdict(t *testing.T) {
 	}
 	long := false
 	for _, w := range sum.Warnings {
-		long = long || len(fitsASCII(w)) > 68
+		long = long || len(output.ASCII(w)) > 68
 	}
 	if !long {
 		t.Error("no warning longer than one FITS card: the long-string cards are not exercised")
@@ -131,7 +133,7 @@ func TestImageVerdict(t *testing.T) {
 	if len(warningLines(errs)) != len(sum.Warnings) || !strings.Contains(errs, "-strict") {
 		t.Errorf("-strict stderr: %s", errs)
 	}
-	for _, p := range []string{strictOut, outputStem(strictOut) + ".png", outputStem(strictOut) + "-vis2.png"} {
+	for _, p := range []string{strictOut, output.Stem(strictOut) + ".png", output.Stem(strictOut) + "-vis2.png"} {
 		if _, err := os.Stat(p); err != nil {
 			t.Errorf("-strict: output missing: %v", err)
 		}
@@ -164,7 +166,7 @@ func TestDemoVerdictNone(t *testing.T) {
 // A summary without warnings has "warnings": [] in its JSON, not null (an empty list is
 // what a reader iterates over without a special case; common practice, no source).
 func TestImageSummaryEmptyWarnings(t *testing.T) {
-	b, err := json.Marshal(makeImageSummary(&recon.Result{}, runInfo{}, outputPaths{}))
+	b, err := json.Marshal(output.NewImageSummary(output.Run{Result: &recon.Result{}, Data: &recon.Data{}}, output.Paths{}))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -185,7 +187,7 @@ func TestCompareVerdict(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var rep compareReport
+	var rep workflow.CompareReport
 	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
 		t.Fatalf("%v in %q", err, stdout)
 	}
@@ -193,7 +195,7 @@ func TestCompareVerdict(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var file compareReport
+	var file workflow.CompareReport
 	if err := json.Unmarshal(raw, &file); err != nil {
 		t.Fatal(err)
 	}

@@ -6,10 +6,7 @@ import (
 	"math/rand/v2"
 	"reflect"
 	"strings"
-	"sync"
-	"sync/atomic"
 	"testing"
-	"time"
 
 	"gonum.org/v1/gonum/diff/fd"
 
@@ -88,45 +85,6 @@ func TestShardFromEnv(t *testing.T) {
 		if sh != c.want || ok != c.ok || (err != nil) != c.err {
 			t.Errorf("%v: got %v %v %v", c.env, sh, ok, err)
 		}
-	}
-}
-
-// Run never has more workers running than the budget, records every job's error in job
-// order and survives a panicking job.
-func TestRunBudget(t *testing.T) {
-	var cur, peak atomic.Int64
-	var mu sync.Mutex
-	jobs := make([]Job, 12)
-	for i := range jobs {
-		w := 1 + i%3
-		jobs[i] = Job{Workers: w, Do: func() error {
-			c := cur.Add(int64(w))
-			mu.Lock()
-			peak.Store(max(peak.Load(), c))
-			mu.Unlock()
-			time.Sleep(2 * time.Millisecond)
-			cur.Add(-int64(w))
-			switch i {
-			case 4:
-				return fmt.Errorf("job %d failed", i)
-			case 7:
-				panic("boom")
-			}
-			return nil
-		}}
-	}
-	var last Event
-	errs := Run(jobs, RunOptions{Budget: 3, Events: func(e Event) { last = e }})
-	if peak.Load() > 3 {
-		t.Fatalf("peak of %d workers with a budget of 3", peak.Load())
-	}
-	for i, err := range errs {
-		if (err != nil) != (i == 4 || i == 7) {
-			t.Fatalf("job %d: %v", i, err)
-		}
-	}
-	if !strings.Contains(errs[7].Error(), "boom") || last.Done != 10 || last.Failed != 2 || last.Running != 0 {
-		t.Fatalf("errs %v, last event %+v", errs, last)
 	}
 }
 

@@ -1,9 +1,8 @@
 // Package batch holds the pieces of imaging many epochs of one target: splitting
-// observations into epochs at gaps in time, running epochs concurrently within a budget
-// of worker goroutines, hashing an epoch's inputs and settings so that a rerun can skip
-// finished work, sharding a list of epochs over the tasks of a job array, the summary
+// observations into epochs at gaps in time, hashing an epoch's inputs and settings so
+// that a rerun can skip finished work, sharding a list of epochs over the tasks of a job array, the summary
 // table of a batch, and the joint reconstruction of all epochs with a temporal
-// regularizer.
+// regularizer. Package workflow runs a batch with them.
 //
 // # Epochs
 //
@@ -11,13 +10,6 @@
 // while consecutive times are at most gap days apart. A gap of half a day separates the
 // nights of any site while keeping one night together (recon.NightGap; common practice,
 // no source).
-//
-// # Concurrency
-//
-// Run executes jobs in their given order, starting a job when its worker count fits in the
-// budget (GOMAXPROCS by default). A job asking for more workers than the budget is given
-// the whole budget. Results are returned in the order of the jobs, whatever the order of
-// completion, so every output built from them is deterministic.
 //
 // # Resuming
 //

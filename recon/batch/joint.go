@@ -26,7 +26,7 @@ type JointEpoch struct {
 // NewJointEpoch builds the epoch's data terms for data d on grid g with the flux-normalised
 // model, and the flux weight ρ as recon.Solve sets it: the number of fitted data.
 func NewJointEpoch(d *recon.Data, g recon.Grid, terms recon.TermOptions, reg recon.Regularizer, mu float64, workers int) (*JointEpoch, error) {
-	m, err := recon.NewModel(d, g, true, recon.NewTransform(workers))
+	m, err := recon.NewForwardModel(d, g, true, recon.NewTransform(workers))
 	if err != nil {
 		return nil, err
 	}

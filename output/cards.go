@@ -1,0 +1,176 @@
+package output
+
+import (
+	"fmt"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/recon"
+)
+
+// Creator is the value of the CREATOR card of every image vcz writes.
+const Creator = "vcz " + Version
+
+// FITSCards is the provenance of r as FITS header cards, in the order of the package doc.
+// DATE is r.Date, or the time of the call when r.Date is zero (UTC).
+func FITSCards(r Run) []fitsimage.Card {
+	res := r.Result
+	date := r.Date
+	if date.IsZero() {
+		date = time.Now()
+	}
+	c := []fitsimage.Card{
+		{Key: "OBJECT", Value: orUnknown(r.Target()), Comment: "target"},
+		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
+		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
+		{Key: "REGUL", Value: r.Regularizer(), Comment: "regularizer(s)"},
+		{Key: "REGWT", Value: res.Weight, Comment: "regularization weight mu"},
+		{Key: "REGVAL", Value: res.Reg, Comment: "regularizer value R(x)"},
+		{Key: "WTAUTO", Value: len(res.Path) > 0, Comment: "weight chosen from the data (chi2r aim)"},
+		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all fitted data"},
+		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
+	}
+	for _, t := range res.Chi2 {
+		key := t.Type.Info().Key
+		c = append(c, fitsimage.Card{Key: "CHI2" + key, Value: t.Chi2r, Comment: fmt.Sprintf("reduced chi2 of %s (%d points)", t.Type, t.N)})
+		c = append(c, fitsimage.Card{Key: "NPT" + key, Value: t.N, Comment: fmt.Sprintf("number of %s points fitted", t.Type)})
+	}
+	c = append(c,
+		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the final run"},
+		fitsimage.Card{Key: "NITERTOT", Value: res.TotalIter, Comment: "iterations of all runs"},
+		fitsimage.Card{Key: "STOPWHY", Value: Truncate(res.StopReason, 68), Comment: "why the final run stopped"},
+		fitsimage.Card{Key: "SEED", Value: int(r.Spec.SeedValue()), Comment: "seed of the random choices"},
+		fitsimage.Card{Key: "GRIDN", Value: res.Grid.N, Comment: "pixels per side"},
+		fitsimage.Card{Key: "PIXMAS", Value: res.Grid.Pixel / recon.Mas, Comment: "pixel size (mas)"},
+		fitsimage.Card{Key: "RESOLMAS", Value: res.Grid.Resolution / recon.Mas, Comment: "nominal resolution lambda_min/(2 B_max) (mas)"},
+	)
+	c = append(c, WarningCards(res.Warnings)...)
+	for i, f := range r.Data.Files {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
+	}
+	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
+		if line != "" {
+			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
+		}
+	}
+	for _, g := range res.Grid.Reasons {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + g})
+	}
+	for _, s := range res.Path {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: mu=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
+	}
+	for _, n := range res.Notices {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "note: " + n})
+	}
+	for i := range c {
+		if v, ok := c[i].Value.(string); ok {
+			c[i].Value = ASCII(v)
+		}
+		c[i].Comment = ASCII(c[i].Comment)
+	}
+	c = append(c, fitsimage.Card{Key: "COMMENT", Value: "One image consistent with the data, not a photograph: features smaller"},
+		fitsimage.Card{Key: "COMMENT", Value: "than the resolution lambda/(2 B_max) are not constrained by the data."})
+	return c
+}
+
+// WarningCards are the FITS header cards of the quality verdict (recon.Result.Warnings):
+// NWARN, the number of warnings (also when 0), and WARN1, WARN2, ... with each warning's
+// full text on one line, in printable ASCII and continued on CONTINUE cards when longer than
+// one card (long-string convention, FITS standard 4.0 sect. 4.2.1.2).
+func WarningCards(warnings []string) []fitsimage.Card {
+	c := []fitsimage.Card{{Key: "NWARN", Value: len(warnings), Comment: "quality warnings of the reconstruction (WARNn)"}}
+	for i, s := range warnings {
+		c = append(c, fitsimage.Card{Key: fmt.Sprintf("WARN%d", i+1), Value: ASCII(OneLine(s)), Comment: "quality warning"})
+	}
+	return c
+}
+
+// OneLine joins the lines of a message with "; ".
+func OneLine(s string) string {
+	return strings.ReplaceAll(strings.TrimSpace(s), "\n", "; ")
+}
+
+func orUnknown(s string) string {
+	if s == "" {
+		return "UNKNOWN"
+	}
+	return s
+}
+
+// stepFlags says how a run of the weight search ended, for the HISTORY cards.
+func stepFlags(s recon.WeightStep) string {
+	switch {
+	case s.Stalled:
+		return " stalled"
+	case s.Converged:
+		return " converged"
+	}
+	return ""
+}
+
+// Truncate shortens s to at most n bytes, for FITS string values.
+func Truncate(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	return s[:n]
+}
+
+// ASCII replaces the non-ASCII characters of the project's messages by ASCII spellings,
+// since FITS header text is printable ASCII only (FITS standard 4.0, sect. 4.1.2.1);
+// anything else becomes '?'.
+func ASCII(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		switch {
+		case r >= 0x20 && r < 0x7f:
+			b.WriteRune(r)
+		case r == '×':
+			b.WriteString("x")
+		case r == '·':
+			b.WriteString("*")
+		case r == 'λ':
+			b.WriteString("lambda")
+		case r == 'μ':
+			b.WriteString("mu")
+		case r == 'χ':
+			b.WriteString("chi")
+		case r == '²':
+			b.WriteString("2")
+		case r == 'ᵣ':
+			b.WriteString("r")
+		case r == 'µ':
+			b.WriteString("u")
+		case r == '–' || r == '—' || r == '−':
+			b.WriteString("-")
+		case r == '≤':
+			b.WriteString("<=")
+		case r == '≥':
+			b.WriteString(">=")
+		case r == '≈':
+			b.WriteString("~")
+		case r == '°':
+			b.WriteString(" deg")
+		default:
+			b.WriteByte('?')
+		}
+	}
+	return b.String()
+}
+
+// WriteModel writes a model image (normalised, n×n pixels of pixel rad) with the world
+// coordinates of the reconstructions of target in files, so that truth and
+// reconstruction compare pixel by pixel; what goes into a HISTORY card.
+func WriteModel(path string, img []float64, n int, pixel float64, files []*oifits.File, target, what string) error {
+	ra, dec, ok := TargetCoords(files, target)
+	im := &fitsimage.Image{NX: n, NY: n, Pixel: pixel, Data: img, RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
+		Cards: []fitsimage.Card{
+			{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
+			{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
+			{Key: "HISTORY", Value: ASCII(what)},
+		}}
+	return fitsimage.WriteFile(path, im)
+}

@@ -1,0 +1,332 @@
+package output
+
+import (
+	"fmt"
+	"math"
+	"runtime/debug"
+	"strings"
+	"time"
+
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/io/plots"
+	"vcz/io/preview"
+	"vcz/recon"
+	"vcz/runspec"
+)
+
+// Version is the release this source tree describes, written in the CREATOR card.
+const Version = "0.1.0-dev"
+
+// Outputs says which files Write makes beside the FITS image. The zero value writes the
+// FITS image, the PNG preview with a linear stretch and the data-fit plots.
+type Outputs struct {
+	NoPNG   bool            // do not write OUT.png
+	NoPlots bool            // do not write the data-fit plots
+	Stretch preview.Stretch // display stretch of the PNG preview; the FITS image is not changed
+	// Cards are written at the end of the FITS header, after the provenance (e.g. INHASH,
+	// the input hash of a batch epoch).
+	Cards []fitsimage.Card
+}
+
+// Run is a result with what it came from, passed in memory.
+type Run struct {
+	Files  []*oifits.File // the decoded data files (for the target's coordinates)
+	Data   *recon.Data    // the data fitted (its Files name the files in the header)
+	Spec   runspec.Spec   // the options of the run
+	Result *recon.Result
+	// Label names the regularizer in the header and titles; "" means
+	// Spec.RegularizerLabel().
+	Label   string
+	Seconds float64 // time of the reconstruction, for summaries
+	// Date is the creation date written in the DATE card; the zero value means the time
+	// the header is made. A workflow that writes a result and keeps its image sets it, so
+	// that the image in memory and the file carry the same header.
+	Date time.Time
+}
+
+// Regularizer is the label of the regularizer of r: Label, or Spec.RegularizerLabel().
+func (r *Run) Regularizer() string {
+	if r.Label != "" {
+		return r.Label
+	}
+	return r.Spec.RegularizerLabel()
+}
+
+// Target is the name of the data's target, or "" when the data hold several or none.
+func (r *Run) Target() string {
+	if len(r.Data.Targets) == 1 {
+		return r.Data.Targets[0]
+	}
+	return ""
+}
+
+// Paths are the files written for one reconstruction.
+type Paths struct {
+	FITS  string   `json:"fits"`
+	PNG   string   `json:"png,omitempty"`
+	Plots []string `json:"plots,omitempty"`
+}
+
+// Stem returns the path without its .fits/.fit/.fts extension.
+func Stem(out string) string {
+	for _, ext := range []string{".fits", ".fit", ".fts", ".FITS"} {
+		if strings.HasSuffix(out, ext) {
+			return strings.TrimSuffix(out, ext)
+		}
+	}
+	return out
+}
+
+// TargetCoords returns the coordinates (deg) of the target of that name in the files.
+func TargetCoords(files []*oifits.File, name string) (ra, dec float64, ok bool) {
+	for _, f := range files {
+		for _, t := range f.Targets {
+			if strings.EqualFold(strings.TrimSpace(t.Name), strings.TrimSpace(name)) {
+				return t.RAEp0, t.DecEp0, true
+			}
+		}
+	}
+	return 0, 0, false
+}
+
+// Image returns the FITS image of r with its provenance cards and o.Cards.
+func (o Outputs) Image(r Run) *fitsimage.Image {
+	res := r.Result
+	var ra, dec float64
+	var ok bool
+	if len(r.Data.Targets) == 1 {
+		ra, dec, ok = TargetCoords(r.Files, r.Data.Targets[0])
+	}
+	return &fitsimage.Image{
+		NX: res.Grid.N, NY: res.Grid.N, Pixel: res.Grid.Pixel, Data: res.Image,
+		RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
+		Cards: append(FITSCards(r), o.Cards...),
+	}
+}
+
+// Write writes the FITS image of r to out and, unless o says otherwise, its PNG preview
+// and data-fit plots beside it (package doc). It returns the paths written, those before
+// an error included.
+func (o Outputs) Write(out string, r Run) (Paths, error) {
+	paths := Paths{FITS: out}
+	if err := fitsimage.WriteFile(out, o.Image(r)); err != nil {
+		return paths, err
+	}
+	stem := Stem(out)
+	if !o.NoPNG {
+		p := stem + ".png"
+		if err := o.writePreview(p, r); err != nil {
+			return paths, err
+		}
+		paths.PNG = p
+	}
+	if !o.NoPlots {
+		ps, err := writeFitPlots(stem, r)
+		if err != nil {
+			return paths, err
+		}
+		paths.Plots = ps
+	}
+	return paths, nil
+}
+
+// Title is the title line of a preview of data d: target, date range, regularizer label.
+func Title(d *recon.Data, target, label string) string {
+	s := d.Summarize()
+	parts := []string{OrNone(target)}
+	if s.MJDMax > 0 {
+		if s.MJDMax-s.MJDMin < 1 {
+			parts = append(parts, preview.FormatMJD(s.MJDMin))
+		} else {
+			parts = append(parts, preview.FormatMJD(s.MJDMin)+" – "+preview.FormatMJD(s.MJDMax))
+		}
+	}
+	if label != "" {
+		parts = append(parts, label)
+	}
+	return strings.Join(parts, " · ")
+}
+
+// OrNone returns s, or "(none)" when s is empty.
+func OrNone(s string) string {
+	if s == "" {
+		return "(none)"
+	}
+	return s
+}
+
+func chi2Text(res *recon.Result) string {
+	var parts []string
+	for _, t := range res.Chi2 {
+		parts = append(parts, fmt.Sprintf("%s %.2f", t.Type, t.Chi2r))
+	}
+	return "χ²ᵣ " + strings.Join(parts, ", ")
+}
+
+func (o Outputs) writePreview(path string, r Run) error {
+	res := r.Result
+	opt := preview.Options{
+		Title:         Title(r.Data, r.Target(), r.Regularizer()),
+		Subtitle:      fmt.Sprintf("μ = %.3g · %s", res.Weight, chi2Text(res)),
+		Pixel:         res.Grid.Pixel / recon.Mas,
+		Beam:          preview.Beam{Major: res.Grid.Resolution / recon.Mas},
+		ColorbarLabel: "flux per pixel (total 1)",
+		Stretch:       o.Stretch,
+	}
+	return preview.WriteFile(path, res.Image, res.Grid.N, res.Grid.N, opt)
+}
+
+// LCurve is the weight path of res as a plot path named name, with the chosen weight
+// marked; ok is false for a path of fewer than two steps.
+func LCurve(name string, res *recon.Result) (lp plots.LPath, ok bool) {
+	if len(res.Path) < 2 {
+		return lp, false
+	}
+	lp = plots.LPath{Name: name, Chosen: -1}
+	for i, s := range res.Path {
+		lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg, Stalled: s.Stalled})
+		// The final weight is that of one step of the path (recon.Result.Path).
+		if s.Weight == res.Weight {
+			lp.Chosen = i
+		}
+	}
+	return lp, true
+}
+
+// writeFitPlots writes data-versus-model plots of r.
+func writeFitPlots(stem string, r Run) ([]string, error) {
+	d, res := r.Data, r.Result
+	target := r.Target()
+	obs, err := recon.Predict(d, res.Grid.Grid, res.Image, nil)
+	if err != nil {
+		return nil, err
+	}
+	var written []string
+	save := func(fig *plots.Figure, suffix string) error {
+		p := stem + suffix
+		if err := fig.WriteFile(p); err != nil {
+			return err
+		}
+		written = append(written, p)
+		return nil
+	}
+	label := r.Regularizer()
+	var resid []plots.Residuals
+	if n := d.Vis2.Len(); n > 0 {
+		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
+			[]plots.ModelValues{{Name: label, Value: obs.Of(recon.Vis2)}}, nil,
+			plots.Options{Title: "V² — data and image model — " + OrNone(target)})
+		if err != nil {
+			return nil, err
+		}
+		if err := save(fig, "-"+recon.Vis2.String()+".png"); err != nil {
+			return nil, err
+		}
+		rv := plots.Residuals{Name: recon.Vis2.Info().Label}
+		for i := 0; i < n; i++ {
+			rv.Freq = append(rv.Freq, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
+			rv.Value = append(rv.Value, (d.Vis2.Value[i]-obs.Of(recon.Vis2)[i])/d.Vis2.Err[i])
+		}
+		resid = append(resid, rv)
+	}
+	td := ClosurePhases(d)
+	var tm []float64
+	rp := plots.Residuals{Name: recon.T3Phi.Info().Label}
+	t := &d.T3
+	for i := range t.Lambda {
+		if !t.PhiOK[i] {
+			continue
+		}
+		tm = append(tm, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+		dphi := math.Remainder(t.Phi[i]-obs.Of(recon.T3Phi)[i], 2*math.Pi)
+		rp.Freq = append(rp.Freq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
+		rp.Value = append(rp.Value, dphi/t.PhiErr[i])
+	}
+	if len(td.Phi) > 0 {
+		fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: label, Value: tm}},
+			plots.Options{Title: "Closure phase — data and image model — " + OrNone(target)})
+		if err != nil {
+			return nil, err
+		}
+		if err := save(fig, "-"+recon.T3Phi.String()+".png"); err != nil {
+			return nil, err
+		}
+		resid = append(resid, rp)
+	}
+	if len(resid) > 0 {
+		fig, err := plots.ResidualPlot(resid, plots.Options{Title: "Normalised residuals (data − model)/σ — " + OrNone(target)})
+		if err != nil {
+			return nil, err
+		}
+		if err := save(fig, "-residuals.png"); err != nil {
+			return nil, err
+		}
+	}
+	if lp, ok := LCurve(label, res); ok {
+		fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + OrNone(target)})
+		if err == nil {
+			if err := save(fig, "-lcurve.png"); err != nil {
+				return nil, err
+			}
+		}
+	}
+	return written, nil
+}
+
+// ClosurePhases returns the usable closure phases of d (degrees) for plotting.
+func ClosurePhases(d *recon.Data) plots.T3Data {
+	t := &d.T3
+	var td plots.T3Data
+	for i := range t.Lambda {
+		if !t.PhiOK[i] {
+			continue
+		}
+		td.U1 = append(td.U1, t.U1[i])
+		td.V1 = append(td.V1, t.V1[i])
+		td.U2 = append(td.U2, t.U2[i])
+		td.V2 = append(td.V2, t.V2[i])
+		td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
+		td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
+	}
+	return td
+}
+
+// ParseStretch reads the value of -stretch, the display stretch of the previews; "" is
+// linear.
+func ParseStretch(text string) (preview.Stretch, error) {
+	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
+		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
+			return s, nil
+		}
+	}
+	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
+}
+
+// VersionString is Version with the VCS revision and the Go toolchain of the build when
+// the build records them.
+func VersionString() string {
+	v := Version
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		var rev, dirty string
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				if len(s.Value) > 12 {
+					rev = s.Value[:12]
+				} else {
+					rev = s.Value
+				}
+			case "vcs.modified":
+				if s.Value == "true" {
+					dirty = "+modified"
+				}
+			}
+		}
+		if rev != "" {
+			v += " (" + rev + dirty + ")"
+		}
+		v += " " + bi.GoVersion
+	}
+	return v
+}

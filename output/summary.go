@@ -1,0 +1,274 @@
+package output
+
+import (
+	"encoding/json"
+	"math"
+
+	"vcz/recon"
+	"vcz/recon/fit"
+)
+
+// The JSON summaries that the commands print with -json. Angles are in milliarcseconds,
+// baselines in metres, frequencies in Mλ, wavelengths in µm. Lists are empty, never null,
+// when they hold nothing (an empty list is what a reader iterates over without a special
+// case; common practice, no source).
+
+// ImageSummary is the JSON summary of one reconstruction.
+type ImageSummary struct {
+	Outputs     Paths   `json:"outputs"`
+	Target      string  `json:"target"`
+	Grid        GridJ   `json:"grid"`
+	Regularizer string  `json:"regularizer"`
+	Weight      float64 `json:"weight"`
+	WeightAuto  bool    `json:"weight_auto"`
+	Chi2r       float64 `json:"chi2r"`
+	Chi2rTarget float64 `json:"chi2r_expected"`
+	// Chi2rFloor and Chi2rAim: the χ²ᵣ of the least-regularized images and the χ²ᵣ the
+	// automatic weight aimed at (absent for a given weight).
+	Chi2rFloor float64          `json:"chi2r_floor,omitempty"`
+	Chi2rAim   float64          `json:"chi2r_aim,omitempty"`
+	Chi2ByType map[string]Chi2J `json:"chi2r_by_type"`
+	RegValue   float64          `json:"regularizer_value"`
+	Iterations int              `json:"iterations"`
+	TotalIter  int              `json:"total_iterations"`
+	Status     string           `json:"status"`
+	Converged  bool             `json:"converged"`
+	Seconds    float64          `json:"seconds"`
+	Path       []PathJ          `json:"weight_path,omitempty"`
+	Notices    []string         `json:"notices"`
+	// Warnings is the quality verdict (recon.Result.Warnings): an empty list when none.
+	Warnings []string `json:"warnings"`
+}
+
+// Chi2J is the fit to one data type.
+type Chi2J struct {
+	N     int     `json:"n"`
+	Chi2r float64 `json:"chi2r"`
+}
+
+// PathJ is one step of the weight path.
+type PathJ struct {
+	Weight float64 `json:"weight"`
+	Chi2r  float64 `json:"chi2r"`
+	Reg    float64 `json:"regularizer"`
+	Iter   int     `json:"iterations"`
+}
+
+// NewImageSummary is the summary of the reconstruction run whose files are paths.
+func NewImageSummary(run Run, paths Paths) ImageSummary {
+	res := run.Result
+	s := ImageSummary{
+		Outputs: paths, Target: run.Target(), Regularizer: run.Regularizer(),
+		Grid: GridJ{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, FOVMas: res.Grid.FOV / recon.Mas,
+			SizeModel: res.Grid.SizeModel, SizeMas: res.Grid.Size / recon.Mas, Reasons: NonNil(res.Grid.Reasons)},
+		Weight: res.Weight, WeightAuto: len(res.Path) > 0, Chi2r: res.Chi2r, Chi2rTarget: res.Chi2rTarget, Chi2rFloor: res.Chi2rFloor, Chi2rAim: res.Chi2rAim, RegValue: res.Reg,
+		Chi2ByType: map[string]Chi2J{}, Iterations: res.Iter, TotalIter: res.TotalIter,
+		Status: res.StopReason, Converged: res.Converged || res.Status.Converged(), Seconds: run.Seconds,
+		Notices: NonNil(res.Notices), Warnings: NonNil(res.Warnings),
+	}
+	for _, t := range res.Chi2 {
+		s.Chi2ByType[t.Type.String()] = Chi2J{N: t.N, Chi2r: t.Chi2r}
+	}
+	for _, p := range res.Path {
+		s.Path = append(s.Path, PathJ{p.Weight, p.Chi2r, p.Reg, p.Iter})
+	}
+	return s
+}
+
+// InspectReport is the JSON form of the summary. Angles are in
+// milliarcseconds, baselines in metres, frequencies in Mλ, wavelengths in µm.
+type InspectReport struct {
+	Files       []string            `json:"files"`
+	Targets     []string            `json:"targets"`
+	Instruments []InspectInstrument `json:"instruments"`
+	Vis2        InspectCounts       `json:"vis2"`
+	T3          InspectCounts       `json:"t3"`
+	Vis         InspectCounts       `json:"vis"`
+	Baseline    InspectRange        `json:"baseline_m"`
+	Frequency   InspectRange        `json:"frequency_mlambda"`
+	Wavelength  InspectRange        `json:"wavelength_um"`
+	Resolution  float64             `json:"resolution_mas"`
+	Largest     float64             `json:"largest_scale_mas"`
+	Grid        GridJ               `json:"suggested_grid"`
+	MJD         InspectRange        `json:"mjd"`
+	Nights      int                 `json:"nights"`
+	Notices     []string            `json:"notices"`
+	Plots       []string            `json:"plots,omitempty"`
+}
+
+// InspectInstrument is one instrument of a data set.
+type InspectInstrument struct {
+	Name     string  `json:"name"`
+	Channels int     `json:"channels"`
+	MinUm    float64 `json:"wavelength_min_um"`
+	MaxUm    float64 `json:"wavelength_max_um"`
+}
+
+// InspectCounts are the points of one data type.
+type InspectCounts struct {
+	Valid     int `json:"valid"`
+	Flagged   int `json:"flagged"`
+	NonFinite int `json:"nonfinite"`
+}
+
+// InspectRange is a closed interval.
+type InspectRange struct {
+	Min float64 `json:"min"`
+	Max float64 `json:"max"`
+}
+
+// GridJ is a grid with its choice.
+type GridJ struct {
+	N         int      `json:"n"`
+	PixelMas  float64  `json:"pixel_mas"`
+	FOVMas    float64  `json:"fov_mas"`
+	SizeModel string   `json:"size_model,omitempty"`
+	SizeMas   float64  `json:"size_mas,omitempty"`
+	Reasons   []string `json:"reasons"`
+}
+
+// NewInspectReport is the summary of a data set.
+func NewInspectReport(d *recon.Data) InspectReport {
+	s := d.Summarize()
+	r := InspectReport{
+		Files:      s.Files,
+		Targets:    NonNil(s.Targets),
+		Vis2:       InspectCounts(s.Vis2),
+		T3:         InspectCounts(s.T3),
+		Vis:        InspectCounts(s.Vis),
+		Baseline:   InspectRange{s.BaselineMin, s.BaselineMax},
+		Frequency:  InspectRange{s.FreqMin / 1e6, s.FreqMax / 1e6},
+		Wavelength: InspectRange{s.LambdaMin * 1e6, s.LambdaMax * 1e6},
+		Resolution: s.Resolution / recon.Mas,
+		Largest:    s.LargestScale / recon.Mas,
+		MJD:        InspectRange{s.MJDMin, s.MJDMax},
+		Nights:     s.Nights,
+		Notices:    NonNil(d.Notices),
+		Grid:       GridJ{Reasons: NonNil(nil)},
+	}
+	// The grid vcz image would choose with default options; none without usable data.
+	if g, err := recon.ChooseGrid(d, recon.GridOptions{}); err == nil {
+		r.Grid = GridJ{
+			N: g.N, PixelMas: g.Pixel / recon.Mas, FOVMas: g.FOV / recon.Mas,
+			SizeModel: g.SizeModel, SizeMas: g.Size / recon.Mas, Reasons: NonNil(g.Reasons),
+		}
+	}
+	for _, in := range s.Instruments {
+		r.Instruments = append(r.Instruments, InspectInstrument{in.Name, in.Channels, in.LambdaMin * 1e6, in.LambdaMax * 1e6})
+	}
+	if r.Instruments == nil {
+		r.Instruments = []InspectInstrument{}
+	}
+	if math.IsInf(r.Largest, 0) {
+		r.Largest = 0
+	}
+	return r
+}
+
+// NonNil returns s, or an empty list for nil (JSON [] rather than null).
+func NonNil(s []string) []string {
+	if s == nil {
+		return []string{}
+	}
+	return s
+}
+
+// FitSummary is the JSON form of a fit.
+type FitSummary struct {
+	Model        string           `json:"model"`
+	Params       []FitParamJ      `json:"params"`
+	Correlations []FitCorrJ       `json:"correlations"`
+	CorrMatrix   [][]JFloat       `json:"correlation_matrix"`
+	Chi2         JFloat           `json:"chi2"`
+	N            int              `json:"n"`
+	DOF          int              `json:"dof"`
+	Chi2r        JFloat           `json:"chi2r"`
+	Chi2ByType   map[string]Chi2J `json:"chi2r_by_type"`
+	Iterations   int              `json:"iterations"`
+	Evals        int              `json:"evaluations"`
+	Converged    bool             `json:"converged"`
+	Status       string           `json:"status"`
+	Starts       int              `json:"starts"`
+	BestStart    int              `json:"best_start"`
+	Grid         *FitGridJ        `json:"grid_search,omitempty"`
+	Plots        []string         `json:"plots"`
+	Image        string           `json:"image,omitempty"`
+	ModelFile    string           `json:"model_file,omitempty"`
+	Seeded       int              `json:"seeded_starts"`
+	Notices      []string         `json:"notices"`
+}
+
+// FitParamJ is one fitted parameter.
+type FitParamJ struct {
+	Name      string `json:"name"`
+	Component int    `json:"component"`
+	Kind      string `json:"kind"`
+	Param     string `json:"param"`
+	Value     JFloat `json:"value"`
+	Error     JFloat `json:"error"`
+	Unit      string `json:"unit"`
+	AtBound   bool   `json:"at_bound"`
+}
+
+// FitCorrJ is a correlation between two parameters.
+type FitCorrJ struct {
+	A string `json:"a"`
+	B string `json:"b"`
+	R JFloat `json:"r"`
+}
+
+// FitGridJ is the outcome of a companion search.
+type FitGridJ struct {
+	Ratio       float64 `json:"flux_ratio"`
+	BestSep     float64 `json:"best_separation_mas"`
+	BestPA      float64 `json:"best_pa_deg"`
+	BestX       float64 `json:"best_east_mas"`
+	BestY       float64 `json:"best_north_mas"`
+	BestChi2    float64 `json:"best_chi2"`
+	Chi2Primary float64 `json:"chi2_without_companion"`
+	N           int     `json:"n"`
+}
+
+// JFloat is a float64 that is written as null in JSON when not finite.
+type JFloat float64
+
+// MarshalJSON writes f, or null when f is not finite.
+func (f JFloat) MarshalJSON() ([]byte, error) {
+	x := float64(f)
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(x)
+}
+
+// NewFitSummary is the summary of a fit from the given number of starts.
+func NewFitSummary(res *fit.Result, starts int) FitSummary {
+	s := FitSummary{
+		Model: res.Model.String(), Chi2: JFloat(res.Chi2), N: res.N, DOF: res.DOF, Chi2r: JFloat(res.Chi2r),
+		Chi2ByType: map[string]Chi2J{}, Iterations: res.Iterations, Evals: res.Evals, Converged: res.Converged,
+		Status: res.Reason, Starts: starts, BestStart: res.Start, Seeded: res.Scanned, Plots: []string{},
+		Notices: append([]string{}, res.Notices...), Correlations: []FitCorrJ{},
+	}
+	for _, p := range res.Params {
+		c := res.Model.Components[p.Ref.Comp]
+		s.Params = append(s.Params, FitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
+			Param: p.Ref.Name, Value: JFloat(p.Value), Error: JFloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
+	}
+	for _, t := range res.PerType {
+		s.Chi2ByType[t.Type.String()] = Chi2J{N: t.N, Chi2r: t.Chi2r}
+	}
+	if res.Corr != nil {
+		k := len(res.Params)
+		for i := 0; i < k; i++ {
+			row := make([]JFloat, k)
+			for j := 0; j < k; j++ {
+				row[j] = JFloat(res.Corr.At(i, j))
+				if j > i && math.Abs(res.Corr.At(i, j)) > 0.5 {
+					s.Correlations = append(s.Correlations, FitCorrJ{A: res.Params[i].Ref.String(), B: res.Params[j].Ref.String(), R: JFloat(res.Corr.At(i, j))})
+				}
+			}
+			s.CorrMatrix = append(s.CorrMatrix, row)
+		}
+	}
+	return s
+}

@@ -1,0 +1,152 @@
+package workflow
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"reflect"
+	"testing"
+
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/recon"
+	"vcz/recon/batch"
+	"vcz/recon/model"
+	"vcz/recon/simulate"
+	"vcz/runspec"
+)
+
+// The hash of an epoch does not depend on its worker count (the image does not), and
+// does on an option that changes the image.
+func TestEpochHash(t *testing.T) {
+	a := &Epoch{Spec: runspec.Spec{Grid: 64, Workers: 1}}
+	b := &Epoch{Spec: runspec.Spec{Grid: 64, Workers: 7}}
+	c := &Epoch{Spec: runspec.Spec{Grid: 64, Iterations: 10}}
+	if a.SettingsText() != b.SettingsText() || a.SettingsText() == c.SettingsText() {
+		t.Errorf("settings texts %q, %q, %q", a.SettingsText(), b.SettingsText(), c.SettingsText())
+	}
+	ha, err1 := batch.Hash(a.SettingsText(), nil)
+	hb, err2 := batch.Hash(b.SettingsText(), nil)
+	if err1 != nil || err2 != nil || ha != hb {
+		t.Errorf("hashes %s, %s (%v, %v)", ha, hb, err1, err2)
+	}
+}
+
+// The example job file reads: four epochs, the shared settings and the overrides.
+func TestExampleJob(t *testing.T) {
+	epochs, out, err := ReadJobFile(filepath.Join("..", "examples", "batch", "job.toml"), runspec.Spec{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(epochs) != 4 || filepath.Base(out) != "vaeloris-epochs" || len(epochs[1].Files) != 2 {
+		t.Fatalf("%d epochs, output %q", len(epochs), out)
+	}
+	e0, e2, e3 := epochs[0].Spec, epochs[2].Spec, epochs[3].Spec
+	if e0.Grid != 64 || e0.Iterations != 300 || *e0.Seed != 7 || e0.Use != recon.Vis2|recon.T3Phi || e2.Use != recon.Vis2 || e3.WaveMax == 0 {
+		t.Fatalf("settings %+v / %+v", e0, e2)
+	}
+}
+
+// writeEpochs simulates n small nights of an invented target (three hour angles, two
+// channels of the demo array) on MJD 61203+k into dir and returns the files.
+func writeEpochs(t testing.TB, dir string, n int) []string {
+	t.Helper()
+	var files []string
+	for k := range n {
+		p, _ := simulate.Demo()
+		p.MJD = 61203 + float64(k)
+		p.Seed += uint64(k)
+		p.HourAngles = []float64{-1.5, 0, 1.5}
+		p.Wavelengths, p.Bandwidths = p.Wavelengths[:2], p.Bandwidths[:2]
+		m, err := model.ParseCompact("gauss:fwhm=2.5;point:x=1.2,y=0.6,flux=0.3")
+		if err != nil {
+			t.Fatal(err)
+		}
+		f, _, err := simulate.Run(p, simulate.ModelSky{Model: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		path := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		if err := oifits.WriteFile(path, f); err != nil {
+			t.Fatal(err)
+		}
+		files = append(files, path)
+	}
+	return files
+}
+
+// An epoch's FITS file is written once, with its input hash (INHASH, the SHA-256 of
+// FIPS 180-4 as 64 hex digits) among the cards, and the image the batch keeps in memory is
+// the file's content: same pixels, grid and cards. A rerun finds the epochs complete and
+// keeps no image, and the joint reconstruction then reads the files: it gives the same
+// bits as from memory.
+func TestBatchInMemory(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	seed := uint64(3)
+	epochs := SplitEpochs(files, runspec.Spec{Grid: 32, Weight: 1e-3, Iterations: 40, Starts: 1, Seed: &seed}, recon.NightGap)
+	if len(epochs) != 2 {
+		t.Fatalf("%d epochs from two nights", len(epochs))
+	}
+	out := filepath.Join(dir, "out")
+	if err := os.Mkdir(out, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := CommonGrid(epochs); err != nil {
+		t.Fatal(err)
+	}
+	b := &Batch{Out: out, Budget: 2}
+	first := b.Run(epochs, nil)
+	for _, r := range first {
+		if r.Row.Status != batch.StateDone || r.Image == nil {
+			t.Fatalf("epoch %s: %+v", r.Row.Epoch, r.Row)
+		}
+		file, err := fitsimage.ReadFile(filepath.Join(out, r.Row.FITS))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(file.Data, r.Image.Data) || file.NX != r.Image.NX || file.Pixel != r.Image.Pixel {
+			t.Errorf("%s: the image in memory differs from the file", r.Row.Epoch)
+		}
+		// The reader splits long HISTORY texts and adds LONGSTRN, so compare the cards the
+		// header is made of, DATE included.
+		hash := card(file.Cards, "INHASH")
+		for _, key := range []string{"DATE", "INHASH", "CHI2R", "REGWT", "NITERTOT"} {
+			if card(file.Cards, key) != card(r.Image.Cards, key) {
+				t.Errorf("%s: %s = %v in the file, %v in memory", r.Row.Epoch, key, card(file.Cards, key), card(r.Image.Cards, key))
+			}
+		}
+		st, err := batch.ReadStatus(filepath.Join(out, r.Row.Epoch+".status.json"))
+		if h, _ := hash.(string); err != nil || len(h) != 64 || st.Hash != h {
+			t.Errorf("%s: INHASH %q, status %+v (%v)", r.Row.Epoch, h, st, err)
+		}
+	}
+	jointOf := func(results []EpochResult) [][]float64 {
+		t.Helper()
+		jr, err := b.Joint(epochs, results, JointSettings{Lambda: 0.5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return jr.Images
+	}
+	fromMemory := jointOf(first)
+	again := b.Run(epochs, nil)
+	for _, r := range again {
+		if !r.Row.Skipped || r.Image != nil {
+			t.Fatalf("rerun of %s: skipped %v, image %v", r.Row.Epoch, r.Row.Skipped, r.Image != nil)
+		}
+	}
+	if fromFiles := jointOf(again); !reflect.DeepEqual(fromMemory, fromFiles) {
+		t.Error("the joint images from the files differ from those from memory")
+	}
+}
+
+// card returns the value of the first card of that key, nil when there is none.
+func card(cards []fitsimage.Card, key string) any {
+	for _, c := range cards {
+		if c.Key == key {
+			return c.Value
+		}
+	}
+	return nil
+}

@@ -1,0 +1,206 @@
+package workflow
+
+import (
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"vcz/io/oifits"
+	"vcz/output"
+	"vcz/recon"
+	"vcz/recon/simulate"
+	"vcz/runspec"
+)
+
+// demoData is the simulated demo data set (recon/simulate.DemoData).
+func demoData(t testing.TB) ([]*oifits.File, *recon.Data) {
+	t.Helper()
+	f, _, err := simulate.DemoData()
+	if err != nil {
+		t.Fatal(err)
+	}
+	files := []*oifits.File{f}
+	d, err := recon.FromFiles(files, recon.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return files, d
+}
+
+// nanReg is a regularizer whose value is NaN, to make one run fail.
+type nanReg struct{}
+
+func (nanReg) Eval(grad, x []float64) float64 {
+	for i := range grad {
+		grad[i] = math.NaN()
+	}
+	return math.NaN()
+}
+
+// panicReg is a regularizer that panics, to exercise the panic net.
+type panicReg struct{}
+
+func (panicReg) Eval(grad, x []float64) float64 { panic("panicReg: on purpose") }
+
+// TestCompareFailure checks that a failing regularizer (NaN values) and a panicking one are
+// reported in the table and the report while the other completes, and that the hooks see
+// every run start and end, and the progress of the run that iterates.
+func TestCompareFailure(t *testing.T) {
+	dir := t.TempDir()
+	files, d := demoData(t)
+	entries, err := CompareEntries(runspec.Spec{Grid: 32, Iterations: 60, Starts: 1}, "tv,smooth,mem", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := NewComparison(files, d, entries)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c.Runs[1].Problem.Reg = func(recon.Grid) (recon.Regularizer, error) { return nanReg{}, nil }
+	c.Runs[1].Problem.Weight = 1
+	c.Runs[2].Problem.Reg = func(recon.Grid) (recon.Regularizer, error) { return panicReg{}, nil }
+	c.Runs[2].Problem.Weight = 1
+	var mu sync.Mutex
+	started, ended, progressed := map[int]bool{}, map[int]bool{}, map[int]bool{}
+	c.Run(2, 0, CompareHooks{
+		Start:    func(i int) { started[i] = true },
+		Progress: func(i int, _ recon.Progress) { mu.Lock(); progressed[i] = true; mu.Unlock() },
+		End:      func(i int, r *CompareRun) { ended[i] = r == c.Runs[i] },
+	})
+	rep, err := c.Write(dir, output.Outputs{}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Runs[0].Err != nil || rep.Rows[0].Error != "" {
+		t.Errorf("tv failed: %v", c.Runs[0].Err)
+	}
+	if c.Runs[1].Err == nil || rep.Rows[1].Error == "" || c.Runs[1].Result != nil {
+		t.Fatal("the NaN regularizer did not fail")
+	}
+	var pe *PanicError
+	if !errors.As(c.Runs[2].Err, &pe) || pe.Task != "mem" || !strings.Contains(rep.Rows[2].Error, "mem: panicReg: on purpose") {
+		t.Fatalf("the panicking regularizer: %v, row %q", c.Runs[2].Err, rep.Rows[2].Error)
+	}
+	for i := range c.Runs {
+		if !started[i] || !ended[i] || (i == 0) != progressed[i] {
+			t.Errorf("run %d: started %v, ended %v, progress %v", i, started[i], ended[i], progressed[i])
+		}
+	}
+	csvText, _ := os.ReadFile(filepath.Join(dir, "compare.csv"))
+	if !strings.Contains(string(csvText), rep.Rows[1].Error) {
+		t.Errorf("compare.csv lacks the error:\n%s", csvText)
+	}
+	page, _ := os.ReadFile(filepath.Join(dir, "report.html"))
+	if !strings.Contains(string(page), "Failed:") {
+		t.Error("report.html does not report the failure")
+	}
+	if _, err := os.Stat(filepath.Join(dir, "tv.fits")); err != nil {
+		t.Errorf("the successful run's image is missing: %v", err)
+	}
+}
+
+// The images of a comparison are the same bits whether the runs go one at a time with two
+// transform workers or two at a time with one each.
+func TestCompareParallelSameBits(t *testing.T) {
+	files, d := demoData(t)
+	entries, err := CompareEntries(runspec.Spec{Grid: 32, Iterations: 40, Starts: 1, Weight: 0.01}, "tv,smooth", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var images [][][]float64
+	for _, par := range [][2]int{{1, 2}, {2, 1}} {
+		c, err := NewComparison(files, d, entries)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c.Run(par[0], par[1], CompareHooks{})
+		var imgs [][]float64
+		for _, r := range c.Runs {
+			if r.Err != nil {
+				t.Fatal(r.Err)
+			}
+			imgs = append(imgs, r.Result.Image)
+		}
+		images = append(images, imgs)
+	}
+	for k := range images[0] {
+		for i, v := range images[0][k] {
+			if images[1][k][i] != v {
+				t.Fatalf("run %d, pixel %d: %v one at a time, %v two at a time", k, i, v, images[1][k][i])
+			}
+		}
+	}
+}
+
+// TestCompareOptions checks the parsing of the regularizer list and the weights.
+func TestCompareOptions(t *testing.T) {
+	for _, tc := range []struct {
+		reg, weights string
+		ok           bool
+	}{
+		{"all", "", true},
+		{"mem,tv", "mem=1e4,tv=auto", true},
+		{"mem,tv", "smooth=1", false},
+		{"mem,mem", "", false},
+		{"bogus", "", false},
+		{"mem", "mem=-1", false},
+		{"mem", "mem", false},
+	} {
+		_, err := CompareEntries(runspec.Spec{}, tc.reg, tc.weights)
+		if (err == nil) != tc.ok {
+			t.Errorf("-reg %q -weights %q: error %v, want ok=%v", tc.reg, tc.weights, err, tc.ok)
+		}
+	}
+	e, err := CompareEntries(runspec.Spec{Grid: 64}, "mem,tv", "mem=1e4")
+	if err != nil || len(e) != 2 || e[0].Spec.Weight != 1e4 || e[1].Spec.Weight != 0 || e[1].Spec.Grid != 64 || e[1].Spec.RegularizerLabel() != "tv" {
+		t.Fatalf("entries %+v (%v)", e, err)
+	}
+}
+
+// BenchmarkCompare measures four regularizers on a 128² grid: one comparison (runs in
+// parallel, one transform worker each when there are fewer cores than runs) against the
+// four reconstructions one after another with every core given to the transform, as
+// separate `vcz image` runs would. The metric ratio is the first over the second (goal ≤
+// 0.6).
+func BenchmarkCompare(b *testing.B) {
+	files, d := demoData(b)
+	mk := func() *Comparison {
+		entries, err := CompareEntries(runspec.Spec{Grid: 128, Iterations: 100, Starts: 1}, "mem,tv,smooth,compact", "")
+		if err != nil {
+			b.Fatal(err)
+		}
+		c, err := NewComparison(files, d, entries)
+		if err != nil {
+			b.Fatal(err)
+		}
+		for _, r := range c.Runs {
+			r.Settings.PathIter, r.Settings.WeightSteps = 40, 4
+		}
+		return c
+	}
+	b.ReportAllocs()
+	var par, seq time.Duration
+	for b.Loop() {
+		c := mk()
+		t0 := time.Now()
+		c.Run(len(c.Runs), 0, CompareHooks{})
+		par += time.Since(t0)
+		c = mk()
+		t0 = time.Now()
+		runs := c.Runs
+		for _, r := range runs {
+			c.Runs = []*CompareRun{r}
+			c.Run(1, runtime.GOMAXPROCS(0), CompareHooks{})
+		}
+		seq += time.Since(t0)
+	}
+	b.ReportMetric(par.Seconds()/float64(b.N), "compare-s/op")
+	b.ReportMetric(seq.Seconds()/float64(b.N), "separate-s/op")
+	b.ReportMetric(par.Seconds()/seq.Seconds(), "ratio")
+}

@@ -1,0 +1,48 @@
+package workflow
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"vcz/io/oifits"
+	"vcz/recon"
+)
+
+// ReadData reads OIFITS files and selects their points. Its errors are *InputError and
+// name the file.
+func ReadData(paths []string, sel recon.Selection) ([]*oifits.File, *recon.Data, error) {
+	if len(paths) == 0 {
+		return nil, nil, inputError("", errors.New("no OIFITS file given"))
+	}
+	files := make([]*oifits.File, 0, len(paths))
+	for _, p := range paths {
+		f, err := oifits.ReadFile(p)
+		if err != nil {
+			return nil, nil, inputError(p, err)
+		}
+		files = append(files, f)
+	}
+	d, err := recon.FromFiles(files, sel)
+	if err != nil {
+		return nil, nil, inputError("", err)
+	}
+	return files, d, nil
+}
+
+// CheckOutputs returns an *InputError naming the first of paths whose folder does not
+// exist (or is not a folder), so that a run fails at once rather than after its work.
+// Empty paths are skipped.
+func CheckOutputs(paths ...string) error {
+	for _, p := range paths {
+		if p == "" {
+			continue
+		}
+		dir := filepath.Dir(p)
+		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+			return inputError(p, fmt.Errorf("%s: cannot write: folder %s does not exist", p, dir))
+		}
+	}
+	return nil
+}

@@ -1,0 +1,127 @@
+package workflow
+
+import (
+	"math"
+	"path/filepath"
+	"strings"
+
+	"vcz/io/oifits"
+	"vcz/io/safefile"
+	"vcz/output"
+	"vcz/recon"
+	"vcz/recon/fit"
+	"vcz/recon/model"
+)
+
+// FitSettings control FitModel.
+type FitSettings struct {
+	// Fit configures the fit; Fit.Starts = 0 chooses the number of starts: 16 when a
+	// component's x and y are both free, else 1 (after a companion search, 1).
+	Fit fit.Options
+	// Grid, when non-nil, first maps χ² of a point companion over separation and position
+	// angle (fit.GridSearch; SepMax = 0 means 3/4 of the largest constrained scale) and adds
+	// the companion at the best cell to the model, free within three grid steps.
+	Grid *fit.GridOptions
+}
+
+// FitOutcome is the outcome of FitModel.
+type FitOutcome struct {
+	Result *fit.Result
+	Grid   *fit.GridResult // of the companion search; nil without one
+	Start  *model.Model    // the model fitted from: the given one, with the companion when searched
+	Starts int             // the number of starts used
+}
+
+// FitModel fits the model m to d. An error of the companion search, or a fit that gave no
+// result, is an *InputError with no outcome. A fit that gave a result but did not end well
+// returns the outcome and fit.Fit's error together.
+func FitModel(d *recon.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
+	opt := s.Fit
+	var g *fit.GridResult
+	if s.Grid != nil {
+		gopt := *s.Grid
+		gopt.Fit = opt
+		if gopt.SepMax == 0 {
+			gopt.SepMax = 0.75 * d.Summarize().LargestScale / recon.Mas
+		}
+		var err error
+		if g, err = fit.GridSearch(d, m, gopt); err != nil {
+			return nil, inputErrorf("grid search: %v", err)
+		}
+		comp, err := model.New(model.Point, map[string]float64{"flux": gopt.Ratio * m.TotalFlux(), "x": g.BestX, "y": g.BestY})
+		if err != nil {
+			return nil, err
+		}
+		step := (gopt.SepMax - gopt.SepMin) / float64(gopt.NSep-1)
+		comp.SetFit("x", true, g.BestX-3*step, g.BestX+3*step)
+		comp.SetFit("y", true, g.BestY-3*step, g.BestY+3*step)
+		comp.SetFit("flux", true, 0, math.Inf(1))
+		m = m.Clone()
+		m.Components = append(m.Components, comp)
+		if opt.Starts == 0 {
+			opt.Starts = 1 // the grid has found the start
+		}
+	} else if opt.Starts == 0 {
+		opt.Starts = 1
+		if hasFreePosition(m) {
+			opt.Starts = 16
+		}
+	}
+	res, err := fit.Fit(d, m, opt)
+	if res == nil {
+		return nil, inputError("", err)
+	}
+	return &FitOutcome{Result: res, Grid: g, Start: m, Starts: opt.Starts}, err
+}
+
+// hasFreePosition reports whether a component of m has both x and y free.
+func hasFreePosition(m *model.Model) bool {
+	for _, c := range m.Components {
+		nfree := 0
+		for _, p := range c.Params() {
+			if p.Free && (p.Name == "x" || p.Name == "y") {
+				nfree++
+			}
+		}
+		if nfree == 2 {
+			return true
+		}
+	}
+	return false
+}
+
+// WriteImage writes the fitted model as an n×n FITS image with pixels of pixel rad (0: a
+// quarter of the resolution of d), with the world coordinates of the reconstructions of
+// files. An error choosing the pixel is an *InputError.
+func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifits.File, d *recon.Data) error {
+	if pixel == 0 {
+		if pixel = d.Summarize().Resolution / 4; !(pixel > 0) {
+			return inputErrorf("fit: -write-image: no baseline to choose a pixel from; give -pixel")
+		}
+	}
+	m := o.Result.Model
+	target := ""
+	if len(d.Targets) == 1 {
+		target = d.Targets[0]
+	}
+	return output.WriteModel(path, m.Image(n, n, pixel), n, pixel, files, target, "fitted model: "+m.String())
+}
+
+// SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
+// header names the data files (without their folders, so that the file carries no
+// machine-specific paths), the start model and, when the fit did not converge, why.
+func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
+	names := make([]string, len(dataFiles))
+	for i, p := range dataFiles {
+		names[i] = filepath.Base(p)
+	}
+	res := o.Result
+	header := []string{
+		"Model fitted by vcz fit " + output.Version + " to " + strings.Join(names, ", "),
+		"start model: " + o.Start.String(),
+	}
+	if !res.Converged {
+		header = append(header, "WARNING: the fit did not converge: "+res.Reason)
+	}
+	return safefile.WriteBytes(path, res.ModelTOML(header...))
+}

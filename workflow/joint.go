@@ -1,0 +1,176 @@
+package workflow
+
+import (
+	"fmt"
+	"math"
+	"path/filepath"
+
+	"vcz/io/fitsimage"
+	"vcz/io/preview"
+	"vcz/output"
+	"vcz/recon"
+	"vcz/recon/batch"
+	"vcz/regularizers"
+)
+
+// CommonGrid fixes one grid for all epochs of a joint reconstruction: the grid the options
+// give for the first readable epoch, written into every epoch's Spec (n and pixel). Its
+// errors are *InputError.
+func CommonGrid(epochs []*Epoch) error {
+	if len(epochs) < 2 {
+		return inputErrorf("batch: -joint needs at least two epochs")
+	}
+	var lastErr error
+	for _, e := range epochs {
+		_, d, err := ReadData(e.Files, e.Spec.Selection())
+		if err != nil {
+			lastErr = err
+			continue
+		}
+		p, _, err := e.Spec.Problem(d)
+		if err != nil {
+			return inputError("", err)
+		}
+		ch, err := recon.ChooseGrid(d, p.GridOptions)
+		if err != nil {
+			lastErr = err
+			continue
+		}
+		for _, o := range epochs {
+			o.Spec.Grid, o.Spec.Pixel, o.Spec.FOV = ch.N, ch.Pixel, 0
+		}
+		return nil
+	}
+	return inputErrorf("batch: no epoch to choose the common grid from: %v", lastErr)
+}
+
+// JointResult is the outcome of Batch.Joint: the joint images (batch.JointResult) on the
+// common grid.
+type JointResult struct {
+	*batch.JointResult
+	Grid recon.Grid
+}
+
+// JointSettings control Joint.
+type JointSettings struct {
+	// Lambda is the temporal weight λ; 0 chooses it (batch.SolveJoint).
+	Lambda float64
+	// Progress, when non-nil, is called after every iteration (batch.JointSettings).
+	Progress func(lambda float64, iter int, f float64) bool
+}
+
+// Joint reconstructs the epochs together with a temporal regularizer (batch.Joint), from
+// their independent images: results are those of Batch.Run for the same epochs, all done.
+// An image in memory is used as it is; the FITS file is read only for an epoch found
+// complete. It writes joint.fits (the cube, one plane per epoch with its mean MJD in
+// MJDnnn), EPOCH-joint.fits and .png into the batch's folder, and returns the result.
+func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (*JointResult, error) {
+	out := b.Out
+	j := &batch.Joint{Parallel: true}
+	starts := make([][]float64, len(epochs))
+	var grid recon.Grid
+	var ra, dec float64
+	hasRADec := false
+	maxIter := 0
+	for t, e := range epochs {
+		row := results[t].Row
+		im := results[t].Image
+		if im == nil {
+			var err error
+			if im, err = fitsimage.ReadFile(filepath.Join(out, row.FITS)); err != nil {
+				return nil, err
+			}
+		}
+		g := recon.Grid{N: im.NX, Pixel: im.Pixel}
+		if t == 0 {
+			grid, ra, dec, hasRADec = g, im.RA, im.Dec, im.HasRADec
+		} else if g.N != grid.N || math.Abs(g.Pixel-grid.Pixel) > 1e-9*grid.Pixel {
+			return nil, fmt.Errorf("epoch %s is on a %d-pixel grid of %g mas, the first on %d of %g mas; rerun with -force",
+				e.Name, g.N, g.Pixel/recon.Mas, grid.N, grid.Pixel/recon.Mas)
+		}
+		starts[t] = im.Data[:g.N*g.N]
+		_, d, err := ReadData(e.Files, e.Spec.Selection())
+		if err != nil {
+			return nil, err
+		}
+		p, st, err := e.Spec.Problem(d)
+		if err != nil {
+			return nil, inputError("", err)
+		}
+		maxIter = max(maxIter, st.MaxIter)
+		var reg recon.Regularizer
+		if p.Reg != nil {
+			if reg, err = p.Reg(g); err != nil {
+				return nil, err
+			}
+		}
+		je, err := batch.NewJointEpoch(d, g, p.Terms, reg, row.Weight, e.Spec.Workers)
+		if err != nil {
+			return nil, fmt.Errorf("epoch %s: %w", e.Name, err)
+		}
+		if p.Support > 0 {
+			_, je.Upper = regularizers.SupportBounds(g.N, g.N, g.Pixel, p.Support)
+		}
+		j.Epochs = append(j.Epochs, je)
+	}
+	j.NPix = grid.N * grid.N
+	res, err := batch.SolveJoint(j, starts, s.Lambda, batch.JointSettings{MaxIter: maxIter, Progress: s.Progress})
+	if err != nil {
+		return nil, err
+	}
+	n := grid.N
+	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,
+		BUnit: "flux/pixel", Normalized: true}
+	cube.Cards = append(cube.Cards,
+		fitsimage.Card{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
+		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
+		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
+		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the kept run"})
+	for t, e := range epochs {
+		row := results[t].Row
+		cube.Data = append(cube.Data, res.Images[t]...)
+		mid := (row.MJDMin + row.MJDMax) / 2
+		cube.Cards = append(cube.Cards,
+			fitsimage.Card{Key: fmt.Sprintf("MJD%03d", t+1), Value: mid, Comment: output.ASCII("mean MJD of plane " + fmt.Sprint(t+1))},
+			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: output.ASCII(output.Truncate(e.Name, 68)), Comment: "epoch name"},
+			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", t+1), Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"})
+	}
+	for _, s := range res.Path {
+		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.5g, sum |dx|^2 %.5g, %s", s.Lambda, s.Chi2r, s.Temporal, map[bool]string{true: "kept", false: "rejected"}[s.Accepted])})
+	}
+	if err := fitsimage.WriteFile(filepath.Join(out, "joint.fits"), cube); err != nil {
+		return nil, err
+	}
+	for t, e := range epochs {
+		row := results[t].Row
+		im := &fitsimage.Image{NX: n, NY: n, Pixel: grid.Pixel, Data: res.Images[t], RA: ra, Dec: dec, HasRADec: hasRADec,
+			BUnit: "flux/pixel", Normalized: true, Cards: []fitsimage.Card{
+				{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
+				{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda of the joint run"},
+				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
+				{Key: "MJD-AVG", Value: (row.MJDMin + row.MJDMax) / 2, Comment: "mean MJD of the epoch"},
+			}}
+		base := filepath.Join(out, e.Name+"-joint")
+		if err := fitsimage.WriteFile(base+".fits", im); err != nil {
+			return nil, err
+		}
+		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas}
+		if err := preview.WriteFile(base+".png", res.Images[t], n, n, opt); err != nil {
+			return nil, err
+		}
+	}
+	return &JointResult{JointResult: res, Grid: grid}, nil
+}
+
+// WriteJointMontage draws the joint images as montage-joint.png and epochs-joint.gif in
+// the batch's folder, from memory.
+func (b *Batch) WriteJointMontage(results []EpochResult, jr *JointResult) error {
+	rows := make([]batch.Row, len(results))
+	images := make([]*fitsimage.Image, len(results))
+	n := jr.Grid.N
+	for t, r := range results {
+		rows[t] = r.Row
+		images[t] = &fitsimage.Image{NX: n, NY: n, Pixel: jr.Grid.Pixel, Data: jr.Images[t]}
+	}
+	return WriteMontage(b.Out, "-joint", rows, images, fmt.Sprintf("%d epochs, joint (λ = %.3g)", len(results), jr.Lambda))
+}

@@ -1,0 +1,451 @@
+package workflow
+
+import (
+	"bytes"
+	"encoding/base64"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"html/template"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+
+	"vcz/io/fitsimage"
+	"vcz/io/plots"
+	"vcz/io/preview"
+	"vcz/io/safefile"
+	"vcz/output"
+	"vcz/recon"
+)
+
+// CompareRow is one line of compare.csv and compare.json: one regularizer's result.
+type CompareRow struct {
+	Regularizer string             `json:"regularizer"`
+	Weight      float64            `json:"weight"`
+	WeightAuto  bool               `json:"weight_auto"`
+	Chi2r       float64            `json:"chi2r"`
+	Chi2ByType  map[string]float64 `json:"chi2r_by_type"`
+	RegValue    float64            `json:"regularizer_value"`
+	Iterations  int                `json:"iterations"`
+	Converged   bool               `json:"converged"`
+	Seconds     float64            `json:"seconds"`
+	// Warnings is the quality verdict of the image (recon.Result.Warnings); an
+	// empty list when none or when the run failed.
+	Warnings []string `json:"warnings"`
+	Error    string   `json:"error,omitempty"`
+	FITS     string   `json:"fits,omitempty"`
+}
+
+// CompareReport is the outcome of a comparison, the JSON form of compare.json.
+type CompareReport struct {
+	Target        string       `json:"target"`
+	GridN         int          `json:"grid_n"`
+	PixelMas      float64      `json:"pixel_mas"`
+	ResolutionMas float64      `json:"resolution_mas"`
+	Seconds       float64      `json:"seconds"`
+	Alignment     string       `json:"alignment"`
+	Rows          []CompareRow `json:"rows"`
+	Shifts        [][2]int     `json:"shifts_px"`
+}
+
+// writeJSON writes v as indented JSON.
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+func fmtF(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+
+// Write writes every output of the comparison into dir (which must exist): each
+// regularizer's image and preview as outs says (no fit plots), its weight path, the panel,
+// the spread and robust maps, the fit plots of all models, compare.csv, compare.json and
+// report.html. seconds is the time of the whole comparison, for the report.
+func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*CompareReport, error) {
+	d, choice, runs := c.Data, c.Grid, c.Runs
+	rep := &CompareReport{GridN: choice.N, PixelMas: choice.Pixel / recon.Mas, ResolutionMas: choice.Resolution / recon.Mas, Seconds: seconds}
+	if len(d.Targets) == 1 {
+		rep.Target = d.Targets[0]
+	}
+	var ok []*CompareRun
+	for _, r := range runs {
+		row := CompareRow{Regularizer: r.Name, Seconds: r.Seconds, Chi2ByType: map[string]float64{}, Warnings: []string{}}
+		if r.Err != nil {
+			row.Error = output.OneLine(r.Err.Error())
+			row.Weight, row.Chi2r, row.RegValue = math.NaN(), math.NaN(), math.NaN()
+		} else {
+			res := r.Result
+			res.Grid.Reasons, res.Grid.SizeModel, res.Grid.Size = choice.Reasons, choice.SizeModel, choice.Size
+			out := filepath.Join(dir, r.Name+".fits")
+			run := output.Run{Files: c.Files, Data: d, Spec: r.Spec, Result: res, Label: r.Name}
+			outs.NoPlots = true
+			if _, err := outs.Write(out, run); err != nil {
+				return nil, err
+			}
+			row.FITS = filepath.Base(out)
+			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
+			row.Iterations = res.TotalIter
+			row.Warnings = output.NonNil(res.Warnings)
+			row.Converged = res.Converged || res.Status.Converged()
+			for _, t := range res.Chi2 {
+				row.Chi2ByType[t.Type.String()] = t.Chi2r
+			}
+			if lp, ok := output.LCurve(r.Name, res); ok {
+				if fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + r.Name}); err == nil {
+					if err := fig.WriteFile(filepath.Join(dir, r.Name+"-lcurve.png")); err != nil {
+						return nil, err
+					}
+				}
+			}
+			ok = append(ok, r)
+		}
+		rep.Rows = append(rep.Rows, row)
+	}
+	rep.Alignment = "integer-pixel shift to the cross-correlation peak with the first successful image"
+	if len(ok) > 0 {
+		if err := writeAgreement(dir, choice, ok, rep, outs.Stretch); err != nil {
+			return nil, err
+		}
+		if err := writeComparePlots(dir, d, ok); err != nil {
+			return nil, err
+		}
+	}
+	if err := writeCompareTable(dir, rep); err != nil {
+		return nil, err
+	}
+	if err := writeCompareHTML(dir, rep, runs); err != nil {
+		return nil, err
+	}
+	return rep, nil
+}
+
+// chi2Label gives "vis2 1.02, t3phi 0.98".
+func chi2Label(res *recon.Result) string {
+	s := ""
+	for i, t := range res.Chi2 {
+		if i > 0 {
+			s += ", "
+		}
+		s += fmt.Sprintf("%s %.2f", t.Type, t.Chi2r)
+	}
+	return s
+}
+
+// writeAgreement writes the panel, the spread map and the robust image.
+func writeAgreement(dir string, choice recon.GridChoice, ok []*CompareRun, rep *CompareReport, stretch preview.Stretch) error {
+	n := choice.N
+	pix := choice.Pixel / recon.Mas
+	var frames []preview.Frame
+	for _, r := range ok {
+		frames = append(frames, preview.Frame{Data: r.Result.Image, NX: n, NY: n,
+			Label: fmt.Sprintf("%s  μ=%.3g\nχ²ᵣ %s", r.Name, r.Result.Weight, chi2Label(r.Result))})
+	}
+	beam := preview.Beam{Major: choice.Resolution / recon.Mas}
+	cols := min(len(frames), 3)
+	if err := preview.WritePanel(filepath.Join(dir, "compare-panel.png"), frames, preview.Options{
+		Title: "Regularizers compared — " + output.OrNone(rep.Target), Pixel: pix, Beam: beam, Columns: cols,
+		ColorbarLabel: "flux per pixel (total 1)", Stretch: stretch}); err != nil {
+		return err
+	}
+	imgs := make([][]float64, len(ok))
+	for i, r := range ok {
+		imgs[i] = r.Result.Image
+	}
+	spread := pixelSpread(imgs)
+	aligned, shifts := alignImages(imgs, n, n/4)
+	rep.Shifts = shifts
+	robust := pixelMin(aligned)
+	for _, o := range []struct {
+		name, title, label string
+		img                []float64
+	}{
+		{"compare-spread", "Spread: pixel-wise std / mean flux", "σ / mean", spread},
+		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", robust},
+	} {
+		im := &fitsimage.Image{NX: n, NY: n, Pixel: choice.Pixel, Data: o.img,
+			Cards: []fitsimage.Card{{Key: "COMMENT", Value: output.ASCII(o.title)}}}
+		if err := fitsimage.WriteFile(filepath.Join(dir, o.name+".fits"), im); err != nil {
+			return err
+		}
+		if err := preview.WriteFile(filepath.Join(dir, o.name+".png"), o.img, n, n, preview.Options{
+			Title: o.title, Pixel: pix, Beam: beam, ColorbarLabel: o.label}); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// pixelSpread returns σ_p/m_p, the standard deviation over the images at
+// each pixel divided by their mean there, where the mean is at least 5 % of
+// the mean image's peak, and 0 elsewhere (the ratio means nothing on empty
+// sky).
+func pixelSpread(imgs [][]float64) []float64 {
+	np := len(imgs[0])
+	k := float64(len(imgs))
+	mean := make([]float64, np)
+	peak := 0.0
+	for p := range mean {
+		for _, im := range imgs {
+			mean[p] += im[p]
+		}
+		mean[p] /= k
+		peak = math.Max(peak, mean[p])
+	}
+	out := make([]float64, np)
+	for p := range out {
+		if mean[p] < 0.05*peak || peak == 0 {
+			continue
+		}
+		v := 0.0
+		for _, im := range imgs {
+			v += (im[p] - mean[p]) * (im[p] - mean[p])
+		}
+		out[p] = math.Sqrt(v/k) / mean[p]
+	}
+	return out
+}
+
+// alignImages shifts every image by whole pixels (at most maxShift) to the
+// peak of its cross-correlation with the first image, filling with zero, and
+// returns the shifted images and the shifts (dx, dy) in pixels.
+func alignImages(imgs [][]float64, n, maxShift int) ([][]float64, [][2]int) {
+	out := make([][]float64, len(imgs))
+	shifts := make([][2]int, len(imgs))
+	ref := imgs[0]
+	for i, im := range imgs {
+		best, bx, by := math.Inf(-1), 0, 0
+		if i > 0 {
+			for sy := -maxShift; sy <= maxShift; sy++ {
+				for sx := -maxShift; sx <= maxShift; sx++ {
+					c := 0.0
+					for iy := max(0, sy); iy < min(n, n+sy); iy++ {
+						r := ref[iy*n:]
+						m := im[(iy-sy)*n:]
+						for ix := max(0, sx); ix < min(n, n+sx); ix++ {
+							c += r[ix] * m[ix-sx]
+						}
+					}
+					if c > best {
+						best, bx, by = c, sx, sy
+					}
+				}
+			}
+		}
+		shifts[i] = [2]int{bx, by}
+		o := make([]float64, n*n)
+		for iy := 0; iy < n; iy++ {
+			jy := iy - by
+			if jy < 0 || jy >= n {
+				continue
+			}
+			for ix := 0; ix < n; ix++ {
+				if jx := ix - bx; jx >= 0 && jx < n {
+					o[iy*n+ix] = im[jy*n+jx]
+				}
+			}
+		}
+		out[i] = o
+	}
+	return out, shifts
+}
+
+func pixelMin(imgs [][]float64) []float64 {
+	out := append([]float64(nil), imgs[0]...)
+	for _, im := range imgs[1:] {
+		for p, v := range im {
+			out[p] = math.Min(out[p], v)
+		}
+	}
+	return out
+}
+
+// writeComparePlots writes V² and closure phases with every model.
+func writeComparePlots(dir string, d *recon.Data, ok []*CompareRun) error {
+	var v2m, cpm []plots.ModelValues
+	t := &d.T3
+	td := output.ClosurePhases(d)
+	for _, r := range ok {
+		obs, err := recon.Predict(d, r.Result.Grid.Grid, r.Result.Image, nil)
+		if err != nil {
+			return err
+		}
+		v2m = append(v2m, plots.ModelValues{Name: r.Name, Value: obs.Of(recon.Vis2)})
+		var cp []float64
+		for i := range t.Lambda {
+			if t.PhiOK[i] {
+				cp = append(cp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+			}
+		}
+		cpm = append(cpm, plots.ModelValues{Name: r.Name, Value: cp})
+	}
+	if d.Vis2.Len() > 0 {
+		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err}, v2m, nil,
+			plots.Options{Title: "V² — data and each regularizer's image"})
+		if err != nil {
+			return err
+		}
+		if err := fig.WriteFile(filepath.Join(dir, "compare-vis2.png")); err != nil {
+			return err
+		}
+	}
+	if len(td.Phi) > 0 {
+		fig, err := plots.ClosurePhase(td, cpm, plots.Options{Title: "Closure phase — data and each regularizer's image"})
+		if err != nil {
+			return err
+		}
+		if err := fig.WriteFile(filepath.Join(dir, "compare-t3phi.png")); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// compareTypes are the data types with a χ²ᵣ in some row, in report order.
+func compareTypes(rep *CompareReport) []string {
+	var out []string
+	for _, t := range recon.DataTypes() {
+		for _, r := range rep.Rows {
+			if _, ok := r.Chi2ByType[t.String()]; ok {
+				out = append(out, t.String())
+				break
+			}
+		}
+	}
+	return out
+}
+
+func writeCompareTable(dir string, rep *CompareReport) error {
+	types := compareTypes(rep)
+	err := safefile.Write(filepath.Join(dir, "compare.csv"), func(w io.Writer) error {
+		cw := csv.NewWriter(w)
+		head := []string{"regularizer", "weight", "weight_auto", "chi2r"}
+		for _, t := range types {
+			head = append(head, "chi2r_"+t)
+		}
+		head = append(head, "regularizer_value", "iterations", "converged", "warnings", "seconds", "error")
+		cw.Write(head)
+		for _, r := range rep.Rows {
+			rec := []string{r.Regularizer, fmtF(r.Weight), strconv.FormatBool(r.WeightAuto), fmtF(r.Chi2r)}
+			for _, t := range types {
+				if v, ok := r.Chi2ByType[t]; ok {
+					rec = append(rec, fmtF(v))
+				} else {
+					rec = append(rec, "")
+				}
+			}
+			rec = append(rec, fmtF(r.RegValue), strconv.Itoa(r.Iterations), strconv.FormatBool(r.Converged), strconv.Itoa(len(r.Warnings)), strconv.FormatFloat(r.Seconds, 'f', 2, 64), r.Error)
+			cw.Write(rec)
+		}
+		cw.Flush()
+		return cw.Error()
+	})
+	if err != nil {
+		return err
+	}
+	// JSON has no NaN: failed rows carry null-free zeros and their error.
+	jrep := *rep
+	jrep.Rows = nil
+	for _, r := range rep.Rows {
+		if r.Error != "" {
+			r.Weight, r.Chi2r, r.RegValue = 0, 0, 0
+		}
+		jrep.Rows = append(jrep.Rows, r)
+	}
+	return safefile.Write(filepath.Join(dir, "compare.json"), func(w io.Writer) error { return writeJSON(w, &jrep) })
+}
+
+// dataURI returns the PNG at path as a data: URI, or "" when it is absent.
+func dataURI(path string) template.URL {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return ""
+	}
+	return template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(b))
+}
+
+const reportTemplate = `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>vcz compare — {{.Target}}</title>
+<style>
+body { font-family: sans-serif; margin: 1em auto; max-width: 60em; padding: 0 1em; color: #222; background: #fff; }
+img { max-width: 100%; height: auto; display: block; margin: 0.5em 0; }
+.scroll { overflow-x: auto; }
+table { border-collapse: collapse; font-size: 0.9em; }
+td, th { border: 1px solid #bbb; padding: 0.2em 0.5em; text-align: right; }
+th:first-child, td:first-child { text-align: left; }
+.failed { background: #fdd; }
+.warned { background: #ffd; }
+.caution { background: #ffd; border-left: 4px solid #cc0; padding: 0.5em 1em; }
+</style>
+</head>
+<body>
+<h1>Regularizers compared: {{.Target}}</h1>
+<p>Grid {{.GridN}} × {{.GridN}} pixels of {{printf "%.4g" .PixelMas}} mas; nominal resolution λ/(2·B<sub>max</sub>) = {{printf "%.4g" .ResolutionMas}} mas. Every regularizer used this grid, the same start image and the same stopping rules. Total time {{printf "%.1f" .Seconds}} s.</p>
+<p class="caution">Caution: an image is one solution consistent with the data, not a photograph. Features smaller than the resolution λ/(2·B<sub>max</sub>) = {{printf "%.3g" .ResolutionMas}} mas are not constrained by the data, and a feature that only one regularizer shows is suspect.</p>
+<h2>Results</h2>
+<div class="scroll"><table>
+<tr><th>regularizer</th><th>weight μ</th><th>χ²ᵣ</th>{{range .Types}}<th>χ²ᵣ {{.}}</th>{{end}}<th>R(x)</th><th>iterations</th><th>converged</th><th>warnings</th><th>seconds</th><th>error</th></tr>
+{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{.Regularizer}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
+{{end}}</table></div>
+{{if .Panel}}<h2>Images on one colour scale</h2><img src="{{.Panel}}" alt="panel of the images">{{end}}
+{{if .Spread}}<h2>Agreement</h2>
+<p>Spread: the pixel-wise standard deviation across regularizers divided by their mean there (shown where the mean exceeds 5 % of its peak).</p>
+<img src="{{.Spread}}" alt="spread map">
+<p>Robust features: the pixel-wise minimum across regularizers, after aligning each image to the first by the peak of their cross-correlation (whole-pixel shifts{{range .Shifts}} ({{index . 0}}, {{index . 1}}){{end}}). Closure phases fix the orientation but not always the exact position.</p>
+<img src="{{.Robust}}" alt="robust features">{{end}}
+<h2>Fit to the data</h2>
+{{if .V2}}<img src="{{.V2}}" alt="V2 data and models">{{end}}
+{{if .T3}}<img src="{{.T3}}" alt="closure phase data and models">{{end}}
+<h2>Each regularizer</h2>
+{{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Warnings}}<ul class="warned">{{range .Warnings}}<li>Warning: {{.}}</li>{{end}}</ul>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}
+{{end}}
+</body>
+</html>
+`
+
+type reportEach struct {
+	Name, Error   string
+	Warnings      []string
+	Image, LCurve template.URL
+}
+
+func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun) error {
+	tpl, err := template.New("report").Parse(reportTemplate)
+	if err != nil {
+		return err
+	}
+	data := struct {
+		*CompareReport
+		Types                         []string
+		Panel, Spread, Robust, V2, T3 template.URL
+		Each                          []reportEach
+	}{CompareReport: rep, Types: compareTypes(rep),
+		Panel: dataURI(filepath.Join(dir, "compare-panel.png")), Spread: dataURI(filepath.Join(dir, "compare-spread.png")),
+		Robust: dataURI(filepath.Join(dir, "compare-robust.png")), V2: dataURI(filepath.Join(dir, "compare-vis2.png")),
+		T3: dataURI(filepath.Join(dir, "compare-t3phi.png"))}
+	if data.Target == "" {
+		data.Target = "unknown target"
+	}
+	for i, r := range runs {
+		e := reportEach{Name: r.Name, Error: rep.Rows[i].Error, Warnings: rep.Rows[i].Warnings}
+		if r.Err == nil {
+			e.Image = dataURI(filepath.Join(dir, r.Name+".png"))
+			e.LCurve = dataURI(filepath.Join(dir, r.Name+"-lcurve.png"))
+		}
+		data.Each = append(data.Each, e)
+	}
+	var buf bytes.Buffer
+	if err := tpl.Execute(&buf, data); err != nil {
+		return err
+	}
+	return safefile.Write(filepath.Join(dir, "report.html"), func(w io.Writer) error {
+		_, err := w.Write(buf.Bytes())
+		return err
+	})
+}
