@@ -151,6 +151,27 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 	return written, nil
 }
 
+// LimitsPlot writes the detection limits L as a plot of Δmag against separation to path:
+// for each significance the mean over position angle (solid) and the worst position angle
+// (dashed) in one colour. target, when not empty, goes in the title.
+func LimitsPlot(L *fit.Limits, path, target string) error {
+	var lines []plots.ContrastLine
+	for k, s := range L.Sigmas {
+		mean, worst := make([]float64, len(L.Sep)), make([]float64, len(L.Sep))
+		for i := range L.Sep {
+			mean[i], worst[i] = fit.DMag(L.Mean[k][i]), fit.DMag(L.Worst[k][i])
+		}
+		name := sigmaName(s)
+		lines = append(lines, plots.ContrastLine{Name: name + ", mean over position angle", Sep: L.Sep, DMag: mean, Series: k},
+			plots.ContrastLine{Name: name + ", worst position angle", Sep: L.Sep, DMag: worst, Dashed: true, Series: k})
+	}
+	fig, err := plots.Contrast(lines, plots.Options{Title: titled("Detection limits of a point companion", target)})
+	if err != nil {
+		return err
+	}
+	return fig.WriteFile(path)
+}
+
 // circular reports whether every component of m is centred and circularly
 // symmetric, so that V² depends on the spatial frequency only and a model
 // curve against it is meaningful.

@@ -3,6 +3,7 @@ package output
 import (
 	"encoding/json"
 	"math"
+	"strconv"
 
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -190,7 +191,10 @@ type FitSummary struct {
 	Status       string           `json:"status"`
 	Starts       int              `json:"starts"`
 	BestStart    int              `json:"best_start"`
+	Pairs        []FitPairJ       `json:"pairs"`
+	Detections   []FitDetectJ     `json:"significance"`
 	Grid         *FitGridJ        `json:"grid_search,omitempty"`
+	Limits       *FitLimitsJ      `json:"detection_limits,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
 	ModelFile    string           `json:"model_file,omitempty"`
@@ -208,6 +212,48 @@ type FitParamJ struct {
 	Error     JFloat `json:"error"`
 	Unit      string `json:"unit"`
 	AtBound   bool   `json:"at_bound"`
+}
+
+// FitPairJ is one component relative to the primary (fit.Pair); components are counted
+// from 1.
+type FitPairJ struct {
+	Primary   int    `json:"primary"`
+	Component int    `json:"component"`
+	Sep       JFloat `json:"separation_mas"`
+	SepErr    JFloat `json:"separation_error_mas"`
+	PA        JFloat `json:"pa_deg"`
+	PAErr     JFloat `json:"pa_error_deg"`
+	Ratio     JFloat `json:"flux_ratio"`
+	RatioErr  JFloat `json:"flux_ratio_error"`
+	DMag      JFloat `json:"dmag"`
+	DMagErr   JFloat `json:"dmag_error"`
+	AtBound   bool   `json:"at_bound"`
+}
+
+// FitDetectJ is the significance of one component (fit.Detection); components are counted
+// from 1.
+type FitDetectJ struct {
+	Component int    `json:"component"`
+	Chi2Null  JFloat `json:"chi2_without"`
+	Chi2Alt   JFloat `json:"chi2_with"`
+	Scale     JFloat `json:"chi2r_scale"`
+	Extra     int    `json:"extra_parameters"`
+	DeltaChi2 JFloat `json:"delta_chi2"`
+	PValue    JFloat `json:"p_value"`
+	Sigma     JFloat `json:"sigma"`
+	Searched  bool   `json:"position_searched"`
+}
+
+// FitLimitsJ gives the detection limits: the files written and the azimuthal mean and
+// worst Δmag against separation at each significance (null where no ratio up to 1 is
+// detected).
+type FitLimitsJ struct {
+	CSV      string              `json:"csv"`
+	Plot     string              `json:"plot"`
+	Sep      []float64           `json:"separation_mas"`
+	MeanDMag map[string][]JFloat `json:"dmag_mean"`
+	Worst    map[string][]JFloat `json:"dmag_worst"`
+	Scale    JFloat              `json:"chi2r_scale"`
 }
 
 // FitCorrJ is a correlation between two parameters.
@@ -241,7 +287,8 @@ func (f JFloat) MarshalJSON() ([]byte, error) {
 	return json.Marshal(x)
 }
 
-// NewFitSummary is the summary of a fit from the given number of starts.
+// NewFitSummary is the summary of a fit from the given number of starts, with the pairs
+// of res and no significance (FitDetections fills it).
 func NewFitSummary(res *fit.Result, starts int) FitSummary {
 	s := FitSummary{
 		Model: res.Model.String(), Chi2: JFloat(res.Chi2), N: res.N, DOF: res.DOF, Chi2r: JFloat(res.Chi2r),
@@ -253,6 +300,12 @@ func NewFitSummary(res *fit.Result, starts int) FitSummary {
 		c := res.Model.Components[p.Ref.Comp]
 		s.Params = append(s.Params, FitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
 			Param: p.Ref.Name, Value: JFloat(p.Value), Error: JFloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
+	}
+	s.Pairs, s.Detections = []FitPairJ{}, []FitDetectJ{}
+	for _, p := range res.Pairs {
+		s.Pairs = append(s.Pairs, FitPairJ{Primary: p.Primary + 1, Component: p.Comp + 1, Sep: JFloat(p.Sep), SepErr: JFloat(p.SepErr),
+			PA: JFloat(p.PA), PAErr: JFloat(p.PAErr), Ratio: JFloat(p.Ratio), RatioErr: JFloat(p.RatioErr),
+			DMag: JFloat(p.DMag), DMagErr: JFloat(p.DMagErr), AtBound: p.AtBound})
 	}
 	for _, t := range res.PerType {
 		s.Chi2ByType[t.Type.String()] = Chi2J{N: t.N, Chi2r: t.Chi2r}
@@ -272,3 +325,37 @@ func NewFitSummary(res *fit.Result, starts int) FitSummary {
 	}
 	return s
 }
+
+// FitDetections is the JSON form of the significances dets of components of the fit res; a
+// component's position counts as searched when its x and y are free parameters of res
+// (either free is enough).
+func FitDetections(res *fit.Result, dets []*fit.Detection) []FitDetectJ {
+	out := []FitDetectJ{}
+	for _, det := range dets {
+		searched := false
+		for _, q := range res.Params {
+			searched = searched || (q.Ref.Comp == det.Comp && (q.Ref.Name == "x" || q.Ref.Name == "y"))
+		}
+		out = append(out, FitDetectJ{Component: det.Comp + 1, Chi2Null: JFloat(det.Chi2Null), Chi2Alt: JFloat(det.Chi2Alt),
+			Scale: JFloat(det.Scale), Extra: det.Extra, DeltaChi2: JFloat(det.DeltaChi2), PValue: JFloat(det.PValue),
+			Sigma: JFloat(det.Sigma), Searched: searched})
+	}
+	return out
+}
+
+// NewFitLimits is the JSON form of the detection limits L written to the files csv and
+// plot; the significances are named "3σ", "5σ".
+func NewFitLimits(L *fit.Limits, csv, plot string) *FitLimitsJ {
+	j := &FitLimitsJ{CSV: csv, Plot: plot, Sep: L.Sep, Scale: JFloat(L.Scale), MeanDMag: map[string][]JFloat{}, Worst: map[string][]JFloat{}}
+	for k, s := range L.Sigmas {
+		name := sigmaName(s)
+		for i := range L.Sep {
+			j.MeanDMag[name] = append(j.MeanDMag[name], JFloat(fit.DMag(L.Mean[k][i])))
+			j.Worst[name] = append(j.Worst[name], JFloat(fit.DMag(L.Worst[k][i])))
+		}
+	}
+	return j
+}
+
+// sigmaName names a significance: "3σ".
+func sigmaName(s float64) string { return strconv.FormatFloat(s, 'g', -1, 64) + "σ" }
