@@ -22,6 +22,13 @@ type FitSettings struct {
 	// angle (fit.GridSearch; SepMax = 0 means 3/4 of the largest constrained scale) and adds
 	// the companion at the best cell to the model, free within three grid steps.
 	Grid *fit.GridOptions
+	// SkipSignificance leaves out the significance of each component (fit.Significance, one
+	// more fit per component with free parameters).
+	SkipSignificance bool
+	// Limits, when non-nil, computes detection limits of a further point companion next to
+	// the fitted model (fit.DetectionLimits; SepMax = 0 means 3/4 of the largest constrained
+	// scale, as for Grid).
+	Limits *fit.LimitOptions
 }
 
 // FitOutcome is the outcome of FitModel.
@@ -30,11 +37,17 @@ type FitOutcome struct {
 	Grid   *fit.GridResult // of the companion search; nil without one
 	Start  *model.Model    // the model fitted from: the given one, with the companion when searched
 	Starts int             // the number of starts used
+	// Detections are the significances of the components of Result.Pairs that have free
+	// parameters, in that order; none with FitSettings.SkipSignificance.
+	Detections []*fit.Detection
+	Limits     *fit.Limits // the detection limits; nil unless asked for
 }
 
-// FitModel fits the model m to d. An error of the companion search, or a fit that gave no
-// result, is an *InputError with no outcome. A fit that gave a result but did not end well
-// returns the outcome and fit.Fit's error together.
+// FitModel fits the model m to d, then gives the significance of its components and the
+// detection limits as s asks. An error of the companion search or of the detection limits,
+// or a fit that gave no result, is an *InputError with no outcome. A fit that gave a result
+// but did not end well returns the outcome (significances and limits included) and
+// fit.Fit's error together.
 func FitModel(d *recon.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
 	opt := s.Fit
 	var g *fit.GridResult
@@ -67,11 +80,31 @@ func FitModel(d *recon.Data, m *model.Model, s FitSettings) (*FitOutcome, error)
 			opt.Starts = 16
 		}
 	}
-	res, err := fit.Fit(d, m, opt)
+	res, fitErr := fit.Fit(d, m, opt)
 	if res == nil {
-		return nil, inputError("", err)
+		return nil, inputError("", fitErr)
 	}
-	return &FitOutcome{Result: res, Grid: g, Start: m, Starts: opt.Starts}, err
+	o := &FitOutcome{Result: res, Grid: g, Start: m, Starts: opt.Starts}
+	if !s.SkipSignificance {
+		for _, p := range res.Pairs {
+			det, err := fit.Significance(d, res, p.Comp, opt)
+			if err != nil {
+				continue // a fixed component has no significance to give
+			}
+			o.Detections = append(o.Detections, det)
+		}
+	}
+	if s.Limits != nil {
+		lopt := *s.Limits
+		if lopt.SepMax == 0 {
+			lopt.SepMax = 0.75 * d.Summarize().LargestScale / recon.Mas
+		}
+		var err error
+		if o.Limits, err = fit.DetectionLimits(d, res, lopt); err != nil {
+			return nil, inputErrorf("detection limits: %v", err)
+		}
+	}
+	return o, fitErr
 }
 
 // hasFreePosition reports whether a component of m has both x and y free.
@@ -109,7 +142,8 @@ func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifi
 
 // SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
 // header names the data files (without their folders, so that the file carries no
-// machine-specific paths), the start model and, when the fit did not converge, why.
+// machine-specific paths), the start model, the significance of each component and, when
+// the fit did not converge, why.
 func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 	names := make([]string, len(dataFiles))
 	for i, p := range dataFiles {
@@ -120,8 +154,28 @@ func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 		"Model fitted by vcz fit " + output.Version + " to " + strings.Join(names, ", "),
 		"start model: " + o.Start.String(),
 	}
+	for _, det := range output.FitDetections(res, o.Detections) {
+		header = append(header, det.Line())
+	}
 	if !res.Converged {
 		header = append(header, "WARNING: the fit did not converge: "+res.Reason)
 	}
 	return safefile.WriteBytes(path, res.ModelTOML(header...))
+}
+
+// WriteLimits writes the detection limits as PREFIX.csv (fit.Limits.WriteCSV) and
+// PREFIX.png (output.LimitsPlot, titled with the targets of d) and returns their summary.
+// It panics without limits (FitSettings.Limits nil).
+func (o *FitOutcome) WriteLimits(prefix string, d *recon.Data) (*output.FitLimitsJ, error) {
+	if o.Limits == nil {
+		panic("workflow: WriteLimits without detection limits")
+	}
+	csv, png := prefix+".csv", prefix+".png"
+	if err := safefile.Write(csv, o.Limits.WriteCSV); err != nil {
+		return nil, err
+	}
+	if err := output.LimitsPlot(o.Limits, png, strings.Join(d.Targets, ", ")); err != nil {
+		return nil, err
+	}
+	return output.NewFitLimits(o.Limits, csv, png), nil
 }

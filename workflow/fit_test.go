@@ -1,0 +1,102 @@
+package workflow
+
+import (
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"vcz/io/oifits"
+	"vcz/recon"
+	"vcz/recon/fit"
+	"vcz/recon/model"
+	"vcz/recon/simulate"
+)
+
+// binaryData is a star of 2.5 mas with a companion of flux ratio 0.05 at (4, −3) mas,
+// observed with the four-station example plan (seeded noise).
+func binaryData(t *testing.T) *recon.Data {
+	t.Helper()
+	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := model.Load("ud:diameter=2.5;point:x=4,y=-3,flux=0.05")
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d
+}
+
+// FitModel gives the significance of the companion with as many degrees of freedom as it
+// has free parameters (one, its flux; Wilks 1938, the difference of nested fits), none
+// with SkipSignificance, and detection limits over the default separations when asked;
+// WriteLimits writes a CSV of one row per separation, a PNG that the standard library's
+// decoder reads, and a summary whose Δmag is −2.5 log10 of the mean ratio (Pogson's
+// magnitude scale); SaveModel puts the significance in the model file's header.
+func TestFitModelSignificanceLimits(t *testing.T) {
+	d := binaryData(t)
+	m, err := model.Load("ud:diameter~2;point:x=4,y=-3,flux~0.1(0..1)")
+	if err != nil {
+		t.Fatal(err)
+	}
+	set := FitSettings{Fit: fit.Options{Use: recon.Vis2 | recon.T3Phi}, Limits: &fit.LimitOptions{NSep: 6, NPA: 8}}
+	o, err := FitModel(d, m, set)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(o.Detections) != 1 || o.Detections[0].Comp != 1 || o.Detections[0].Extra != 1 || !(o.Detections[0].Sigma > 5) {
+		t.Fatalf("detections %+v, want component 2 with 1 parameter above 5σ", o.Detections)
+	}
+	L := o.Limits
+	if L == nil || len(L.Sep) != 6 || L.Sep[0] != 0 || math.Abs(L.Sep[5]-0.75*d.Summarize().LargestScale/recon.Mas) > 1e-9*L.Sep[5] {
+		t.Fatalf("limits %+v, want 6 separations from 0 to 3/4 of the largest scale", L)
+	}
+	prefix := filepath.Join(t.TempDir(), "lim")
+	lj, err := o.WriteLimits(prefix, d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range L.Sep {
+		if r := L.Mean[0][i]; r > 0 && math.Abs(float64(lj.MeanDMag["3σ"][i])+2.5*math.Log10(r)) > 1e-12 {
+			t.Errorf("separation %g: Δmag %g for ratio %g", L.Sep[i], lj.MeanDMag["3σ"][i], r)
+		}
+	}
+	b, err := os.ReadFile(lj.CSV)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := len(strings.Split(strings.TrimSpace(string(b)), "\n")); lj.CSV != prefix+".csv" || n != 7 {
+		t.Errorf("%s: %d lines, want a header and 6 rows", lj.CSV, n)
+	}
+	f, err := os.Open(lj.Plot)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if _, err := png.Decode(f); err != nil {
+		t.Errorf("%s: %v", lj.Plot, err)
+	}
+	saved := filepath.Join(t.TempDir(), "m.toml")
+	if err := o.SaveModel(saved, []string{"/some/where/sim.oifits"}); err != nil {
+		t.Fatal(err)
+	}
+	if b, err := os.ReadFile(saved); err != nil || !strings.Contains(string(b), "# component 2: Δχ² ") {
+		t.Errorf("model file lacks the significance (%v):\n%s", err, b)
+	}
+
+	set.SkipSignificance, set.Limits = true, nil
+	if o, err = FitModel(d, m, set); err != nil || len(o.Detections) != 0 || o.Limits != nil {
+		t.Fatalf("SkipSignificance, no limits: %v, detections %+v, limits %v", err, o.Detections, o.Limits)
+	}
+}
