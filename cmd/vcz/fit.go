@@ -3,10 +3,7 @@ package main
 import (
 	"encoding/json"
 	"errors"
-	"fmt"
 	"io"
-	"math"
-	"sort"
 
 	"vcz/output"
 	"vcz/recon"
@@ -29,7 +26,23 @@ Run 'vcz simulate -help-model' for every component and parameter.
 
 The table gives each free parameter with its 1σ uncertainty from the
 covariance matrix scaled by χ²ᵣ, the correlations above 0.5 and χ²ᵣ per data
-type. Binaries are multi-modal in separation and position angle: when a
+type. Every other component is then given relative to the brightest (the
+primary): separation (mas), position angle (degrees east of north), flux
+ratio and Δmag = −2.5 log10(ratio), with 1σ errors propagated to first order
+from the covariance; the same lines head the -save-model file and go in
+-json as "pairs".
+
+The significance of each component with free parameters compares the χ²
+of the model without it (refitted) with the χ² with it, both divided by the
+χ²ᵣ with it so that it is 1; the difference is referred to the χ²
+distribution with as many degrees of freedom as the component has free
+parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
+0.27 %). It is calibrated for a component at a given position; when its
+position was searched (free x and y, -grid-search), chance alone reaches a
+given σ far more often, and calibration errors outside the error bars
+inflate it too. -no-significance skips it.
+
+Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
 keeps the best. The extra starts are seeded from a quick χ² map of that
 position over the field (a few trial fluxes, the other parameters at their
@@ -40,6 +53,15 @@ of the map, so a poor start guess still finds it without -grid-search.
 separation and position angle (east of north) next to the model, reports the
 best cell, then fits the model plus a companion started there (its x, y and
 flux free).
+
+-limits PREFIX gives detection limits of a further point companion next to
+the fitted model, taken as the truth with its errors scaled to χ²ᵣ = 1: at
+each of -limits-nsep × -limits-npa positions (separations over -grid-sep),
+the flux ratio whose companion would change χ² by the Δχ² of a 3σ and a 5σ
+detection (3 degrees of freedom: its position and flux), the model's free
+parameters refitted to first order. PREFIX.csv gives the mean and worst
+ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
+against separation.
 
 Outputs with -plot PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
 (closure phases), PREFIX-residuals.png (normalised residuals) and, with
@@ -76,6 +98,10 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	saveModel := fs.String("save-model", "", "write the fitted model as a TOML model file (for -model and 'vcz image -from-model')")
 	n := fs.Int("n", 128, "grid size in pixels of -write-image")
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
+	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
+	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
+	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (and -json)")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -93,7 +119,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if *plotPrefix != "" {
 		plotFile = *plotPrefix + "-vis2.png"
 	}
-	if err := workflow.CheckOutputs(*writeImage, *saveModel, plotFile); err != nil {
+	limitsFile := ""
+	if *limits != "" {
+		limitsFile = *limits + ".csv"
+		if *limNSep < 2 || *limNPA < 1 {
+			return badInputf("fit: -limits-nsep must be ≥ 2 and -limits-npa ≥ 1")
+		}
+	}
+	if err := workflow.CheckOutputs(*writeImage, *saveModel, plotFile, limitsFile); err != nil {
 		return err
 	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
@@ -112,16 +145,20 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}}
-	if *grid {
-		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit}
-		if *gridSep != "" {
-			lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
-			if err != nil {
-				return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
-			}
-			fitSet.Grid.SepMin, fitSet.Grid.SepMax = lo/recon.Mas, hi/recon.Mas
+	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}, SkipSignificance: *noSig}
+	sepMin, sepMax := 0.0, 0.0 // the separations of -grid-search and -limits (mas; 0, 0: the default)
+	if *gridSep != "" {
+		lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
+		if err != nil {
+			return badInputf("fit: -grid-sep %q: %v", *gridSep, err)
 		}
+		sepMin, sepMax = lo/recon.Mas, hi/recon.Mas
+	}
+	if *limits != "" {
+		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA}
+	}
+	if *grid {
+		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, SepMin: sepMin, SepMax: sepMax}
 		if *gridNSep < 2 || *gridNPA < 1 || !(*gridRatio > 0) {
 			return badInputf("fit: -grid-nsep must be ≥ 2, -grid-npa ≥ 1 and -grid-ratio > 0")
 		}
@@ -136,9 +173,15 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	}
 	res, g := fo.Result, fo.Grid
 	sum := output.NewFitSummary(res, fo.Starts)
+	sum.Detections = output.FitDetections(res, fo.Detections)
 	if g != nil {
 		sum.Grid = &output.FitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
 			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
+	}
+	if *limits != "" {
+		if sum.Limits, err = fo.WriteLimits(*limits, d); err != nil {
+			return failure(err)
+		}
 	}
 	if *plotPrefix != "" {
 		written, err := output.FitPlots(d, res, g, *plotPrefix)
@@ -172,79 +215,10 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 			return failure(err)
 		}
 	} else if !*quiet {
-		printFit(stdout, sum, d, *n)
+		sum.WriteText(stdout, *n)
 	}
 	if fitErr != nil {
 		return failure(fitErr)
 	}
 	return nil
-}
-
-func printFit(w io.Writer, s output.FitSummary, d *recon.Data, n int) {
-	fmt.Fprintf(w, "Fitted model: %s\n\n", s.Model)
-	fmt.Fprintf(w, "  %-14s %-9s %16s   %-12s\n", "parameter", "kind", "value", "1σ")
-	for _, p := range s.Params {
-		e := "n/a"
-		if !math.IsNaN(float64(p.Error)) {
-			e = fmt.Sprintf("± %.4g", float64(p.Error))
-		}
-		note := ""
-		if p.AtBound {
-			note = "  (at a bound)"
-		}
-		fmt.Fprintf(w, "  %-14s %-9s %16.8g   %-12s %s%s\n", p.Name, p.Kind, float64(p.Value), e, p.Unit, note)
-	}
-	if len(s.Correlations) > 0 {
-		fmt.Fprintln(w, "\nCorrelations above 0.5:")
-		for _, c := range s.Correlations {
-			fmt.Fprintf(w, "  %s – %s  %+.3f\n", c.A, c.B, float64(c.R))
-		}
-	}
-	fmt.Fprintf(w, "\nχ²ᵣ %.4g (χ² %.6g, N = %d, %d free, DOF = %d)\n", float64(s.Chi2r), float64(s.Chi2), s.N, len(s.Params), s.DOF)
-	var types []string
-	for t := range s.Chi2ByType {
-		types = append(types, t)
-	}
-	sort.Slice(types, func(i, j int) bool { return typeOrder(types[i]) < typeOrder(types[j]) })
-	for _, t := range types {
-		fmt.Fprintf(w, "  %-7s χ²ᵣ %-10.4g N = %d\n", t, s.Chi2ByType[t].Chi2r, s.Chi2ByType[t].N)
-	}
-	conv := "converged"
-	if !s.Converged {
-		conv = "DID NOT CONVERGE"
-	}
-	fmt.Fprintf(w, "%s after %d iterations: %s", conv, s.Iterations, s.Status)
-	if s.Starts > 1 {
-		fmt.Fprintf(w, " (best of %d starts: start %d", s.Starts, s.BestStart+1)
-		if s.Seeded > 0 {
-			fmt.Fprintf(w, "; starts 2 to %d seeded from a χ² map of the free position", s.Seeded+1)
-		}
-		fmt.Fprint(w, ")")
-	}
-	fmt.Fprintln(w)
-	if g := s.Grid; g != nil {
-		fmt.Fprintf(w, "Grid search (flux ratio %g): best separation %.4g mas, PA %.4g° (east %.4g, north %.4g mas), χ² %.6g vs %.6g without a companion\n",
-			g.Ratio, g.BestSep, g.BestPA, g.BestX, g.BestY, g.BestChi2, g.Chi2Primary)
-	}
-	for _, p := range s.Plots {
-		fmt.Fprintf(w, "Wrote %s\n", p)
-	}
-	if s.Image != "" {
-		fmt.Fprintf(w, "Wrote %s (%d × %d pixels)\n", s.Image, n, n)
-	}
-	if s.ModelFile != "" {
-		fmt.Fprintf(w, "Wrote %s (model file)\n", s.ModelFile)
-	}
-	for _, msg := range s.Notices {
-		fmt.Fprintf(w, "note: %s\n", msg)
-	}
-}
-
-func typeOrder(name string) int {
-	for i, t := range recon.DataTypes() {
-		if t.String() == name {
-			return i
-		}
-	}
-	return len(recon.DataTypes())
 }

@@ -442,7 +442,7 @@ func TestFitLimits(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var s fitSummary
+	var s output.FitSummary
 	if err := json.Unmarshal([]byte(stdout), &s); err != nil {
 		t.Fatal(err)
 	}
