@@ -29,7 +29,11 @@ type Problem struct {
 	// Grid, when N > 0, is the grid; otherwise ChooseGrid(Data, GridOptions) picks it.
 	Grid        Grid
 	GridOptions GridOptions
-	Terms       TermOptions
+	// Choice, when non-nil, is the grid with the reasons for it, as ChooseGrid gave it for
+	// these data (a workflow that chose one grid for several runs); it takes precedence
+	// over Grid and GridOptions, and Result.Grid is it.
+	Choice *GridChoice
+	Terms  TermOptions
 	// Reg is the regularizer; nil means none.
 	Reg RegularizerFunc
 	// Weight is the regularization weight μ in J(x) + μ·R(x). Zero with Reg set means
@@ -465,7 +469,10 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	}
 	var g GridChoice
 	var err error
-	if p.Grid.N > 0 {
+	if p.Choice != nil {
+		g = *p.Choice
+		p.Grid = g.Grid
+	} else if p.Grid.N > 0 {
 		g = GridChoice{Grid: p.Grid, FOV: float64(p.Grid.N) * p.Grid.Pixel}
 		geo := p.Data.summaryGeometry()
 		g.Resolution, g.LargestScale = geo.Resolution, geo.LargestScale
@@ -488,7 +495,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		cp := p
 		// Half the pixels, rounded up to an even number, over the same field.
 		nh := (g.N/2 + 1) &^ 1
-		cp.Grid = Grid{N: nh, Pixel: float64(g.N) * g.Pixel / float64(nh)}
+		cp.Grid, cp.Choice = Grid{N: nh, Pixel: float64(g.N) * g.Pixel / float64(nh)}, nil
 		cp.Support = p.Support
 		cs := s
 		cs.CoarseToFine, cs.Starts = false, 1

@@ -156,7 +156,7 @@ func NewComparison(files []*oifits.File, d *recon.Data, entries []Entry) (*Compa
 				return nil, inputError("", err)
 			}
 		}
-		p.Grid = c.Grid.Grid
+		p.Choice = &c.Grid
 		c.Runs = append(c.Runs, &CompareRun{Name: e.Name, Spec: e.Spec, Problem: p, Settings: s})
 	}
 	return c, nil

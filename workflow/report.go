@@ -78,7 +78,6 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 			row.Weight, row.Chi2r, row.RegValue = math.NaN(), math.NaN(), math.NaN()
 		} else {
 			res := r.Result
-			res.Grid.Reasons, res.Grid.SizeModel, res.Grid.Size = choice.Reasons, choice.SizeModel, choice.Size
 			out := filepath.Join(dir, r.Name+".fits")
 			run := output.Run{Files: c.Files, Data: d, Spec: r.Spec, Result: res, Label: r.Name}
 			outs.NoPlots = true

@@ -144,7 +144,6 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 	f := newFile(p, mjds[0])
 	staIndex := func(i int) int { return i + 1 } // STA_INDEX is 1-based in plan order
 	nz := p.Noise
-	r2d := 180 / math.Pi
 	if p.WriteVis2 {
 		rng := rand.New(rand.NewPCG(p.Seed, streamVis2))
 		tab := oifits.Vis2{DateObs: f.Primary.DateObs, ArrName: p.ArrayName, InsName: p.Instrument}
@@ -184,15 +183,7 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 					Flag: make([]bool, nc)}
 				for c := 0; c < nc; c++ {
 					bs := vis[(k*np+jab)*nc+c] * vis[(k*np+jbc)*nc+c] * cmplx.Conj(vis[(k*np+jac)*nc+c])
-					amp, phi := cmplx.Abs(bs), cmplx.Phase(bs)*r2d
-					sa := math.Hypot(nz.T3AmpRelative*amp, nz.T3AmpFloor)
-					sp := phaseError(nz.ClosurePhase, nz.T3AmpFloor, amp)
-					row.AmpErr[c], row.PhiErr[c] = sa, sp
-					if nz.Add {
-						amp += sa * rng.NormFloat64()
-						phi = wrapDeg(phi + sp*rng.NormFloat64())
-					}
-					row.Amp[c], row.Phi[c] = amp, phi
+					row.Amp[c], row.AmpErr[c], row.Phi[c], row.PhiErr[c] = noisyAmpPhase(bs, nz.T3AmpRelative, nz.T3AmpFloor, nz.ClosurePhase, nz.Add, rng)
 				}
 				tab.Rows = append(tab.Rows, row)
 			}
@@ -211,16 +202,7 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 					Amp: make([]float64, nc), AmpErr: make([]float64, nc), Phi: make([]float64, nc), PhiErr: make([]float64, nc),
 					Flag: make([]bool, nc)}
 				for c := 0; c < nc; c++ {
-					z := vis[(k*np+j)*nc+c]
-					amp, phi := cmplx.Abs(z), cmplx.Phase(z)*r2d
-					sa := math.Hypot(nz.VisAmpRelative*amp, nz.VisAmpFloor)
-					sp := phaseError(nz.VisPhase, nz.VisAmpFloor, amp)
-					row.AmpErr[c], row.PhiErr[c] = sa, sp
-					if nz.Add {
-						amp += sa * rng.NormFloat64()
-						phi = wrapDeg(phi + sp*rng.NormFloat64())
-					}
-					row.Amp[c], row.Phi[c] = amp, phi
+					row.Amp[c], row.AmpErr[c], row.Phi[c], row.PhiErr[c] = noisyAmpPhase(vis[(k*np+j)*nc+c], nz.VisAmpRelative, nz.VisAmpFloor, nz.VisPhase, nz.Add, rng)
 				}
 				tab.Rows = append(tab.Rows, row)
 			}
@@ -299,3 +281,20 @@ func newFile(p *Plan, firstMJD float64) *oifits.File {
 		Wavelengths: []oifits.Wavelength{{InsName: p.Instrument, EffWave: append([]float64(nil), p.Wavelengths...), EffBand: append([]float64(nil), p.Bandwidths...)}},
 	}
 }
+
+// noisyAmpPhase returns the amplitude and phase (degrees) of z with their errors: amplitude
+// error rel·|z| and floor added in quadrature, phase error from phaseError; with add set, one
+// Gaussian draw of rng perturbs the amplitude and then one the phase.
+func noisyAmpPhase(z complex128, rel, floor, phaseSigma float64, add bool, rng *rand.Rand) (amp, ampErr, phi, phiErr float64) {
+	amp, phi = cmplx.Abs(z), cmplx.Phase(z)*r2d
+	ampErr = math.Hypot(rel*amp, floor)
+	phiErr = phaseError(phaseSigma, floor, amp)
+	if add {
+		amp += ampErr * rng.NormFloat64()
+		phi = wrapDeg(phi + phiErr*rng.NormFloat64())
+	}
+	return amp, ampErr, phi, phiErr
+}
+
+// r2d converts radians to degrees.
+const r2d = 180 / math.Pi
