@@ -249,7 +249,7 @@ func (b *batchDisplay) event(ev workflow.Event, r *workflow.EpochResult) {
 		if ev.Ended && ev.Err != nil {
 			fmt.Fprintf(b.w, "\r\033[K%s failed: %v\n", name, ev.Err)
 		}
-		fmt.Fprintf(b.w, "\r\033[Kbatch: %s", state)
+		fmt.Fprintf(b.w, "\r\033[K%s", clip("batch: "+state, terminalWidth(b.w)))
 		b.dirty = true
 		return
 	}

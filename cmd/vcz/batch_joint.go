@@ -24,7 +24,7 @@ func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.Ep
 			text := fmt.Sprintf("joint: temporal weight %-9.3g iter %4d  objective %.6g", lam, it, f)
 			if tty {
 				if time.Since(last) > 100*time.Millisecond {
-					fmt.Fprintf(stderr, "\r\033[K%s", text)
+					fmt.Fprintf(stderr, "\r\033[K%s", clip(text, terminalWidth(stderr)))
 					last = time.Now()
 				}
 			} else if it%50 == 0 {

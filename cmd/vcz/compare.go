@@ -201,8 +201,9 @@ func (p *multiProgress) redraw() {
 	if p.drawn {
 		fmt.Fprintf(&b, "\033[%dA", len(p.lines))
 	}
+	cols := terminalWidth(p.w)
 	for i, l := range p.lines {
-		fmt.Fprintf(&b, "\r\033[K%s  %s\n", p.names[i], l)
+		fmt.Fprintf(&b, "\r\033[K%s\n", clip(p.names[i]+"  "+l, cols))
 	}
 	io.WriteString(p.w, b.String())
 	p.drawn = true

@@ -19,10 +19,43 @@ func isTerminal(w io.Writer) bool {
 	return ok && term.IsTerminal(int(f.Fd()))
 }
 
+// terminalWidth returns the number of columns of the terminal w, asked at each call so that
+// a resized window is followed; 0 when w is not a terminal or does not say.
+func terminalWidth(w io.Writer) int {
+	f, ok := w.(*os.File)
+	if !ok {
+		return 0
+	}
+	cols, _, err := term.GetSize(int(f.Fd()))
+	if err != nil || cols <= 0 {
+		return 0
+	}
+	return cols
+}
+
+// clip shortens s to fewer than cols columns (one character a column: the progress text
+// has no wide characters), ending it with "…" when cut, so that a line rewritten in place
+// never wraps onto a second one. cols ≤ 1 leaves s as it is.
+func clip(s string, cols int) string {
+	if cols <= 1 {
+		return s
+	}
+	r := []rune(s)
+	if len(r) < cols {
+		return s
+	}
+	return string(r[:cols-2]) + "…"
+}
+
+// plainEvery is the least time between two plain progress lines of one stage when the
+// output is not a terminal (a log file or a pipe): a new stage always prints.
+const plainEvery = 5 * time.Second
+
 // progressLine shows the state of a running reconstruction on one line of a
-// terminal, rewritten in place at most ten times a second, or as plain lines
-// (at each new stage and every 50 iterations) when the output is not a
-// terminal. A nil *progressLine shows nothing.
+// terminal, rewritten in place at most ten times a second and clipped to the
+// terminal's width, or as plain lines (at each new stage and at most every
+// plainEvery within one) when the output is not a terminal. A nil *progressLine
+// shows nothing.
 type progressLine struct {
 	mu      sync.Mutex
 	w       io.Writer
@@ -53,15 +86,14 @@ func (p *progressLine) report(pr recon.Progress) {
 	p.stage = pr.Stage
 	text := fmt.Sprintf("%-16s iter %4d  objective %-11.5g χ²ᵣ %.4g%s  μ %-9.3g %5.1fs",
 		pr.Stage, pr.Iter, pr.Objective, pr.Chi2r, typesText(pr.Types), pr.Weight, now.Sub(p.started).Seconds())
-	iter := pr.Iter
 	if p.tty {
 		if !newStage && now.Sub(p.last) < 100*time.Millisecond {
 			return
 		}
-		fmt.Fprintf(p.w, "\r\033[K%s", text)
+		fmt.Fprintf(p.w, "\r\033[K%s", clip(text, terminalWidth(p.w)))
 		p.dirty = true
 	} else {
-		if !newStage && iter%50 != 0 {
+		if !newStage && now.Sub(p.last) < plainEvery {
 			return
 		}
 		fmt.Fprintln(p.w, text)

@@ -1,0 +1,57 @@
+package main
+
+import (
+	"bytes"
+	"strings"
+	"testing"
+
+	"vcz/recon"
+)
+
+// TestClip checks that a progress line rewritten in place fits the terminal: fewer
+// characters than columns, so the cursor never wraps (a wrapped line leaves a stale copy
+// at every update: common practice, no source), with "…" where it was cut.
+func TestClip(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		cols int
+		want string
+	}{
+		{"final  χ²ᵣ 0.98  μ 12", 80, "final  χ²ᵣ 0.98  μ 12"},
+		{"final  χ²ᵣ 0.98  μ 12", 10, "final  χ…"},
+		{"abcdef", 7, "abcdef"},
+		{"abcdef", 6, "abcd…"},
+		{"abcdef", 0, "abcdef"}, // not a terminal, or it did not say
+		{"abcdef", 1, "abcdef"},
+	} {
+		got := clip(c.in, c.cols)
+		if got != c.want {
+			t.Errorf("clip(%q, %d) = %q, want %q", c.in, c.cols, got, c.want)
+		}
+		if c.cols > 1 && len([]rune(got)) >= c.cols {
+			t.Errorf("clip(%q, %d) = %q has %d characters", c.in, c.cols, got, len([]rune(got)))
+		}
+	}
+}
+
+// TestPlainProgressRate checks that progress written to a file or pipe gives one line when
+// a stage begins and no more while iterations follow quickly (at most one every plainEvery).
+func TestPlainProgressRate(t *testing.T) {
+	var b bytes.Buffer
+	p := newProgressLine(&b, false)
+	for _, stage := range []string{"amplitudes", "weight 1/14", "final"} {
+		for it := 1; it <= 300; it++ {
+			p.report(recon.Progress{Stage: stage, Iter: it, Objective: 1, Chi2r: 1, Weight: 1})
+		}
+	}
+	p.done()
+	lines := strings.Split(strings.TrimSpace(b.String()), "\n")
+	if len(lines) != 3 {
+		t.Fatalf("%d lines, want one per stage:\n%s", len(lines), b.String())
+	}
+	for i, stage := range []string{"amplitudes", "weight 1/14", "final"} {
+		if !strings.HasPrefix(lines[i], stage) {
+			t.Errorf("line %d = %q, want stage %q", i, lines[i], stage)
+		}
+	}
+}
