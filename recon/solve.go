@@ -95,7 +95,9 @@ type Settings struct {
 
 // Progress describes the state after an iteration, for a progress display.
 type Progress struct {
-	Stage     string  // "amplitudes", "weight k/K", "final", "start k/K", "coarse"
+	// Stage is "amplitudes", "smoothed phases", "smoothed, turned" (the amplitude image
+	// turned by 180°), "weight k/K", "final", "start k/K" or "coarse".
+	Stage     string
 	Weight    float64 // regularization weight of the run
 	Iter      int     // iteration of the run
 	Objective float64
@@ -558,7 +560,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 			// (τ√(2N): a smaller difference says nothing of the orientation), it runs on to
 			// the full count.
 			rot := reflect(x0, g.N)
-			b, err := e.run(rot, mu, use, max(s.PathIter/4, 1), "smoothed phases, turned")
+			b, err := e.run(rot, mu, use, max(s.PathIter/4, 1), "smoothed, turned")
 			if err != nil {
 				return nil, err
 			}
@@ -568,7 +570,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 				fa = a.Hist[k-1]
 			}
 			if n := float64(e.p.Data.Len(use)); b.F < fa-e.chi2rScatter()*n {
-				b2, err := e.run(b.X, mu, use, s.PathIter-b.Iter, "smoothed phases, turned")
+				b2, err := e.run(b.X, mu, use, s.PathIter-b.Iter, "smoothed, turned")
 				if err != nil {
 					return nil, err
 				}
