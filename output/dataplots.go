@@ -112,20 +112,13 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 	}
 	if res.Use&recon.T3Phi != 0 {
 		t := &d.T3
-		var td plots.T3Data
+		td := ClosurePhases(d)
 		var mp, fq []float64
 		for i := range t.Lambda {
-			if !t.PhiOK[i] {
-				continue
+			if t.PhiOK[i] {
+				mp = append(mp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+				fq = append(fq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 			}
-			td.U1 = append(td.U1, t.U1[i])
-			td.V1 = append(td.V1, t.V1[i])
-			td.U2 = append(td.U2, t.U2[i])
-			td.V2 = append(td.V2, t.V2[i])
-			td.Phi = append(td.Phi, t.Phi[i]*180/math.Pi)
-			td.Err = append(td.Err, t.PhiErr[i]*180/math.Pi)
-			mp = append(mp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
-			fq = append(fq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 		}
 		if len(mp) > 0 {
 			fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: "fitted model", Value: mp}}, plots.Options{Title: titled("Closure phases and fitted model", title)})
