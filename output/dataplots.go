@@ -135,7 +135,7 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 		}
 	}
 	if g != nil {
-		fig, err := plots.Chi2Map(plots.Grid{X: g.Sep, Y: g.PA, Values: g.Chi2, XLabel: "separation (mas)", YLabel: "position angle, east of north (°)", ZLabel: "χ²"},
+		fig, err := plots.Chi2Map(plots.Grid{X: g.Sep, Y: g.PA, Values: g.Chi2, XLabel: "separation (mas)", YLabel: "position angle, east of north (°)", ZLabel: "χ²", XUnit: "mas", YUnit: "°"},
 			plots.Options{Title: titled("Companion search χ²", title)})
 		if err := save(fig, err, "-grid.png"); err != nil {
 			return written, err

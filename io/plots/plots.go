@@ -622,6 +622,9 @@ type Grid struct {
 	Values []float64
 	// XLabel, YLabel and ZLabel name the axes and the colour bar, with units.
 	XLabel, YLabel, ZLabel string
+	// XUnit and YUnit are the units of X and Y for the position of the minimum in the
+	// title ("mas", "°"); empty for none.
+	XUnit, YUnit string
 	// InvertX runs X to the left (set it for east offsets, east left).
 	InvertX bool
 	// LogZ colours by log10 of the values (non-positive ones are grey).
@@ -702,7 +705,7 @@ func Chi2Map(g Grid, opt Options) (*Figure, error) {
 	h.Rasterized = true
 	bx, by := g.X[best%nx], g.Y[best/nx]
 	zbest := g.Values[best]
-	p := newPlot(opt.title("χ² map")+fmt.Sprintf(" — minimum %.4g at (%.3g, %.3g)", zbest, bx, by), g.XLabel, g.YLabel)
+	p := newPlot(opt.title("χ² map")+fmt.Sprintf(" — minimum %.4g at %s, %s", zbest, withUnit(bx, g.XUnit), withUnit(by, g.YUnit)), g.XLabel, g.YLabel)
 	mx := bx
 	if g.InvertX {
 		p.X.Tick.Marker = negTicks{}
@@ -727,6 +730,20 @@ func Chi2Map(g Grid, opt Options) (*Figure, error) {
 	bar.Y.Label.TextStyle.Font.Size = 12
 	bar.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true})
 	return withColorBar(p, bar, opt, false), nil
+}
+
+// withUnit formats v with three significant digits and its unit: a space before a word
+// ("12.5 mas"), none before a degree sign ("45°"), as the SI brochure (BIPM 2019, sect. 5.4.3)
+// writes them.
+func withUnit(v float64, unit string) string {
+	s := fmt.Sprintf("%.3g", v)
+	switch unit {
+	case "":
+		return s
+	case "°":
+		return s + unit
+	}
+	return s + " " + unit
 }
 
 // negTicks labels an axis that carries −x with the values of x.

@@ -449,3 +449,18 @@ func TestConcurrentImage(t *testing.T) {
 		}
 	}
 }
+
+// TestWithUnit checks the minimum's position in the χ² map title: a space between number and
+// unit, none before the degree sign (SI Brochure, 9th edition, BIPM 2019, sect. 5.4.3; the
+// rule is quoted from memory).
+func TestWithUnit(t *testing.T) {
+	for _, c := range []struct {
+		v    float64
+		unit string
+		want string
+	}{{12.5, "mas", "12.5 mas"}, {45, "°", "45°"}, {0.00123456, "", "0.00123"}} {
+		if got := withUnit(c.v, c.unit); got != c.want {
+			t.Errorf("withUnit(%g, %q) = %q, want %q", c.v, c.unit, got, c.want)
+		}
+	}
+}
