@@ -117,14 +117,18 @@ func newPlot(title, xlabel, ylabel string) *plot.Plot {
 	}
 	p.Legend.Top = true
 	p.Legend.Padding = 2
+	// Inside the frame, clear of its right edge and of the top.
+	p.Legend.XOffs, p.Legend.YOffs = -vg.Points(6), -vg.Points(3)
 	p.X.Tick.Marker = cleanTicks{}
 	p.Y.Tick.Marker = cleanTicks{}
 	return p
 }
 
 // cleanTicks places labelled ticks at multiples of a 1-2-5 step (about
-// five across the axis) with unlabelled minor ticks between them, labelled
-// with the fewest digits that show the value ("25", not "25.00").
+// five across the axis, and never fewer than three: the next smaller step
+// is taken when the span holds fewer) with unlabelled minor ticks between
+// them, labelled with the fewest digits that show the value ("25", not
+// "25.00").
 type cleanTicks struct{}
 
 func (cleanTicks) Ticks(min, max float64) []plot.Tick {
@@ -132,6 +136,9 @@ func (cleanTicks) Ticks(min, max float64) []plot.Tick {
 		return plot.DefaultTicks{}.Ticks(min, max)
 	}
 	step := niceStep((max - min) / 5)
+	for math.Floor(max/step+1e-9)-math.Ceil(min/step-1e-9) < 2 {
+		step = smallerStep(step)
+	}
 	minor := step / 5
 	if m := step / math.Pow(10, math.Floor(math.Log10(step))); m == 2 {
 		minor = step / 4
@@ -147,6 +154,19 @@ func (cleanTicks) Ticks(min, max float64) []plot.Tick {
 		ts = append(ts, t)
 	}
 	return ts
+}
+
+// smallerStep returns the 1-2-5 step below step: 5 → 2, 2 → 1, 1 → 0.5
+// (times the same power of ten).
+func smallerStep(step float64) float64 {
+	p := math.Pow(10, math.Floor(math.Log10(step)+1e-9))
+	switch m := math.Round(step / p); m {
+	case 5:
+		return 2 * p
+	case 2:
+		return p
+	}
+	return p / 2
 }
 
 // niceStep returns the number 1, 2 or 5 times a power of ten nearest

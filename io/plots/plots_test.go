@@ -383,6 +383,11 @@ func TestTicks(t *testing.T) {
 		{"logTicks(0.5, 1.1)", tickLabels(logTicks{}.Ticks(0.5, 1.1)), "0.5 0.6 0.7 0.8 0.9 1"},
 		// A span holding one multiple of its decade falls back to 1-2-5 steps.
 		{"logTicks(0.862, 0.903)", tickLabels(logTicks{}.Ticks(0.862, 0.903)), "0.87 0.88 0.89 0.9"},
+		// The 1-2-5 step nearest a fifth of the span (0.05) labels only 0.2 and 0.25 here:
+		// the next smaller step is taken, so that at least three labels show.
+		{"cleanTicks(0.152, 0.262)", tickLabels(cleanTicks{}.Ticks(0.152, 0.262)), "0.16 0.18 0.2 0.22 0.24 0.26"},
+		{"logTicks(0.152, 0.262)", tickLabels(logTicks{}.Ticks(0.152, 0.262)), "0.16 0.18 0.2 0.22 0.24 0.26"},
+		{"cleanTicks(0.0007, 0.00102)", tickLabels(cleanTicks{}.Ticks(0.0007, 0.00102)), "0.0007 0.0008 0.0009 0.001"},
 	} {
 		if c.got != c.want {
 			t.Errorf("%s labels %q, want %q", c.name, c.got, c.want)
