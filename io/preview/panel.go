@@ -9,6 +9,7 @@ import (
 	"image/png"
 	"io"
 	"math"
+	"strings"
 	"time"
 
 	"vcz/io/safefile"
@@ -220,6 +221,16 @@ func WriteGIF(path string, frames []Frame, opt Options) error {
 	})
 }
 
+// frameSubtitle is the one-line subtitle of an animation frame: the options' subtitle and the
+// frame's label, whose lines (a montage draws them one under the other) are joined by " · ".
+func frameSubtitle(subtitle, label string) string {
+	parts := strings.FieldsFunc(label, func(r rune) bool { return r == '\n' || r == '\r' })
+	if subtitle != "" {
+		parts = append([]string{subtitle}, parts...)
+	}
+	return strings.Join(parts, "  ·  ")
+}
+
 func animate(frames []Frame, opt Options) (*gif.GIF, error) {
 	if err := checkFrames(frames); err != nil {
 		return nil, err
@@ -240,11 +251,7 @@ func animate(frames []Frame, opt Options) (*gif.GIF, error) {
 	imgs := make([]*image.RGBA, len(frames))
 	var size image.Point
 	for i, f := range frames {
-		sub := f.Label
-		if opt.Subtitle != "" {
-			sub = opt.Subtitle + "  ·  " + f.Label
-		}
-		imgs[i], _ = render(f, &opt, sc, fc, s, sub)
+		imgs[i], _ = render(f, &opt, sc, fc, s, frameSubtitle(opt.Subtitle, f.Label))
 		size.X = max(size.X, imgs[i].Bounds().Dx())
 		size.Y = max(size.Y, imgs[i].Bounds().Dy())
 	}
