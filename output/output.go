@@ -293,14 +293,15 @@ func ClosurePhases(d *recon.Data) plots.T3Data {
 }
 
 // ParseStretch reads the value of -stretch, the display stretch of the previews; "" is
-// linear.
+// auto (linear, or asinh for an image whose brightest pixels outshine the rest: see
+// preview.ChooseStretch).
 func ParseStretch(text string) (preview.Stretch, error) {
-	for _, s := range []preview.Stretch{preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
-		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Linear) {
+	for _, s := range []preview.Stretch{preview.Auto, preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
+		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Auto) {
 			return s, nil
 		}
 	}
-	return preview.Linear, fmt.Errorf("-stretch %q: want linear, sqrt, asinh or log", text)
+	return preview.Auto, fmt.Errorf("-stretch %q: want auto, linear, sqrt, asinh or log", text)
 }
 
 // VersionString is Version with the VCS revision and the Go toolchain of the build when

@@ -214,7 +214,7 @@ func TestASCII(t *testing.T) {
 
 // TestParseStretch checks the names of -stretch against the stretches of io/preview.
 func TestParseStretch(t *testing.T) {
-	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Linear} {
+	for in, want := range map[string]preview.Stretch{"linear": preview.Linear, "sqrt": preview.Sqrt, "ASINH": preview.Asinh, " log": preview.Log, "": preview.Auto, "Auto": preview.Auto} {
 		if got, err := ParseStretch(in); err != nil || got != want {
 			t.Errorf("%q: %v, %v; want %v", in, got, err, want)
 		}

@@ -145,3 +145,50 @@ func TestPalette(t *testing.T) {
 		t.Errorf("Palette(nil, 5) = %v", p)
 	}
 }
+
+// TestChooseStretch checks the automatic stretch on images whose answer is not in doubt: a
+// uniform disc shows well linearly; a companion 20 times brighter per pixel than a disc gets
+// asinh; a star holding a third of the flux inside a faint ring, and point sources on a
+// halo, vanish except for their brightest pixels and get log (the thresholds are common
+// practice, no source).
+func TestChooseStretch(t *testing.T) {
+	const n = 64
+	disc := make([]float64, n*n)
+	ring := make([]float64, n*n)
+	for iy := 0; iy < n; iy++ {
+		for ix := 0; ix < n; ix++ {
+			r := math.Hypot(float64(ix-n/2), float64(iy-n/2))
+			if r < 20 {
+				disc[iy*n+ix] = 1
+			}
+			if r > 14 && r < 20 {
+				ring[iy*n+ix] = 1
+			}
+		}
+	}
+	ring[n/2*n+n/2] = 300 // a star holding about a third of the flux
+	halo := make([]float64, n*n)
+	for i := range halo {
+		halo[i] = 0.2
+	}
+	halo[10*n+10], halo[40*n+30] = 30, 20
+	binary := append([]float64(nil), disc...)
+	binary[5*n+5] = 20
+	for _, c := range []struct {
+		name string
+		data [][]float64
+		want Stretch
+	}{
+		{"disc", [][]float64{disc}, Linear},
+		{"companion beside a disc", [][]float64{binary}, Asinh},
+		{"star in a ring", [][]float64{ring}, Log},
+		{"points on a halo", [][]float64{halo}, Log},
+		{"disc beside a ring on one scale", [][]float64{disc, ring}, Log},
+		{"empty", [][]float64{make([]float64, 4)}, Linear},
+		{"NaN only", [][]float64{{math.NaN()}}, Linear},
+	} {
+		if got := ChooseStretch(c.data...); got != c.want {
+			t.Errorf("%s: %v, want %v", c.name, got, c.want)
+		}
+	}
+}

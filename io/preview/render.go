@@ -59,7 +59,9 @@ type Options struct {
 	// scale; when both are zero the range of the finite pixel values (over
 	// all images of a panel, montage or animation) is used.
 	Min, Max float64
-	Stretch  Stretch
+	// Stretch maps the scale to colours; the zero value, Auto, picks Linear or Asinh from
+	// the data (ChooseStretch), and a stretch other than linear is named on the colour bar.
+	Stretch Stretch
 	// Colormap nil means DefaultCubehelix().
 	Colormap Colormap
 	// ColorbarLabel is written along the colour bar, e.g. "flux per pixel".
@@ -360,6 +362,13 @@ type barLayout struct {
 
 func layoutBar(sc *colorScale, fc *faces, label string, h int) barLayout {
 	ts, exp := sc.ticks(float64(lineHeight(fc.small)+2) / float64(h))
+	if sc.stretch != Linear && sc.stretch != Auto {
+		// Say how the colours map to values when they do not do so linearly.
+		if label != "" {
+			label += ", "
+		}
+		label += sc.stretch.String() + " stretch"
+	}
 	b := barLayout{ticks: ts, exp: exp, label: label}
 	if exp != 0 {
 		pow := "×1e" + strconv.Itoa(exp)

@@ -61,6 +61,13 @@ func newScale(opt *Options, frames []Frame) (*colorScale, error) {
 	if cm == nil {
 		cm = DefaultCubehelix()
 	}
+	if opt.Stretch == Auto {
+		var data [][]float64
+		for _, f := range frames {
+			data = append(data, f.Data)
+		}
+		opt.Stretch = ChooseStretch(data...)
+	}
 	s := &colorScale{lo: lo, hi: hi, stretch: opt.Stretch, cmap: cm, lut: make([]color.RGBA, lutSize), inv: 1 / (hi - lo)}
 	for i := range s.lut {
 		c := cm.At(s.stretch.Apply(float64(i) / (lutSize - 1)))
@@ -100,7 +107,7 @@ type tick struct {
 func (s *colorScale) ticks(minGap float64) ([]tick, int) {
 	var vals []float64
 	sig := 0 // significant digits of non-linear labels; 0 = linear labels
-	if s.stretch == Linear {
+	if s.stretch == Linear || s.stretch == Auto {
 		vals = niceTicks(s.lo, s.hi, 6)
 	} else {
 		// Non-linear stretches: ticks evenly spaced in display fraction,
