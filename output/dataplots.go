@@ -92,8 +92,12 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 			fq[i] = math.Hypot(d.Vis2.U[i], d.Vis2.V[i])
 			fmax = math.Max(fmax, fq[i])
 		}
+		// The model at the data points, or, for a circularly symmetric model, its curve
+		// against spatial frequency instead (which passes through those points).
+		models := []plots.ModelValues{{Name: "fitted model", Value: mv}}
 		var curves []plots.Curve
 		if circular(m) {
+			models = nil
 			c := plots.Curve{Name: "fitted model"}
 			for k := 0; k <= 400; k++ {
 				q := 1.05 * fmax * float64(k) / 400
@@ -104,7 +108,7 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 			curves = append(curves, c)
 		}
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
-			[]plots.ModelValues{{Name: "fitted model", Value: mv}}, curves, plots.Options{Title: titled("V² and fitted model", title)})
+			models, curves, plots.Options{Title: titled("V² and fitted model", title)})
 		if err := save(fig, err, "-"+recon.Vis2.String()+".png"); err != nil {
 			return written, err
 		}
