@@ -396,7 +396,9 @@ func ClosurePhase(d T3Data, models []ModelValues, opt Options) (*Figure, error) 
 		if !finite(x, d.Phi[i], e) {
 			continue
 		}
-		pts.add(i, x, WrapDegrees(d.Phi[i]), e, e)
+		// A bar is cut at ±190° (see below), so that it does not run under the legend.
+		y := WrapDegrees(d.Phi[i])
+		pts.add(i, x, y, math.Min(e, y+190), math.Min(e, 190-y))
 	}
 	if pts.Len() == 0 {
 		return nil, fmt.Errorf("plots: closure phase: %w", ErrNoData)
@@ -410,6 +412,10 @@ func ClosurePhase(d T3Data, models []ModelValues, opt Options) (*Figure, error) 
 		return nil, fmt.Errorf("plots: closure phase: %w", err)
 	}
 	p.X.Min = 0
+	// Phases are wrapped to ±180°: an error bar beyond that says only that the phase is
+	// unknown, and is cut at the axis rather than stretching it (with the legend's room
+	// above, a 190° bar pushed the axis to 630°).
+	p.Y.Min, p.Y.Max = math.Max(p.Y.Min, -190), math.Min(p.Y.Max, 190)
 	padX(p, false)
 	padY(p, false)
 	roomForLegend(p, 1+len(models), false)
