@@ -165,50 +165,64 @@ func (s Stretch) Apply(t float64) float64 {
 	return t
 }
 
-// autoContrast is the ratio of the brightest pixel to the median of the significant pixels
-// (those above autoFloor times the brightest) above which ChooseStretch picks Asinh: a
-// linear display then shows the bright pixels and little else; above autoContrastLog it
-// picks Log, since asinh (β = 0.1) still shows a pixel at a hundredth of the peak at only 3 %
-// of the colour range, log at 35 % (common practice, no source).
+// Constants of ChooseStretch (common practice, no source): a pixel fainter than autoVisible
+// times the brightest is hard to see on a linear scale; a linear display is kept while the
+// pixels above that level hold at least autoFlux of the flux; beyond it, Log is taken when
+// the brightest pixel outshines the hidden emission (the pixel that splits the flux of the
+// fainter pixels in half) by more than autoContrastLog, since asinh (β = 0.1) shows a pixel
+// at 1/32 of the peak at 10 % of the colour range and log at 50 %; else Asinh.
 const (
-	autoContrast    = 8
-	autoContrastLog = 64
-	autoFloor       = 1e-3
+	autoVisible     = 1.0 / 8
+	autoFlux        = 0.9
+	autoContrastLog = 32
 )
 
 // ChooseStretch picks the stretch of Auto for the pixel values of one or more images shown
-// on one colour scale: Asinh when the brightest pixel is more than autoContrast times the
-// median of the significant pixels (a bright companion beside a resolved disc), Log when it
-// is more than autoContrastLog times (a star inside a faint ring, point sources on a halo),
-// else Linear (a disc, a smooth object). Non-finite values are ignored.
+// on one colour scale. Linear when the pixels a linear scale shows well (above autoVisible
+// times the brightest) hold most of the flux (a disc, a smooth object, also with a faint
+// haze around it); otherwise Log when the brightest pixel outshines the typical hidden
+// pixel by more than autoContrastLog (a star inside a faint ring, point sources on a halo),
+// else Asinh (a bright companion beside a resolved disc). Non-positive and non-finite values
+// are ignored.
 func ChooseStretch(data ...[]float64) Stretch {
-	peak := 0.0
+	var v []float64
 	for _, d := range data {
-		for _, v := range d {
-			if v > peak && !math.IsInf(v, 0) {
-				peak = v
+		for _, x := range d {
+			if x > 0 && !math.IsInf(x, 0) {
+				v = append(v, x)
 			}
 		}
 	}
-	if !(peak > 0) {
+	if len(v) == 0 {
 		return Linear
 	}
-	var sig []float64
-	for _, d := range data {
-		for _, v := range d {
-			if v > autoFloor*peak && !math.IsInf(v, 0) {
-				sig = append(sig, v)
+	sort.Sort(sort.Reverse(sort.Float64Slice(v)))
+	peak := v[0]
+	shown, hidden := 0.0, 0.0
+	for _, x := range v {
+		if x >= autoVisible*peak {
+			shown += x
+		} else {
+			hidden += x
+		}
+	}
+	if shown >= autoFlux*(shown+hidden) {
+		return Linear
+	}
+	// The pixel that splits the hidden flux in half.
+	cum, half := 0.0, 0.0
+	for _, x := range v {
+		if x < autoVisible*peak {
+			if cum += x; cum >= hidden/2 {
+				half = x
+				break
 			}
 		}
 	}
-	sort.Float64s(sig)
-	switch med := sig[len(sig)/2]; {
-	case peak > autoContrastLog*med:
+	if peak > autoContrastLog*half {
 		return Log
-	case peak > autoContrast*med:
-		return Asinh
 	}
-	return Linear
+	return Asinh
 }
 
 // Invert returns t such that s.Apply(t) = f, for f in [0, 1].

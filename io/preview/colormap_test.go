@@ -147,10 +147,10 @@ func TestPalette(t *testing.T) {
 }
 
 // TestChooseStretch checks the automatic stretch on images whose answer is not in doubt: a
-// uniform disc shows well linearly; a companion 20 times brighter per pixel than a disc gets
-// asinh; a star holding a third of the flux inside a faint ring, and point sources on a
-// halo, vanish except for their brightest pixels and get log (the thresholds are common
-// practice, no source).
+// uniform disc shows well linearly, also with a faint haze around it; a companion 20 times
+// brighter per pixel than a disc gets asinh; a star holding a third of the flux inside a
+// faint ring, and point sources on a halo, vanish except for their brightest pixels and get
+// log (the thresholds are common practice, no source).
 func TestChooseStretch(t *testing.T) {
 	const n = 64
 	disc := make([]float64, n*n)
@@ -174,12 +174,19 @@ func TestChooseStretch(t *testing.T) {
 	halo[10*n+10], halo[40*n+30] = 30, 20
 	binary := append([]float64(nil), disc...)
 	binary[5*n+5] = 20
+	hazy := append([]float64(nil), disc...)
+	for i := range hazy {
+		if hazy[i] == 0 {
+			hazy[i] = 0.005
+		}
+	}
 	for _, c := range []struct {
 		name string
 		data [][]float64
 		want Stretch
 	}{
 		{"disc", [][]float64{disc}, Linear},
+		{"disc in a faint haze", [][]float64{hazy}, Linear},
 		{"companion beside a disc", [][]float64{binary}, Asinh},
 		{"star in a ring", [][]float64{ring}, Log},
 		{"points on a halo", [][]float64{halo}, Log},

@@ -339,6 +339,11 @@ func decorate(dst *image.RGBA, area image.Rectangle, f Frame, pixel float64, opt
 		th := -opt.Beam.PA * math.Pi / 180
 		fillPaths(dst, black, ring(c, maj, mnr, th, 3.5)...)
 		fillPaths(dst, white, ring(c, maj, mnr, th, 1.5)...)
+		// Name it, beside the circle (the scale bar names its length the same way), where
+		// the frame leaves room beside the scale bar.
+		if !small {
+			drawTextHalo(dst, face, int(c.x+rad+6), int(c.y)+ascent(face)/2-1, "resolution", white, black)
+		}
 	}
 }
 

@@ -253,10 +253,12 @@ func TestDecorationsDrawn(t *testing.T) {
 		t.Errorf("top-left quadrant has %d white pixels, want none", k)
 	}
 	// The beam of 1 mas diameter on 0.1 mas pixels displayed 8× is 80 px
-	// across: the white ring spans that width.
+	// across: the white ring spans that width, and its label "resolution"
+	// starts 6 px to its right.
 	x0, x1 := area.Max.X, area.Min.X
+	labelEnd := area.Min.X + inset + 82 + 6
 	for y := c.Y; y < area.Max.Y; y++ {
-		for x := area.Min.X; x < c.X; x++ {
+		for x := area.Min.X; x < labelEnd-3; x++ {
 			if m.RGBAAt(x, y) == white {
 				x0, x1 = min(x0, x), max(x1, x)
 			}
@@ -264,6 +266,9 @@ func TestDecorationsDrawn(t *testing.T) {
 	}
 	if d := x1 - x0 + 1; d < 79 || d > 83 {
 		t.Errorf("beam drawn %d px wide, want 80 (+ stroke)", d)
+	}
+	if k := q(image.Rect(labelEnd, c.Y, c.X, area.Max.Y)); k < 20 {
+		t.Errorf("beam label: %d white pixels right of the beam, want its text", k)
 	}
 }
 
