@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"strings"
+	"vcz/dataset"
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
@@ -109,7 +110,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 				return badInputf("simulate: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		} else {
-			d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+			d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 			if err != nil {
 				return failure(err)
 			}

@@ -1,4 +1,4 @@
-package recon
+package dataset
 
 import (
 	"fmt"
