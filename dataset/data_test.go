@@ -2,6 +2,7 @@ package dataset
 
 import (
 	"bytes"
+	"errors"
 	"math"
 	"strings"
 	"testing"
@@ -241,5 +242,38 @@ func TestFromFilesDecoded(t *testing.T) {
 	same("VIS amp", got.Vis.Amp, want.Vis.Amp)
 	if got.Vis.PhiTyp[0] != PhiDifferential {
 		t.Errorf("PHITYP lost in the round trip")
+	}
+}
+
+// TestErrorPosition checks that FromFiles's errors carry their position as fields, as
+// encoding/csv's ParseError does, and unwrap to the underlying error.
+func TestErrorPosition(t *testing.T) {
+	f := smallFiles()
+	f[0].Vis[0].Rows[0].AmpErr[1] = -2
+	_, err := FromFiles(f, Selection{})
+	var e *Error
+	if !errors.As(err, &e) {
+		t.Fatalf("error %v (%T) is not an *Error", err, err)
+	}
+	want := Error{File: "a.oifits", HDU: 5, ExtName: "OI_VIS", Row: 1, Column: "VISAMPERR"}
+	if e.File != want.File || e.HDU != want.HDU || e.ExtName != want.ExtName || e.Row != want.Row || e.Column != want.Column {
+		t.Errorf("position %+v, want %+v", *e, want)
+	}
+	if errors.Unwrap(err) == nil || errors.Unwrap(err).Error() != "VISAMPERR is -2; errors must be positive" {
+		t.Errorf("underlying error %v", errors.Unwrap(err))
+	}
+
+	f = smallFiles()
+	f[0].Wavelengths[0].EffWave[1] = 0
+	_, err = FromFiles(f, Selection{})
+	if !errors.As(err, &e) || e.ExtName != "OI_WAVELENGTH" || e.HDU != 2 || e.Row != 2 || e.Column != "EFF_WAVE" ||
+		err.Error() != "a.oifits: OI_WAVELENGTH (HDU 2) row 2: EFF_WAVE is 0; wavelengths must be positive" {
+		t.Errorf("error %v (%+v)", err, e)
+	}
+
+	_, err = FromFiles(smallFiles(), Selection{Target: "Gamma"})
+	if !errors.As(err, &e) || e.File != "" || e.ExtName != "" || e.Row != 0 ||
+		err.Error() != `target "Gamma" not found; the files have "Alpha" (id 1 in a.oifits), "Beta" (id 2 in a.oifits), "beta" (id 1 in b.oifits)` {
+		t.Errorf("error %v (%+v)", err, e)
 	}
 }
