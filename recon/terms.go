@@ -29,9 +29,10 @@ type TermOptions struct {
 //	J(x) = Σ_t w_t χ²_t(x),
 //
 // one term for each data type of the table (package dataset; termtable.go), each in its own
-// file: for V² data χ² = Σ (|V|² − V²ₒ)²/σ² (term_vis2.go); for T3 amplitudes Σ (|B| − |B|ₒ)²/σ²
-// (term_t3amp.go); for closure phases the wrap-safe χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in
-// radians, which tends to the Gaussian form for small residuals (term_t3phi.go,
+// file: for V² data χ² = Σ (|V|² − V²ₒ)²/σ² (term_vis2.go); for T3 amplitudes
+// Σ (|B| − |B|ₒ)²/σ² (term_t3amp.go); for closure phases the wrap-safe
+// χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in radians, which tends to the Gaussian form for small
+// residuals (term_t3phi.go,
 // term_phase.go); for visibility amplitudes Σ (|V| − Aₒ)²/σ², correlated fluxes with a free
 // flux scale (term_visamp.go); and for absolute visibility phases the wrap-safe form
 // (term_visphi.go). Differential amplitudes and phases cannot be fitted by a gray image and
