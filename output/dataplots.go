@@ -5,8 +5,8 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/plots"
 	"vcz/recon"
 	"vcz/recon/fit"

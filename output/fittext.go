@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"sort"
+
 	"vcz/dataset"
 )
 

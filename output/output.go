@@ -6,8 +6,8 @@ import (
 	"runtime/debug"
 	"strings"
 	"time"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/plots"

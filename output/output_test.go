@@ -11,8 +11,8 @@ import (
 	"strings"
 	"testing"
 	"time"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/preview"

@@ -4,8 +4,8 @@ import (
 	"encoding/json"
 	"math"
 	"strconv"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/fit"
 )

@@ -7,6 +7,7 @@ import (
 	"runtime"
 	"testing"
 	"time"
+
 	"vcz/dataset"
 )
 

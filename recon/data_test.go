@@ -3,8 +3,8 @@ package recon
 import (
 	"math"
 	"testing"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 )
 

@@ -3,8 +3,8 @@ package recon_test
 import (
 	"fmt"
 	"math"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon"
 )

@@ -4,8 +4,8 @@ import (
 	"fmt"
 	"testing"
 	"time"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon/model"
 	"vcz/recon/simulate"

@@ -2,8 +2,8 @@ package recon
 
 import (
 	"fmt"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/nufft"
 )
 

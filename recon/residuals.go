@@ -2,6 +2,7 @@ package recon
 
 import (
 	"fmt"
+
 	"vcz/dataset"
 )
 

@@ -7,8 +7,8 @@ import (
 	"math"
 	"slices"
 	"sort"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon/optim"
 	"vcz/regularizers"
 )

@@ -8,11 +8,11 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
-	"vcz/dataset"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 
+	"vcz/dataset"
 	"vcz/recon/optim"
 	"vcz/regularizers"
 )

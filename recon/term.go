@@ -3,6 +3,7 @@ package recon
 import (
 	"fmt"
 	"math"
+
 	"vcz/dataset"
 )
 

@@ -3,6 +3,7 @@ package recon
 import (
 	"math"
 	"slices"
+
 	"vcz/dataset"
 )
 

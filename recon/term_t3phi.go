@@ -2,6 +2,7 @@ package recon
 
 import (
 	"math"
+
 	"vcz/dataset"
 )
 

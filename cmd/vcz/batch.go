@@ -8,8 +8,8 @@ import (
 	"strings"
 	"sync"
 	"time"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon/batch"
 	"vcz/runspec"
 	"vcz/workflow"

@@ -12,10 +12,10 @@ import (
 	"strings"
 	"testing"
 	"time"
-	"vcz/dataset"
 
 	"golang.org/x/net/html"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon"

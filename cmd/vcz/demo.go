@@ -7,8 +7,8 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/io/safefile"
 	"vcz/output"

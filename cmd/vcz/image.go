@@ -7,8 +7,8 @@ import (
 	"io"
 	"path/filepath"
 	"strings"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/output"
 	"vcz/recon"

@@ -4,8 +4,8 @@ import (
 	"fmt"
 	"io"
 	"strings"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/output"

@@ -10,8 +10,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/fitsfile"
 	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"

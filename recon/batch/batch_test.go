@@ -7,10 +7,10 @@ import (
 	"reflect"
 	"strings"
 	"testing"
-	"vcz/dataset"
 
 	"gonum.org/v1/gonum/diff/fd"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon"
 	"vcz/recon/model"

@@ -5,8 +5,8 @@ import (
 	"fmt"
 	"math"
 	"sync"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/optim"
 )

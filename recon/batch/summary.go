@@ -8,8 +8,8 @@ import (
 	"os"
 	"sort"
 	"strconv"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/io/safefile"
 )
 

@@ -2,6 +2,7 @@ package fit
 
 import (
 	"testing"
+
 	"vcz/dataset"
 )
 

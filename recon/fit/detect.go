@@ -4,9 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"vcz/dataset"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"vcz/dataset"
 )
 
 // Detection is the significance of a component: the χ² of the model

@@ -3,8 +3,8 @@ package fit_test
 import (
 	"fmt"
 	"math"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon/fit"
 	"vcz/recon/model"
 )

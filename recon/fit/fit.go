@@ -5,10 +5,10 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"vcz/dataset"
 
 	"gonum.org/v1/gonum/mat"
 
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 

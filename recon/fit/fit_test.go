@@ -8,8 +8,8 @@ import (
 	"slices"
 	"strconv"
 	"testing"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/model"
 )

@@ -4,8 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 

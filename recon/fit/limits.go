@@ -7,11 +7,11 @@ import (
 	"io"
 	"math"
 	"strconv"
-	"vcz/dataset"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 

@@ -4,8 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
-	"vcz/dataset"
 
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 
