@@ -6,6 +6,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/plots"
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -14,7 +15,7 @@ import (
 
 // DataPlots writes the (u,v) coverage and the V² of d into dir (which must exist) as
 // uv.png and vis2.png, and returns the files written.
-func DataPlots(d *recon.Data, dir string) ([]string, error) {
+func DataPlots(d *dataset.Data, dir string) ([]string, error) {
 	var uv plots.UV
 	addUV := func(u, v, l float64) {
 		uv.U = append(uv.U, u)
@@ -64,7 +65,7 @@ func DataPlots(d *recon.Data, dir string) ([]string, error) {
 // FitPlots writes the plots of a fit of a model to d: PREFIX-vis2.png (with the model's
 // curve when it is circular), PREFIX-t3phi.png, PREFIX-residuals.png and, with a companion
 // search g, PREFIX-grid.png. It returns the files written, those before an error included.
-func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
+func FitPlots(d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
 	m := res.Model
 	var written []string
 	save := func(fig *plots.Figure, err error, suffix string) error {
@@ -84,8 +85,8 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 	title := strings.Join(d.Targets, ", ")
 	obs := recon.PredictVis(d, m.VisMany)
 	var sets []plots.Residuals
-	if nv := d.Vis2.Len(); nv > 0 && res.Use&recon.Vis2 != 0 {
-		mv := obs.Of(recon.Vis2)
+	if nv := d.Vis2.Len(); nv > 0 && res.Use&dataset.Vis2 != 0 {
+		mv := obs.Of(dataset.Vis2)
 		fq := make([]float64, nv)
 		fmax := 0.0
 		for i := range mv {
@@ -109,27 +110,27 @@ func FitPlots(d *recon.Data, res *fit.Result, g *fit.GridResult, prefix string) 
 		}
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
 			models, curves, plots.Options{Title: titled("V² and fitted model", title)})
-		if err := save(fig, err, "-"+recon.Vis2.String()+".png"); err != nil {
+		if err := save(fig, err, "-"+dataset.Vis2.String()+".png"); err != nil {
 			return written, err
 		}
-		sets = append(sets, plots.Residuals{Name: recon.Vis2.Info().Label, Freq: fq, Value: plots.NormalizedResiduals(nil, d.Vis2.Value, mv, d.Vis2.Err)})
+		sets = append(sets, plots.Residuals{Name: dataset.Vis2.Info().Label, Freq: fq, Value: plots.NormalizedResiduals(nil, d.Vis2.Value, mv, d.Vis2.Err)})
 	}
-	if res.Use&recon.T3Phi != 0 {
+	if res.Use&dataset.T3Phi != 0 {
 		t := &d.T3
 		td := ClosurePhases(d)
 		var mp, fq []float64
 		for i := range t.Lambda {
 			if t.PhiOK[i] {
-				mp = append(mp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+				mp = append(mp, obs.Of(dataset.T3Phi)[i]*180/math.Pi)
 				fq = append(fq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 			}
 		}
 		if len(mp) > 0 {
 			fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: "fitted model", Value: mp}}, plots.Options{Title: titled("Closure phases and fitted model", title)})
-			if err := save(fig, err, "-"+recon.T3Phi.String()+".png"); err != nil {
+			if err := save(fig, err, "-"+dataset.T3Phi.String()+".png"); err != nil {
 				return written, err
 			}
-			sets = append(sets, plots.Residuals{Name: recon.T3Phi.Info().Label, Freq: fq, Value: plots.PhaseResiduals(nil, td.Phi, mp, td.Err)})
+			sets = append(sets, plots.Residuals{Name: dataset.T3Phi.Info().Label, Freq: fq, Value: plots.PhaseResiduals(nil, td.Phi, mp, td.Err)})
 		}
 	}
 	if len(sets) > 0 {

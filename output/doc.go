@@ -23,7 +23,7 @@
 //
 // FITSCards gives the cards in a fixed order: OBJECT, DATE, CREATOR, the regularizer, its
 // weight and value, the fit (CHI2R, CHI2EXP, then CHI2xx and NPTxx for each fitted data
-// type in the order of recon.DataTypes), iterations, stop reason, seed, grid, the quality
+// type in the order of dataset.DataTypes), iterations, stop reason, seed, grid, the quality
 // verdict (NWARN, WARNn), then HISTORY cards naming the data files, the options (the
 // canonical text of runspec.Spec, one "option:" card a line), the grid choice, the weight
 // path and the notes, and two COMMENT cards on what the image means. Keys have at most eight

@@ -6,7 +6,7 @@ import (
 	"math"
 	"sort"
 
-	"vcz/recon"
+	"vcz/dataset"
 )
 
 // WriteText writes the fit summary as the text report of 'vcz fit': the parameters with
@@ -154,13 +154,13 @@ func pm(v, e JFloat) string {
 	return s
 }
 
-// typeOrder is the place of the data type named name in recon.DataTypes (unknown names
+// typeOrder is the place of the data type named name in dataset.DataTypes (unknown names
 // last).
 func typeOrder(name string) int {
-	for i, t := range recon.DataTypes() {
+	for i, t := range dataset.DataTypes() {
 		if t.String() == name {
 			return i
 		}
 	}
-	return len(recon.DataTypes())
+	return len(dataset.DataTypes())
 }

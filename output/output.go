@@ -7,6 +7,7 @@ import (
 	"strings"
 	"time"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/plots"
@@ -32,7 +33,7 @@ type Outputs struct {
 // Run is a result with what it came from, passed in memory.
 type Run struct {
 	Files  []*oifits.File // the decoded data files (for the target's coordinates)
-	Data   *recon.Data    // the data fitted (its Files name the files in the header)
+	Data   *dataset.Data  // the data fitted (its Files name the files in the header)
 	Spec   runspec.Spec   // the options of the run
 	Result *recon.Result
 	// Label names the regularizer in the header and titles; "" means
@@ -132,7 +133,7 @@ func (o Outputs) Write(out string, r Run) (Paths, error) {
 }
 
 // Title is the title line of a preview of data d: target, date range, regularizer label.
-func Title(d *recon.Data, target, label string) string {
+func Title(d *dataset.Data, target, label string) string {
 	s := d.Summarize()
 	parts := []string{OrNone(target)}
 	if s.MJDMax > 0 {
@@ -215,31 +216,31 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 	var resid []plots.Residuals
 	if n := d.Vis2.Len(); n > 0 {
 		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err},
-			[]plots.ModelValues{{Name: label, Value: obs.Of(recon.Vis2)}}, nil,
+			[]plots.ModelValues{{Name: label, Value: obs.Of(dataset.Vis2)}}, nil,
 			plots.Options{Title: "V² — data and image model — " + OrNone(target)})
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-"+recon.Vis2.String()+".png"); err != nil {
+		if err := save(fig, "-"+dataset.Vis2.String()+".png"); err != nil {
 			return nil, err
 		}
-		rv := plots.Residuals{Name: recon.Vis2.Info().Label}
+		rv := plots.Residuals{Name: dataset.Vis2.Info().Label}
 		for i := 0; i < n; i++ {
 			rv.Freq = append(rv.Freq, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-			rv.Value = append(rv.Value, (d.Vis2.Value[i]-obs.Of(recon.Vis2)[i])/d.Vis2.Err[i])
+			rv.Value = append(rv.Value, (d.Vis2.Value[i]-obs.Of(dataset.Vis2)[i])/d.Vis2.Err[i])
 		}
 		resid = append(resid, rv)
 	}
 	td := ClosurePhases(d)
 	var tm []float64
-	rp := plots.Residuals{Name: recon.T3Phi.Info().Label}
+	rp := plots.Residuals{Name: dataset.T3Phi.Info().Label}
 	t := &d.T3
 	for i := range t.Lambda {
 		if !t.PhiOK[i] {
 			continue
 		}
-		tm = append(tm, obs.Of(recon.T3Phi)[i]*180/math.Pi)
-		dphi := math.Remainder(t.Phi[i]-obs.Of(recon.T3Phi)[i], 2*math.Pi)
+		tm = append(tm, obs.Of(dataset.T3Phi)[i]*180/math.Pi)
+		dphi := math.Remainder(t.Phi[i]-obs.Of(dataset.T3Phi)[i], 2*math.Pi)
 		rp.Freq = append(rp.Freq, plots.LongestBaseline(t.U1[i], t.V1[i], t.U2[i], t.V2[i]))
 		rp.Value = append(rp.Value, dphi/t.PhiErr[i])
 	}
@@ -249,7 +250,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		if err != nil {
 			return nil, err
 		}
-		if err := save(fig, "-"+recon.T3Phi.String()+".png"); err != nil {
+		if err := save(fig, "-"+dataset.T3Phi.String()+".png"); err != nil {
 			return nil, err
 		}
 		resid = append(resid, rp)
@@ -275,7 +276,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 }
 
 // ClosurePhases returns the usable closure phases of d (degrees) for plotting.
-func ClosurePhases(d *recon.Data) plots.T3Data {
+func ClosurePhases(d *dataset.Data) plots.T3Data {
 	t := &d.T3
 	var td plots.T3Data
 	for i := range t.Lambda {

@@ -12,6 +12,7 @@ import (
 	"testing"
 	"time"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/preview"
@@ -34,7 +35,7 @@ func fixedRun(t testing.TB) Run {
 		t.Fatal(err)
 	}
 	files := []*oifits.File{f}
-	d, err := recon.FromFiles(files, recon.Selection{})
+	d, err := dataset.FromFiles(files, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -58,7 +59,7 @@ func fixedRun(t testing.TB) Run {
 		Image: img,
 		Grid: recon.GridChoice{Grid: recon.Grid{N: n, Pixel: 0.25 * recon.Mas}, FOV: 4 * recon.Mas, Resolution: 1.1 * recon.Mas,
 			SizeModel: "Gaussian", Size: 1.5 * recon.Mas, Reasons: []string{"grid of 16 pixels given", "pixel λ/(2·Bmax)/4 = 0.25 mas"}},
-		Chi2:        []recon.TermChi2{{Type: recon.Vis2, N: 120, Chi2r: 1.0625}, {Type: recon.T3Phi, N: 80, Chi2r: 0.875}},
+		Chi2:        []recon.TermChi2{{Type: dataset.Vis2, N: 120, Chi2r: 1.0625}, {Type: dataset.T3Phi, N: 80, Chi2r: 0.875}},
 		Chi2r:       0.9875,
 		Chi2rTarget: 0.95,
 		Reg:         3.25,

@@ -5,6 +5,7 @@ import (
 	"math"
 	"strconv"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/fit"
 )
@@ -129,7 +130,7 @@ type GridJ struct {
 }
 
 // NewInspectReport is the summary of a data set.
-func NewInspectReport(d *recon.Data) InspectReport {
+func NewInspectReport(d *dataset.Data) InspectReport {
 	s := d.Summarize()
 	r := InspectReport{
 		Files:      s.Files,

@@ -7,6 +7,8 @@ import (
 	"runtime"
 	"testing"
 	"time"
+
+	"vcz/dataset"
 )
 
 // timedTransform adds up the time spent in the transform.
@@ -33,7 +35,7 @@ func (t timedTransform) Adjoint(dst []float64, vis []complex128) {
 // 15 baselines × 48 × 20 = 14 400 V² and 20 triangles × 48 × 20 = 19 200 closure phases, of a
 // uniform disc of 4 mas with a companion of 30 % at 6 mas (the disc formula of Born & Wolf,
 // sect. 8.5.2, plus a point source).
-func nightData() *Data {
+func nightData() *dataset.Data {
 	rng := rand.New(rand.NewPCG(11, 11))
 	a := newSynthArray(rng, 6, 60)
 	theta, f := 4*Mas, 0.3
@@ -52,7 +54,7 @@ func nightData() *Data {
 // Forward plus one Adjoint, measured apart before the runs and inside them.
 func BenchmarkImageNight(b *testing.B) {
 	d := nightData()
-	s := d.summaryGeometry()
+	s := d.Summarize()
 	g := Grid{N: 128, Pixel: s.Resolution / 4}
 	// The cost of one Forward + Adjoint on the distinct points.
 	m, err := NewForwardModel(d, g, true, nil)
@@ -124,7 +126,7 @@ func BenchmarkImageNight(b *testing.B) {
 
 func BenchmarkObjective(b *testing.B) {
 	d := nightData()
-	s := d.summaryGeometry()
+	s := d.Summarize()
 	for _, n := range []int{64, 128} {
 		b.Run(map[int]string{64: "64", 128: "128"}[n], func(b *testing.B) {
 			g := Grid{N: n, Pixel: s.Resolution / 4}

@@ -1,19 +1,11 @@
-// Package recon is the reconstruction engine of vcz: the data set model, the forward model,
-// the data terms and the constrained minimisation that turns interferometric data into an
-// image.
+// Package recon is the reconstruction engine of vcz: the forward model, the data terms and
+// the constrained minimisation that turns interferometric data into an image.
 //
-// # Data set model
+// # Data
 //
-// FromFiles merges the data tables of several OIFITS files (package vcz/io/oifits) into one
-// Data of flat, typed slices in SI units and radians: per V² point u, v (cycles per radian,
-// UCOORD/λ and VCOORD/λ), λ, Δλ, MJD, value, error and origin (file, HDU, row, channel); per
-// closure triangle u1, v1, u2, v2, λ, T3AMP ± error and T3PHI ± error; per complex visibility
-// u, v, amplitude ± error, phase ± error and their AMPTYP / PHITYP. Flagged points and
-// non-finite values are dropped and counted per table type; a Selection keeps a target, a
-// wavelength range, an MJD range, instruments and data types. Data.Summarize gives the figures
-// of `vcz inspect`: baselines, the nominal resolution λmin/(2·Bmax), the largest scale
-// λmax/Bmin, a suggested grid, the MJD range and the number of nights (groups of epochs
-// separated by more than NightGap = 0.5 day).
+// The data come as a *dataset.Data (package vcz/dataset: the data set model, its selection
+// and summary, and the table of data types); recon adds the grid chosen from the data
+// (ChooseGrid) and everything that evaluates a model against them.
 //
 // # Conventions
 //
@@ -26,8 +18,8 @@
 // NewForwardModel collects the distinct (u,v) points of all data — closure-triangle baselines
 // usually coincide with V² baselines, and a baseline given with the opposite sign is the
 // conjugate of a stored one — and makes one transform (package vcz/nufft) for them. The data
-// types are one table (types.go: word, FITS key, label, unit, OIFITS table) and each has one
-// data term in its own file (term_*.go: formula and source, χ² with its gradient with
+// types are one table (package dataset: word, FITS key, label, unit, OIFITS table) and each
+// has one data term (termtable.go) in its own file (term_*.go: formula and source, χ² with its gradient with
 // respect to the model visibilities, residuals for least squares, expected χ², model
 // values). Objective sums the weighted χ² of V² (Gaussian), closure phases (wrap-safe
 // 2(1 − cos Δφ)/σ²), T3 amplitudes (Gaussian on |B|) and complex visibilities (amplitudes;

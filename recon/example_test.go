@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon"
 )
@@ -20,7 +21,7 @@ func Example() {
 			{TargetID: 1, MJD: 60101.1, Data: []float64{0.20}, Err: []float64{0.02}, UCoord: 60, VCoord: 80, Flag: []bool{true}},
 		}}},
 	}
-	d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 	if err != nil {
 		fmt.Println(err)
 		return

@@ -5,6 +5,7 @@ import (
 	"testing"
 	"time"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
@@ -23,7 +24,7 @@ type simCase struct {
 	flat bool
 }
 
-func simulateCase(t testing.TB, c simCase) (*Data, *model.Model) {
+func simulateCase(t testing.TB, c simCase) (*dataset.Data, *model.Model) {
 	t.Helper()
 	plan, _ := simulate.Demo()
 	if c.hours != nil {
@@ -49,7 +50,7 @@ func simulateCase(t testing.TB, c simCase) (*Data, *model.Model) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, err := FromFiles([]*oifits.File{f}, Selection{})
+	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -66,7 +67,7 @@ func cliReg(name string, g Grid) (Regularizer, error) {
 	return regularizers.Build([]regularizers.NamedTerm{{Name: name, Rel: 1}}, g.N, g.N, regularizers.Options{})
 }
 
-func fidelityOf(t testing.TB, d *Data, m *model.Model, p Problem, s Settings) (ncc, l1 float64, r *Result) {
+func fidelityOf(t testing.TB, d *dataset.Data, m *model.Model, p Problem, s Settings) (ncc, l1 float64, r *Result) {
 	t.Helper()
 	p.Data = d
 	t0 := time.Now()

@@ -3,6 +3,7 @@ package recon
 import (
 	"fmt"
 
+	"vcz/dataset"
 	"vcz/nufft"
 )
 
@@ -47,7 +48,7 @@ type ForwardModel struct {
 // transform for them with mk (nil means NewTransform(0)). With normalize false the model is
 // Σ x_p exp(...) without division by the flux, for images whose flux is known (the convex
 // complex-visibility case).
-func NewForwardModel(d *Data, g Grid, normalize bool, mk TransformFunc) (*ForwardModel, error) {
+func NewForwardModel(d *dataset.Data, g Grid, normalize bool, mk TransformFunc) (*ForwardModel, error) {
 	if g.N < 2 || !(g.Pixel > 0) {
 		return nil, fmt.Errorf("recon: grid %d × %d of %g rad is not usable", g.N, g.N, g.Pixel)
 	}

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"vcz/dataset"
 )
 
 // Grid is a square image grid: N×N pixels of Pixel radians, laid out as CONVENTIONS.md says.
@@ -84,9 +86,9 @@ func nextFriendly(n int) int {
 // constrained scale λmax/Bmin (but not less than 1.25 × ObjectSize when given); N is even
 // with no prime factor above 5 (Friendly), between MinN and MaxN. Every step can be overridden
 // through opt, and the reasoning is returned for printing.
-func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
+func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 	var g GridChoice
-	s := d.summaryGeometry()
+	s := d.Summarize()
 	if s.BaselineMax <= 0 {
 		return g, errors.New("recon: no baselines to choose a grid from")
 	}
@@ -178,41 +180,6 @@ func ChooseGrid(d *Data, opt GridOptions) (GridChoice, error) {
 // Mas is one milliarcsecond in radians.
 const Mas = math.Pi / (180 * 3600 * 1000)
 
-// summaryGeometry computes the baseline and wavelength figures of Summary without the grid.
-func (d *Data) summaryGeometry() Summary {
-	var s Summary
-	bmin, bmax := math.Inf(1), 0.0
-	lmin, lmax := math.Inf(1), 0.0
-	add := func(u, v, l float64) {
-		b := math.Hypot(u, v) * l
-		if b > 0 {
-			bmin = math.Min(bmin, b)
-		}
-		bmax = math.Max(bmax, b)
-		lmin = math.Min(lmin, l)
-		lmax = math.Max(lmax, l)
-	}
-	for i := range d.Vis2.Value {
-		add(d.Vis2.U[i], d.Vis2.V[i], d.Vis2.Lambda[i])
-	}
-	t := &d.T3
-	for i := range t.Lambda {
-		add(t.U1[i], t.V1[i], t.Lambda[i])
-		add(t.U2[i], t.V2[i], t.Lambda[i])
-		add(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i], t.Lambda[i])
-	}
-	for i := range d.Vis.Lambda {
-		add(d.Vis.U[i], d.Vis.V[i], d.Vis.Lambda[i])
-	}
-	if bmax > 0 {
-		s.BaselineMax, s.Resolution = bmax, lmin/(2*bmax)
-	}
-	if !math.IsInf(bmin, 1) {
-		s.BaselineMin, s.LargestScale = bmin, lmax/bmin
-	}
-	return s
-}
-
 // UniformDiscV returns the visibility of a uniform disc of angular diameter theta (rad) at
 // spatial frequency q (cycles/rad): 2·J1(x)/x with x = π·θ·q (Born & Wolf, Principles of
 // Optics, sect. 8.5.2).
@@ -235,7 +202,7 @@ func GaussianV(fwhm, q float64) float64 {
 // diameter (FWHM) and returns the better model and the object size: the disc diameter or twice
 // the Gaussian FWHM (which holds all but 1/16 of the peak). At most 2000 points are used, taken
 // at a regular stride, which is plenty for one parameter.
-func fitSize(d *Data) (string, float64, bool) {
+func fitSize(d *dataset.Data) (string, float64, bool) {
 	p := &d.Vis2
 	n := p.Len()
 	if n == 0 {

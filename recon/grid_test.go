@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"vcz/dataset"
 )
 
 // TestChooseGridFit checks the size fit on noise-free data made from the uniform-disc formula
@@ -38,7 +40,7 @@ func TestChooseGridFit(t *testing.T) {
 			if g.SizeModel != tc.model || math.Abs(g.Size/tc.size-1) > 1e-4 {
 				t.Errorf("fit %s %.5g mas, want %s %.5g mas", g.SizeModel, g.Size/Mas, tc.model, tc.size/Mas)
 			}
-			s := d.summaryGeometry()
+			s := d.Summarize()
 			if math.Abs(g.Pixel-s.Resolution/4) > 1e-12*g.Pixel || g.Resolution != s.Resolution {
 				t.Errorf("pixel %g, resolution %g", g.Pixel, s.Resolution)
 			}
@@ -70,7 +72,7 @@ func TestChooseGridOverrides(t *testing.T) {
 	if err != nil || g.N != 50 || g.Pixel != 0.3*Mas {
 		t.Errorf("overrides: %+v %v", g.Grid, err)
 	}
-	if _, err := ChooseGrid(&Data{}, GridOptions{}); err == nil {
+	if _, err := ChooseGrid(&dataset.Data{}, GridOptions{}); err == nil {
 		t.Error("no error for an empty data set")
 	}
 }

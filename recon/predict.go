@@ -3,6 +3,8 @@ package recon
 import (
 	"fmt"
 	"math"
+
+	"vcz/dataset"
 )
 
 // Prediction holds the model values of every datum of a Data, for each data type in a slice
@@ -15,12 +17,12 @@ type Prediction struct {
 }
 
 // Of returns the model values of one data type.
-func (p *Prediction) Of(t DataType) []float64 { return p.values[t.index()] }
+func (p *Prediction) Of(t dataset.DataType) []float64 { return p.values[t.Index()] }
 
 // Predict computes the model observables of img (N² pixels on grid g, any positive flux;
 // the model is normalised by it) at the data points of d. mk makes the transform; nil means
 // NewTransform(0).
-func Predict(d *Data, g Grid, img []float64, mk TransformFunc) (*Prediction, error) {
+func Predict(d *dataset.Data, g Grid, img []float64, mk TransformFunc) (*Prediction, error) {
 	m, err := NewForwardModel(d, g, true, mk)
 	if err != nil {
 		return nil, err
@@ -38,16 +40,16 @@ func Predict(d *Data, g Grid, img []float64, mk TransformFunc) (*Prediction, err
 // visibilities vis sets: vis(dst, u, v) writes the normalised visibility at each point
 // (u[k], v[k]) (cycles/rad, the sign convention of CONVENTIONS.md) to dst[k], as
 // recon/model's Model.VisMany does.
-func PredictVis(d *Data, vis func(dst []complex128, u, v []float64)) *Prediction {
+func PredictVis(d *dataset.Data, vis func(dst []complex128, u, v []float64)) *Prediction {
 	s := newSampling(d, nil)
 	buf := make([]complex128, len(s.U))
 	vis(buf, s.U, s.V)
 	return predict(d, &s, buf)
 }
 
-func predict(d *Data, s *sampling, vis []complex128) *Prediction {
+func predict(d *dataset.Data, s *sampling, vis []complex128) *Prediction {
 	p := &Prediction{}
-	for i, r := range typeTable {
+	for i, r := range termTable {
 		p.values[i] = r.kind.predict(d, s, vis)
 	}
 	return p

@@ -1,11 +1,15 @@
 package recon
 
-import "fmt"
+import (
+	"fmt"
+
+	"vcz/dataset"
+)
 
 // ResidualOptions select the data of Residuals.
 type ResidualOptions struct {
 	// Use is the set of data types fitted; 0 means every type.
-	Use DataType
+	Use dataset.DataType
 	// Stride keeps every Stride-th datum of each type's list (0 or 1: all), for cheap maps of
 	// χ² over a few parameters.
 	Stride int
@@ -25,20 +29,20 @@ type Residuals struct {
 	terms   [nTypes]term // nil for the types not in use
 	n, off  [nTypes]int
 	total   int
-	use     DataType
+	use     dataset.DataType
 	notices []string
 	c       evalCtx
 }
 
 // NewResiduals selects the data of d that a fit of the types opt.Use uses.
-func NewResiduals(d *Data, opt ResidualOptions) *Residuals {
+func NewResiduals(d *dataset.Data, opt ResidualOptions) *Residuals {
 	use := opt.Use
 	if use == 0 {
-		use = AllTypes
+		use = dataset.AllTypes
 	}
 	r := &Residuals{}
 	c := termConfig{lsq: true, stride: opt.Stride}
-	for i, row := range typeTable {
+	for i, row := range termTable {
 		r.off[i] = r.total
 		if use&row.Type == 0 {
 			continue
@@ -71,10 +75,10 @@ func (r *Residuals) Points() (u, v []float64) { return r.s.U, r.s.V }
 func (r *Residuals) Len() int { return r.total }
 
 // Use returns the data types that have data among the residuals.
-func (r *Residuals) Use() DataType { return r.use }
+func (r *Residuals) Use() dataset.DataType { return r.use }
 
 // N returns the number of residuals of one data type.
-func (r *Residuals) N(t DataType) int { return r.n[t.index()] }
+func (r *Residuals) N(t dataset.DataType) int { return r.n[t.Index()] }
 
 // Notices lists what the residuals leave out, one sentence each.
 func (r *Residuals) Notices() []string { return r.notices }
@@ -116,8 +120,8 @@ func (r *Residuals) Chi2(vis []complex128) float64 {
 }
 
 // Chi2Of returns the χ² of one data type from residuals res written by Eval.
-func (r *Residuals) Chi2Of(t DataType, res []float64) float64 {
-	i := t.index()
+func (r *Residuals) Chi2Of(t dataset.DataType, res []float64) float64 {
+	i := t.Index()
 	s := 0.0
 	for _, x := range res[r.off[i] : r.off[i]+r.n[i]] {
 		s += x * x

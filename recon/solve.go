@@ -8,6 +8,7 @@ import (
 	"slices"
 	"sort"
 
+	"vcz/dataset"
 	"vcz/recon/optim"
 	"vcz/regularizers"
 )
@@ -25,7 +26,7 @@ type RegularizerFunc func(g Grid) (Regularizer, error)
 
 // Problem is a reconstruction problem: data, grid, data terms, regularizer and start.
 type Problem struct {
-	Data *Data
+	Data *dataset.Data
 	// Grid, when N > 0, is the grid; otherwise ChooseGrid(Data, GridOptions) picks it.
 	Grid        Grid
 	GridOptions GridOptions
@@ -109,7 +110,7 @@ type Progress struct {
 
 // TermChi2 is the χ² of one data type.
 type TermChi2 struct {
-	Type   DataType
+	Type   dataset.DataType
 	N      int
 	Weight float64
 	Chi2   float64
@@ -132,7 +133,7 @@ type Result struct {
 	Image []float64 // N² pixels, normalised to a total flux of 1 (unless Unnormalized)
 	Grid  GridChoice
 
-	Chi2  []TermChi2 // per used data type, in the order of DataTypes()
+	Chi2  []TermChi2 // per used data type, in the order of dataset.DataTypes()
 	Chi2r float64    // Σχ²/ΣN over the used types
 	// Chi2rTarget is the expectation of Chi2r for data about the true model (ExpectedChi2r),
 	// the target of the automatic weight.
@@ -337,7 +338,7 @@ const maxRestarts = 3
 // ftolWindow iterations) can be met by a quasi-Newton method creeping with tiny steps, so a
 // run that meets it is restarted from where it is with fresh memory, whose first step moves
 // the image by a few per cent; it has converged when the restarted run gains nothing either.
-func (e *engine) run(x0 []float64, mu float64, use DataType, maxIter int, stage string) (runOut, error) {
+func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int, stage string) (runOut, error) {
 	prev := e.obj.Use()
 	e.obj.SetUse(use)
 	defer e.obj.SetUse(prev)
@@ -447,7 +448,7 @@ func (e *engine) measure(x []float64, mu float64) (chi2r, reg float64) {
 }
 
 // amplitudeTypes are the data types that do not depend on the position of the object.
-const amplitudeTypes = Vis2 | T3Amp | VisAmp
+const amplitudeTypes = dataset.Vis2 | dataset.T3Amp | dataset.VisAmp
 
 // Solve reconstructs an image. The steps: choose the grid (unless given); make the start
 // image; with CoarseToFine, reconstruct on the half grid first and start from its upsampled
@@ -478,7 +479,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		p.Grid = g.Grid
 	} else if p.Grid.N > 0 {
 		g = GridChoice{Grid: p.Grid, FOV: float64(p.Grid.N) * p.Grid.Pixel}
-		geo := p.Data.summaryGeometry()
+		geo := p.Data.Summarize()
 		g.Resolution, g.LargestScale = geo.Resolution, geo.LargestScale
 		if model, size, ok := fitSize(p.Data); ok {
 			g.SizeModel, g.Size = model, size
@@ -537,7 +538,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	}
 	e.obj.SetPhaseSmoothing(smoothing)
 	var first *runOut // the smoothed-phase run at mu from x0, when done
-	ampFirst := !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(T3Phi|VisPhi) != 0
+	ampFirst := !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0
 	if ampFirst && !s.CoarseToFine && smoothStart(p.Start, g) {
 		r, err := e.run(x0, mu, use&amplitudeTypes, s.PathIter, "amplitudes")
 		if err != nil {
@@ -550,7 +551,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		// orientations and go on from the lower objective.
 		// The run from the chosen orientation is the first step of the weight search, or
 		// the smoothed-phase run at a given weight.
-		if use&T3Phi != 0 {
+		if use&dataset.T3Phi != 0 {
 			a, err := e.run(x0, mu, use, s.PathIter, "smoothed phases")
 			if err != nil {
 				return nil, err
@@ -584,7 +585,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	var ws weightSearch
 	if !auto && first != nil {
 		x0 = first.X
-	} else if !auto && smoothing > 0 && use&(T3Phi|VisPhi) != 0 {
+	} else if !auto && smoothing > 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0 {
 		// The exact phase terms are stiff where the model amplitudes pass near zero: fit
 		// the smoothed ones first, as the weight search does (measured: from the amplitude
 		// pass straight to the exact terms, a fixed-weight binary stopped at χ²ᵣ = 253).
@@ -604,7 +605,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		res.Chi2rFloor, res.Chi2rAim = ws.floor, ws.target
 	}
 	e.obj.SetPhaseSmoothing(0)
-	if use&VisPhi == 0 && !p.Unnormalized && p.Support == 0 {
+	if use&dataset.VisPhi == 0 && !p.Unnormalized && p.Support == 0 {
 		x0 = append([]float64(nil), x0...)
 		if sh := recentre(x0, g.N); sh != [2]int{} {
 			res.Shift = sh
@@ -731,7 +732,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		res.StopReason = fmt.Sprintf("converged: relative objective change below %g per iteration over %d iterations, confirmed by a restart", ftol, ftolWindow)
 	}
 	res.TotalIter += e.total
-	vin := verdictInput{expect: map[DataType]float64{}, tail: bestTail, auto: auto, maxIters: s.MaxIter,
+	vin := verdictInput{expect: map[dataset.DataType]float64{}, tail: bestTail, auto: auto, maxIters: s.MaxIter,
 		stalled: best.Stalled && !best.Converged, atEdge: edge}
 	for _, t := range typeList {
 		if use&t != 0 {
@@ -1069,7 +1070,7 @@ func sameImage(a, b []float64) bool {
 // phases change sign. With few or noisy closure phases the search can settle in the turned
 // basin, whose image fits the amplitudes as well and the phases worse; when the turned image
 // evaluates lower, it is refitted and returned with ok set if its objective stays lower.
-func (e *engine) tryReflection(best runOut, mu float64, use DataType, maxIter int) (runOut, bool, error) {
+func (e *engine) tryReflection(best runOut, mu float64, use dataset.DataType, maxIter int) (runOut, bool, error) {
 	n := e.grid.N
 	rot := reflect(best.X, n)
 	f := e.f(mu)
@@ -1134,3 +1135,6 @@ func recentre(img []float64, n int) [2]int {
 
 // lbfgsMemory is the number of correction pairs of the quasi-Newton method.
 var lbfgsMemory = 5
+
+// finite reports whether x is neither NaN nor infinite.
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 
+	"vcz/dataset"
 	"vcz/recon/optim"
 	"vcz/regularizers"
 )
@@ -21,7 +22,7 @@ func maxentReg(g Grid) (Regularizer, error) { return &regularizers.MaxEnt{NX: g.
 
 // standardObs is the observation used by the quality tests: 6 telescopes within 50 m, 8
 // channels 1.5–2.4 µm, 10 hour angles over ±1.5 rad: 1200 V² and 1600 closure phases.
-func standardObs(seed uint64, vis func(u, v float64) complex128) *Data {
+func standardObs(seed uint64, vis func(u, v float64) complex128) *dataset.Data {
 	rng := rand.New(rand.NewPCG(seed, seed))
 	a := newSynthArray(rng, 6, 50)
 	return observe(rng, a, vis, synthOpts{nchan: 8, nha: 10, lmin: 1.5e-6, lmax: 2.4e-6, hspan: 1.5,
@@ -30,7 +31,7 @@ func standardObs(seed uint64, vis func(u, v float64) complex128) *Data {
 
 // reconV2 replaces the V² values of d by those of the image, to fit a model to the
 // reconstruction's visibilities.
-func reconV2(t *testing.T, d *Data, r *Result) *Data {
+func reconV2(t *testing.T, d *dataset.Data, r *Result) *dataset.Data {
 	t.Helper()
 	m, err := NewForwardModel(d, r.Grid.Grid, true, exactTransform)
 	if err != nil {
@@ -61,7 +62,7 @@ func TestSolveUniformDisc(t *testing.T) {
 	}
 }
 
-func testDisc(t *testing.T, d *Data, theta float64, reg RegularizerFunc) {
+func testDisc(t *testing.T, d *dataset.Data, theta float64, reg RegularizerFunc) {
 	var last = map[string]float64{}
 	decreasing := true
 	r, err := Solve(Problem{Data: d, Reg: reg}, Settings{Seed: 1, Progress: func(p Progress) bool {
@@ -107,7 +108,7 @@ func testDisc(t *testing.T, d *Data, theta float64, reg RegularizerFunc) {
 	if !strings.HasPrefix(r.StopReason, "converged") {
 		t.Errorf("stop reason %q", r.StopReason)
 	}
-	if len(r.Path) == 0 || r.Weight <= 0 || len(r.Chi2) != 2 || r.Chi2[0].Type != Vis2 || r.Chi2[1].Type != T3Phi {
+	if len(r.Path) == 0 || r.Weight <= 0 || len(r.Chi2) != 2 || r.Chi2[0].Type != dataset.Vis2 || r.Chi2[1].Type != dataset.T3Phi {
 		t.Errorf("result: path %v weight %g chi2 %+v", r.Path, r.Weight, r.Chi2)
 	}
 }
@@ -159,7 +160,7 @@ func TestSolveBinary(t *testing.T) {
 	}
 }
 
-func testBinary(t *testing.T, d *Data, sep, pa, ratio float64, reg RegularizerFunc, again bool) {
+func testBinary(t *testing.T, d *dataset.Data, sep, pa, ratio float64, reg RegularizerFunc, again bool) {
 	r, err := Solve(Problem{Data: d, Reg: reg, GridOptions: GridOptions{N: 48}}, Settings{Seed: 1})
 	if err != nil {
 		t.Fatal(err)
@@ -215,7 +216,7 @@ func TestSolveConvex(t *testing.T) {
 	for i := range truth {
 		truth[i] /= f
 	}
-	d := &Data{Targets: []string{"T"}}
+	d := &dataset.Data{Targets: []string{"T"}}
 	// Short baselines only, where |V| stays well above 0: the tangential error A·σφ of a
 	// tiny amplitude would make the problem too ill-conditioned to solve to 1e-6.
 	for k := 0; k < 70; k++ {
@@ -239,9 +240,9 @@ func TestSolveConvex(t *testing.T) {
 		q.PhiErr = append(q.PhiErr, 0.3+0.3*rng.Float64())
 		q.AmpOK = append(q.AmpOK, true)
 		q.PhiOK = append(q.PhiOK, true)
-		q.AmpTyp = append(q.AmpTyp, AmpAbsolute)
-		q.PhiTyp = append(q.PhiTyp, PhiAbsolute)
-		q.Origin = append(q.Origin, Origin{})
+		q.AmpTyp = append(q.AmpTyp, dataset.AmpAbsolute)
+		q.PhiTyp = append(q.PhiTyp, dataset.PhiAbsolute)
+		q.Origin = append(q.Origin, dataset.Origin{})
 	}
 	const mu = 30.0
 	r, err := Solve(Problem{Data: d, Grid: Grid{N: n, Pixel: pixel}, Terms: TermOptions{ComplexVis: true},
@@ -378,7 +379,7 @@ func TestRecentre(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	o := NewObjective(d, m, TermOptions{Use: Vis2 | T3Amp | T3Phi})
+	o := NewObjective(d, m, TermOptions{Use: dataset.Vis2 | dataset.T3Amp | dataset.T3Phi})
 	o.Eval(nil, img)
 	before := o.chi2
 	f0 := 0.0
@@ -399,8 +400,8 @@ func TestRecentre(t *testing.T) {
 		t.Errorf("move %v, centroid (%.2f, %.2f), flux %g of %g", sh, cx/f, cy/f, f, f0)
 	}
 	o.Eval(nil, img)
-	for _, ty := range []DataType{Vis2, T3Amp, T3Phi} {
-		a, b := before[ty.index()], o.chi2[ty.index()]
+	for _, ty := range []dataset.DataType{dataset.Vis2, dataset.T3Amp, dataset.T3Phi} {
+		a, b := before[ty.Index()], o.chi2[ty.Index()]
 		if math.Abs(a-b) > 1e-6*math.Abs(a) {
 			t.Errorf("χ² of %v changed from %g to %g", ty, a, b)
 		}
@@ -434,20 +435,20 @@ func TestReflect(t *testing.T) {
 		t.Fatal(err)
 	}
 	moved := 0
-	for i := range a.Of(T3Phi) {
+	for i := range a.Of(dataset.T3Phi) {
 		// The direct sums round differently for the two images, by up to about 10⁻¹² in
 		// each visibility: an amplitude error of that size and a phase error of that size
 		// over |B| on faint triangles.
-		if math.Abs(a.Of(T3Amp)[i]-b.Of(T3Amp)[i]) > 1e-10 || math.Abs(WrapPhase(a.Of(T3Phi)[i]+b.Of(T3Phi)[i])) > 1e-9+1e-11/a.Of(T3Amp)[i] {
-			t.Errorf("triangle %d: amplitude %g → %g, closure phase %g → %g", i, a.Of(T3Amp)[i], b.Of(T3Amp)[i], a.Of(T3Phi)[i], b.Of(T3Phi)[i])
+		if math.Abs(a.Of(dataset.T3Amp)[i]-b.Of(dataset.T3Amp)[i]) > 1e-10 || math.Abs(WrapPhase(a.Of(dataset.T3Phi)[i]+b.Of(dataset.T3Phi)[i])) > 1e-9+1e-11/a.Of(dataset.T3Amp)[i] {
+			t.Errorf("triangle %d: amplitude %g → %g, closure phase %g → %g", i, a.Of(dataset.T3Amp)[i], b.Of(dataset.T3Amp)[i], a.Of(dataset.T3Phi)[i], b.Of(dataset.T3Phi)[i])
 		}
-		if math.Abs(WrapPhase(a.Of(T3Phi)[i])) > 0.1 {
+		if math.Abs(WrapPhase(a.Of(dataset.T3Phi)[i])) > 0.1 {
 			moved++
 		}
 	}
-	for i := range a.Of(Vis2) {
-		if math.Abs(a.Of(Vis2)[i]-b.Of(Vis2)[i]) > 1e-10 {
-			t.Errorf("V² %d: %g → %g", i, a.Of(Vis2)[i], b.Of(Vis2)[i])
+	for i := range a.Of(dataset.Vis2) {
+		if math.Abs(a.Of(dataset.Vis2)[i]-b.Of(dataset.Vis2)[i]) > 1e-10 {
+			t.Errorf("V² %d: %g → %g", i, a.Of(dataset.Vis2)[i], b.Of(dataset.Vis2)[i])
 		}
 	}
 	if moved == 0 {

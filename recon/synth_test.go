@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+
+	"vcz/dataset"
 )
 
 // Synthetic observations for the tests and benchmarks. The (u,v) tracks follow from Earth
@@ -53,8 +55,8 @@ type synthOpts struct {
 // observe returns V², closure phases (all triangles) and, when asked, complex visibilities of
 // a source with visibility function vis(u, v) (normalised, CONVENTIONS.md sign), with Gaussian
 // noise from rng when o.noise is set.
-func observe(rng *rand.Rand, a synthArray, vis func(u, v float64) complex128, o synthOpts) *Data {
-	d := &Data{Targets: []string{"TEST"}}
+func observe(rng *rand.Rand, a synthArray, vis func(u, v float64) complex128, o synthOpts) *dataset.Data {
+	d := &dataset.Data{Targets: []string{"TEST"}}
 	nt := len(a.xyz)
 	for h := 0; h < o.nha; h++ {
 		ha := -o.hspan + 2*o.hspan*(float64(h)+0.5)/float64(o.nha)
@@ -82,7 +84,7 @@ func observe(rng *rand.Rand, a synthArray, vis func(u, v float64) complex128, o 
 					p.MJD = append(p.MJD, 60000+float64(h)/100)
 					p.Value = append(p.Value, real(V)*real(V)+imag(V)*imag(V)+noise(o.sigV2))
 					p.Err = append(p.Err, o.sigV2)
-					p.Origin = append(p.Origin, Origin{Row: h, Channel: c})
+					p.Origin = append(p.Origin, dataset.Origin{Row: h, Channel: c})
 					if o.vis {
 						q := &d.Vis
 						q.U = append(q.U, u)
@@ -96,9 +98,9 @@ func observe(rng *rand.Rand, a synthArray, vis func(u, v float64) complex128, o 
 						q.PhiErr = append(q.PhiErr, o.sigVP)
 						q.AmpOK = append(q.AmpOK, true)
 						q.PhiOK = append(q.PhiOK, true)
-						q.AmpTyp = append(q.AmpTyp, AmpAbsolute)
-						q.PhiTyp = append(q.PhiTyp, PhiAbsolute)
-						q.Origin = append(q.Origin, Origin{})
+						q.AmpTyp = append(q.AmpTyp, dataset.AmpAbsolute)
+						q.PhiTyp = append(q.PhiTyp, dataset.PhiAbsolute)
+						q.Origin = append(q.Origin, dataset.Origin{})
 					}
 				}
 			}
@@ -134,7 +136,7 @@ func observe(rng *rand.Rand, a synthArray, vis func(u, v float64) complex128, o 
 							t.AmpErr = append(t.AmpErr, math.NaN())
 							t.AmpOK = append(t.AmpOK, false)
 						}
-						t.Origin = append(t.Origin, Origin{})
+						t.Origin = append(t.Origin, dataset.Origin{})
 					}
 				}
 			}

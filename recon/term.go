@@ -3,10 +3,13 @@ package recon
 import (
 	"fmt"
 	"math"
+
+	"vcz/dataset"
 )
 
-// The data terms. Each data type of the table (types.go) has one term, in its own file
-// (term_vis2.go, term_t3amp.go, term_t3phi.go, term_visamp.go, term_visphi.go), which holds
+// The data terms. Each data type of the table (package dataset) has one term (termtable.go),
+// in its own file (term_vis2.go, term_t3amp.go, term_t3phi.go, term_visamp.go,
+// term_visphi.go), which holds
 // its formula and source, its χ² with the gradient with respect to the model visibilities,
 // its normalised residuals for least squares, its expected χ² and its model values. The image
 // objective (Objective), the residuals of analytic model fits (Residuals, used by recon/fit)
@@ -20,13 +23,11 @@ import (
 // termKind is the part of a data term that does not depend on a data set: one value per row
 // of the table of data types, defined in the term's file.
 type termKind interface {
-	// count returns the number of usable measurements of the type in d.
-	count(d *Data) int
 	// bind selects the data of d that the term fits and returns the term over them.
-	bind(d *Data, c termConfig) term
+	bind(d *dataset.Data, c termConfig) term
 	// predict returns the model value of every datum of the type's table in d, usable or not
 	// (phases in radians in (−π, π]), from the model visibilities vis at the points of s.
-	predict(d *Data, s *sampling, vis []complex128) []float64
+	predict(d *dataset.Data, s *sampling, vis []complex128) []float64
 }
 
 // termConfig says how a term selects its data.
@@ -133,7 +134,7 @@ type needs struct {
 }
 
 // newNeeds returns the marks for d, all false.
-func newNeeds(d *Data) *needs {
+func newNeeds(d *dataset.Data) *needs {
 	return &needs{vis2: make([]bool, d.Vis2.Len()), t3: make([]bool, d.T3.Len()), vis: make([]bool, d.Vis.Len())}
 }
 
@@ -149,7 +150,7 @@ func mark(f []bool, idx []int32) {
 // baseline of d, and with either sign). The points come in the order of the data: V², then
 // the three sides of each triangle, then the complex visibilities. Data that n does not mark
 // get no point.
-func newSampling(d *Data, n *needs) sampling {
+func newSampling(d *dataset.Data, n *needs) sampling {
 	var s sampling
 	all := n == nil
 	if all {

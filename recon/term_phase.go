@@ -3,6 +3,8 @@ package recon
 import (
 	"math"
 	"slices"
+
+	"vcz/dataset"
 )
 
 // The wrap-safe phase term shared by closure phases (term_t3phi.go) and visibility phases
@@ -53,7 +55,7 @@ func smoothPhase(z complex128, eta, is2 float64) (float64, complex128) {
 
 // phaseScales returns the typical model amplitudes of the closure-phase and visibility-phase
 // terms of d (SetPhaseSmoothing): the median triple amplitude and the median |V|.
-func phaseScales(d *Data) (b, v float64) {
+func phaseScales(d *dataset.Data) (b, v float64) {
 	var amps []float64
 	for i, w := range d.Vis2.Value {
 		if d.Vis2.Err[i] > 0 {
@@ -61,7 +63,7 @@ func phaseScales(d *Data) (b, v float64) {
 		}
 	}
 	for i, ok := range d.Vis.AmpOK {
-		if ok && d.Vis.AmpTyp[i] == AmpAbsolute && len(d.Vis2.Value) == 0 {
+		if ok && d.Vis.AmpTyp[i] == dataset.AmpAbsolute && len(d.Vis2.Value) == 0 {
 			amps = append(amps, math.Abs(d.Vis.Amp[i]))
 		}
 	}

@@ -1,5 +1,7 @@
 package recon
 
+import "vcz/dataset"
+
 // t3AmpKind is the term of triple-product amplitudes (OI_T3 T3AMP, T3AMPERR; Pauls et al.
 // 2005, PASP 117, 1255): the Gaussian χ² of
 //
@@ -10,13 +12,11 @@ package recon
 // Triangles whose amplitude is not usable (AmpOK false) are left out.
 type t3AmpKind struct{}
 
-func (t3AmpKind) count(d *Data) int { return countTrue(d.T3.AmpOK) }
-
-func (t3AmpKind) bind(d *Data, c termConfig) term {
+func (t3AmpKind) bind(d *dataset.Data, c termConfig) term {
 	return &t3AmpTerm{d: d, idx: pickOK(d.T3.Len(), d.T3.AmpOK, c)}
 }
 
-func (t3AmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+func (t3AmpKind) predict(d *dataset.Data, s *sampling, vis []complex128) []float64 {
 	out := make([]float64, d.T3.Len())
 	for i, r := range s.t3 {
 		w1, w2, w3 := sides(vis, r)
@@ -27,7 +27,7 @@ func (t3AmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
 
 // t3AmpTerm is the T3 amplitude term over the triangles idx of d.T3.
 type t3AmpTerm struct {
-	d   *Data
+	d   *dataset.Data
 	idx []int32
 }
 
@@ -65,15 +65,4 @@ func (t *t3AmpTerm) residuals(dst []float64, c *evalCtx) {
 		w1, w2, w3 := sides(c.vis, c.s.t3[i])
 		dst[j] = (abs(w1)*abs(w2)*abs(w3) - d.T3.Amp[i]) / d.T3.AmpErr[i]
 	}
-}
-
-// countTrue returns the number of true values in ok.
-func countTrue(ok []bool) int {
-	n := 0
-	for _, b := range ok {
-		if b {
-			n++
-		}
-	}
-	return n
 }

@@ -1,6 +1,10 @@
 package recon
 
-import "math"
+import (
+	"math"
+
+	"vcz/dataset"
+)
 
 // t3PhiKind is the term of closure phases (OI_T3 T3PHI, T3PHIERR in degrees, held in
 // radians; Pauls et al. 2005, PASP 117, 1255): the wrap-safe phase term of term_phase.go on
@@ -16,9 +20,7 @@ import "math"
 // Triangles whose phase is not usable (PhiOK false) are left out.
 type t3PhiKind struct{}
 
-func (t3PhiKind) count(d *Data) int { return countTrue(d.T3.PhiOK) }
-
-func (t3PhiKind) bind(d *Data, c termConfig) term {
+func (t3PhiKind) bind(d *dataset.Data, c termConfig) term {
 	t := &t3PhiTerm{d: d, idx: pickOK(d.T3.Len(), d.T3.PhiOK, c)}
 	for _, i := range t.idx {
 		t.e = append(t.e, phasor(d.T3.Phi[i]))
@@ -28,7 +30,7 @@ func (t3PhiKind) bind(d *Data, c termConfig) term {
 	return t
 }
 
-func (t3PhiKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+func (t3PhiKind) predict(d *dataset.Data, s *sampling, vis []complex128) []float64 {
 	out := make([]float64, d.T3.Len())
 	for i, r := range s.t3 {
 		w1, w2, w3 := sides(vis, r)
@@ -40,7 +42,7 @@ func (t3PhiKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
 
 // t3PhiTerm is the closure-phase term over the triangles idx of d.T3.
 type t3PhiTerm struct {
-	d     *Data
+	d     *dataset.Data
 	idx   []int32
 	e     []complex128 // exp(−iφₒ) of each datum
 	is2   []float64    // 1/σ² of each datum

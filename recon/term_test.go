@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"vcz/dataset"
 )
 
 // TestTerms checks every term of the table on its own, at random visibilities, in every way
@@ -24,7 +26,7 @@ func TestTerms(t *testing.T) {
 		{"least squares", termConfig{lsq: true}},
 		{"stride 2", termConfig{lsq: true, stride: 2}},
 	} {
-		for _, row := range typeTable {
+		for _, row := range termTable {
 			tm := row.kind.bind(d, cf.c)
 			n := newNeeds(d)
 			tm.need(n)
@@ -37,7 +39,7 @@ func TestTerms(t *testing.T) {
 			if sc, ok := tm.(scaler); ok {
 				sc.prepare(c)
 			}
-			name := cf.name + "/" + row.Word
+			name := cf.name + "/" + row.Type.Info().Word
 			if tm.len() == 0 {
 				t.Errorf("%s: no data", name)
 				continue
@@ -116,7 +118,7 @@ func TestResiduals(t *testing.T) {
 	res := make([]float64, r.Len())
 	ss := r.Eval(res, vis)
 	sum, n := 0.0, 0
-	for _, ty := range DataTypes() {
+	for _, ty := range dataset.DataTypes() {
 		sum += r.Chi2Of(ty, res)
 		n += r.N(ty)
 	}
@@ -125,7 +127,7 @@ func TestResiduals(t *testing.T) {
 	}
 	// randomData: 12 V², 10 triangles of which 6 with amplitudes, 9 complex visibilities of
 	// which 3 correlated fluxes (left out) and one differential phase (left out).
-	want := map[DataType]int{Vis2: 12, T3Amp: 6, T3Phi: 10, VisAmp: 6, VisPhi: 8}
+	want := map[dataset.DataType]int{dataset.Vis2: 12, dataset.T3Amp: 6, dataset.T3Phi: 10, dataset.VisAmp: 6, dataset.VisPhi: 8}
 	for ty, w := range want {
 		if r.N(ty) != w {
 			t.Errorf("%v: %d residuals, want %d", ty, r.N(ty), w)
@@ -134,8 +136,18 @@ func TestResiduals(t *testing.T) {
 	if len(r.Notices()) != 2 {
 		t.Errorf("notices %q, want the left-out amplitudes and phases", r.Notices())
 	}
-	thin := NewResiduals(d, ResidualOptions{Stride: 2, Use: Vis2 | T3Phi})
-	if thin.N(Vis2) != 6 || thin.N(T3Phi) != 5 || thin.N(T3Amp) != 0 || thin.Use() != Vis2|T3Phi {
-		t.Errorf("stride 2: %d V², %d closure phases, %d T3 amplitudes, types %v", thin.N(Vis2), thin.N(T3Phi), thin.N(T3Amp), thin.Use())
+	thin := NewResiduals(d, ResidualOptions{Stride: 2, Use: dataset.Vis2 | dataset.T3Phi})
+	if thin.N(dataset.Vis2) != 6 || thin.N(dataset.T3Phi) != 5 || thin.N(dataset.T3Amp) != 0 || thin.Use() != dataset.Vis2|dataset.T3Phi {
+		t.Errorf("stride 2: %d V², %d closure phases, %d T3 amplitudes, types %v", thin.N(dataset.Vis2), thin.N(dataset.T3Phi), thin.N(dataset.T3Amp), thin.Use())
+	}
+}
+
+// TestTermTable checks that row i of the term table is the data type of bit i, the order of
+// dataset.DataTypes(), and has a term.
+func TestTermTable(t *testing.T) {
+	for i, row := range termTable {
+		if row.Type != dataset.DataTypes()[i] || row.kind == nil {
+			t.Errorf("row %d: type %v, term %T; want type %v and a term", i, row.Type, row.kind, dataset.DataTypes()[i])
+		}
 	}
 }

@@ -1,5 +1,7 @@
 package recon
 
+import "vcz/dataset"
+
 // vis2Kind is the term of squared visibilities (OI_VIS2 VIS2DATA, VIS2ERR; Pauls et al. 2005,
 // PASP 117, 1255): the Gaussian χ² of the normalised residuals
 //
@@ -8,13 +10,11 @@ package recon
 // with the gradient ∂r²/∂(Re V, Im V) = 4 r/σ · V. Its expected χ² is one per datum.
 type vis2Kind struct{}
 
-func (vis2Kind) count(d *Data) int { return d.Vis2.Len() }
-
-func (vis2Kind) bind(d *Data, c termConfig) term {
+func (vis2Kind) bind(d *dataset.Data, c termConfig) term {
 	return &vis2Term{d: d, idx: pickOK(d.Vis2.Len(), nil, c)}
 }
 
-func (vis2Kind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+func (vis2Kind) predict(d *dataset.Data, s *sampling, vis []complex128) []float64 {
 	out := make([]float64, d.Vis2.Len())
 	for i, r := range s.vis2 {
 		v := at(vis, r)
@@ -25,7 +25,7 @@ func (vis2Kind) predict(d *Data, s *sampling, vis []complex128) []float64 {
 
 // vis2Term is the V² term over the data idx of d.Vis2.
 type vis2Term struct {
-	d   *Data
+	d   *dataset.Data
 	idx []int32
 }
 

@@ -1,6 +1,10 @@
 package recon
 
-import "math"
+import (
+	"math"
+
+	"vcz/dataset"
+)
 
 // visAmpKind is the term of visibility amplitudes (OI_VIS VISAMP, VISAMPERR; OIFITS v2 AMPTYP,
 // Duvert, Young & Hummel 2017, table 6), by amplitude type:
@@ -19,23 +23,21 @@ import "math"
 // Its expected χ² is one per datum.
 type visAmpKind struct{}
 
-func (visAmpKind) count(d *Data) int { return countTrue(d.Vis.AmpOK) }
-
-func (visAmpKind) bind(d *Data, c termConfig) term {
+func (visAmpKind) bind(d *dataset.Data, c termConfig) term {
 	p := &d.Vis
 	t := &visAmpTerm{d: d}
 	t.vx, t.ex = complexVis(p, c)
 	pa, pc := newPicker(c), newPicker(c)
 	ndiff := 0
 	for i := range p.Lambda {
-		absA := p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute
+		absA := p.AmpOK[i] && p.AmpTyp[i] == dataset.AmpAbsolute
 		switch {
 		case c.complexVis && complexPair(p, i):
 		case absA:
 			if pa.keep() {
 				t.va = append(t.va, int32(i))
 			}
-		case p.AmpOK[i] && p.AmpTyp[i] == AmpCorrelatedFlux && !c.lsq:
+		case p.AmpOK[i] && p.AmpTyp[i] == dataset.AmpCorrelatedFlux && !c.lsq:
 			if pc.keep() {
 				t.vc = append(t.vc, int32(i))
 			}
@@ -52,7 +54,7 @@ func (visAmpKind) bind(d *Data, c termConfig) term {
 	return t
 }
 
-func (visAmpKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+func (visAmpKind) predict(d *dataset.Data, s *sampling, vis []complex128) []float64 {
 	out := make([]float64, d.Vis.Len())
 	for i, r := range s.cvis {
 		out[i] = abs(at(vis, r))
@@ -68,13 +70,13 @@ func phasor(phi float64) complex128 {
 
 // complexPair reports whether both the amplitude and the phase of complex visibility i are
 // absolute and usable, so that TermOptions.ComplexVis fits them as one complex number.
-func complexPair(p *VisPoints, i int) bool {
-	return p.AmpOK[i] && p.AmpTyp[i] == AmpAbsolute && p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute
+func complexPair(p *dataset.VisPoints, i int) bool {
+	return p.AmpOK[i] && p.AmpTyp[i] == dataset.AmpAbsolute && p.PhiOK[i] && p.PhiTyp[i] == dataset.PhiAbsolute
 }
 
 // complexVis returns the complex visibilities that c fits as complex numbers (none unless
 // c.complexVis) and their rotations exp(−iφₒ); the amplitude and phase terms both take them.
-func complexVis(p *VisPoints, c termConfig) (vx []int32, ex []complex128) {
+func complexVis(p *dataset.VisPoints, c termConfig) (vx []int32, ex []complex128) {
 	if !c.complexVis {
 		return nil, nil
 	}
@@ -97,7 +99,7 @@ func complexResidual(v complex128, amp float64, e complex128) complex128 {
 // visAmpTerm is the visibility-amplitude term over the absolute amplitudes va, the
 // correlated fluxes vc and the complex visibilities vx of d.Vis.
 type visAmpTerm struct {
-	d          *Data
+	d          *dataset.Data
 	va, vc, vx []int32
 	ex         []complex128 // exp(−iφₒ) of each of vx
 	scale      float64      // flux scale of the correlated fluxes at the last prepare

@@ -1,6 +1,10 @@
 package recon
 
-import "math"
+import (
+	"math"
+
+	"vcz/dataset"
+)
 
 // visPhiKind is the term of absolute visibility phases (OI_VIS VISPHI, VISPHIERR in degrees,
 // held in radians; OIFITS v2 PHITYP, Duvert, Young & Hummel 2017, table 6): the wrap-safe
@@ -17,9 +21,7 @@ import "math"
 // other phases is the one of term_phase.go.
 type visPhiKind struct{}
 
-func (visPhiKind) count(d *Data) int { return countTrue(d.Vis.PhiOK) }
-
-func (visPhiKind) bind(d *Data, c termConfig) term {
+func (visPhiKind) bind(d *dataset.Data, c termConfig) term {
 	p := &d.Vis
 	t := &visPhiTerm{d: d}
 	t.vx, t.ex = complexVis(p, c)
@@ -28,7 +30,7 @@ func (visPhiKind) bind(d *Data, c termConfig) term {
 	for i := range p.Lambda {
 		switch {
 		case c.complexVis && complexPair(p, i):
-		case p.PhiOK[i] && p.PhiTyp[i] == PhiAbsolute:
+		case p.PhiOK[i] && p.PhiTyp[i] == dataset.PhiAbsolute:
 			if pp.keep() {
 				t.vp = append(t.vp, int32(i))
 				t.e = append(t.e, phasor(p.Phi[i]))
@@ -46,7 +48,7 @@ func (visPhiKind) bind(d *Data, c termConfig) term {
 	return t
 }
 
-func (visPhiKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
+func (visPhiKind) predict(d *dataset.Data, s *sampling, vis []complex128) []float64 {
 	out := make([]float64, d.Vis.Len())
 	for i, r := range s.cvis {
 		v := at(vis, r)
@@ -58,7 +60,7 @@ func (visPhiKind) predict(d *Data, s *sampling, vis []complex128) []float64 {
 // visPhiTerm is the visibility-phase term over the absolute phases vp and the complex
 // visibilities vx of d.Vis.
 type visPhiTerm struct {
-	d      *Data
+	d      *dataset.Data
 	vp, vx []int32
 	e, ex  []complex128 // exp(−iφₒ) of each of vp and of vx
 	scale  float64      // typical |V|, the unit of the smoothing
@@ -82,7 +84,7 @@ func (t *visPhiTerm) expected() float64 {
 
 // tangentialErr is the error σ_t = Aₒσ_φ of the tangential part of complex visibility i,
 // σ_φ where Aₒ is zero, to keep the term finite.
-func tangentialErr(p *VisPoints, i int32) float64 {
+func tangentialErr(p *dataset.VisPoints, i int32) float64 {
 	st := p.Amp[i] * p.PhiErr[i]
 	if st <= 0 {
 		st = p.PhiErr[i]

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sync"
+	"vcz/dataset"
 )
 
 // Weights are the weights of the χ² terms, indexed like DataTypes() (Vis2, T3Amp, T3Phi, VisAmp,
@@ -13,7 +14,7 @@ type Weights [nTypes]float64
 // TermOptions configure the data terms.
 type TermOptions struct {
 	// Use is the set of data types fitted; 0 means every type the data set has.
-	Use DataType
+	Use dataset.DataType
 	// Weights multiply each type's χ² in the objective.
 	Weights Weights
 	// ComplexVis fits each complex visibility whose amplitude and phase are both absolute and
@@ -27,10 +28,11 @@ type TermOptions struct {
 //
 //	J(x) = Σ_t w_t χ²_t(x),
 //
-// one term for each data type of the table (types.go), each in its own file: for V² data
-// χ² = Σ (|V|² − V²ₒ)²/σ² (term_vis2.go); for T3 amplitudes Σ (|B| − |B|ₒ)²/σ²
-// (term_t3amp.go); for closure phases the wrap-safe χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in
-// radians, which tends to the Gaussian form for small residuals (term_t3phi.go,
+// one term for each data type of the table (package dataset; termtable.go), each in its own
+// file: for V² data χ² = Σ (|V|² − V²ₒ)²/σ² (term_vis2.go); for T3 amplitudes
+// Σ (|B| − |B|ₒ)²/σ² (term_t3amp.go); for closure phases the wrap-safe
+// χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in radians, which tends to the Gaussian form for small
+// residuals (term_t3phi.go,
 // term_phase.go); for visibility amplitudes Σ (|V| − Aₒ)²/σ², correlated fluxes with a free
 // flux scale (term_visamp.go); and for absolute visibility phases the wrap-safe form
 // (term_visphi.go). Differential amplitudes and phases cannot be fitted by a gray image and
@@ -38,12 +40,12 @@ type TermOptions struct {
 // for concurrent use.
 type Objective struct {
 	m      *ForwardModel
-	d      *Data
+	d      *dataset.Data
 	w      [nTypes]float64
 	terms  [nTypes]term
 	smooth float64 // smoothing of the phase terms (SetPhaseSmoothing)
-	use    DataType
-	avail  DataType
+	use    dataset.DataType
+	avail  dataset.DataType
 	chi2   [nTypes]float64
 	n      [nTypes]int
 	expect [nTypes]float64 // expected χ² of each type (ExpectedChi2r)
@@ -57,10 +59,10 @@ type Objective struct {
 }
 
 // NewObjective builds the data terms of d on model m (which must have been made from d).
-func NewObjective(d *Data, m *ForwardModel, opt TermOptions) *Objective {
+func NewObjective(d *dataset.Data, m *ForwardModel, opt TermOptions) *Objective {
 	o := &Objective{m: m, d: d, minParallel: parallelData}
 	c := termConfig{complexVis: opt.ComplexVis}
-	for i, r := range typeTable {
+	for i, r := range termTable {
 		o.w[i] = opt.Weights[i]
 		if o.w[i] == 0 {
 			o.w[i] = 1
@@ -113,19 +115,19 @@ func (o *Objective) PhaseSmoothing() float64 { return o.smooth }
 
 // SetUse sets the data types fitted (0 = all available) and returns the set in force, which
 // omits the types without data.
-func (o *Objective) SetUse(t DataType) DataType {
+func (o *Objective) SetUse(t dataset.DataType) dataset.DataType {
 	if t == 0 {
-		t = AllTypes
+		t = dataset.AllTypes
 	}
 	o.use = t & o.avail
 	return o.use
 }
 
 // Use returns the data types fitted.
-func (o *Objective) Use() DataType { return o.use }
+func (o *Objective) Use() dataset.DataType { return o.use }
 
 // Available returns the data types that have data in the terms.
-func (o *Objective) Available() DataType { return o.avail }
+func (o *Objective) Available() dataset.DataType { return o.avail }
 
 // Notices lists what the terms leave out or treat specially, one sentence each.
 func (o *Objective) Notices() []string { return o.notes }
@@ -134,15 +136,15 @@ func (o *Objective) Notices() []string { return o.notes }
 func (o *Objective) Model() *ForwardModel { return o.m }
 
 // N returns the number of data of one type in the terms.
-func (o *Objective) N(t DataType) int { return o.n[t.index()] }
+func (o *Objective) N(t dataset.DataType) int { return o.n[t.Index()] }
 
 // Chi2 returns the unweighted χ² of one data type at the last evaluation (0 when not used).
-func (o *Objective) Chi2(t DataType) float64 { return o.chi2[t.index()] }
+func (o *Objective) Chi2(t dataset.DataType) float64 { return o.chi2[t.Index()] }
 
 // Chi2r returns χ²/N of one data type at the last evaluation, NaN when the type has no data or
 // is not used.
-func (o *Objective) Chi2r(t DataType) float64 {
-	i := t.index()
+func (o *Objective) Chi2r(t dataset.DataType) float64 {
+	i := t.Index()
 	if o.n[i] == 0 || o.use&t == 0 {
 		return math.NaN()
 	}
@@ -177,8 +179,8 @@ func (o *Objective) ExpectedChi2r() float64 { return o.perPoint(&o.expect) }
 
 // ExpectedChi2rOf returns the expected χ²ᵣ of one data type (see ExpectedChi2r), NaN when it
 // has no data.
-func (o *Objective) ExpectedChi2rOf(t DataType) float64 {
-	i := t.index()
+func (o *Objective) ExpectedChi2rOf(t dataset.DataType) float64 {
+	i := t.Index()
 	if o.n[i] == 0 {
 		return math.NaN()
 	}

@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
+	"vcz/dataset"
 
 	"gonum.org/v1/gonum/diff/fd"
 
@@ -19,8 +20,8 @@ func exactTransform(n int, pixel float64, u, v []float64) (Transform, error) {
 // randomData makes a data set of every type on random baselines (cycles/rad up to fmax),
 // with triangles built on the V² baselines and some baselines given with the opposite sign, so
 // that deduplication and conjugation are exercised. Values are random around plausible levels.
-func randomData(rng *rand.Rand, fmax float64) *Data {
-	d := &Data{}
+func randomData(rng *rand.Rand, fmax float64) *dataset.Data {
+	d := &dataset.Data{}
 	nb := 12
 	bu, bv := make([]float64, nb), make([]float64, nb)
 	for i := range bu {
@@ -33,7 +34,7 @@ func randomData(rng *rand.Rand, fmax float64) *Data {
 		d.Vis2.Lambda = append(d.Vis2.Lambda, 1e-6)
 		d.Vis2.DLambda = append(d.Vis2.DLambda, 1e-8)
 		d.Vis2.MJD = append(d.Vis2.MJD, 60000)
-		d.Vis2.Origin = append(d.Vis2.Origin, Origin{})
+		d.Vis2.Origin = append(d.Vis2.Origin, dataset.Origin{})
 	}
 	for k := 0; k < 10; k++ {
 		i, j := rng.IntN(nb), rng.IntN(nb)
@@ -55,7 +56,7 @@ func randomData(rng *rand.Rand, fmax float64) *Data {
 		t.Lambda = append(t.Lambda, 1e-6)
 		t.DLambda = append(t.DLambda, 1e-8)
 		t.MJD = append(t.MJD, 60000)
-		t.Origin = append(t.Origin, Origin{})
+		t.Origin = append(t.Origin, dataset.Origin{})
 	}
 	for k := 0; k < 9; k++ {
 		p := &d.Vis
@@ -67,20 +68,20 @@ func randomData(rng *rand.Rand, fmax float64) *Data {
 		p.PhiErr = append(p.PhiErr, 0.1+0.1*rng.Float64())
 		p.AmpOK = append(p.AmpOK, true)
 		p.PhiOK = append(p.PhiOK, true)
-		at := AmpAbsolute
+		at := dataset.AmpAbsolute
 		if k%3 == 2 {
-			at = AmpCorrelatedFlux
+			at = dataset.AmpCorrelatedFlux
 		}
-		pt := PhiAbsolute
+		pt := dataset.PhiAbsolute
 		if k == 4 {
-			pt = PhiDifferential
+			pt = dataset.PhiDifferential
 		}
 		p.AmpTyp = append(p.AmpTyp, at)
 		p.PhiTyp = append(p.PhiTyp, pt)
 		p.Lambda = append(p.Lambda, 1e-6)
 		p.DLambda = append(p.DLambda, 1e-8)
 		p.MJD = append(p.MJD, 60000)
-		p.Origin = append(p.Origin, Origin{})
+		p.Origin = append(p.Origin, dataset.Origin{})
 	}
 	return d
 }
@@ -151,11 +152,11 @@ func TestClosurePhaseSign(t *testing.T) {
 	img[(n/2)*n+n/2] = 1
 	img[(n/2)*n+n/2-3] = 0.5 // ix = n/2−3 → x = +3 pixels (east)
 	x := 3 * pixel
-	d := &Data{}
+	d := &dataset.Data{}
 	u1, u2 := 0.1/pixel, 0.07/pixel
-	d.T3 = T3Points{U1: []float64{u1}, V1: []float64{0}, U2: []float64{u2}, V2: []float64{0.02 / pixel},
+	d.T3 = dataset.T3Points{U1: []float64{u1}, V1: []float64{0}, U2: []float64{u2}, V2: []float64{0.02 / pixel},
 		Amp: []float64{1}, AmpErr: []float64{1}, Phi: []float64{0}, PhiErr: []float64{1},
-		AmpOK: []bool{true}, PhiOK: []bool{true}, Lambda: []float64{1e-6}, DLambda: []float64{0}, MJD: []float64{0}, Origin: []Origin{{}}}
+		AmpOK: []bool{true}, PhiOK: []bool{true}, Lambda: []float64{1e-6}, DLambda: []float64{0}, MJD: []float64{0}, Origin: []dataset.Origin{{}}}
 	m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 	if err != nil {
 		t.Fatal(err)
@@ -183,17 +184,17 @@ func TestObjectiveGradient(t *testing.T) {
 		}{
 			{"all", true, TermOptions{}, 0},
 			{"all smoothed", true, TermOptions{}, DefaultPhaseSmoothing},
-			{"t3phi smoothed", true, TermOptions{Use: T3Phi}, 1},
-			{"visphi smoothed", true, TermOptions{Use: VisPhi}, 1},
+			{"t3phi smoothed", true, TermOptions{Use: dataset.T3Phi}, 1},
+			{"visphi smoothed", true, TermOptions{Use: dataset.VisPhi}, 1},
 			{"weighted smoothed", true, TermOptions{Weights: Weights{2, 0.5, 3, 0.7, 1.5}}, 3},
 			{"weighted", true, TermOptions{Weights: Weights{2, 0.5, 3, 0.7, 1.5}}, 0},
 			{"complex", true, TermOptions{ComplexVis: true}, 0},
 			{"complex unnormalised", false, TermOptions{ComplexVis: true}, 0},
-			{"vis2", true, TermOptions{Use: Vis2}, 0},
-			{"t3amp", true, TermOptions{Use: T3Amp}, 0},
-			{"t3phi", true, TermOptions{Use: T3Phi}, 0},
-			{"visamp", true, TermOptions{Use: VisAmp}, 0},
-			{"visphi", true, TermOptions{Use: VisPhi}, 0},
+			{"vis2", true, TermOptions{Use: dataset.Vis2}, 0},
+			{"t3amp", true, TermOptions{Use: dataset.T3Amp}, 0},
+			{"t3phi", true, TermOptions{Use: dataset.T3Phi}, 0},
+			{"visamp", true, TermOptions{Use: dataset.VisAmp}, 0},
+			{"visphi", true, TermOptions{Use: dataset.VisPhi}, 0},
 		} {
 			m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
 			if err != nil {
@@ -231,17 +232,17 @@ func TestPhaseSmoothing(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	o := NewObjective(d, m, TermOptions{Use: T3Phi | VisPhi})
+	o := NewObjective(d, m, TermOptions{Use: dataset.T3Phi | dataset.VisPhi})
 	x := make([]float64, n*n)
 	for i := range x {
 		x[i] = 0.2 + rng.Float64()
 	}
 	exact := o.Eval(nil, x)
-	c3, cv := o.Chi2(T3Phi), o.Chi2(VisPhi)
+	c3, cv := o.Chi2(dataset.T3Phi), o.Chi2(dataset.VisPhi)
 	o.SetPhaseSmoothing(1)
 	smooth := o.Eval(nil, x)
-	if o.Chi2(T3Phi) != c3 || o.Chi2(VisPhi) != cv {
-		t.Errorf("smoothing changed the reported χ²: %g, %g against %g, %g", o.Chi2(T3Phi), o.Chi2(VisPhi), c3, cv)
+	if o.Chi2(dataset.T3Phi) != c3 || o.Chi2(dataset.VisPhi) != cv {
+		t.Errorf("smoothing changed the reported χ²: %g, %g against %g, %g", o.Chi2(dataset.T3Phi), o.Chi2(dataset.VisPhi), c3, cv)
 	}
 	if !(smooth != exact) {
 		t.Errorf("smoothed objective %g equals the exact one", smooth)
@@ -289,9 +290,9 @@ func TestSmoothedPhaseUnbiased(t *testing.T) {
 	for i := range d.Vis.Phi {
 		v := m.at(m.cvis[i])
 		d.Vis.Phi[i] = cmplx.Phase(v)
-		d.Vis.PhiTyp[i] = PhiAbsolute
+		d.Vis.PhiTyp[i] = dataset.PhiAbsolute
 	}
-	o := NewObjective(d, m, TermOptions{Use: T3Phi | VisPhi})
+	o := NewObjective(d, m, TermOptions{Use: dataset.T3Phi | dataset.VisPhi})
 	g := make([]float64, n*n)
 	for _, f := range []float64{1e-3, DefaultPhaseSmoothing, 1, 1e3} {
 		o.SetPhaseSmoothing(f)
@@ -390,7 +391,7 @@ func TestChi2Values(t *testing.T) {
 	}
 	num, den := 0.0, 0.0
 	for i := range d.Vis.Amp {
-		if d.Vis.AmpTyp[i] == AmpCorrelatedFlux {
+		if d.Vis.AmpTyp[i] == dataset.AmpCorrelatedFlux {
 			w := 1 / (d.Vis.AmpErr[i] * d.Vis.AmpErr[i])
 			num += d.Vis.Amp[i] * w
 			den += w
@@ -399,12 +400,12 @@ func TestChi2Values(t *testing.T) {
 	s := num / den // the least-squares scale for |V| = 1
 	for i := range d.Vis.Amp {
 		a := 1.0
-		if d.Vis.AmpTyp[i] == AmpCorrelatedFlux {
+		if d.Vis.AmpTyp[i] == dataset.AmpCorrelatedFlux {
 			a = s
 		}
 		r := (a - d.Vis.Amp[i]) / d.Vis.AmpErr[i]
 		want[3] += r * r
-		if d.Vis.PhiTyp[i] == PhiAbsolute {
+		if d.Vis.PhiTyp[i] == dataset.PhiAbsolute {
 			want[4] += 2 * (1 - math.Cos(d.Vis.Phi[i])) / (d.Vis.PhiErr[i] * d.Vis.PhiErr[i])
 		}
 	}
@@ -413,8 +414,8 @@ func TestChi2Values(t *testing.T) {
 			t.Errorf("χ² %s = %.12g, want %.12g", ty, got, want[i])
 		}
 	}
-	if o.N(VisPhi) != 8 || len(o.Notices()) != 2 {
-		t.Errorf("N(visphi) = %d, notices %q", o.N(VisPhi), o.Notices())
+	if o.N(dataset.VisPhi) != 8 || len(o.Notices()) != 2 {
+		t.Errorf("N(visphi) = %d, notices %q", o.N(dataset.VisPhi), o.Notices())
 	}
 	if math.Abs(o.FluxScale()-s) > 1e-12 {
 		t.Errorf("flux scale %g, want %g", o.FluxScale(), s)
@@ -436,21 +437,21 @@ func TestPredict(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i := range d.Vis2.U {
-		if want := cmplx.Abs(vis(d.Vis2.U[i], d.Vis2.V[i])); math.Abs(p.Of(Vis2)[i]-want*want) > 1e-12 {
-			t.Errorf("V² %d: %g, want %g", i, p.Of(Vis2)[i], want*want)
+		if want := cmplx.Abs(vis(d.Vis2.U[i], d.Vis2.V[i])); math.Abs(p.Of(dataset.Vis2)[i]-want*want) > 1e-12 {
+			t.Errorf("V² %d: %g, want %g", i, p.Of(dataset.Vis2)[i], want*want)
 		}
 	}
 	for i := range d.T3.U1 {
 		tt := &d.T3
 		b := vis(tt.U1[i], tt.V1[i]) * vis(tt.U2[i], tt.V2[i]) * cmplx.Conj(vis(tt.U1[i]+tt.U2[i], tt.V1[i]+tt.V2[i]))
-		if math.Abs(p.Of(T3Amp)[i]-cmplx.Abs(b)) > 1e-12 || math.Abs(WrapPhase(p.Of(T3Phi)[i]-cmplx.Phase(b))) > 1e-9 {
-			t.Errorf("T3 %d: %g %g, want %g %g", i, p.Of(T3Amp)[i], p.Of(T3Phi)[i], cmplx.Abs(b), cmplx.Phase(b))
+		if math.Abs(p.Of(dataset.T3Amp)[i]-cmplx.Abs(b)) > 1e-12 || math.Abs(WrapPhase(p.Of(dataset.T3Phi)[i]-cmplx.Phase(b))) > 1e-9 {
+			t.Errorf("T3 %d: %g %g, want %g %g", i, p.Of(dataset.T3Amp)[i], p.Of(dataset.T3Phi)[i], cmplx.Abs(b), cmplx.Phase(b))
 		}
 	}
 	for i := range d.Vis.U {
 		v := vis(d.Vis.U[i], d.Vis.V[i])
-		if math.Abs(p.Of(VisAmp)[i]-cmplx.Abs(v)) > 1e-12 || math.Abs(WrapPhase(p.Of(VisPhi)[i]-cmplx.Phase(v))) > 1e-9 {
-			t.Errorf("VIS %d: %g %g, want %g %g", i, p.Of(VisAmp)[i], p.Of(VisPhi)[i], cmplx.Abs(v), cmplx.Phase(v))
+		if math.Abs(p.Of(dataset.VisAmp)[i]-cmplx.Abs(v)) > 1e-12 || math.Abs(WrapPhase(p.Of(dataset.VisPhi)[i]-cmplx.Phase(v))) > 1e-9 {
+			t.Errorf("VIS %d: %g %g, want %g %g", i, p.Of(dataset.VisAmp)[i], p.Of(dataset.VisPhi)[i], cmplx.Abs(v), cmplx.Phase(v))
 		}
 	}
 	if w := WrapPhase(3 * math.Pi); math.Abs(w-math.Pi) > 1e-12 {

@@ -3,6 +3,7 @@ package recon
 import (
 	"fmt"
 	"math"
+	"vcz/dataset"
 
 	"vcz/recon/optim"
 )
@@ -27,11 +28,11 @@ const (
 
 // verdictInput is what the verdict needs beyond the Result.
 type verdictInput struct {
-	expect   map[DataType]float64 // expected χ²ᵣ of each used type
-	tail     float64              // relative objective decrease over the last tailWindow iterations, NaN if fewer
-	stalled  bool                 // the final run stalled (tiny steps without convergence)
-	auto     bool                 // the weight was chosen automatically
-	atEdge   string               // "lower" or "upper" when the chosen weight is at that edge of the search
+	expect   map[dataset.DataType]float64 // expected χ²ᵣ of each used type
+	tail     float64                      // relative objective decrease over the last tailWindow iterations, NaN if fewer
+	stalled  bool                         // the final run stalled (tiny steps without convergence)
+	auto     bool                         // the weight was chosen automatically
+	atEdge   string                       // "lower" or "upper" when the chosen weight is at that edge of the search
 	maxIters int
 }
 
@@ -44,7 +45,7 @@ func verdict(res *Result, in verdictInput) []string {
 	// One type fitted far worse than the best one: calibration errors not in the error bars,
 	// or a type the model cannot fit.
 	best, worst := math.Inf(1), 0.0
-	var worstType DataType
+	var worstType dataset.DataType
 	for _, t := range res.Chi2 {
 		e := in.expect[t.Type]
 		if !(e > 0) || t.N == 0 {

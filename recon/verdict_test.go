@@ -4,6 +4,7 @@ import (
 	"math"
 	"strings"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/recon/optim"
 )
@@ -14,8 +15,8 @@ import (
 func TestVerdict(t *testing.T) {
 	good := func() (*Result, verdictInput) {
 		r := &Result{Chi2r: 1.02, Chi2rTarget: 1, Status: optim.IterationLimit, Weight: 10, Iter: 500,
-			Chi2: []TermChi2{{Type: Vis2, N: 100, Chi2r: 1.0}, {Type: T3Phi, N: 100, Chi2r: 1.04}}}
-		in := verdictInput{expect: map[DataType]float64{Vis2: 1, T3Phi: 1}, tail: 1e-5, auto: true, maxIters: 500}
+			Chi2: []TermChi2{{Type: dataset.Vis2, N: 100, Chi2r: 1.0}, {Type: dataset.T3Phi, N: 100, Chi2r: 1.04}}}
+		in := verdictInput{expect: map[dataset.DataType]float64{dataset.Vis2: 1, dataset.T3Phi: 1}, tail: 1e-5, auto: true, maxIters: 500}
 		return r, in
 	}
 	r, in := good()

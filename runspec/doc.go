@@ -4,7 +4,7 @@
 //
 // Spec.Problem turns a Spec into the recon.Problem and recon.Settings of recon.Solve on a
 // data set (reading the prior, start and model files it names), and Spec.Selection gives
-// the recon.Selection of the data to read. Angles are in radians, wavelengths in metres.
+// the dataset.Selection of the data to read. Angles are in radians, wavelengths in metres.
 //
 // # One table of options
 //

@@ -8,6 +8,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"vcz/dataset"
 
 	"vcz/recon"
 	"vcz/regularizers"
@@ -528,7 +529,7 @@ func parseDataWeights(s string) (recon.Weights, error) {
 		if x == 1 {
 			x = 0
 		}
-		for i, ty := range recon.DataTypes() {
+		for i, ty := range dataset.DataTypes() {
 			if t&ty != 0 {
 				w[i] = x
 			}
@@ -539,7 +540,7 @@ func parseDataWeights(s string) (recon.Weights, error) {
 
 func formatDataWeights(w recon.Weights) string {
 	var parts []string
-	for i, ty := range recon.DataTypes() {
+	for i, ty := range dataset.DataTypes() {
 		if w[i] != 0 && w[i] != 1 {
 			parts = append(parts, ty.String()+"="+strconv.FormatFloat(w[i], 'g', -1, 64))
 		}

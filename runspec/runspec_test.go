@@ -14,6 +14,7 @@ import (
 	"strings"
 	"sync"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/recon"
@@ -22,15 +23,15 @@ import (
 )
 
 // demoData is the demo data set of recon/simulate, made once.
-var demoData = sync.OnceValues(func() (*recon.Data, error) {
+var demoData = sync.OnceValues(func() (*dataset.Data, error) {
 	f, _, err := simulate.DemoData()
 	if err != nil {
 		return nil, err
 	}
-	return recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+	return dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 })
 
-func data(t *testing.T) *recon.Data {
+func data(t *testing.T) *dataset.Data {
 	t.Helper()
 	d, err := demoData()
 	if err != nil {
@@ -84,7 +85,7 @@ func TestZeroSpecProblem(t *testing.T) {
 	if !reflect.DeepEqual(r, &regularizers.TV{NX: 32, NY: 32}) {
 		t.Errorf("regularizer %#v, want tv", r)
 	}
-	if sel := (Spec{}).Selection(); !reflect.DeepEqual(sel, recon.Selection{}) {
+	if sel := (Spec{}).Selection(); !reflect.DeepEqual(sel, dataset.Selection{}) {
 		t.Errorf("selection %+v", sel)
 	}
 	if l := (Spec{}).RegularizerLabel(); l != "tv" {
@@ -110,7 +111,7 @@ func TestOptions(t *testing.T) {
 		{"wave", []string{"-wave", "1.5um:1.8"}, "1.5um:1.8", Spec{WaveMin: 1.5 * um, WaveMax: 1.8 * um}},
 		{"mjd", []string{"-mjd", "60100.5:"}, "60100.5:", Spec{MJDMin: 60100.5}},
 		{"ins", []string{"-ins", "A, B,"}, "A,B", Spec{Instruments: []string{"A", "B"}}},
-		{"use", []string{"-use", "vis2,t3"}, "vis2,t3", Spec{Use: recon.Vis2 | recon.T3Amp | recon.T3Phi}},
+		{"use", []string{"-use", "vis2,t3"}, "vis2,t3", Spec{Use: dataset.Vis2 | dataset.T3Amp | dataset.T3Phi}},
 		{"n", []string{"-n", "64"}, int64(64), Spec{Grid: 64}},
 		{"pixel", []string{"-pixel", "0.25mas"}, "0.25", Spec{Pixel: 0.25 * mas}},
 		{"fov", []string{"-fov", "12mas"}, "12mas", Spec{FOV: 12 * mas}},
@@ -424,14 +425,14 @@ func TestProblemOptions(t *testing.T) {
 		t.Errorf("-n 4096: %v", err)
 	}
 	seven := uint64(7)
-	s = Spec{Use: recon.Vis2 | recon.T3Phi, DataWeights: recon.Weights{2}, Support: 3 * mas, Iterations: 99, Seed: &seven,
+	s = Spec{Use: dataset.Vis2 | dataset.T3Phi, DataWeights: recon.Weights{2}, Support: 3 * mas, Iterations: 99, Seed: &seven,
 		Starts: 2, Coarse: true, NoAmplitudeFirst: true, Workers: 3, Weight: 50,
 		Regularizers: []regularizers.NamedTerm{{Name: "mem", Rel: 1}, {Name: "compact", Rel: 0.5}}, Prior: Prior{Kind: PriorGaussian, Size: 2 * mas}}
 	p, st, err := s.Problem(d)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if p.Terms.Use != recon.Vis2|recon.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
+	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
 		t.Errorf("problem %+v", p)
 	}
 	if st.MaxIter != 99 || st.Seed != 7 || st.Starts != 2 || !st.CoarseToFine || !st.NoAmplitudeFirst || st.Workers != 3 {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 	"runtime"
+	"vcz/dataset"
 
 	"vcz/io/fitsimage"
 	"vcz/recon"
@@ -26,7 +27,7 @@ type Spec struct {
 	// Instruments keeps only these INSNAMEs (-ins); none keeps every one.
 	Instruments []string
 	// Use is the set of data types read and fitted (-use); 0 is every type present.
-	Use recon.DataType
+	Use dataset.DataType
 
 	// Grid is the number of pixels per side (-n, even); 0 chooses it from the data.
 	Grid int
@@ -56,7 +57,7 @@ type Spec struct {
 	// regularizers.DefaultTVEps.
 	TVEps float64
 	// DataWeights multiply each data type's χ² (-data-weights), indexed like
-	// recon.DataTypes(); 0 is 1.
+	// dataset.DataTypes(); 0 is 1.
 	DataWeights recon.Weights
 
 	// Iterations is the iteration limit of the final run (-iter); 0 is
@@ -148,8 +149,8 @@ func (s Spec) SeedValue() uint64 {
 }
 
 // Selection is the data selection of s.
-func (s Spec) Selection() recon.Selection {
-	return recon.Selection{Target: s.Target, WaveMin: s.WaveMin, WaveMax: s.WaveMax, MJDMin: s.MJDMin, MJDMax: s.MJDMax,
+func (s Spec) Selection() dataset.Selection {
+	return dataset.Selection{Target: s.Target, WaveMin: s.WaveMin, WaveMax: s.WaveMax, MJDMin: s.MJDMin, MJDMax: s.MJDMax,
 		InsNames: s.Instruments, Types: s.Use}
 }
 
@@ -165,8 +166,8 @@ func (s Spec) Validate() error {
 		}
 	}
 	switch {
-	case s.Use&^recon.AllTypes != 0:
-		return &OptionError{Option: "-use", Err: fmt.Errorf("-use: unknown data types %#x", uint(s.Use&^recon.AllTypes))}
+	case s.Use&^dataset.AllTypes != 0:
+		return &OptionError{Option: "-use", Err: fmt.Errorf("-use: unknown data types %#x", uint(s.Use&^dataset.AllTypes))}
 	case s.Prior.Kind == PriorFile && s.Prior.File == "":
 		return &OptionError{Option: "-prior", Err: fmt.Errorf("-prior: no file named")}
 	case s.Start.Kind == StartFile && s.Start.File == "":
@@ -182,7 +183,7 @@ func (s Spec) Validate() error {
 // Problem turns s into a reconstruction problem on data d and the settings of recon.Solve.
 // It reads the files s names (prior, start and model files). Errors are one line naming
 // the option (an *OptionError for a bad value) or the file.
-func (s Spec) Problem(d *recon.Data) (recon.Problem, recon.Settings, error) {
+func (s Spec) Problem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 	p := recon.Problem{Data: d}
 	var st recon.Settings
 	if err := s.Validate(); err != nil {
@@ -272,7 +273,7 @@ func (s Spec) Problem(d *recon.Data) (recon.Problem, recon.Settings, error) {
 // size fitted by the grid choice with options opt, the default size of a Gaussian or disc
 // prior, is looked up when a regularizer that uses the prior is first made (Solve makes it
 // after choosing the grid).
-func (s *Spec) regularizerFunc(d *recon.Data, opt recon.GridOptions, file *fitsimage.Image) recon.RegularizerFunc {
+func (s *Spec) regularizerFunc(d *dataset.Data, opt recon.GridOptions, file *fitsimage.Image) recon.RegularizerFunc {
 	terms := s.regTerms()
 	prior := s.Prior
 	tvEps := s.TVEps

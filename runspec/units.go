@@ -7,6 +7,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"vcz/dataset"
 
 	"vcz/recon"
 )
@@ -122,10 +123,10 @@ func formatRange(lo, hi float64, format func(float64) string) string {
 	return format(lo) + ":" + format(hi)
 }
 
-// typeNames lists the names of the single data types, in the order of recon.DataTypes.
+// typeNames lists the names of the single data types, in the order of dataset.DataTypes.
 func typeNames() []string {
 	var w []string
-	for _, t := range recon.DataTypes() {
+	for _, t := range dataset.DataTypes() {
 		w = append(w, t.String())
 	}
 	return w
@@ -134,12 +135,12 @@ func typeNames() []string {
 // ParseTypes reads a comma-separated list of data types (vis2, t3amp, t3phi, visamp,
 // visphi, and t3 and vis for both parts of a triangle or a visibility): the words of the
 // table of data types of package recon.
-func ParseTypes(s string) (recon.DataType, error) { return recon.ParseDataTypes(s) }
+func ParseTypes(s string) (dataset.DataType, error) { return dataset.ParseDataTypes(s) }
 
 // formatTypes is the list ParseTypes reads as t ("" for 0).
-func formatTypes(t recon.DataType) string {
+func formatTypes(t dataset.DataType) string {
 	var w []string
-	for _, ty := range recon.DataTypes() {
+	for _, ty := range dataset.DataTypes() {
 		if t&ty != 0 {
 			w = append(w, ty.String())
 		}

@@ -3,6 +3,7 @@ package runspec
 import (
 	"math"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/recon"
 )
@@ -70,8 +71,8 @@ func TestTypeWords(t *testing.T) {
 	}
 	for _, c := range []struct {
 		in   string
-		want recon.DataType
-	}{{"vis2", recon.Vis2}, {"T3, vis2", recon.T3Amp | recon.T3Phi | recon.Vis2}, {"vis", recon.VisAmp | recon.VisPhi}} {
+		want dataset.DataType
+	}{{"vis2", dataset.Vis2}, {"T3, vis2", dataset.T3Amp | dataset.T3Phi | dataset.Vis2}, {"vis", dataset.VisAmp | dataset.VisPhi}} {
 		if got, err := ParseTypes(c.in); err != nil || got != c.want {
 			t.Errorf("%q = %v, %v", c.in, got, err)
 		}

@@ -9,6 +9,7 @@ import (
 	"runtime"
 	"strings"
 	"time"
+	"vcz/dataset"
 
 	"vcz/io/fitsimage"
 	"vcz/io/preview"
@@ -153,7 +154,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 }
 
 // dataMJDRange returns the range of MJD of the points of d.
-func dataMJDRange(d *recon.Data) (lo, hi float64, ok bool) {
+func dataMJDRange(d *dataset.Data) (lo, hi float64, ok bool) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, s := range [][]float64{d.Vis2.MJD, d.T3.MJD, d.Vis.MJD} {
 		for _, m := range s {

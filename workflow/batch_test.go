@@ -6,10 +6,10 @@ import (
 	"path/filepath"
 	"reflect"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
-	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
@@ -42,7 +42,7 @@ func TestExampleJob(t *testing.T) {
 		t.Fatalf("%d epochs, output %q", len(epochs), out)
 	}
 	e0, e2, e3 := epochs[0].Spec, epochs[2].Spec, epochs[3].Spec
-	if e0.Grid != 64 || e0.Iterations != 300 || *e0.Seed != 7 || e0.Use != recon.Vis2|recon.T3Phi || e2.Use != recon.Vis2 || e3.WaveMax == 0 {
+	if e0.Grid != 64 || e0.Iterations != 300 || *e0.Seed != 7 || e0.Use != dataset.Vis2|dataset.T3Phi || e2.Use != dataset.Vis2 || e3.WaveMax == 0 {
 		t.Fatalf("settings %+v / %+v", e0, e2)
 	}
 }
@@ -84,7 +84,7 @@ func TestBatchInMemory(t *testing.T) {
 	dir := t.TempDir()
 	files := writeEpochs(t, dir, 2)
 	seed := uint64(3)
-	epochs := SplitEpochs(files, runspec.Spec{Grid: 32, Weight: 1e-3, Iterations: 40, Starts: 1, Seed: &seed}, recon.NightGap)
+	epochs := SplitEpochs(files, runspec.Spec{Grid: 32, Weight: 1e-3, Iterations: 40, Starts: 1, Seed: &seed}, dataset.NightGap)
 	if len(epochs) != 2 {
 		t.Fatalf("%d epochs from two nights", len(epochs))
 	}

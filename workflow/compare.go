@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/recon"
@@ -118,7 +119,7 @@ func parseCompareWeights(s string, names []string) (map[string]string, error) {
 // one start image, with the same stopping rules.
 type Comparison struct {
 	Files []*oifits.File
-	Data  *recon.Data
+	Data  *dataset.Data
 	Grid  recon.GridChoice // chosen once from the data (and the first entry's options)
 	Runs  []*CompareRun
 }
@@ -137,11 +138,11 @@ type CompareRun struct {
 
 // CheckData refuses data that no workflow reconstructs: several targets, or no point to
 // fit. Its errors are *InputError.
-func CheckData(d *recon.Data) error { return checkData(d) }
+func CheckData(d *dataset.Data) error { return checkData(d) }
 
 // NewComparison builds one run per entry, all on the grid chosen once from the data. Its
 // errors are *InputError.
-func NewComparison(files []*oifits.File, d *recon.Data, entries []Entry) (*Comparison, error) {
+func NewComparison(files []*oifits.File, d *dataset.Data, entries []Entry) (*Comparison, error) {
 	if err := checkData(d); err != nil {
 		return nil, err
 	}

@@ -10,6 +10,7 @@ import (
 	"sync"
 	"testing"
 	"time"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/output"
@@ -19,14 +20,14 @@ import (
 )
 
 // demoData is the simulated demo data set (recon/simulate.DemoData).
-func demoData(t testing.TB) ([]*oifits.File, *recon.Data) {
+func demoData(t testing.TB) ([]*oifits.File, *dataset.Data) {
 	t.Helper()
 	f, _, err := simulate.DemoData()
 	if err != nil {
 		t.Fatal(err)
 	}
 	files := []*oifits.File{f}
-	d, err := recon.FromFiles(files, recon.Selection{})
+	d, err := dataset.FromFiles(files, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
 	}

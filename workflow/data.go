@@ -5,14 +5,14 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
-	"vcz/recon"
 )
 
 // ReadData reads OIFITS files and selects their points. Its errors are *InputError and
 // name the file.
-func ReadData(paths []string, sel recon.Selection) ([]*oifits.File, *recon.Data, error) {
+func ReadData(paths []string, sel dataset.Selection) ([]*oifits.File, *dataset.Data, error) {
 	if len(paths) == 0 {
 		return nil, nil, inputError("", errors.New("no OIFITS file given"))
 	}
@@ -24,7 +24,7 @@ func ReadData(paths []string, sel recon.Selection) ([]*oifits.File, *recon.Data,
 		}
 		files = append(files, f)
 	}
-	d, err := recon.FromFiles(files, sel)
+	d, err := dataset.FromFiles(files, sel)
 	if err != nil {
 		return nil, nil, inputError("", err)
 	}

@@ -6,8 +6,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"vcz/dataset"
 
-	"vcz/recon"
 	"vcz/runspec"
 )
 
@@ -27,16 +27,16 @@ func TestInputErrors(t *testing.T) {
 		name, file, want string
 		err              func() error
 	}{
-		{"no file", "", "no OIFITS file given", func() error { _, _, err := ReadData(nil, recon.Selection{}); return err }},
-		{"missing file", "nosuch.oifits", "nosuch.oifits", func() error { _, _, err := ReadData([]string{"nosuch.oifits"}, recon.Selection{}); return err }},
-		{"bad file", bad, "bad.oifits", func() error { _, _, err := ReadData([]string{bad}, recon.Selection{}); return err }},
+		{"no file", "", "no OIFITS file given", func() error { _, _, err := ReadData(nil, dataset.Selection{}); return err }},
+		{"missing file", "nosuch.oifits", "nosuch.oifits", func() error { _, _, err := ReadData([]string{"nosuch.oifits"}, dataset.Selection{}); return err }},
+		{"bad file", bad, "bad.oifits", func() error { _, _, err := ReadData([]string{bad}, dataset.Selection{}); return err }},
 		{"no folder", filepath.Join(dir, "no", "x.fits"), "cannot write: folder", func() error { return CheckOutputs("", filepath.Join(dir, "no", "x.fits")) }},
 		{"job key", job, "job.toml:3: unknown key epoch.colour", func() error { _, _, err := ReadJobFile(job, runspec.Spec{}); return err }},
 		{"job and files", "", "give either -job or OIFITS files", func() error { _, _, err := Epochs(job, []string{bad}, runspec.Spec{}, 0.5); return err }},
 		{"bad gap", "", "-gap 0 must be positive", func() error { _, _, err := Epochs("", []string{bad}, runspec.Spec{}, 0); return err }},
 		{"shard", "", "batch: -shard: shard \"3/2\"", func() error { _, err := ChooseShard("3/2", os.Getenv); return err }},
 		{"regularizer", "", "-reg: unknown regularizer \"bogus\"", func() error { _, err := CompareEntries(runspec.Spec{}, "bogus", ""); return err }},
-		{"no data", "", "no usable data points after selection", func() error { return CheckData(&recon.Data{}) }},
+		{"no data", "", "no usable data points after selection", func() error { return CheckData(&dataset.Data{}) }},
 	} {
 		err := c.err()
 		var ie *InputError

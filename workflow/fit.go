@@ -4,6 +4,7 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/io/safefile"
@@ -48,7 +49,7 @@ type FitOutcome struct {
 // or a fit that gave no result, is an *InputError with no outcome. A fit that gave a result
 // but did not end well returns the outcome (significances and limits included) and
 // fit.Fit's error together.
-func FitModel(d *recon.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
+func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
 	opt := s.Fit
 	var g *fit.GridResult
 	if s.Grid != nil {
@@ -126,7 +127,7 @@ func hasFreePosition(m *model.Model) bool {
 // WriteImage writes the fitted model as an n×n FITS image with pixels of pixel rad (0: a
 // quarter of the resolution of d), with the world coordinates of the reconstructions of
 // files. An error choosing the pixel is an *InputError.
-func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifits.File, d *recon.Data) error {
+func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifits.File, d *dataset.Data) error {
 	if pixel == 0 {
 		if pixel = d.Summarize().Resolution / 4; !(pixel > 0) {
 			return inputErrorf("fit: -write-image: no baseline to choose a pixel from; give -pixel")
@@ -166,7 +167,7 @@ func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 // WriteLimits writes the detection limits as PREFIX.csv (fit.Limits.WriteCSV) and
 // PREFIX.png (output.LimitsPlot, titled with the targets of d) and returns their summary.
 // It panics without limits (FitSettings.Limits nil).
-func (o *FitOutcome) WriteLimits(prefix string, d *recon.Data) (*output.FitLimitsJ, error) {
+func (o *FitOutcome) WriteLimits(prefix string, d *dataset.Data) (*output.FitLimitsJ, error) {
 	if o.Limits == nil {
 		panic("workflow: WriteLimits without detection limits")
 	}

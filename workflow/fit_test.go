@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/recon"
@@ -17,7 +18,7 @@ import (
 
 // binaryData is a star of 2.5 mas with a companion of flux ratio 0.05 at (4, −3) mas,
 // observed with the four-station example plan (seeded noise).
-func binaryData(t *testing.T) *recon.Data {
+func binaryData(t *testing.T) *dataset.Data {
 	t.Helper()
 	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
 	if err != nil {
@@ -31,7 +32,7 @@ func binaryData(t *testing.T) *recon.Data {
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -50,7 +51,7 @@ func TestFitModelSignificanceLimits(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	set := FitSettings{Fit: fit.Options{Use: recon.Vis2 | recon.T3Phi}, Limits: &fit.LimitOptions{NSep: 6, NPA: 8}}
+	set := FitSettings{Fit: fit.Options{Use: dataset.Vis2 | dataset.T3Phi}, Limits: &fit.LimitOptions{NSep: 6, NPA: 8}}
 	o, err := FitModel(d, m, set)
 	if err != nil {
 		t.Fatal(err)

@@ -3,6 +3,7 @@ package workflow
 import (
 	"strings"
 	"time"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
 	"vcz/output"
@@ -14,7 +15,7 @@ import (
 // problem and settings they give.
 type Image struct {
 	Files    []*oifits.File
-	Data     *recon.Data
+	Data     *dataset.Data
 	Spec     runspec.Spec
 	Problem  recon.Problem
 	Settings recon.Settings
@@ -22,7 +23,7 @@ type Image struct {
 
 // NewImage checks that d can be reconstructed as spec says (one target, some points, options
 // that fit the data) and builds the problem. Its errors are *InputError.
-func NewImage(files []*oifits.File, d *recon.Data, spec runspec.Spec) (*Image, error) {
+func NewImage(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Image, error) {
 	if err := checkData(d); err != nil {
 		return nil, err
 	}
@@ -34,11 +35,11 @@ func NewImage(files []*oifits.File, d *recon.Data, spec runspec.Spec) (*Image, e
 }
 
 // checkData refuses data of several targets, or without a point to fit.
-func checkData(d *recon.Data) error {
+func checkData(d *dataset.Data) error {
 	if len(d.Targets) > 1 {
 		return inputErrorf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
 	}
-	if d.Len(recon.AllTypes) == 0 {
+	if d.Len(dataset.AllTypes) == 0 {
 		return inputErrorf("no usable data points after selection")
 	}
 	return nil

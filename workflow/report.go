@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
+	"vcz/dataset"
 
 	"vcz/io/fitsimage"
 	"vcz/io/plots"
@@ -262,7 +263,7 @@ func pixelMin(imgs [][]float64) []float64 {
 }
 
 // writeComparePlots writes V² and closure phases with every model.
-func writeComparePlots(dir string, d *recon.Data, ok []*CompareRun) error {
+func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) error {
 	var v2m, cpm []plots.ModelValues
 	t := &d.T3
 	td := output.ClosurePhases(d)
@@ -271,11 +272,11 @@ func writeComparePlots(dir string, d *recon.Data, ok []*CompareRun) error {
 		if err != nil {
 			return err
 		}
-		v2m = append(v2m, plots.ModelValues{Name: r.Name, Value: obs.Of(recon.Vis2)})
+		v2m = append(v2m, plots.ModelValues{Name: r.Name, Value: obs.Of(dataset.Vis2)})
 		var cp []float64
 		for i := range t.Lambda {
 			if t.PhiOK[i] {
-				cp = append(cp, obs.Of(recon.T3Phi)[i]*180/math.Pi)
+				cp = append(cp, obs.Of(dataset.T3Phi)[i]*180/math.Pi)
 			}
 		}
 		cpm = append(cpm, plots.ModelValues{Name: r.Name, Value: cp})
@@ -305,7 +306,7 @@ func writeComparePlots(dir string, d *recon.Data, ok []*CompareRun) error {
 // compareTypes are the data types with a χ²ᵣ in some row, in report order.
 func compareTypes(rep *CompareReport) []string {
 	var out []string
-	for _, t := range recon.DataTypes() {
+	for _, t := range dataset.DataTypes() {
 		for _, r := range rep.Rows {
 			if _, ok := r.Chi2ByType[t.String()]; ok {
 				out = append(out, t.String())

@@ -9,7 +9,7 @@ import (
 	"sync"
 	"time"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/batch"
 	"vcz/runspec"
 	"vcz/workflow"
@@ -77,7 +77,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
 	job := fs.String("job", "", "job file (TOML) listing the epochs and their settings")
 	out := fs.String("out", "", "output folder (default: the job file's output, else batch)")
-	gap := fs.Float64("gap", recon.NightGap, "split FILE arguments into epochs at gaps in MJD longer than this (days)")
+	gap := fs.Float64("gap", dataset.NightGap, "split FILE arguments into epochs at gaps in MJD longer than this (days)")
 	force := fs.Bool("force", false, "redo epochs whose outputs are complete")
 	shardS := fs.String("shard", "", "run only shard K/N: every N-th epoch starting at the K-th (default: from SLURM_ARRAY_TASK_ID, else all)")
 	collect := fs.Bool("collect", false, "merge the shard summaries in -out (and any folders given) into one summary, montage and animation")

@@ -15,6 +15,7 @@ import (
 
 	"golang.org/x/net/html"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon"
@@ -150,7 +151,7 @@ func TestCompareDisc(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -167,9 +168,9 @@ func TestCompareDisc(t *testing.T) {
 		}
 		cost := func(theta float64) float64 {
 			c := 0.0
-			for i := range obs.Of(recon.Vis2) {
+			for i := range obs.Of(dataset.Vis2) {
 				v := recon.UniformDiscV(theta*recon.Mas, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
-				c += (v*v - obs.Of(recon.Vis2)[i]) * (v*v - obs.Of(recon.Vis2)[i])
+				c += (v*v - obs.Of(dataset.Vis2)[i]) * (v*v - obs.Of(dataset.Vis2)[i])
 			}
 			return c
 		}

@@ -8,10 +8,10 @@ import (
 	"os"
 	"path/filepath"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/io/safefile"
 	"vcz/output"
-	"vcz/recon"
 	"vcz/runspec"
 	"vcz/workflow"
 )
@@ -65,7 +65,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
 	files := []*oifits.File{file}
-	d, err := recon.FromFiles(files, recon.Selection{})
+	d, err := dataset.FromFiles(files, dataset.Selection{})
 	if err != nil {
 		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/output"
 	"vcz/recon"
@@ -112,7 +113,7 @@ func registerStretch(fs *flag.FlagSet) *string { return fs.String("stretch", "au
 
 // reconstruct runs one reconstruction of d as spec says and writes the outputs outs says
 // to out. Messages go to stderr unless quiet.
-func reconstruct(files []*oifits.File, d *recon.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, output.Run, error) {
+func reconstruct(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs output.Outputs, out string, quiet bool, stderr io.Writer) (output.ImageSummary, output.Run, error) {
 	im, err := workflow.NewImage(files, d, spec)
 	if err != nil {
 		return output.ImageSummary{}, output.Run{}, err
@@ -149,7 +150,7 @@ func printImageSummary(w io.Writer, s output.ImageSummary) {
 	}
 	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
-	for _, t := range recon.DataTypes() {
+	for _, t := range dataset.DataTypes() {
 		name := t.String()
 		if c, ok := s.Chi2ByType[name]; ok {
 			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)

@@ -5,6 +5,7 @@ import (
 	"io"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/output"
@@ -109,7 +110,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 				return badInputf("simulate: -pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		} else {
-			d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+			d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 			if err != nil {
 				return failure(err)
 			}

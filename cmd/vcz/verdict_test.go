@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"vcz/dataset"
 	"vcz/io/fitsfile"
 	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"
@@ -166,7 +167,7 @@ func TestDemoVerdictNone(t *testing.T) {
 // A summary without warnings has "warnings": [] in its JSON, not null (an empty list is
 // what a reader iterates over without a special case; common practice, no source).
 func TestImageSummaryEmptyWarnings(t *testing.T) {
-	b, err := json.Marshal(output.NewImageSummary(output.Run{Result: &recon.Result{}, Data: &recon.Data{}}, output.Paths{}))
+	b, err := json.Marshal(output.NewImageSummary(output.Run{Result: &recon.Result{}, Data: &dataset.Data{}}, output.Paths{}))
 	if err != nil {
 		t.Fatal(err)
 	}

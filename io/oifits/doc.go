@@ -6,7 +6,7 @@
 // OI_VIS2, OI_T3, OI_VIS and OI_FLUX into a File; every other extension is
 // skipped with a notice in File.Skipped. Values keep the units of the
 // standard (metres, degrees, MJD); conversion to the SI/radian quantities of
-// a forward model is the job of the data set model in package recon.
+// a forward model is the job of the data set model in package dataset.
 //
 // # Validation
 //

@@ -10,6 +10,7 @@ import (
 
 	"gonum.org/v1/gonum/diff/fd"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/recon"
 	"vcz/recon/model"
@@ -105,14 +106,14 @@ func TestCollect(t *testing.T) {
 
 // simEpochs simulates nights of a target whose point component moves by dx mas per
 // epoch, with the demo array at the given hour angles and the first channels.
-func simEpochs(t testing.TB, n int, dx float64, hours []float64, channels int) []*recon.Data {
+func simEpochs(t testing.TB, n int, dx float64, hours []float64, channels int) []*dataset.Data {
 	return simModel(t, n, "gauss:fwhm=1.5,flux=0.6;point:x=%g,y=0.4,flux=0.4", 0.6, dx, hours, channels)
 }
 
 // simModel is simEpochs for a compact model spec with a %g for the moving x (mas).
-func simModel(t testing.TB, n int, spec string, x0, dx float64, hours []float64, channels int) []*recon.Data {
+func simModel(t testing.TB, n int, spec string, x0, dx float64, hours []float64, channels int) []*dataset.Data {
 	t.Helper()
-	out := make([]*recon.Data, n)
+	out := make([]*dataset.Data, n)
 	for k := range n {
 		p, _ := simulate.Demo()
 		p.MJD = 61203 + float64(k)
@@ -127,7 +128,7 @@ func simModel(t testing.TB, n int, spec string, x0, dx float64, hours []float64,
 		if err != nil {
 			t.Fatal(err)
 		}
-		d, err := recon.FromFiles([]*oifits.File{f}, recon.Selection{})
+		d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -169,7 +170,7 @@ func TestJointGradient(t *testing.T) {
 }
 
 // independent reconstructs every epoch alone on grid g with total variation at weight mu.
-func independent(t testing.TB, data []*recon.Data, g recon.Grid, mu float64, iter int) ([][]float64, []float64) {
+func independent(t testing.TB, data []*dataset.Data, g recon.Grid, mu float64, iter int) ([][]float64, []float64) {
 	imgs := make([][]float64, len(data))
 	for k, d := range data {
 		p := recon.Problem{Data: d, Grid: g, Weight: mu,
@@ -183,7 +184,7 @@ func independent(t testing.TB, data []*recon.Data, g recon.Grid, mu float64, ite
 	return imgs, nil
 }
 
-func jointOf(t testing.TB, data []*recon.Data, g recon.Grid, mu float64) *Joint {
+func jointOf(t testing.TB, data []*dataset.Data, g recon.Grid, mu float64) *Joint {
 	j := &Joint{NPix: g.N * g.N, Parallel: true}
 	for _, d := range data {
 		e, err := NewJointEpoch(d, g, recon.TermOptions{}, &regularizers.TV{NX: g.N, NY: g.N}, mu, 1)

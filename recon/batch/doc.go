@@ -8,7 +8,7 @@
 //
 // Clusters groups observation times (MJD) into epochs: sorted times belong to one epoch
 // while consecutive times are at most gap days apart. A gap of half a day separates the
-// nights of any site while keeping one night together (recon.NightGap; common practice,
+// nights of any site while keeping one night together (dataset.NightGap; common practice,
 // no source).
 //
 // # Resuming

@@ -6,6 +6,7 @@ import (
 	"math"
 	"sync"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/optim"
 )
@@ -25,7 +26,7 @@ type JointEpoch struct {
 
 // NewJointEpoch builds the epoch's data terms for data d on grid g with the flux-normalised
 // model, and the flux weight ρ as recon.Solve sets it: the number of fitted data.
-func NewJointEpoch(d *recon.Data, g recon.Grid, terms recon.TermOptions, reg recon.Regularizer, mu float64, workers int) (*JointEpoch, error) {
+func NewJointEpoch(d *dataset.Data, g recon.Grid, terms recon.TermOptions, reg recon.Regularizer, mu float64, workers int) (*JointEpoch, error) {
 	m, err := recon.NewForwardModel(d, g, true, recon.NewTransform(workers))
 	if err != nil {
 		return nil, err
@@ -281,7 +282,7 @@ func SolveJoint(j *Joint, x0 [][]float64, lambda float64, s JointSettings) (*Joi
 		for t, e := range j.Epochs {
 			per[t] = e.Obj.TotalChi2r()
 			nt := 0
-			for _, ty := range recon.DataTypes() {
+			for _, ty := range dataset.DataTypes() {
 				if e.Obj.Use()&ty != 0 {
 					nt += e.Obj.N(ty)
 				}

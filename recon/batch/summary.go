@@ -9,8 +9,8 @@ import (
 	"sort"
 	"strconv"
 
+	"vcz/dataset"
 	"vcz/io/safefile"
-	"vcz/recon"
 )
 
 // Epoch states recorded in Row.Status.
@@ -34,7 +34,7 @@ type Row struct {
 	Status  string  `json:"status"` // StateDone or StateFailed
 	Error   string  `json:"error,omitempty"`
 	Skipped bool    `json:"skipped,omitempty"` // found complete and not redone
-	// Points and Chi2r are per data type, keyed by the type's word (recon.DataType.String:
+	// Points and Chi2r are per data type, keyed by the type's word (dataset.DataType.String:
 	// "vis2", "t3phi", …).
 	Points     map[string]int     `json:"points"`
 	Chi2r      map[string]float64 `json:"chi2r"`
@@ -72,7 +72,7 @@ func (s *Summary) Failed() int {
 // of recon's table of data types.
 var TypeOrder = func() []string {
 	var w []string
-	for _, t := range recon.DataTypes() {
+	for _, t := range dataset.DataTypes() {
 		w = append(w, t.String())
 	}
 	return w

@@ -3,7 +3,7 @@ package fit
 import (
 	"testing"
 
-	"vcz/recon"
+	"vcz/dataset"
 )
 
 // BenchmarkFitUD fits the diameter of a uniform disc to 360 V² and 480
@@ -39,7 +39,7 @@ func BenchmarkGridSearch(b *testing.B) {
 	primary := mustLoad(b, "ud:diameter=2")
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := GridSearch(d, primary, GridOptions{SepMax: 10, Fit: Options{Use: recon.Vis2 | recon.T3Phi}}); err != nil {
+		if _, err := GridSearch(d, primary, GridOptions{SepMax: 10, Fit: Options{Use: dataset.Vis2 | dataset.T3Phi}}); err != nil {
 			b.Fatal(err)
 		}
 	}

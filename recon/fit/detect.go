@@ -7,7 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
-	"vcz/recon"
+	"vcz/dataset"
 )
 
 // Detection is the significance of a component: the χ² of the model
@@ -40,7 +40,7 @@ type Detection struct {
 // started at their values in res, with opt), and the two χ² are compared
 // as in NewDetection. It fails when c is out of range, when c has no free
 // parameter, or when the model without c cannot be fitted.
-func Significance(d *recon.Data, res *Result, c int, opt Options) (*Detection, error) {
+func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection, error) {
 	if c < 0 || c >= len(res.Model.Components) || len(res.Model.Components) < 2 {
 		return nil, fmt.Errorf("fit: significance: no component %d to remove from a model of %d", c+1, len(res.Model.Components))
 	}

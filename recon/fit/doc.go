@@ -1,5 +1,5 @@
 // Package fit fits parametric sky models (vcz/recon/model) to
-// interferometric data (vcz/recon.Data) by least squares, and maps the χ²
+// interferometric data (vcz/dataset.Data) by least squares, and maps the χ²
 // of a faint companion over separation and position angle.
 //
 // # Residuals and χ²

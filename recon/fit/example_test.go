@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/fit"
 	"vcz/recon/model"
 )
@@ -13,7 +13,7 @@ import (
 // from a start of 2 mas.
 func Example() {
 	truth, _ := model.Load("ud:diameter=2.5")
-	d := &recon.Data{}
+	d := &dataset.Data{}
 	for k := 1; k <= 12; k++ {
 		u, v := float64(k)*6e6, float64(k)*2e6 // cycles per radian
 		w := truth.Vis(u, v)
@@ -22,7 +22,7 @@ func Example() {
 		p.Lambda, p.DLambda, p.MJD = append(p.Lambda, 1.6e-6), append(p.DLambda, 0), append(p.MJD, 0)
 		p.Value = append(p.Value, real(w)*real(w)+imag(w)*imag(w))
 		p.Err = append(p.Err, 0.01)
-		p.Origin = append(p.Origin, recon.Origin{})
+		p.Origin = append(p.Origin, dataset.Origin{})
 	}
 	start, err := model.Load("ud:diameter~2(0.5..6)")
 	if err != nil {
@@ -45,7 +45,7 @@ func Example() {
 // The fitted model is written as a model file and read back.
 func ExampleResult_ModelTOML() {
 	truth, _ := model.Load("ud:diameter=2.5")
-	d := &recon.Data{}
+	d := &dataset.Data{}
 	for k := 1; k <= 12; k++ {
 		u, v := float64(k)*6e6, float64(k)*2e6
 		w := truth.Vis(u, v)
@@ -54,7 +54,7 @@ func ExampleResult_ModelTOML() {
 		p.Lambda, p.DLambda, p.MJD = append(p.Lambda, 1.6e-6), append(p.DLambda, 0), append(p.MJD, 0)
 		p.Value = append(p.Value, real(w)*real(w)+imag(w)*imag(w))
 		p.Err = append(p.Err, 0.01)
-		p.Origin = append(p.Origin, recon.Origin{})
+		p.Origin = append(p.Origin, dataset.Origin{})
 	}
 	start, _ := model.Load("ud:diameter~2(0.5..6)")
 	res, err := fit.Fit(d, start, fit.Options{})

@@ -8,7 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 
@@ -21,7 +21,7 @@ var ErrNotConverged = errors.New("fit did not converge")
 // with one start, at most 200 iterations and the default tolerances.
 type Options struct {
 	// Use is the set of data types fitted; 0 means every type with data.
-	Use recon.DataType
+	Use dataset.DataType
 	// MaxIter bounds the Levenberg–Marquardt iterations of each start;
 	// 0 means 200.
 	MaxIter int
@@ -84,7 +84,7 @@ type Param struct {
 
 // TypeChi2 is the χ² of one data type at the best fit.
 type TypeChi2 struct {
-	Type  recon.DataType
+	Type  dataset.DataType
 	N     int
 	Chi2  float64
 	Chi2r float64 // Chi2/N
@@ -105,7 +105,7 @@ type Result struct {
 	Chi2       float64
 	N, DOF     int
 	Chi2r      float64
-	PerType    []TypeChi2 // types with data, in the order of recon.DataTypes()
+	PerType    []TypeChi2 // types with data, in the order of dataset.DataTypes()
 	Iterations int        // iterations of the best start
 	Evals      int        // residual evaluations over all starts
 	Converged  bool
@@ -115,7 +115,7 @@ type Result struct {
 	// Scanned is the number of extra starts seeded from the χ² map of the
 	// free positions (starts 1 to Scanned); the rest were drawn at random.
 	Scanned int
-	Use     recon.DataType
+	Use     dataset.DataType
 	Notices []string
 	// Pairs gives every component with a position relative to the
 	// primary (the brightest): separation, position angle, flux ratio and
@@ -129,7 +129,7 @@ type Result struct {
 // parameters, a start outside the parameter bounds; when no start
 // converges the Result is returned with an error wrapping
 // ErrNotConverged.
-func Fit(d *recon.Data, m *model.Model, opt Options) (*Result, error) {
+func Fit(d *dataset.Data, m *model.Model, opt Options) (*Result, error) {
 	opt = opt.withDefaults()
 	if err := m.Validate(); err != nil {
 		return nil, err
@@ -235,7 +235,7 @@ func newProblem(t *terms, m *model.Model) (*problem, error) {
 	return pr, nil
 }
 
-func orAll(t recon.DataType) string {
+func orAll(t dataset.DataType) string {
 	if t == 0 {
 		return "selected"
 	}
@@ -583,7 +583,7 @@ func (pr *problem) finish(res *Result, best *run) {
 	res.Iterations = best.iter
 	res.Converged = best.converged
 	res.Reason = best.reason
-	for _, ty := range recon.DataTypes() {
+	for _, ty := range dataset.DataTypes() {
 		if n := pr.t.N(ty); n > 0 {
 			c := pr.t.Chi2Of(ty, r)
 			res.PerType = append(res.PerType, TypeChi2{Type: ty, N: n, Chi2: c, Chi2r: c / float64(n)})

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"testing"
 
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/model"
 )
@@ -31,7 +32,7 @@ func mustLoad(t testing.TB, spec string) *model.Model {
 func TestNoiselessRecovery(t *testing.T) {
 	for _, c := range []struct {
 		name, truth, start string
-		use                recon.DataType
+		use                dataset.DataType
 	}{
 		{"ud", "ud:diameter=3.1", "ud:diameter~2.8", 0},
 		{"ld", "ld:diameter=3.4,u_ld=0.45", "ld:diameter~3.1,u_ld~0.3(0..1)", 0},
@@ -40,7 +41,7 @@ func TestNoiselessRecovery(t *testing.T) {
 		{"egauss", "egauss:fwhm=3,ratio=0.6,pa=35", "egauss:fwhm~2.7,ratio~0.7,pa~40", 0},
 		{"ring", "ring:diameter=4,inc=40,pa=110", "ring:diameter~4.3,inc~30,pa~100", 0},
 		{"binary", "ud:diameter=1.2;point:x=4,y=-3,flux=0.3", "ud:diameter~1.1;point:x~4.2,y~-2.8,flux~0.25(0..1)", 0},
-		{"binary vis", "ud:diameter=1.2;point:x=4,y=-3,flux=0.3", "ud:diameter~1.1;point:x~4.2,y~-2.8,flux~0.25(0..1)", recon.VisAmp | recon.VisPhi},
+		{"binary vis", "ud:diameter=1.2;point:x=4,y=-3,flux=0.3", "ud:diameter~1.1;point:x~4.2,y~-2.8,flux~0.25(0..1)", dataset.VisAmp | dataset.VisPhi},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			truth := mustLoad(t, c.truth)
@@ -83,43 +84,43 @@ func TestResidualsMatchChi2(t *testing.T) {
 	r := make([]float64, tr.Len())
 	m := mustLoad(t, "ud:diameter=2.2;point:x=2.5,y=1.5,flux=0.3")
 	tr.eval(r, m)
-	types := recon.DataTypes()
+	types := dataset.DataTypes()
 	got := make([]float64, len(types))
 	for i, ty := range types {
 		got[i] = tr.Chi2Of(ty, r)
 	}
 	want := make([]float64, len(types))
-	at := func(ty recon.DataType) *float64 { return &want[slices.Index(types[:], ty)] }
+	at := func(ty dataset.DataType) *float64 { return &want[slices.Index(types[:], ty)] }
 	for i := range d.Vis2.Value {
 		w := m.Vis(d.Vis2.U[i], d.Vis2.V[i])
 		x := (real(w)*real(w) + imag(w)*imag(w) - d.Vis2.Value[i]) / d.Vis2.Err[i]
-		*at(recon.Vis2) += x * x
+		*at(dataset.Vis2) += x * x
 	}
 	wrapped := 0
 	for i := range d.T3.Phi {
 		p := &d.T3
 		b := m.Vis(p.U1[i], p.V1[i]) * m.Vis(p.U2[i], p.V2[i]) * cmplx.Conj(m.Vis(p.U1[i]+p.U2[i], p.V1[i]+p.V2[i]))
 		x := (cmplx.Abs(b) - p.Amp[i]) / p.AmpErr[i]
-		*at(recon.T3Amp) += x * x
+		*at(dataset.T3Amp) += x * x
 		dphi := cmplx.Phase(b) - p.Phi[i]
 		if math.Abs(dphi) > math.Pi {
 			wrapped++
 		}
-		*at(recon.T3Phi) += 2 * (1 - math.Cos(dphi)) / (p.PhiErr[i] * p.PhiErr[i])
+		*at(dataset.T3Phi) += 2 * (1 - math.Cos(dphi)) / (p.PhiErr[i] * p.PhiErr[i])
 	}
 	for i := range d.Vis.Amp {
 		p := &d.Vis
 		w := m.Vis(p.U[i], p.V[i])
 		x := (cmplx.Abs(w) - p.Amp[i]) / p.AmpErr[i]
-		*at(recon.VisAmp) += x * x
-		*at(recon.VisPhi) += 2 * (1 - math.Cos(cmplx.Phase(w)-p.Phi[i])) / (p.PhiErr[i] * p.PhiErr[i])
+		*at(dataset.VisAmp) += x * x
+		*at(dataset.VisPhi) += 2 * (1 - math.Cos(cmplx.Phase(w)-p.Phi[i])) / (p.PhiErr[i] * p.PhiErr[i])
 	}
 	if wrapped == 0 {
 		t.Fatal("no closure-phase residual wraps; the test does not exercise the wrap")
 	}
 	for i := range want {
 		if math.Abs(got[i]-want[i]) > 1e-9*want[i] {
-			t.Errorf("%v: Σr² = %.12g, χ² = %.12g", recon.DataTypes()[i], got[i], want[i])
+			t.Errorf("%v: Σr² = %.12g, χ² = %.12g", dataset.DataTypes()[i], got[i], want[i])
 		}
 	}
 }
@@ -136,7 +137,7 @@ func TestNoiseScatterMatchesErrors(t *testing.T) {
 	var vals, errs []float64
 	for k := 0; k < 50; k++ {
 		d := synth(modelVis(truth), noise{v2: 0.02, t3amp: 0.01, t3phi: 0.01, rng: rng})
-		res, err := Fit(d, mustLoad(t, "ud:diameter~2.8"), Options{Use: recon.Vis2})
+		res, err := Fit(d, mustLoad(t, "ud:diameter~2.8"), Options{Use: dataset.Vis2})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -191,7 +192,7 @@ func TestUniformVersusLimbDarkened(t *testing.T) {
 			}
 			tm := &model.Model{Components: []*model.Component{truth}}
 			d := synth(modelVis(tm), exactNoise)
-			keep := &recon.Data{}
+			keep := &dataset.Data{}
 			for i := range d.Vis2.Value {
 				z := math.Pi * theta * recon.Mas * math.Hypot(d.Vis2.U[i], d.Vis2.V[i])
 				if z <= c.zmax {
@@ -203,7 +204,7 @@ func TestUniformVersusLimbDarkened(t *testing.T) {
 					p.MJD = append(p.MJD, 0)
 					p.Value = append(p.Value, d.Vis2.Value[i])
 					p.Err = append(p.Err, d.Vis2.Err[i])
-					p.Origin = append(p.Origin, recon.Origin{})
+					p.Origin = append(p.Origin, dataset.Origin{})
 				}
 			}
 			if keep.Vis2.Len() < 5 {
@@ -263,7 +264,7 @@ func TestBinaryAndClosurePhaseSign(t *testing.T) {
 	}
 	// The mirror-image start alone, fitted to V² only, is as good: the
 	// sign information is in the closure phases.
-	res2, err := Fit(d, start, Options{Use: recon.Vis2})
+	res2, err := Fit(d, start, Options{Use: dataset.Vis2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -364,7 +365,7 @@ func TestPickMinima(t *testing.T) {
 func TestGridSearchFindsCompanion(t *testing.T) {
 	truth := mustLoad(t, "ud:diameter=2;point:x=5.196,y=-3,flux=0.02") // sep 6 mas, PA 120°
 	d := synth(modelVis(truth), noise{v2: 0.003, t3amp: 0.003, t3phi: 0.3 * math.Pi / 180, rng: rand.New(rand.NewPCG(11, 5))})
-	use := Options{Use: recon.Vis2 | recon.T3Phi}
+	use := Options{Use: dataset.Vis2 | dataset.T3Phi}
 	g, err := GridSearch(d, mustLoad(t, "ud:diameter=2"), GridOptions{SepMin: 1, SepMax: 12, NSep: 45, NPA: 180, Ratio: 0.02, Fit: use})
 	if err != nil {
 		t.Fatal(err)
@@ -421,10 +422,10 @@ func TestFitErrors(t *testing.T) {
 		spec string
 		opt  Options
 	}{
-		{"ud:diameter=2", Options{}},                  // nothing free
-		{"ud:diameter~2", Options{Use: recon.VisAmp}}, // no such data
-		{"ud:diameter~7(1..6)", Options{}},            // start outside the bounds
-		{"ud:diameter~2;point:flux=-1", Options{}},    // total flux zero
+		{"ud:diameter=2", Options{}},                    // nothing free
+		{"ud:diameter~2", Options{Use: dataset.VisAmp}}, // no such data
+		{"ud:diameter~7(1..6)", Options{}},              // start outside the bounds
+		{"ud:diameter~2;point:flux=-1", Options{}},      // total flux zero
 	} {
 		if _, err := Fit(d, mustLoadLoose(t, c.spec), c.opt); err == nil {
 			t.Errorf("%s: no error", c.spec)

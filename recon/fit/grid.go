@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"math"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 
@@ -49,7 +49,7 @@ type GridResult struct {
 // towards east and y = sep·cos PA towards north (CONVENTIONS.md). It is the
 // usual way to find a faint companion without a start guess: the map is
 // multi-modal, a local fit is not.
-func GridSearch(d *recon.Data, primary *model.Model, opt GridOptions) (*GridResult, error) {
+func GridSearch(d *dataset.Data, primary *model.Model, opt GridOptions) (*GridResult, error) {
 	if !(opt.SepMax > 0) || opt.SepMin < 0 || opt.SepMin >= opt.SepMax {
 		return nil, fmt.Errorf("fit: grid search: separations %g to %g mas; want 0 ≤ min < max", opt.SepMin, opt.SepMax)
 	}

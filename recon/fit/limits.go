@@ -11,7 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 
@@ -88,7 +88,7 @@ type Limits struct {
 // up to a factor 1.4 in flux in the tests. The model's visibilities are
 // computed once; each trial costs one complex multiply-add per frequency,
 // the residuals of the data and P dot products.
-func DetectionLimits(d *recon.Data, res *Result, opt LimitOptions) (*Limits, error) {
+func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, error) {
 	if !(opt.SepMax > 0) || opt.SepMin < 0 || opt.SepMin >= opt.SepMax {
 		return nil, fmt.Errorf("fit: detection limits: separations %g to %g mas; want 0 ≤ min < max", opt.SepMin, opt.SepMax)
 	}

@@ -8,7 +8,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"vcz/recon"
+	"vcz/dataset"
 )
 
 // The Δχ² thresholds are the χ² quantiles of the normal tails: with 3
@@ -118,7 +118,7 @@ func BenchmarkDetectionLimits(b *testing.B) {
 	n.vis = true
 	n.rng = rand.New(rand.NewPCG(1, 2))
 	d := synth(modelVis(mustLoad(b, "ud:diameter=1.5")), n)
-	res, err := Fit(d, mustLoad(b, "ud:diameter~1.5"), Options{Use: recon.Vis2 | recon.T3Amp | recon.T3Phi | recon.VisAmp | recon.VisPhi})
+	res, err := Fit(d, mustLoad(b, "ud:diameter~1.5"), Options{Use: dataset.Vis2 | dataset.T3Amp | dataset.T3Phi | dataset.VisAmp | dataset.VisPhi})
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"vcz/dataset"
 	"vcz/recon"
 	"vcz/recon/model"
 )
@@ -11,15 +12,15 @@ import (
 // recon.Objective.
 type terms struct {
 	*recon.Residuals
-	d    *recon.Data
-	use  recon.DataType // as asked, 0 = all
-	u, v []float64      // the points at which vis is evaluated
-	vis  []complex128   // scratch: visibilities at the points
+	d    *dataset.Data
+	use  dataset.DataType // as asked, 0 = all
+	u, v []float64        // the points at which vis is evaluated
+	vis  []complex128     // scratch: visibilities at the points
 }
 
 // newTerms selects the data of d that a fit of the types in use (0 = all)
 // uses; stride > 1 keeps every stride-th datum of each type.
-func newTerms(d *recon.Data, use recon.DataType, stride int) *terms {
+func newTerms(d *dataset.Data, use dataset.DataType, stride int) *terms {
 	r := recon.NewResiduals(d, recon.ResidualOptions{Use: use, Stride: stride})
 	u, v := r.Points()
 	return &terms{Residuals: r, d: d, use: use, u: u, v: v, vis: make([]complex128, len(u))}

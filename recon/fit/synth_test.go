@@ -5,7 +5,7 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 
-	"vcz/recon"
+	"vcz/dataset"
 	"vcz/recon/model"
 )
 
@@ -26,10 +26,10 @@ type noise struct {
 // baseline as a V² point and every station triple as a closure triangle.
 // Values are vis at those frequencies plus Gaussian noise when n.rng is
 // not nil.
-func synth(vis visFunc, n noise) *recon.Data {
+func synth(vis visFunc, n noise) *dataset.Data {
 	stations := [][2]float64{{0, 0}, {10, 3}, {-25, 30}, {60, -20}, {-70, -55}, {35, 85}} // east, north (m)
 	lambdas := []float64{1.5e-6, 1.65e-6, 1.8e-6}
-	d := &recon.Data{}
+	d := &dataset.Data{}
 	gauss := func(s float64) float64 {
 		if n.rng == nil {
 			return 0
@@ -57,7 +57,7 @@ func synth(vis visFunc, n noise) *recon.Data {
 					p.MJD = append(p.MJD, 60000+float64(ep)/24)
 					p.Value = append(p.Value, real(w)*real(w)+imag(w)*imag(w)+gauss(n.v2))
 					p.Err = append(p.Err, n.v2)
-					p.Origin = append(p.Origin, recon.Origin{})
+					p.Origin = append(p.Origin, dataset.Origin{})
 					if n.vis {
 						c := &d.Vis
 						c.U = append(c.U, u)
@@ -71,9 +71,9 @@ func synth(vis visFunc, n noise) *recon.Data {
 						c.PhiErr = append(c.PhiErr, n.t3phi)
 						c.AmpOK = append(c.AmpOK, true)
 						c.PhiOK = append(c.PhiOK, true)
-						c.AmpTyp = append(c.AmpTyp, recon.AmpAbsolute)
-						c.PhiTyp = append(c.PhiTyp, recon.PhiAbsolute)
-						c.Origin = append(c.Origin, recon.Origin{})
+						c.AmpTyp = append(c.AmpTyp, dataset.AmpAbsolute)
+						c.PhiTyp = append(c.PhiTyp, dataset.PhiAbsolute)
+						c.Origin = append(c.Origin, dataset.Origin{})
 					}
 				}
 			}
@@ -98,7 +98,7 @@ func synth(vis visFunc, n noise) *recon.Data {
 						t.PhiErr = append(t.PhiErr, n.t3phi)
 						t.AmpOK = append(t.AmpOK, true)
 						t.PhiOK = append(t.PhiOK, true)
-						t.Origin = append(t.Origin, recon.Origin{})
+						t.Origin = append(t.Origin, dataset.Origin{})
 					}
 				}
 			}

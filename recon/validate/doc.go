@@ -55,7 +55,7 @@
 // The noise is Gaussian with those σ (phases wrapped onto (−180°, 180°]). Then 2 % of the
 // points of each table, chosen at random, are flagged (FLAG = T) and corrupted: a third with
 // NaN values, the others with values far off and errors of zero or NaN. The file is encoded
-// as OIFITS v2 (vcz/io/oifits), decoded again and merged with recon.FromFiles, so that the
+// as OIFITS v2 (vcz/io/oifits), decoded again and merged with dataset.FromFiles, so that the
 // data pass through the real reader, which drops the flagged points.
 //
 // # Runs

@@ -8,9 +8,9 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"strings"
+	"vcz/dataset"
 
 	"vcz/io/oifits"
-	"vcz/recon"
 	"vcz/recon/simulate"
 )
 
@@ -209,8 +209,8 @@ type Dataset struct {
 	// File is the generated file before encoding; Bytes its encoded form.
 	File  *oifits.File
 	Bytes []byte
-	// Data is Bytes read back with oifits.Decode and recon.FromFiles (everything selected).
-	Data *recon.Data
+	// Data is Bytes read back with oifits.Decode and dataset.FromFiles (everything selected).
+	Data *dataset.Data
 	// Points and Flagged count the points written and flagged per table type: V², closure
 	// triangles, complex visibilities.
 	Points, Flagged [3]int
@@ -375,7 +375,7 @@ func Generate(c Case) (*Dataset, error) {
 	if err != nil {
 		return nil, fmt.Errorf("validate: %s: reading back: %w", c.Name(), err)
 	}
-	if ds.Data, err = recon.FromFiles([]*oifits.File{back}, recon.Selection{}); err != nil {
+	if ds.Data, err = dataset.FromFiles([]*oifits.File{back}, dataset.Selection{}); err != nil {
 		return nil, fmt.Errorf("validate: %s: %w", c.Name(), err)
 	}
 	return ds, nil

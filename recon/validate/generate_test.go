@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"sync"
 	"testing"
+	"vcz/dataset"
 
 	"vcz/recon"
 )
@@ -154,7 +155,7 @@ func TestDirectSumBinary(t *testing.T) {
 // chi2Against returns χ²ᵣ of the V², closure phases and T3 amplitudes of d (as read back) and
 // of its complex visibilities against the exact visibility function vf: the data carry only
 // their stated noise when it is near 1.
-func chi2Against(d *recon.Data, vf func(u, v float64) complex128) (v2, cp, t3a, va, vp float64) {
+func chi2Against(d *dataset.Data, vf func(u, v float64) complex128) (v2, cp, t3a, va, vp float64) {
 	for i := range d.Vis2.Value {
 		z := vf(d.Vis2.U[i], d.Vis2.V[i])
 		w := real(z)*real(z) + imag(z)*imag(z)
@@ -242,7 +243,7 @@ func TestFlags(t *testing.T) {
 		t.Fatal(err)
 	}
 	d := ds.Data
-	counts := []recon.Counts{d.Vis2Count, d.T3Count, d.VisCount}
+	counts := []dataset.Counts{d.Vis2Count, d.T3Count, d.VisCount}
 	for i, name := range []string{"V²", "T3", "VIS"} {
 		n, fl := ds.Points[i], ds.Flagged[i]
 		if n == 0 {
@@ -272,7 +273,7 @@ func TestFlags(t *testing.T) {
 	}
 	for i := range d.Vis.Lambda {
 		if !d.Vis.AmpOK[i] || !d.Vis.PhiOK[i] || bad(d.Vis.Amp[i], d.Vis.AmpErr[i]) || bad(d.Vis.Phi[i], d.Vis.PhiErr[i]) ||
-			d.Vis.AmpTyp[i] != recon.AmpAbsolute || d.Vis.PhiTyp[i] != recon.PhiAbsolute {
+			d.Vis.AmpTyp[i] != dataset.AmpAbsolute || d.Vis.PhiTyp[i] != dataset.PhiAbsolute {
 			t.Fatalf("kept visibility %d: amp %g ± %g, phase %g ± %g, types %d %d", i, d.Vis.Amp[i], d.Vis.AmpErr[i], d.Vis.Phi[i], d.Vis.PhiErr[i], d.Vis.AmpTyp[i], d.Vis.PhiTyp[i])
 		}
 	}

@@ -6,6 +6,7 @@ import (
 	"math"
 	"sync"
 	"time"
+	"vcz/dataset"
 
 	"vcz/recon"
 	"vcz/runspec"
@@ -16,11 +17,11 @@ import (
 // weight and start chosen from the data, tv with its default edge threshold, every data
 // type at weight 1, seed 1, GOMAXPROCS transform workers). Like the command it refuses
 // data with several targets or no usable point.
-func DefaultProblem(d *recon.Data) (recon.Problem, recon.Settings, error) {
+func DefaultProblem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 	if len(d.Targets) > 1 {
 		return recon.Problem{Data: d}, recon.Settings{}, fmt.Errorf("validate: the data hold %d targets", len(d.Targets))
 	}
-	if d.Len(recon.AllTypes) == 0 {
+	if d.Len(dataset.AllTypes) == 0 {
 		return recon.Problem{Data: d}, recon.Settings{}, errors.New("validate: no usable data points")
 	}
 	return runspec.Spec{}.Problem(d)
@@ -147,7 +148,7 @@ func RunCase(c Case, opt Options) Row {
 		return row
 	}
 	row.GenerateSeconds = time.Since(t0).Seconds()
-	row.N = ds.Data.Len(recon.AllTypes)
+	row.N = ds.Data.Len(dataset.AllTypes)
 	p, s, err := DefaultProblem(ds.Data)
 	if err != nil {
 		row.Err = err

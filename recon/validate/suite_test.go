@@ -10,6 +10,7 @@ import (
 	"sync"
 	"testing"
 	"time"
+	"vcz/dataset"
 
 	"vcz/recon"
 )
@@ -184,7 +185,7 @@ func BenchmarkNight(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	b.Logf("night: %d V², %d closure triangles, %d usable measurements", ds.Data.Vis2.Len(), ds.Data.T3.Len(), ds.Data.Len(recon.AllTypes))
+	b.Logf("night: %d V², %d closure triangles, %d usable measurements", ds.Data.Vis2.Len(), ds.Data.T3.Len(), ds.Data.Len(dataset.AllTypes))
 	b.ReportAllocs()
 	var o Outcome
 	b.ResetTimer()

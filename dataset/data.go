@@ -1,4 +1,4 @@
-package recon
+package dataset
 
 import (
 	"math"
@@ -113,7 +113,7 @@ func (d *Data) Len(types DataType) int {
 	n := 0
 	for _, r := range typeTable {
 		if types&r.Type != 0 {
-			n += r.kind.count(d)
+			n += r.count(d)
 		}
 	}
 	return n
@@ -123,7 +123,7 @@ func (d *Data) Len(types DataType) int {
 func (d *Data) Available() DataType {
 	var t DataType
 	for _, r := range typeTable {
-		if r.kind.count(d) > 0 {
+		if r.count(d) > 0 {
 			t |= r.Type
 		}
 	}
@@ -161,8 +161,8 @@ type Summary struct {
 const NightGap = 0.5
 
 // Summarize computes the summary of a data set: counts and geometry only (the grid a
-// reconstruction would choose is ChooseGrid's). With no usable point the geometric figures
-// are zero.
+// reconstruction would choose is recon.ChooseGrid's). With no usable point the geometric
+// figures are zero.
 func (d *Data) Summarize() Summary {
 	s := Summary{
 		Files:       append([]string(nil), d.Files...),

@@ -1,4 +1,4 @@
-package recon
+package dataset
 
 import (
 	"strings"
@@ -14,7 +14,7 @@ func TestTypeTable(t *testing.T) {
 	words, keys := map[string]bool{}, map[string]bool{}
 	var all DataType
 	for i, r := range typeTable {
-		if r.Type != DataType(1)<<i || r.Type.index() != i || DataTypes()[i] != r.Type || r.Type.Info().Word != r.Word {
+		if r.Type != DataType(1)<<i || r.Type.Index() != i || DataTypes()[i] != r.Type || r.Type.Info().Word != r.Word {
 			t.Errorf("row %d: type %d is not bit %d", i, r.Type, i)
 		}
 		all |= r.Type
@@ -26,8 +26,8 @@ func TestTypeTable(t *testing.T) {
 			t.Errorf("row %d: FITS key %q is empty, too long, not upper case or repeated", i, r.Key)
 		}
 		keys[r.Key] = true
-		if r.Label == "" || !strings.HasPrefix(r.Table, "OI_") || r.kind == nil {
-			t.Errorf("row %d: label %q, table %q, term %v", i, r.Label, r.Table, r.kind)
+		if r.Label == "" || !strings.HasPrefix(r.Table, "OI_") || r.count == nil {
+			t.Errorf("row %d: label %q, table %q, count %v", i, r.Label, r.Table, r.count != nil)
 		}
 		if r.Phase != (r.Unit == "°") {
 			t.Errorf("row %d: phase %v with unit %q", i, r.Phase, r.Unit)
@@ -81,8 +81,8 @@ func TestParseDataTypes(t *testing.T) {
 	}
 	defer func() {
 		if recover() == nil {
-			t.Error("index of two types did not panic")
+			t.Error("Index of two types did not panic")
 		}
 	}()
-	(Vis2 | T3Amp).index()
+	(Vis2 | T3Amp).Index()
 }

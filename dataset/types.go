@@ -1,4 +1,4 @@
-package recon
+package dataset
 
 import (
 	"errors"
@@ -49,37 +49,55 @@ type TypeInfo struct {
 	// wrap-safe one.
 	Phase bool
 
-	kind termKind // the data term (term_*.go)
+	count func(d *Data) int // the number of usable measurements of the type in d
 }
 
-// typeTable is the table of data types, in the order of the χ² report, of Weights and of the
-// DataType bits. Adding a data type is one row here, one bit above and one term file
-// (DEVELOPERS.md, "How to add a data term").
+// typeTable is the table of data types, in the order of the χ² report, of the weights and of
+// the DataType bits. Adding a data type is one row here, one bit above, and its term in
+// package recon (DEVELOPERS.md, "How to add a data term").
 var typeTable = [...]TypeInfo{
-	{Type: Vis2, Word: "vis2", Key: "V2", Label: "V²", Table: "OI_VIS2", kind: vis2Kind{}},
-	{Type: T3Amp, Word: "t3amp", Key: "T3A", Label: "T3 amplitude", Table: "OI_T3", kind: t3AmpKind{}},
-	{Type: T3Phi, Word: "t3phi", Key: "T3P", Label: "closure phase", Unit: "°", Table: "OI_T3", Phase: true, kind: t3PhiKind{}},
-	{Type: VisAmp, Word: "visamp", Key: "VA", Label: "visibility amplitude", Table: "OI_VIS", kind: visAmpKind{}},
-	{Type: VisPhi, Word: "visphi", Key: "VP", Label: "visibility phase", Unit: "°", Table: "OI_VIS", Phase: true, kind: visPhiKind{}},
+	{Type: Vis2, Word: "vis2", Key: "V2", Label: "V²", Table: "OI_VIS2",
+		count: func(d *Data) int { return d.Vis2.Len() }},
+	{Type: T3Amp, Word: "t3amp", Key: "T3A", Label: "T3 amplitude", Table: "OI_T3",
+		count: func(d *Data) int { return countTrue(d.T3.AmpOK) }},
+	{Type: T3Phi, Word: "t3phi", Key: "T3P", Label: "closure phase", Unit: "°", Table: "OI_T3", Phase: true,
+		count: func(d *Data) int { return countTrue(d.T3.PhiOK) }},
+	{Type: VisAmp, Word: "visamp", Key: "VA", Label: "visibility amplitude", Table: "OI_VIS",
+		count: func(d *Data) int { return countTrue(d.Vis.AmpOK) }},
+	{Type: VisPhi, Word: "visphi", Key: "VP", Label: "visibility phase", Unit: "°", Table: "OI_VIS", Phase: true,
+		count: func(d *Data) int { return countTrue(d.Vis.PhiOK) }},
 }
 
-// nTypes is the number of data types.
-const nTypes = len(typeTable)
+// NTypes is the number of data types: the length of DataTypes() and of every array indexed
+// by DataType.Index.
+const NTypes = len(typeTable)
 
 // typeList lists the single data types in the order of the table.
-var typeList = func() (l [nTypes]DataType) {
+var typeList = func() (l [NTypes]DataType) {
 	for i := range l {
 		l[i] = typeTable[i].Type
 	}
 	return l
 }()
 
-// DataTypes returns the single data types in the order of the χ² report and of Weights.
-func DataTypes() [nTypes]DataType { return typeList }
+// DataTypes returns the single data types in the order of the table: the order of the χ²
+// report and of the weights.
+func DataTypes() [NTypes]DataType { return typeList }
 
 // Info returns the row of a single data type in the table of data types. It panics when t is
 // not a single type.
-func (t DataType) Info() TypeInfo { return typeTable[t.index()] }
+func (t DataType) Info() TypeInfo { return typeTable[t.Index()] }
+
+// countTrue returns the number of true values in ok.
+func countTrue(ok []bool) int {
+	n := 0
+	for _, b := range ok {
+		if b {
+			n++
+		}
+	}
+	return n
+}
 
 // String returns the words of the set bits joined by "+", e.g. "vis2+t3phi", and "none" for
 // the empty set.
@@ -99,11 +117,12 @@ func (t DataType) String() string {
 // Words returns the words of the set bits joined by ", ", e.g. "vis2, t3phi", for help texts.
 func (t DataType) Words() string { return strings.ReplaceAll(t.String(), "+", ", ") }
 
-// index returns the position of a single data type in DataTypes().
-func (t DataType) index() int {
+// Index returns the position of a single data type in DataTypes(). It panics when t is not
+// a single type.
+func (t DataType) Index() int {
 	i := bits.TrailingZeros(uint(t))
-	if t == 0 || t&(t-1) != 0 || i >= nTypes {
-		panic(fmt.Sprintf("recon: %d is not a single data type", t))
+	if t == 0 || t&(t-1) != 0 || i >= NTypes {
+		panic(fmt.Sprintf("dataset: %d is not a single data type", t))
 	}
 	return i
 }
@@ -117,7 +136,7 @@ func typeWords() []string {
 	var w []string
 	for i, r := range typeTable {
 		w = append(w, r.Word)
-		last := i+1 == nTypes || typeTable[i+1].Table != r.Table
+		last := i+1 == NTypes || typeTable[i+1].Table != r.Table
 		if last && tableWord(r.Table) != r.Word {
 			w = append(w, tableWord(r.Table))
 		}

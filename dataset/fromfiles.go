@@ -1,4 +1,4 @@
-package recon
+package dataset
 
 import (
 	"fmt"
@@ -34,9 +34,12 @@ type Selection struct {
 // without AMPTYP or PHITYP (all OIFITS v1 files) are taken as absolute, as the v1 standard
 // defines VISAMP and VISPHI (Pauls et al. 2005, sect. 6.5).
 //
-// It returns an error, naming the file and table, when a data table refers to an instrument
-// without an OI_WAVELENGTH table or a channel has a non-positive wavelength, and when
-// sel.Target matches no target of any file.
+// It returns an *Error, naming the file, table, row and column, when a data table refers to
+// an instrument without an OI_WAVELENGTH table, a channel has a non-positive wavelength, a
+// row's columns do not have one value per channel or a usable point has an error that is not
+// positive, and one without a position when sel.Target matches no target of any file. A file
+// decoded by io/oifits has passed all but the wavelength check already (its package
+// documentation, "Validation"); the checks stay for files built in memory.
 func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 	d := &Data{}
 	types := sel.Types
@@ -103,18 +106,22 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 		waveOK := func(l float64) bool {
 			return !(sel.WaveMin != 0 && l < sel.WaveMin) && !(sel.WaveMax != 0 && l > sel.WaveMax)
 		}
-		lookup := func(ext string, hdu int, ins string, nrows, nwave int) (*oifits.Wavelength, error) {
+		// bad returns the error for a problem at a position of file f.
+		bad := func(ext string, hdu, row int, col, format string, args ...any) error {
+			return &Error{File: f.Name, HDU: hdu, ExtName: ext, Row: row, Column: col, Err: fmt.Errorf(format, args...)}
+		}
+		lookup := func(ext string, hdu int, ins string) (*oifits.Wavelength, error) {
 			w := waves[ins]
 			if w == nil {
-				return nil, fmt.Errorf("%s: %s (HDU %d): INSNAME %q has no OI_WAVELENGTH table", f.Name, ext, hdu, ins)
+				return nil, bad(ext, hdu, 0, "INSNAME", "INSNAME %q has no OI_WAVELENGTH table", ins)
 			}
 			for c, l := range w.EffWave {
 				if !(l > 0) || math.IsInf(l, 0) {
-					return nil, fmt.Errorf("%s: OI_WAVELENGTH (HDU %d) row %d: EFF_WAVE is %g; wavelengths must be positive", f.Name, w.HDU, c+1, l)
+					return nil, bad("OI_WAVELENGTH", w.HDU, c+1, "EFF_WAVE", "EFF_WAVE is %g; wavelengths must be positive", l)
 				}
 			}
 			if len(w.EffBand) != len(w.EffWave) {
-				return nil, fmt.Errorf("%s: OI_WAVELENGTH (HDU %d): EFF_BAND has %d values for %d channels", f.Name, w.HDU, len(w.EffBand), len(w.EffWave))
+				return nil, bad("OI_WAVELENGTH", w.HDU, 0, "EFF_BAND", "EFF_BAND has %d values for %d channels", len(w.EffBand), len(w.EffWave))
 			}
 			return w, nil
 		}
@@ -132,7 +139,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 		}
 		width := func(ext string, hdu, row int, col string, got, n int) error {
 			if got != n {
-				return fmt.Errorf("%s: %s (HDU %d) row %d: %s has %d values for %d channels", f.Name, ext, hdu, row, col, got, n)
+				return bad(ext, hdu, row, col, "%s has %d values for %d channels", col, got, n)
 			}
 			return nil
 		}
@@ -142,7 +149,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 				if !insOK(tb.InsName) {
 					continue
 				}
-				w, err := lookup("OI_VIS2", tb.HDU, tb.InsName, len(tb.Rows), 0)
+				w, err := lookup("OI_VIS2", tb.HDU, tb.InsName)
 				if err != nil {
 					return nil, err
 				}
@@ -170,7 +177,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						case !finite(row.Data[c]) || !finite(row.Err[c]) || !finite(row.UCoord) || !finite(row.VCoord):
 							d.Vis2Count.NonFinite++
 						case !(row.Err[c] > 0):
-							return nil, fmt.Errorf("%s: OI_VIS2 (HDU %d) row %d: VIS2ERR is %g; errors must be positive", f.Name, tb.HDU, r+1, row.Err[c])
+							return nil, notPositive(f.Name, "OI_VIS2", tb.HDU, r+1, "VIS2ERR", row.Err[c])
 						default:
 							d.Vis2Count.Valid++
 							p := &d.Vis2
@@ -194,7 +201,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 				if !insOK(tb.InsName) {
 					continue
 				}
-				w, err := lookup("OI_T3", tb.HDU, tb.InsName, len(tb.Rows), 0)
+				w, err := lookup("OI_T3", tb.HDU, tb.InsName)
 				if err != nil {
 					return nil, err
 				}
@@ -246,7 +253,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 				if !insOK(tb.InsName) {
 					continue
 				}
-				w, err := lookup("OI_VIS", tb.HDU, tb.InsName, len(tb.Rows), 0)
+				w, err := lookup("OI_VIS", tb.HDU, tb.InsName)
 				if err != nil {
 					return nil, err
 				}
@@ -310,7 +317,7 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 				all = append(all, fmt.Sprintf("%q (id %d in %s)", strings.TrimSpace(t.Name), t.ID, f.Name))
 			}
 		}
-		return nil, fmt.Errorf("target %q not found; the files have %s", sel.Target, strings.Join(all, ", "))
+		return nil, &Error{Err: fmt.Errorf("target %q not found; the files have %s", sel.Target, strings.Join(all, ", "))}
 	}
 	for n := range names {
 		d.Targets = append(d.Targets, n)
@@ -321,6 +328,13 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 	}
 	sort.Slice(d.Instruments, func(i, j int) bool { return d.Instruments[i].Name < d.Instruments[j].Name })
 	return d, nil
+}
+
+// notPositive returns the error for an error column col whose value e, on a usable point, is
+// not positive. io/oifits rejects such values when it decodes a file; files built in memory
+// (simulations, tests) reach FromFiles without that check.
+func notPositive(file, ext string, hdu, row int, col string, e float64) error {
+	return &Error{File: file, HDU: hdu, ExtName: ext, Row: row, Column: col, Err: fmt.Errorf("%s is %g; errors must be positive", col, e)}
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -362,10 +376,10 @@ func (k ampPhaseCols) channel(file string, hdu, row, c int, amp, ampErr, phi, ph
 	v.ampOK = wantAmp && finite(amp[c]) && finite(ampErr[c])
 	v.phiOK = wantPhi && finite(phi[c]) && finite(phiErr[c])
 	if v.ampOK && !(ampErr[c] > 0) {
-		return v, fmt.Errorf("%s: %s (HDU %d) row %d: %sERR is %g; errors must be positive", file, k.ext, hdu, row, k.amp, ampErr[c])
+		return v, notPositive(file, k.ext, hdu, row, k.amp+"ERR", ampErr[c])
 	}
 	if v.phiOK && !(phiErr[c] > 0) {
-		return v, fmt.Errorf("%s: %s (HDU %d) row %d: %sERR is %g; errors must be positive", file, k.ext, hdu, row, k.phi, phiErr[c])
+		return v, notPositive(file, k.ext, hdu, row, k.phi+"ERR", phiErr[c])
 	}
 	if v.ampOK {
 		v.a, v.ae = amp[c], ampErr[c]
