@@ -166,7 +166,7 @@ func ASCII(s string) string {
 // reconstruction compare pixel by pixel; what goes into a HISTORY card.
 func WriteModel(path string, img []float64, n int, pixel float64, files []*oifits.File, target, what string) error {
 	ra, dec, ok := TargetCoords(files, target)
-	im := &fitsimage.Image{NX: n, NY: n, Pixel: pixel, Data: img, RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
+	im := &fitsimage.Image{NX: n, NY: n, Pixel: pixel, Data: img, RA: ra, Dec: dec, HasRADec: ok, BUnit: BUnit, Normalized: true,
 		Cards: []fitsimage.Card{
 			{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
 			{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},

@@ -101,7 +101,7 @@ func (o Outputs) Image(r Run) *fitsimage.Image {
 	}
 	return &fitsimage.Image{
 		NX: res.Grid.N, NY: res.Grid.N, Pixel: res.Grid.Pixel, Data: res.Image,
-		RA: ra, Dec: dec, HasRADec: ok, BUnit: "flux/pixel", Normalized: true,
+		RA: ra, Dec: dec, HasRADec: ok, BUnit: BUnit, Normalized: true,
 		Cards: append(FITSCards(r), o.Cards...),
 	}
 }
@@ -292,6 +292,12 @@ func ClosurePhases(d *dataset.Data) plots.T3Data {
 	}
 	return td
 }
+
+// BUnit is the BUNIT of every image the project writes: images are normalised to a total of
+// 1 (a COMMENT card says so), so a pixel holds a fraction of the flux, a quantity per pixel.
+// "pixel-1" is a unit string of the FITS standard (FITS 4.0, sect. 4.3: the symbol pixel, and
+// a power written as the exponent after the symbol), which astropy reads as 1/pix.
+const BUnit = "pixel-1"
 
 // ParseStretch reads the value of -stretch, the display stretch of the previews; "" is
 // auto (linear, or asinh for an image whose brightest pixels outshine the rest: see

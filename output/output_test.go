@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"vcz/dataset"
+	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/io/preview"
@@ -194,6 +195,24 @@ func TestWriteZeroOutputs(t *testing.T) {
 	}
 	if !im.HasRADec {
 		t.Error("the target's coordinates are not in the header")
+	}
+}
+
+// TestBUnitAstropy reads a written image with astropy's CCDData.read, which parses BUNIT as
+// a FITS unit string (FITS standard 4.0, sect. 4.3) and raises on one it does not know: the
+// unit is 1/pixel and the pixels sum to 1, as the header says.
+func TestBUnitAstropy(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "rec.fits")
+	if _, err := (Outputs{NoPNG: true, NoPlots: true}).Write(out, fixedRun(t)); err != nil {
+		t.Fatal(err)
+	}
+	got := strings.Fields(string(fitstest.RunPython(t, "testdata/ccddata.py", out)))
+	if len(got) != 2 || got[0] != "pix-1" {
+		t.Fatalf("astropy CCDData: %q, want unit pix-1 and the flux", got)
+	}
+	var sum float64
+	if _, err := fmt.Sscan(got[1], &sum); err != nil || math.Abs(sum-1) > 1e-12 {
+		t.Errorf("astropy CCDData: flux %q, want 1", got[1])
 	}
 }
 

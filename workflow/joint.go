@@ -120,7 +120,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	}
 	n := grid.N
 	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,
-		BUnit: "flux/pixel", Normalized: true}
+		BUnit: output.BUnit, Normalized: true}
 	cube.Cards = append(cube.Cards,
 		fitsimage.Card{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
@@ -144,7 +144,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	for t, e := range epochs {
 		row := results[t].Row
 		im := &fitsimage.Image{NX: n, NY: n, Pixel: grid.Pixel, Data: res.Images[t], RA: ra, Dec: dec, HasRADec: hasRADec,
-			BUnit: "flux/pixel", Normalized: true, Cards: []fitsimage.Card{
+			BUnit: output.BUnit, Normalized: true, Cards: []fitsimage.Card{
 				{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 				{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda of the joint run"},
 				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
