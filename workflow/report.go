@@ -12,9 +12,11 @@ import (
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"vcz/dataset"
 
 	"vcz/io/fitsimage"
+	"vcz/io/oifits"
 	"vcz/io/plots"
 	"vcz/io/preview"
 	"vcz/io/safefile"
@@ -106,7 +108,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 	}
 	rep.Alignment = "integer-pixel shift to the cross-correlation peak with the first successful image"
 	if len(ok) > 0 {
-		if err := writeAgreement(dir, choice, ok, rep, outs.Stretch); err != nil {
+		if err := writeAgreement(dir, c.Files, choice, ok, rep, outs.Stretch); err != nil {
 			return nil, err
 		}
 		if err := writeComparePlots(dir, d, ok); err != nil {
@@ -135,7 +137,7 @@ func chi2Label(res *recon.Result) string {
 }
 
 // writeAgreement writes the panel, the spread map and the robust image.
-func writeAgreement(dir string, choice recon.GridChoice, ok []*CompareRun, rep *CompareReport, stretch preview.Stretch) error {
+func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, ok []*CompareRun, rep *CompareReport, stretch preview.Stretch) error {
 	n := choice.N
 	pix := choice.Pixel / recon.Mas
 	var frames []preview.Frame
@@ -158,15 +160,31 @@ func writeAgreement(dir string, choice recon.GridChoice, ok []*CompareRun, rep *
 	aligned, shifts := alignImages(imgs, n, n/4)
 	rep.Shifts = shifts
 	robust := pixelMin(aligned)
+	// The maps carry the world coordinates, target and regularizers of the images they
+	// summarise, as the images do.
+	ra, dec, hasRADec := output.TargetCoords(files, rep.Target)
+	object := rep.Target
+	if object == "" {
+		object = "UNKNOWN"
+	}
+	var names []string
+	for _, r := range ok {
+		names = append(names, r.Name)
+	}
 	for _, o := range []struct {
-		name, title, label string
-		img                []float64
+		name, title, label, bunit string
+		img                       []float64
 	}{
-		{"compare-spread", "Spread: pixel-wise std / mean flux", "σ / mean", spread},
-		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", robust},
+		{"compare-spread", "Spread: pixel-wise std / mean flux", "σ / mean", "", spread},
+		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", output.BUnit, robust},
 	} {
-		im := &fitsimage.Image{NX: n, NY: n, Pixel: choice.Pixel, Data: o.img,
-			Cards: []fitsimage.Card{{Key: "COMMENT", Value: output.ASCII(o.title)}}}
+		im := &fitsimage.Image{NX: n, NY: n, Pixel: choice.Pixel, Data: o.img, RA: ra, Dec: dec, HasRADec: hasRADec, BUnit: o.bunit,
+			Cards: []fitsimage.Card{
+				{Key: "OBJECT", Value: output.ASCII(object), Comment: "target"},
+				{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
+				{Key: "COMMENT", Value: output.ASCII(o.title)},
+				{Key: "HISTORY", Value: output.ASCII("from the images of the regularizers " + strings.Join(names, ", ") + " of vcz compare")},
+			}}
 		if err := fitsimage.WriteFile(filepath.Join(dir, o.name+".fits"), im); err != nil {
 			return err
 		}

@@ -17,6 +17,7 @@ import (
 
 	"vcz/dataset"
 	"vcz/io/fitsimage"
+	"vcz/io/fitsfile/fitstest"
 	"vcz/io/oifits"
 	"vcz/recon"
 	"vcz/recon/model"
@@ -154,6 +155,15 @@ func TestCompareDisc(t *testing.T) {
 	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 	if err != nil {
 		t.Fatal(err)
+	}
+	// Every FITS file compare writes passes fitsverify with no error and no warning (HEASARC
+	// fitsverify, the FITS 4.0 standard's checker), the agreement maps included.
+	fits, _ := filepath.Glob(filepath.Join(out, "*.fits"))
+	if len(fits) < 3 {
+		t.Fatalf("compare wrote %d FITS files: %v", len(fits), fits)
+	}
+	for _, p := range fits {
+		fitstest.Verify(t, p)
 	}
 	const truth = 2.0
 	for _, row := range rep.Rows {
