@@ -16,8 +16,8 @@ import (
 	"golang.org/x/net/html"
 
 	"vcz/dataset"
-	"vcz/io/fitsimage"
 	"vcz/io/fitsfile/fitstest"
+	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon"
 	"vcz/recon/model"
