@@ -31,6 +31,28 @@ func ReadData(paths []string, sel dataset.Selection) ([]*oifits.File, *dataset.D
 	return files, d, nil
 }
 
+// CheckNotInputs returns an *InputError when one of outputs is one of inputs: the same
+// file, also through a symbolic or hard link (os.SameFile), so that a run never replaces
+// its own data. An output that does not exist yet cannot be an input; empty paths are
+// skipped.
+func CheckNotInputs(inputs []string, outputs ...string) error {
+	for _, o := range outputs {
+		if o == "" {
+			continue
+		}
+		so, err := os.Stat(o)
+		if err != nil {
+			continue
+		}
+		for _, in := range inputs {
+			if si, err := os.Stat(in); err == nil && os.SameFile(so, si) {
+				return inputError(o, fmt.Errorf("%s: the output would replace the input file %s; choose another output name", o, in))
+			}
+		}
+	}
+	return nil
+}
+
 // CheckOutputs returns an *InputError naming the first of paths whose folder does not
 // exist (or is not a folder), so that a run fails at once rather than after its work.
 // Empty paths are skipped.

@@ -249,3 +249,34 @@ func TestInterspersedFlags(t *testing.T) {
 		}
 	}
 }
+
+// An output that is one of the inputs, by its own name or through a symbolic link, is
+// refused before anything is read or written (exit 2, one line naming both), and the data
+// file is left as it was.
+func TestOutputIsInput(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	before, err := os.ReadFile(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	link := filepath.Join(dir, "link.oifits")
+	if err := os.Symlink(data, link); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"image", "-quiet", "-o", data, data},
+		{"image", "-quiet", "-o", link, data},
+		{"fit", "-model", "ud:diameter~3", "-save-model", data, data},
+		{"fit", "-model", "ud:diameter~3", "-write-image", link, data},
+	} {
+		_, errs, code := runCmd(t, args...)
+		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, "would replace the input file") {
+			t.Errorf("%q: exit %d, stderr %q", args, code, errs)
+		}
+	}
+	after, err := os.ReadFile(data)
+	if err != nil || !bytes.Equal(before, after) {
+		t.Fatalf("the data file changed (%v)", err)
+	}
+}

@@ -129,6 +129,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*writeImage, *saveModel, plotFile, limitsFile); err != nil {
 		return err
 	}
+	if err := workflow.CheckNotInputs(fs.Args(), *writeImage, *saveModel); err != nil {
+		return err
+	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
 		return badInputf("fit: -n %d must be an even number from 2 to 4096", *n)
 	}

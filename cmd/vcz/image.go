@@ -75,6 +75,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
+	if err := workflow.CheckNotInputs(fs.Args(), *out); err != nil {
+		return err
+	}
 	st, err := output.ParseStretch(*stretch)
 	if err != nil {
 		return badInputf("image: %v", err)

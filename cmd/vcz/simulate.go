@@ -71,6 +71,9 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*out, *writeImage); err != nil {
 		return err
 	}
+	if err := workflow.CheckNotInputs([]string{*planPath, *modelSpec, *imagePath}, *out, *writeImage); err != nil {
+		return err
+	}
 	plan, err := simulate.LoadPlan(*planPath)
 	if err != nil {
 		return badInput(err)
