@@ -157,12 +157,16 @@ func OrNone(s string) string {
 	return s
 }
 
-func chi2Text(res *recon.Result) string {
+func chi2Text(res *recon.Result) string { return "χ²ᵣ " + Chi2Types(res) }
+
+// Chi2Types lists χ²ᵣ of each fitted data type with two decimals, "vis2 1.02, t3phi 0.98",
+// for titles and labels.
+func Chi2Types(res *recon.Result) string {
 	var parts []string
 	for _, t := range res.Chi2 {
 		parts = append(parts, fmt.Sprintf("%s %.2f", t.Type, t.Chi2r))
 	}
-	return "χ²ᵣ " + strings.Join(parts, ", ")
+	return strings.Join(parts, ", ")
 }
 
 func (o Outputs) writePreview(path string, r Run) error {

@@ -124,18 +124,6 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 	return rep, nil
 }
 
-// chi2Label gives "vis2 1.02, t3phi 0.98".
-func chi2Label(res *recon.Result) string {
-	s := ""
-	for i, t := range res.Chi2 {
-		if i > 0 {
-			s += ", "
-		}
-		s += fmt.Sprintf("%s %.2f", t.Type, t.Chi2r)
-	}
-	return s
-}
-
 // writeAgreement writes the panel, the spread map and the robust image.
 func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, ok []*CompareRun, rep *CompareReport, stretch preview.Stretch) error {
 	n := choice.N
@@ -143,7 +131,7 @@ func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, o
 	var frames []preview.Frame
 	for _, r := range ok {
 		frames = append(frames, preview.Frame{Data: r.Result.Image, NX: n, NY: n,
-			Label: fmt.Sprintf("%s  μ=%.3g\nχ²ᵣ %s", r.Name, r.Result.Weight, chi2Label(r.Result))})
+			Label: fmt.Sprintf("%s  μ=%.3g\nχ²ᵣ %s", r.Name, r.Result.Weight, output.Chi2Types(r.Result))})
 	}
 	beam := preview.Beam{Major: choice.Resolution / recon.Mas}
 	cols := min(len(frames), 3)
