@@ -50,17 +50,9 @@ type GridResult struct {
 // usual way to find a faint companion without a start guess: the map is
 // multi-modal, a local fit is not.
 func GridSearch(d *dataset.Data, primary *model.Model, opt GridOptions) (*GridResult, error) {
-	if !(opt.SepMax > 0) || opt.SepMin < 0 || opt.SepMin >= opt.SepMax {
-		return nil, fmt.Errorf("fit: grid search: separations %g to %g mas; want 0 ≤ min < max", opt.SepMin, opt.SepMax)
-	}
-	if opt.NSep <= 0 {
-		opt.NSep = 40
-	}
-	if opt.NPA <= 0 {
-		opt.NPA = 72
-	}
-	if opt.NSep < 2 {
-		return nil, errors.New("fit: grid search: at least 2 separations needed")
+	var err error
+	if opt.NSep, opt.NPA, err = checkPolarGrid("grid search", opt.SepMin, opt.SepMax, opt.NSep, opt.NPA, 40, 72); err != nil {
+		return nil, err
 	}
 	if opt.Ratio == 0 {
 		opt.Ratio = 0.01
@@ -97,14 +89,7 @@ func GridSearch(d *dataset.Data, primary *model.Model, opt GridOptions) (*GridRe
 	for _, name := range comp.ParamNames() {
 		comp.SetFit(name, false, math.Inf(-1), math.Inf(1))
 	}
-	g.Sep = make([]float64, opt.NSep)
-	for i := range g.Sep {
-		g.Sep[i] = opt.SepMin + (opt.SepMax-opt.SepMin)*float64(i)/float64(opt.NSep-1)
-	}
-	g.PA = make([]float64, opt.NPA)
-	for i := range g.PA {
-		g.PA[i] = 360 * float64(i) / float64(opt.NPA)
-	}
+	g.Sep, g.PA = polarGrid(opt.SepMin, opt.SepMax, opt.NSep, opt.NPA)
 	g.Chi2 = make([]float64, opt.NSep*opt.NPA)
 	refit := opt.Refit && len(base.Refs(true)) > 0
 	fo := opt.Fit
@@ -132,4 +117,37 @@ func GridSearch(d *dataset.Data, primary *model.Model, opt GridOptions) (*GridRe
 		}
 	}
 	return g, nil
+}
+
+// checkPolarGrid checks the separation range (mas) of a grid of companion positions for
+// what (a message word) and returns the numbers of separations and position angles with the
+// defaults dsep and dpa put in for zero or negative values.
+func checkPolarGrid(what string, sepMin, sepMax float64, nsep, npa, dsep, dpa int) (int, int, error) {
+	if !(sepMax > 0) || sepMin < 0 || sepMin >= sepMax {
+		return 0, 0, fmt.Errorf("fit: %s: separations %g to %g mas; want 0 ≤ min < max", what, sepMin, sepMax)
+	}
+	if nsep <= 0 {
+		nsep = dsep
+	}
+	if npa <= 0 {
+		npa = dpa
+	}
+	if nsep < 2 {
+		return 0, 0, fmt.Errorf("fit: %s: at least 2 separations needed", what)
+	}
+	return nsep, npa, nil
+}
+
+// polarGrid returns nsep separations from sepMin to sepMax inclusive and npa position angles
+// from 0° in steps of 360°/npa.
+func polarGrid(sepMin, sepMax float64, nsep, npa int) (sep, pa []float64) {
+	sep = make([]float64, nsep)
+	for i := range sep {
+		sep[i] = sepMin + (sepMax-sepMin)*float64(i)/float64(nsep-1)
+	}
+	pa = make([]float64, npa)
+	for i := range pa {
+		pa[i] = 360 * float64(i) / float64(npa)
+	}
+	return sep, pa
 }

@@ -89,17 +89,9 @@ type Limits struct {
 // computed once; each trial costs one complex multiply-add per frequency,
 // the residuals of the data and P dot products.
 func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, error) {
-	if !(opt.SepMax > 0) || opt.SepMin < 0 || opt.SepMin >= opt.SepMax {
-		return nil, fmt.Errorf("fit: detection limits: separations %g to %g mas; want 0 ≤ min < max", opt.SepMin, opt.SepMax)
-	}
-	if opt.NSep <= 0 {
-		opt.NSep = 50
-	}
-	if opt.NPA <= 0 {
-		opt.NPA = 50
-	}
-	if opt.NSep < 2 {
-		return nil, errors.New("fit: detection limits: at least 2 separations needed")
+	var err error
+	if opt.NSep, opt.NPA, err = checkPolarGrid("detection limits", opt.SepMin, opt.SepMax, opt.NSep, opt.NPA, 50, 50); err != nil {
+		return nil, err
 	}
 	if len(opt.Sigmas) == 0 {
 		opt.Sigmas = []float64{3, 5}
@@ -129,14 +121,7 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 		// p = 2(1 − Φ(s)), as Detection.Sigma.
 		L.Threshold = append(L.Threshold, chi2Dist.Quantile(1-math.Erfc(s/math.Sqrt2)))
 	}
-	L.Sep = make([]float64, opt.NSep)
-	for i := range L.Sep {
-		L.Sep[i] = opt.SepMin + (opt.SepMax-opt.SepMin)*float64(i)/float64(opt.NSep-1)
-	}
-	L.PA = make([]float64, opt.NPA)
-	for i := range L.PA {
-		L.PA[i] = 360 * float64(i) / float64(opt.NPA)
-	}
+	L.Sep, L.PA = polarGrid(opt.SepMin, opt.SepMax, opt.NSep, opt.NPA)
 
 	// The model's visibilities V₀ at the points; with a companion of flux
 	// ratio f at (x, y) the visibility is (V₀ + f e^{−2πi(ux+vy)})/(1 + f)
