@@ -575,7 +575,9 @@ func Solve(p Problem, s Settings) (*Result, error) {
 				if err != nil {
 					return nil, err
 				}
+				// One run in two segments: it stalled only if neither moved the image.
 				b2.Iter += b.Iter
+				b2.Stalled = b2.Stalled && b.Stalled
 				x0, first = rot, &b2
 				res.Notices = append(res.Notices, fmt.Sprintf("the amplitude fit turned by 180° fitted the phases better (objective %.6g against %.6g after %d iterations): went on from it", b.F, fa, b.Iter))
 			}
