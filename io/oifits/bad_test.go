@@ -138,6 +138,11 @@ func badCases() []badCase {
 			"bad.oifits: OI_VIS2 (HDU 6): mandatory column VIS2DATA is missing"},
 		{"column-wrong-type", false, card(2, "TFORM2", "TFORM2  = '2D'"),
 			"bad.oifits: OI_TARGET (HDU 2): column TARGET has TFORM '2D'; must be a character string (TFORM nA)"},
+		// OIFITS fixes VIS2DATA as a real column, TFORM D (Pauls et al. 2005,
+		// table 5; Duvert, Young & Hummel 2017, table 7): doubles declared
+		// as 64-bit integers would read as values near 4.6e18.
+		{"column-integer-for-real", false, card(6, "TFORM5", "TFORM5  = '3K'"),
+			"bad.oifits: OI_VIS2 (HDU 6): column VIS2DATA has TFORM '3K'; must be a real number (TFORM D or E)"},
 		{"amptyp-unknown", false, card(9, "AMPTYP", "AMPTYP  = 'relative'"),
 			"bad.oifits: OI_VIS (HDU 9): AMPTYP is 'relative'; must be 'absolute', 'differential' or 'correlated flux'"},
 		{"tfields-missing", false, card(6, "TFIELDS", ""),

@@ -239,7 +239,7 @@ func (t *table) floatKeyword(key string, required bool) (float64, error) {
 type colKind int
 
 const (
-	kindFloat  colKind = iota // B, I, J, K, E or D
+	kindFloat  colKind = iota // E or D (the standard fixes real-valued columns as D or E)
 	kindInt                   // B, I, J or K
 	kindString                // A
 	kindBool                  // L
@@ -262,7 +262,7 @@ func (t *table) column(name string, kind colKind, repeat int, required bool) (*f
 	var want string
 	switch kind {
 	case kindFloat:
-		ok, want = strings.IndexByte("BIJKED", c.Type) >= 0, "a number (TFORM D or E)"
+		ok, want = c.Type == 'D' || c.Type == 'E', "a real number (TFORM D or E)"
 	case kindInt:
 		ok, want = strings.IndexByte("BIJK", c.Type) >= 0 && c.Scale == 1 && c.Zero == float64(int(c.Zero)), "an integer (TFORM I or J)"
 	case kindString:
