@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"maps"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -15,6 +14,7 @@ import (
 
 	"vcz/io/oifits"
 	"vcz/io/preview"
+	"vcz/io/safefile"
 	"vcz/recon/batch"
 	"vcz/recon/model"
 	"vcz/runspec"
@@ -146,7 +146,7 @@ var renamedKeys = map[string]string{
 // *InputError naming the file, and for an unknown key its line.
 func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 	bad := func(format string, args ...any) error { return inputError(path, fmt.Errorf(format, args...)) }
-	src, err := os.ReadFile(path)
+	src, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, "", inputError(path, err)
 	}

@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 
 	"vcz/io/fitsimage"
@@ -278,5 +279,36 @@ func TestOutputIsInput(t *testing.T) {
 	after, err := os.ReadFile(data)
 	if err != nil || !bytes.Equal(before, after) {
 		t.Fatalf("the data file changed (%v)", err)
+	}
+}
+
+// TestSpecialInputs checks that a named pipe or a device given as input is
+// refused at once with one line naming the file, exit 2, by every command
+// that reads data; a named pipe used to block in open(2) forever and
+// /dev/zero behind a link to read until memory ran out.
+func TestSpecialInputs(t *testing.T) {
+	dir := t.TempDir()
+	fifo := filepath.Join(dir, "pipe.oifits")
+	if err := syscall.Mkfifo(fifo, 0o644); err != nil {
+		t.Skipf("mkfifo: %v", err)
+	}
+	zero := filepath.Join(dir, "zero.oifits")
+	if err := os.Symlink("/dev/zero", zero); err != nil {
+		t.Fatal(err)
+	}
+	for _, in := range []string{fifo, zero} {
+		for _, args := range [][]string{
+			{"inspect", in},
+			{"image", "-quiet", "-o", filepath.Join(dir, "out.fits"), in},
+			{"fit", "-model", "ud:diameter~3", in},
+		} {
+			_, errs, code := runCmd(t, args...)
+			if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, filepath.Base(in)+": not a regular file") {
+				t.Errorf("%q: exit %d, stderr %q", args, code, errs)
+			}
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out.fits")); err == nil {
+		t.Error("an output was written")
 	}
 }

@@ -9,13 +9,14 @@ import (
 	"strings"
 
 	"vcz/io/fitsfile"
+	"vcz/io/safefile"
 )
 
 // ReadFile reads and validates the OIFITS file at path. Errors are *Error
 // values whose File is the base name of path.
 func ReadFile(path string) (*File, error) {
 	name := filepath.Base(path)
-	data, err := os.ReadFile(path)
+	data, err := safefile.ReadFile(path)
 	if err != nil {
 		var pe *os.PathError
 		if errors.As(err, &pe) {
