@@ -166,7 +166,7 @@ func TestBatchJobUnknownKey(t *testing.T) {
 		{"[image]\nregularizer = \"tv\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", "job.toml:2: unknown key image.regularizer (see 'vcz batch --help'; job keys are the flag names: reg)"},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\n[[epoch]]\nfiles = [\"b.oifits\"]\niterations = 3\n", "job.toml:5: unknown key epoch.iterations (see 'vcz batch --help'; job keys are the flag names: iter)"},
 		{"[image]\npixel = \"x\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", `job.toml: [image] pixel "x": want a positive angle such as 0.25mas`},
-		{"[[epoch]]\nname = \"e\"\nfiles = [\"a.oifits\"]\nn = 33\n", `job.toml: epoch "e": n 33: the grid size must be a positive even number`},
+		{"[[epoch]]\nname = \"e\"\nfiles = [\"a.oifits\"]\nn = 33\n", `job.toml: epoch "e": n 33: the grid size must be an even number from 8 to 2048`},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\nseed = -3\n", `job.toml: epoch "epoch-01": seed -3 must not be negative`},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\nuse = [\"vis2\"]\n", `job.toml: epoch "epoch-01": use: want a string, number or boolean, not [vis2]`},
 	} {
