@@ -43,11 +43,32 @@ func validate(f *File) error {
 		waves[w.InsName] = len(w.EffWave)
 	}
 	arrays := map[string]bool{}
+	stations := map[string]map[int]bool{}
 	for _, a := range f.Arrays {
 		if arrays[a.Name] {
 			return fail(a.HDU, extArray, 0, "", "ARRNAME '%s' is used by more than one OI_ARRAY table", a.Name)
 		}
 		arrays[a.Name] = true
+		stations[a.Name] = make(map[int]bool, len(a.Stations))
+		for _, st := range a.Stations {
+			stations[a.Name][st.Index] = true
+		}
+	}
+	// station checks that the STA_INDEX values of one row are stations of
+	// the table's OI_ARRAY (Pauls et al. 2005, table 5; Duvert, Young &
+	// Hummel 2017, table 7: STA_INDEX refers to OI_ARRAY). A table without
+	// ARRNAME (allowed in v1) is not checked; 0 marks an absent column.
+	station := func(hdu int, ext string, r int, arr string, idx ...int) error {
+		set, ok := stations[arr]
+		if !ok {
+			return nil
+		}
+		for _, i := range idx {
+			if i != 0 && !set[i] {
+				return fail(hdu, ext, r, "STA_INDEX", "STA_INDEX %d is not a station of OI_ARRAY '%s'", i, arr)
+			}
+		}
+		return nil
 	}
 	// link checks the keywords of one data table and returns its NWAVE.
 	link := func(hdu int, ext, ins, arr string) (int, error) {
@@ -109,6 +130,9 @@ func validate(f *File) error {
 			if err := row(t.HDU, extVis2, i+1, nw, r.TargetID, r.Flag, pair{"VIS2DATA", "VIS2ERR", r.Data, r.Err}); err != nil {
 				return err
 			}
+			if err := station(t.HDU, extVis2, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.T3 {
@@ -119,6 +143,9 @@ func validate(f *File) error {
 		for i, r := range t.Rows {
 			if err := row(t.HDU, extT3, i+1, nw, r.TargetID, r.Flag,
 				pair{"T3AMP", "T3AMPERR", r.Amp, r.AmpErr}, pair{"T3PHI", "T3PHIERR", r.Phi, r.PhiErr}); err != nil {
+				return err
+			}
+			if err := station(t.HDU, extT3, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
 				return err
 			}
 		}
@@ -133,6 +160,9 @@ func validate(f *File) error {
 				pair{"VISAMP", "VISAMPERR", r.Amp, r.AmpErr}, pair{"VISPHI", "VISPHIERR", r.Phi, r.PhiErr}); err != nil {
 				return err
 			}
+			if err := station(t.HDU, extVis, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.Flux {
@@ -142,6 +172,9 @@ func validate(f *File) error {
 		}
 		for i, r := range t.Rows {
 			if err := row(t.HDU, extFlux, i+1, nw, r.TargetID, r.Flag, pair{"FLUXDATA", "FLUXERR", r.Data, r.Err}); err != nil {
+				return err
+			}
+			if err := station(t.HDU, extFlux, i+1, t.ArrName, r.StaIndex); err != nil {
 				return err
 			}
 		}
