@@ -147,6 +147,8 @@ func badCases() []badCase {
 		// Young & Hummel 2017, table 7).
 		{"sta-index-unknown", false, edit(func(f *File) { f.Vis2[0].Rows[1].StaIndex[1] = 99 }),
 			"bad.oifits: OI_VIS2 (HDU 6) row 2: STA_INDEX 99 is not a station of OI_ARRAY 'KESTREL'"},
+		{"mjd-nan", false, edit(func(f *File) { f.T3[0].Rows[0].MJD = math.NaN() }),
+			"bad.oifits: OI_T3 (HDU 8) row 1: MJD is NaN; must be a finite date"},
 		{"amptyp-unknown", false, card(9, "AMPTYP", "AMPTYP  = 'relative'"),
 			"bad.oifits: OI_VIS (HDU 9): AMPTYP is 'relative'; must be 'absolute', 'differential' or 'correlated flux'"},
 		{"tfields-missing", false, card(6, "TFIELDS", ""),

@@ -54,6 +54,15 @@ func validate(f *File) error {
 			stations[a.Name][st.Index] = true
 		}
 	}
+	// mjd checks that a row's MJD is a finite number: rows are placed in
+	// time by it (Pauls et al. 2005, table 5: the mean MJD of the
+	// observation), and a NaN would drop the row from every epoch.
+	mjd := func(hdu int, ext string, r int, v float64) error {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fail(hdu, ext, r, "MJD", "MJD is %v; must be a finite date", v)
+		}
+		return nil
+	}
 	// station checks that the STA_INDEX values of one row are stations of
 	// the table's OI_ARRAY (Pauls et al. 2005, table 5; Duvert, Young &
 	// Hummel 2017, table 7: STA_INDEX refers to OI_ARRAY). A table without
@@ -133,6 +142,9 @@ func validate(f *File) error {
 			if err := station(t.HDU, extVis2, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
 				return err
 			}
+			if err := mjd(t.HDU, extVis2, i+1, r.MJD); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.T3 {
@@ -146,6 +158,9 @@ func validate(f *File) error {
 				return err
 			}
 			if err := station(t.HDU, extT3, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extT3, i+1, r.MJD); err != nil {
 				return err
 			}
 		}
@@ -163,6 +178,9 @@ func validate(f *File) error {
 			if err := station(t.HDU, extVis, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
 				return err
 			}
+			if err := mjd(t.HDU, extVis, i+1, r.MJD); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.Flux {
@@ -175,6 +193,9 @@ func validate(f *File) error {
 				return err
 			}
 			if err := station(t.HDU, extFlux, i+1, t.ArrName, r.StaIndex); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extFlux, i+1, r.MJD); err != nil {
 				return err
 			}
 		}
