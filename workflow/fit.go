@@ -50,6 +50,11 @@ type FitOutcome struct {
 // but did not end well returns the outcome (significances and limits included) and
 // fit.Fit's error together.
 func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
+	// One target at a time, as image asks: a fit to two targets' data
+	// mixes two objects.
+	if err := checkData(d); err != nil {
+		return nil, err
+	}
 	opt := s.Fit
 	var g *fit.GridResult
 	if s.Grid != nil {

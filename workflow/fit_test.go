@@ -1,6 +1,7 @@
 package workflow
 
 import (
+	"errors"
 	"image/png"
 	"math"
 	"os"
@@ -99,5 +100,37 @@ func TestFitModelSignificanceLimits(t *testing.T) {
 	set.SkipSignificance, set.Limits = true, nil
 	if o, err = FitModel(d, m, set); err != nil || len(o.Detections) != 0 || o.Limits != nil {
 		t.Fatalf("SkipSignificance, no limits: %v, detections %+v, limits %v", err, o.Detections, o.Limits)
+	}
+}
+
+// TestFitOneTarget checks that fit, like image, refuses the data of two
+// targets with an input error naming them, instead of fitting one model to
+// two objects.
+func TestFitOneTarget(t *testing.T) {
+	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := model.Load("ud:diameter=2.5")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var files []*oifits.File
+	for _, name := range []string{"Orrin-A", "Orrin-B"} {
+		f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		f.Targets[0].Name = name
+		files = append(files, f)
+	}
+	d, err := dataset.FromFiles(files, dataset.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = FitModel(d, m, FitSettings{})
+	var ie *InputError
+	if !errors.As(err, &ie) || !strings.Contains(err.Error(), "2 targets (Orrin-A, Orrin-B); choose one with -target") {
+		t.Fatalf("error %v", err)
 	}
 }
