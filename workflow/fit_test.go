@@ -134,3 +134,40 @@ func TestFitOneTarget(t *testing.T) {
 		t.Fatalf("error %v", err)
 	}
 }
+
+// TestFitDegenerate checks that data which cannot constrain the model are
+// errors, not a fit "converged after 0 iterations": all (u,v) at zero is
+// bad input; baselines shrunk 10³⁰⁰ times leave every derivative at zero,
+// a computation that cannot succeed. (Errors grown 10³⁰⁰ times are not
+// degenerate: a common scale of the errors cancels from the best fit and
+// from the covariance rescaled by χ²ᵣ.)
+func TestFitDegenerate(t *testing.T) {
+	m, err := model.Load("ud:diameter~3(0.5..10)")
+	if err != nil {
+		t.Fatal(err)
+	}
+	scaleUV := func(d *dataset.Data, f float64) {
+		for _, s := range [][]float64{d.Vis2.U, d.Vis2.V, d.T3.U1, d.T3.V1, d.T3.U2, d.T3.V2, d.Vis.U, d.Vis.V} {
+			for i := range s {
+				s[i] *= f
+			}
+		}
+	}
+	for _, c := range []struct {
+		name   string
+		change func(d *dataset.Data)
+		input  bool
+		want   string
+	}{
+		{"zero-uv", func(d *dataset.Data) { scaleUV(d, 0) }, true, "every (u,v) point is at zero baseline"},
+		{"tiny-uv", func(d *dataset.Data) { scaleUV(d, 1e-300) }, false, "the fit is degenerate"},
+	} {
+		d := binaryData(t)
+		c.change(d)
+		o, err := FitModel(d, m, FitSettings{SkipSignificance: true})
+		var ie *InputError
+		if o != nil || err == nil || errors.As(err, &ie) != c.input || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: outcome %v, error %v (want input error %v, %q)", c.name, o != nil, err, c.input, c.want)
+		}
+	}
+}

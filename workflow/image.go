@@ -42,6 +42,9 @@ func checkData(d *dataset.Data) error {
 	if d.Len(dataset.AllTypes) == 0 {
 		return inputErrorf("no usable data points after selection")
 	}
+	if !(d.Summarize().BaselineMax > 0) {
+		return inputErrorf("every (u,v) point is at zero baseline: the data hold no spatial information")
+	}
 	return nil
 }
 
