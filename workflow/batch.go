@@ -100,6 +100,9 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	t0 := time.Now()
 	row := newRow(e)
 	fail := func(err error) EpochResult { return EpochResult{Row: b.failed(e, row, t0, err)} }
+	if Interrupted() {
+		return fail(ErrInterrupted)
+	}
 	hash, err := batch.Hash(e.SettingsText(), e.Files)
 	if err != nil {
 		return fail(err)

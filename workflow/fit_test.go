@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 	"vcz/dataset"
 
 	"vcz/io/oifits"
@@ -169,5 +170,48 @@ func TestFitDegenerate(t *testing.T) {
 		if o != nil || err == nil || errors.As(err, &ie) != c.input || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%s: outcome %v, error %v (want input error %v, %q)", c.name, o != nil, err, c.input, c.want)
 		}
+	}
+}
+
+// TestCheckOutputs checks that outputs that cannot be written are refused before any
+// work: a missing folder, a folder given as the file, a folder that refuses new files
+// (skipped as root, whom permissions do not stop); and that stale temporaries of a killed
+// run are swept while other files stay.
+func TestCheckOutputs(t *testing.T) {
+	dir := t.TempDir()
+	stale := filepath.Join(dir, ".star.fits.tmp-123")
+	keep := filepath.Join(dir, "star.fits")
+	for _, p := range []string{stale, keep} {
+		os.WriteFile(p, []byte("x"), 0o644)
+		old := time.Now().Add(-time.Hour)
+		os.Chtimes(p, old, old)
+	}
+	if err := CheckOutputs(filepath.Join(dir, "new.fits")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(stale); !os.IsNotExist(err) {
+		t.Errorf("stale temporary kept (%v)", err)
+	}
+	if _, err := os.Stat(keep); err != nil {
+		t.Errorf("other file removed: %v", err)
+	}
+	cases := map[string]string{
+		filepath.Join(dir, "missing", "a.fits"): "does not exist",
+		dir:                                     "is a folder; give a file name",
+	}
+	if os.Geteuid() != 0 {
+		ro := filepath.Join(dir, "ro")
+		os.Mkdir(ro, 0o555)
+		cases[filepath.Join(ro, "a.fits")] = "cannot write in folder"
+	}
+	for p, want := range cases {
+		err := CheckOutputs(p)
+		var ie *InputError
+		if !errors.As(err, &ie) || !strings.Contains(err.Error(), want) {
+			t.Errorf("%s: %v, want %q", p, err, want)
+		}
+	}
+	if left, _ := filepath.Glob(filepath.Join(dir, ".vcz-check-*")); len(left) != 0 {
+		t.Errorf("probe files left: %v", left)
 	}
 }

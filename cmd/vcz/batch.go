@@ -127,7 +127,10 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return failure(err)
+		return badInputf("batch: -out: %v", err)
+	}
+	if err := workflow.CheckFolder(*out); err != nil {
+		return badInputf("batch: -out: %v", err)
 	}
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel}
 	disp := newBatchDisplay(stderr, *quiet)
