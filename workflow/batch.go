@@ -250,6 +250,9 @@ func Collect(dirs []string) (*batch.Summary, error) {
 	if err != nil {
 		return nil, inputErrorf("batch -collect: %v", err)
 	}
+	if err := checkCollected(sum); err != nil {
+		return nil, inputErrorf("batch -collect: %v", err)
+	}
 	return sum, nil
 }
 

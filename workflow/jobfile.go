@@ -195,8 +195,8 @@ func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 		if e.Name == "" {
 			e.Name = fmt.Sprintf("epoch-%02d", i+1)
 		}
-		if strings.ContainsAny(e.Name, `/\`) || e.Name == "." || e.Name == ".." {
-			return nil, "", bad("%s: epoch %d: name %q must not contain a path separator", path, i+1, e.Name)
+		if err := CheckEpochName(e.Name); err != nil {
+			return nil, "", bad("%s: epoch %d: %v", path, i+1, err)
 		}
 		if seen[e.Name] {
 			return nil, "", bad("%s: epoch %d: name %q is used twice", path, i+1, e.Name)
