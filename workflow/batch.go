@@ -128,6 +128,11 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 		return fail(err)
 	}
 	fitsPath := filepath.Join(b.Out, e.Name+".fits")
+	// The old status goes before any output of the epoch is rewritten, so that a run
+	// killed between the new FITS and the new status cannot pass the old one's check.
+	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+		return fail(err)
+	}
 	outs := output.Outputs{NoPlots: true, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
 	run, paths, err := im.Run(outs, fitsPath, nil)
 	if err != nil {

@@ -355,3 +355,42 @@ func TestBatchJobKeys(t *testing.T) {
 		}
 	})
 }
+
+// TestBatchStaleFITS checks the resume rule: an epoch is complete only when its status
+// file and its FITS file's INHASH card both carry the run's hash. A run with other
+// settings killed after rewriting an epoch's FITS but before its status left the old
+// status beside the new FITS; the next plain run must redo that epoch, not keep it.
+func TestBatchStaleFITS(t *testing.T) {
+	dir := t.TempDir()
+	var files []string
+	for k := range 2 {
+		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		writeEpoch(t, p, k)
+		files = append(files, p)
+	}
+	out, other := filepath.Join(dir, "out"), filepath.Join(dir, "other")
+	args := append(append([]string{"batch", "-out", out}, batchFast...), files...)
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	otherArgs := append(append([]string{"batch", "-out", other}, batchFast...), "-iter", "39")
+	if _, errs, code := runCmd(t, append(otherArgs, files...)...); code != exitOK {
+		t.Fatalf("other settings: exit %d: %s", code, errs)
+	}
+	s := readSummary(t, filepath.Join(out, "summary.json"))
+	name := s.Rows[0].FITS
+	b, err := os.ReadFile(filepath.Join(other, name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(out, name), b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("rerun: exit %d: %s", code, errs)
+	}
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if s.Rows[0].Skipped || !s.Rows[1].Skipped {
+		t.Fatalf("skipped %v, %v: want the epoch with the stale FITS redone and the other kept", s.Rows[0].Skipped, s.Rows[1].Skipped)
+	}
+}
