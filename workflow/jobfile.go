@@ -145,11 +145,16 @@ var renamedKeys = map[string]string{
 // names ("" for none), relative paths taken from the file's folder. Errors are
 // *InputError naming the file, and for an unknown key its line.
 func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
-	bad := func(format string, args ...any) error { return inputError(path, fmt.Errorf(format, args...)) }
 	src, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, "", inputError(path, err)
 	}
+	return parseJobFile(src, path, shared)
+}
+
+// parseJobFile is ReadJobFile on the content src of the file at path.
+func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, string, error) {
+	bad := func(format string, args ...any) error { return inputError(path, fmt.Errorf(format, args...)) }
 	var jf jobFile
 	md, err := toml.Decode(string(src), &jf)
 	if err != nil {

@@ -66,8 +66,13 @@ func validate(f *File) error {
 	// station checks that the STA_INDEX values of one row are stations of
 	// the table's OI_ARRAY (Pauls et al. 2005, table 5; Duvert, Young &
 	// Hummel 2017, table 7: STA_INDEX refers to OI_ARRAY). A table without
-	// ARRNAME (allowed in v1) is not checked; 0 marks an absent column.
+	// ARRNAME (allowed in v1) refers to the file's only OI_ARRAY, the one
+	// Encode names for it, and is not checked when there are several; 0
+	// marks an absent column.
 	station := func(hdu int, ext string, r int, arr string, idx ...int) error {
+		if arr == "" && len(f.Arrays) == 1 {
+			arr = f.Arrays[0].Name
+		}
 		set, ok := stations[arr]
 		if !ok {
 			return nil
