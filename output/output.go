@@ -3,6 +3,7 @@ package output
 import (
 	"fmt"
 	"math"
+	"os"
 	"runtime/debug"
 	"strings"
 	"time"
@@ -107,13 +108,24 @@ func (o Outputs) Image(r Run) *fitsimage.Image {
 }
 
 // Write writes the FITS image of r to out and, unless o says otherwise, its PNG preview
-// and data-fit plots beside it (package doc). It returns the paths written, those before
-// an error included.
-func (o Outputs) Write(out string, r Run) (Paths, error) {
-	paths := Paths{FITS: out}
+// and data-fit plots beside it (package doc), and returns their paths. When any of them
+// fails, the files this call wrote are removed, so that no complete-looking result is
+// left by a failed run, and no path is returned.
+func (o Outputs) Write(out string, r Run) (paths Paths, err error) {
+	defer func() {
+		if err != nil {
+			for _, p := range append([]string{paths.FITS, paths.PNG}, paths.Plots...) {
+				if p != "" {
+					os.Remove(p)
+				}
+			}
+			paths = Paths{}
+		}
+	}()
 	if err := fitsimage.WriteFile(out, o.Image(r)); err != nil {
 		return paths, err
 	}
+	paths.FITS = out
 	stem := Stem(out)
 	if !o.NoPNG {
 		p := stem + ".png"
@@ -124,10 +136,10 @@ func (o Outputs) Write(out string, r Run) (Paths, error) {
 	}
 	if !o.NoPlots {
 		ps, err := writeFitPlots(stem, r)
+		paths.Plots = ps
 		if err != nil {
 			return paths, err
 		}
-		paths.Plots = ps
 	}
 	return paths, nil
 }
@@ -203,11 +215,11 @@ func LCurve(name string, res *recon.Result) (lp plots.LPath, ok bool) {
 func writeFitPlots(stem string, r Run) ([]string, error) {
 	d, res := r.Data, r.Result
 	target := r.Target()
+	var written []string
 	obs, err := recon.Predict(d, res.Grid.Grid, res.Image, nil)
 	if err != nil {
 		return nil, err
 	}
-	var written []string
 	save := func(fig *plots.Figure, suffix string) error {
 		p := stem + suffix
 		if err := fig.WriteFile(p); err != nil {
@@ -223,10 +235,10 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 			[]plots.ModelValues{{Name: label, Value: obs.Of(dataset.Vis2)}}, nil,
 			plots.Options{Title: "V² — data and image model — " + OrNone(target)})
 		if err != nil {
-			return nil, err
+			return written, err
 		}
 		if err := save(fig, "-"+dataset.Vis2.String()+".png"); err != nil {
-			return nil, err
+			return written, err
 		}
 		rv := plots.Residuals{Name: dataset.Vis2.Info().Label}
 		for i := 0; i < n; i++ {
@@ -252,27 +264,27 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		fig, err := plots.ClosurePhase(td, []plots.ModelValues{{Name: label, Value: tm}},
 			plots.Options{Title: "Closure phase — data and image model — " + OrNone(target)})
 		if err != nil {
-			return nil, err
+			return written, err
 		}
 		if err := save(fig, "-"+dataset.T3Phi.String()+".png"); err != nil {
-			return nil, err
+			return written, err
 		}
 		resid = append(resid, rp)
 	}
 	if len(resid) > 0 {
 		fig, err := plots.ResidualPlot(resid, plots.Options{Title: "Normalised residuals (data − model)/σ — " + OrNone(target)})
 		if err != nil {
-			return nil, err
+			return written, err
 		}
 		if err := save(fig, "-residuals.png"); err != nil {
-			return nil, err
+			return written, err
 		}
 	}
 	if lp, ok := LCurve(label, res); ok {
 		fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + OrNone(target)})
 		if err == nil {
 			if err := save(fig, "-lcurve.png"); err != nil {
-				return nil, err
+				return written, err
 			}
 		}
 	}

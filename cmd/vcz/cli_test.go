@@ -312,3 +312,24 @@ func TestSpecialInputs(t *testing.T) {
 		t.Error("an output was written")
 	}
 }
+
+// TestFailedPlotsLeaveNothing checks that a run whose last output fails (here a data-fit
+// plot whose name is taken by a folder) exits 1 and removes the FITS image and preview it
+// had written, so that no complete-looking result is left.
+func TestFailedPlotsLeaveNothing(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	out := filepath.Join(dir, "star.fits")
+	if err := os.Mkdir(filepath.Join(dir, "star-vis2.png"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code := runCmd(t, "image", "-quiet", "-n", "32", "-iter", "20", "-weight", "0.001", "-starts", "1", "-o", out, data)
+	if code != exitFailure || !strings.Contains(errs, "star-vis2.png") {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, p := range []string{"star.fits", "star.png", "star-t3phi.png", "star-residuals.png"} {
+		if _, err := os.Stat(filepath.Join(dir, p)); err == nil {
+			t.Errorf("%s left after the failure", p)
+		}
+	}
+}
