@@ -1,6 +1,7 @@
 package workflow
 
 import (
+	"fmt"
 	"strings"
 	"time"
 	"vcz/dataset"
@@ -39,11 +40,15 @@ func checkData(d *dataset.Data) error {
 	if len(d.Targets) > 1 {
 		return inputErrorf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
 	}
+	files := "the data"
+	if len(d.Files) > 0 {
+		files = strings.Join(d.Files, ", ")
+	}
 	if d.Len(dataset.AllTypes) == 0 {
-		return inputErrorf("no usable data points after selection")
+		return inputErrorf("%s: no usable data points after selection (%s)", files, dropped(d))
 	}
 	if !(d.Summarize().BaselineMax > 0) {
-		return inputErrorf("every (u,v) point is at zero baseline: the data hold no spatial information")
+		return inputErrorf("%s: every (u,v) point is at zero baseline: the data hold no spatial information", files)
 	}
 	return nil
 }
@@ -72,4 +77,18 @@ func (im *Image) Run(outs output.Outputs, out string, progress func(recon.Progre
 	run := output.Run{Files: im.Files, Data: im.Data, Spec: im.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
 	paths, err := outs.Write(out, run)
 	return run, paths, err
+}
+
+// dropped says why a data set without points has none: how many points were flagged,
+// not finite, or none was selected at all.
+func dropped(d *dataset.Data) string {
+	var flagged, nonFinite int
+	for _, c := range []dataset.Counts{d.Vis2Count, d.T3Count, d.VisCount} {
+		flagged += c.Flagged
+		nonFinite += c.NonFinite
+	}
+	if flagged+nonFinite == 0 {
+		return "no row matches the selection of target, wavelength, MJD, instrument and data types"
+	}
+	return fmt.Sprintf("%d flagged, %d with a NaN or infinite value or error", flagged, nonFinite)
 }

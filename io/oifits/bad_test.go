@@ -149,6 +149,8 @@ func badCases() []badCase {
 			"bad.oifits: OI_VIS2 (HDU 6) row 2: STA_INDEX 99 is not a station of OI_ARRAY 'KESTREL'"},
 		{"mjd-nan", false, edit(func(f *File) { f.T3[0].Rows[0].MJD = math.NaN() }),
 			"bad.oifits: OI_T3 (HDU 8) row 1: MJD is NaN; must be a finite date"},
+		{"vis2err-tiny", false, edit(func(f *File) { f.Vis2[1].Rows[0].Err[0] = 1e-300 }),
+			"bad.oifits: OI_VIS2 (HDU 7) row 1: VIS2ERR is 1e-300; an error below 1e-100 is not a measurement's, and its χ² would overflow"},
 		{"amptyp-unknown", false, card(9, "AMPTYP", "AMPTYP  = 'relative'"),
 			"bad.oifits: OI_VIS (HDU 9): AMPTYP is 'relative'; must be 'absolute', 'differential' or 'correlated flux'"},
 		{"tfields-missing", false, card(6, "TFIELDS", ""),

@@ -9,6 +9,11 @@ import (
 
 func errorf(format string, args ...any) error { return fmt.Errorf(format, args...) }
 
+// minError is the smallest error bar accepted: a residual of order 1 over an error of
+// 1e-300 squares to 1e600, beyond float64 (common practice, no source: no measured
+// quantity of an OIFITS file, in its standard units, is known to 100 digits).
+const minError = 1e-100
+
 // validate checks the links and values the standard requires of f (see
 // the package documentation). Decode calls it after reading; Encode
 // before writing.
@@ -119,7 +124,7 @@ func validate(f *File) error {
 					continue
 				}
 				e := p.err[c]
-				if e > 0 && !math.IsInf(e, 0) {
+				if e >= minError && !math.IsInf(e, 0) {
 					continue
 				}
 				where := ""
@@ -127,8 +132,11 @@ func validate(f *File) error {
 					where = " in channel " + strconv.Itoa(c+1)
 				}
 				rule := "errors must be positive"
-				if math.IsNaN(e) || math.IsInf(e, 0) {
+				switch {
+				case math.IsNaN(e) || math.IsInf(e, 0):
 					rule = "errors must be finite"
+				case e > 0:
+					rule = fmt.Sprintf("an error below %g is not a measurement's, and its χ² would overflow", minError)
 				}
 				return fail(hdu, ext, r, p.errName, "%s is %s%s; %s", p.errName, strconv.FormatFloat(e, 'g', -1, 64), where, rule)
 			}
