@@ -298,6 +298,20 @@ func TestWarnings(t *testing.T) {
 			"HDU 7: OI_VIS2 has EXTVER 1 like HDU 6; if it is the same table appended twice, its data are counted twice"},
 		{"mixed-revn", setCard(t, good, 8, "OI_REVN", "OI_REVN =                    1"),
 			"HDU 8: OI_T3 has OI_REVN = 1 but HDU 2 has 2; one file should hold tables of one OIFITS revision"},
+		// Plausibility (common practice, no source): optical and infrared
+		// wavelengths, phases in degrees, V² between 0 and 1 but for noise.
+		{"wave-metres-as-microns", encodeUnchecked(t, edited(func(f *File) {
+			for i := range f.Wavelengths[1].EffWave {
+				f.Wavelengths[1].EffWave[i] *= 1e6
+			}
+		})), "HDU 5: OI_WAVELENGTH 'HNARROW' has EFF_WAVE from 1.65 to 1.65 m, outside the 0.1–30 µm of optical and infrared interferometry; check the unit (metres)"},
+		{"phase-huge", encodeUnchecked(t, edited(func(f *File) { f.T3[0].Rows[0].Phi[0] = 1e300 })),
+			"HDU 8: OI_T3 has 1 value of T3PHI beyond ±720° (up to 1e+300°); phases are in degrees"},
+		{"v2-negative", encodeUnchecked(t, edited(func(f *File) {
+			for _, r := range f.Vis2[1].Rows {
+				r.Data[0] = -1
+			}
+		})), "HDU 7: OI_VIS2 has only negative VIS2DATA (1 value); squared visibilities lie between 0 and 1 but for noise"},
 	} {
 		f, err := Decode(bytes.NewReader(c.data), "w.oifits")
 		if err != nil {
@@ -308,4 +322,11 @@ func TestWarnings(t *testing.T) {
 			t.Errorf("%s: warnings %q, want %q", c.name, got, c.want)
 		}
 	}
+}
+
+// edited returns the sample file changed by change.
+func edited(change func(f *File)) *File {
+	f := sampleFile()
+	change(f)
+	return f
 }

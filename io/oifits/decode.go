@@ -115,6 +115,7 @@ func decode(data []byte, name string) (*File, error) {
 	if err := validate(d.f); err != nil {
 		return nil, err
 	}
+	d.f.Warnings = append(d.f.Warnings, implausible(d.f)...)
 	return d.f, nil
 }
 
