@@ -17,6 +17,9 @@ type Writer struct {
 	w    io.Writer
 	nhdu int
 	err  error
+	// Checksum makes WriteImage add DATASUM and CHECKSUM to each image HDU, by the FITS
+	// checksum convention (checksum.go), after the extra cards.
+	Checksum bool
 }
 
 // NewWriter returns a Writer that writes to w.
@@ -40,6 +43,15 @@ func (w *Writer) write(b []byte) error {
 // keyword LONGSTRN = 'OGIP 1.0', which HEASARC's long-string convention
 // recommends and fitsverify asks for, unless the header has it already.
 func (w *Writer) writeHeader(mandatory, extra []Card) error {
+	buf, err := encodeHeader(mandatory, extra)
+	if err != nil {
+		return err
+	}
+	return w.write(buf)
+}
+
+// encodeHeader encodes the cards of writeHeader.
+func encodeHeader(mandatory, extra []Card) ([]byte, error) {
 	buf := make([]byte, 0, BlockSize)
 	var err error
 	announced := false
@@ -53,7 +65,7 @@ func (w *Writer) writeHeader(mandatory, extra []Card) error {
 				announced = true
 			}
 			if buf, err = encodeCards(buf, c); err != nil {
-				return err
+				return nil, err
 			}
 		}
 	}
@@ -61,7 +73,7 @@ func (w *Writer) writeHeader(mandatory, extra []Card) error {
 	for len(buf)%BlockSize != 0 {
 		buf = append(buf, ' ')
 	}
-	return w.write(buf)
+	return buf, nil
 }
 
 // reserved lists the keywords the Writer sets itself; extra cards with
@@ -132,7 +144,33 @@ func (w *Writer) WriteImage(axes []int, data []float64, extra []Card) error {
 		m = append(m, Card{Key: "PCOUNT", Value: 0, Comment: "no extra parameters"},
 			Card{Key: "GCOUNT", Value: 1, Comment: "one group"})
 	}
-	if err := w.writeHeader(m, extra); err != nil {
+	if w.Checksum {
+		for _, c := range extra {
+			if c.Key == "CHECKSUM" || c.Key == "DATASUM" {
+				return fmt.Errorf("fitsfile: keyword %s is set by the writer when it writes checksums", c.Key)
+			}
+		}
+		dsum := sumFloat64s(data)
+		extra = append(append([]Card(nil), extra...),
+			Card{Key: "CHECKSUM", Value: zeroChecksum, Comment: "HDU checksum (FITS checksum convention)"},
+			Card{Key: "DATASUM", Value: strconv.FormatUint(uint64(dsum), 10), Comment: "data unit checksum"})
+		hdr, err := encodeHeader(m, extra)
+		if err != nil {
+			return err
+		}
+		at := strings.Index(string(hdr), "CHECKSUM= '"+zeroChecksum+"'")
+		if at < 0 || at%80 != 0 {
+			return fmt.Errorf("fitsfile: CHECKSUM card not found in the header written")
+		}
+		// The card in the fixed format, its comment's slash in column 32, as readers
+		// that verify the sum by rewriting this card with sixteen zeros lay it out
+		// (astropy does).
+		copy(hdr[at:at+80], fmt.Sprintf("%-80s", "CHECKSUM= '"+zeroChecksum+"'   / HDU checksum (FITS checksum convention)"))
+		copy(hdr[at+11:], encodeChecksum(onesAdd(sumBytes(0, hdr), dsum)))
+		if err := w.write(hdr); err != nil {
+			return err
+		}
+	} else if err := w.writeHeader(m, extra); err != nil {
 		return err
 	}
 	w.nhdu++
@@ -148,6 +186,9 @@ func (w *Writer) WriteImage(axes []int, data []float64, extra []Card) error {
 	}
 	return w.finishData(buf, int64(n)*8)
 }
+
+// zeroChecksum is the CHECKSUM value while the HDU's sum is taken.
+const zeroChecksum = "0000000000000000"
 
 // finishData writes buf and the zero padding that completes the data unit
 // of total bytes.

@@ -53,7 +53,7 @@ type Image struct {
 func wcsKey(key string) bool {
 	switch key {
 	case "SIMPLE", "BITPIX", "NAXIS", "EXTEND", "BSCALE", "BZERO", "BLANK", "END",
-		"RADESYS", "RADECSYS", "EQUINOX", "WCSAXES", "LONPOLE", "LATPOLE", "BUNIT":
+		"RADESYS", "RADECSYS", "EQUINOX", "WCSAXES", "LONPOLE", "LATPOLE", "BUNIT", "CHECKSUM", "DATASUM":
 		return true
 	}
 	for _, p := range []string{"NAXIS", "CTYPE", "CRPIX", "CDELT", "CUNIT", "CRVAL", "CROTA", "CD", "PC"} {
@@ -185,7 +185,9 @@ func Encode(w io.Writer, im *Image) error {
 	if im.Planes > 1 {
 		axes = append(axes, im.Planes)
 	}
-	return fitsfile.NewWriter(w).WriteImage(axes, im.Data, cards)
+	fw := fitsfile.NewWriter(w)
+	fw.Checksum = true // CHECKSUM and DATASUM (FITS checksum convention)
+	return fw.WriteImage(axes, im.Data, cards)
 }
 
 func b2i(b bool) int {
