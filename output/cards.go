@@ -26,9 +26,9 @@ func FITSCards(r Run) []fitsimage.Card {
 		{Key: "OBJECT", Value: orUnknown(r.Target()), Comment: "target"},
 		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
 		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
-		{Key: "REGUL", Value: r.Regularizer(), Comment: "regularizer(s)"},
-		{Key: "REGWT", Value: res.Weight, Comment: "regularization weight mu"},
-		{Key: "REGVAL", Value: res.Reg, Comment: "regularizer value R(x)"},
+		{Key: "PENALTY", Value: r.Regularizer(), Comment: "regularizer(s) of the image"},
+		{Key: "PENWT", Value: res.Weight, Comment: "weight of the regularizer (mu)"},
+		{Key: "PENVAL", Value: res.Reg, Comment: "regularizer value R(x)"},
 		{Key: "WTAUTO", Value: len(res.Path) > 0, Comment: "weight chosen from the data (chi2r aim)"},
 		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all fitted data"},
 		{Key: "CHI2EXP", Value: res.Chi2rTarget, Comment: "expected reduced chi2 (target of the weight)"},
@@ -41,15 +41,20 @@ func FITSCards(r Run) []fitsimage.Card {
 	c = append(c,
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the final run"},
 		fitsimage.Card{Key: "NITERTOT", Value: res.TotalIter, Comment: "iterations of all runs"},
-		fitsimage.Card{Key: "STOPWHY", Value: Truncate(res.StopReason, 68), Comment: "why the final run stopped"},
+		fitsimage.Card{Key: "STOPWHY", Value: res.StopReason, Comment: "why the final run stopped"},
 		fitsimage.Card{Key: "SEED", Value: int(r.Spec.SeedValue()), Comment: "seed of the random choices"},
 		fitsimage.Card{Key: "GRIDN", Value: res.Grid.N, Comment: "pixels per side"},
 		fitsimage.Card{Key: "PIXMAS", Value: res.Grid.Pixel / recon.Mas, Comment: "pixel size (mas)"},
 		fitsimage.Card{Key: "RESOLMAS", Value: res.Grid.Resolution / recon.Mas, Comment: "nominal resolution lambda_min/(2 B_max) (mas)"},
 	)
+	c = append(c, observationCards(r)...)
 	c = append(c, WarningCards(res.Warnings)...)
 	for i, f := range r.Data.Files {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
+		path := filepath.Base(f)
+		if i < len(r.Files) && r.Files[i].Path != "" {
+			path = r.Files[i].Path // as the user gave it, for -rerun
+		}
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, path)})
 	}
 	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
 		if line != "" {
@@ -60,7 +65,7 @@ func FITSCards(r Run) []fitsimage.Card {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + g})
 	}
 	for _, s := range res.Path {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: mu=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: weight=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
 	}
 	for _, n := range res.Notices {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "note: " + n})
@@ -73,6 +78,57 @@ func FITSCards(r Run) []fitsimage.Card {
 	}
 	c = append(c, fitsimage.Card{Key: "COMMENT", Value: "One image consistent with the data, not a photograph: features smaller"},
 		fitsimage.Card{Key: "COMMENT", Value: "than the resolution lambda/(2 B_max) are not constrained by the data."})
+	return c
+}
+
+// mjdUnix is the MJD of 1970-01-01T00:00:00 UTC.
+const mjdUnix = 40587
+
+// observationCards describe the data behind r: the dates of the first and last
+// observation (DATE-OBS, MJD-OBS, MJD-END, FITS standard 4.0 sect. 9.4), the wavelengths
+// used (WAVEMIN, WAVEMAX in metres), the instrument set-ups (INSTRUME, their INSNAMEs) and
+// the arrays (TELESCOP, their ARRNAMEs), and the SHA-256 of each data file read from disk
+// (DSHAn, FIPS 180-4).
+func observationCards(r Run) []fitsimage.Card {
+	var c []fitsimage.Card
+	s := r.Data.Summarize()
+	if s.MJDMax > 0 {
+		t := time.Unix(0, 0).UTC().Add(time.Duration((s.MJDMin - mjdUnix) * 86400 * float64(time.Second)))
+		c = append(c,
+			fitsimage.Card{Key: "DATE-OBS", Value: t.Format("2006-01-02T15:04:05"), Comment: "first observation (UTC)"},
+			fitsimage.Card{Key: "MJD-OBS", Value: s.MJDMin, Comment: "[d] MJD of the first observation"},
+			fitsimage.Card{Key: "MJD-END", Value: s.MJDMax, Comment: "[d] MJD of the last observation"})
+	}
+	if s.LambdaMax > 0 {
+		c = append(c,
+			fitsimage.Card{Key: "WAVEMIN", Value: s.LambdaMin, Comment: "[m] shortest wavelength fitted"},
+			fitsimage.Card{Key: "WAVEMAX", Value: s.LambdaMax, Comment: "[m] longest wavelength fitted"})
+	}
+	var ins []string
+	for _, in := range r.Data.Instruments {
+		ins = append(ins, in.Name)
+	}
+	if len(ins) > 0 {
+		c = append(c, fitsimage.Card{Key: "INSTRUME", Value: strings.Join(ins, ","), Comment: "instrument set-ups (INSNAME)"})
+	}
+	var arrays []string
+	seen := map[string]bool{}
+	for _, f := range r.Files {
+		for _, a := range f.Arrays {
+			if !seen[a.Name] {
+				seen[a.Name] = true
+				arrays = append(arrays, a.Name)
+			}
+		}
+	}
+	if len(arrays) > 0 {
+		c = append(c, fitsimage.Card{Key: "TELESCOP", Value: strings.Join(arrays, ","), Comment: "arrays (ARRNAME)"})
+	}
+	for i, f := range r.Files {
+		if f.SHA256 != "" {
+			c = append(c, fitsimage.Card{Key: fmt.Sprintf("DSHA%d", i+1), Value: f.SHA256, Comment: fmt.Sprintf("SHA-256 of data file %d", i+1)})
+		}
+	}
 	return c
 }
 

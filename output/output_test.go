@@ -243,3 +243,16 @@ func TestParseStretch(t *testing.T) {
 		t.Error("gamma: no error")
 	}
 }
+
+// TestDateObsAstropy checks DATE-OBS against astropy.time's reading of MJD-OBS: the same
+// instant in UTC to the second (MJD 40587 is 1970-01-01, FITS standard 4.0 sect. 9.2).
+func TestDateObsAstropy(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "rec.fits")
+	if _, err := (Outputs{NoPNG: true, NoPlots: true}).Write(out, fixedRun(t)); err != nil {
+		t.Fatal(err)
+	}
+	got := strings.Fields(string(fitstest.RunPython(t, "testdata/dateobs.py", out)))
+	if len(got) != 2 || got[0] != got[1] {
+		t.Errorf("DATE-OBS %q, astropy's reading of MJD-OBS %q", got[0], got[1])
+	}
+}

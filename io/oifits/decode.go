@@ -1,6 +1,8 @@
 package oifits
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -24,7 +26,13 @@ func ReadFile(path string) (*File, error) {
 		}
 		return nil, &Error{File: name, Err: err}
 	}
-	return decode(data, name)
+	f, err := decode(data, name)
+	if err != nil {
+		return nil, err
+	}
+	sum := sha256.Sum256(data)
+	f.Path, f.SHA256 = path, hex.EncodeToString(sum[:])
+	return f, nil
 }
 
 // Decode reads and validates an OIFITS file from r; name (usually the base

@@ -8,6 +8,10 @@ type File struct {
 	// Name is the base name of the file the data came from, used in error
 	// messages; Decode takes it as an argument.
 	Name string
+	// Path is the path ReadFile was given, as given ("" for Decode), and
+	// SHA256 the SHA-256 of the file's bytes in hexadecimal (FIPS 180-4),
+	// for the provenance of results.
+	Path, SHA256 string
 	// Revision is the OIFITS revision: 1 (Pauls et al. 2005) or 2
 	// (Duvert, Young & Hummel 2017). Decode sets it from the OI_REVN of
 	// the OI_TARGET table (2 for v2 files, 1 for v1); Encode always writes 2.
