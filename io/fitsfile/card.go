@@ -101,11 +101,19 @@ func encodeCards(dst []byte, c Card) ([]byte, error) {
 	}
 	key := fmt.Sprintf("%-8s", c.Key)
 	if c.Value == nil {
+		// Long commentary continues on further cards of the same keyword, broken at
+		// the last blank that fits when there is one in the second half of the card.
 		text := c.Comment
 		for {
 			n := min(len(text), 72)
+			next := n
+			if n < len(text) {
+				if i := strings.LastIndexByte(text[:n+1], ' '); i >= 36 {
+					n, next = i, i+1
+				}
+			}
 			dst = appendPadded(dst, key+text[:n])
-			text = text[n:]
+			text = text[next:]
 			if len(text) == 0 {
 				return dst, nil
 			}

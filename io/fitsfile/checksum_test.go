@@ -91,3 +91,30 @@ func verifyOutput(t *testing.T, path string) string {
 	out, _ := exec.Command("fitsverify", path).CombinedOutput()
 	return string(out)
 }
+
+// TestHistoryWordBreak checks that a long HISTORY text continues on further HISTORY cards
+// broken between words (each card holds 72 characters of text after its keyword, FITS
+// standard 4.0 sect. 4.4.2.4), and that a word longer than a card is cut where it must be.
+func TestHistoryWordBreak(t *testing.T) {
+	text := "weight path: weight=2500 chi2r=1.5 R=2 iter=78 stalled, and a longer note about why the run stopped there"
+	buf, err := encodeCards(nil, Card{Key: "HISTORY", Comment: text})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var parts []string
+	for p := 0; p < len(buf); p += 80 {
+		card := string(buf[p : p+80])
+		if card[:8] != "HISTORY " {
+			t.Fatalf("card %q", card)
+		}
+		parts = append(parts, strings.TrimRight(card[8:], " "))
+	}
+	if len(parts) != 2 || strings.Join(parts, " ") != text || strings.HasSuffix(parts[0], " ") {
+		t.Errorf("cards %q", parts)
+	}
+	long := strings.Repeat("x", 100)
+	buf, _ = encodeCards(nil, Card{Key: "HISTORY", Comment: long})
+	if len(buf) != 160 || string(buf[8:80]) != strings.Repeat("x", 72) || strings.TrimRight(string(buf[88:160]), " ") != strings.Repeat("x", 28) {
+		t.Errorf("unbroken word: %q", buf)
+	}
+}
