@@ -1,6 +1,7 @@
 package output
 
 import (
+	"encoding/json"
 	"fmt"
 	"path/filepath"
 	"strings"
@@ -56,11 +57,14 @@ func FITSCards(r Run) []fitsimage.Card {
 		}
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, path)})
 	}
+	var lines []string
 	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
 		if line != "" {
+			lines = append(lines, line)
 			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
 		}
 	}
+	c = append(c, rerunCards(r, lines)...)
 	for _, g := range res.Grid.Reasons {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + g})
 	}
@@ -78,6 +82,31 @@ func FITSCards(r Run) []fitsimage.Card {
 	}
 	c = append(c, fitsimage.Card{Key: "COMMENT", Value: "One image consistent with the data, not a photograph: features smaller"},
 		fitsimage.Card{Key: "COMMENT", Value: "than the resolution lambda/(2 B_max) are not constrained by the data."})
+	return c
+}
+
+// RunSpecKey and DataPathKey name the cards that let a result be made again (vcz image
+// -rerun): RUNSPEC holds the canonical run specification (runspec.Spec.String) as a JSON
+// array of its "name=value" lines, and DPATH1, DPATH2, ... the data files by the paths the
+// user gave; DSHA1, DSHA2, ... (observationCards) their SHA-256.
+const (
+	RunSpecKey  = "RUNSPEC"
+	DataPathKey = "DPATH"
+	DataHashKey = "DSHA"
+)
+
+// rerunCards are RUNSPEC and the DPATHn of the files read from disk.
+func rerunCards(r Run, lines []string) []fitsimage.Card {
+	if lines == nil {
+		lines = []string{}
+	}
+	b, _ := json.Marshal(lines)
+	c := []fitsimage.Card{{Key: RunSpecKey, Value: string(b), Comment: "run options (JSON), for vcz image -rerun"}}
+	for i, f := range r.Files {
+		if f.Path != "" {
+			c = append(c, fitsimage.Card{Key: fmt.Sprintf("%s%d", DataPathKey, i+1), Value: f.Path, Comment: fmt.Sprintf("data file %d as given", i+1)})
+		}
+	}
 	return c
 }
 
@@ -126,7 +155,7 @@ func observationCards(r Run) []fitsimage.Card {
 	}
 	for i, f := range r.Files {
 		if f.SHA256 != "" {
-			c = append(c, fitsimage.Card{Key: fmt.Sprintf("DSHA%d", i+1), Value: f.SHA256, Comment: fmt.Sprintf("SHA-256 of data file %d", i+1)})
+			c = append(c, fitsimage.Card{Key: fmt.Sprintf("%s%d", DataHashKey, i+1), Value: f.SHA256, Comment: fmt.Sprintf("SHA-256 of data file %d", i+1)})
 		}
 	}
 	return c

@@ -103,7 +103,14 @@ iterations, tv_eps, data_weights, instruments, amplitudes_first).
 
 The FITS header of every reconstruction records the options that differ
 from the defaults as HISTORY cards "option: NAME=VALUE", the canonical
-form that batch also hashes to find finished epochs.
+form that batch also hashes to find finished epochs; RUNSPEC holds the same
+lines as JSON, DPATHn and DSHAn each data file by the path given and its
+SHA-256, DATE-OBS, MJD-OBS and MJD-END the observation's dates, WAVEMIN and
+WAVEMAX the wavelengths fitted, INSTRUME and TELESCOP the INSNAMEs and
+ARRNAMEs; CHECKSUM and DATASUM follow the FITS checksum convention.
+'vcz image -rerun FILE.fits' makes the result again from its header (run it
+from the folder the data paths are relative to): the same options, the data
+files checked against their SHA-256, the same pixels.
 
 # Demo
 

@@ -62,20 +62,48 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	quiet := fs.Bool("quiet", false, quietUsage)
 	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
 	strict := registerStrict(fs)
+	rerun := fs.String("rerun", "", "make the result FILE.fits again: its options and data files (checked by SHA-256) from its header")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
-	if fs.NArg() == 0 {
+	inputs := fs.Args()
+	var rerunSpec *runspec.Spec
+	if *rerun != "" {
+		if fs.NArg() > 0 {
+			return badInputf("image: -rerun takes the data files from %s; give no file", *rerun)
+		}
+		allowed := map[string]bool{"rerun": true, "o": true, "no-png": true, "no-plots": true, "quiet": true, "json": true, "strict": true, "stretch": true, "workers": true}
+		var extra []string
+		fs.Visit(func(f *flag.Flag) {
+			if !allowed[f.Name] {
+				extra = append(extra, "-"+f.Name)
+			}
+		})
+		if len(extra) > 0 {
+			return badInputf("image: -rerun takes the options from %s's header; %s cannot be changed", *rerun, strings.Join(extra, ", "))
+		}
+		rr, err := workflow.ReadRerun(*rerun)
+		if err != nil {
+			return err
+		}
+		inputs = rr.Files
+		rerunSpec = &rr.Spec
+		if *out == "" {
+			base := filepath.Base(*rerun)
+			*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-rerun.fits"
+		}
+	}
+	if len(inputs) == 0 {
 		return badInputf("image: no OIFITS file given (run 'vcz image --help')")
 	}
 	if *out == "" {
-		base := filepath.Base(fs.Arg(0))
+		base := filepath.Base(inputs[0])
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
 	}
 	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
-	if err := workflow.CheckNotInputs(fs.Args(), *out); err != nil {
+	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), *out); err != nil {
 		return err
 	}
 	st, err := output.ParseStretch(*stretch)
@@ -86,7 +114,12 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("image: %v", err)
 	}
-	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
+	if rerunSpec != nil {
+		w := spec.Workers
+		spec = *rerunSpec
+		spec.Workers = w // the image does not depend on it
+	}
+	files, d, err := workflow.ReadData(inputs, spec.Selection())
 	if err != nil {
 		return err
 	}

@@ -2,8 +2,12 @@ package main
 
 import (
 	"math"
+	"os"
 	"path/filepath"
+	"strings"
 	"testing"
+
+	"vcz/io/fitsimage"
 )
 
 // TestSameImageAnyWorkers checks the rule that results do not depend on the machine:
@@ -54,4 +58,57 @@ func TestSameImageAnyWorkers(t *testing.T) {
 	a, _, _ := readImage(t, filepath.Join(one, "tv.fits"))
 	c, _, _ := readImage(t, filepath.Join(two, "tv.fits"))
 	same("compare tv alone against tv beside mem", a, c)
+}
+
+// TestRerun checks that a result made again from its own header (image -rerun) has the
+// same pixels bit for bit and the same options, that options cannot be changed on the
+// way, and that a data file changed since (by SHA-256, FIPS 180-4) is refused.
+func TestRerun(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	first := filepath.Join(dir, "first.fits")
+	args := []string{"image", "-quiet", "-no-plots", "-o", first, "-n", "32", "-iter", "40", "-starts", "1", "-reg", "mem", "-seed", "3", data}
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	again := filepath.Join(dir, "again.fits")
+	if _, errs, code := runCmd(t, "image", "-quiet", "-no-plots", "-rerun", first, "-o", again); code != exitOK {
+		t.Fatalf("rerun: exit %d: %s", code, errs)
+	}
+	a, _, _ := readImage(t, first)
+	b, _, _ := readImage(t, again)
+	for i := range a {
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			t.Fatalf("pixel %d: %v, then %v", i, a[i], b[i])
+		}
+	}
+	ha, hb := headerValue(t, first, "RUNSPEC"), headerValue(t, again, "RUNSPEC")
+	if ha == "" || ha != hb {
+		t.Errorf("RUNSPEC %q, then %q", ha, hb)
+	}
+	if _, errs, code := runCmd(t, "image", "-rerun", first, "-iter", "10", "-o", filepath.Join(dir, "x.fits")); code != exitBadInput || !strings.Contains(errs, "-iter cannot be changed") {
+		t.Errorf("-rerun with -iter: exit %d: %s", code, errs)
+	}
+	raw, _ := os.ReadFile(data)
+	raw[len(raw)-1] ^= 1
+	os.WriteFile(data, raw, 0o644)
+	if _, errs, code := runCmd(t, "image", "-rerun", first, "-o", filepath.Join(dir, "y.fits")); code != exitBadInput || !strings.Contains(errs, "has changed since") {
+		t.Errorf("changed data: exit %d: %s", code, errs)
+	}
+}
+
+// headerValue returns the string value of a keyword of the FITS image at path.
+func headerValue(t *testing.T, path, key string) string {
+	t.Helper()
+	im, err := fitsimage.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range im.Cards {
+		if c.Key == key {
+			s, _ := c.Value.(string)
+			return s
+		}
+	}
+	return ""
 }
