@@ -3,6 +3,7 @@ package plots
 import (
 	"bytes"
 	"errors"
+	"flag"
 	"image"
 	"image/color"
 	"image/png"
@@ -108,8 +109,33 @@ func TestAllPlotsRender(t *testing.T) {
 		{"closure phase", func(o Options) (*Figure, error) {
 			return ClosurePhase(T3Data{U1: cpU1, V1: cpV1, U2: cpU2, V2: cpV2, Phi: phi, Err: perr}, []ModelValues{{"m", pm}}, o)
 		}},
+		{"v2 by wavelength", func(o Options) (*Figure, error) {
+			return V2(V2Data{U: u, V: v, Value: v2, Err: e2, Wavelength: lam}, []ModelValues{{"a", m2}}, nil, o)
+		}},
+		{"closure phase by wavelength", func(o Options) (*Figure, error) {
+			return ClosurePhase(T3Data{U1: cpU1, V1: cpV1, U2: cpU2, V2: cpV2, Phi: phi, Err: perr, Wavelength: lam[:n/3]}, []ModelValues{{"m", pm}}, o)
+		}},
+		{"visibility amplitude", func(o Options) (*Figure, error) {
+			amp := make([]float64, n)
+			for i := range amp {
+				amp[i] = math.Sqrt(math.Abs(v2[i]))
+			}
+			fq := make([]float64, n)
+			for i := range fq {
+				fq[i] = SpatialFrequency(u[i], v[i])
+			}
+			return Measured(Measurements{Label: "visibility amplitude", Freq: fq, Value: amp, Err: e2, Wavelength: lam}, []ModelValues{{"m", amp}}, nil, o)
+		}},
 		{"residuals", func(o Options) (*Figure, error) {
-			return ResidualPlot([]Residuals{{"V²", u, NormalizedResiduals(nil, v2, m2, e2)}}, o)
+			return ResidualPlot([]Residuals{{Name: "V²", Freq: u, Value: NormalizedResiduals(nil, v2, m2, e2)}}, o)
+		}},
+		{"residuals by wavelength", func(o Options) (*Figure, error) {
+			fq := make([]float64, n/3)
+			for i := range fq {
+				fq[i] = LongestBaseline(cpU1[i], cpV1[i], cpU2[i], cpV2[i])
+			}
+			return ResidualPlot([]Residuals{{Name: "V²", Freq: u, Value: NormalizedResiduals(nil, v2, m2, e2), Wavelength: lam},
+				{Name: "closure phase", Freq: fq, Value: PhaseResiduals(nil, phi, pm, perr), Wavelength: lam[:n/3]}}, o)
 		}},
 		{"L-curve", func(o Options) (*Figure, error) { return LCurve([]LPath{{"entropy", path, 2}}, o) }},
 		{"chi2 map", func(o Options) (*Figure, error) { return Chi2Map(grid, o) }},
@@ -129,9 +155,17 @@ func TestAllPlotsRender(t *testing.T) {
 				t.Errorf("%s: Size() = %d × %d, want %d × %d", c.name, fw, fh, w, h)
 			}
 			checkPNG(t, f, w, h)
+			if *plotsOut != "" && o.Title == "" {
+				if err := f.WriteFile(filepath.Join(*plotsOut, strings.ReplaceAll(c.name, " ", "-")+".png")); err != nil {
+					t.Error(err)
+				}
+			}
 		}
 	}
 }
+
+// plotsOut is a folder to keep the PNGs of TestAllPlotsRender in, for looking at them.
+var plotsOut = flag.String("plots.out", "", "write the PNGs of TestAllPlotsRender into this folder")
 
 func TestEmptyInput(t *testing.T) {
 	nan := math.NaN()
@@ -151,7 +185,7 @@ func TestEmptyInput(t *testing.T) {
 		"cp empty":    func() (*Figure, error) { return ClosurePhase(T3Data{}, nil, Options{}) },
 		"resid empty": func() (*Figure, error) { return ResidualPlot(nil, Options{}) },
 		"resid NaN": func() (*Figure, error) {
-			return ResidualPlot([]Residuals{{"x", []float64{1}, []float64{nan}}}, Options{})
+			return ResidualPlot([]Residuals{{Name: "x", Freq: []float64{1}, Value: []float64{nan}}}, Options{})
 		},
 		"lcurve empty": func() (*Figure, error) { return LCurve(nil, Options{}) },
 		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3, false}}, 0}}, Options{}) },
@@ -191,6 +225,15 @@ func TestBadInput(t *testing.T) {
 			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
 		}
 	}
+}
+
+// v2Points returns the points V2 draws of d.
+func v2Points(d V2Data, logY bool) dataPoints {
+	m := Measurements{Label: "V²", Value: d.Value, Err: d.Err, Freq: make([]float64, len(d.U))}
+	for i := range d.U {
+		m.Freq[i] = SpatialFrequency(d.U[i], d.V[i])
+	}
+	return m.points(logY)
 }
 
 func TestNaNSkipped(t *testing.T) {
