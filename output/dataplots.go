@@ -53,7 +53,7 @@ func DataPlots(d *dataset.Data, dir string) ([]string, error) {
 		if len(idx) == 0 {
 			continue
 		}
-		fig, err := plots.Measured(m, nil, nil, plots.Options{Title: titled(upperFirst(m.Label), title)})
+		fig, err := plots.Measured(m, nil, nil, plots.Options{Title: titled(upperFirst(m.Label), title), LogY: !m.Phase && plots.AutoLog(m.Value)})
 		if errors.Is(err, plots.ErrNoData) {
 			continue
 		}
@@ -220,7 +220,7 @@ func (mp *modelPlots) write(save func(fig *plots.Figure, err error, suffix strin
 		if t == dataset.Vis2 && mp.vis2Curve != nil {
 			models, curves = nil, []plots.Curve{*mp.vis2Curve}
 		}
-		fig, err := plots.Measured(m, models, curves, plots.Options{Title: mp.title(upperFirst(m.Label))})
+		fig, err := plots.Measured(m, models, curves, plots.Options{Title: mp.title(upperFirst(m.Label)), LogY: !m.Phase && plots.AutoLog(m.Value)})
 		if err := save(fig, err, "-"+t.String()+".png"); err != nil {
 			return err
 		}

@@ -316,7 +316,7 @@ func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) ([]string,
 		for i, r := range ok {
 			models = append(models, plots.ModelValues{Name: r.Name, Value: output.ModelValues(preds[i], t, idx)})
 		}
-		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's image"})
+		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's image", LogY: !m.Phase && plots.AutoLog(m.Value)})
 		if errors.Is(err, plots.ErrNoData) {
 			continue
 		}

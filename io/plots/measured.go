@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"sort"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -72,7 +74,13 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 	}
 	p.Add(plotter.NewGrid())
 	lr := pts.lambdaRange()
-	if err := addData(p, pts, m.Err != nil, "data", lr); err != nil {
+	dataName := "data"
+	if logY {
+		if k := m.nonPositive(); k > 0 {
+			dataName = "data (" + strconv.Itoa(k) + " ≤ 0 not shown)"
+		}
+	}
+	if err := addData(p, pts, m.Err != nil, dataName, lr); err != nil {
 		return nil, fmt.Errorf("plots: %s: %w", name, err)
 	}
 	if err := addModels(p, pts, models, n, m.Phase, logY, lr.coloured()); err != nil {
@@ -95,6 +103,18 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 		p.Y.Tick.Marker = degreeTicks{}
 	}
 	return withColorBar(p, lr.bar(), opt, false), nil
+}
+
+// nonPositive returns the number of points of m with finite coordinates and a value not
+// above zero, which a logarithmic axis cannot show.
+func (m *Measurements) nonPositive() int {
+	k := 0
+	for i, v := range m.Value {
+		if finite(m.Freq[i], v) && v <= 0 {
+			k++
+		}
+	}
+	return k
 }
 
 // points returns the finite points of m (with logY, the positive ones), phases wrapped and
@@ -126,6 +146,38 @@ func (m *Measurements) points(logY bool) dataPoints {
 		pts.lam = append(pts.lam, l)
 	}
 	return pts
+}
+
+// Constants of AutoLog (common practice, no source): a logarithmic axis is worth it when the
+// positive values span more than autoLogSpan between their 5th and 95th percentiles, and
+// harmless when at most autoLogDropped of the values are not positive (it cannot show them).
+const (
+	autoLogSpan    = 100
+	autoLogDropped = 0.1
+)
+
+// AutoLog reports whether values (V², amplitudes) are better shown on a logarithmic axis:
+// their positive values span more than two decades between the 5th and the 95th
+// percentile, and at most a tenth of the finite values are zero or negative. Measured
+// names the points a logarithmic axis leaves out in the legend.
+func AutoLog(values []float64) bool {
+	var pos []float64
+	nonpos := 0
+	for _, v := range values {
+		switch {
+		case !finite(v):
+		case v > 0:
+			pos = append(pos, v)
+		default:
+			nonpos++
+		}
+	}
+	if len(pos) < 2 || float64(nonpos) > autoLogDropped*float64(nonpos+len(pos)) {
+		return false
+	}
+	sort.Float64s(pos)
+	at := func(q float64) float64 { return pos[int(math.Round(q*float64(len(pos)-1)))] }
+	return at(0.95) > autoLogSpan*at(0.05)
 }
 
 // lambdaRange is the range of the wavelengths of a plot's points (metres).

@@ -512,3 +512,36 @@ func TestWithUnit(t *testing.T) {
 		}
 	}
 }
+
+// AutoLog: two decades between the 5th and 95th percentiles of the positive values, at most
+// a tenth not positive (the rule of AutoLog, common practice, no source).
+func TestAutoLog(t *testing.T) {
+	ramp := func(n int, f func(i int) float64) []float64 {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = f(i)
+		}
+		return v
+	}
+	decay := ramp(100, func(i int) float64 { return math.Pow(10, -4*float64(i)/99) })
+	for _, c := range []struct {
+		name string
+		v    []float64
+		want bool
+	}{
+		{"four decades", decay, true},
+		{"0.5 to 0.9", ramp(100, func(i int) float64 { return 0.5 + 0.004*float64(i) }), false},
+		{"four decades, 20 % negative", append(append([]float64{}, decay...), ramp(25, func(int) float64 { return -1e-3 })...), false},
+		{"four decades, 5 % zero and NaN", append(append([]float64{}, decay...), 0, 0, 0, 0, 0, math.NaN(), math.NaN()), true},
+		{"one value", []float64{1}, false},
+	} {
+		if got := AutoLog(c.v); got != c.want {
+			t.Errorf("%s: AutoLog = %v, want %v", c.name, got, c.want)
+		}
+	}
+	// On a logarithmic axis the legend counts the points it cannot show.
+	m := Measurements{Label: "V²", Freq: []float64{1e7, 2e7, 3e7, 4e7}, Value: []float64{0.5, 0.01, -0.001, 0}}
+	if k := m.nonPositive(); k != 2 {
+		t.Errorf("%d points not above zero, want 2", k)
+	}
+}
