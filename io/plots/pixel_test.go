@@ -204,11 +204,36 @@ func checkOneToOne(t *testing.T, name string, ticks, labels []span) {
 }
 
 // checkLegendInside checks that no ink of the upper part of the plot (where the legend is)
-// lies in the 10 pixels right of the data area, nor in the last 3 columns of the image: the
-// legend stays inside the frame.
+// lies in the 10 pixels right of the data area, nor in the last 3 columns of the image, nor
+// between the title and the top of the data area on the right: the legend stays inside the
+// frame.
 func checkLegendInside(t *testing.T, m image.Image, a axes, name string) {
 	t.Helper()
 	w := m.Bounds().Dx()
+	// The title: the first rows with ink from the top, down to the first empty row.
+	row := func(y int) bool {
+		for x := 0; x < w; x++ {
+			if ink(m, x, y) {
+				return true
+			}
+		}
+		return false
+	}
+	y := 0
+	for y < a.y0 && !row(y) {
+		y++
+	}
+	for y < a.y0 && row(y) {
+		y++
+	}
+	for ; y < a.y0-3; y++ {
+		for x := max(a.x1-200, a.yCol+1); x <= min(a.x1+10, w-1); x++ {
+			if ink(m, x, y) {
+				t.Errorf("%s: ink at (%d, %d), above the data area (from row %d) and below the title: the legend sits outside the frame", name, x, y, a.y0)
+				return
+			}
+		}
+	}
 	for y := a.y0; y < a.y0+(a.y1-a.y0)/3; y++ {
 		for x := a.x1 + 2; x <= a.x1+10 && x < w; x++ {
 			if ink(m, x, y) {
