@@ -175,6 +175,27 @@ func Breakdown(files []*oifits.File, d *dataset.Data) []InspectGroup {
 	return out
 }
 
+// InstrumentGroups returns the instrument (INSNAME) of the points idx of data type t in d,
+// read from files through their origins, as an index into names (sorted); names has one entry
+// "" when the files do not tell (data built in memory).
+func InstrumentGroups(files []*oifits.File, d *dataset.Data, t dataset.DataType, idx []int) (group []int, names []string) {
+	ins := make([]string, len(idx))
+	seen := map[string]bool{}
+	for k, i := range idx {
+		if _, o, ok := pointOrigin(d, t, i); ok {
+			tb, _ := findTable(files, o)
+			ins[k] = tb.ins
+		}
+		seen[ins[k]] = true
+	}
+	names = sortedKeys(seen)
+	group = make([]int, len(idx))
+	for k, s := range ins {
+		group[k] = sort.SearchStrings(names, s)
+	}
+	return group, names
+}
+
 // pointOrigin returns the epoch and origin of point i of data type t's table in d; the
 // origin's File is −1 when d does not record it (data built in memory).
 func pointOrigin(d *dataset.Data, t dataset.DataType, i int) (mjd float64, o dataset.Origin, ok bool) {

@@ -85,6 +85,37 @@ func TestBreakdown(t *testing.T) {
 	if txt := BreakdownText(gs); strings.Count(txt, "\n  night ") != 1 || !strings.Contains(txt, "15 baselines, 20 triangles") {
 		t.Errorf("text:\n%s", txt)
 	}
+	// The same night under a second instrument name: each V² point is traced to its
+	// instrument, half of them to each.
+	f3, err := oifits.Decode(bytes.NewReader(raw), "c.oifits")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range f3.Wavelengths {
+		f3.Wavelengths[i].InsName = "ALT-" + f3.Wavelengths[i].InsName
+	}
+	for i := range f3.Vis2 {
+		f3.Vis2[i].InsName = "ALT-" + f3.Vis2[i].InsName
+	}
+	for i := range f3.T3 {
+		f3.T3[i].InsName = "ALT-" + f3.T3[i].InsName
+	}
+	files = []*oifits.File{f1, f3}
+	d, err = dataset.FromFiles(files, dataset.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, idx := Measurements(d, dataset.Vis2)
+	group, names := InstrumentGroups(files, d, dataset.Vis2, idx)
+	n0 := 0
+	for _, g := range group {
+		if g == 0 {
+			n0++
+		}
+	}
+	if len(names) != 2 || names[0] != "ALT-"+names[1] || 2*n0 != len(idx) {
+		t.Errorf("instruments %v, %d of %d points in the first", names, n0, len(idx))
+	}
 	// Data built in memory point to no table: no stations, the points still counted.
 	if gs := Breakdown(nil, everyTypeData()); len(gs) != 1 || len(gs[0].Stations) != 0 || len(gs[0].Types) != dataset.NTypes {
 		t.Errorf("data without files: %+v", gs)

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"vcz/dataset"
+	"vcz/io/oifits"
 	"vcz/io/plots"
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -15,8 +16,9 @@ import (
 
 // DataPlots writes the (u,v) coverage of d and each of its data types against spatial
 // frequency into dir (which must exist) as uv.png and <word>.png (vis2.png, t3phi.png, …),
-// the data coloured by wavelength when they have several, and returns the files written.
-func DataPlots(d *dataset.Data, dir string) ([]string, error) {
+// the data coloured by instrument when files hold several, else by wavelength when they
+// have several, and returns the files written.
+func DataPlots(files []*oifits.File, d *dataset.Data, dir string) ([]string, error) {
 	var uv plots.UV
 	addUV := func(u, v, l float64) {
 		uv.U = append(uv.U, u)
@@ -53,6 +55,7 @@ func DataPlots(d *dataset.Data, dir string) ([]string, error) {
 		if len(idx) == 0 {
 			continue
 		}
+		m.Group, m.GroupNames = InstrumentGroups(files, d, t, idx)
 		fig, err := plots.Measured(m, nil, nil, plots.Options{Title: titled(upperFirst(m.Label), title), LogY: !m.Phase && plots.AutoLog(m.Value)})
 		if errors.Is(err, plots.ErrNoData) {
 			continue
@@ -73,7 +76,7 @@ func DataPlots(d *dataset.Data, dir string) ([]string, error) {
 // PREFIX-<word>.png (data and model against spatial frequency; for V² of a circular model the
 // model's curve), PREFIX-residuals.png and, with a companion search g, PREFIX-grid.png. It
 // returns the files written, those before an error included.
-func FitPlots(d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
+func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
 	m := res.Model
 	var written []string
 	save := func(fig *plots.Figure, err error, suffix string) error {
@@ -91,7 +94,7 @@ func FitPlots(d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string
 		return nil
 	}
 	title := strings.Join(d.Targets, ", ")
-	mp := modelPlots{d: d, pred: recon.PredictVis(d, m.VisMany), use: res.Use, name: "fitted model",
+	mp := modelPlots{files: files, d: d, pred: recon.PredictVis(d, m.VisMany), use: res.Use, name: "fitted model",
 		title:         func(what string) string { return titled(what+" and fitted model", title) },
 		residualTitle: titled("Normalised residuals of the fit", title)}
 	if circular(m) {
@@ -190,10 +193,11 @@ func ModelValues(pred *recon.Prediction, t dataset.DataType, idx []int) []float6
 // modelPlots draws data against a model for each fitted data type, and the normalised
 // residuals of all of them: the plots of an image and of a fit.
 type modelPlots struct {
-	d    *dataset.Data
-	pred *recon.Prediction
-	use  dataset.DataType // the fitted types; 0 means all
-	name string           // the model's legend entry
+	files []*oifits.File // the data files, for the instruments; nil for none
+	d     *dataset.Data
+	pred  *recon.Prediction
+	use   dataset.DataType // the fitted types; 0 means all
+	name  string           // the model's legend entry
 	// title makes a plot's title from the data type's label ("V²").
 	title         func(what string) string
 	residualTitle string
@@ -214,6 +218,7 @@ func (mp *modelPlots) write(save func(fig *plots.Figure, err error, suffix strin
 		if len(idx) == 0 {
 			continue
 		}
+		m.Group, m.GroupNames = InstrumentGroups(mp.files, mp.d, t, idx)
 		mv := ModelValues(mp.pred, t, idx)
 		models := []plots.ModelValues{{Name: mp.name, Value: mv}}
 		var curves []plots.Curve
@@ -334,7 +339,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		use |= c.Type
 	}
 	label := r.Regularizer()
-	mp := modelPlots{d: d, pred: pred, use: use, name: label,
+	mp := modelPlots{files: r.Files, d: d, pred: pred, use: use, name: label,
 		title:         func(what string) string { return what + " — data and image model — " + OrNone(target) },
 		residualTitle: "Normalised residuals (data − model)/σ — " + OrNone(target)}
 	if err := mp.write(save); err != nil {

@@ -189,7 +189,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *plotPrefix != "" {
-		written, err := output.FitPlots(d, res, g, *plotPrefix)
+		written, err := output.FitPlots(files, d, res, g, *plotPrefix)
 		sum.Plots = append(sum.Plots, written...)
 		if err != nil {
 			return failure(err)

@@ -52,7 +52,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
 			return badInputf("inspect: -plot: %v", err)
 		}
-		paths, err := output.DataPlots(d, *plotDir)
+		paths, err := output.DataPlots(files, d, *plotDir)
 		if err != nil {
 			return failure(err)
 		}

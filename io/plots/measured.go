@@ -33,6 +33,11 @@ type Measurements struct {
 	// data are coloured by wavelength from violet (shortest) to red (longest) with a colour
 	// bar in µm. Nil draws the data in black.
 	Wavelength []float64
+	// Group, when GroupNames has several names, gives each point's group (an index into
+	// GroupNames), e.g. its instrument: the data are then coloured by group, one legend
+	// entry each, instead of by wavelength.
+	Group      []int
+	GroupNames []string
 }
 
 // Measured plots m against spatial frequency in Mλ: data with error bars, each model's values
@@ -51,8 +56,14 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 		name = "data"
 	}
 	n := len(m.Value)
-	if len(m.Freq) != n || (m.Err != nil && len(m.Err) != n) || (m.Wavelength != nil && len(m.Wavelength) != n) {
-		return nil, fmt.Errorf("plots: %s: %d values, %d frequencies, %d errors and %d wavelengths", name, n, len(m.Freq), len(m.Err), len(m.Wavelength))
+	if len(m.Freq) != n || (m.Err != nil && len(m.Err) != n) || (m.Wavelength != nil && len(m.Wavelength) != n) || (m.Group != nil && len(m.Group) != n) {
+		return nil, fmt.Errorf("plots: %s: %d values, %d frequencies, %d errors, %d wavelengths and %d groups", name, n, len(m.Freq), len(m.Err), len(m.Wavelength), len(m.Group))
+	}
+	grouped := m.Group != nil && len(m.GroupNames) > 1
+	for _, g := range m.Group {
+		if grouped && (g < 0 || g >= len(m.GroupNames)) {
+			return nil, fmt.Errorf("plots: %s: group %d of %d names", name, g, len(m.GroupNames))
+		}
 	}
 	logY := opt.LogY && !m.Phase
 	pts := m.points(logY)
@@ -80,10 +91,24 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 			dataName = "data (" + strconv.Itoa(k) + " ≤ 0 not shown)"
 		}
 	}
-	if err := addData(p, pts, m.Err != nil, dataName, lr); err != nil {
+	entries := 1
+	if grouped {
+		lr = lambdaRange{math.Inf(1), math.Inf(-1)}
+		names := make([]string, len(m.GroupNames))
+		for g, gn := range m.GroupNames {
+			names[g] = "data, " + gn
+			if k := m.nonPositiveIn(g); logY && k > 0 {
+				names[g] += " (" + strconv.Itoa(k) + " ≤ 0 not shown)"
+			}
+		}
+		if err := addGroups(p, pts, m.Err != nil, names); err != nil {
+			return nil, fmt.Errorf("plots: %s: %w", name, err)
+		}
+		entries = len(m.GroupNames)
+	} else if err := addData(p, pts, m.Err != nil, dataName, lr); err != nil {
 		return nil, fmt.Errorf("plots: %s: %w", name, err)
 	}
-	if err := addModels(p, pts, models, n, m.Phase, logY, lr.coloured()); err != nil {
+	if err := addModels(p, pts, models, n, m.Phase, logY, lr.coloured() || grouped); err != nil {
 		return nil, fmt.Errorf("plots: %s: %w", name, err)
 	}
 	if err := addCurves(p, curves, logY); err != nil {
@@ -98,7 +123,7 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 	}
 	padX(p, false)
 	padY(p, logY)
-	roomForLegend(p, 1+len(models)+len(curves), logY)
+	roomForLegend(p, entries+len(models)+len(curves), logY)
 	if m.Phase {
 		p.Y.Tick.Marker = degreeTicks{}
 	}
@@ -111,6 +136,17 @@ func (m *Measurements) nonPositive() int {
 	k := 0
 	for i, v := range m.Value {
 		if finite(m.Freq[i], v) && v <= 0 {
+			k++
+		}
+	}
+	return k
+}
+
+// nonPositiveIn is nonPositive for the points of group g.
+func (m *Measurements) nonPositiveIn(g int) int {
+	k := 0
+	for i, v := range m.Value {
+		if m.Group[i] == g && finite(m.Freq[i], v) && v <= 0 {
 			k++
 		}
 	}
@@ -144,6 +180,9 @@ func (m *Measurements) points(logY bool) dataPoints {
 		}
 		pts.add(i, x, y, lo, hi)
 		pts.lam = append(pts.lam, l)
+		if m.Group != nil {
+			pts.grp = append(pts.grp, m.Group[i])
+		}
 	}
 	return pts
 }
@@ -221,6 +260,42 @@ func upperFirst(s string) string {
 		break
 	}
 	return s
+}
+
+// addGroups adds the data as points with error bars, coloured by group from the palette, with
+// the legend entry names[g] for group g.
+func addGroups(p *plot.Plot, d dataPoints, withErr bool, names []string) error {
+	if withErr {
+		e, err := plotter.NewYErrorBars(d)
+		if err != nil {
+			return err
+		}
+		e.LineStyle.Color = color.Gray{110}
+		e.LineStyle.Width = vg.Points(0.6)
+		e.CapWidth = vg.Points(2.5)
+		p.Add(e)
+	}
+	for g, gn := range names {
+		var xy plotter.XYs
+		for k := range d.xy {
+			if d.grp[k] == g {
+				xy = append(xy, d.xy[k])
+			}
+		}
+		if len(xy) == 0 {
+			continue
+		}
+		s, err := plotter.NewScatter(xy)
+		if err != nil {
+			return err
+		}
+		s.GlyphStyle = dataGlyph
+		s.GlyphStyle.Radius = vg.Points(2.2)
+		s.GlyphStyle.Color = seriesColor(g)
+		p.Add(s)
+		p.Legend.Add(gn, s)
+	}
+	return nil
 }
 
 // dataGlyph is the glyph of a data point.

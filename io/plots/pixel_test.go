@@ -354,7 +354,19 @@ func TestPixels(t *testing.T) {
 		}
 		cases = append(cases, pixelCase{fmt.Sprintf("χ² map log %v", logZ), func() (*Figure, error) { return Chi2Map(g, Options{}) }, true})
 	}
+	half := make([]int, n)
+	for i := range half {
+		half[i] = i % 2
+	}
 	cases = append(cases,
+		pixelCase{"V² by instrument", func() (*Figure, error) {
+			v2 := make([]float64, n)
+			for i := range v2 {
+				v2[i] = math.Exp(-fq[i] / 3e7)
+			}
+			return Measured(Measurements{Label: "V²", Freq: fq, Value: v2, Wavelength: lam, Group: half, GroupNames: []string{"ALPHA-4", "BETA-2"}},
+				[]ModelValues{{"model", v2}}, nil, Options{})
+		}, false},
 		pixelCase{"uv", func() (*Figure, error) { return UVCoverage(UV{U: u, V: v, Wavelength: lam}, Options{}) }, true},
 		pixelCase{"contrast", func() (*Figure, error) {
 			sep := []float64{1, 2, 4, 8, 16, 32}

@@ -206,6 +206,7 @@ type dataPoints struct {
 	errs plotter.YErrors
 	idx  []int
 	lam  []float64 // wavelengths (m), when the caller gives them
+	grp  []int     // groups (Measurements.Group), when the caller gives them
 }
 
 func (d dataPoints) Len() int                        { return len(d.xy) }
