@@ -25,7 +25,9 @@ signal-to-noise ratio (-json: "breakdown").
 With -plot DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
 data type present, DIR/<type>.png against spatial frequency (vis2.png,
 t3phi.png for closure phases against the longest baseline of the triangle,
-t3amp.png, visamp.png, visphi.png), coloured by wavelength.`
+t3amp.png, visamp.png, visphi.png), coloured by instrument when there are
+several, else by wavelength; V² and amplitudes that span more than two decades
+on a logarithmic axis.`
 
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
