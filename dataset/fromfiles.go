@@ -51,6 +51,9 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 	insUsed := map[string]Instrument{}
 	for fi, f := range files {
 		d.Files = append(d.Files, f.Name)
+		for _, w := range f.Warnings {
+			d.Notices = append(d.Notices, f.Name+": "+w)
+		}
 		waves := map[string]*oifits.Wavelength{}
 		for i := range f.Wavelengths {
 			waves[f.Wavelengths[i].InsName] = &f.Wavelengths[i]

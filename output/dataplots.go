@@ -311,7 +311,8 @@ func titled(what, target string) string {
 
 // writeFitPlots writes the plots of an image's fit to its data: for each fitted data type
 // STEM-<word>.png (data and the image's values), STEM-residuals.png and, for a weight path of
-// two steps or more, STEM-lcurve.png. It returns the files written.
+// two steps or more, STEM-lcurve.png. It returns the files written, those before an error
+// included (Outputs.Write removes them).
 func writeFitPlots(stem string, r Run) ([]string, error) {
 	d, res := r.Data, r.Result
 	target := r.Target()
@@ -343,12 +344,12 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		title:         func(what string) string { return what + " — data and image model — " + OrNone(target) },
 		residualTitle: "Normalised residuals (data − model)/σ — " + OrNone(target)}
 	if err := mp.write(save); err != nil {
-		return nil, err
+		return written, err
 	}
 	if lp, ok := LCurve(label, res); ok {
 		fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + OrNone(target)})
 		if err := save(fig, err, "-lcurve.png"); err != nil {
-			return nil, err
+			return written, err
 		}
 	}
 	return written, nil

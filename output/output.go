@@ -3,6 +3,7 @@ package output
 import (
 	"fmt"
 	"math"
+	"os"
 	"runtime/debug"
 	"strings"
 	"time"
@@ -107,13 +108,24 @@ func (o Outputs) Image(r Run) *fitsimage.Image {
 }
 
 // Write writes the FITS image of r to out and, unless o says otherwise, its PNG preview
-// and data-fit plots beside it (package doc). It returns the paths written, those before
-// an error included.
-func (o Outputs) Write(out string, r Run) (Paths, error) {
-	paths := Paths{FITS: out}
+// and data-fit plots beside it (package doc), and returns their paths. When any of them
+// fails, the files this call wrote are removed, so that no complete-looking result is
+// left by a failed run, and no path is returned.
+func (o Outputs) Write(out string, r Run) (paths Paths, err error) {
+	defer func() {
+		if err != nil {
+			for _, p := range append([]string{paths.FITS, paths.PNG}, paths.Plots...) {
+				if p != "" {
+					os.Remove(p)
+				}
+			}
+			paths = Paths{}
+		}
+	}()
 	if err := fitsimage.WriteFile(out, o.Image(r)); err != nil {
 		return paths, err
 	}
+	paths.FITS = out
 	stem := Stem(out)
 	if !o.NoPNG {
 		p := stem + ".png"
@@ -124,10 +136,10 @@ func (o Outputs) Write(out string, r Run) (Paths, error) {
 	}
 	if !o.NoPlots {
 		ps, err := writeFitPlots(stem, r)
+		paths.Plots = ps
 		if err != nil {
 			return paths, err
 		}
-		paths.Plots = ps
 	}
 	return paths, nil
 }

@@ -153,7 +153,12 @@ func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view capped at the largest constrained scale λmax/Bmin = %.4g mas", g.LargestScale/Mas))
 		}
 	}
-	n := int(math.Ceil(fov/g.Pixel - 1e-9))
+	// The count is compared as a float first: a tiny requested pixel would
+	// overflow the conversion to int.
+	n := maxN + 1
+	if nf := math.Ceil(fov/g.Pixel - 1e-9); nf <= float64(maxN) {
+		n = int(nf)
+	}
 	switch {
 	case n < minN:
 		n = minN

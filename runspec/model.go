@@ -4,9 +4,9 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"os"
 	"strings"
 
+	"vcz/io/safefile"
 	"vcz/recon/model"
 )
 
@@ -14,7 +14,7 @@ import (
 // JSON object 'vcz fit -json' prints, whose "model" member is the fitted model in the
 // compact form. Errors are one line naming the file.
 func readModelFile(path string) (*model.Model, error) {
-	src, err := os.ReadFile(path)
+	src, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("-from-model: %v", err)
 	}

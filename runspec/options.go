@@ -97,7 +97,7 @@ var options = []option{
 		format: func(s *Spec) string { return formatRange(s.WaveMin, s.WaveMax, formatWavelength) }},
 	{name: "mjd", group: Select, usage: "keep rows in this MJD range, e.g. 60100.0:60100.9 (either side may be empty)",
 		parse: func(s *Spec, name, text string) error {
-			lo, hi, err := parseOptRange(text, func(x string) (float64, error) { return strconv.ParseFloat(x, 64) })
+			lo, hi, err := parseOptRange(text, parseFinite)
 			if err != nil {
 				return fmt.Errorf("%s %q: %v", name, text, err)
 			}
@@ -138,8 +138,8 @@ var options = []option{
 			if err != nil {
 				return err
 			}
-			if n < 0 || n%2 != 0 {
-				return fmt.Errorf("%s %d: the grid size must be a positive even number", name, n)
+			if n != 0 && (n < minGrid || n > maxGrid || n%2 != 0) {
+				return fmt.Errorf("%s %d: the grid size must be an even number from %d to %d", name, n, minGrid, maxGrid)
 			}
 			s.Grid = n
 			return nil
@@ -318,6 +318,15 @@ func parsePositiveAngle(dst *float64, name, text, want string) error {
 	}
 	*dst = a
 	return nil
+}
+
+// parseFinite reads a finite number; NaN and infinities are refused.
+func parseFinite(text string) (float64, error) {
+	x, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return 0, fmt.Errorf("%q is not a finite number", text)
+	}
+	return x, nil
 }
 
 // parseInt reads an integer as the flag package does (base prefixes allowed).

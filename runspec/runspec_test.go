@@ -183,8 +183,8 @@ func TestBadValues(t *testing.T) {
 		args []string
 		want string
 	}{
-		{[]string{"-n", "33"}, "-n 33: the grid size must be a positive even number"},
-		{[]string{"-n", "-2"}, "-n -2: the grid size must be a positive even number"},
+		{[]string{"-n", "33"}, "-n 33: the grid size must be an even number from 8 to 2048"},
+		{[]string{"-n", "-2"}, "-n -2: the grid size must be an even number from 8 to 2048"},
 		{[]string{"-pixel", "x"}, `-pixel "x": want a positive angle such as 0.25mas`},
 		{[]string{"-pixel", "-1mas"}, `-pixel "-1mas": want a positive angle such as 0.25mas`},
 		{[]string{"-fov", "0"}, `-fov "0": want a positive angle such as 12mas`},
@@ -208,7 +208,9 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-workers", "-1"}, "-iter, -starts and -workers must not be negative"},
 		{[]string{"-wave", "2um:1um"}, `-wave "2um:1um": the upper limit is below the lower one`},
 		{[]string{"-wave", "1furlong:"}, `-wave "1furlong:": unknown unit "furlong" in "1furlong" (use m, micron, nm, um, µm)`},
-		{[]string{"-mjd", "x:"}, `-mjd "x:": strconv.ParseFloat: parsing "x": invalid syntax`},
+		{[]string{"-mjd", "x:"}, `-mjd "x:": "x" is not a finite number`},
+		{[]string{"-mjd", "NaN:"}, `-mjd "NaN:": "NaN" is not a finite number`},
+		{[]string{"-n", "2"}, "-n 2: the grid size must be an even number from 8 to 2048"},
 		{[]string{"-mjd", "5"}, `-mjd "5": want LOW:HIGH`},
 	} {
 		_, err := flagSpec(t, All, c.args...)
@@ -367,7 +369,7 @@ func TestParseErrors(t *testing.T) {
 		"n=64\nn=32\n":       "line 2: n given twice",
 		"n 64\n":             `line 1: want name=value, not "n 64"`,
 		`target="x` + "\n":   `line 1: target: bad quoted value "x`,
-		"n=33\n":             "n 33: the grid size must be a positive even number",
+		"n=33\n":             "n 33: the grid size must be an even number from 8 to 2048",
 	} {
 		if _, err := Parse(text); err == nil || err.Error() != want {
 			t.Errorf("%q: error %v, want %q", text, err, want)
@@ -421,8 +423,25 @@ func TestProblemOptions(t *testing.T) {
 	if p, _, err = s.Problem(d); err != nil || p.GridOptions.N != 34 || p.GridOptions.Pixel != 0.3*mas {
 		t.Errorf("-fov -pixel: %+v, %v (want 34 = ⌈10/0.3⌉ rounded up to even)", p.GridOptions, err)
 	}
-	if _, _, err = (Spec{Grid: 4096}).Problem(d); err == nil || err.Error() != "grid of 4096 pixels per side is too large (at most 2048)" {
+	if _, _, err = (Spec{Grid: 4096}).Problem(d); err == nil || err.Error() != "-n 4096: the grid size must be an even number from 8 to 2048" {
 		t.Errorf("-n 4096: %v", err)
+	}
+	// Absurd scales are refused before any size is converted to an integer
+	// (a pixel of 1e-20 mas used to overflow the pixel count and panic).
+	for _, c := range []struct {
+		s    Spec
+		want string
+	}{
+		{Spec{Pixel: 1e300 * mas}, "-pixel: a pixel of 1e+300mas is"},
+		{Spec{Pixel: 1e-20 * mas}, "-pixel: a pixel of 1e-20mas is"},
+		{Spec{FOV: 1e20 * mas}, "-fov 1e+20mas with pixels of"},
+		{Spec{FOV: 1e20 * mas, Pixel: 0.1 * mas}, "-fov 1e+20mas with pixels of 0.1mas needs 1e+21 pixels per side; at most 2048"},
+		{Spec{FOV: 1e-5 * mas}, "-fov 1e-05mas is smaller than the resolution"},
+	} {
+		var oe *OptionError
+		if _, _, err := c.s.Problem(d); err == nil || !strings.HasPrefix(err.Error(), c.want) || !errors.As(err, &oe) {
+			t.Errorf("%+v: error %v, want %q…", c.s, err, c.want)
+		}
 	}
 	seven := uint64(7)
 	s = Spec{Use: dataset.Vis2 | dataset.T3Phi, DataWeights: recon.Weights{2}, Support: 3 * mas, Iterations: 99, Seed: &seven,

@@ -125,8 +125,10 @@ type Start struct {
 // defaultSeed is the seed of a Spec whose Seed is nil.
 const defaultSeed = 1
 
-// maxGrid is the largest grid Problem accepts, in pixels per side.
-const maxGrid = 2048
+// minGrid and maxGrid bound the grid Problem accepts, in pixels per side:
+// below 8 pixels no image is formed, above 2048 a run takes hours (common
+// practice, no source).
+const minGrid, maxGrid = 8, 2048
 
 // regTerms returns the regularizer list with its default.
 func (s *Spec) regTerms() []regularizers.NamedTerm {
@@ -209,8 +211,11 @@ func (s Spec) Problem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 		case s.Grid > 0:
 			p.GridOptions.Pixel = s.FOV / float64(s.Grid)
 		case s.Pixel > 0:
-			n := int(math.Ceil(s.FOV / s.Pixel))
-			p.GridOptions.N = n + n%2
+			n, err := gridFor(s.FOV, s.Pixel)
+			if err != nil {
+				return p, st, err
+			}
+			p.GridOptions.N = n
 		default:
 			// Keep the default pixel and set N from the field.
 			ch, err := recon.ChooseGrid(d, recon.GridOptions{})
@@ -218,12 +223,18 @@ func (s Spec) Problem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 				return p, st, err
 			}
 			p.GridOptions.Pixel = ch.Pixel
-			n := int(math.Ceil(s.FOV / ch.Pixel))
-			p.GridOptions.N = n + n%2
+			n, err := gridFor(s.FOV, ch.Pixel)
+			if err != nil {
+				return p, st, err
+			}
+			p.GridOptions.N = n
 		}
 	}
 	if p.GridOptions.N > maxGrid {
 		return p, st, fmt.Errorf("grid of %d pixels per side is too large (at most %d)", p.GridOptions.N, maxGrid)
+	}
+	if err := s.checkScales(d, p.GridOptions); err != nil {
+		return p, st, err
 	}
 	var prior *fitsimage.Image
 	if s.Prior.Kind == PriorFile {
@@ -360,3 +371,56 @@ func (s *Spec) start() (recon.Start, error) {
 	}
 	return st, nil
 }
+
+// gridFor returns the even number of pixels of size pixel that covers fov,
+// refusing, before any conversion to int can overflow, a count beyond
+// maxGrid.
+func gridFor(fov, pixel float64) (int, error) {
+	n := math.Ceil(fov / pixel)
+	if !(n <= maxGrid) {
+		return 0, &OptionError{Option: "-fov", Err: fmt.Errorf("-fov %s with pixels of %s needs %.3g pixels per side; at most %d",
+			formatAngle(fov), roundMas(pixel), n, maxGrid)}
+	}
+	k := int(n)
+	return k + k%2, nil
+}
+
+// Bounds of a plausible pixel, in units of the resolution λmin/(2·Bmax):
+// pixels much coarser cannot show what the data resolve, and pixels much
+// finer give fields too small to hold anything the data constrain (common
+// practice, no source).
+const (
+	maxPixelPerResolution = 10
+	minPixelPerResolution = 0.01
+)
+
+// checkScales refuses a pixel or field of view that is absurd for the data's
+// resolution, naming the option at fault.
+func (s Spec) checkScales(d *dataset.Data, g recon.GridOptions) error {
+	res := d.Summarize().Resolution
+	if !(res > 0) {
+		return nil // ChooseGrid reports data without baselines
+	}
+	opt := "-pixel"
+	if s.Pixel == 0 {
+		opt = "-fov"
+	}
+	switch r := g.Pixel / res; {
+	case g.Pixel == 0:
+	case r > maxPixelPerResolution:
+		return &OptionError{Option: opt, Err: fmt.Errorf("%s: a pixel of %s is %.3g times the resolution λmin/(2·Bmax) = %s of these data; at most %d times, or the image cannot show what the data resolve",
+			opt, roundMas(g.Pixel), r, roundMas(res), maxPixelPerResolution)}
+	case r < minPixelPerResolution:
+		return &OptionError{Option: opt, Err: fmt.Errorf("%s: a pixel of %s is %.3g of the resolution λmin/(2·Bmax) = %s of these data; at least %g of it, or the field holds nothing the data constrain",
+			opt, roundMas(g.Pixel), r, roundMas(res), minPixelPerResolution)}
+	}
+	if s.FOV > 0 && s.FOV < res {
+		return &OptionError{Option: "-fov", Err: fmt.Errorf("-fov %s is smaller than the resolution λmin/(2·Bmax) = %s of these data",
+			formatAngle(s.FOV), roundMas(res))}
+	}
+	return nil
+}
+
+// roundMas writes an angle derived from the data (not typed by the user) in
+// mas with four significant digits.
+func roundMas(x float64) string { return fmt.Sprintf("%.4gmas", x/recon.Mas) }

@@ -103,6 +103,9 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	t0 := time.Now()
 	row := newRow(e)
 	fail := func(err error) EpochResult { return EpochResult{Row: b.failed(e, row, t0, err)} }
+	if Interrupted() {
+		return fail(ErrInterrupted)
+	}
 	hash, err := batch.Hash(e.SettingsText(), e.Files)
 	if err != nil {
 		return fail(err)
@@ -128,6 +131,11 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 		return fail(err)
 	}
 	fitsPath := filepath.Join(b.Out, e.Name+".fits")
+	// The old status goes before any output of the epoch is rewritten, so that a run
+	// killed between the new FITS and the new status cannot pass the old one's check.
+	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+		return fail(err)
+	}
 	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
 	run, paths, err := im.Run(outs, fitsPath, nil)
 	if err != nil {
@@ -253,6 +261,9 @@ func Collect(dirs []string) (*batch.Summary, error) {
 	}
 	sum, err := batch.Collect(parts)
 	if err != nil {
+		return nil, inputErrorf("batch -collect: %v", err)
+	}
+	if err := checkCollected(sum); err != nil {
 		return nil, inputErrorf("batch -collect: %v", err)
 	}
 	return sum, nil

@@ -1,10 +1,12 @@
 package workflow
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
 	"reflect"
+	"strings"
 	"testing"
 	"vcz/dataset"
 
@@ -149,4 +151,53 @@ func card(cards []fitsimage.Card, key string) any {
 		}
 	}
 	return nil
+}
+
+// TestEpochNameCollisions checks that epochs whose outputs would overwrite each other's or
+// the batch's own files are refused before any work, and that names unfit for a file are
+// refused wherever they come from.
+func TestEpochNameCollisions(t *testing.T) {
+	eps := func(names ...string) []*Epoch {
+		var e []*Epoch
+		for i, n := range names {
+			e = append(e, &Epoch{Index: i, Name: n})
+		}
+		return e
+	}
+	for _, c := range []struct {
+		names []string
+		joint bool
+		want  string // "" for accepted
+	}{
+		{[]string{"a", "b"}, true, ""},
+		{[]string{"a", "a-joint"}, false, ""},
+		{[]string{"a", "a-joint"}, true, `epoch "a-joint" would write a-joint.fits, as epoch "a" does`},
+		{[]string{"montage"}, false, `epoch "montage" would write montage.png, as the batch's own montage.png does`},
+		{[]string{"joint"}, false, ""},
+		{[]string{"joint"}, true, `epoch "joint" would write joint.fits, as the batch's own joint.fits does`},
+		{[]string{"Night", "night"}, false, `epoch "night" would write night.fits, as epoch "Night" does`},
+		{[]string{"../outside"}, false, `must not contain a path separator`},
+		{[]string{"a\x1b[2J"}, false, `must not contain control characters`},
+	} {
+		err := CheckEpochNames(eps(c.names...), c.joint)
+		var ie *InputError
+		if c.want == "" && err != nil || c.want != "" && (!errors.As(err, &ie) || !strings.Contains(err.Error(), c.want)) {
+			t.Errorf("%q joint %v: %v, want %q", c.names, c.joint, err, c.want)
+		}
+	}
+}
+
+// TestCollectRefusesOutsideNames checks that batch -collect refuses a shard summary whose
+// epoch names would build paths outside the folder, before reading anything they name.
+func TestCollectRefusesOutsideNames(t *testing.T) {
+	dir := t.TempDir()
+	s := &batch.Summary{Shard: "1/1", Epochs: 1, Rows: []batch.Row{{Index: 0, Epoch: "../outside/secret", Status: batch.StateDone, FITS: "../outside/secret.fits"}}}
+	if err := batch.WriteJSON(filepath.Join(dir, "summary-1-of-1.json"), s); err != nil {
+		t.Fatal(err)
+	}
+	_, err := Collect([]string{dir})
+	var ie *InputError
+	if !errors.As(err, &ie) || !strings.Contains(err.Error(), "must not contain a path separator") {
+		t.Fatalf("error %v", err)
+	}
 }

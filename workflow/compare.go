@@ -194,12 +194,12 @@ func (c *Comparison) Run(parallel, workers int, h CompareHooks) {
 				if h.Progress != nil {
 					h.Progress(i, pr)
 				}
-				return true
+				return !Interrupted()
 			}
 			t0 := time.Now()
 			r.Err = Safely(r.Name, func() (err error) {
 				r.Result, err = solveFinite(r.Problem, r.Settings)
-				return err
+				return orInterrupted(err)
 			})
 			if r.Err != nil {
 				r.Result = nil

@@ -3,11 +3,14 @@ package workflow
 import (
 	"errors"
 	"fmt"
+	"io/fs"
 	"os"
 	"path/filepath"
-	"vcz/dataset"
+	"time"
 
+	"vcz/dataset"
 	"vcz/io/oifits"
+	"vcz/io/safefile"
 )
 
 // ReadData reads OIFITS files and selects their points. Its errors are *InputError and
@@ -53,9 +56,12 @@ func CheckNotInputs(inputs []string, outputs ...string) error {
 	return nil
 }
 
-// CheckOutputs returns an *InputError naming the first of paths whose folder does not
-// exist (or is not a folder), so that a run fails at once rather than after its work.
-// Empty paths are skipped.
+// CheckOutputs returns an *InputError naming the first of paths that cannot be written,
+// so that a run fails at once rather than after its work: its folder does not exist or is
+// not a folder, the path is itself a folder, or the folder refuses a new file (a file is
+// created there and removed). It also removes, from each folder, the temporary files an
+// earlier run that was killed while writing left behind (safefile.SweepStale). Empty paths
+// are skipped.
 func CheckOutputs(paths ...string) error {
 	for _, p := range paths {
 		if p == "" {
@@ -65,6 +71,33 @@ func CheckOutputs(paths ...string) error {
 		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 			return inputError(p, fmt.Errorf("%s: cannot write: folder %s does not exist", p, dir))
 		}
+		if st, err := os.Stat(p); err == nil && st.IsDir() {
+			return inputError(p, fmt.Errorf("%s: is a folder; give a file name", p))
+		}
+		if err := CheckFolder(dir); err != nil {
+			return inputError(p, fmt.Errorf("%s: %v", p, err))
+		}
 	}
+	return nil
+}
+
+// started is when the process started (near enough: when this package was initialised);
+// temporary files older than that cannot belong to a write of this process.
+var started = time.Now()
+
+// CheckFolder creates and removes a file in dir to learn whether the outputs of a run can
+// be written there, and sweeps the stale temporaries of an earlier killed run.
+func CheckFolder(dir string) error {
+	f, err := os.CreateTemp(dir, ".vcz-check-*")
+	if err != nil {
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return fmt.Errorf("cannot write in folder %s: %v", dir, err)
+	}
+	f.Close()
+	os.Remove(f.Name())
+	safefile.SweepStale(dir, started)
 	return nil
 }

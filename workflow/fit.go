@@ -1,6 +1,7 @@
 package workflow
 
 import (
+	"fmt"
 	"math"
 	"path/filepath"
 	"strings"
@@ -50,6 +51,11 @@ type FitOutcome struct {
 // but did not end well returns the outcome (significances and limits included) and
 // fit.Fit's error together.
 func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
+	// One target at a time, as image asks: a fit to two targets' data
+	// mixes two objects.
+	if err := checkData(d); err != nil {
+		return nil, err
+	}
 	opt := s.Fit
 	var g *fit.GridResult
 	if s.Grid != nil {
@@ -84,6 +90,11 @@ func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, erro
 	res, fitErr := fit.Fit(d, m, opt)
 	if res == nil {
 		return nil, inputError("", fitErr)
+	}
+	if fitErr == nil && len(res.Params) > 0 && res.Cov == nil {
+		// Baselines of 1e-300 wavelengths, or errors of 1e300, leave every
+		// derivative at zero: the optimizer stops at once and "converges".
+		return nil, fmt.Errorf("the fit is degenerate: the data do not constrain its %d free parameters (JᵀJ is singular), so neither values nor errors can be given; check the (u,v) coordinates, the wavelengths and the error bars", len(res.Params))
 	}
 	o := &FitOutcome{Result: res, Grid: g, Start: m, Starts: opt.Starts}
 	if !s.SkipSignificance {

@@ -1,12 +1,14 @@
 package workflow
 
 import (
+	"errors"
 	"image/png"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 	"vcz/dataset"
 
 	"vcz/io/oifits"
@@ -99,5 +101,117 @@ func TestFitModelSignificanceLimits(t *testing.T) {
 	set.SkipSignificance, set.Limits = true, nil
 	if o, err = FitModel(d, m, set); err != nil || len(o.Detections) != 0 || o.Limits != nil {
 		t.Fatalf("SkipSignificance, no limits: %v, detections %+v, limits %v", err, o.Detections, o.Limits)
+	}
+}
+
+// TestFitOneTarget checks that fit, like image, refuses the data of two
+// targets with an input error naming them, instead of fitting one model to
+// two objects.
+func TestFitOneTarget(t *testing.T) {
+	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := model.Load("ud:diameter=2.5")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var files []*oifits.File
+	for _, name := range []string{"Orrin-A", "Orrin-B"} {
+		f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		f.Targets[0].Name = name
+		files = append(files, f)
+	}
+	d, err := dataset.FromFiles(files, dataset.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = FitModel(d, m, FitSettings{})
+	var ie *InputError
+	if !errors.As(err, &ie) || !strings.Contains(err.Error(), "2 targets (Orrin-A, Orrin-B); choose one with -target") {
+		t.Fatalf("error %v", err)
+	}
+}
+
+// TestFitDegenerate checks that data which cannot constrain the model are
+// errors, not a fit "converged after 0 iterations": all (u,v) at zero is
+// bad input; baselines shrunk 10³⁰⁰ times leave every derivative at zero,
+// a computation that cannot succeed. (Errors grown 10³⁰⁰ times are not
+// degenerate: a common scale of the errors cancels from the best fit and
+// from the covariance rescaled by χ²ᵣ.)
+func TestFitDegenerate(t *testing.T) {
+	m, err := model.Load("ud:diameter~3(0.5..10)")
+	if err != nil {
+		t.Fatal(err)
+	}
+	scaleUV := func(d *dataset.Data, f float64) {
+		for _, s := range [][]float64{d.Vis2.U, d.Vis2.V, d.T3.U1, d.T3.V1, d.T3.U2, d.T3.V2, d.Vis.U, d.Vis.V} {
+			for i := range s {
+				s[i] *= f
+			}
+		}
+	}
+	for _, c := range []struct {
+		name   string
+		change func(d *dataset.Data)
+		input  bool
+		want   string
+	}{
+		{"zero-uv", func(d *dataset.Data) { scaleUV(d, 0) }, true, "every (u,v) point is at zero baseline"},
+		{"tiny-uv", func(d *dataset.Data) { scaleUV(d, 1e-300) }, false, "the fit is degenerate"},
+	} {
+		d := binaryData(t)
+		c.change(d)
+		o, err := FitModel(d, m, FitSettings{SkipSignificance: true})
+		var ie *InputError
+		if o != nil || err == nil || errors.As(err, &ie) != c.input || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: outcome %v, error %v (want input error %v, %q)", c.name, o != nil, err, c.input, c.want)
+		}
+	}
+}
+
+// TestCheckOutputs checks that outputs that cannot be written are refused before any
+// work: a missing folder, a folder given as the file, a folder that refuses new files
+// (skipped as root, whom permissions do not stop); and that stale temporaries of a killed
+// run are swept while other files stay.
+func TestCheckOutputs(t *testing.T) {
+	dir := t.TempDir()
+	stale := filepath.Join(dir, ".star.fits.tmp-123")
+	keep := filepath.Join(dir, "star.fits")
+	for _, p := range []string{stale, keep} {
+		os.WriteFile(p, []byte("x"), 0o644)
+		old := time.Now().Add(-time.Hour)
+		os.Chtimes(p, old, old)
+	}
+	if err := CheckOutputs(filepath.Join(dir, "new.fits")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(stale); !os.IsNotExist(err) {
+		t.Errorf("stale temporary kept (%v)", err)
+	}
+	if _, err := os.Stat(keep); err != nil {
+		t.Errorf("other file removed: %v", err)
+	}
+	cases := map[string]string{
+		filepath.Join(dir, "missing", "a.fits"): "does not exist",
+		dir:                                     "is a folder; give a file name",
+	}
+	if os.Geteuid() != 0 {
+		ro := filepath.Join(dir, "ro")
+		os.Mkdir(ro, 0o555)
+		cases[filepath.Join(ro, "a.fits")] = "cannot write in folder"
+	}
+	for p, want := range cases {
+		err := CheckOutputs(p)
+		var ie *InputError
+		if !errors.As(err, &ie) || !strings.Contains(err.Error(), want) {
+			t.Errorf("%s: %v, want %q", p, err, want)
+		}
+	}
+	if left, _ := filepath.Glob(filepath.Join(dir, ".vcz-check-*")); len(left) != 0 {
+		t.Errorf("probe files left: %v", left)
 	}
 }

@@ -42,6 +42,9 @@ func checkData(d *dataset.Data) error {
 	if d.Len(dataset.AllTypes) == 0 {
 		return inputErrorf("no usable data points after selection")
 	}
+	if !(d.Summarize().BaselineMax > 0) {
+		return inputErrorf("every (u,v) point is at zero baseline: the data hold no spatial information")
+	}
 	return nil
 }
 
@@ -52,11 +55,19 @@ func checkData(d *dataset.Data) error {
 // *InputError.
 func (im *Image) Run(outs output.Outputs, out string, progress func(recon.Progress) bool) (output.Run, output.Paths, error) {
 	s := im.Settings
-	s.Progress = progress
+	s.Progress = func(pr recon.Progress) bool {
+		if Interrupted() {
+			return false
+		}
+		return progress == nil || progress(pr)
+	}
 	t0 := time.Now()
 	res, err := recon.Solve(im.Problem, s)
 	if err != nil {
-		return output.Run{}, output.Paths{}, err
+		return output.Run{}, output.Paths{}, orInterrupted(err)
+	}
+	if Interrupted() {
+		return output.Run{}, output.Paths{}, ErrInterrupted
 	}
 	run := output.Run{Files: im.Files, Data: im.Data, Spec: im.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
 	paths, err := outs.Write(out, run)

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"maps"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -15,6 +14,7 @@ import (
 
 	"vcz/io/oifits"
 	"vcz/io/preview"
+	"vcz/io/safefile"
 	"vcz/recon/batch"
 	"vcz/recon/model"
 	"vcz/runspec"
@@ -145,11 +145,16 @@ var renamedKeys = map[string]string{
 // names ("" for none), relative paths taken from the file's folder. Errors are
 // *InputError naming the file, and for an unknown key its line.
 func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
-	bad := func(format string, args ...any) error { return inputError(path, fmt.Errorf(format, args...)) }
-	src, err := os.ReadFile(path)
+	src, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, "", inputError(path, err)
 	}
+	return parseJobFile(src, path, shared)
+}
+
+// parseJobFile is ReadJobFile on the content src of the file at path.
+func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, string, error) {
+	bad := func(format string, args ...any) error { return inputError(path, fmt.Errorf(format, args...)) }
 	var jf jobFile
 	md, err := toml.Decode(string(src), &jf)
 	if err != nil {
@@ -195,8 +200,8 @@ func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 		if e.Name == "" {
 			e.Name = fmt.Sprintf("epoch-%02d", i+1)
 		}
-		if strings.ContainsAny(e.Name, `/\`) || e.Name == "." || e.Name == ".." {
-			return nil, "", bad("%s: epoch %d: name %q must not contain a path separator", path, i+1, e.Name)
+		if err := CheckEpochName(e.Name); err != nil {
+			return nil, "", bad("%s: epoch %d: %v", path, i+1, err)
 		}
 		if seen[e.Name] {
 			return nil, "", bad("%s: epoch %d: name %q is used twice", path, i+1, e.Name)

@@ -137,9 +137,15 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		j.Epochs = append(j.Epochs, je)
 	}
 	j.NPix = grid.N * grid.N
-	res, err := batch.SolveJoint(j, starts, s.Lambda, batch.JointSettings{MaxIter: maxIter, Progress: s.Progress})
+	progress := func(lambda float64, iter int, f float64) bool {
+		return !Interrupted() && (s.Progress == nil || s.Progress(lambda, iter, f))
+	}
+	res, err := batch.SolveJoint(j, starts, s.Lambda, batch.JointSettings{MaxIter: maxIter, Progress: progress})
+	if err == nil && Interrupted() {
+		err = ErrInterrupted
+	}
 	if err != nil {
-		return nil, err
+		return nil, orInterrupted(err)
 	}
 	n := grid.N
 	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,

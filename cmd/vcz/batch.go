@@ -129,6 +129,9 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if err := workflow.CheckEpochNames(epochs, *joint); err != nil {
+		return err
+	}
 	if *joint && shard.N > 1 {
 		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)
 	}
@@ -139,7 +142,10 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return failure(err)
+		return badInputf("batch: -out: %v", err)
+	}
+	if err := workflow.CheckFolder(*out); err != nil {
+		return badInputf("batch: -out: %v", err)
 	}
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel, Stretch: st}
 	disp := newBatchDisplay(stderr, *quiet)

@@ -166,7 +166,7 @@ func TestBatchJobUnknownKey(t *testing.T) {
 		{"[image]\nregularizer = \"tv\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", "job.toml:2: unknown key image.regularizer (see 'vcz batch --help'; job keys are the flag names: reg)"},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\n[[epoch]]\nfiles = [\"b.oifits\"]\niterations = 3\n", "job.toml:5: unknown key epoch.iterations (see 'vcz batch --help'; job keys are the flag names: iter)"},
 		{"[image]\npixel = \"x\"\n[[epoch]]\nfiles = [\"a.oifits\"]\n", `job.toml: [image] pixel "x": want a positive angle such as 0.25mas`},
-		{"[[epoch]]\nname = \"e\"\nfiles = [\"a.oifits\"]\nn = 33\n", `job.toml: epoch "e": n 33: the grid size must be a positive even number`},
+		{"[[epoch]]\nname = \"e\"\nfiles = [\"a.oifits\"]\nn = 33\n", `job.toml: epoch "e": n 33: the grid size must be an even number from 8 to 2048`},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\nseed = -3\n", `job.toml: epoch "epoch-01": seed -3 must not be negative`},
 		{"[[epoch]]\nfiles = [\"a.oifits\"]\nuse = [\"vis2\"]\n", `job.toml: epoch "epoch-01": use: want a string, number or boolean, not [vis2]`},
 	} {
@@ -362,4 +362,43 @@ func TestBatchJobKeys(t *testing.T) {
 			t.Errorf("batch --help does not list the job key %s", f.Name)
 		}
 	})
+}
+
+// TestBatchStaleFITS checks the resume rule: an epoch is complete only when its status
+// file and its FITS file's INHASH card both carry the run's hash. A run with other
+// settings killed after rewriting an epoch's FITS but before its status left the old
+// status beside the new FITS; the next plain run must redo that epoch, not keep it.
+func TestBatchStaleFITS(t *testing.T) {
+	dir := t.TempDir()
+	var files []string
+	for k := range 2 {
+		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		writeEpoch(t, p, k)
+		files = append(files, p)
+	}
+	out, other := filepath.Join(dir, "out"), filepath.Join(dir, "other")
+	args := append(append([]string{"batch", "-out", out}, batchFast...), files...)
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	otherArgs := append(append([]string{"batch", "-out", other}, batchFast...), "-iter", "39")
+	if _, errs, code := runCmd(t, append(otherArgs, files...)...); code != exitOK {
+		t.Fatalf("other settings: exit %d: %s", code, errs)
+	}
+	s := readSummary(t, filepath.Join(out, "summary.json"))
+	name := s.Rows[0].FITS
+	b, err := os.ReadFile(filepath.Join(other, name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(out, name), b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, errs, code := runCmd(t, args...); code != exitOK {
+		t.Fatalf("rerun: exit %d: %s", code, errs)
+	}
+	s = readSummary(t, filepath.Join(out, "summary.json"))
+	if s.Rows[0].Skipped || !s.Rows[1].Skipped {
+		t.Fatalf("skipped %v, %v: want the epoch with the stale FITS redone and the other kept", s.Rows[0].Skipped, s.Rows[1].Skipped)
+	}
 }

@@ -8,6 +8,7 @@ import (
 	"sort"
 	"strings"
 
+	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/workflow"
 )
@@ -108,7 +109,19 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "vcz: unknown command %q; run 'vcz help' for the list\n", name)
 		return exitBadInput
 	}
-	return exitCode(c.run(args[1:], stdout, stderr), stderr)
+	w := watchSignals(stderr)
+	err := c.run(args[1:], stdout, stderr)
+	if sig := w.stop(); sig != nil {
+		// Outputs finished before the signal are kept; a write under way
+		// when it came has finished or been abandoned with its temporary.
+		safefile.RemoveTemporaries()
+		if err != nil {
+			fmt.Fprintf(stderr, "vcz: %s\n", strings.ReplaceAll(strings.TrimSpace(err.Error()), "\n", "; "))
+		}
+		fmt.Fprintf(stderr, "vcz: stopped by %s; files reported as written are complete, nothing else was written\n", signalName(sig))
+		return exitCodeOf(sig)
+	}
+	return exitCode(err, stderr)
 }
 
 // exitCode reports err on stderr in one line and turns it into an exit code.

@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 
 	"vcz/io/fitsimage"
@@ -278,5 +279,57 @@ func TestOutputIsInput(t *testing.T) {
 	after, err := os.ReadFile(data)
 	if err != nil || !bytes.Equal(before, after) {
 		t.Fatalf("the data file changed (%v)", err)
+	}
+}
+
+// TestSpecialInputs checks that a named pipe or a device given as input is
+// refused at once with one line naming the file, exit 2, by every command
+// that reads data; a named pipe used to block in open(2) forever and
+// /dev/zero behind a link to read until memory ran out.
+func TestSpecialInputs(t *testing.T) {
+	dir := t.TempDir()
+	fifo := filepath.Join(dir, "pipe.oifits")
+	if err := syscall.Mkfifo(fifo, 0o644); err != nil {
+		t.Skipf("mkfifo: %v", err)
+	}
+	zero := filepath.Join(dir, "zero.oifits")
+	if err := os.Symlink("/dev/zero", zero); err != nil {
+		t.Fatal(err)
+	}
+	for _, in := range []string{fifo, zero} {
+		for _, args := range [][]string{
+			{"inspect", in},
+			{"image", "-quiet", "-o", filepath.Join(dir, "out.fits"), in},
+			{"fit", "-model", "ud:diameter~3", in},
+		} {
+			_, errs, code := runCmd(t, args...)
+			if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, filepath.Base(in)+": not a regular file") {
+				t.Errorf("%q: exit %d, stderr %q", args, code, errs)
+			}
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out.fits")); err == nil {
+		t.Error("an output was written")
+	}
+}
+
+// TestFailedPlotsLeaveNothing checks that a run whose last output fails (here a data-fit
+// plot whose name is taken by a folder) exits 1 and removes the FITS image and preview it
+// had written, so that no complete-looking result is left.
+func TestFailedPlotsLeaveNothing(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	out := filepath.Join(dir, "star.fits")
+	if err := os.Mkdir(filepath.Join(dir, "star-vis2.png"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code := runCmd(t, "image", "-quiet", "-n", "32", "-iter", "20", "-weight", "0.001", "-starts", "1", "-o", out, data)
+	if code != exitFailure || !strings.Contains(errs, "star-vis2.png") {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, p := range []string{"star.fits", "star.png", "star-t3phi.png", "star-residuals.png"} {
+		if _, err := os.Stat(filepath.Join(dir, p)); err == nil {
+			t.Errorf("%s left after the failure", p)
+		}
 	}
 }

@@ -116,6 +116,9 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return badInputf("compare: %v", err)
 	}
+	if err := workflow.CheckFolder(*out); err != nil {
+		return badInputf("compare: -out: %v", err)
+	}
 	var prog *multiProgress
 	if !*quiet {
 		prog = newMultiProgress(stderr, cmp.Runs)

@@ -205,7 +205,7 @@ func WriteFile(path string, im *Image) error {
 // Errors begin with the base name of path.
 func ReadFile(path string) (*Image, error) {
 	name := filepath.Base(path)
-	data, err := os.ReadFile(path)
+	data, err := safefile.ReadFile(path)
 	if err != nil {
 		var pe *os.PathError
 		if errors.As(err, &pe) {

@@ -138,6 +138,17 @@ func badCases() []badCase {
 			"bad.oifits: OI_VIS2 (HDU 6): mandatory column VIS2DATA is missing"},
 		{"column-wrong-type", false, card(2, "TFORM2", "TFORM2  = '2D'"),
 			"bad.oifits: OI_TARGET (HDU 2): column TARGET has TFORM '2D'; must be a character string (TFORM nA)"},
+		// OIFITS fixes VIS2DATA as a real column, TFORM D (Pauls et al. 2005,
+		// table 5; Duvert, Young & Hummel 2017, table 7): doubles declared
+		// as 64-bit integers would read as values near 4.6e18.
+		{"column-integer-for-real", false, card(6, "TFORM5", "TFORM5  = '3K'"),
+			"bad.oifits: OI_VIS2 (HDU 6): column VIS2DATA has TFORM '3K'; must be a real number (TFORM D or E)"},
+		// STA_INDEX refers to OI_ARRAY (Pauls et al. 2005, table 5; Duvert,
+		// Young & Hummel 2017, table 7).
+		{"sta-index-unknown", false, edit(func(f *File) { f.Vis2[0].Rows[1].StaIndex[1] = 99 }),
+			"bad.oifits: OI_VIS2 (HDU 6) row 2: STA_INDEX 99 is not a station of OI_ARRAY 'KESTREL'"},
+		{"mjd-nan", false, edit(func(f *File) { f.T3[0].Rows[0].MJD = math.NaN() }),
+			"bad.oifits: OI_T3 (HDU 8) row 1: MJD is NaN; must be a finite date"},
 		{"amptyp-unknown", false, card(9, "AMPTYP", "AMPTYP  = 'relative'"),
 			"bad.oifits: OI_VIS (HDU 9): AMPTYP is 'relative'; must be 'absolute', 'differential' or 'correlated flux'"},
 		{"tfields-missing", false, card(6, "TFIELDS", ""),
@@ -265,5 +276,34 @@ func TestFlaggedAndNonFiniteKept(t *testing.T) {
 	}
 	if f.Vis2[0].Rows[0].Flag[0] || !f.Vis2[0].Rows[0].Flag[1] {
 		t.Errorf("FLAG = %v, want [F T F]", f.Vis2[0].Rows[0].Flag)
+	}
+}
+
+// TestWarnings checks the notices Decode gives for what the standards do
+// not allow but reading survives: two tables with the same EXTNAME and
+// EXTVER (Pence et al. 2010, sect. 7.1.1: the pair identifies an
+// extension) and mixed OI_REVN in one file (Duvert, Young & Hummel 2017,
+// sect. 4). The unaltered sample gives none.
+func TestWarnings(t *testing.T) {
+	good := encodeUnchecked(t, sampleFile())
+	for _, c := range []struct {
+		name string
+		data []byte
+		want string
+	}{
+		{"clean", good, ""},
+		{"extver-twice", setCard(t, good, 7, "EXTVER", "EXTVER  =                    1"),
+			"HDU 7: OI_VIS2 has EXTVER 1 like HDU 6; if it is the same table appended twice, its data are counted twice"},
+		{"mixed-revn", setCard(t, good, 8, "OI_REVN", "OI_REVN =                    1"),
+			"HDU 8: OI_T3 has OI_REVN = 1 but HDU 2 has 2; one file should hold tables of one OIFITS revision"},
+	} {
+		f, err := Decode(bytes.NewReader(c.data), "w.oifits")
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		got := strings.Join(f.Warnings, "\n")
+		if got != c.want {
+			t.Errorf("%s: warnings %q, want %q", c.name, got, c.want)
+		}
 	}
 }

@@ -9,13 +9,14 @@ import (
 	"strings"
 
 	"vcz/io/fitsfile"
+	"vcz/io/safefile"
 )
 
 // ReadFile reads and validates the OIFITS file at path. Errors are *Error
 // values whose File is the base name of path.
 func ReadFile(path string) (*File, error) {
 	name := filepath.Base(path)
-	data, err := os.ReadFile(path)
+	data, err := safefile.ReadFile(path)
 	if err != nil {
 		var pe *os.PathError
 		if errors.As(err, &pe) {
@@ -53,6 +54,10 @@ type decoder struct {
 	name  string
 	f     *File
 	waves map[string]*Wavelength
+	// versions maps EXTNAME and an explicit EXTVER to the first HDU that
+	// has them; revns maps each OI_REVN seen to the first HDU with it.
+	versions map[string]int
+	revns    map[int]int
 }
 
 func decode(data []byte, name string) (*File, error) {
@@ -201,6 +206,7 @@ func (d *decoder) open(h *fitsfile.HDU, revn ...int) (*table, error) {
 	for _, r := range revn {
 		if n == r {
 			t.revn = n
+			d.noteVersions(h, t.ext, n)
 			return t, nil
 		}
 	}
@@ -209,6 +215,39 @@ func (d *decoder) open(h *fitsfile.HDU, revn ...int) (*table, error) {
 		want = fmt.Sprintf("%d or %d", revn[0], revn[1])
 	}
 	return nil, t.errf(0, "", "unknown OI_REVN = %d; this reader knows revision %s of %s", n, want, t.ext)
+}
+
+// noteVersions warns of a table whose EXTNAME and EXTVER repeat an earlier
+// table's (the FITS standard, Pence et al. 2010, sect. 7.1.1, has EXTNAME
+// and EXTVER identify an extension; a table appended twice would be read
+// twice), and of a file that mixes OI_REVN 1 and 2 in the tables that have
+// revision 2 in OIFITS v2 (Duvert, Young & Hummel 2017, sect. 4: every
+// such table of a v2 file has OI_REVN = 2; OI_FLUX has only revision 1).
+func (d *decoder) noteVersions(h *fitsfile.HDU, ext string, revn int) {
+	if v, ok, err := h.Header.Int("EXTVER"); ok && err == nil {
+		if d.versions == nil {
+			d.versions = map[string]int{}
+		}
+		key := fmt.Sprintf("%s %d", ext, v)
+		if first, dup := d.versions[key]; dup {
+			d.f.Warnings = append(d.f.Warnings, fmt.Sprintf("HDU %d: %s has EXTVER %d like HDU %d; if it is the same table appended twice, its data are counted twice", h.Index, ext, v, first))
+		} else {
+			d.versions[key] = h.Index
+		}
+	}
+	if ext == extFlux {
+		return
+	}
+	if d.revns == nil {
+		d.revns = map[int]int{}
+	}
+	if _, seen := d.revns[revn]; seen {
+		return
+	}
+	d.revns[revn] = h.Index
+	if other, mixed := d.revns[3-revn]; mixed {
+		d.f.Warnings = append(d.f.Warnings, fmt.Sprintf("HDU %d: %s has OI_REVN = %d but HDU %d has %d; one file should hold tables of one OIFITS revision", h.Index, ext, revn, other, 3-revn))
+	}
 }
 
 // keyword reads a string keyword; required ones must be present and
@@ -239,7 +278,7 @@ func (t *table) floatKeyword(key string, required bool) (float64, error) {
 type colKind int
 
 const (
-	kindFloat  colKind = iota // B, I, J, K, E or D
+	kindFloat  colKind = iota // E or D (the standard fixes real-valued columns as D or E)
 	kindInt                   // B, I, J or K
 	kindString                // A
 	kindBool                  // L
@@ -262,7 +301,7 @@ func (t *table) column(name string, kind colKind, repeat int, required bool) (*f
 	var want string
 	switch kind {
 	case kindFloat:
-		ok, want = strings.IndexByte("BIJKED", c.Type) >= 0, "a number (TFORM D or E)"
+		ok, want = c.Type == 'D' || c.Type == 'E', "a real number (TFORM D or E)"
 	case kindInt:
 		ok, want = strings.IndexByte("BIJK", c.Type) >= 0 && c.Scale == 1 && c.Zero == float64(int(c.Zero)), "an integer (TFORM I or J)"
 	case kindString:

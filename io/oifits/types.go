@@ -27,6 +27,10 @@ type File struct {
 	// read (for example OI_CORR, OI_INSPOL or any non-OI extension), e.g.
 	// "HDU 7: OI_CORR skipped (not used by vcz)".
 	Skipped []string
+	// Warnings lists, one line each, what the standard does not allow
+	// but reading can survive: a table appended twice with the same
+	// EXTVER, or tables of one file with mixed revisions.
+	Warnings []string
 }
 
 // Primary holds the primary-header keywords defined by OIFITS v2 (Duvert,

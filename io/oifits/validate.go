@@ -43,11 +43,46 @@ func validate(f *File) error {
 		waves[w.InsName] = len(w.EffWave)
 	}
 	arrays := map[string]bool{}
+	stations := map[string]map[int]bool{}
 	for _, a := range f.Arrays {
 		if arrays[a.Name] {
 			return fail(a.HDU, extArray, 0, "", "ARRNAME '%s' is used by more than one OI_ARRAY table", a.Name)
 		}
 		arrays[a.Name] = true
+		stations[a.Name] = make(map[int]bool, len(a.Stations))
+		for _, st := range a.Stations {
+			stations[a.Name][st.Index] = true
+		}
+	}
+	// mjd checks that a row's MJD is a finite number: rows are placed in
+	// time by it (Pauls et al. 2005, table 5: the mean MJD of the
+	// observation), and a NaN would drop the row from every epoch.
+	mjd := func(hdu int, ext string, r int, v float64) error {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fail(hdu, ext, r, "MJD", "MJD is %v; must be a finite date", v)
+		}
+		return nil
+	}
+	// station checks that the STA_INDEX values of one row are stations of
+	// the table's OI_ARRAY (Pauls et al. 2005, table 5; Duvert, Young &
+	// Hummel 2017, table 7: STA_INDEX refers to OI_ARRAY). A table without
+	// ARRNAME (allowed in v1) refers to the file's only OI_ARRAY, the one
+	// Encode names for it, and is not checked when there are several; 0
+	// marks an absent column.
+	station := func(hdu int, ext string, r int, arr string, idx ...int) error {
+		if arr == "" && len(f.Arrays) == 1 {
+			arr = f.Arrays[0].Name
+		}
+		set, ok := stations[arr]
+		if !ok {
+			return nil
+		}
+		for _, i := range idx {
+			if i != 0 && !set[i] {
+				return fail(hdu, ext, r, "STA_INDEX", "STA_INDEX %d is not a station of OI_ARRAY '%s'", i, arr)
+			}
+		}
+		return nil
 	}
 	// link checks the keywords of one data table and returns its NWAVE.
 	link := func(hdu int, ext, ins, arr string) (int, error) {
@@ -109,6 +144,12 @@ func validate(f *File) error {
 			if err := row(t.HDU, extVis2, i+1, nw, r.TargetID, r.Flag, pair{"VIS2DATA", "VIS2ERR", r.Data, r.Err}); err != nil {
 				return err
 			}
+			if err := station(t.HDU, extVis2, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extVis2, i+1, r.MJD); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.T3 {
@@ -119,6 +160,12 @@ func validate(f *File) error {
 		for i, r := range t.Rows {
 			if err := row(t.HDU, extT3, i+1, nw, r.TargetID, r.Flag,
 				pair{"T3AMP", "T3AMPERR", r.Amp, r.AmpErr}, pair{"T3PHI", "T3PHIERR", r.Phi, r.PhiErr}); err != nil {
+				return err
+			}
+			if err := station(t.HDU, extT3, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extT3, i+1, r.MJD); err != nil {
 				return err
 			}
 		}
@@ -133,6 +180,12 @@ func validate(f *File) error {
 				pair{"VISAMP", "VISAMPERR", r.Amp, r.AmpErr}, pair{"VISPHI", "VISPHIERR", r.Phi, r.PhiErr}); err != nil {
 				return err
 			}
+			if err := station(t.HDU, extVis, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extVis, i+1, r.MJD); err != nil {
+				return err
+			}
 		}
 	}
 	for _, t := range f.Flux {
@@ -142,6 +195,12 @@ func validate(f *File) error {
 		}
 		for i, r := range t.Rows {
 			if err := row(t.HDU, extFlux, i+1, nw, r.TargetID, r.Flag, pair{"FLUXDATA", "FLUXERR", r.Data, r.Err}); err != nil {
+				return err
+			}
+			if err := station(t.HDU, extFlux, i+1, t.ArrName, r.StaIndex); err != nil {
+				return err
+			}
+			if err := mjd(t.HDU, extFlux, i+1, r.MJD); err != nil {
 				return err
 			}
 		}

@@ -41,32 +41,58 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 		return fmt.Errorf("%s: cannot write: %w", path, why)
 	}
 	tmpName := tmp.Name()
+	active.Store(tmpName, struct{}{})
 	defer func() {
 		if err != nil {
 			tmp.Close()
 			os.Remove(tmpName)
 		}
+		active.Delete(tmpName)
 	}()
+	// failed names the file asked for, never the temporary one, in errors
+	// of the steps that touch the file.
+	failed := func(err error) error {
+		return &writeError{fmt.Sprintf("%s: cannot write: %v", path, cause(err)), err}
+	}
 	bw := bufio.NewWriterSize(tmp, 64<<10)
 	if err = fill(bw); err != nil {
+		var pe *fs.PathError
+		if errors.As(err, &pe) && pe.Path == tmpName {
+			return failed(err)
+		}
 		return err
 	}
 	if err = bw.Flush(); err != nil {
-		return fmt.Errorf("safefile: writing %s: %w", path, err)
+		return failed(err)
 	}
 	if err = tmp.Chmod(0o644 &^ umask()); err != nil {
-		return fmt.Errorf("safefile: %w", err)
+		return failed(err)
 	}
 	if err = tmp.Sync(); err != nil {
-		return fmt.Errorf("safefile: syncing %s: %w", path, err)
+		return failed(err)
 	}
 	if err = tmp.Close(); err != nil {
-		return fmt.Errorf("safefile: closing %s: %w", path, err)
+		return failed(err)
 	}
 	if err = os.Rename(tmpName, path); err != nil {
-		return fmt.Errorf("safefile: %w", err)
+		return failed(err)
 	}
 	return nil
+}
+
+// cause strips the path and operation that *fs.PathError and
+// *os.LinkError add, leaving the system's reason ("no space left on
+// device").
+func cause(err error) error {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	var le *os.LinkError
+	if errors.As(err, &le) {
+		return le.Err
+	}
+	return err
 }
 
 // writeError is an error with a message of its own that still wraps the cause, so that

@@ -9,7 +9,9 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 
+	"vcz/io/fitsimage"
 	"vcz/io/safefile"
 )
 
@@ -84,10 +86,32 @@ func Complete(path, hash string) (*Status, bool) {
 	}
 	dir := filepath.Dir(path)
 	for _, o := range st.Outputs {
-		fi, err := os.Stat(filepath.Join(dir, o))
+		p := filepath.Join(dir, o)
+		fi, err := os.Stat(p)
 		if err != nil || fi.Size() == 0 {
+			return nil, false
+		}
+		// A FITS image of the epoch must carry the same hash: one rewritten by a later
+		// run with other settings, killed before its status file, is not this result.
+		if strings.EqualFold(filepath.Ext(o), ".fits") && fitsHash(p) != hash {
 			return nil, false
 		}
 	}
 	return st, true
+}
+
+// fitsHash returns the INHASH card of the FITS image at path, or "".
+func fitsHash(path string) string {
+	im, err := fitsimage.ReadFile(path)
+	if err != nil {
+		return ""
+	}
+	for _, c := range im.Cards {
+		if c.Key == "INHASH" {
+			if v, ok := c.Value.(string); ok {
+				return v
+			}
+		}
+	}
+	return ""
 }

@@ -5,7 +5,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strconv"
 
@@ -97,7 +96,7 @@ func WriteJSON(path string, s *Summary) error {
 
 // ReadJSON reads a summary written by WriteJSON.
 func ReadJSON(path string) (*Summary, error) {
-	b, err := os.ReadFile(path)
+	b, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}

@@ -12,6 +12,8 @@ import (
 	"strings"
 
 	"github.com/BurntSushi/toml"
+
+	"vcz/io/safefile"
 )
 
 // SpecError is an error in a model specification. Line is 1-based for
@@ -49,7 +51,7 @@ func (e *SpecError) Unwrap() error { return e.Err }
 // compact form (ParseCompact).
 func Load(spec string) (*Model, error) {
 	if st, err := os.Stat(spec); err == nil && !st.IsDir() {
-		src, err := os.ReadFile(spec)
+		src, err := safefile.ReadFile(spec)
 		if err != nil {
 			return nil, err
 		}

@@ -4,12 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 
 	"github.com/BurntSushi/toml"
 
+	"vcz/io/safefile"
 	"vcz/recon/model"
 )
 
@@ -161,7 +161,7 @@ func (e *PlanError) Unwrap() error { return e.Err }
 
 // LoadPlan reads and checks a plan file; see PlanHelp for its keys.
 func LoadPlan(path string) (*Plan, error) {
-	src, err := os.ReadFile(path)
+	src, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}

@@ -1,0 +1,83 @@
+package workflow
+
+import (
+	"fmt"
+	"strings"
+	"unicode"
+
+	"vcz/recon/batch"
+)
+
+// CheckEpochName refuses an epoch name that cannot be the stem of a file in the output
+// folder: empty, "." or "..", or holding a path separator or a control character. Names
+// read from a summary file (batch -collect) pass here before any path is built from them.
+func CheckEpochName(name string) error {
+	switch {
+	case name == "":
+		return fmt.Errorf("an epoch name is empty")
+	case name == "." || name == "..":
+		return fmt.Errorf("epoch name %q is not a file name", name)
+	case strings.ContainsAny(name, `/\`):
+		return fmt.Errorf("epoch name %q must not contain a path separator", name)
+	case strings.IndexFunc(name, unicode.IsControl) >= 0:
+		return fmt.Errorf("epoch name %q must not contain control characters", name)
+	}
+	return nil
+}
+
+// outputNames returns the files a batch writes for an epoch named name, and those it
+// writes for the whole batch, for joint or not.
+func outputNames(name string, joint bool) []string {
+	n := []string{name + ".fits", name + ".png", name + ".status.json"}
+	if joint {
+		n = append(n, name+"-joint.fits", name+"-joint.png")
+	}
+	return n
+}
+
+// batchProducts are the files a batch writes for all its epochs.
+func batchProducts(joint bool) []string {
+	p := []string{"summary.json", "summary.csv", "montage.png", "epochs.gif"}
+	if joint {
+		p = append(p, "joint.fits", "montage-joint.png", "epochs-joint.gif")
+	}
+	return p
+}
+
+// CheckEpochNames refuses, before any work, epochs whose output files would collide with
+// each other's or with the batch's own (an epoch "montage" would write montage.png; with
+// -joint, epochs "a" and "a-joint" would both write a-joint.fits). Errors are *InputError
+// naming both owners.
+func CheckEpochNames(epochs []*Epoch, joint bool) error {
+	owner := map[string]string{}
+	for _, p := range batchProducts(joint) {
+		owner[p] = "the batch's own " + p
+	}
+	for _, e := range epochs {
+		if err := CheckEpochName(e.Name); err != nil {
+			return inputErrorf("batch: %v", err)
+		}
+		for _, f := range outputNames(e.Name, joint) {
+			key := strings.ToLower(f) // case-insensitive file systems fold these together
+			if prev, dup := owner[key]; dup {
+				return inputErrorf("batch: epoch %q would write %s, as %s does; rename the epoch", e.Name, f, prev)
+			}
+			owner[key] = fmt.Sprintf("epoch %q", e.Name)
+		}
+	}
+	return nil
+}
+
+// checkCollected refuses a collected summary whose rows name files outside the folder:
+// every epoch name passes CheckEpochName and its FITS and PNG are its own name's.
+func checkCollected(s *batch.Summary) error {
+	for _, r := range s.Rows {
+		if err := CheckEpochName(r.Epoch); err != nil {
+			return err
+		}
+		if r.FITS != "" && r.FITS != r.Epoch+".fits" || r.PNG != "" && r.PNG != r.Epoch+".png" {
+			return fmt.Errorf("epoch %q names files %q and %q, not its own", r.Epoch, r.FITS, r.PNG)
+		}
+	}
+	return nil
+}
