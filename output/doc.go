@@ -14,6 +14,7 @@
 //	OUT.png            preview: north up, east left, scale bar, resolution circle
 //	OUT-vis2.png       V² data and model against spatial frequency
 //	OUT-t3phi.png      closure phases, data and model
+//	OUT-<word>.png     likewise for each other fitted data type (t3amp, visamp, visphi)
 //	OUT-residuals.png  residuals normalised by their errors
 //	OUT-lcurve.png     the weight path, when the weight was chosen automatically
 //

@@ -94,8 +94,10 @@ type InspectReport struct {
 	Grid        GridJ               `json:"suggested_grid"`
 	MJD         InspectRange        `json:"mjd"`
 	Nights      int                 `json:"nights"`
-	Notices     []string            `json:"notices"`
-	Plots       []string            `json:"plots,omitempty"`
+	// Breakdown is the data by night and instrument (Breakdown); empty when not computed.
+	Breakdown []InspectGroup `json:"breakdown"`
+	Notices   []string       `json:"notices"`
+	Plots     []string       `json:"plots,omitempty"`
 }
 
 // InspectInstrument is one instrument of a data set.
@@ -146,6 +148,7 @@ func NewInspectReport(d *dataset.Data) InspectReport {
 		MJD:        InspectRange{s.MJDMin, s.MJDMax},
 		Nights:     s.Nights,
 		Notices:    NonNil(d.Notices),
+		Breakdown:  []InspectGroup{},
 		Grid:       GridJ{Reasons: NonNil(nil)},
 	}
 	// The grid vcz image would choose with default options; none without usable data.

@@ -27,6 +27,9 @@ type Batch struct {
 	// Budget is the number of worker goroutines of all epochs together; 0 means
 	// GOMAXPROCS. An epoch whose Spec.Workers is 0 gets an equal part of it.
 	Budget int
+	// Stretch is the display stretch of the previews, the montage and the animation; the
+	// zero value, preview.Auto, chooses it from the images.
+	Stretch preview.Stretch
 }
 
 // EpochResult is the outcome of one epoch of a batch.
@@ -133,7 +136,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
 		return fail(err)
 	}
-	outs := output.Outputs{NoPlots: true, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
+	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
 	run, paths, err := im.Run(outs, fitsPath, nil)
 	if err != nil {
 		return fail(err)
@@ -182,11 +185,12 @@ func image(dir, suffix string, r batch.Row, mem *fitsimage.Image) (*fitsimage.Im
 	return fitsimage.ReadFile(filepath.Join(dir, r.Epoch+suffix+".fits"))
 }
 
-// WriteMontage draws the done rows' images on one colour scale as montage+suffix.png and
-// epochs+suffix.gif in dir, labelled with the epochs' names and dates. images, when not
-// nil, holds the images in memory by row (nil entries are read from NAME+suffix+.fits in
-// dir). title "" says "N epochs".
-func WriteMontage(dir, suffix string, rows []batch.Row, images []*fitsimage.Image, title string) error {
+// WriteMontage draws the done rows' images on one colour scale with the display stretch s
+// (preview.Auto chooses it from all of them) as montage+suffix.png and epochs+suffix.gif in
+// dir, labelled with the epochs' names and dates. images, when not nil, holds the images in
+// memory by row (nil entries are read from NAME+suffix+.fits in dir). title "" says "N
+// epochs".
+func WriteMontage(dir, suffix string, rows []batch.Row, images []*fitsimage.Image, title string, s preview.Stretch) error {
 	var frames []preview.Frame
 	pix := 0.0
 	for i, r := range rows {
@@ -203,8 +207,12 @@ func WriteMontage(dir, suffix string, rows []batch.Row, images []*fitsimage.Imag
 		}
 		data := im.Data[:im.NX*im.NY]
 		pix = im.Pixel / recon.Mas
-		frames = append(frames, preview.Frame{Data: data, NX: im.NX, NY: im.NY, Pixel: pix,
-			Label: r.Epoch + "\n" + mjdLabel(r)})
+		// The dates, unless the epoch's name already gives them (epoch-01-2026-06-12).
+		label := r.Epoch
+		if ml := mjdLabel(r); ml != "" && !strings.Contains(r.Epoch, ml) {
+			label += "\n" + ml
+		}
+		frames = append(frames, preview.Frame{Data: data, NX: im.NX, NY: im.NY, Pixel: pix, Label: label})
 	}
 	if len(frames) == 0 {
 		return errors.New("no finished epoch to draw")
@@ -212,7 +220,7 @@ func WriteMontage(dir, suffix string, rows []batch.Row, images []*fitsimage.Imag
 	if title == "" {
 		title = fmt.Sprintf("%d epochs", len(frames))
 	}
-	opt := preview.Options{Title: title, Pixel: pix, ColorbarLabel: "flux per pixel"}
+	opt := preview.Options{Title: title, Pixel: pix, ColorbarLabel: "flux per pixel", Stretch: s}
 	if err := preview.WriteMontage(filepath.Join(dir, "montage"+suffix+".png"), frames, opt); err != nil {
 		return err
 	}
@@ -280,10 +288,13 @@ type ShardRun struct {
 	Montage error
 }
 
-// RunShard images the epochs of shard sh of all (Run), on one common grid when joint
-// (CommonGrid), and writes the summary NAME.json and NAME.csv and, for a whole batch, the
-// montage. events is as for Run. Its error is that of the common grid (an *InputError) or
-// of writing the summary; an epoch that failed is a row of the summary.
+// RunShard images the epochs of shard sh of all (Run), all of them on one common grid chosen
+// from every epoch of all (CommonGrid; so a shard chooses the grid the others do), and writes
+// the summary NAME.json and NAME.csv and, for a whole batch, the montage. events is as for
+// Run. Its error is that of the common grid of a joint reconstruction (an *InputError) or
+// of writing the summary; an epoch that failed is a row of the summary. Without joint, an
+// epoch set from which no grid can be chosen keeps each epoch's own choice, and each epoch
+// then fails on its own.
 func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(Event, *EpochResult)) (*ShardRun, error) {
 	sr := &ShardRun{Name: "summary"}
 	for _, e := range all {
@@ -291,8 +302,11 @@ func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(E
 			sr.Epochs = append(sr.Epochs, e)
 		}
 	}
-	if joint {
-		if err := CommonGrid(sr.Epochs); err != nil {
+	if joint && len(sr.Epochs) < 2 {
+		return nil, inputErrorf("batch: -joint needs at least two epochs")
+	}
+	if len(all) > 1 {
+		if err := CommonGrid(all); err != nil && joint {
 			return nil, err
 		}
 	}
@@ -310,7 +324,7 @@ func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(E
 		return nil, err
 	}
 	if sh.N <= 1 {
-		sr.Montage = WriteMontage(b.Out, "", rows, images, "")
+		sr.Montage = WriteMontage(b.Out, "", rows, images, "", b.Stretch)
 	}
 	return sr, nil
 }

@@ -13,14 +13,16 @@ import (
 	"vcz/regularizers"
 )
 
-// CommonGrid fixes one grid for all epochs of a joint reconstruction: the grid the options
-// give for the first readable epoch, written into every epoch's Spec (n and pixel). Its
-// errors are *InputError.
+// CommonGrid fixes one grid for all epochs, so that their images compare pixel for pixel
+// (a batch's montage and animation, a joint reconstruction): the finest pixel and the widest
+// field that the options give for any readable epoch's data, with a friendly number of
+// pixels (recon.Friendly) of at most the options' maximum (256 by default; above it the pixel
+// is enlarged), or the options' -n when given. It is written into every epoch's Spec (n and
+// pixel). Its errors, when no epoch can be read or gridded, are *InputError.
 func CommonGrid(epochs []*Epoch) error {
-	if len(epochs) < 2 {
-		return inputErrorf("batch: -joint needs at least two epochs")
-	}
 	var lastErr error
+	pix, fov := math.Inf(1), 0.0
+	var opt recon.GridOptions
 	for _, e := range epochs {
 		_, d, err := ReadData(e.Files, e.Spec.Selection())
 		if err != nil {
@@ -36,12 +38,33 @@ func CommonGrid(epochs []*Epoch) error {
 			lastErr = err
 			continue
 		}
-		for _, o := range epochs {
-			o.Spec.Grid, o.Spec.Pixel, o.Spec.FOV = ch.N, ch.Pixel, 0
-		}
-		return nil
+		opt = p.GridOptions
+		pix, fov = math.Min(pix, ch.Pixel), math.Max(fov, float64(ch.N)*ch.Pixel)
 	}
-	return inputErrorf("batch: no epoch to choose the common grid from: %v", lastErr)
+	if fov == 0 {
+		return inputErrorf("batch: no epoch to choose the common grid from: %v", lastErr)
+	}
+	n := epochs[0].Spec.Grid
+	if n <= 0 {
+		maxN := opt.MaxN
+		if maxN <= 0 {
+			maxN = 256
+		}
+		n = int(math.Ceil(fov/pix - 1e-9))
+		n += n % 2
+		for !recon.Friendly(n) {
+			n += 2
+		}
+		if n > maxN {
+			for n = maxN; !recon.Friendly(n) && n > 2; n -= 2 {
+			}
+			pix = fov / float64(n)
+		}
+	}
+	for _, o := range epochs {
+		o.Spec.Grid, o.Spec.Pixel, o.Spec.FOV = n, pix, 0
+	}
+	return nil
 }
 
 // JointResult is the outcome of Batch.Joint: the joint images (batch.JointResult) on the
@@ -160,7 +183,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		if err := fitsimage.WriteFile(base+".fits", im); err != nil {
 			return nil, err
 		}
-		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas}
+		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas, Stretch: b.Stretch}
 		if err := preview.WriteFile(base+".png", res.Images[t], n, n, opt); err != nil {
 			return nil, err
 		}
@@ -178,5 +201,5 @@ func (b *Batch) WriteJointMontage(results []EpochResult, jr *JointResult) error 
 		rows[t] = r.Row
 		images[t] = &fitsimage.Image{NX: n, NY: n, Pixel: jr.Grid.Pixel, Data: jr.Images[t]}
 	}
-	return WriteMontage(b.Out, "-joint", rows, images, fmt.Sprintf("%d epochs, joint (λ = %.3g)", len(results), jr.Lambda))
+	return WriteMontage(b.Out, "-joint", rows, images, fmt.Sprintf("%d epochs, joint (λ = %.3g)", len(results), jr.Lambda), b.Stretch)
 }

@@ -5,6 +5,7 @@ import (
 	"encoding/base64"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"html/template"
 	"io"
@@ -52,6 +53,11 @@ type CompareReport struct {
 	Alignment     string       `json:"alignment"`
 	Rows          []CompareRow `json:"rows"`
 	Shifts        [][2]int     `json:"shifts_px"`
+	// Stretch is the display stretch of the panel (preview.Stretch's name), chosen from the
+	// images when -stretch is auto.
+	Stretch string `json:"stretch,omitempty"`
+	// Plots are the files of data against every model, one per data type fitted.
+	Plots []string `json:"plots"`
 }
 
 // writeJSON writes v as indented JSON.
@@ -74,6 +80,8 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 		rep.Target = d.Targets[0]
 	}
 	var ok []*CompareRun
+	var err error
+	rep.Plots = []string{}
 	for _, r := range runs {
 		row := CompareRow{Regularizer: r.Name, Seconds: r.Seconds, Chi2ByType: map[string]float64{}, Warnings: []string{}}
 		if r.Err != nil {
@@ -111,14 +119,14 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 		if err := writeAgreement(dir, c.Files, choice, ok, rep, outs.Stretch); err != nil {
 			return nil, err
 		}
-		if err := writeComparePlots(dir, d, ok); err != nil {
+		if rep.Plots, err = writeComparePlots(dir, d, ok); err != nil {
 			return nil, err
 		}
 	}
 	if err := writeCompareTable(dir, rep); err != nil {
 		return nil, err
 	}
-	if err := writeCompareHTML(dir, rep, runs); err != nil {
+	if err := writeCompareHTML(dir, rep, runs, outs.Stretch); err != nil {
 		return nil, err
 	}
 	return rep, nil
@@ -135,6 +143,14 @@ func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, o
 	}
 	beam := preview.Beam{Major: choice.Resolution / recon.Mas}
 	cols := min(len(frames), 3)
+	if stretch == preview.Auto {
+		var data [][]float64
+		for _, f := range frames {
+			data = append(data, f.Data)
+		}
+		stretch = preview.ChooseStretch(data...)
+	}
+	rep.Stretch = stretch.String()
 	if err := preview.WritePanel(filepath.Join(dir, "compare-panel.png"), frames, preview.Options{
 		Title: "Regularizers compared — " + output.OrNone(rep.Target), Pixel: pix, Beam: beam, Columns: cols,
 		ColorbarLabel: "flux per pixel (total 1)", Stretch: stretch}); err != nil {
@@ -268,45 +284,61 @@ func pixelMin(imgs [][]float64) []float64 {
 	return out
 }
 
-// writeComparePlots writes V² and closure phases with every model.
-func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) error {
-	var v2m, cpm []plots.ModelValues
-	t := &d.T3
-	td := output.ClosurePhases(d)
-	for _, r := range ok {
-		obs, err := recon.Predict(d, r.Result.Grid.Grid, r.Result.Image, nil)
+// writeComparePlots writes, for each data type with data that some run fitted, the data
+// with every model as compare-<word>.png, and returns the files' names.
+func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) ([]string, error) {
+	preds := make([]*recon.Prediction, len(ok))
+	var use dataset.DataType
+	for i, r := range ok {
+		p, err := recon.Predict(d, r.Result.Grid.Grid, r.Result.Image, nil)
 		if err != nil {
-			return err
+			return nil, err
 		}
-		v2m = append(v2m, plots.ModelValues{Name: r.Name, Value: obs.Of(dataset.Vis2)})
-		var cp []float64
-		for i := range t.Lambda {
-			if t.PhiOK[i] {
-				cp = append(cp, obs.Of(dataset.T3Phi)[i]*180/math.Pi)
-			}
-		}
-		cpm = append(cpm, plots.ModelValues{Name: r.Name, Value: cp})
-	}
-	if d.Vis2.Len() > 0 {
-		fig, err := plots.V2(plots.V2Data{U: d.Vis2.U, V: d.Vis2.V, Value: d.Vis2.Value, Err: d.Vis2.Err}, v2m, nil,
-			plots.Options{Title: "V² — data and each regularizer's image"})
-		if err != nil {
-			return err
-		}
-		if err := fig.WriteFile(filepath.Join(dir, "compare-vis2.png")); err != nil {
-			return err
+		preds[i] = p
+		for _, c := range r.Result.Chi2 {
+			use |= c.Type
 		}
 	}
-	if len(td.Phi) > 0 {
-		fig, err := plots.ClosurePhase(td, cpm, plots.Options{Title: "Closure phase — data and each regularizer's image"})
+	names := []string{}
+	for _, t := range dataset.DataTypes() {
+		if use&t == 0 {
+			continue
+		}
+		m, idx := output.Measurements(d, t)
+		if len(idx) == 0 {
+			continue
+		}
+		if len(ok) > 1 {
+			// The models are told apart by their colours, so the data stay black.
+			m.Wavelength = nil
+		}
+		var models []plots.ModelValues
+		for i, r := range ok {
+			models = append(models, plots.ModelValues{Name: r.Name, Value: output.ModelValues(preds[i], t, idx)})
+		}
+		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's image", LogY: !m.Phase && plots.AutoLog(m.Value)})
+		if errors.Is(err, plots.ErrNoData) {
+			continue
+		}
 		if err != nil {
-			return err
+			return nil, err
 		}
-		if err := fig.WriteFile(filepath.Join(dir, "compare-t3phi.png")); err != nil {
-			return err
+		name := "compare-" + t.String() + ".png"
+		if err := fig.WriteFile(filepath.Join(dir, name)); err != nil {
+			return nil, err
 		}
+		names = append(names, name)
 	}
-	return nil
+	return names, nil
+}
+
+// upperFirst returns s with its first letter in upper case ("closure phase" → "Closure
+// phase"); a label starting with a symbol ("V²") is unchanged.
+func upperFirst(s string) string {
+	if s != "" && s[0] >= 'a' && s[0] <= 'z' {
+		return string(s[0]-'a'+'A') + s[1:]
+	}
+	return s
 }
 
 // compareTypes are the data types with a χ²ᵣ in some row, in report order.
@@ -388,6 +420,7 @@ th:first-child, td:first-child { text-align: left; }
 .failed { background: #fdd; }
 .warned { background: #ffd; }
 .caution { background: #ffd; border-left: 4px solid #cc0; padding: 0.5em 1em; }
+.files { overflow-wrap: anywhere; }
 </style>
 </head>
 <body>
@@ -397,17 +430,21 @@ th:first-child, td:first-child { text-align: left; }
 <h2>Results</h2>
 <div class="scroll"><table>
 <tr><th>regularizer</th><th>weight μ</th><th>χ²ᵣ</th>{{range .Types}}<th>χ²ᵣ {{.}}</th>{{end}}<th>R(x)</th><th>iterations</th><th>converged</th><th>warnings</th><th>seconds</th><th>error</th></tr>
-{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{.Regularizer}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
+{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{if .FITS}}<a href="{{.FITS}}">{{.Regularizer}}</a>{{else}}{{.Regularizer}}{{end}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
 {{end}}</table></div>
-{{if .Panel}}<h2>Images on one colour scale</h2><img src="{{.Panel}}" alt="panel of the images">{{end}}
+{{if .Panel}}<h2>Images on one colour scale</h2>{{if .Stretch}}<p>Display stretch: {{.Stretch}}{{if .StretchAuto}} (chosen from the images; <code>-stretch</code> sets it){{end}}.</p>{{end}}<img src="{{.Panel}}" alt="panel of the images">{{end}}
 {{if .Spread}}<h2>Agreement</h2>
 <p>Spread: the pixel-wise standard deviation across regularizers divided by their mean there (shown where the mean exceeds 5 % of its peak).</p>
 <img src="{{.Spread}}" alt="spread map">
 <p>Robust features: the pixel-wise minimum across regularizers, after aligning each image to the first by the peak of their cross-correlation (whole-pixel shifts{{range .Shifts}} ({{index . 0}}, {{index . 1}}){{end}}). Closure phases fix the orientation but not always the exact position.</p>
 <img src="{{.Robust}}" alt="robust features">{{end}}
 <h2>Fit to the data</h2>
-{{if .V2}}<img src="{{.V2}}" alt="V2 data and models">{{end}}
-{{if .T3}}<img src="{{.T3}}" alt="closure phase data and models">{{end}}
+{{range .Fit}}<img src="{{.URI}}" alt="{{.Alt}}">
+{{end}}
+<h2>Files</h2>
+<p>In the folder of this report:</p>
+<ul class="files">{{range .Files}}<li><a href="{{.Name}}">{{.Name}}</a> — {{.What}}</li>
+{{end}}</ul>
 <h2>Each regularizer</h2>
 {{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Warnings}}<ul class="warned">{{range .Warnings}}<li>Warning: {{.}}</li>{{end}}</ul>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}
 {{end}}
@@ -415,26 +452,53 @@ th:first-child, td:first-child { text-align: left; }
 </html>
 `
 
+// reportFile is a file the report links: its name in the report's folder and what it holds.
+type reportFile struct{ Name, What string }
+
+// reportPlot is a plot shown in the report.
+type reportPlot struct {
+	URI template.URL
+	Alt string
+}
+
 type reportEach struct {
 	Name, Error   string
 	Warnings      []string
 	Image, LCurve template.URL
 }
 
-func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun) error {
+func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretch preview.Stretch) error {
 	tpl, err := template.New("report").Parse(reportTemplate)
 	if err != nil {
 		return err
 	}
 	data := struct {
 		*CompareReport
-		Types                         []string
-		Panel, Spread, Robust, V2, T3 template.URL
-		Each                          []reportEach
-	}{CompareReport: rep, Types: compareTypes(rep),
+		Types                 []string
+		Panel, Spread, Robust template.URL
+		StretchAuto           bool
+		Fit                   []reportPlot
+		Files                 []reportFile
+		Each                  []reportEach
+	}{CompareReport: rep, Types: compareTypes(rep), StretchAuto: stretch == preview.Auto,
 		Panel: dataURI(filepath.Join(dir, "compare-panel.png")), Spread: dataURI(filepath.Join(dir, "compare-spread.png")),
-		Robust: dataURI(filepath.Join(dir, "compare-robust.png")), V2: dataURI(filepath.Join(dir, "compare-vis2.png")),
-		T3: dataURI(filepath.Join(dir, "compare-t3phi.png"))}
+		Robust: dataURI(filepath.Join(dir, "compare-robust.png"))}
+	for _, p := range rep.Plots {
+		data.Fit = append(data.Fit, reportPlot{dataURI(filepath.Join(dir, p)), strings.TrimSuffix(strings.TrimPrefix(p, "compare-"), ".png") + " data and models"})
+	}
+	for _, r := range rep.Rows {
+		if r.FITS != "" {
+			data.Files = append(data.Files, reportFile{r.FITS, "image of " + r.Regularizer + " (FITS)"})
+		}
+	}
+	for _, f := range []reportFile{
+		{"compare-spread.fits", "spread map (FITS)"}, {"compare-robust.fits", "robust features (FITS)"},
+		{"compare.csv", "the results table (CSV)"}, {"compare.json", "the results and settings (JSON)"},
+	} {
+		if _, err := os.Stat(filepath.Join(dir, f.Name)); err == nil {
+			data.Files = append(data.Files, f)
+		}
+	}
 	if data.Target == "" {
 		data.Target = "unknown target"
 	}

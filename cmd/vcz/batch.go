@@ -10,6 +10,8 @@ import (
 	"time"
 
 	"vcz/dataset"
+	"vcz/io/preview"
+	"vcz/output"
 	"vcz/recon/batch"
 	"vcz/runspec"
 	"vcz/workflow"
@@ -67,6 +69,11 @@ Outputs in the folder (-out, default "batch"):
                                weight, iterations, seconds, status, warnings
                                (a list in JSON, their number in CSV), error
   montage.png, epochs.gif      all epochs on one colour scale, with dates
+
+Every epoch is imaged on one grid, the finest pixel and widest field that any
+epoch's data call for (or -n and -pixel when given), so the images compare
+pixel for pixel; adding an epoch may change that grid and redo the others.
+-stretch sets the display stretch of the previews, montage and animation.
 With -joint also:
   joint.fits                   the jointly reconstructed cube (axis 3 = epoch,
                                MJD of each plane in keys MJDnnn)
@@ -84,10 +91,15 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	joint := fs.Bool("joint", false, "also reconstruct all epochs together with a temporal regularizer λ·Σ‖x_t − x_{t−1}‖²")
 	tweight := fs.String("temporal-weight", "auto", "temporal weight λ of -joint, or auto (the largest that raises no epoch's χ²ᵣ by more than 5%)")
 	parallel := fs.Int("parallel", 0, "worker goroutines of all epochs together (default: number of CPUs)")
+	stretch := registerStretch(fs)
 	quiet := fs.Bool("quiet", false, quietUsage)
 	strict := fs.Bool("strict", false, strictUsage+"; with -collect, any warning in the merged summary")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
+	}
+	st, err := output.ParseStretch(*stretch)
+	if err != nil {
+		return badInputf("batch: %v", err)
 	}
 	if *collect {
 		dirs := fs.Args()
@@ -97,7 +109,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *out == "" {
 			*out = dirs[0]
 		}
-		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict)
+		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict, st)
 	}
 	shared, err := opts.Spec()
 	if err != nil {
@@ -135,7 +147,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckFolder(*out); err != nil {
 		return badInputf("batch: -out: %v", err)
 	}
-	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel}
+	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel, Stretch: st}
 	disp := newBatchDisplay(stderr, *quiet)
 	sr, err := b.RunShard(epochs, shard, *joint, disp.event)
 	disp.finish()
@@ -179,7 +191,7 @@ func printBatchWarnings(w io.Writer, s *batch.Summary) int {
 }
 
 // collectShards merges the shard summaries found in dirs into out/summary.json.
-func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict bool) error {
+func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict bool, st preview.Stretch) error {
 	sum, err := workflow.Collect(dirs)
 	if err != nil {
 		return err
@@ -187,7 +199,7 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 	if err := workflow.WriteSummary(out, "summary", sum); err != nil {
 		return failure(err)
 	}
-	if err := workflow.WriteMontage(out, "", sum.Rows, nil, ""); err != nil && !quiet {
+	if err := workflow.WriteMontage(out, "", sum.Rows, nil, "", st); err != nil && !quiet {
 		fmt.Fprintf(stdout, "note: montage: %v\n", err)
 	}
 	if !quiet {

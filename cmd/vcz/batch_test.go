@@ -180,6 +180,14 @@ func TestBatchJobUnknownKey(t *testing.T) {
 	}
 }
 
+// A bad -stretch is refused with one line naming it, before any file is read.
+func TestBatchBadStretch(t *testing.T) {
+	_, errs, code := runCmd(t, "batch", "-stretch", "loud", "missing.oifits")
+	if code != exitBadInput || !strings.Contains(errs, `-stretch "loud"`) || strings.Count(errs, "\n") != 1 {
+		t.Errorf("exit %d, %q", code, errs)
+	}
+}
+
 // Files split at gaps of a night; -shard 1/2 and 2/2 take every epoch exactly once and
 // their collected summary equals the unsharded run's apart from the timings.
 func TestBatchShardCollect(t *testing.T) {

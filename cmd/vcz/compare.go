@@ -38,9 +38,13 @@ Outputs in DIR (made if missing):
   compare-robust.fits/.png  pixel-wise minimum after aligning the images by
                          their cross-correlation peak with the first image
   compare-vis2.png       V² data and every regularizer's model
-  compare-t3phi.png      closure phases against the longest baseline
+  compare-t3phi.png      closure phases against the longest baseline; likewise
+                         compare-t3amp.png, -visamp.png, -visphi.png for each
+                         other data type fitted
   compare.csv, compare.json  the table of results
-  report.html            all of the above in one self-contained page
+  report.html            all of the above in one self-contained page, with
+                         the display stretch and links to the FITS, CSV and
+                         JSON files (keep it in DIR for the links to work)
 
 Progress goes to stderr, one line per regularizer. A regularizer that fails
 (an error or non-finite values) is reported in the table and the report and

@@ -64,7 +64,9 @@ ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
 against separation.
 
 Outputs with -plot PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
-(closure phases), PREFIX-residuals.png (normalised residuals) and, with
+(closure phases) and likewise PREFIX-t3amp.png, PREFIX-visamp.png and
+PREFIX-visphi.png for each data type fitted, PREFIX-residuals.png (normalised
+residuals) and, with
 -grid-search, PREFIX-grid.png (the χ² map). -write-image writes the fitted
 model as a FITS image, usable as a prior or start image of 'vcz image'.
 -save-model FILE.toml writes the fitted model as a model file (best-fit
@@ -87,7 +89,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	seed := fs.Uint64("seed", 1, "seed of the extra starts")
 	maxIter := fs.Int("max-iter", 200, "iteration limit of each start")
 	asJSON := fs.Bool("json", false, "print the result as one JSON object on stdout")
-	plotPrefix := fs.String("plot", "", "write PNG plots PREFIX-vis2.png, PREFIX-t3phi.png, PREFIX-residuals.png (and PREFIX-grid.png)")
+	plotPrefix := fs.String("plot", "", "write PNG plots PREFIX-<type>.png of each fitted data type (vis2, t3phi, ...), PREFIX-residuals.png (and PREFIX-grid.png)")
 	grid := fs.Bool("grid-search", false, "map χ² of a point companion over separation and position angle, then fit it")
 	gridSep := fs.String("grid-sep", "", "separations searched, MIN:MAX (default unit mas; default: 0 to 3/4 of the largest constrained scale)")
 	gridRatio := fs.Float64("grid-ratio", 0.01, "flux ratio of the companion searched (companion / model flux)")
@@ -187,7 +189,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *plotPrefix != "" {
-		written, err := output.FitPlots(d, res, g, *plotPrefix)
+		written, err := output.FitPlots(files, d, res, g, *plotPrefix)
 		sum.Plots = append(sum.Plots, written...)
 		if err != nil {
 			return failure(err)

@@ -108,7 +108,8 @@ func TestFitBinaryEndToEnd(t *testing.T) {
 	if pr.Primary != 1 || pr.Component != 2 {
 		t.Errorf("pair %d from %d, want 2 from 1", pr.Component, pr.Primary)
 	}
-	if len(s.Plots) != 3 {
+	// One plot per fitted data type (the file has them all), then the residuals.
+	if len(s.Plots) != 6 || !strings.HasSuffix(s.Plots[4], "-visphi.png") || !strings.HasSuffix(s.Plots[5], "-residuals.png") {
 		t.Fatalf("plots %v", s.Plots)
 	}
 	for _, p := range s.Plots {

@@ -48,7 +48,9 @@ Outputs (OUT defaults to the first file's name with -image.fits):
   OUT.fits            the image, normalised to a total flux of 1, with provenance
   OUT.png             preview: north up, east left, scale bar, resolution circle
   OUT-vis2.png        V² data and model against spatial frequency
-  OUT-t3phi.png       closure phases, data and model
+  OUT-t3phi.png       closure phases, data and model; likewise OUT-t3amp.png,
+                      OUT-visamp.png and OUT-visphi.png for each other data
+                      type fitted (data coloured by wavelength)
   OUT-residuals.png   residuals normalised by their errors
   OUT-lcurve.png      the weight path, when the weight was chosen automatically`
 

@@ -16,10 +16,18 @@ const inspectDoc = `Summarise one or more OIFITS files, merged into one data set
 instruments with their wavelength range and channel count, the number of
 points per data type (valid, flagged, non-finite), baseline lengths, the
 nominal resolution λmin/(2·Bmax), the largest constrained scale λmax/Bmin, a
-suggested pixel size and grid, and the MJD range with the number of nights.
+suggested pixel size and grid, and the MJD range with the number of nights;
+then, for each night and instrument, the date, array, OIFITS revision,
+stations, the number of distinct baselines and closure triangles, and for each
+data type the number of points, their errors (median and range) and median
+signal-to-noise ratio (-json: "breakdown").
 
-With -plot DIR it also writes DIR/uv.png (the (u,v) coverage) and DIR/vis2.png
-(V² against spatial frequency).`
+With -plot DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
+data type present, DIR/<type>.png against spatial frequency (vis2.png,
+t3phi.png for closure phases against the longest baseline of the triangle,
+t3amp.png, visamp.png, visphi.png), coloured by instrument when there are
+several, else by wavelength; V² and amplitudes that span more than two decades
+on a logarithmic axis.`
 
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
@@ -36,16 +44,17 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("inspect: %v", err)
 	}
-	_, d, err := workflow.ReadData(fs.Args(), spec.Selection())
+	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
 	}
 	rep := output.NewInspectReport(d)
+	rep.Breakdown = output.Breakdown(files, d)
 	if *plotDir != "" {
 		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
 			return badInputf("inspect: -plot: %v", err)
 		}
-		paths, err := output.DataPlots(d, *plotDir)
+		paths, err := output.DataPlots(files, d, *plotDir)
 		if err != nil {
 			return failure(err)
 		}
@@ -94,6 +103,9 @@ func printInspect(w io.Writer, r output.InspectReport) {
 			}
 		}
 		fmt.Fprintf(w, "MJD:            %.5f – %.5f (%d night%s)\n", r.MJD.Min, r.MJD.Max, r.Nights, plural(r.Nights))
+	}
+	if len(r.Breakdown) > 0 {
+		fmt.Fprintf(w, "By night and instrument:\n%s", output.BreakdownText(r.Breakdown))
 	}
 	for _, n := range r.Notices {
 		fmt.Fprintf(w, "Note: %s\n", n)

@@ -93,7 +93,22 @@ func (f *Figure) WriteFile(path string) error {
 // single makes a Figure of one plot filling the canvas.
 func single(p *plot.Plot, opt Options) *Figure {
 	w, h := opt.size()
-	return &Figure{width: w, height: h, draw: p.Draw}
+	return &Figure{width: w, height: h, draw: framedLegend(p)}
+}
+
+// framedLegend takes p's legend out of p and returns a function that draws p and then the
+// legend in p's data area. gonum/plot places the legend in the area left by the axes,
+// before the data area is shrunk to make room for glyphs at its edges; when that room is
+// large (wide tick labels, big glyphs) the legend ended up above or right of the frame.
+// It is done once, when the figure is made, so that drawing changes nothing and figures
+// may be drawn concurrently.
+func framedLegend(p *plot.Plot) func(c draw.Canvas) {
+	leg := p.Legend
+	p.Legend = plot.NewLegend()
+	return func(c draw.Canvas) {
+		p.Draw(c)
+		leg.Draw(p.DataCanvas(c))
+	}
 }
 
 // newPlot returns a plot with the project's type sizes: 15 pt title,
@@ -303,13 +318,14 @@ func withColorBar(main, bar *plot.Plot, opt Options, square bool) *Figure {
 	if bar != nil {
 		barW = vg.Length(110) * vg.Inch / dpi
 	}
+	drawMain := framedLegend(main)
 	return &Figure{width: w, height: h, draw: func(c draw.Canvas) {
 		mc := c
 		mc.Max.X -= barW
 		if square {
 			mc = squareCanvas(main, mc)
 		}
-		main.Draw(mc)
+		drawMain(mc)
 		if bar == nil {
 			return
 		}

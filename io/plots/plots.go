@@ -176,10 +176,12 @@ func originMark() plot.Plotter {
 }
 
 // V2Data is a set of squared visibilities at (U, V) in cycles per radian,
-// with their 1σ errors Err (nil draws no error bars).
+// with their 1σ errors Err (nil draws no error bars) and their wavelengths in
+// metres (nil, or all equal, draws the data in black; see Measurements).
 type V2Data struct {
 	U, V       []float64
 	Value, Err []float64
+	Wavelength []float64
 }
 
 // ModelValues are a model's predictions at the points of a data set, in
@@ -203,6 +205,8 @@ type dataPoints struct {
 	xy   plotter.XYs
 	errs plotter.YErrors
 	idx  []int
+	lam  []float64 // wavelengths (m), when the caller gives them
+	grp  []int     // groups (Measurements.Group), when the caller gives them
 }
 
 func (d dataPoints) Len() int                        { return len(d.xy) }
@@ -214,13 +218,24 @@ func (d *dataPoints) add(i int, x, y, lo, hi float64) {
 	d.idx = append(d.idx, i)
 }
 
-// addData adds the data as black points with error bars.
-func addData(p *plot.Plot, d dataPoints, withErr bool, name string) error {
+// addData adds the data as points with error bars: black, or coloured by wavelength when
+// they span several (lr).
+func addData(p *plot.Plot, d dataPoints, withErr bool, name string, lr lambdaRange) error {
 	s, err := plotter.NewScatter(d.xy)
 	if err != nil {
 		return err
 	}
-	s.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Radius: vg.Points(1.8), Color: color.Black}
+	s.GlyphStyle = dataGlyph
+	if lr.coloured() {
+		// The legend shows the glyph in dark grey; the colour bar gives the wavelengths.
+		s.GlyphStyle.Color = color.Gray{70}
+		s.GlyphStyle.Radius = vg.Points(2.2)
+		s.GlyphStyleFunc = func(i int) draw.GlyphStyle {
+			g := s.GlyphStyle
+			g.Color = lr.color(d.lam[i])
+			return g
+		}
+	}
 	if withErr {
 		e, err := plotter.NewYErrorBars(d)
 		if err != nil {
@@ -237,8 +252,9 @@ func addData(p *plot.Plot, d dataPoints, withErr bool, name string) error {
 }
 
 // addModels adds each model's values at the plotted data points as
-// coloured open glyphs, one legend entry each. wrap wraps phases.
-func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, logY bool) error {
+// open glyphs, one legend entry each: coloured, or black when the data are coloured by
+// wavelength (black). wrap wraps phases.
+func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, logY, black bool) error {
 	for k, m := range models {
 		if len(m.Value) != n {
 			return fmt.Errorf("model %q has %d values for %d data points", m.Name, len(m.Value), n)
@@ -262,6 +278,10 @@ func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, lo
 			return err
 		}
 		s.GlyphStyle = draw.GlyphStyle{Shape: modelShape(k), Radius: vg.Points(2.6), Color: seriesColor(k)}
+		if black {
+			s.GlyphStyle.Color = color.Black
+			s.GlyphStyle.Radius = vg.Points(3.2)
+		}
 		p.Add(s)
 		p.Legend.Add(legendName(m.Name, "model", k, len(models)), s)
 	}
@@ -292,52 +312,11 @@ func V2(d V2Data, models []ModelValues, curves []Curve, opt Options) (*Figure, e
 	if len(d.U) != n || len(d.V) != n || (d.Err != nil && len(d.Err) != n) {
 		return nil, fmt.Errorf("plots: V²: %d u, %d v, %d values, %d errors", len(d.U), len(d.V), n, len(d.Err))
 	}
-	pts := v2Points(d, opt.LogY)
-	if pts.Len() == 0 {
-		return nil, fmt.Errorf("plots: V²: %w", ErrNoData)
+	m := Measurements{Label: "V²", Value: d.Value, Err: d.Err, Wavelength: d.Wavelength, Freq: make([]float64, n)}
+	for i := range m.Freq {
+		m.Freq[i] = SpatialFrequency(d.U[i], d.V[i])
 	}
-	p := newPlot(opt.title("Squared visibility"), "spatial frequency (Mλ)", "V²")
-	if opt.LogY {
-		p.Y.Scale = plot.LogScale{}
-		p.Y.Tick.Marker = logTicks{}
-	}
-	p.Add(plotter.NewGrid())
-	if err := addData(p, pts, d.Err != nil, "data"); err != nil {
-		return nil, fmt.Errorf("plots: V²: %w", err)
-	}
-	if err := addModels(p, pts, models, n, false, opt.LogY); err != nil {
-		return nil, fmt.Errorf("plots: V²: %w", err)
-	}
-	if err := addCurves(p, curves, opt.LogY); err != nil {
-		return nil, fmt.Errorf("plots: V²: %w", err)
-	}
-	p.X.Min = 0
-	padX(p, false)
-	padY(p, opt.LogY)
-	roomForLegend(p, 1+len(models)+len(curves), opt.LogY)
-	return single(p, opt), nil
-}
-
-// v2Points returns the finite points of d (with logY, the positive ones).
-func v2Points(d V2Data, logY bool) dataPoints {
-	n := len(d.Value)
-	var pts dataPoints
-	for i := 0; i < n; i++ {
-		x := SpatialFrequency(d.U[i], d.V[i]) / MegaLambda
-		y, e := d.Value[i], 0.0
-		if d.Err != nil {
-			e = d.Err[i]
-		}
-		if !finite(x, y, e) || (logY && y <= 0) {
-			continue
-		}
-		lo := e
-		if logY {
-			lo = math.Min(e, 0.9*y)
-		}
-		pts.add(i, x, y, lo, e)
-	}
-	return pts
+	return measured(m, models, curves, opt, "Squared visibility")
 }
 
 func addCurves(p *plot.Plot, curves []Curve, logY bool) error {
@@ -375,6 +354,8 @@ func addCurves(p *plot.Plot, curves []Curve, logY bool) error {
 type T3Data struct {
 	U1, V1, U2, V2 []float64
 	Phi, Err       []float64
+	// Wavelength in metres colours the data as in Measurements (nil: black).
+	Wavelength []float64
 }
 
 // ClosurePhase plots closure phases (degrees, wrapped into (−180, 180])
@@ -386,41 +367,12 @@ func ClosurePhase(d T3Data, models []ModelValues, opt Options) (*Figure, error) 
 		return nil, fmt.Errorf("plots: closure phase: %d phases but baseline columns of %d, %d, %d, %d and %d errors",
 			n, len(d.U1), len(d.V1), len(d.U2), len(d.V2), len(d.Err))
 	}
-	var pts dataPoints
-	for i := 0; i < n; i++ {
-		x := LongestBaseline(d.U1[i], d.V1[i], d.U2[i], d.V2[i]) / MegaLambda
-		e := 0.0
-		if d.Err != nil {
-			e = d.Err[i]
-		}
-		if !finite(x, d.Phi[i], e) {
-			continue
-		}
-		// A bar is cut at ±190° (see below), so that it does not run under the legend.
-		y := WrapDegrees(d.Phi[i])
-		pts.add(i, x, y, math.Min(e, y+190), math.Min(e, 190-y))
+	m := Measurements{Label: "closure phase", Unit: "°", Phase: true, Triangle: true,
+		Value: d.Phi, Err: d.Err, Wavelength: d.Wavelength, Freq: make([]float64, n)}
+	for i := range m.Freq {
+		m.Freq[i] = LongestBaseline(d.U1[i], d.V1[i], d.U2[i], d.V2[i])
 	}
-	if pts.Len() == 0 {
-		return nil, fmt.Errorf("plots: closure phase: %w", ErrNoData)
-	}
-	p := newPlot(opt.title("Closure phase"), "longest baseline of the triangle (Mλ)", "closure phase (°)")
-	p.Add(plotter.NewGrid())
-	if err := addData(p, pts, d.Err != nil, "data"); err != nil {
-		return nil, fmt.Errorf("plots: closure phase: %w", err)
-	}
-	if err := addModels(p, pts, models, n, true, false); err != nil {
-		return nil, fmt.Errorf("plots: closure phase: %w", err)
-	}
-	p.X.Min = 0
-	// Phases are wrapped to ±180°: an error bar beyond that says only that the phase is
-	// unknown, and is cut at the axis rather than stretching it (with the legend's room
-	// above, a 190° bar pushed the axis to 630°).
-	p.Y.Min, p.Y.Max = math.Max(p.Y.Min, -190), math.Min(p.Y.Max, 190)
-	padX(p, false)
-	padY(p, false)
-	roomForLegend(p, 1+len(models), false)
-	p.Y.Tick.Marker = degreeTicks{}
-	return single(p, opt), nil
+	return measured(m, models, nil, opt, "Closure phase")
 }
 
 // degreeTicks puts ticks at multiples of 15°, 30°, 45° or 90°.
@@ -448,13 +400,18 @@ func (degreeTicks) Ticks(min, max float64) []plot.Tick {
 // Residuals is one data type's normalised residuals (data − model)/σ at
 // spatial frequencies Freq in cycles per radian (for closure phases, the
 // longest baseline of the triangle). Name is the legend entry, e.g. "V²".
+// Wavelength, in metres, colours the points as in Measurements (nil: one
+// colour per set).
 type Residuals struct {
 	Name        string
 	Freq, Value []float64
+	Wavelength  []float64
 }
 
 // ResidualPlot plots normalised residuals against spatial frequency in
-// Mλ, one colour per set, with guide lines at 0, ±1 and ±3. Each legend
+// Mλ, one shape and colour per set, with guide lines at 0, ±1 and ±3. When
+// the points span several wavelengths they are coloured by wavelength with
+// a colour bar in µm, and the sets told apart by their shapes. Each legend
 // entry gives the set's root mean square. Non-finite points are skipped.
 func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 	p := newPlot(opt.title("Normalised residuals"), "spatial frequency (Mλ)", "(data − model) / σ")
@@ -462,21 +419,31 @@ func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 	xmax, ymax, total := 0.0, 3.5, 0
 	type set struct {
 		xy   plotter.XYs
+		lam  []float64
 		name string
 	}
 	var keep []set
+	lr := lambdaRange{math.Inf(1), math.Inf(-1)}
 	for k, s := range sets {
-		if len(s.Freq) != len(s.Value) {
-			return nil, fmt.Errorf("plots: residuals %q: %d frequencies and %d values", s.Name, len(s.Freq), len(s.Value))
+		if len(s.Freq) != len(s.Value) || (s.Wavelength != nil && len(s.Wavelength) != len(s.Value)) {
+			return nil, fmt.Errorf("plots: residuals %q: %d frequencies, %d values and %d wavelengths", s.Name, len(s.Freq), len(s.Value), len(s.Wavelength))
 		}
 		var xy plotter.XYs
+		var lam []float64
 		sum := 0.0
 		for i := range s.Freq {
-			x, y := s.Freq[i]/MegaLambda, s.Value[i]
-			if !finite(x, y) {
+			x, y, l := s.Freq[i]/MegaLambda, s.Value[i], 0.0
+			if s.Wavelength != nil {
+				l = s.Wavelength[i]
+			}
+			if !finite(x, y, l) {
 				continue
 			}
 			xy = append(xy, plotter.XY{X: x, Y: y})
+			if s.Wavelength != nil {
+				lam = append(lam, l)
+				lr.min, lr.max = math.Min(lr.min, l), math.Max(lr.max, l)
+			}
 			sum += y * y
 			xmax, ymax = math.Max(xmax, x), math.Max(ymax, math.Abs(y)*1.05)
 		}
@@ -485,7 +452,7 @@ func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 		}
 		total += len(xy)
 		name := legendName(s.Name, "set", k, len(sets))
-		keep = append(keep, set{xy, fmt.Sprintf("%s (rms %.2f, %d points)", name, math.Sqrt(sum/float64(len(xy))), len(xy))})
+		keep = append(keep, set{xy, lam, fmt.Sprintf("%s (rms %.2f, %d points)", name, math.Sqrt(sum/float64(len(xy))), len(xy))})
 	}
 	if total == 0 {
 		return nil, fmt.Errorf("plots: residuals: %w", ErrNoData)
@@ -510,6 +477,16 @@ func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 			return nil, fmt.Errorf("plots: residuals: %w", err)
 		}
 		sc.GlyphStyle = draw.GlyphStyle{Shape: modelShape(k), Radius: vg.Points(2.2), Color: seriesColor(k)}
+		if lr.coloured() && s.lam != nil {
+			sc.GlyphStyle.Color = color.Gray{70}
+			sc.GlyphStyle.Radius = vg.Points(2.6)
+			lam := s.lam
+			sc.GlyphStyleFunc = func(i int) draw.GlyphStyle {
+				g := sc.GlyphStyle
+				g.Color = lr.color(lam[i])
+				return g
+			}
+		}
 		p.Add(sc)
 		p.Legend.Add(s.name, sc)
 	}
@@ -519,7 +496,7 @@ func ResidualPlot(sets []Residuals, opt Options) (*Figure, error) {
 	if p.Y.Max-p.Y.Min <= 14 {
 		p.Y.Tick.Marker = integerTicks{}
 	}
-	return single(p, opt), nil
+	return withColorBar(p, lr.bar(), opt, false), nil
 }
 
 // LPoint is one reconstruction along a regularization-weight path: the

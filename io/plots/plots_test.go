@@ -3,6 +3,7 @@ package plots
 import (
 	"bytes"
 	"errors"
+	"flag"
 	"image"
 	"image/color"
 	"image/png"
@@ -108,8 +109,33 @@ func TestAllPlotsRender(t *testing.T) {
 		{"closure phase", func(o Options) (*Figure, error) {
 			return ClosurePhase(T3Data{U1: cpU1, V1: cpV1, U2: cpU2, V2: cpV2, Phi: phi, Err: perr}, []ModelValues{{"m", pm}}, o)
 		}},
+		{"v2 by wavelength", func(o Options) (*Figure, error) {
+			return V2(V2Data{U: u, V: v, Value: v2, Err: e2, Wavelength: lam}, []ModelValues{{"a", m2}}, nil, o)
+		}},
+		{"closure phase by wavelength", func(o Options) (*Figure, error) {
+			return ClosurePhase(T3Data{U1: cpU1, V1: cpV1, U2: cpU2, V2: cpV2, Phi: phi, Err: perr, Wavelength: lam[:n/3]}, []ModelValues{{"m", pm}}, o)
+		}},
+		{"visibility amplitude", func(o Options) (*Figure, error) {
+			amp := make([]float64, n)
+			for i := range amp {
+				amp[i] = math.Sqrt(math.Abs(v2[i]))
+			}
+			fq := make([]float64, n)
+			for i := range fq {
+				fq[i] = SpatialFrequency(u[i], v[i])
+			}
+			return Measured(Measurements{Label: "visibility amplitude", Freq: fq, Value: amp, Err: e2, Wavelength: lam}, []ModelValues{{"m", amp}}, nil, o)
+		}},
 		{"residuals", func(o Options) (*Figure, error) {
-			return ResidualPlot([]Residuals{{"V²", u, NormalizedResiduals(nil, v2, m2, e2)}}, o)
+			return ResidualPlot([]Residuals{{Name: "V²", Freq: u, Value: NormalizedResiduals(nil, v2, m2, e2)}}, o)
+		}},
+		{"residuals by wavelength", func(o Options) (*Figure, error) {
+			fq := make([]float64, n/3)
+			for i := range fq {
+				fq[i] = LongestBaseline(cpU1[i], cpV1[i], cpU2[i], cpV2[i])
+			}
+			return ResidualPlot([]Residuals{{Name: "V²", Freq: u, Value: NormalizedResiduals(nil, v2, m2, e2), Wavelength: lam},
+				{Name: "closure phase", Freq: fq, Value: PhaseResiduals(nil, phi, pm, perr), Wavelength: lam[:n/3]}}, o)
 		}},
 		{"L-curve", func(o Options) (*Figure, error) { return LCurve([]LPath{{"entropy", path, 2}}, o) }},
 		{"chi2 map", func(o Options) (*Figure, error) { return Chi2Map(grid, o) }},
@@ -129,9 +155,17 @@ func TestAllPlotsRender(t *testing.T) {
 				t.Errorf("%s: Size() = %d × %d, want %d × %d", c.name, fw, fh, w, h)
 			}
 			checkPNG(t, f, w, h)
+			if *plotsOut != "" && o.Title == "" {
+				if err := f.WriteFile(filepath.Join(*plotsOut, strings.ReplaceAll(c.name, " ", "-")+".png")); err != nil {
+					t.Error(err)
+				}
+			}
 		}
 	}
 }
+
+// plotsOut is a folder to keep the PNGs of TestAllPlotsRender in, for looking at them.
+var plotsOut = flag.String("plots.out", "", "write the PNGs of TestAllPlotsRender into this folder")
 
 func TestEmptyInput(t *testing.T) {
 	nan := math.NaN()
@@ -151,7 +185,7 @@ func TestEmptyInput(t *testing.T) {
 		"cp empty":    func() (*Figure, error) { return ClosurePhase(T3Data{}, nil, Options{}) },
 		"resid empty": func() (*Figure, error) { return ResidualPlot(nil, Options{}) },
 		"resid NaN": func() (*Figure, error) {
-			return ResidualPlot([]Residuals{{"x", []float64{1}, []float64{nan}}}, Options{})
+			return ResidualPlot([]Residuals{{Name: "x", Freq: []float64{1}, Value: []float64{nan}}}, Options{})
 		},
 		"lcurve empty": func() (*Figure, error) { return LCurve(nil, Options{}) },
 		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3, false}}, 0}}, Options{}) },
@@ -191,6 +225,15 @@ func TestBadInput(t *testing.T) {
 			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
 		}
 	}
+}
+
+// v2Points returns the points V2 draws of d.
+func v2Points(d V2Data, logY bool) dataPoints {
+	m := Measurements{Label: "V²", Value: d.Value, Err: d.Err, Freq: make([]float64, len(d.U))}
+	for i := range d.U {
+		m.Freq[i] = SpatialFrequency(d.U[i], d.V[i])
+	}
+	return m.points(logY)
 }
 
 func TestNaNSkipped(t *testing.T) {
@@ -467,5 +510,38 @@ func TestWithUnit(t *testing.T) {
 		if got := withUnit(c.v, c.unit); got != c.want {
 			t.Errorf("withUnit(%g, %q) = %q, want %q", c.v, c.unit, got, c.want)
 		}
+	}
+}
+
+// AutoLog: two decades between the 5th and 95th percentiles of the positive values, at most
+// a tenth not positive (the rule of AutoLog, common practice, no source).
+func TestAutoLog(t *testing.T) {
+	ramp := func(n int, f func(i int) float64) []float64 {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = f(i)
+		}
+		return v
+	}
+	decay := ramp(100, func(i int) float64 { return math.Pow(10, -4*float64(i)/99) })
+	for _, c := range []struct {
+		name string
+		v    []float64
+		want bool
+	}{
+		{"four decades", decay, true},
+		{"0.5 to 0.9", ramp(100, func(i int) float64 { return 0.5 + 0.004*float64(i) }), false},
+		{"four decades, 20 % negative", append(append([]float64{}, decay...), ramp(25, func(int) float64 { return -1e-3 })...), false},
+		{"four decades, 5 % zero and NaN", append(append([]float64{}, decay...), 0, 0, 0, 0, 0, math.NaN(), math.NaN()), true},
+		{"one value", []float64{1}, false},
+	} {
+		if got := AutoLog(c.v); got != c.want {
+			t.Errorf("%s: AutoLog = %v, want %v", c.name, got, c.want)
+		}
+	}
+	// On a logarithmic axis the legend counts the points it cannot show.
+	m := Measurements{Label: "V²", Freq: []float64{1e7, 2e7, 3e7, 4e7}, Value: []float64{0.5, 0.01, -0.001, 0}}
+	if k := m.nonPositive(); k != 2 {
+		t.Errorf("%d points not above zero, want 2", k)
 	}
 }

@@ -22,10 +22,14 @@
 //
 // # Colour
 //
-// The default colour map is cubehelix (Green 2011, Bull. Astr. Soc. India 39,
-// 289) with the paper's default parameters: start 0.5, rotations −1.5, hue
-// 1, gamma 1. Its perceived intensity 0.30 R + 0.59 G + 0.11 B increases
-// monotonically from black to white, so previews read correctly in grey.
+// The default colour map of an extended object is cubehelix (Green 2011,
+// Bull. Astr. Soc. India 39, 289) with the paper's default parameters: start
+// 0.5, rotations −1.5, hue 1, gamma 1. Its perceived intensity 0.30 R + 0.59 G
+// + 0.11 B increases monotonically from black to white, so previews read
+// correctly in grey. A point-like image (one whose automatic stretch is not
+// linear) gets Lightness instead, one amber hue whose CIE 1976 lightness L*
+// rises in proportion to the value, so the faint wings of a point are not
+// painted in other hues (ChooseColormap); Options.Colormap sets either.
 // Values are mapped linearly between Options.Min and Options.Max (by
 // default the data range) and then through a Stretch (linear, square root,
 // asinh or log). Panels, montages and animations use one scale for all

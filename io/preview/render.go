@@ -62,7 +62,8 @@ type Options struct {
 	// Stretch maps the scale to colours; the zero value, Auto, picks Linear or Asinh from
 	// the data (ChooseStretch), and a stretch other than linear is named on the colour bar.
 	Stretch Stretch
-	// Colormap nil means DefaultCubehelix().
+	// Colormap nil chooses from the data (ChooseColormap): DefaultLightness for point-like
+	// images, DefaultCubehelix for the others.
 	Colormap Colormap
 	// ColorbarLabel is written along the colour bar, e.g. "flux per pixel".
 	ColorbarLabel string

@@ -57,15 +57,15 @@ func newScale(opt *Options, frames []Frame) (*colorScale, error) {
 	} else if !(hi > lo) || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
 		return nil, fmt.Errorf("preview: colour scale limits Min %g, Max %g: need finite Min < Max", opt.Min, opt.Max)
 	}
+	var data [][]float64
+	for _, f := range frames {
+		data = append(data, f.Data)
+	}
 	cm := opt.Colormap
 	if cm == nil {
-		cm = DefaultCubehelix()
+		cm = ChooseColormap(data...)
 	}
 	if opt.Stretch == Auto {
-		var data [][]float64
-		for _, f := range frames {
-			data = append(data, f.Data)
-		}
 		opt.Stretch = ChooseStretch(data...)
 	}
 	s := &colorScale{lo: lo, hi: hi, stretch: opt.Stretch, cmap: cm, lut: make([]color.RGBA, lutSize), inv: 1 / (hi - lo)}

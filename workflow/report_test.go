@@ -1,0 +1,138 @@
+package workflow
+
+import (
+	"context"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"vcz/output"
+	"vcz/runspec"
+)
+
+// writtenReport runs a small comparison of two regularizers on the demo data and writes its
+// outputs into a new folder, which it returns.
+func writtenReport(t *testing.T) string {
+	t.Helper()
+	dir := t.TempDir()
+	files, d := demoData(t)
+	entries, err := CompareEntries(runspec.Spec{Grid: 32, Iterations: 40, Starts: 1}, "tv,mem", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := NewComparison(files, d, entries)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c.Run(1, 0, CompareHooks{})
+	if _, err := c.Write(dir, output.Outputs{}, 0); err != nil {
+		t.Fatal(err)
+	}
+	return dir
+}
+
+// TestReport checks the report of a small comparison: its links, and its width in Chromium.
+func TestReport(t *testing.T) {
+	dir := writtenReport(t)
+	t.Run("links", func(t *testing.T) { reportLinks(t, dir) })
+	t.Run("width", func(t *testing.T) { reportWidth(t, dir) })
+}
+
+// The report links every FITS, CSV and JSON file of its folder, every link leads to a file
+// there, and it names the display stretch and shows a plot per data type fitted.
+func reportLinks(t *testing.T, dir string) {
+	page, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	linked := map[string]bool{}
+	for _, m := range regexp.MustCompile(`href="([^"]+)"`).FindAllStringSubmatch(string(page), -1) {
+		linked[m[1]] = true
+		if _, err := os.Stat(filepath.Join(dir, m[1])); err != nil {
+			t.Errorf("link %q leads nowhere: %v", m[1], err)
+		}
+	}
+	ents, _ := os.ReadDir(dir)
+	n := 0
+	for _, e := range ents {
+		switch filepath.Ext(e.Name()) {
+		case ".fits", ".csv", ".json":
+			n++
+			if !linked[e.Name()] {
+				t.Errorf("%s is not linked from the report", e.Name())
+			}
+		}
+	}
+	// Two images, the spread and robust maps, the CSV and the JSON.
+	if n != 6 {
+		t.Errorf("%d FITS, CSV and JSON files, want 6", n)
+	}
+	if !regexp.MustCompile(`Display stretch: (linear|sqrt|asinh|log)`).Match(page) {
+		t.Error("the report does not name the display stretch")
+	}
+	// The demo night has V², T3 amplitudes and closure phases: one plot each.
+	if got := strings.Count(string(page), `data and models"`); got != 3 {
+		t.Errorf("%d data plots in the report, want 3", got)
+	}
+}
+
+// chromium returns the path of a Chromium browser, or "" when there is none.
+func chromium() string {
+	for _, name := range []string{"chromium", "chromium-browser", "google-chrome"} {
+		if p, err := exec.LookPath(name); err == nil {
+			return p
+		}
+	}
+	return ""
+}
+
+// reportShot is a folder to keep the report's screenshot in, for looking at it.
+var reportShot = os.Getenv("VCZ_REPORT_SHOT")
+
+// The report renders without horizontal scrolling in a window 1 280 pixels wide: headless
+// Chromium lays out a copy of the page with a script that writes the document's scroll
+// width and client width (CSSOM View, W3C) into its title, which --dump-dom prints.
+func reportWidth(t *testing.T, dir string) {
+	browser := chromium()
+	if browser == "" {
+		t.Skip("no Chromium browser found (Debian package chromium)")
+	}
+	page, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	probe := strings.Replace(string(page), "</body>",
+		`<script>document.title = document.documentElement.scrollWidth + " " + document.documentElement.clientWidth;</script></body>`, 1)
+	pp := filepath.Join(dir, "probe.html")
+	if err := os.WriteFile(pp, []byte(probe), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	run := func(args ...string) []byte {
+		ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
+		defer cancel()
+		args = append([]string{"--headless", "--no-sandbox", "--disable-gpu", "--hide-scrollbars", "--window-size=1280,900"}, args...)
+		out, err := exec.CommandContext(ctx, browser, args...).Output()
+		if err != nil {
+			t.Fatalf("%s: %v", browser, err)
+		}
+		return out
+	}
+	dom := run("--dump-dom", "file://"+pp)
+	m := regexp.MustCompile(`<title>(\d+) (\d+)</title>`).FindSubmatch(dom)
+	if m == nil {
+		t.Fatalf("no widths in the title of the laid-out page:\n%.300s", dom)
+	}
+	scroll, _ := strconv.Atoi(string(m[1]))
+	client, _ := strconv.Atoi(string(m[2]))
+	if client != 1280 || scroll > client {
+		t.Errorf("scroll width %d px in a window %d px wide, want at most 1280", scroll, client)
+	}
+	if reportShot != "" {
+		run("--screenshot="+filepath.Join(reportShot, "report.png"), "file://"+filepath.Join(dir, "report.html"))
+	}
+}
