@@ -128,6 +128,7 @@ func TestOptions(t *testing.T) {
 		{"starts", []string{"-starts", "3"}, int64(3), Spec{Starts: 3}},
 		{"coarse", []string{"-coarse"}, true, Spec{Coarse: true}},
 		{"no-amp-first", []string{"-no-amp-first"}, true, Spec{NoAmplitudeFirst: true}},
+		{"smearing", []string{"-smearing", "OFF"}, "off", Spec{Smearing: recon.SmearOff}},
 		{"workers", []string{"-workers", "2"}, int64(2), Spec{Workers: 2}},
 	}
 	var tested []string
@@ -286,7 +287,7 @@ func TestCanonicalRoundTrip(t *testing.T) {
 	full, err := flagSpec(t, All, "-target", "Vaeloris", "-wave", "1.5um:", "-mjd", ":60101.25", "-ins", "ORRIN-6",
 		"-use", "vis2,t3phi", "-n", "64", "-pixel", "0.2mas", "-reg", "mem,compact:0.1", "-weight", "300",
 		"-prior", "disc:1.5mas", "-start", "disk:2", "-from-model", "m.toml", "-support", "4mas", "-tv-eps", "0.02",
-		"-data-weights", "t3phi=3", "-iter", "250", "-seed", "0", "-starts", "2", "-coarse", "-no-amp-first", "-workers", "3")
+		"-data-weights", "t3phi=3", "-iter", "250", "-seed", "0", "-starts", "2", "-coarse", "-no-amp-first", "-smearing", "on", "-workers", "3")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -310,6 +311,7 @@ seed=0
 starts=2
 coarse=true
 no-amp-first=true
+smearing=on
 `
 	if got := full.String(); got != wantText {
 		t.Errorf("text\n%s\nwant\n%s", got, wantText)

@@ -51,6 +51,9 @@ Top level
                           or a regular series:
   from = 1.5, to = 1.8, channels = 8
                           centres from..to inclusive; width defaults to the spacing
+  smearing = true         each channel's visibility is the average over its band
+                          (a top-hat of the width), as an instrument measures it;
+                          default false: the value at the channel's centre
 
 [noise]                   errors are written to the *ERR columns; amplitude
                           errors are sqrt((relative*value)^2 + floor^2); phase

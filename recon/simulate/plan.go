@@ -64,6 +64,9 @@ type Plan struct {
 
 	Wavelengths []float64 // channel centres (m)
 	Bandwidths  []float64 // channel widths (m), same length
+	// BandAverage makes each channel's visibility the average over its band (bandwidth
+	// smearing, smear.go of Run) instead of the value at its centre.
+	BandAverage bool
 
 	Noise Noise
 	Seed  uint64
@@ -113,6 +116,7 @@ type planFile struct {
 		From     *float64  `toml:"from"`
 		To       *float64  `toml:"to"`
 		Channels *int      `toml:"channels"`
+		Smearing bool      `toml:"smearing"`
 	} `toml:"wavelengths"`
 	Noise struct {
 		Add            *bool    `toml:"add"`
@@ -317,6 +321,7 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 	default:
 		return nil, fail("wavelengths", -1, "needs centre (and width) or from, to and channels")
 	}
+	p.BandAverage = w.Smearing
 	nz := pf.Noise
 	set := func(dst *float64, src *float64) {
 		if src != nil {
@@ -432,6 +437,9 @@ func (p *Plan) Validate() error {
 	for i := range p.Wavelengths {
 		if !(p.Wavelengths[i] > 0) || !(p.Bandwidths[i] > 0) || math.IsInf(p.Wavelengths[i], 0) {
 			return keyErr("wavelengths", -1, "channel %d: centre and width must be positive", i+1)
+		}
+		if p.BandAverage && !(p.Bandwidths[i] < 2*p.Wavelengths[i]) {
+			return keyErr("wavelengths.smearing", -1, "channel %d: a band averaged over must be narrower than twice its centre", i+1)
 		}
 	}
 	nz := p.Noise

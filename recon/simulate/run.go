@@ -58,7 +58,8 @@ const (
 // For each hour angle with the target above the elevation limit, every
 // pair of combined stations i < j (in plan order) gives a baseline from
 // station i to station j, projected with UVW; each channel's (u, v) is the
-// projection divided by the wavelength. VIS2DATA is |V|², VISAMP and
+// projection divided by the wavelength; V is the sky's visibility there, or
+// its average over the channel's band with plan.BandAverage (smear.go). VIS2DATA is |V|², VISAMP and
 // VISPHI are |V| and arg V, and each closing triangle i < j < k gives the
 // bispectrum B = V(u1,v1) V(u2,v2) conj(V(u1+u2, v1+v2)) with (u1, v1) the
 // baseline i→j and (u2, v2) the baseline j→k (CONVENTIONS.md). Errors and
@@ -137,7 +138,16 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		}
 	}
 	vis := make([]complex128, len(u))
-	if err := sky.Visibilities(vis, u, v); err != nil {
+	if p.BandAverage {
+		rel := make([]float64, len(u))
+		for i := range rel {
+			c := i % nc
+			rel[i] = p.Bandwidths[c] / p.Wavelengths[c]
+		}
+		if err := bandAverage(sky, vis, u, v, rel); err != nil {
+			return nil, rep, fmt.Errorf("simulate: %w", err)
+		}
+	} else if err := sky.Visibilities(vis, u, v); err != nil {
 		return nil, rep, fmt.Errorf("simulate: %w", err)
 	}
 
