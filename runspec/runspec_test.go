@@ -200,9 +200,9 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-start", "ld:1mas:2"}, `-start: "ld:1mas:2": the limb-darkening coefficient must be in [0, 1]`},
 		{[]string{"-support", "-3"}, `-support "-3": want a positive radius such as 3mas`},
 		{[]string{"-data-weights", "vis2"}, `-data-weights: "vis2": want TYPE=WEIGHT`},
-		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`},
+		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 		{[]string{"-data-weights", "vis2=0"}, `-data-weights: "vis2=0": the weight must be a positive number (leave a data type out with -use)`},
-		{[]string{"-use", "vis3"}, `-use "vis3": unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`},
+		{[]string{"-use", "vis3"}, `-use "vis3": unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 		{[]string{"-use", ","}, `-use ",": no data type given`},
 		{[]string{"-iter", "-1"}, "-iter, -starts and -workers must not be negative"},
 		{[]string{"-starts", "-1"}, "-iter, -starts and -workers must not be negative"},
@@ -434,7 +434,7 @@ func TestProblemOptions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
+	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
 		t.Errorf("problem %+v", p)
 	}
 	if st.MaxIter != 99 || st.Seed != 7 || st.Starts != 2 || !st.CoarseToFine || !st.NoAmplitudeFirst || st.Workers != 3 {
