@@ -72,6 +72,9 @@ type Plan struct {
 	Seed  uint64
 
 	WriteVis2, WriteT3, WriteVis bool
+	// WriteDiff writes an OI_VIS table of differential visibilities (AMPTYP = PHITYP =
+	// 'differential'; run.go, writeDiff).
+	WriteDiff bool
 }
 
 // Plan files are TOML; these types mirror the file so that the decoder
@@ -350,8 +353,10 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 			p.WriteT3 = true
 		case "vis":
 			p.WriteVis = true
+		case "dvis":
+			p.WriteDiff = true
 		default:
-			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis)", s)
+			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis, dvis)", s)
 		}
 	}
 	if err := p.Validate(); err != nil {
@@ -461,7 +466,7 @@ func (p *Plan) Validate() error {
 			return keyErr(c.key, -1, "%g: must be zero or positive", c.v)
 		}
 	}
-	if !p.WriteVis2 && !p.WriteT3 && !p.WriteVis {
+	if !p.WriteVis2 && !p.WriteT3 && !p.WriteVis && !p.WriteDiff {
 		return keyErr("write", -1, "no data type to write")
 	}
 	return nil
