@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/integrate/quad"
 
 	"vcz/dataset"
+	"vcz/nufft"
 )
 
 // wideBandData returns randomData's data of random baselines up to fmax (cycles/rad) in
@@ -247,6 +248,76 @@ func TestGaussLegendre(t *testing.T) {
 			if g := n - 1 - j; math.Abs(x[j]-gx[g]) > 1e-14 || math.Abs(w[j]-gw[g]) > 1e-14 {
 				t.Errorf("n = %d, node %d: %.17g, %.17g; gonum %.17g, %.17g", n, j, x[j], w[j], gx[g], gw[g])
 			}
+		}
+	}
+}
+
+// The band averages cost no allocation per evaluation (the objective's own buffers aside):
+// Forward and Gradient of a smeared model allocate nothing.
+func TestSmearNoAlloc(t *testing.T) {
+	const n, pixel = 16, 1e-9
+	d := wideBandData(rand.New(rand.NewPCG(9, 1)), 0.5/pixel/2, 0.1, 1e-3)
+	m, err := NewForwardModelWith(d, Grid{N: n, Pixel: pixel}, true, NewTransform(1), ModelOptions{Smearing: SmearOn})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !m.Smearing().Modelled {
+		t.Fatalf("smearing not modelled: %+v", m.Smearing())
+	}
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 1
+	}
+	g := make([]float64, n*n)
+	if a := testing.AllocsPerRun(10, func() { m.Forward(x); m.Gradient(g) }); a != 0 {
+		t.Errorf("%.0f allocations per Forward and Gradient", a)
+	}
+}
+
+// BenchmarkSmearEval measures one evaluation of the objective (value and gradient) of the
+// band-averaged binary of wideBinary on its default grid, with smearing modelled and not, with
+// the default transform (the faster of the direct sum and gridding for the points) and with
+// gridding alone.
+func BenchmarkSmearEval(b *testing.B) {
+	d := wideBinary(b, true)
+	g, err := ChooseGrid(d, GridOptions{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	gridding := func(n int, pixel float64, u, v []float64) (Transform, error) {
+		return nufft.NewPlan(n, n, pixel, u, v, nufft.Options{Workers: 1})
+	}
+	for _, tr := range []struct {
+		name string
+		mk   TransformFunc
+	}{{"default", NewTransform(1)}, {"gridding", gridding}} {
+		for _, sm := range []Smearing{SmearOn, SmearOff} {
+			b.Run(tr.name+"/smearing="+sm.String(), func(b *testing.B) {
+				benchSmearEval(b, d, g.Grid, tr.mk, sm)
+			})
+		}
+	}
+}
+
+func benchSmearEval(b *testing.B, d *dataset.Data, g Grid, mk TransformFunc, sm Smearing) {
+	{
+		{
+			m, err := NewForwardModelWith(d, g, true, mk, ModelOptions{Smearing: sm})
+			if err != nil {
+				b.Fatal(err)
+			}
+			o := NewObjective(d, m, TermOptions{})
+			x := make([]float64, g.N*g.N)
+			for i := range x {
+				x[i] = 1
+			}
+			grad := make([]float64, len(x))
+			b.ReportAllocs()
+			b.ResetTimer()
+			for range b.N {
+				o.Eval(grad, x)
+			}
+			b.ReportMetric(float64(max(m.Smearing().SubPoints, len(m.U))), "points")
 		}
 	}
 }
