@@ -249,9 +249,9 @@ const maxSmearNodes = 256
 // smearRatio returns the ratio of the fractional visibility loss δ of a point source at the
 // edge of the field to a datum's relative error ρ, 0 without an error: for V²
 // ρ = σ/(2·max(V²ₒ, σ)) (a relative change δ of V changes V² by 2δ·V²), for amplitudes
-// σ/max(Aₒ, σ), for triple amplitudes σ/(3·max(|B|ₒ, σ)) and for phases σ (radians; a
-// component of the visibility shrunk by δ moves the phase by up to about δ). Common practice,
-// no source.
+// σ/max(Aₒ, σ), for triple amplitudes σ/(3·max(|B|ₒ, σ)), for visibility phases σ
+// (radians; a component of the visibility shrunk by δ moves the phase by up to about δ) and
+// for closure phases σ/3 (three baselines). Common practice, no source.
 func smearRatio(delta, rho float64) float64 {
 	if !(rho > 0) {
 		return 0
