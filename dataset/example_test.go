@@ -60,5 +60,6 @@ func ExampleParseDataTypes() {
 	// t3phi   T3P  closure phase
 	// visamp  VA   visibility amplitude
 	// visphi  VP   visibility phase
-	// unknown data type "closure" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)
+	// visdiff VD   differential phase
+	// unknown data type "closure" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)
 }

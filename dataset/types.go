@@ -15,11 +15,12 @@ type DataType uint
 // triangle gives a T3Amp and a T3Phi measurement, a complex visibility a VisAmp and a VisPhi
 // measurement; each may be valid while the other is not.
 const (
-	Vis2   DataType = 1 << iota // squared visibility, OI_VIS2 VIS2DATA
-	T3Amp                       // triple-product amplitude, OI_T3 T3AMP
-	T3Phi                       // closure phase, OI_T3 T3PHI
-	VisAmp                      // visibility amplitude, OI_VIS VISAMP
-	VisPhi                      // visibility phase, OI_VIS VISPHI
+	Vis2    DataType = 1 << iota // squared visibility, OI_VIS2 VIS2DATA
+	T3Amp                        // triple-product amplitude, OI_T3 T3AMP
+	T3Phi                        // closure phase, OI_T3 T3PHI
+	VisAmp                       // visibility amplitude, OI_VIS VISAMP
+	VisPhi                       // absolute visibility phase, OI_VIS VISPHI
+	VisDiff                      // differential visibility phase, OI_VIS VISPHI with PHITYP 'differential'
 
 	// AllTypes selects every data type.
 	AllTypes DataType = 1<<len(typeTable) - 1
@@ -65,7 +66,9 @@ var typeTable = [...]TypeInfo{
 	{Type: VisAmp, Word: "visamp", Key: "VA", Label: "visibility amplitude", Table: "OI_VIS",
 		count: func(d *Data) int { return countTrue(d.Vis.AmpOK) }},
 	{Type: VisPhi, Word: "visphi", Key: "VP", Label: "visibility phase", Unit: "°", Table: "OI_VIS", Phase: true,
-		count: func(d *Data) int { return countTrue(d.Vis.PhiOK) }},
+		count: func(d *Data) int { return d.Vis.countPhi(PhiAbsolute) }},
+	{Type: VisDiff, Word: "visdiff", Key: "VD", Label: "differential phase", Unit: "°", Table: "OI_VIS", Phase: true,
+		count: func(d *Data) int { return d.Vis.countPhi(PhiDifferential) }},
 }
 
 // NTypes is the number of data types: the length of DataTypes() and of every array indexed
@@ -93,6 +96,17 @@ func countTrue(ok []bool) int {
 	n := 0
 	for _, b := range ok {
 		if b {
+			n++
+		}
+	}
+	return n
+}
+
+// countPhi returns the number of usable phases of type t.
+func (p *VisPoints) countPhi(t PhiType) int {
+	n := 0
+	for i, ok := range p.PhiOK {
+		if ok && p.PhiTyp[i] == t {
 			n++
 		}
 	}
@@ -131,7 +145,8 @@ func (t DataType) Index() int {
 func tableWord(table string) string { return strings.ToLower(strings.TrimPrefix(table, "OI_")) }
 
 // typeWords lists the words ParseDataTypes accepts, in table order, each table's word after
-// its types when the table holds more than one: vis2, t3amp, t3phi, t3, visamp, visphi, vis.
+// its types when the table holds more than one: vis2, t3amp, t3phi, t3, visamp, visphi,
+// visdiff, vis.
 func typeWords() []string {
 	var w []string
 	for i, r := range typeTable {
@@ -145,8 +160,9 @@ func typeWords() []string {
 }
 
 // ParseDataTypes reads a comma-separated list of data types, each given by its word (vis2,
-// t3amp, t3phi, visamp, visphi) or by the word of its OIFITS table for all the types of that
-// table (t3 for t3amp and t3phi, vis for visamp and visphi), in any case, blanks ignored. The
+// t3amp, t3phi, visamp, visphi, visdiff) or by the word of its OIFITS table for all the types
+// of that table (t3 for t3amp and t3phi, vis for visamp, visphi and visdiff), in any case,
+// blanks ignored. The
 // error names the unknown word; it carries no package prefix, since it is about the user's
 // text.
 func ParseDataTypes(s string) (DataType, error) {

@@ -55,12 +55,13 @@ func TestParseDataTypes(t *testing.T) {
 	}{
 		{"vis2", Vis2, ""},
 		{" T3 ", T3Amp | T3Phi, ""},
-		{"vis,t3phi", VisAmp | VisPhi | T3Phi, ""},
+		{"vis,t3phi", VisAmp | VisPhi | VisDiff | T3Phi, ""},
+		{"visdiff", VisDiff, ""},
 		{"vis2,,visphi", Vis2 | VisPhi, ""},
 		{"vis2,t3,vis", AllTypes, ""},
 		{"", 0, "no data type given"},
 		{" , ", 0, "no data type given"},
-		{"vis2,closure", 0, `unknown data type "closure" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`},
+		{"vis2,closure", 0, `unknown data type "closure" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 	} {
 		got, err := ParseDataTypes(tc.in)
 		if tc.err != "" {

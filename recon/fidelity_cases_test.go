@@ -27,6 +27,9 @@ type simCase struct {
 func simulateCase(t testing.TB, c simCase) (*dataset.Data, *model.Model) {
 	t.Helper()
 	plan, _ := simulate.Demo()
+	// Each channel's visibility is its band average, as an instrument measures it, so that
+	// the default model (bandwidth smearing modelled where it exceeds the noise) fits them.
+	plan.BandAverage = true
 	if c.hours != nil {
 		plan.HourAngles = c.hours
 	}
@@ -97,15 +100,19 @@ var fidCases = []simCase{
 // TestFidelitySimulated reconstructs the three simulated cases with the default settings of
 // `vcz image` (total variation, automatic weight, automatic start and grid) and with maximum
 // entropy, and measures Fidelity against the model image. The targets: NCC ≥ 0.99, and L1 ≤
-// 0.10 on the disc and the binary and ≤ 0.20 on the ring. Measured with the weight target of
-// chooseWeight (floor, share, noise margin) and the orientation step of Solve: total
-// variation 0.9982/0.053 on the disc, 0.9973/0.091 on the ring, 0.9945/0.104 on the binary;
-// another noise draw (seed 2) 0.048, 0.083, 0.080. The binary misses the L1 target (known
-// gap): its χ²ᵣ is flat over five decades of weight (0.956–0.98 from 10⁻⁴ to 10), so the
-// target lands among weak weights that leave the disc ragged, while a fixed weight of 10³
-// (χ²ᵣ 1.03 × expected) gives L1 0.02. Maximum entropy with a flat prior: 0.9942/0.0996 on
-// the disc, 0.9950/0.099 on the binary, 0.9985/0.072 on the ring. Where a target is missed
-// the bound asserted is the measured figure with some room, so that a regression shows.
+// 0.10 on the disc and the binary and ≤ 0.20 on the ring. The data are band averages over
+// the demo plan's channels (Δλ/λ ≈ 0.02), and the model smears where that exceeds the noise
+// (the binary and the ring; not the disc). Measured with the weight target of chooseWeight
+// (floor, share, noise margin) and the orientation step of Solve: total variation
+// 0.9982/0.053 on the disc, 0.9982/0.076 on the ring, 0.9953/0.096 on the binary; another
+// noise draw (seed 2) 0.048, 0.091, 0.090. The binary is near the L1 target (known gap): its
+// χ²ᵣ is flat over five decades of weight (0.956–0.98 from 10⁻⁴ to 10), so the target lands
+// among weak weights that leave the disc ragged, while a fixed weight of 10³ (χ²ᵣ 1.03 ×
+// expected) gives L1 0.02. Maximum entropy with a flat prior: 0.9950/0.095 on the disc,
+// 0.9938/0.107 on the binary (weight 1.6·10⁻⁴, the same gap), 0.9974/0.083 on the ring.
+// (With data at the channel centres and no smearing: tv 0.053, 0.091, 0.104, mem 0.0996,
+// 0.099, 0.072.) Where a target is missed the bound asserted is the measured figure with some
+// room, so that a regression shows.
 func TestFidelitySimulated(t *testing.T) {
 	for _, c := range []struct {
 		simCase
@@ -114,8 +121,8 @@ func TestFidelitySimulated(t *testing.T) {
 	}{
 		{fidCases[0], "tv", 0.99, 0.10},
 		{fidCases[0], "mem", 0.99, 0.10},
-		{fidCases[1], "tv", 0.99, 0.12}, // the target is 0.10: measured 0.108
-		{fidCases[1], "mem", 0.99, 0.10},
+		{fidCases[1], "tv", 0.99, 0.12},  // the target is 0.10: measured 0.096 to 0.108
+		{fidCases[1], "mem", 0.99, 0.12}, // the target is 0.10: measured 0.107
 		{fidCases[2], "tv", 0.99, 0.20},
 		{fidCases[2], "mem", 0.99, 0.20},
 		// Another noise draw, with the default regularizer.

@@ -41,14 +41,23 @@ type ForwardModel struct {
 	vis  []complex128 // model visibilities at U, V of the last Forward
 	gvis []complex128 // accumulated ∂J/∂Re V + i ∂J/∂Im V
 	adj  []float64
+
+	smear     *smearing // the band averages, nil without smearing (smear.go)
+	smearInfo SmearInfo
 }
 
 // NewForwardModel collects the distinct (u,v) points of all data of d, deduplicating baselines that
 // coincide (exactly or to 1e-9 of the longest baseline, and with either sign), and makes one
 // transform for them with mk (nil means NewTransform(0)). With normalize false the model is
 // Σ x_p exp(...) without division by the flux, for images whose flux is known (the convex
-// complex-visibility case).
+// complex-visibility case). Bandwidth smearing is modelled where it exceeds the noise
+// (SmearAuto; NewForwardModelWith chooses).
 func NewForwardModel(d *dataset.Data, g Grid, normalize bool, mk TransformFunc) (*ForwardModel, error) {
+	return NewForwardModelWith(d, g, normalize, mk, ModelOptions{})
+}
+
+// NewForwardModelWith is NewForwardModel with the options opt.
+func NewForwardModelWith(d *dataset.Data, g Grid, normalize bool, mk TransformFunc, opt ModelOptions) (*ForwardModel, error) {
 	if g.N < 2 || !(g.Pixel > 0) {
 		return nil, fmt.Errorf("recon: grid %d × %d of %g rad is not usable", g.N, g.N, g.Pixel)
 	}
@@ -59,7 +68,11 @@ func NewForwardModel(d *dataset.Data, g Grid, normalize bool, mk TransformFunc) 
 	if len(m.U) == 0 {
 		return nil, fmt.Errorf("recon: the data set has no (u,v) points")
 	}
-	tr, err := mk(g.N, g.Pixel, m.U, m.V)
+	u, v := m.U, m.V
+	if m.smear, m.smearInfo = newSmearing(d, &m.sampling, g, opt); m.smear != nil {
+		u, v = m.smear.u, m.smear.v
+	}
+	tr, err := mk(g.N, g.Pixel, u, v)
 	if err != nil {
 		return nil, fmt.Errorf("recon: making the transform: %w", err)
 	}
@@ -82,7 +95,7 @@ func (m *ForwardModel) Forward(x []float64) float64 {
 		f += v
 	}
 	m.flux = f
-	m.tr.Forward(m.vis, x)
+	m.transform(x)
 	if m.norm {
 		s := complex(1/f, 0)
 		for k := range m.vis {
@@ -104,7 +117,7 @@ func (m *ForwardModel) at(r ref) complex128 { return at(m.vis, r) }
 // where Re Σ conj(G_k)·a_kp is the adjoint transform of G. Without normalisation only the first
 // term remains, undivided.
 func (m *ForwardModel) Gradient(grad []float64) {
-	m.tr.Adjoint(m.adj, m.gvis)
+	m.adjoint()
 	if !m.norm {
 		copy(grad, m.adj)
 		return

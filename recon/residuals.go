@@ -21,8 +21,9 @@ type ResidualOptions struct {
 // order of the table of data types and, within a type, of the data: (|V|² − V²ₒ)/σ for V²,
 // (|B| − |B|ₒ)/σ for T3 amplitudes, 2 sin(Δφ/2)/σ for closure phases and absolute visibility
 // phases, and (|V| − Aₒ)/σ for absolute visibility amplitudes, so that the sum of squares of
-// each type is its χ² in Objective. Correlated fluxes, differential amplitudes and
-// differential phases cannot be fitted by a normalised model and are left out with a notice.
+// each type is its χ² in Objective; differential amplitudes and phases are taken relative to
+// the reference of their row (term_visamp.go, term_visdiff.go). Correlated fluxes cannot be
+// fitted by a normalised model and are left out with a notice.
 // A Residuals is not safe for concurrent use.
 type Residuals struct {
 	s       sampling

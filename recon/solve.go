@@ -49,6 +49,9 @@ type Problem struct {
 	// Unnormalized fits Σ x exp(−2πi(u·x+v·y)) without division by the flux, for complex
 	// visibilities of known flux; the image is then neither normalised nor tied to flux 1.
 	Unnormalized bool
+	// Smearing says whether the model averages each visibility over its channel's band
+	// (smear.go); the zero value, SmearAuto, does where the smearing exceeds the noise.
+	Smearing Smearing
 }
 
 // Settings control Solve. The zero value gives the documented defaults.
@@ -212,7 +215,7 @@ func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
 	if mk == nil {
 		mk = NewTransform(s.Workers)
 	}
-	m, err := NewForwardModel(p.Data, g.Grid, !p.Unnormalized, mk)
+	m, err := NewForwardModelWith(p.Data, g.Grid, !p.Unnormalized, mk, ModelOptions{Smearing: p.Smearing})
 	if err != nil {
 		return nil, err
 	}
@@ -518,6 +521,9 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	res.Notices = append(res.Notices, e.obj.Notices()...)
+	if n := e.obj.m.Smearing().Notice(len(e.obj.m.U)); n != "" {
+		res.Notices = append(res.Notices, n)
+	}
 	use := e.obj.Use()
 	mu := p.Weight
 	if e.reg == nil {

@@ -121,6 +121,9 @@ type ref struct {
 // sampling holds the distinct (u,v) points of a data set and the points each datum sees.
 type sampling struct {
 	U, V []float64 // the distinct points (cycles/rad), u >= 0 after the sign choice
+	// rb is the relative bandwidth Δλ/λ of the data at each point (0 when unknown), for
+	// bandwidth smearing (smear.go); data of different bandwidths get different points.
+	rb []float64
 
 	vis2  []ref    // of each V² datum
 	t3    [][3]ref // the three factors W1·W2·W3 of each triangle's bispectrum
@@ -149,7 +152,8 @@ func mark(f []bool, idx []int32) {
 // when n is nil), deduplicating baselines that coincide (exactly or to 1e-9 of the longest
 // baseline of d, and with either sign). The points come in the order of the data: V², then
 // the three sides of each triangle, then the complex visibilities. Data that n does not mark
-// get no point.
+// get no point. Data at the same (u,v) but of relative bandwidths Δλ/λ differing by more
+// than 1e-9 get separate points, since their smeared visibilities differ (smear.go).
 func newSampling(d *dataset.Data, n *needs) sampling {
 	var s sampling
 	all := n == nil
@@ -172,14 +176,14 @@ func newSampling(d *dataset.Data, n *needs) sampling {
 	if step == 0 {
 		step = 1
 	}
-	type key struct{ a, b int64 }
+	type key struct{ a, b, c int64 }
 	index := map[key]int32{}
-	add := func(u, v float64) ref {
+	add := func(u, v, rb float64) ref {
 		sign := 1.0
 		if u < 0 || (u == 0 && v < 0) {
 			u, v, sign = -u, -v, -1
 		}
-		k := key{int64(math.Round(u / step)), int64(math.Round(v / step))}
+		k := key{int64(math.Round(u / step)), int64(math.Round(v / step)), int64(math.Round(rb / 1e-9))}
 		if i, ok := index[k]; ok {
 			s.dedup++
 			return ref{i, sign}
@@ -188,27 +192,29 @@ func newSampling(d *dataset.Data, n *needs) sampling {
 		index[k] = i
 		s.U = append(s.U, u)
 		s.V = append(s.V, v)
+		s.rb = append(s.rb, rb)
 		return ref{i, sign}
 	}
 	s.vis2 = make([]ref, d.Vis2.Len())
 	for i := range s.vis2 {
 		if want(n.vis2, i) {
-			s.vis2[i] = add(d.Vis2.U[i], d.Vis2.V[i])
+			s.vis2[i] = add(d.Vis2.U[i], d.Vis2.V[i], relBand(d.Vis2.DLambda, d.Vis2.Lambda, i))
 		}
 	}
 	s.t3 = make([][3]ref, d.T3.Len())
 	for i := range s.t3 {
 		if want(n.t3, i) {
 			t := &d.T3
-			r3 := add(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i])
+			rb := relBand(t.DLambda, t.Lambda, i)
+			r3 := add(t.U1[i]+t.U2[i], t.V1[i]+t.V2[i], rb)
 			r3.sign = -r3.sign
-			s.t3[i] = [3]ref{add(t.U1[i], t.V1[i]), add(t.U2[i], t.V2[i]), r3}
+			s.t3[i] = [3]ref{add(t.U1[i], t.V1[i], rb), add(t.U2[i], t.V2[i], rb), r3}
 		}
 	}
 	s.cvis = make([]ref, d.Vis.Len())
 	for i := range s.cvis {
 		if want(n.vis, i) {
-			s.cvis[i] = add(d.Vis.U[i], d.Vis.V[i])
+			s.cvis[i] = add(d.Vis.U[i], d.Vis.V[i], relBand(d.Vis.DLambda, d.Vis.Lambda, i))
 		}
 	}
 	return s

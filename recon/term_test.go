@@ -126,14 +126,16 @@ func TestResiduals(t *testing.T) {
 		t.Errorf("%d residuals in the types of %d; Σ per type %g, Eval %g, Chi2 %g", n, r.Len(), sum, ss, r.Chi2(vis))
 	}
 	// randomData: 12 V², 10 triangles of which 6 with amplitudes, 9 complex visibilities of
-	// which 3 correlated fluxes (left out) and one differential phase (left out).
-	want := map[dataset.DataType]int{dataset.Vis2: 12, dataset.T3Amp: 6, dataset.T3Phi: 10, dataset.VisAmp: 6, dataset.VisPhi: 8}
+	// which 3 correlated fluxes (left out) and one differential phase alone in its row (left
+	// out), and three rows of five differential amplitudes and phases and a row of one (left
+	// out).
+	want := map[dataset.DataType]int{dataset.Vis2: 12, dataset.T3Amp: 6, dataset.T3Phi: 10, dataset.VisAmp: 6 + 15, dataset.VisPhi: 8, dataset.VisDiff: 15}
 	for ty, w := range want {
 		if r.N(ty) != w {
 			t.Errorf("%v: %d residuals, want %d", ty, r.N(ty), w)
 		}
 	}
-	if len(r.Notices()) != 2 {
+	if len(r.Notices()) != 3 {
 		t.Errorf("notices %q, want the left-out amplitudes and phases", r.Notices())
 	}
 	thin := NewResiduals(d, ResidualOptions{Stride: 2, Use: dataset.Vis2 | dataset.T3Phi})

@@ -14,8 +14,7 @@ import (
 //
 // with dJ/dφ = 2 sin φ/σ² and ∂φ/∂(Re, Im) V = i V/|V|². While Solve smooths the phase terms
 // the term is smoothPhase(z) with η the smoothing factor times the median |V| of the data
-// (phaseScales). Differential phases cannot be fitted by a gray image and are left out with a
-// notice. With TermOptions.ComplexVis a visibility whose amplitude and phase are both absolute
+// (phaseScales). Differential phases are the term of term_visdiff.go. With TermOptions.ComplexVis a visibility whose amplitude and phase are both absolute
 // contributes the tangential part (Im z/σ_t)² of its complex residual z (term_visamp.go), with
 // σ_t = Aₒσ_φ (σ_φ where Aₒ = 0), which is Gaussian: its expected χ² is one, and that of the
 // other phases is the one of term_phase.go.
@@ -26,7 +25,6 @@ func (visPhiKind) bind(d *dataset.Data, c termConfig) term {
 	t := &visPhiTerm{d: d}
 	t.vx, t.ex = complexVis(p, c)
 	pp := newPicker(c)
-	ndiff := 0
 	for i := range p.Lambda {
 		switch {
 		case c.complexVis && complexPair(p, i):
@@ -35,14 +33,7 @@ func (visPhiKind) bind(d *dataset.Data, c termConfig) term {
 				t.vp = append(t.vp, int32(i))
 				t.e = append(t.e, phasor(p.Phi[i]))
 			}
-		case p.PhiOK[i]:
-			ndiff++
 		}
-	}
-	if c.lsq {
-		t.note = leftOut(ndiff, "%d differential visibility phases left out")
-	} else {
-		t.note = leftOut(ndiff, "%d differential visibility phases left out: a gray image cannot model them")
 	}
 	_, t.scale = phaseScales(d)
 	return t
@@ -64,11 +55,10 @@ type visPhiTerm struct {
 	vp, vx []int32
 	e, ex  []complex128 // exp(−iφₒ) of each of vp and of vx
 	scale  float64      // typical |V|, the unit of the smoothing
-	note   []string
 }
 
 func (t *visPhiTerm) len() int          { return len(t.vp) + len(t.vx) }
-func (t *visPhiTerm) notices() []string { return t.note }
+func (t *visPhiTerm) notices() []string { return nil }
 func (t *visPhiTerm) need(n *needs) {
 	mark(n.vis, t.vp)
 	mark(n.vis, t.vx)

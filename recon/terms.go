@@ -8,7 +8,7 @@ import (
 )
 
 // Weights are the weights of the χ² terms, indexed like DataTypes() (Vis2, T3Amp, T3Phi, VisAmp,
-// VisPhi). A zero weight means 1; to leave a data type out, leave it out of the used set.
+// VisPhi, VisDiff). A zero weight means 1; to leave a data type out, leave it out of the used set.
 type Weights [nTypes]float64
 
 // TermOptions configure the data terms.
@@ -35,9 +35,10 @@ type TermOptions struct {
 // residuals (term_t3phi.go,
 // term_phase.go); for visibility amplitudes Σ (|V| − Aₒ)²/σ², correlated fluxes with a free
 // flux scale (term_visamp.go); and for absolute visibility phases the wrap-safe form
-// (term_visphi.go). Differential amplitudes and phases cannot be fitted by a gray image and
-// are left out with a notice. An Objective holds the buffers of one evaluation and is not safe
-// for concurrent use.
+// (term_visphi.go); differential amplitudes and phases are taken relative to the reference of
+// their row, mean and achromatic slope in 1/λ removed from the phases (term_visamp.go,
+// term_visdiff.go). An Objective holds the buffers of one evaluation and is not safe for
+// concurrent use.
 type Objective struct {
 	m      *ForwardModel
 	d      *dataset.Data

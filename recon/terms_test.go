@@ -9,6 +9,7 @@ import (
 	"vcz/dataset"
 
 	"gonum.org/v1/gonum/diff/fd"
+	"gonum.org/v1/gonum/stat"
 
 	"vcz/nufft"
 )
@@ -83,6 +84,29 @@ func randomData(rng *rand.Rand, fmax float64) *dataset.Data {
 		p.MJD = append(p.MJD, 60000)
 		p.Origin = append(p.Origin, dataset.Origin{})
 	}
+	// Differential phases and amplitudes: three rows of five channels across 1.5–2.5 µm, and
+	// a row of a single channel that their terms leave out.
+	for row, nc := range []int{5, 5, 5, 1} {
+		bx, by := (2*rng.Float64()-1)*fmax*1.5e-6, (2*rng.Float64()-1)*fmax*1.5e-6 // baseline (m)
+		for c := range nc {
+			p := &d.Vis
+			l := (1.5 + 0.25*float64(c)) * 1e-6
+			p.U = append(p.U, bx/l)
+			p.V = append(p.V, by/l)
+			p.Amp = append(p.Amp, 0.8+0.4*rng.Float64())
+			p.AmpErr = append(p.AmpErr, 0.03)
+			p.Phi = append(p.Phi, 0.3*rng.NormFloat64())
+			p.PhiErr = append(p.PhiErr, 0.05+0.1*rng.Float64())
+			p.AmpOK = append(p.AmpOK, true)
+			p.PhiOK = append(p.PhiOK, true)
+			p.AmpTyp = append(p.AmpTyp, dataset.AmpDifferential)
+			p.PhiTyp = append(p.PhiTyp, dataset.PhiDifferential)
+			p.Lambda = append(p.Lambda, l)
+			p.DLambda = append(p.DLambda, 1e-8)
+			p.MJD = append(p.MJD, 60000)
+			p.Origin = append(p.Origin, dataset.Origin{HDU: 3, Row: row + 1, Channel: c})
+		}
+	}
 	return d
 }
 
@@ -136,9 +160,9 @@ func TestModelAgainstDirectSum(t *testing.T) {
 			t.Errorf("%s: largest difference from the direct sum %g", mk.name, worst)
 		}
 		distinct, shared := m.Points()
-		// 12 V² + 10 triangles × 3 + 9 VIS = 51 baselines; the triangles' first two sides are V²
-		// baselines, so at least 20 are shared.
-		if distinct+shared != 51 || shared < 20 {
+		// 12 V² + 10 triangles × 3 + 9 + 16 VIS = 67 baselines; the triangles' first two sides
+		// are V² baselines, so at least 20 are shared.
+		if distinct+shared != 67 || shared < 20 {
 			t.Errorf("%s: %d distinct, %d shared", mk.name, distinct, shared)
 		}
 	}
@@ -195,6 +219,8 @@ func TestObjectiveGradient(t *testing.T) {
 			{"t3phi", true, TermOptions{Use: dataset.T3Phi}, 0},
 			{"visamp", true, TermOptions{Use: dataset.VisAmp}, 0},
 			{"visphi", true, TermOptions{Use: dataset.VisPhi}, 0},
+			{"visdiff", true, TermOptions{Use: dataset.VisDiff}, 0},
+			{"visdiff unnormalised", false, TermOptions{Use: dataset.VisDiff | dataset.VisAmp}, 0},
 		} {
 			m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, tc.norm, exactTransform)
 			if err != nil {
@@ -377,7 +403,7 @@ func TestChi2Values(t *testing.T) {
 	x := make([]float64, n*n)
 	x[(n/2)*n+n/2] = 3 // a point at the phase centre: V = 1 (CONVENTIONS.md)
 	o.Eval(nil, x)
-	var want [5]float64
+	var want [nTypes]float64
 	for i := range d.Vis2.Value {
 		r := (1 - d.Vis2.Value[i]) / d.Vis2.Err[i]
 		want[0] += r * r
@@ -398,15 +424,25 @@ func TestChi2Values(t *testing.T) {
 		}
 	}
 	s := num / den // the least-squares scale for |V| = 1
+	// A differential quantity is fitted when its row has enough channels: randomData's rows
+	// 1 to 3 (HDU 3) have five, its other differential data are alone in their rows. With
+	// V = 1 the model's differential amplitudes are 1 and its differential phases 0.
+	multi := func(i int) bool { return d.Vis.Origin[i].HDU == 3 && d.Vis.Origin[i].Row <= 3 }
 	for i := range d.Vis.Amp {
 		a := 1.0
 		if d.Vis.AmpTyp[i] == dataset.AmpCorrelatedFlux {
 			a = s
 		}
 		r := (a - d.Vis.Amp[i]) / d.Vis.AmpErr[i]
-		want[3] += r * r
-		if d.Vis.PhiTyp[i] == dataset.PhiAbsolute {
-			want[4] += 2 * (1 - math.Cos(d.Vis.Phi[i])) / (d.Vis.PhiErr[i] * d.Vis.PhiErr[i])
+		if d.Vis.AmpTyp[i] != dataset.AmpDifferential || multi(i) {
+			want[3] += r * r
+		}
+		phi := 2 * (1 - math.Cos(d.Vis.Phi[i])) / (d.Vis.PhiErr[i] * d.Vis.PhiErr[i])
+		switch {
+		case d.Vis.PhiTyp[i] == dataset.PhiAbsolute:
+			want[4] += phi
+		case multi(i):
+			want[5] += phi
 		}
 	}
 	for i, ty := range typeList {
@@ -414,8 +450,8 @@ func TestChi2Values(t *testing.T) {
 			t.Errorf("χ² %s = %.12g, want %.12g", ty, got, want[i])
 		}
 	}
-	if o.N(dataset.VisPhi) != 8 || len(o.Notices()) != 2 {
-		t.Errorf("N(visphi) = %d, notices %q", o.N(dataset.VisPhi), o.Notices())
+	if o.N(dataset.VisPhi) != 8 || o.N(dataset.VisDiff) != 15 || len(o.Notices()) != 3 {
+		t.Errorf("N(visphi) = %d, N(visdiff) = %d, notices %q", o.N(dataset.VisPhi), o.N(dataset.VisDiff), o.Notices())
 	}
 	if math.Abs(o.FluxScale()-s) > 1e-12 {
 		t.Errorf("flux scale %g, want %g", o.FluxScale(), s)
@@ -450,8 +486,50 @@ func TestPredict(t *testing.T) {
 	}
 	for i := range d.Vis.U {
 		v := vis(d.Vis.U[i], d.Vis.V[i])
+		if d.Vis.AmpTyp[i] == dataset.AmpDifferential {
+			continue
+		}
 		if math.Abs(p.Of(dataset.VisAmp)[i]-cmplx.Abs(v)) > 1e-12 || math.Abs(WrapPhase(p.Of(dataset.VisPhi)[i]-cmplx.Phase(v))) > 1e-9 {
 			t.Errorf("VIS %d: %g %g, want %g %g", i, p.Of(dataset.VisAmp)[i], p.Of(dataset.VisPhi)[i], cmplx.Abs(v), cmplx.Phase(v))
+		}
+	}
+	// Differential amplitudes and phases, row by row (randomData puts them in the rows of
+	// HDU 3, channels in order of wavelength): the amplitude over its mean over the row, and
+	// the phase, unwrapped along the row by the phase steps arg(V_c·conj V_{c−1}), minus its
+	// least-squares line in 1/λ fitted by gonum's stat.LinearRegression (OIFITS v2: Duvert,
+	// Young & Hummel 2017, sect. 4.3).
+	rows := map[int][]int{}
+	for i, o := range d.Vis.Origin {
+		if o.HDU == 3 {
+			rows[o.Row] = append(rows[o.Row], i)
+		}
+	}
+	for _, r := range rows {
+		var x, ph []float64
+		mean := 0.0
+		for k, i := range r {
+			v := vis(d.Vis.U[i], d.Vis.V[i])
+			mean += cmplx.Abs(v) / float64(len(r))
+			x = append(x, 1/d.Vis.Lambda[i])
+			if k == 0 {
+				ph = append(ph, cmplx.Phase(v))
+			} else {
+				j := r[k-1]
+				ph = append(ph, ph[k-1]+cmplx.Phase(v*cmplx.Conj(vis(d.Vis.U[j], d.Vis.V[j]))))
+			}
+		}
+		a, b := 0.0, 0.0
+		if len(r) > 1 {
+			a, b = stat.LinearRegression(x, ph, nil, false)
+		} else {
+			a = ph[0]
+		}
+		for k, i := range r {
+			v := vis(d.Vis.U[i], d.Vis.V[i])
+			wantA, wantP := cmplx.Abs(v)/mean, WrapPhase(ph[k]-a-b*x[k])
+			if math.Abs(p.Of(dataset.VisAmp)[i]-wantA) > 1e-12 || math.Abs(WrapPhase(p.Of(dataset.VisDiff)[i]-wantP)) > 1e-9 {
+				t.Errorf("differential VIS %d: %g %g, want %g %g", i, p.Of(dataset.VisAmp)[i], p.Of(dataset.VisDiff)[i], wantA, wantP)
+			}
 		}
 	}
 	if w := WrapPhase(3 * math.Pi); math.Abs(w-math.Pi) > 1e-12 {

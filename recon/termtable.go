@@ -18,6 +18,7 @@ var termTable = [...]termRow{
 	{dataset.T3Phi, t3PhiKind{}},
 	{dataset.VisAmp, visAmpKind{}},
 	{dataset.VisPhi, visPhiKind{}},
+	{dataset.VisDiff, visDiffKind{}},
 }
 
 // nTypes is the number of data types.

@@ -278,6 +278,22 @@ var options = []option{
 	{name: "no-amp-first", group: Recon, kind: boolFlag, def: "false", usage: "skip the first pass on amplitudes before phases are fitted",
 		parse:  func(s *Spec, name, text string) error { return parseBool(&s.NoAmplitudeFirst, name, text) },
 		format: func(s *Spec) string { return formatBool(s.NoAmplitudeFirst) }},
+	{name: "smearing", group: Recon, def: "auto",
+		usage: "bandwidth smearing: auto (each channel averaged over its band where that exceeds the noise), on or off",
+		parse: func(s *Spec, name, text string) error {
+			m, err := recon.ParseSmearing(text)
+			if err != nil {
+				return fmt.Errorf("%s: %v", name, err)
+			}
+			s.Smearing = m
+			return nil
+		},
+		format: func(s *Spec) string {
+			if s.Smearing == recon.SmearAuto {
+				return ""
+			}
+			return s.Smearing.String()
+		}},
 	{name: "workers", group: Recon, kind: intFlag, def: "0", noText: true,
 		usage:  "worker goroutines of the transform (default: number of CPUs); the image is the same for any number",
 		parse:  func(s *Spec, name, text string) error { return parseCount(&s.Workers, name, text) },

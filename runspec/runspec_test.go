@@ -128,6 +128,7 @@ func TestOptions(t *testing.T) {
 		{"starts", []string{"-starts", "3"}, int64(3), Spec{Starts: 3}},
 		{"coarse", []string{"-coarse"}, true, Spec{Coarse: true}},
 		{"no-amp-first", []string{"-no-amp-first"}, true, Spec{NoAmplitudeFirst: true}},
+		{"smearing", []string{"-smearing", "OFF"}, "off", Spec{Smearing: recon.SmearOff}},
 		{"workers", []string{"-workers", "2"}, int64(2), Spec{Workers: 2}},
 	}
 	var tested []string
@@ -199,9 +200,9 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-start", "ld:1mas:2"}, `-start: "ld:1mas:2": the limb-darkening coefficient must be in [0, 1]`},
 		{[]string{"-support", "-3"}, `-support "-3": want a positive radius such as 3mas`},
 		{[]string{"-data-weights", "vis2"}, `-data-weights: "vis2": want TYPE=WEIGHT`},
-		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`},
+		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 		{[]string{"-data-weights", "vis2=0"}, `-data-weights: "vis2=0": the weight must be a positive number (leave a data type out with -use)`},
-		{[]string{"-use", "vis3"}, `-use "vis3": unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`},
+		{[]string{"-use", "vis3"}, `-use "vis3": unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 		{[]string{"-use", ","}, `-use ",": no data type given`},
 		{[]string{"-iter", "-1"}, "-iter, -starts and -workers must not be negative"},
 		{[]string{"-starts", "-1"}, "-iter, -starts and -workers must not be negative"},
@@ -288,7 +289,7 @@ func TestCanonicalRoundTrip(t *testing.T) {
 	full, err := flagSpec(t, All, "-target", "Vaeloris", "-wave", "1.5um:", "-mjd", ":60101.25", "-ins", "ORRIN-6",
 		"-use", "vis2,t3phi", "-n", "64", "-pixel", "0.2mas", "-reg", "mem,compact:0.1", "-weight", "300",
 		"-prior", "disc:1.5mas", "-start", "disk:2", "-from-model", "m.toml", "-support", "4mas", "-tv-eps", "0.02",
-		"-data-weights", "t3phi=3", "-iter", "250", "-seed", "0", "-starts", "2", "-coarse", "-no-amp-first", "-workers", "3")
+		"-data-weights", "t3phi=3", "-iter", "250", "-seed", "0", "-starts", "2", "-coarse", "-no-amp-first", "-smearing", "on", "-workers", "3")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -312,6 +313,7 @@ seed=0
 starts=2
 coarse=true
 no-amp-first=true
+smearing=on
 `
 	if got := full.String(); got != wantText {
 		t.Errorf("text\n%s\nwant\n%s", got, wantText)
@@ -451,7 +453,7 @@ func TestProblemOptions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
+	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
 		t.Errorf("problem %+v", p)
 	}
 	if st.MaxIter != 99 || st.Seed != 7 || st.Starts != 2 || !st.CoarseToFine || !st.NoAmplitudeFirst || st.Workers != 3 {

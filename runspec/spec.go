@@ -72,6 +72,9 @@ type Spec struct {
 	Coarse bool
 	// NoAmplitudeFirst skips the first pass on amplitudes (-no-amp-first).
 	NoAmplitudeFirst bool
+	// Smearing says whether each channel's visibility is averaged over its band
+	// (-smearing); the zero value is recon.SmearAuto.
+	Smearing recon.Smearing
 	// Workers is the number of transform workers (-workers); 0 is GOMAXPROCS. The image
 	// does not depend on it, and the canonical text leaves it out.
 	Workers int
@@ -268,6 +271,7 @@ func (s Spec) Problem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 		}
 	}
 	p.Terms.Use = s.Use
+	p.Smearing = s.Smearing
 	st.MaxIter = s.Iterations
 	st.Seed = s.SeedValue()
 	st.Starts = s.Starts

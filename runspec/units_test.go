@@ -66,13 +66,13 @@ func TestFormatExact(t *testing.T) {
 // their parts.
 func TestTypeWords(t *testing.T) {
 	_, err := ParseTypes("bogus")
-	if want := `unknown data type "bogus" (use vis2, t3amp, t3phi, t3, visamp, visphi, vis)`; err == nil || err.Error() != want {
+	if want := `unknown data type "bogus" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`; err == nil || err.Error() != want {
 		t.Fatalf("error %v, want %s", err, want)
 	}
 	for _, c := range []struct {
 		in   string
 		want dataset.DataType
-	}{{"vis2", dataset.Vis2}, {"T3, vis2", dataset.T3Amp | dataset.T3Phi | dataset.Vis2}, {"vis", dataset.VisAmp | dataset.VisPhi}} {
+	}{{"vis2", dataset.Vis2}, {"T3, vis2", dataset.T3Amp | dataset.T3Phi | dataset.Vis2}, {"vis", dataset.VisAmp | dataset.VisPhi | dataset.VisDiff}} {
 		if got, err := ParseTypes(c.in); err != nil || got != c.want {
 			t.Errorf("%q = %v, %v", c.in, got, err)
 		}

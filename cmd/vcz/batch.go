@@ -56,7 +56,7 @@ Job file (TOML; paths relative to the job file):
                                  each key the flag's name without the dash:
     target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
     support, tv-eps, data-weights, iter, seed, starts, coarse, no-amp-first,
-    workers (e.g. n = 64, reg = "mem,compact:0.1", coarse = true)
+    smearing, workers (e.g. n = 64, reg = "mem,compact:0.1", coarse = true)
   [[epoch]]
     name = "night-1"             used for the output names (default epoch-NN)
     files = ["a.oifits", "b.oifits"]

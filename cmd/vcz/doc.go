@@ -40,8 +40,9 @@ reconstructs one image from the merged files. The main options: -n and
 -pixel (or -fov) for the grid; -reg with mem, tv, smooth, compact and
 priordist, alone or as a list with relative weights (mem,compact:0.1);
 -weight (a number or auto: χ²ᵣ between its floor and its expected value); -prior and -start;
--support; -use and -data-weights for the data types; -iter, -seed, -starts,
--coarse, -workers; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
+-support; -use and -data-weights for the data types; -smearing (auto, on or
+off: each channel's visibility averaged over its band, by default where that
+exceeds the noise); -iter, -seed, -starts, -coarse, -workers; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
 the default field (three times the model's extent, its largest component
 offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
@@ -49,10 +50,13 @@ for the full list with defaults.
 
 # Simulate
 
-	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits) -o OUT.oifits
+	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
-documents every plan key and -help-model the model forms.
+documents every plan key (smearing = true averages each channel over its band,
+write "dvis" adds differential amplitudes and phases), -help-model the model
+forms and -help-chromatic the chromatic models (components with spectral
+indices, rotating discs emitting a line).
 
 # Fit
 

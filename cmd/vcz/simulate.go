@@ -19,21 +19,26 @@ import (
 const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
 write them as an OIFITS v2 file. The model is either analytic components
 (-model, a TOML file or the inline form below) or a FITS image (-image, any
-pixel scale; its world coordinates are read with east to the left).
+pixel scale; its world coordinates are read with east to the left), or a
+chromatic model (-chromatic, a TOML file of components with spectral indices
+and rotating discs emitting a line; write "dvis" in the plan for differential
+phases).
 
 Examples:
   vcz simulate -plan examples/plan-six-demo.toml -model examples/vaeloris.toml -o demo.oifits
   vcz simulate -plan plan.toml -model "ud:diameter=3;point:x=6,y=2,flux=0.05" -o binary.oifits
   vcz simulate -plan plan.toml -image truth.fits -o sim.oifits
 
-Run 'vcz simulate -help-plan' for every key of a plan file and
-'vcz simulate -help-model' for the model forms and components.`
+Run 'vcz simulate -help-plan' for every key of a plan file,
+'vcz simulate -help-model' for the model forms and components and
+'vcz simulate -help-chromatic' for chromatic models.`
 
 func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("simulate", "-plan PLAN.toml (-model MODEL | -image FILE.fits) -o OUT.oifits", simulateDoc, stderr)
 	planPath := fs.String("plan", "", "observing plan (TOML)")
 	modelSpec := fs.String("model", "", "model: a TOML model file or the inline form, e.g. \"ld:diameter=4,u_ld=0.4\"")
 	imagePath := fs.String("image", "", "model as a FITS image instead of -model")
+	chromPath := fs.String("chromatic", "", "chromatic model (TOML) instead of -model")
 	out := fs.String("o", "", "output OIFITS file")
 	seed := fs.Int64("seed", -1, "noise seed, overriding the plan's seed")
 	writeImage := fs.String("write-image", "", "also write the -model as a FITS image to this file (same world coordinates as reconstructions)")
@@ -41,6 +46,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the simulated data's resolution)")
 	helpPlan := fs.Bool("help-plan", false, "describe every key of an observing plan and exit")
 	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
+	helpChrom := fs.Bool("help-chromatic", false, "describe chromatic models and exit")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -53,14 +59,18 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprint(stdout, model.Help())
 		return errHelp
 	}
+	if *helpChrom {
+		fmt.Fprint(stdout, simulate.ChromaticHelp)
+		return errHelp
+	}
 	if fs.NArg() > 0 {
 		return badInputf("simulate: unexpected argument %q (run 'vcz simulate --help')", fs.Arg(0))
 	}
 	if *planPath == "" || *out == "" {
 		return badInputf("simulate: -plan and -o are required (run 'vcz simulate --help')")
 	}
-	if (*modelSpec == "") == (*imagePath == "") {
-		return badInputf("simulate: give exactly one of -model and -image")
+	if given := btoi(*modelSpec != "") + btoi(*imagePath != "") + btoi(*chromPath != ""); given != 1 {
+		return badInputf("simulate: give exactly one of -model, -image and -chromatic")
 	}
 	if *writeImage != "" && *modelSpec == "" {
 		return badInputf("simulate: -write-image needs -model")
@@ -71,7 +81,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*out, *writeImage); err != nil {
 		return err
 	}
-	if err := workflow.CheckNotInputs([]string{*planPath, *modelSpec, *imagePath}, *out, *writeImage); err != nil {
+	if err := workflow.CheckNotInputs([]string{*planPath, *modelSpec, *imagePath, *chromPath}, *out, *writeImage); err != nil {
 		return err
 	}
 	plan, err := simulate.LoadPlan(*planPath)
@@ -88,6 +98,12 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 			return badInputf("simulate: -model: %v", err)
 		}
 		sky = simulate.ModelSky{Model: m}
+	} else if *chromPath != "" {
+		cs, err := simulate.LoadChromatic(*chromPath)
+		if err != nil {
+			return badInputf("simulate: -chromatic: %v", err)
+		}
+		sky = cs
 	} else {
 		im, err := fitsimage.ReadFile(*imagePath)
 		if err != nil {
@@ -132,4 +148,12 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	return nil
+}
+
+// btoi is 1 for true and 0 for false.
+func btoi(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }

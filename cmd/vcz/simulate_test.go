@@ -80,3 +80,50 @@ func TestSimulateUnknownPlanKey(t *testing.T) {
 		t.Fatal("an output file was written for a bad plan")
 	}
 }
+
+// vcz simulate -chromatic writes differential visibilities (AMPTYP = PHITYP = 'differential')
+// of a chromatic model when the plan asks for "dvis", in a file that fitsverify passes; a
+// broken chromatic model fails with exit 2, naming the file, and writes nothing.
+func TestSimulateChromatic(t *testing.T) {
+	dir := t.TempDir()
+	src, err := os.ReadFile(filepath.Join("..", "..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	plan := filepath.Join(dir, "plan.toml")
+	text := "write = [\"dvis\"]\n" + strings.Replace(string(src), "write = ", "# write = ", 1)
+	if err := os.WriteFile(plan, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	chrom := filepath.Join(dir, "disc.toml")
+	if err := os.WriteFile(chrom, []byte("reference = 2.166\n[[component]]\nmodel = \"point\"\n[[disc]]\ninner = 0.5\nouter = 3\ninc = 60\nline = 1.6\nvelocity = 200\nwidth = 15\nflux = 0.6\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "disc.oifits")
+	if _, errs, code := runCmd(t, "simulate", "-plan", plan, "-chromatic", chrom, "-o", out, "-quiet"); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	f, err := oifits.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(f.Vis) != 1 || f.Vis[0].PhiTyp != oifits.PhiDifferential || f.Vis[0].AmpTyp != oifits.AmpDifferential || len(f.Vis2)+len(f.T3) != 0 {
+		t.Fatalf("tables: %d OI_VIS, %d OI_VIS2, %d OI_T3", len(f.Vis), len(f.Vis2), len(f.T3))
+	}
+	fv := requireTool(t, "fitsverify")
+	if vout, err := exec.Command(fv, "-q", out).CombinedOutput(); err != nil || !strings.HasPrefix(string(vout), "verification OK") || strings.Contains(string(vout), "warning") {
+		t.Fatalf("fitsverify: %v: %s", err, vout)
+	}
+	bad := filepath.Join(dir, "bad.toml")
+	if err := os.WriteFile(bad, []byte("[[component]]\nmodel = \"point\"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out2 := filepath.Join(dir, "x.oifits")
+	_, errs, code := runCmd(t, "simulate", "-plan", plan, "-chromatic", bad, "-o", out2)
+	if code != exitBadInput || !strings.Contains(errs, "bad.toml: reference wavelength missing") || strings.Count(strings.TrimSpace(errs), "\n") > 0 {
+		t.Fatalf("exit %d, stderr %q", code, errs)
+	}
+	if _, err := os.Stat(out2); err == nil {
+		t.Fatal("an output file was written for a bad model")
+	}
+}

@@ -10,9 +10,10 @@
 // amplitudes, (|V| − Aₒ)/σ for absolute visibility amplitudes, and for
 // closure phases and absolute visibility phases the wrap-safe 2 sin(Δφ/2)/σ,
 // Δφ the model-minus-data phase reduced to (−π, π], whose square is
-// 2(1 − cos Δφ)/σ². Differential and correlated-flux amplitudes and
-// differential phases are left out with a notice. Options.Use selects
-// the types.
+// 2(1 − cos Δφ)/σ²; differential phases and amplitudes relative to their
+// row's reference (recon/term_visdiff.go, recon/term_visamp.go).
+// Correlated-flux amplitudes are left out with a notice. Options.Use
+// selects the types.
 //
 // # Method
 //

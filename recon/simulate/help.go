@@ -11,7 +11,10 @@ Top level
                           plan, model and seed always give the same data
   write = ["vis2", "t3"]  data tables to write: any of "vis2" (OI_VIS2),
                           "t3" (OI_T3: closure phases and triple amplitudes),
-                          "vis" (OI_VIS: complex visibilities, absolute phases);
+                          "vis" (OI_VIS: complex visibilities, absolute phases),
+                          "dvis" (OI_VIS: differential amplitudes and phases,
+                          each row's mean amplitude divided out and its phases'
+                          mean and slope in 1/wavelength removed);
                           default ["vis2", "t3"]
 
 [site]
@@ -51,6 +54,9 @@ Top level
                           or a regular series:
   from = 1.5, to = 1.8, channels = 8
                           centres from..to inclusive; width defaults to the spacing
+  smearing = true         each channel's visibility is the average over its band
+                          (a top-hat of the width), as an instrument measures it;
+                          default false: the value at the channel's centre
 
 [noise]                   errors are written to the *ERR columns; amplitude
                           errors are sqrt((relative*value)^2 + floor^2); phase

@@ -64,11 +64,17 @@ type Plan struct {
 
 	Wavelengths []float64 // channel centres (m)
 	Bandwidths  []float64 // channel widths (m), same length
+	// BandAverage makes each channel's visibility the average over its band (bandwidth
+	// smearing, smear.go of Run) instead of the value at its centre.
+	BandAverage bool
 
 	Noise Noise
 	Seed  uint64
 
 	WriteVis2, WriteT3, WriteVis bool
+	// WriteDiff writes an OI_VIS table of differential visibilities (AMPTYP = PHITYP =
+	// 'differential'; run.go, writeDiff).
+	WriteDiff bool
 }
 
 // Plan files are TOML; these types mirror the file so that the decoder
@@ -113,6 +119,7 @@ type planFile struct {
 		From     *float64  `toml:"from"`
 		To       *float64  `toml:"to"`
 		Channels *int      `toml:"channels"`
+		Smearing bool      `toml:"smearing"`
 	} `toml:"wavelengths"`
 	Noise struct {
 		Add            *bool    `toml:"add"`
@@ -317,6 +324,7 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 	default:
 		return nil, fail("wavelengths", -1, "needs centre (and width) or from, to and channels")
 	}
+	p.BandAverage = w.Smearing
 	nz := pf.Noise
 	set := func(dst *float64, src *float64) {
 		if src != nil {
@@ -345,8 +353,10 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 			p.WriteT3 = true
 		case "vis":
 			p.WriteVis = true
+		case "dvis":
+			p.WriteDiff = true
 		default:
-			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis)", s)
+			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis, dvis)", s)
 		}
 	}
 	if err := p.Validate(); err != nil {
@@ -433,6 +443,9 @@ func (p *Plan) Validate() error {
 		if !(p.Wavelengths[i] > 0) || !(p.Bandwidths[i] > 0) || math.IsInf(p.Wavelengths[i], 0) {
 			return keyErr("wavelengths", -1, "channel %d: centre and width must be positive", i+1)
 		}
+		if p.BandAverage && !(p.Bandwidths[i] < 2*p.Wavelengths[i]) {
+			return keyErr("wavelengths.smearing", -1, "channel %d: a band averaged over must be narrower than twice its centre", i+1)
+		}
 	}
 	nz := p.Noise
 	for _, c := range []struct {
@@ -453,7 +466,7 @@ func (p *Plan) Validate() error {
 			return keyErr(c.key, -1, "%g: must be zero or positive", c.v)
 		}
 	}
-	if !p.WriteVis2 && !p.WriteT3 && !p.WriteVis {
+	if !p.WriteVis2 && !p.WriteT3 && !p.WriteVis && !p.WriteDiff {
 		return keyErr("write", -1, "no data type to write")
 	}
 	return nil

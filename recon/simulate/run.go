@@ -1,6 +1,7 @@
 package simulate
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -21,6 +22,7 @@ type Report struct {
 	Triangles         int       // closing triangles per hour angle
 	Channels          int       // spectral channels
 	Vis2, T3, Vis     int       // data points written (rows × channels) per table type
+	Diff              int       // differential visibilities written (Plan.WriteDiff)
 	MaxProjected      float64   // longest projected baseline (m)
 	MinProjected      float64   // shortest projected baseline (m)
 }
@@ -38,7 +40,11 @@ func (r Report) String() string {
 		fmt.Fprintf(&b, " (%s h)", strings.Join(s, ", "))
 	}
 	fmt.Fprintf(&b, "\nprojected baselines %.1f to %.1f m\n", r.MinProjected, r.MaxProjected)
-	fmt.Fprintf(&b, "points written: %d V², %d closure phases/T3 amplitudes, %d complex visibilities\n", r.Vis2, r.T3, r.Vis)
+	fmt.Fprintf(&b, "points written: %d V², %d closure phases/T3 amplitudes, %d complex visibilities", r.Vis2, r.T3, r.Vis)
+	if r.Diff > 0 {
+		fmt.Fprintf(&b, ", %d differential visibilities", r.Diff)
+	}
+	b.WriteString("\n")
 	return b.String()
 }
 
@@ -49,6 +55,7 @@ const (
 	streamVis2 = 1 + iota
 	streamT3
 	streamVis
+	streamDiff
 )
 
 // Run simulates the plan's observations of sky and returns them as an
@@ -58,7 +65,8 @@ const (
 // For each hour angle with the target above the elevation limit, every
 // pair of combined stations i < j (in plan order) gives a baseline from
 // station i to station j, projected with UVW; each channel's (u, v) is the
-// projection divided by the wavelength. VIS2DATA is |V|², VISAMP and
+// projection divided by the wavelength; V is the sky's visibility there, or
+// its average over the channel's band with plan.BandAverage (smear.go). VIS2DATA is |V|², VISAMP and
 // VISPHI are |V| and arg V, and each closing triangle i < j < k gives the
 // bispectrum B = V(u1,v1) V(u2,v2) conj(V(u1+u2, v1+v2)) with (u1, v1) the
 // baseline i→j and (u2, v2) the baseline j→k (CONVENTIONS.md). Errors and
@@ -137,8 +145,31 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		}
 	}
 	vis := make([]complex128, len(u))
-	if err := sky.Visibilities(vis, u, v); err != nil {
-		return nil, rep, fmt.Errorf("simulate: %w", err)
+	cs, chromatic := sky.(chromaticSky)
+	switch {
+	case chromatic && p.BandAverage:
+		return nil, rep, errors.New("simulate: [wavelengths] smearing is not available with a chromatic model")
+	case chromatic:
+		lambda := make([]float64, len(u))
+		for i := range lambda {
+			lambda[i] = p.Wavelengths[i%nc]
+		}
+		if err := cs.VisibilitiesAt(vis, u, v, lambda); err != nil {
+			return nil, rep, fmt.Errorf("simulate: %w", err)
+		}
+	case p.BandAverage:
+		rel := make([]float64, len(u))
+		for i := range rel {
+			c := i % nc
+			rel[i] = p.Bandwidths[c] / p.Wavelengths[c]
+		}
+		if err := bandAverage(sky, vis, u, v, rel); err != nil {
+			return nil, rep, fmt.Errorf("simulate: %w", err)
+		}
+	default:
+		if err := sky.Visibilities(vis, u, v); err != nil {
+			return nil, rep, fmt.Errorf("simulate: %w", err)
+		}
 	}
 
 	f := newFile(p, mjds[0])
@@ -210,7 +241,72 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		rep.Vis = len(tab.Rows) * nc
 		f.Vis = append(f.Vis, tab)
 	}
+	if p.WriteDiff {
+		rng := rand.New(rand.NewPCG(p.Seed, streamDiff))
+		tab := oifits.Vis{DateObs: f.Primary.DateObs, ArrName: p.ArrayName, InsName: p.Instrument,
+			AmpTyp: oifits.AmpDifferential, PhiTyp: oifits.PhiDifferential}
+		for k := range has {
+			for j, pr := range pairs {
+				row := oifits.VisRow{TargetID: 1, MJD: mjds[k], IntTime: p.IntTime,
+					UCoord: uc[k*np+j], VCoord: vc[k*np+j], StaIndex: [2]int{staIndex(pr[0]), staIndex(pr[1])},
+					Amp: make([]float64, nc), AmpErr: make([]float64, nc), Phi: make([]float64, nc), PhiErr: make([]float64, nc),
+					Flag: make([]bool, nc)}
+				for c := 0; c < nc; c++ {
+					row.Amp[c], row.AmpErr[c], row.Phi[c], row.PhiErr[c] = noisyAmpPhase(vis[(k*np+j)*nc+c], nz.VisAmpRelative, nz.VisAmpFloor, nz.VisPhase, nz.Add, rng)
+				}
+				differential(&row, p.Wavelengths)
+				tab.Rows = append(tab.Rows, row)
+			}
+		}
+		rep.Diff = len(tab.Rows) * nc
+		f.Vis = append(f.Vis, tab)
+	}
 	return f, rep, nil
+}
+
+// chromaticSky is a Sky whose visibility depends on the wavelength (ChromaticSky).
+type chromaticSky interface {
+	VisibilitiesAt(dst []complex128, u, v, lambda []float64) error
+}
+
+// differential turns a row of absolute amplitudes and phases (degrees) at the wavelengths
+// lambda into differential ones, with all its channels as the reference (OIFITS v2, Duvert,
+// Young & Hummel 2017, sect. 4.3): the amplitudes and their errors divided by the mean
+// amplitude, and from the phases, unwrapped along the row, their least-squares line
+// a + b/λ removed (the mean and the achromatic slope in wavenumber of an optical path
+// difference), reduced to (−180°, 180°]. A row of a single channel keeps amplitude 1 and
+// phase 0.
+func differential(row *oifits.VisRow, lambda []float64) {
+	n := float64(len(lambda))
+	mean := 0.0
+	for _, a := range row.Amp {
+		mean += a / n
+	}
+	sx, sy, sxx, sxy := 0.0, 0.0, 0.0, 0.0
+	prev := 0.0
+	for c := range row.Phi {
+		if c > 0 {
+			row.Phi[c] = prev + wrapDeg(row.Phi[c]-prev)
+		}
+		prev = row.Phi[c]
+		x := 1 / lambda[c]
+		sx += x
+		sy += row.Phi[c]
+		sxx += x * x
+		sxy += x * row.Phi[c]
+	}
+	b := 0.0
+	if den := n*sxx - sx*sx; den > 0 && n > 1 {
+		b = (n*sxy - sx*sy) / den
+	}
+	a := (sy - b*sx) / n
+	for c := range row.Phi {
+		row.Phi[c] = wrapDeg(row.Phi[c] - a - b/lambda[c])
+		if mean > 0 {
+			row.Amp[c] /= mean
+			row.AmpErr[c] /= mean
+		}
+	}
 }
 
 // maxPhaseError caps phaseError: a phase of error 180° carries almost no information.
