@@ -130,8 +130,9 @@ func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.Gri
 // draw them: values in the unit of the table of data types (phases in degrees), each with its
 // spatial frequency (for a closure triangle its longest baseline), error and wavelength; idx
 // gives each point's index in t's slice of a recon.Prediction. Visibility amplitudes and
-// phases are the absolute ones, those an image or a model is fitted to (differential ones and
-// correlated fluxes are left out). A type without a case here gives no points.
+// phases are the absolute ones (correlated fluxes are left out); differential phases are
+// their own type, with the model's reference removed as the data's. A type without a case
+// here gives no points.
 func Measurements(d *dataset.Data, t dataset.DataType) (m plots.Measurements, idx []int) {
 	info := t.Info()
 	m = plots.Measurements{Label: info.Label, Unit: info.Unit, Phase: info.Phase, Triangle: info.Table == "OI_T3"}
@@ -160,7 +161,7 @@ func Measurements(d *dataset.Data, t dataset.DataType) (m plots.Measurements, id
 				add(i, f, p.Phi[i]*deg, p.PhiErr[i]*deg, p.Lambda[i])
 			}
 		}
-	case dataset.VisAmp, dataset.VisPhi:
+	case dataset.VisAmp, dataset.VisPhi, dataset.VisDiff:
 		p := &d.Vis
 		for i := range p.Lambda {
 			f := math.Hypot(p.U[i], p.V[i])
@@ -168,6 +169,8 @@ func Measurements(d *dataset.Data, t dataset.DataType) (m plots.Measurements, id
 			case t == dataset.VisAmp && p.AmpOK[i] && p.AmpTyp[i] == dataset.AmpAbsolute:
 				add(i, f, p.Amp[i], p.AmpErr[i], p.Lambda[i])
 			case t == dataset.VisPhi && p.PhiOK[i] && p.PhiTyp[i] == dataset.PhiAbsolute:
+				add(i, f, p.Phi[i]*deg, p.PhiErr[i]*deg, p.Lambda[i])
+			case t == dataset.VisDiff && p.PhiOK[i] && p.PhiTyp[i] == dataset.PhiDifferential:
 				add(i, f, p.Phi[i]*deg, p.PhiErr[i]*deg, p.Lambda[i])
 			}
 		}
