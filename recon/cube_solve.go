@@ -514,7 +514,6 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			}
 		}
 		f := c.Eval(nil, x)
-		res.Iter += 0
 		if prev-f <= CubeSweepTol*math.Max(math.Abs(f), 1) {
 			prev = f
 			res.Converged = true
