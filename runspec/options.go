@@ -28,8 +28,10 @@ const (
 	Recon
 	// Model is -from-model.
 	Model
+	// Cube is the polychromatic reconstruction: -channels and -spectral.
+	Cube
 	// All is every option, the options of `vcz image`.
-	All = Select | Types | Recon | Model
+	All = Select | Types | Recon | Model | Cube
 )
 
 // An OptionError is an unknown option or a value an option refuses.
@@ -278,6 +280,39 @@ var options = []option{
 	{name: "no-amp-first", group: Recon, kind: boolFlag, def: "false", usage: "skip the first pass on amplitudes before phases are fitted",
 		parse:  func(s *Spec, name, text string) error { return parseBool(&s.NoAmplitudeFirst, name, text) },
 		format: func(s *Spec) string { return formatBool(s.NoAmplitudeFirst) }},
+	{name: "channels", group: Cube, def: "1",
+		usage: "image cube over wavelength: all (one plane per channel), K (K groups of adjacent channels) or a list of channel ranges such as 1-4,5-8 (channels numbered by increasing wavelength); 1 is one gray image",
+		parse: func(s *Spec, name, text string) error {
+			c, err := recon.ParseChannels(text)
+			if err != nil {
+				return fmt.Errorf("%s %q: %v", name, text, err)
+			}
+			s.Channels = c
+			return nil
+		},
+		format: func(s *Spec) string { return s.Channels.String() }},
+	{name: "spectral", group: Cube, def: "smooth",
+		usage: "regularizer across the planes of a cube: smooth (quadratic, along wavelength), joint (shared support, ℓ2,1) or none, with :FACTOR on its automatic weight, e.g. smooth:3",
+		parse: func(s *Spec, name, text string) error {
+			k, f, err := recon.ParseSpectral(strings.TrimSpace(text))
+			if err != nil {
+				return fmt.Errorf("%s: %v", name, err)
+			}
+			s.Spectral, s.SpectralFactor = k, f
+			if f == 1 {
+				s.SpectralFactor = 0
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			if s.Spectral == recon.SpectralSmooth && (s.SpectralFactor == 0 || s.SpectralFactor == 1) {
+				return ""
+			}
+			if s.SpectralFactor == 0 || s.SpectralFactor == 1 {
+				return s.Spectral.String()
+			}
+			return s.Spectral.String() + ":" + formatFloat(s.SpectralFactor)
+		}},
 	{name: "workers", group: Recon, kind: intFlag, def: "0", noText: true,
 		usage:  "worker goroutines of the transform (default: number of CPUs); the image is the same for any number",
 		parse:  func(s *Spec, name, text string) error { return parseCount(&s.Workers, name, text) },

@@ -129,6 +129,8 @@ func TestOptions(t *testing.T) {
 		{"coarse", []string{"-coarse"}, true, Spec{Coarse: true}},
 		{"no-amp-first", []string{"-no-amp-first"}, true, Spec{NoAmplitudeFirst: true}},
 		{"workers", []string{"-workers", "2"}, int64(2), Spec{Workers: 2}},
+		{"channels", []string{"-channels", "1-4, 5-8"}, "1-4,5-8", Spec{Channels: recon.Channels{List: [][2]int{{1, 4}, {5, 8}}}}},
+		{"spectral", []string{"-spectral", "joint:0.5"}, "joint:0.5", Spec{Spectral: recon.SpectralJoint, SpectralFactor: 0.5}},
 	}
 	var tested []string
 	for _, c := range cases {
@@ -168,6 +170,7 @@ func TestDefaultTexts(t *testing.T) {
 		{"-start", "auto"}, {"-start", ""}, {"-seed", "1"}, {"-data-weights", "vis2=1,t3=1"}, {"-wave", ""},
 		{"-mjd", ":"}, {"-fov", ""}, {"-pixel", ""}, {"-support", ""}, {"-n", "0"}, {"-iter", "0"}, {"-use", ""},
 		{"-coarse=false"}, {"-tv-eps", "0"}, {"-from-model", ""}, {"-ins", " , "},
+		{"-channels", "1"}, {"-channels", ""}, {"-spectral", "smooth"}, {"-spectral", "smooth:1"},
 	} {
 		s, err := flagSpec(t, All, args...)
 		if err != nil || !reflect.DeepEqual(s, Spec{}) || s.String() != "" {
@@ -210,6 +213,10 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-wave", "1furlong:"}, `-wave "1furlong:": unknown unit "furlong" in "1furlong" (use m, micron, nm, um, µm)`},
 		{[]string{"-mjd", "x:"}, `-mjd "x:": strconv.ParseFloat: parsing "x": invalid syntax`},
 		{[]string{"-mjd", "5"}, `-mjd "5": want LOW:HIGH`},
+		{[]string{"-channels", "0"}, `-channels "0": want a positive number of groups, have 0`},
+		{[]string{"-channels", "4-2"}, `-channels "4-2": "4-2" is not a channel number or range such as 5-8 (want all, a number of groups, or a list such as 1-4,5-8)`},
+		{[]string{"-spectral", "wiggly"}, `-spectral: "wiggly" is not a spectral regularizer (want smooth, joint or none, optionally with :FACTOR on the automatic weight)`},
+		{[]string{"-spectral", "smooth:-2"}, `-spectral: factor "-2" of smooth is not a positive number`},
 	} {
 		_, err := flagSpec(t, All, c.args...)
 		var oe *OptionError

@@ -72,6 +72,13 @@ type Spec struct {
 	Coarse bool
 	// NoAmplitudeFirst skips the first pass on amplitudes (-no-amp-first).
 	NoAmplitudeFirst bool
+	// Channels groups the channels into the planes of an image cube (-channels); the zero
+	// value is one gray image.
+	Channels recon.Channels
+	// Spectral is the regularizer across the planes of a cube (-spectral) and
+	// SpectralFactor the factor on its automatic weight (0 is 1).
+	Spectral       recon.Spectral
+	SpectralFactor float64
 	// Workers is the number of transform workers (-workers); 0 is GOMAXPROCS. The image
 	// does not depend on it, and the canonical text leaves it out.
 	Workers int
