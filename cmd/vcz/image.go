@@ -50,7 +50,22 @@ Outputs (OUT defaults to the first file's name with -image.fits):
   OUT-vis2.png        V² data and model against spatial frequency
   OUT-t3phi.png       closure phases, data and model
   OUT-residuals.png   residuals normalised by their errors
-  OUT-lcurve.png      the weight path, when the weight was chosen automatically`
+  OUT-lcurve.png      the weight path, when the weight was chosen automatically
+
+Image cubes over wavelength: -channels all (one plane per channel), K (K
+groups of adjacent channels) or a list such as 1-4,5-8 (channels numbered by
+increasing wavelength) fits one image per group to that group's data, with
+the spatial regularizer in each plane and -spectral across planes (smooth:
+quadratic differences between neighbouring planes; joint: a support shared
+by all planes). The gray image of all channels comes first and sets the
+grid, the start and the spatial weight, shared among the planes by their
+numbers of data. The outputs are then:
+  OUT.fits            the cube, spectral axis WAVE (m), χ²ᵣ of each plane (CHI2Rnnn)
+  OUT.png             the planes on one colour scale, labelled with their wavelengths
+  OUT-planes.csv      per plane: wavelengths, data, χ²ᵣ, photocentre and size (mas)
+  OUT-planes.png      photocentre and second-moment size against wavelength
+  OUT-spectrum.png    total flux of each plane, only with correlated fluxes (V²
+                      and closure phases are normalised and say nothing of it)`
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
@@ -89,6 +104,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
+	}
+	if !spec.Channels.Single() {
+		return runCube(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, *asJSON, *strict, stdout, stderr)
 	}
 	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
 	if err != nil {
