@@ -398,7 +398,15 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		p := cp.Problem
 		p.Data, p.Choice, p.Weight = pl.Data, &g, 1
 		p.Reg = func(Grid) (Regularizer, error) { return pr, nil }
-		e, err := newEngine(p, s, g)
+		// The plane's runs report its spatial weight μ_k, not the engine's weight of 1.
+		ps := s
+		if s.Progress != nil {
+			ps.Progress = func(r Progress) bool {
+				r.Weight = pr.mu
+				return s.Progress(r)
+			}
+		}
+		e, err := newEngine(p, ps, g)
 		if err != nil {
 			return nil, fmt.Errorf("recon: plane %d (%s): %w", k+1, pl.Label, err)
 		}
