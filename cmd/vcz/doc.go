@@ -47,6 +47,13 @@ offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
 for the full list with defaults.
 
+-channels all|K|LIST makes an image cube over wavelength instead: one plane
+per channel, per K groups of adjacent channels, or per listed group of
+channel numbers (1-4,5-8; channels counted by increasing wavelength), with
+-spectral smooth|joint|none[:FACTOR] across planes. It writes the cube with a
+spectral axis and per-plane χ²ᵣ, a montage, OUT-planes.csv and OUT-planes.png
+(photocentre and size against wavelength).
+
 # Simulate
 
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits) -o OUT.oifits
