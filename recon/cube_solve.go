@@ -198,6 +198,9 @@ type CubeProblem struct {
 	SpectralWeight float64
 	// SpectralFactor multiplies the automatic η; 0 means 1.
 	SpectralFactor float64
+	// Gray, when non-nil, is the gray reconstruction of Data with this problem and the
+	// same settings (an earlier CubeResult.Gray), used instead of solving it again.
+	Gray *Result
 }
 
 // PlaneResult is the outcome of one plane of a cube.
@@ -243,8 +246,12 @@ type CubeResult struct {
 }
 
 // DefaultSpectralSmooth is the constant c of the automatic weight of SpectralSmoothness,
-// η = c·N̄/‖x̄‖² (SolveCube; common practice, no source, measured on the checks of
-// cube_test.go).
+// η = c·N̄/‖x̄‖² (SolveCube; common practice, no source). Measured on the checks of
+// cube_test.go: on a gray object as 4 planes the worst plane differs from the gray image by
+// a relative L1 of 0.044 at c = 1, 0.059 at 0.3, 0.070 at 0.1 and 0.087 without the term
+// (the gray images of two noise draws differ by 0.039); on a disc growing 20 % across the
+// band as 8 planes the diameters from the V² nulls are within −2.3…−0.1 % at c = 1,
+// −1.5…+0.3 % at 0.3 and −1.6…+0.4 % without the term.
 const DefaultSpectralSmooth = 1.0
 
 // DefaultSpectralJoint is the constant c of the automatic weight of JointSparsity,
@@ -375,9 +382,12 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			return s.Progress(pr)
 		}
 	}
-	gray, err := Solve(cp.Problem, gs)
-	if err != nil {
-		return nil, fmt.Errorf("recon: gray image: %w", err)
+	gray := cp.Gray
+	if gray == nil {
+		var err error
+		if gray, err = Solve(cp.Problem, gs); err != nil {
+			return nil, fmt.Errorf("recon: gray image: %w", err)
+		}
 	}
 	g := gray.Grid
 	npix := g.N * g.N
