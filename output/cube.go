@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -268,4 +269,93 @@ func writePlanesCSV(w io.Writer, res *recon.CubeResult) error {
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// StarEnvRun is a star + environment fit (recon.SolveStarEnv) with what it came from.
+type StarEnvRun struct {
+	Files   []*oifits.File
+	Data    *dataset.Data
+	Spec    runspec.Spec
+	Result  *recon.StarEnvResult
+	Seconds float64
+	Date    time.Time
+}
+
+// WriteStarEnv writes the environment image of r to out, with the star's share at the
+// reference wavelength and the spectral indices in the header (STARF0, STARIDX, ENVIDX,
+// LAMBDA0 and the errors STARF0E, ENVIDXE), and, unless o.NoPNG, its PNG preview.
+func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
+	res := r.Result
+	paths := Paths{FITS: out}
+	date := r.Date
+	if date.IsZero() {
+		date = time.Now()
+	}
+	target := targetOf(r.Data)
+	ra, dec, ok := TargetCoords(r.Files, target)
+	c := []fitsimage.Card{
+		{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
+		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
+		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
+		{Key: "REGUL", Value: r.Spec.RegularizerLabel(), Comment: "regularizer(s) of the environment"},
+		{Key: "REGWT", Value: res.Gray.Weight, Comment: "regularization weight mu (of the gray image)"},
+		{Key: "LAMBDA0", Value: res.Lambda0, Comment: "[m] reference wavelength"},
+		{Key: "STARF0", Value: res.F0, Comment: "star's share of the flux at LAMBDA0"},
+		{Key: "STARF0E", Value: finiteOr(res.F0Err), Comment: "1 sigma, image fixed (underestimate)"},
+		{Key: "STARIDX", Value: r.Spec.StarIndexValue(), Comment: "star's spectral index (given)"},
+		{Key: "ENVIDX", Value: res.EnvIndex, Comment: "environment's spectral index (fitted)"},
+		{Key: "ENVIDXE", Value: finiteOr(res.EnvIndexErr), Comment: "1 sigma, image fixed (underestimate)"},
+		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all channels"},
+		{Key: "CHI2RGRY", Value: res.Gray.Chi2r, Comment: "reduced chi2 of the gray image"},
+		{Key: "NITER", Value: res.Iter, Comment: "iterations of the fit"},
+		{Key: "COMMENT", Value: "The image is the environment alone, flux 1; the star is the parametric component."},
+	}
+	if r.Spec.Star != nil && r.Spec.Star.Diameter > 0 {
+		c = append(c, fitsimage.Card{Key: "STARDIAM", Value: r.Spec.Star.Diameter / recon.Mas, Comment: "star's uniform-disc diameter (mas)"})
+	}
+	for i, f := range r.Data.Files {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
+	}
+	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
+		if line != "" {
+			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
+		}
+	}
+	for i := range c {
+		if v, ok := c[i].Value.(string); ok {
+			c[i].Value = ASCII(v)
+		}
+		c[i].Comment = ASCII(c[i].Comment)
+	}
+	n := res.Grid.N
+	im := &fitsimage.Image{NX: n, NY: n, Pixel: res.Grid.Pixel, Data: res.Env, RA: ra, Dec: dec, HasRADec: ok,
+		BUnit: BUnit, Normalized: true, Cards: append(c, o.Cards...)}
+	if err := fitsimage.WriteFile(out, im); err != nil {
+		return paths, err
+	}
+	if o.NoPNG {
+		return paths, nil
+	}
+	p := Stem(out) + ".png"
+	opt := preview.Options{
+		Title:         Title(r.Data, target, r.Spec.RegularizerLabel()) + " · environment",
+		Subtitle:      fmt.Sprintf("star %.3f of the flux at %.4g µm, index %.3g; environment index %.3g · χ²ᵣ %.3f", res.F0, res.Lambda0*1e6, r.Spec.StarIndexValue(), res.EnvIndex, res.Chi2r),
+		Pixel:         res.Grid.Pixel / recon.Mas,
+		Beam:          preview.Beam{Major: res.Grid.Resolution / recon.Mas},
+		ColorbarLabel: "flux per pixel (environment total 1)",
+		Stretch:       o.Stretch,
+	}
+	if err := preview.WriteFile(p, res.Env, n, n, opt); err != nil {
+		return paths, err
+	}
+	paths.PNG = p
+	return paths, nil
+}
+
+// finiteOr returns v, or 0 when it is not finite (FITS has no NaN keyword value).
+func finiteOr(v float64) float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0
+	}
+	return v
 }

@@ -247,8 +247,19 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	var hist []float64
 	st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
 		hist = append(hist, it.F)
-		if s.Progress != nil && !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F}) {
-			return false
+		if s.Progress != nil {
+			c, nn := 0.0, 0
+			for _, obj := range o.Planes {
+				for _, t := range typeList {
+					if obj.Use()&t != 0 {
+						c += obj.Chi2(t)
+						nn += obj.N(t)
+					}
+				}
+			}
+			if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F, Chi2r: c / float64(max(nn, 1))}) {
+				return false
+			}
 		}
 		k := len(hist) - 1
 		return !(k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1))

@@ -28,7 +28,8 @@ const (
 	Recon
 	// Model is -from-model.
 	Model
-	// Cube is the polychromatic reconstruction: -channels and -spectral.
+	// Cube is the polychromatic reconstruction: -channels, -spectral, -star and
+	// -star-index.
 	Cube
 	// All is every option, the options of `vcz image`.
 	All = Select | Types | Recon | Model | Cube
@@ -312,6 +313,51 @@ var options = []option{
 				return s.Spectral.String()
 			}
 			return s.Spectral.String() + ":" + formatFloat(s.SpectralFactor)
+		}},
+	{name: "star", group: Cube,
+		usage: "with -channels: fit a star of power-law spectrum (-star-index) plus one image of its environment with its own spectral index; point (unresolved) or the star's uniform-disc diameter, e.g. 0.8mas",
+		parse: func(s *Spec, name, text string) error {
+			switch t := strings.TrimSpace(text); t {
+			case "":
+				s.Star = nil
+			case "point":
+				s.Star = &Star{}
+			default:
+				var d float64
+				if err := parsePositiveAngle(&d, name, t, "point or a positive diameter such as 0.8mas"); err != nil {
+					return err
+				}
+				s.Star = &Star{Diameter: d}
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			switch {
+			case s.Star == nil:
+				return ""
+			case s.Star.Diameter == 0:
+				return "point"
+			}
+			return formatAngle(s.Star.Diameter)
+		}},
+	{name: "star-index", group: Cube, def: "-4",
+		usage: "spectral index of the star of -star: its flux goes as λ to this power (-4: Rayleigh–Jeans)",
+		parse: func(s *Spec, name, text string) error {
+			x, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
+			if err != nil || math.IsInf(x, 0) || math.Abs(x) > 20 {
+				return fmt.Errorf("%s %q: want a number between -20 and 20", name, text)
+			}
+			s.StarIndex = nil
+			if x != DefaultStarIndex {
+				s.StarIndex = &x
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			if s.StarIndex == nil {
+				return ""
+			}
+			return strconv.FormatFloat(*s.StarIndex, 'g', -1, 64)
 		}},
 	{name: "workers", group: Recon, kind: intFlag, def: "0", noText: true,
 		usage:  "worker goroutines of the transform (default: number of CPUs); the image is the same for any number",

@@ -37,6 +37,9 @@ func NewCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Cube, e
 	if err != nil {
 		return nil, inputErrorf("-channels %s: %v", spec.Channels, err)
 	}
+	if spec.Star != nil && len(planes) < 2 {
+		return nil, inputErrorf("-star: the data have one channel group; the star's spectrum needs at least two")
+	}
 	cp := recon.CubeProblem{Problem: p, Planes: planes, Spectral: spec.Spectral, SpectralFactor: spec.SpectralFactor}
 	return &Cube{Files: files, Data: d, Spec: spec, Problem: cp, Settings: s}, nil
 }
@@ -54,5 +57,23 @@ func (c *Cube) Run(outs output.Outputs, out string, progress func(recon.Progress
 	}
 	run := output.CubeRun{Files: c.Files, Data: c.Data, Spec: c.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
 	paths, err := outs.WriteCube(out, run)
+	return run, paths, err
+}
+
+// RunStarEnv fits the star of spec.Star with its power-law spectrum plus one image of its
+// environment (recon.SolveStarEnv) to the planes and writes the environment image
+// (output.Outputs.WriteStarEnv).
+func (c *Cube) RunStarEnv(outs output.Outputs, out string, progress func(recon.Progress) bool) (output.StarEnvRun, output.Paths, error) {
+	s := c.Settings
+	s.Progress = progress
+	t0 := time.Now()
+	p := recon.StarEnvProblem{Problem: c.Problem.Problem, Planes: c.Problem.Planes, StarDiameter: c.Spec.Star.Diameter,
+		StarIndex: c.Spec.StarIndexValue()}
+	res, err := recon.SolveStarEnv(p, s)
+	if err != nil {
+		return output.StarEnvRun{}, output.Paths{}, err
+	}
+	run := output.StarEnvRun{Files: c.Files, Data: c.Data, Spec: c.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
+	paths, err := outs.WriteStarEnv(out, run)
 	return run, paths, err
 }

@@ -65,7 +65,13 @@ numbers of data. The outputs are then:
   OUT-planes.csv      per plane: wavelengths, data, χ²ᵣ, photocentre and size (mas)
   OUT-planes.png      photocentre and second-moment size against wavelength
   OUT-spectrum.png    total flux of each plane, only with correlated fluxes (V²
-                      and closure phases are normalised and say nothing of it)`
+                      and closure phases are normalised and say nothing of it)
+
+-star point|DIAMETER (with -channels, best all) fits instead a star whose
+flux goes as λ to the power -star-index (default -4) plus one image of its
+environment with its own fitted spectral index: OUT.fits is the environment,
+with the star's share of the flux at the mean wavelength (STARF0) and the
+indices (STARIDX, ENVIDX) in the header.`
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)

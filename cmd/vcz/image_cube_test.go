@@ -114,3 +114,50 @@ func TestImageCube(t *testing.T) {
 		}
 	}
 }
+
+// TestImageStarEnv runs `vcz image -channels all -star point` on simulated data and checks
+// that the environment image passes fitsverify and carries the star's share and the
+// indices; -star without -channels exits with status 2 and one line naming -star.
+func TestImageStarEnv(t *testing.T) {
+	dir := t.TempDir()
+	p, _ := simulate.Demo()
+	p.HourAngles = []float64{-1.5, 0, 1.5}
+	p.Wavelengths = p.Wavelengths[:4]
+	p.Bandwidths = p.Bandwidths[:4]
+	m, err := model.ParseCompact("point:flux=1;gauss:fwhm=3,x=1,flux=0.8")
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, _, err := simulate.Run(p, simulate.ModelSky{Model: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := filepath.Join(dir, "se.oifits")
+	if err := oifits.WriteFile(in, f); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "env.fits")
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"image", "-channels", "all", "-star", "point", "-n", "32", "-iter", "40", "-quiet", "-o", out, in}, &stdout, &stderr); code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr.String())
+	}
+	fitstest.Verify(t, out)
+	im, err := fitsimage.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	keys := map[string]bool{}
+	for _, c := range im.Cards {
+		keys[c.Key] = true
+	}
+	for _, k := range []string{"STARF0", "STARIDX", "ENVIDX", "LAMBDA0"} {
+		if !keys[k] {
+			t.Errorf("no %s card", k)
+		}
+	}
+	stderr.Reset()
+	if code := run([]string{"image", "-star", "point", "-n", "32", "-quiet", "-o", filepath.Join(dir, "bad.fits"), in}, &stdout, &stderr); code != 2 ||
+		!strings.Contains(stderr.String(), "-star") || strings.Count(strings.TrimSpace(stderr.String()), "\n") > 0 {
+		t.Errorf("-star without -channels: exit %d, %q", code, stderr.String())
+	}
+}
