@@ -52,7 +52,9 @@ per channel, per K groups of adjacent channels, or per listed group of
 channel numbers (1-4,5-8; channels counted by increasing wavelength), with
 -spectral smooth|joint|none[:FACTOR] across planes. It writes the cube with a
 spectral axis and per-plane χ²ᵣ, a montage, OUT-planes.csv and OUT-planes.png
-(photocentre and size against wavelength).
+(photocentre and size against wavelength). -star point|DIAMETER with
+-star-index fits a star of power-law spectrum plus one environment image with
+its own spectral index, and writes the environment.
 
 # Simulate
 
