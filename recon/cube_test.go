@@ -480,3 +480,42 @@ func TestSolveCubeWorkers(t *testing.T) {
 		t.Error("the cube depends on the number of workers")
 	}
 }
+
+// TestPlaneSpectral checks the one-plane parts of the spectral regularizers against the
+// whole: for two images x and y of plane k, S(cube with x) − S(cube with y) equals
+// evalPlane(x) − evalPlane(y), and the gradient of evalPlane is plane k's block of ∇S.
+func TestPlaneSpectral(t *testing.T) {
+	const P, n = 4, 6
+	rng := rand.New(rand.NewPCG(6, 6))
+	cube := make([]float64, P*n)
+	for i := range cube {
+		cube[i] = rng.Float64()
+	}
+	x, y := make([]float64, n), make([]float64, n)
+	for i := range x {
+		x[i], y[i] = rng.Float64(), rng.Float64()
+	}
+	for _, r := range []Regularizer{&SpectralSmoothness{Planes: P, NPix: n}, &JointSparsity{Planes: P, NPix: n, Eps: 0.03}} {
+		ps := r.(planeSpectral)
+		for k := range P {
+			ps.prepare(cube, k)
+			with := func(img []float64) []float64 {
+				c := append([]float64(nil), cube...)
+				copy(c[k*n:], img)
+				return c
+			}
+			full := make([]float64, P*n)
+			sx := r.Eval(full, with(x))
+			sy := r.Eval(nil, with(y))
+			g := make([]float64, n)
+			px := ps.evalPlane(g, x, cube, k)
+			py := ps.evalPlane(nil, y, cube, k)
+			if d := (sx - sy) - (px - py); math.Abs(d) > 1e-12*math.Abs(sx) {
+				t.Errorf("%T plane %d: differences %.17g and %.17g", r, k, sx-sy, px-py)
+			}
+			if e := relErr(g, full[k*n:(k+1)*n]); e > 1e-14 {
+				t.Errorf("%T plane %d: gradient relative error %.3g", r, k, e)
+			}
+		}
+	}
+}
