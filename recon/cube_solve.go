@@ -236,7 +236,7 @@ type CubeResult struct {
 	SpectralValue  float64
 	Objective      float64
 	Chi2r          float64 // Σχ²/ΣN over all planes
-	Iter, Evals    int     // of the cube run
+	Iter, Evals    int     // of the planes' runs in the last sweep, summed
 	TotalIter      int     // of all runs, the gray ones included
 	Status         optim.Status
 	Converged      bool
