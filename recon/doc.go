@@ -84,6 +84,16 @@
 //     one stopped at its iteration limit while still improving, a weight at the edge of the
 //     searched range, disagreeing starts).
 //
+// # Cubes
+//
+// SolveCube reconstructs an image cube: planes over one grid, each fitted to its own data
+// (CubePlane; SplitChannels makes them from channel groups, and epochs could make them
+// along time), with the spatial regularizer in each plane and a regularizer across planes
+// (SpectralSmoothness, JointSparsity), the objective of CubeObjective. The gray image of
+// all data sets the grid, the start and the spatial weight, shared among the planes by
+// their numbers of data; the planes are then fitted in Gauss–Seidel sweeps, each by the
+// runs of Solve against the others held fixed. One plane is Solve, bit for bit.
+//
 // # Fidelity
 //
 // Fidelity compares a reconstruction with a known truth as the project's acceptance test

@@ -28,8 +28,11 @@ const (
 	Recon
 	// Model is -from-model.
 	Model
+	// Cube is the polychromatic reconstruction: -channels, -spectral, -star and
+	// -star-index.
+	Cube
 	// All is every option, the options of `vcz image`.
-	All = Select | Types | Recon | Model
+	All = Select | Types | Recon | Model | Cube
 )
 
 // An OptionError is an unknown option or a value an option refuses.
@@ -293,6 +296,84 @@ var options = []option{
 				return ""
 			}
 			return s.Smearing.String()
+		}},
+	{name: "channels", group: Cube, def: "1",
+		usage: "image cube over wavelength: all (one plane per channel), K (K groups of adjacent channels) or a list of channel ranges such as 1-4,5-8 (channels numbered by increasing wavelength); 1 is one gray image",
+		parse: func(s *Spec, name, text string) error {
+			c, err := recon.ParseChannels(text)
+			if err != nil {
+				return fmt.Errorf("%s %q: %v", name, text, err)
+			}
+			s.Channels = c
+			return nil
+		},
+		format: func(s *Spec) string { return s.Channels.String() }},
+	{name: "spectral", group: Cube, def: "smooth",
+		usage: "regularizer across the planes of a cube: smooth (quadratic, along wavelength), joint (shared support, ℓ2,1) or none, with :FACTOR on its automatic weight, e.g. smooth:3",
+		parse: func(s *Spec, name, text string) error {
+			k, f, err := recon.ParseSpectral(strings.TrimSpace(text))
+			if err != nil {
+				return fmt.Errorf("%s: %v", name, err)
+			}
+			s.Spectral, s.SpectralFactor = k, f
+			if f == 1 {
+				s.SpectralFactor = 0
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			if s.Spectral == recon.SpectralSmooth && (s.SpectralFactor == 0 || s.SpectralFactor == 1) {
+				return ""
+			}
+			if s.SpectralFactor == 0 || s.SpectralFactor == 1 {
+				return s.Spectral.String()
+			}
+			return s.Spectral.String() + ":" + formatFloat(s.SpectralFactor)
+		}},
+	{name: "star", group: Cube,
+		usage: "with -channels: fit a star of power-law spectrum (-star-index) plus one image of its environment with its own spectral index; point (unresolved) or the star's uniform-disc diameter, e.g. 0.8mas",
+		parse: func(s *Spec, name, text string) error {
+			switch t := strings.TrimSpace(text); t {
+			case "":
+				s.Star = nil
+			case "point":
+				s.Star = &Star{}
+			default:
+				var d float64
+				if err := parsePositiveAngle(&d, name, t, "point or a positive diameter such as 0.8mas"); err != nil {
+					return err
+				}
+				s.Star = &Star{Diameter: d}
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			switch {
+			case s.Star == nil:
+				return ""
+			case s.Star.Diameter == 0:
+				return "point"
+			}
+			return formatAngle(s.Star.Diameter)
+		}},
+	{name: "star-index", group: Cube, def: "-4",
+		usage: "spectral index of the star of -star: its flux goes as λ to this power (-4: Rayleigh–Jeans)",
+		parse: func(s *Spec, name, text string) error {
+			x, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
+			if err != nil || math.IsInf(x, 0) || math.Abs(x) > 20 {
+				return fmt.Errorf("%s %q: want a number between -20 and 20", name, text)
+			}
+			s.StarIndex = nil
+			if x != DefaultStarIndex {
+				s.StarIndex = &x
+			}
+			return nil
+		},
+		format: func(s *Spec) string {
+			if s.StarIndex == nil {
+				return ""
+			}
+			return strconv.FormatFloat(*s.StarIndex, 'g', -1, 64)
 		}},
 	{name: "workers", group: Recon, kind: intFlag, def: "0", noText: true,
 		usage:  "worker goroutines of the transform (default: number of CPUs); the image is the same for any number",

@@ -101,6 +101,7 @@ func TestZeroSpecProblem(t *testing.T) {
 func TestOptions(t *testing.T) {
 	mas, um := recon.Mas, 1e-6 // variables, so that products round as at run time
 	seed := uint64(7)
+	starIndex := -3.5
 	cases := []struct {
 		name  string
 		flag  []string
@@ -130,6 +131,10 @@ func TestOptions(t *testing.T) {
 		{"no-amp-first", []string{"-no-amp-first"}, true, Spec{NoAmplitudeFirst: true}},
 		{"smearing", []string{"-smearing", "OFF"}, "off", Spec{Smearing: recon.SmearOff}},
 		{"workers", []string{"-workers", "2"}, int64(2), Spec{Workers: 2}},
+		{"channels", []string{"-channels", "1-4, 5-8"}, "1-4,5-8", Spec{Channels: recon.Channels{List: [][2]int{{1, 4}, {5, 8}}}}},
+		{"spectral", []string{"-spectral", "joint:0.5"}, "joint:0.5", Spec{Spectral: recon.SpectralJoint, SpectralFactor: 0.5}},
+		{"star", []string{"-star", "0.8mas"}, "0.8mas", Spec{Star: &Star{Diameter: 0.8 * mas}}},
+		{"star-index", []string{"-star-index", "-3.5"}, -3.5, Spec{StarIndex: &starIndex}},
 	}
 	var tested []string
 	for _, c := range cases {
@@ -169,6 +174,7 @@ func TestDefaultTexts(t *testing.T) {
 		{"-start", "auto"}, {"-start", ""}, {"-seed", "1"}, {"-data-weights", "vis2=1,t3=1"}, {"-wave", ""},
 		{"-mjd", ":"}, {"-fov", ""}, {"-pixel", ""}, {"-support", ""}, {"-n", "0"}, {"-iter", "0"}, {"-use", ""},
 		{"-coarse=false"}, {"-tv-eps", "0"}, {"-from-model", ""}, {"-ins", " , "},
+		{"-channels", "1"}, {"-channels", ""}, {"-spectral", "smooth"}, {"-spectral", "smooth:1"}, {"-star", ""}, {"-star-index", "-4"},
 	} {
 		s, err := flagSpec(t, All, args...)
 		if err != nil || !reflect.DeepEqual(s, Spec{}) || s.String() != "" {
@@ -213,6 +219,12 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-mjd", "NaN:"}, `-mjd "NaN:": "NaN" is not a finite number`},
 		{[]string{"-n", "2"}, "-n 2: the grid size must be an even number from 8 to 2048"},
 		{[]string{"-mjd", "5"}, `-mjd "5": want LOW:HIGH`},
+		{[]string{"-channels", "0"}, `-channels "0": want a positive number of groups, have 0`},
+		{[]string{"-channels", "4-2"}, `-channels "4-2": "4-2" is not a channel number or range such as 5-8 (want all, a number of groups, or a list such as 1-4,5-8)`},
+		{[]string{"-spectral", "wiggly"}, `-spectral: "wiggly" is not a spectral regularizer (want smooth, joint or none, optionally with :FACTOR on the automatic weight)`},
+		{[]string{"-spectral", "smooth:-2"}, `-spectral: factor "-2" of smooth is not a positive number`},
+		{[]string{"-star", "big"}, `-star "big": want point or a positive diameter such as 0.8mas`},
+		{[]string{"-star-index", "x"}, `-star-index "x": want a number between -20 and 20`},
 	} {
 		_, err := flagSpec(t, All, c.args...)
 		var oe *OptionError
@@ -273,6 +285,9 @@ func TestValidate(t *testing.T) {
 		{Spec{Use: 1 << 20}, "-use"},
 		{Spec{Iterations: -1}, "-iter"},
 		{Spec{WaveMin: 2e-6, WaveMax: 1e-6}, "-wave"},
+		{Spec{Star: &Star{}}, "-star"},
+		{Spec{Channels: recon.Channels{All: true}, StarIndex: new(float64)}, "-star-index"},
+		{Spec{Channels: recon.Channels{Groups: 0, List: [][2]int{{3, 1}}}}, "-channels"},
 	} {
 		_, _, err := c.s.Problem(data(t))
 		var oe *OptionError

@@ -75,9 +75,40 @@ type Spec struct {
 	// Smearing says whether each channel's visibility is averaged over its band
 	// (-smearing); the zero value is recon.SmearAuto.
 	Smearing recon.Smearing
+	// Channels groups the channels into the planes of an image cube (-channels); the zero
+	// value is one gray image.
+	Channels recon.Channels
+	// Spectral is the regularizer across the planes of a cube (-spectral) and
+	// SpectralFactor the factor on its automatic weight (0 is 1).
+	Spectral       recon.Spectral
+	SpectralFactor float64
+	// Star, with Channels, fits a star of power-law spectrum plus one environment image
+	// (-star); nil fits the cube. StarIndex is the star's spectral index (-star-index);
+	// nil is DefaultStarIndex.
+	Star      *Star
+	StarIndex *float64
 	// Workers is the number of transform workers (-workers); 0 is GOMAXPROCS. The image
 	// does not depend on it, and the canonical text leaves it out.
 	Workers int
+}
+
+// Star is the star of a star + environment fit (-star): its uniform-disc diameter (rad),
+// 0 for an unresolved star.
+type Star struct {
+	Diameter float64
+}
+
+// DefaultStarIndex is the spectral index of -star's star unless -star-index says
+// otherwise: −4, the Rayleigh–Jeans tail of a star's spectrum (Kluska et al. 2014, A&A
+// 564, A80, sect. 2).
+const DefaultStarIndex = -4.0
+
+// StarIndexValue returns the star's spectral index in force.
+func (s Spec) StarIndexValue() float64 {
+	if s.StarIndex == nil {
+		return DefaultStarIndex
+	}
+	return *s.StarIndex
 }
 
 // PriorKind is the kind of a prior image.
@@ -181,6 +212,10 @@ func (s Spec) Validate() error {
 		return &OptionError{Option: "-start", Err: fmt.Errorf("-start model needs -from-model")}
 	case s.FOV != 0 && s.Grid > 0 && s.Pixel != 0:
 		return &OptionError{Option: "-fov", Err: fmt.Errorf("-fov cannot be given with both -n and -pixel")}
+	case s.Star != nil && s.Channels.Single():
+		return &OptionError{Option: "-star", Err: fmt.Errorf("-star needs -channels (all, or groups narrow enough for the star's share to be constant in each)")}
+	case s.StarIndex != nil && s.Star == nil:
+		return &OptionError{Option: "-star-index", Err: fmt.Errorf("-star-index needs -star")}
 	}
 	return nil
 }

@@ -48,6 +48,15 @@ offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
 for the full list with defaults.
 
+-channels all|K|LIST makes an image cube over wavelength instead: one plane
+per channel, per K groups of adjacent channels, or per listed group of
+channel numbers (1-4,5-8; channels counted by increasing wavelength), with
+-spectral smooth|joint|none[:FACTOR] across planes. It writes the cube with a
+spectral axis and per-plane χ²ᵣ, a montage, OUT-planes.csv and OUT-planes.png
+(photocentre and size against wavelength). -star point|DIAMETER with
+-star-index fits a star of power-law spectrum plus one environment image with
+its own spectral index, and writes the environment.
+
 # Simulate
 
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits

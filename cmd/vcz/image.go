@@ -52,7 +52,28 @@ Outputs (OUT defaults to the first file's name with -image.fits):
                       OUT-visamp.png and OUT-visphi.png for each other data
                       type fitted (data coloured by wavelength)
   OUT-residuals.png   residuals normalised by their errors
-  OUT-lcurve.png      the weight path, when the weight was chosen automatically`
+  OUT-lcurve.png      the weight path, when the weight was chosen automatically
+
+Image cubes over wavelength: -channels all (one plane per channel), K (K
+groups of adjacent channels) or a list such as 1-4,5-8 (channels numbered by
+increasing wavelength) fits one image per group to that group's data, with
+the spatial regularizer in each plane and -spectral across planes (smooth:
+quadratic differences between neighbouring planes; joint: a support shared
+by all planes). The gray image of all channels comes first and sets the
+grid, the start and the spatial weight, shared among the planes by their
+numbers of data. The outputs are then:
+  OUT.fits            the cube, spectral axis WAVE (m), χ²ᵣ of each plane (CHI2Rnnn)
+  OUT.png             the planes on one colour scale, labelled with their wavelengths
+  OUT-planes.csv      per plane: wavelengths, data, χ²ᵣ, photocentre and size (mas)
+  OUT-planes.png      photocentre and second-moment size against wavelength
+  OUT-spectrum.png    total flux of each plane, only with correlated fluxes (V²
+                      and closure phases are normalised and say nothing of it)
+
+-star point|DIAMETER (with -channels, best all) fits instead a star whose
+flux goes as λ to the power -star-index (default -4) plus one image of its
+environment with its own fitted spectral index: OUT.fits is the environment,
+with the star's share of the flux at the mean wavelength (STARF0) and the
+indices (STARIDX, ENVIDX) in the header.`
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
@@ -124,6 +145,9 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	files, d, err := workflow.ReadData(inputs, spec.Selection())
 	if err != nil {
 		return err
+	}
+	if !spec.Channels.Single() {
+		return runCube(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, *asJSON, *strict, stdout, stderr)
 	}
 	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
 	if err != nil {

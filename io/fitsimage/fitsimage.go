@@ -31,6 +31,12 @@ type Image struct {
 	NX, NY int
 	Planes int     // 0 or 1: a 2-D image; > 1: a cube of Planes images
 	Pixel  float64 // pixel size (rad)
+	// Wave, when non-nil, holds the wavelength (m) of each plane of a cube, increasing: the
+	// third axis is then a spectral axis (FITS WCS Paper III, Greisen et al. 2006, A&A 446,
+	// 747): CTYPE3 = 'WAVE' in metres, linear when the wavelengths are evenly spaced (to
+	// 1e-6 of the step), otherwise 'WAVE-TAB', tabulated in a binary table WCS-TAB that
+	// follows the image (Paper III, sect. 6). Without it the third axis is the plane number.
+	Wave []float64
 	// Data holds NX*NY*max(Planes, 1) values, Data[(p*NY+iy)*NX+ix].
 	Data []float64
 	// RA and Dec (deg) of the phase centre, the sky position of pixel
@@ -56,7 +62,7 @@ func wcsKey(key string) bool {
 		"RADESYS", "RADECSYS", "EQUINOX", "WCSAXES", "LONPOLE", "LATPOLE", "BUNIT", "CHECKSUM", "DATASUM":
 		return true
 	}
-	for _, p := range []string{"NAXIS", "CTYPE", "CRPIX", "CDELT", "CUNIT", "CRVAL", "CROTA", "CD", "PC"} {
+	for _, p := range []string{"NAXIS", "CTYPE", "CRPIX", "CDELT", "CUNIT", "CRVAL", "CROTA", "CD", "PC", "PS", "PV", "SPECSYS"} {
 		if strings.HasPrefix(key, p) && len(key) > len(p) {
 			rest := strings.ReplaceAll(key[len(p):], "_", "")
 			if _, err := strconv.Atoi(rest); err == nil {
@@ -115,6 +121,16 @@ func (im *Image) check() error {
 	if im.NX <= 0 || im.NY <= 0 || im.Planes < 0 {
 		return fmt.Errorf("image size %d × %d × %d", im.NX, im.NY, im.Planes)
 	}
+	if im.Wave != nil {
+		if len(im.Wave) != max(im.Planes, 1) || im.Planes < 2 {
+			return fmt.Errorf("%d wavelengths for a cube of %d planes", len(im.Wave), max(im.Planes, 1))
+		}
+		for k, w := range im.Wave {
+			if !(w > 0) || math.IsInf(w, 0) || k > 0 && !(w > im.Wave[k-1]) {
+				return fmt.Errorf("wavelength %d of the planes is %g m; want positive, finite and increasing", k+1, w)
+			}
+		}
+	}
 	if n := im.NX * im.NY * max(im.Planes, 1); len(im.Data) != n {
 		return fmt.Errorf("image has %d values; %d × %d × %d needs %d", len(im.Data), im.NX, im.NY, max(im.Planes, 1), n)
 	}
@@ -153,7 +169,13 @@ func Encode(w io.Writer, im *Image) error {
 	} else {
 		cards = append(cards, fitsfile.Card{Key: "COMMENT", Comment: "Phase centre position unknown: CRVAL1/2 omitted (offsets from 0,0)."})
 	}
-	if im.Planes > 1 {
+	tab := false
+	switch {
+	case im.Planes > 1 && im.Wave != nil:
+		var wc []fitsfile.Card
+		wc, tab = waveCards(im.Wave)
+		cards = append(cards, wc...)
+	case im.Planes > 1:
 		cards = append(cards,
 			fitsfile.Card{Key: "CTYPE3", Value: "PLANE", Comment: "plane number (e.g. epoch), 1-based"},
 			fitsfile.Card{Key: "CRPIX3", Value: 1.0},
@@ -187,7 +209,58 @@ func Encode(w io.Writer, im *Image) error {
 	}
 	fw := fitsfile.NewWriter(w)
 	fw.Checksum = true // CHECKSUM and DATASUM (FITS checksum convention)
-	return fw.WriteImage(axes, im.Data, cards)
+	if err := fw.WriteImage(axes, im.Data, cards); err != nil {
+		return err
+	}
+	if tab {
+		// The coordinate array of a one-dimensional -TAB axis has dimensions (1, K): one
+		// coordinate per element, K elements (Paper III, sect. 6.1.2).
+		return fw.WriteTable(waveTable, 1, []fitsfile.ColumnSpec{{Name: waveColumn, Type: 'D', Repeat: len(im.Wave),
+			Unit: "m", Dim: []int{1, len(im.Wave)}, Comment: "wavelength of each plane", Data: im.Wave}}, nil)
+	}
+	return nil
+}
+
+// The binary table and column of a tabulated spectral axis.
+const (
+	waveTable  = "WCS-TAB"
+	waveColumn = "COORDS"
+)
+
+// waveCards returns the WCS cards of a spectral third axis at wavelengths wave (m,
+// increasing, at least two) and whether the axis is tabulated (Greisen et al. 2006, A&A
+// 446, 747: sect. 3.1 for WAVE in metres, sect. 6 for -TAB). A linear axis has pixel k
+// (1-based) at CRVAL3 + (k − 1)·CDELT3. A tabulated one maps pixel k through CRPIX3 = 1,
+// CDELT3 = 1, CRVAL3 = 1 to the index ψ = k of the coordinate array, whose entry k is the
+// wavelength (the default index vector 1, 2, ..., K).
+func waveCards(wave []float64) ([]fitsfile.Card, bool) {
+	n := len(wave)
+	step := (wave[n-1] - wave[0]) / float64(n-1)
+	lin := true
+	for k, w := range wave {
+		lin = lin && math.Abs(w-(wave[0]+float64(k)*step)) <= 1e-6*step
+	}
+	if lin {
+		return []fitsfile.Card{
+			{Key: "CTYPE3", Value: "WAVE", Comment: "wavelength, linear"},
+			{Key: "CUNIT3", Value: "m", Comment: "unit of CRVAL3 and CDELT3"},
+			{Key: "CRPIX3", Value: 1.0, Comment: "reference pixel: the first plane"},
+			{Key: "CRVAL3", Value: wave[0], Comment: "[m] wavelength of the first plane"},
+			{Key: "CDELT3", Value: step, Comment: "[m] wavelength step between planes"},
+			{Key: "SPECSYS", Value: "TOPOCENT", Comment: "wavelengths as observed"},
+		}, false
+	}
+	return []fitsfile.Card{
+		{Key: "CTYPE3", Value: "WAVE-TAB", Comment: "wavelength, tabulated in table " + waveTable},
+		{Key: "CUNIT3", Value: "m", Comment: "unit of the tabulated wavelengths"},
+		{Key: "CRPIX3", Value: 1.0, Comment: "pixel k maps to index k of the table"},
+		{Key: "CRVAL3", Value: 1.0, Comment: "index of the first plane"},
+		{Key: "CDELT3", Value: 1.0, Comment: "index step between planes"},
+		{Key: "PS3_0", Value: waveTable, Comment: "EXTNAME of the table of wavelengths"},
+		{Key: "PS3_1", Value: waveColumn, Comment: "column of the wavelengths"},
+		{Key: "PV3_3", Value: 1, Comment: "axis of the coordinate array"},
+		{Key: "SPECSYS", Value: "TOPOCENT", Comment: "wavelengths as observed"},
+	}, true
 }
 
 func b2i(b bool) int {
@@ -297,6 +370,11 @@ func Decode(data []byte) (*Image, error) {
 		return nil, bad("%v", err)
 	}
 	im.RA, im.Dec, im.HasRADec = ra, dec, okRA && okDec
+	if im.Planes > 1 {
+		if im.Wave, err = readWave(ff, hd, im.Planes); err != nil {
+			return nil, bad("%v", err)
+		}
+	}
 	if u, _, _ := hd.String("BUNIT"); u != "" {
 		im.BUnit = strings.TrimSpace(u)
 	}
@@ -416,4 +494,80 @@ func flip(im *Image, fx, fy bool) {
 			}
 		}
 	}
+}
+
+// readWave returns the wavelengths (m) of the planes of a cube whose third axis is WAVE
+// (linear, in m, um or nm) or WAVE-TAB (the table and column that PS3_0 and PS3_1 name),
+// nil for any other third axis.
+func readWave(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, error) {
+	ct, _, err := hd.String("CTYPE3")
+	if err != nil {
+		return nil, err
+	}
+	ct = strings.TrimSpace(ct)
+	if ct != "WAVE" && ct != "WAVE-TAB" {
+		return nil, nil
+	}
+	cu, _, err := hd.String("CUNIT3")
+	if err != nil {
+		return nil, err
+	}
+	unit := map[string]float64{"": 1, "m": 1, "um": 1e-6, "nm": 1e-9, "Angstrom": 1e-10}
+	f, ok := unit[strings.TrimSpace(cu)]
+	if !ok {
+		return nil, fmt.Errorf("CUNIT3 = '%s'; want m, um, nm or Angstrom", cu)
+	}
+	get := func(key string, def float64) (float64, error) {
+		v, ok, err := hd.Float(key)
+		if !ok && err == nil {
+			v = def
+		}
+		return v, err
+	}
+	crpix, err1 := get("CRPIX3", 0)
+	crval, err2 := get("CRVAL3", 0)
+	cdelt, err3 := get("CDELT3", 1)
+	if err := errors.Join(err1, err2, err3); err != nil {
+		return nil, err
+	}
+	wave := make([]float64, planes)
+	if ct == "WAVE" {
+		for k := range wave {
+			wave[k] = f * (crval + (float64(k+1)-crpix)*cdelt)
+		}
+		return wave, nil
+	}
+	tabName, _, err1 := hd.String("PS3_0")
+	colName, _, err2 := hd.String("PS3_1")
+	if err := errors.Join(err1, err2); err != nil {
+		return nil, err
+	}
+	for _, h := range ff.HDUs {
+		if h.Kind != fitsfile.BinTable || h.ExtName() != strings.TrimSpace(tabName) {
+			continue
+		}
+		t, err := h.Table()
+		if err != nil {
+			return nil, fmt.Errorf("table %s: %v", tabName, err)
+		}
+		c := t.Column(strings.TrimSpace(colName))
+		if c == nil || t.Rows < 1 {
+			return nil, fmt.Errorf("table %s has no column %s of wavelengths", tabName, colName)
+		}
+		coords := make([]float64, c.Repeat)
+		if err := t.Float64s(coords, c, 0); err != nil {
+			return nil, fmt.Errorf("table %s: %v", tabName, err)
+		}
+		for k := range wave {
+			// ψ = CRVAL3 + CDELT3·(k+1 − CRPIX3) is a 1-based index of the array.
+			psi := crval + cdelt*(float64(k+1)-crpix)
+			i := int(math.Round(psi)) - 1
+			if math.Abs(psi-math.Round(psi)) > 1e-9 || i < 0 || i >= len(coords) {
+				return nil, fmt.Errorf("plane %d falls at index %g of the %d tabulated wavelengths; only whole indices are read", k+1, psi, len(coords))
+			}
+			wave[k] = f * coords[i]
+		}
+		return wave, nil
+	}
+	return nil, fmt.Errorf("CTYPE3 = 'WAVE-TAB' but no table %s", tabName)
 }

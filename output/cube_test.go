@@ -1,0 +1,116 @@
+package output
+
+import (
+	"encoding/csv"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"testing"
+
+	"vcz/dataset"
+	"vcz/io/fitsfile/fitstest"
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/recon"
+	"vcz/recon/simulate"
+)
+
+// fixedCube is a cube result made by hand: three planes of Gaussians of growing width at
+// unevenly spaced wavelengths, their correlated-flux scales when flux is set.
+func fixedCube(t *testing.T, flux bool) CubeRun {
+	t.Helper()
+	f, _, err := simulate.DemoData()
+	if err != nil {
+		t.Fatal(err)
+	}
+	files := []*oifits.File{f}
+	d, err := dataset.FromFiles(files, dataset.Selection{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	const n = 16
+	res := &recon.CubeResult{Grid: recon.GridChoice{Grid: recon.Grid{N: n, Pixel: 0.2 * recon.Mas}, Resolution: 0.8 * recon.Mas},
+		Weight: 12, Spectral: recon.SpectralSmooth, SpectralWeight: 3e4, Chi2r: 1.01, StopReason: "converged"}
+	for k, w := range []float64{1.6e-6, 1.7e-6, 1.95e-6} {
+		img := make([]float64, n*n)
+		s, sum := 2.0+float64(k), 0.0
+		for iy := range n {
+			for ix := range n {
+				x, y := float64(ix-n/2), float64(iy-n/2)
+				img[iy*n+ix] = math.Exp(-(x*x + y*y) / (2 * s * s))
+				sum += img[iy*n+ix]
+			}
+		}
+		for i := range img {
+			img[i] /= sum
+		}
+		p := recon.PlaneResult{CubePlane: recon.CubePlane{Coord: w, Lo: w - 1e-8, Hi: w + 1e-8, Label: "channel " + strconv.Itoa(k+1)},
+			Image: img, Chi2r: 1 + 0.1*float64(k), Chi2rTarget: 1, N: 100, Weight: 4, Size: s * 0.2 * recon.Mas}
+		if flux {
+			p.FluxScale = 10 - float64(k)
+		}
+		res.Planes = append(res.Planes, p)
+	}
+	return CubeRun{Files: files, Data: d, Result: res}
+}
+
+// TestWriteCube checks the files of a cube: the FITS cube passes fitsverify and reads back
+// with its wavelengths and per-plane χ²ᵣ, the CSV holds one row per plane with its
+// wavelength and size, the montage and the moments plot exist, and the spectrum is written
+// only with correlated fluxes (otherwise the note says why).
+func TestWriteCube(t *testing.T) {
+	for _, flux := range []bool{false, true} {
+		dir := t.TempDir()
+		r := fixedCube(t, flux)
+		out := filepath.Join(dir, "c.fits")
+		paths, err := Outputs{}.WriteCube(out, r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		fitstest.Verify(t, out)
+		im, err := fitsimage.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cards := map[string]any{}
+		for _, c := range im.Cards {
+			cards[c.Key] = c.Value
+		}
+		for k, p := range r.Result.Planes {
+			if math.Abs(im.Wave[k]-p.Coord) > 1e-15 {
+				t.Errorf("plane %d at %g m, want %g m", k+1, im.Wave[k], p.Coord)
+			}
+			if c := cards["CHI2R00"+strconv.Itoa(k+1)]; c != p.Chi2r {
+				t.Errorf("plane %d: CHI2R card %v, want %g", k+1, c, p.Chi2r)
+			}
+		}
+		if cards["SPECREG"] != "smooth" || cards["NPLANES"] != 3 {
+			t.Errorf("cards SPECREG %v, NPLANES %v", cards["SPECREG"], cards["NPLANES"])
+		}
+		fc, err := os.Open(paths.CSV)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows, err := csv.NewReader(fc).ReadAll()
+		fc.Close()
+		if err != nil || len(rows) != 4 {
+			t.Fatalf("CSV: %v, %d rows", err, len(rows))
+		}
+		for k, p := range r.Result.Planes {
+			w, _ := strconv.ParseFloat(rows[k+1][2], 64)
+			s, _ := strconv.ParseFloat(rows[k+1][11], 64)
+			if math.Abs(w-p.Coord*1e6) > 1e-6 || math.Abs(s-p.Size/recon.Mas) > 1e-6 {
+				t.Errorf("CSV row %d: %v", k+1, rows[k+1])
+			}
+		}
+		for _, p := range []string{paths.Montage, paths.Moments} {
+			if st, err := os.Stat(p); err != nil || st.Size() == 0 {
+				t.Errorf("%s: %v", p, err)
+			}
+		}
+		if flux != (paths.Spectrum != "") || flux == (paths.SpectrumNote != "") {
+			t.Errorf("flux %v: spectrum %q, note %q", flux, paths.Spectrum, paths.SpectrumNote)
+		}
+	}
+}
