@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"vcz/io/fitsimage"
+	"vcz/io/oifits"
 	"vcz/output"
 )
 
@@ -331,5 +332,38 @@ func TestFailedPlotsLeaveNothing(t *testing.T) {
 		if _, err := os.Stat(filepath.Join(dir, p)); err == nil {
 			t.Errorf("%s left after the failure", p)
 		}
+	}
+}
+
+// TestInspectEscapes checks that inspect's text shows a target name holding terminal
+// control codes (ESC [ 2 J clears the screen, ECMA-48) escaped, never raw.
+func TestInspectEscapes(t *testing.T) {
+	var b bytes.Buffer
+	e := &escaper{w: &b}
+	e.Write([]byte("Targets:        Orrin\x1b[2J\x07\u009b\tA\n"))
+	if got, want := b.String(), "Targets:        Orrin\\x1b[2J\\x07\\u009b\tA\n"; got != want {
+		t.Errorf("got %q, want %q", got, want)
+	}
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	f, err := oifits.ReadFile(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The writer refuses control characters, so a placeholder of the same length is
+	// written and replaced in the table's bytes.
+	f.Targets[0].Name, f.Primary.Object = "OrrinQQQQ", "other"
+	var buf bytes.Buffer
+	if err := oifits.Encode(&buf, f); err != nil {
+		t.Fatal(err)
+	}
+	raw := bytes.Replace(buf.Bytes(), []byte("OrrinQQQQ"), []byte("Orrin\x1b[2J"), -1)
+	bad := filepath.Join(dir, "esc.oifits")
+	if err := os.WriteFile(bad, raw, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, _, code := runCmd(t, "inspect", bad)
+	if code != exitOK || strings.ContainsRune(out, 0x1b) || !strings.Contains(out, `Orrin\x1b[2J`) {
+		t.Errorf("exit %d, output %q", code, out)
 	}
 }

@@ -65,8 +65,34 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(rep)
 	}
-	printInspect(stdout, rep)
+	printInspect(&escaper{w: stdout}, rep)
 	return nil
+}
+
+// escaper writes text with its control characters escaped, so that a header string of a
+// file (a target name holding ESC[2J, say) cannot drive the terminal: every C0 control but
+// newline and tab, DEL and the C1 controls become \xNN or \u00NN (ECMA-48 sect. 5, from
+// memory: these are the codes a terminal acts on). JSON output escapes them itself.
+type escaper struct{ w io.Writer }
+
+func (e *escaper) Write(p []byte) (int, error) {
+	var b strings.Builder
+	for _, r := range string(p) {
+		switch {
+		case r == '\n' || r == '\t':
+			b.WriteRune(r)
+		case r < 0x20 || r == 0x7f:
+			fmt.Fprintf(&b, "\\x%02x", r)
+		case r >= 0x80 && r <= 0x9f:
+			fmt.Fprintf(&b, "\\u%04x", r)
+		default:
+			b.WriteRune(r)
+		}
+	}
+	if _, err := io.WriteString(e.w, b.String()); err != nil {
+		return 0, err
+	}
+	return len(p), nil
 }
 
 func printInspect(w io.Writer, r output.InspectReport) {

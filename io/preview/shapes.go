@@ -65,9 +65,11 @@ func segment(a, b pt, w float64) []pt {
 // semi-axes a (along angle theta, radians clockwise from screen up) and b.
 // reverse flips its orientation.
 func ellipse(c pt, a, b, theta float64, reverse bool) []pt {
-	n := 16 + int(4*math.Max(a, b))
-	if n > 256 {
-		n = 256
+	// The count is bounded as a float first: a huge or NaN size (a pixel of 1e-20 mas
+	// makes the beam 1e20 pixels wide) would overflow the conversion to int.
+	n := 256
+	if f := 16 + 4*math.Max(a, b); f < 256 {
+		n = int(f)
 	}
 	p := make([]pt, n)
 	// Major axis direction on screen: up is (0, −1); clockwise by theta.
