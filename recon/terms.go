@@ -200,8 +200,21 @@ func (o *Objective) Problem() string { return o.bad }
 // Eval returns J(x) and, when grad is non-nil, overwrites grad with ∂J/∂x. It costs one
 // Forward and (with grad) one Adjoint transform.
 func (o *Objective) Eval(grad, x []float64) float64 {
+	if len(x) != o.m.N*o.m.N {
+		panic(fmt.Sprintf("recon: image has %d pixels, grid has %d", len(x), o.m.N*o.m.N))
+	}
+	f := 0.0
+	for _, v := range x {
+		f += v
+	}
+	return o.eval(grad, x, f, nil)
+}
+
+// eval is Eval with the flux Σ x already summed (in the order of Eval) and the extra gradient
+// ex (nil for none) added in the pass that writes grad.
+func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64 {
 	m := o.m
-	flux := m.Forward(x)
+	m.forward(x, flux)
 	o.bad = ""
 	if m.norm && (!(flux > 0) || math.IsInf(flux, 0)) {
 		o.bad = fmt.Sprintf("total flux of the image is %g", flux)
@@ -268,7 +281,7 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	}
 	total += extra
 	if grad != nil {
-		m.Gradient(grad)
+		m.gradient(grad, ex)
 	}
 	return total
 }
