@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+	"runtime"
 	"testing"
 )
 
@@ -74,6 +75,47 @@ func TestSmoothPhaseExact(t *testing.T) {
 		gim := (smooth(z+complex(0, h)) - smooth(z-complex(0, h))) / (2 * h)
 		if d := cmplx.Abs(g - complex(gre, gim)); d > 1e-6*max(cmplx.Abs(g), is2/eta) {
 			t.Errorf("z = %v, η = %g, σ = %g: gradient %v, finite differences %v", z, eta, sigma, g, complex(gre, gim))
+		}
+	}
+}
+
+// TestEvalHelpersSameBits checks that the parts of an evaluation give the same bits whether
+// the caller evaluates them all (GOMAXPROCS 1: no helper) or a helper takes one (GOMAXPROCS
+// 2), with exact and smoothed phases: which goroutine evaluates a part must not matter.
+func TestEvalHelpersSameBits(t *testing.T) {
+	const n, pixel = 16, 1e-9
+	rng := rand.New(rand.NewPCG(4, 4))
+	d := randomData(rng, 0.5/pixel/2)
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 0.2 + rng.Float64()
+	}
+	eval := func(procs int, smooth float64) (float64, []float64, [nTypes]float64) {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := NewObjective(d, m, TermOptions{})
+		o.minParallel = 0
+		o.SetPhaseSmoothing(smooth)
+		g := make([]float64, n*n)
+		f := o.Eval(g, x)
+		if helpers := o.pool != nil && o.pool.ch != nil; helpers != (procs > 1) {
+			t.Fatalf("GOMAXPROCS %d: helpers running %v", procs, helpers)
+		}
+		return f, g, o.chi2
+	}
+	for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
+		f1, g1, c1 := eval(1, smooth)
+		f2, g2, c2 := eval(2, smooth)
+		if f1 != f2 || c1 != c2 {
+			t.Errorf("smoothing %g: objective %v and χ² %v with a helper, %v and %v without", smooth, f2, c2, f1, c1)
+		}
+		for i := range g1 {
+			if g1[i] != g2[i] {
+				t.Fatalf("smoothing %g: gradient %d is %v with a helper, %v without", smooth, i, g2[i], g1[i])
+			}
 		}
 	}
 }
