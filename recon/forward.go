@@ -94,6 +94,12 @@ func (m *ForwardModel) Forward(x []float64) float64 {
 	for _, v := range x {
 		f += v
 	}
+	m.forward(x, f)
+	return f
+}
+
+// forward is Forward with the flux f = Σ x already summed (in the order of Forward).
+func (m *ForwardModel) forward(x []float64, f float64) {
 	m.flux = f
 	m.transform(x)
 	if m.norm {
@@ -103,7 +109,6 @@ func (m *ForwardModel) Forward(x []float64) float64 {
 		}
 	}
 	clear(m.gvis)
-	return f
 }
 
 // at returns the model visibility seen by a datum (valid after Forward).
@@ -116,19 +121,44 @@ func (m *ForwardModel) at(r ref) complex128 { return at(m.vis, r) }
 //
 // where Re Σ conj(G_k)·a_kp is the adjoint transform of G. Without normalisation only the first
 // term remains, undivided.
-func (m *ForwardModel) Gradient(grad []float64) {
-	m.adjoint()
-	if !m.norm {
-		copy(grad, m.adj)
-		return
+func (m *ForwardModel) Gradient(grad []float64) { m.gradient(grad, nil) }
+
+// gradExtra is a gradient added to the data terms' in the same pass over the image (the
+// regularizer and the flux term of Solve's objective): s·(r_p − c) + add at pixel p, or add
+// alone when r is nil.
+type gradExtra struct {
+	s, c, add float64
+	r         []float64
+}
+
+// gradient is Gradient with the extra gradient ex (nil for none) added to each pixel.
+func (m *ForwardModel) gradient(grad []float64, ex *gradExtra) {
+	m.adjoint() // through the sub-samples of smearing when it is on
+	adj := m.adj[:len(grad)]
+	cm, inv := 0.0, 1.0
+	if m.norm {
+		for k, g := range m.gvis {
+			v := m.vis[k]
+			cm += real(g)*real(v) + imag(g)*imag(v)
+		}
+		inv = 1 / m.flux
 	}
-	c := 0.0
-	for k, g := range m.gvis {
-		v := m.vis[k]
-		c += real(g)*real(v) + imag(g)*imag(v)
-	}
-	inv := 1 / m.flux
-	for p := range grad {
-		grad[p] = (m.adj[p] - c) * inv
+	switch {
+	case ex == nil && !m.norm:
+		copy(grad, adj)
+	case ex == nil:
+		for p, a := range adj {
+			grad[p] = (a - cm) * inv
+		}
+	case ex.r == nil:
+		for p, a := range adj {
+			grad[p] = (a-cm)*inv + ex.add
+		}
+	default:
+		r := ex.r[:len(adj)]
+		s, c, add := ex.s, ex.c, ex.add
+		for p, a := range adj {
+			grad[p] = (a-cm)*inv + s*(r[p]-c) + add
+		}
 	}
 }

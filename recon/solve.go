@@ -266,8 +266,12 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 				return noFluxObjective
 			}
 		}
-		v := e.obj.Eval(grad, x)
-		if e.reg != nil && mu != 0 {
+		// The regularizer and the flux term come first, so that their gradients are added in
+		// the pass that writes the data terms' gradient (ForwardModel.gradient).
+		var ex gradExtra
+		r := 0.0
+		useReg := e.reg != nil && mu != 0
+		if useReg {
 			var rg []float64
 			if grad != nil {
 				rg = e.rgrad
@@ -279,8 +283,7 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 					xn[i] = xi / fl
 				}
 			}
-			r := e.reg.Eval(rg, xn)
-			v += mu * r
+			r = e.reg.Eval(rg, xn)
 			if grad != nil {
 				// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
 				c := 0.0
@@ -289,21 +292,29 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 						c += g * xn[i]
 					}
 				}
-				s := mu / fl
+				ex.s, ex.c, ex.r = mu/fl, c, rg
+			}
+		}
+		df := fl - 1
+		if e.rho > 0 {
+			ex.add = 2 * e.rho * df
+		}
+		var v float64
+		if e.rho > 0 {
+			v = e.obj.eval(grad, x, fl, &ex)
+		} else {
+			v = e.obj.Eval(grad, x) // the flux is not summed above
+			if grad != nil && ex.r != nil {
 				for i := range grad {
-					grad[i] += s * (rg[i] - c)
+					grad[i] += ex.s * (ex.r[i] - ex.c)
 				}
 			}
 		}
+		if useReg {
+			v += mu * r
+		}
 		if e.rho > 0 {
-			df := fl - 1
 			v += e.rho * df * df
-			if grad != nil {
-				c := 2 * e.rho * df
-				for i := range grad {
-					grad[i] += c
-				}
-			}
 		}
 		return v
 	}

@@ -53,6 +53,27 @@ func smoothPhase(z complex128, eta, is2 float64) (float64, complex128) {
 	return v, complex(c*(ux-1)-c3*re, c*uy-c3*im)
 }
 
+// smoothPhaseExact returns the exact wrap-safe term 2(|z| − Re z)/(|z|σ²) (0 at z = 0) with
+// the smoothed term and its gradient of smoothPhase, sharing |z| and the reciprocals.
+func smoothPhaseExact(z complex128, eta, is2 float64) (exact, v float64, g complex128) {
+	re, im := real(z), imag(z)
+	a2 := re*re + im*im
+	a := math.Sqrt(a2)
+	q2 := a2 + eta*eta
+	iq := 1 / math.Sqrt(q2)
+	d := a - re
+	ux, uy := 0.0, 0.0
+	if a > 0 {
+		ia := 1 / a
+		ux, uy = re*ia, im*ia
+		exact = 2 * d * ia * is2
+	}
+	c := 2 * is2 * iq
+	v = d * c
+	c3 := c * d * iq * iq
+	return exact, v, complex(c*(ux-1)-c3*re, c*uy-c3*im)
+}
+
 // phaseScales returns the typical model amplitudes of the closure-phase and visibility-phase
 // terms of d (SetPhaseSmoothing): the median triple amplitude and the median |V|.
 func phaseScales(d *dataset.Data) (b, v float64) {

@@ -68,39 +68,41 @@ func (t *t3PhiTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
 	s, sm := 0.0, 0.0
 	eta := c.smooth * t.scale
 	lo, hi := part(len(t.idx), k, parts)
-	for j := lo; j < hi; j++ {
-		r := refs[t.idx[j]]
-		w1, w2, w3 := sides(vis, r)
-		e := t.e[j]
-		b := w1 * w2 * w3 * e // B·exp(−iφₒ): its argument is φ − φₒ
-		ab2 := real(b)*real(b) + imag(b)*imag(b)
-		is2 := t.is2[j]
+	idx, es, is2s := t.idx[lo:hi], t.e[lo:hi], t.is2[lo:hi]
+	es, is2s = es[:len(idx)], is2s[:len(idx)]
+	for j, i := range idx {
+		r := &refs[i]
+		w1, w2, w3 := sides(vis, *r)
+		// b = W1·W2·W3·exp(−iφₒ), whose argument is φ − φₒ, and its derivatives
+		// ∂b/∂W1 = W2 W3 e, ∂b/∂W2 = W1 W3 e, ∂b/∂W3 = W1 W2 e from shared products.
+		w3e := w3 * es[j]
+		d1 := w2 * w3e
+		b := w1 * d1
+		is2 := is2s[j]
+		var gb complex128 // ∂J/∂(Re b, Im b), weighted
 		if eta > 0 {
-			// The smoothed term of SetPhaseSmoothing; ∂b/∂W1 = W2 W3 e, and likewise.
-			if ab2 > 0 {
-				s += 2 * (1 - real(b)/math.Sqrt(ab2)) * is2
-			}
-			v, gb := smoothPhase(b, eta, is2)
+			// The smoothed term of SetPhaseSmoothing.
+			x, v, gz := smoothPhaseExact(b, eta, is2)
+			s += x
 			sm += v
-			if g != nil {
-				gb *= complex(w, 0)
-				addGrad(g, r[0], conj(w2*w3*e)*gb)
-				addGrad(g, r[1], conj(w1*w3*e)*gb)
-				addGrad(g, r[2], conj(w1*w2*e)*gb)
+			gb = gz * complex(w, 0)
+		} else {
+			ab2 := real(b)*real(b) + imag(b)*imag(b)
+			if !(ab2 > 0) {
+				continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
 			}
-			continue
+			ia := 1 / math.Sqrt(ab2)
+			s += 2 * (1 - real(b)*ia) * is2
+			// dJ/dφ = 2 sin φ/σ² and ∂φ/∂(Re, Im) b = i b/|b|²: gb = i·(2w sin φ/σ²/|b|)·b/|b|.
+			kb := 2 * w * imag(b) * ia * is2 * ia * ia
+			gb = complex(-kb*imag(b), kb*real(b))
 		}
-		if !(ab2 > 0) {
-			continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
-		}
-		ia := 1 / math.Sqrt(ab2)
-		cs, sn := real(b)*ia, imag(b)*ia
-		s += 2 * (1 - cs) * is2
 		if g != nil {
-			u := complex(0, 2*w*sn*is2*ia) * b * complex(ia, 0)
-			addGrad(g, r[0], conj(w2*w3*e)*u)
-			addGrad(g, r[1], conj(w1*w3*e)*u)
-			addGrad(g, r[2], conj(w1*w2*e)*u)
+			d2 := w1 * w3e
+			d3 := w1 * w2 * es[j]
+			addGrad(g, r[0], conj(d1)*gb)
+			addGrad(g, r[1], conj(d2)*gb)
+			addGrad(g, r[2], conj(d3)*gb)
 		}
 	}
 	if eta > 0 {

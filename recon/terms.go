@@ -3,7 +3,9 @@ package recon
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"sync"
+
 	"vcz/dataset"
 )
 
@@ -54,6 +56,7 @@ type Objective struct {
 	notes  []string
 	bad    string // first non-finite result of the last evaluation
 	parts  []termPart
+	pool   *partPool // helpers for the parts after the first, started by the first parallel Eval
 	// minParallel is the number of V² and closure data (T3 counted twice) from which Eval
 	// splits the terms into evalParts parts; tests lower it.
 	minParallel int
@@ -198,8 +201,21 @@ func (o *Objective) Problem() string { return o.bad }
 // Eval returns J(x) and, when grad is non-nil, overwrites grad with ∂J/∂x. It costs one
 // Forward and (with grad) one Adjoint transform.
 func (o *Objective) Eval(grad, x []float64) float64 {
+	if len(x) != o.m.N*o.m.N {
+		panic(fmt.Sprintf("recon: image has %d pixels, grid has %d", len(x), o.m.N*o.m.N))
+	}
+	f := 0.0
+	for _, v := range x {
+		f += v
+	}
+	return o.eval(grad, x, f, nil)
+}
+
+// eval is Eval with the flux Σ x already summed (in the order of Eval) and the extra gradient
+// ex (nil for none) added in the pass that writes grad.
+func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64 {
 	m := o.m
-	flux := m.Forward(x)
+	m.forward(x, flux)
 	o.bad = ""
 	if m.norm && (!(flux > 0) || math.IsInf(flux, 0)) {
 		o.bad = fmt.Sprintf("total flux of the image is %g", flux)
@@ -233,16 +249,10 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 			o.scale = sc.prepare(&o.parts[0].ctx)
 		}
 	}
-	var wg sync.WaitGroup
-	for k := 1; k < parts; k++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			o.evalPart(&o.parts[k], k, parts)
-		}()
+	if parts > 1 && o.pool == nil {
+		o.pool = newPartPool(o, parts)
 	}
-	o.evalPart(&o.parts[0], 0, parts)
-	wg.Wait()
+	o.pool.run(o, parts)
 	extra := 0.0
 	for k := 0; k < parts; k++ {
 		pt := &o.parts[k]
@@ -272,7 +282,7 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	}
 	total += extra
 	if grad != nil {
-		m.Gradient(grad)
+		m.gradient(grad, ex)
 	}
 	return total
 }
@@ -286,6 +296,62 @@ const parallelData = 4096
 // time goals are set on. It is fixed, not the number of processors, so that the sums and
 // hence the images do not depend on the machine.
 const evalParts = 2
+
+// partPool is a fixed set of helper goroutines that evaluate the parts of an evaluation after
+// the first while the caller evaluates the first, so that Eval starts no goroutine and
+// allocates nothing. It holds no reference to its Objective: idle helpers hold only the
+// channel, and they exit when it is closed, which a cleanup of the Objective arranges. Which
+// goroutine evaluates a part does not change what it computes, so results do not depend on the
+// number of helpers.
+type partPool struct {
+	ch chan partTask
+	wg sync.WaitGroup
+}
+
+// partTask asks a helper to evaluate part k of parts of o.
+type partTask struct {
+	o        *Objective
+	k, parts int
+	wg       *sync.WaitGroup
+}
+
+// newPartPool starts min(parts, GOMAXPROCS) − 1 helpers for o.
+func newPartPool(o *Objective, parts int) *partPool {
+	p := &partPool{}
+	n := min(parts, runtime.GOMAXPROCS(0)) - 1
+	if n > 0 {
+		p.ch = make(chan partTask, parts)
+		for range n {
+			go partHelper(p.ch)
+		}
+		runtime.AddCleanup(o, func(ch chan partTask) { close(ch) }, p.ch)
+	}
+	return p
+}
+
+func partHelper(ch chan partTask) {
+	for t := range ch {
+		t.o.evalPart(&t.o.parts[t.k], t.k, t.parts)
+		t.wg.Done()
+	}
+}
+
+// run evaluates parts 1 … parts−1 of o on the helpers (or here without them) and part 0 here,
+// and returns when all are done.
+func (p *partPool) run(o *Objective, parts int) {
+	if p == nil || p.ch == nil {
+		for k := range parts {
+			o.evalPart(&o.parts[k], k, parts)
+		}
+		return
+	}
+	p.wg.Add(parts - 1)
+	for k := 1; k < parts; k++ {
+		p.ch <- partTask{o: o, k: k, parts: parts, wg: &p.wg}
+	}
+	o.evalPart(&o.parts[0], 0, parts)
+	p.wg.Wait()
+}
 
 // termPart holds the partial sums of one part of an evaluation.
 type termPart struct {

@@ -57,12 +57,19 @@ func TestChi2Sigma(t *testing.T) {
 // Ann. Math. Stat. 9, 60: the χ² difference of nested fits follows χ²
 // with one degree of freedom). The counts must lie within 3.5 binomial
 // standard deviations of their expectation. The data are exact model
-// visibilities plus noise; each draw has its own seed.
-func TestFalseDetectionRate(t *testing.T) {
-	draws := 4000
-	if testing.Short() {
-		draws = 1000
+// visibilities plus noise; each draw has its own seed. The test runs 1000
+// draws; BenchmarkFalseDetectionRate runs 4000 with the same bound:
+//
+//	go test -run '^$' -bench FalseDetectionRate -benchtime 1x ./recon/fit
+func TestFalseDetectionRate(t *testing.T) { checkFalseDetections(t, 1000) }
+
+func BenchmarkFalseDetectionRate(b *testing.B) {
+	for b.Loop() {
+		checkFalseDetections(b, 4000)
 	}
+}
+
+func checkFalseDetections(t testing.TB, draws int) {
 	truth := mustLoad(t, "ud:diameter=1.5")
 	var n2, n3 int
 	for i := 0; i < draws; i++ {

@@ -58,8 +58,22 @@ func TestLimitThresholds(t *testing.T) {
 // Δχ² grows as the square of the ratio, so 1.5× gives about 2.25 times
 // the threshold and 0.5× a quarter of it: Absil et al. 2011, A&A 535,
 // A68, sect. 4). The data are exact sums of the analytic models plus
-// seeded Gaussian noise.
+// seeded Gaussian noise. The test checks one position of the map;
+// BenchmarkLimitsInjectionRecovery checks three with the same bounds:
+//
+//	go test -run '^$' -bench LimitsInjectionRecovery -benchtime 1x ./recon/fit
 func TestLimitsInjectionRecovery(t *testing.T) {
+	checkInjectionRecovery(t, [][2]int{{3, 5}})
+}
+
+func BenchmarkLimitsInjectionRecovery(b *testing.B) {
+	for b.Loop() {
+		checkInjectionRecovery(b, [][2]int{{1, 0}, {3, 5}, {7, 2}})
+	}
+}
+
+// checkInjectionRecovery checks the cells (separation, position angle indices) of the map.
+func checkInjectionRecovery(t testing.TB, cells [][2]int) {
 	n := exactNoise
 	n.rng = rand.New(rand.NewPCG(5, 8))
 	d := synth(modelVis(mustLoad(t, "ud:diameter=1.5")), n)
@@ -72,7 +86,7 @@ func TestLimitsInjectionRecovery(t *testing.T) {
 		t.Fatal(err)
 	}
 	const draws = 40
-	for _, cell := range [][2]int{{1, 0}, {3, 5}, {7, 2}} { // (separation, position angle) indices
+	for _, cell := range cells {
 		sep, pa := L.Sep[cell[0]], L.PA[cell[1]]
 		lim := L.Ratio[1][cell[1]*len(L.Sep)+cell[0]]
 		if math.IsNaN(lim) {

@@ -84,10 +84,11 @@
 //	go test -run '^$' -bench Suite -benchtime 1x ./recon/validate -suite.only 'Varn|Brisca/four'
 //	go test -run '^$' -bench Suite -benchtime 1x ./recon/validate -suite.oracle=false
 //	go test -run '^$' -bench Night -benchtime 1x ./recon/validate
+//	go test -run '^$' -bench Subset -benchtime 1x ./recon/validate   # all six cases of TestSuiteSubset
 //
 // -suite.concurrent sets the number of cases run at once, -suite.refine=false skips the
-// half-decade refinement of the oracle. TestSuiteSubset asserts the engine's targets on four
-// cases of the four-telescope array (about 25 s on one core); the full run takes about half
+// half-decade refinement of the oracle. TestSuiteSubset asserts the engine's targets on three
+// cases of the four-telescope array and BenchmarkSubset on all six; the full run takes about half
 // an hour on two cores. Results of the full run are reported in the closing notes of the
 // change that added the suite and in the README.
 package validate

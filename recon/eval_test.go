@@ -1,0 +1,121 @@
+package recon
+
+import (
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+)
+
+// TestEvalAllocs checks that an evaluation of the objective with its gradient allocates
+// nothing: the data terms in one part and in parallel parts, exact and smoothed phases, and the
+// total objective of Solve (data terms, regularizer, flux term) around it. The transform's own
+// test (nufft TestAllocs) covers Forward and Adjoint.
+func TestEvalAllocs(t *testing.T) {
+	const n, pixel = 32, 1e-9
+	rng := rand.New(rand.NewPCG(3, 5))
+	d := randomData(rng, 0.5/pixel/2)
+	g := Grid{N: n, Pixel: pixel}
+	e, err := newEngine(Problem{Data: d, Grid: g, Reg: maxentReg}, Settings{Workers: 2}, GridChoice{Grid: g})
+	if err != nil {
+		t.Fatal(err)
+	}
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 0.2 + rng.Float64()
+	}
+	grad := make([]float64, n*n)
+	f := e.f(3)
+	for _, minParallel := range []int{parallelData, 0} {
+		for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
+			e.obj.minParallel = minParallel
+			e.obj.SetPhaseSmoothing(smooth)
+			for name, fn := range map[string]func(){
+				"Objective.Eval":          func() { e.obj.Eval(grad, x) },
+				"Objective.Eval, no grad": func() { e.obj.Eval(nil, x) },
+				"total objective":         func() { f(grad, x) },
+			} {
+				fn() // the first parallel evaluation starts the helpers
+				if a := testing.AllocsPerRun(20, fn); a != 0 {
+					t.Errorf("%s (threshold %d, smoothing %g): %g allocations per evaluation", name, minParallel, smooth, a)
+				}
+			}
+		}
+	}
+}
+
+// TestSmoothPhaseExact checks the shared evaluation of the closure-phase term against its
+// definitions: the exact term against 2(1 − cos φ)/σ² with φ = atan2(Im z, Re z) (the
+// wrap-safe χ² of term_phase.go), the smoothed value against 2(|z| − Re z)/(√(|z|² + η²)σ²)
+// written out, and its gradient against central finite differences.
+func TestSmoothPhaseExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 1))
+	for k := 0; k < 200; k++ {
+		z := complex(rng.NormFloat64(), rng.NormFloat64())
+		if k%10 == 0 {
+			z *= 1e-4 // amplitudes well below η
+		}
+		eta, sigma := 0.01+0.3*rng.Float64(), 0.02+0.5*rng.Float64()
+		is2 := 1 / (sigma * sigma)
+		exact, v, g := smoothPhaseExact(z, eta, is2)
+		phi := math.Atan2(imag(z), real(z))
+		if want := 2 * (1 - math.Cos(phi)) * is2; math.Abs(exact-want) > 1e-12*max(want, is2*1e-3) {
+			t.Errorf("z = %v, σ = %g: exact term %.15g, want %.15g", z, sigma, exact, want)
+		}
+		smooth := func(z complex128) float64 {
+			a := cmplx.Abs(z)
+			return 2 * (a - real(z)) / (math.Sqrt(a*a+eta*eta) * sigma * sigma)
+		}
+		if want := smooth(z); math.Abs(v-want) > 1e-12*max(want, is2*1e-3) {
+			t.Errorf("z = %v, η = %g, σ = %g: smoothed term %.15g, want %.15g", z, eta, sigma, v, want)
+		}
+		h := 1e-6 * cmplx.Abs(z) // |z| has a kink at 0: steps stay well inside its scale
+		gre := (smooth(z+complex(h, 0)) - smooth(z-complex(h, 0))) / (2 * h)
+		gim := (smooth(z+complex(0, h)) - smooth(z-complex(0, h))) / (2 * h)
+		if d := cmplx.Abs(g - complex(gre, gim)); d > 1e-6*max(cmplx.Abs(g), is2/eta) {
+			t.Errorf("z = %v, η = %g, σ = %g: gradient %v, finite differences %v", z, eta, sigma, g, complex(gre, gim))
+		}
+	}
+}
+
+// TestEvalHelpersSameBits checks that the parts of an evaluation give the same bits whether
+// the caller evaluates them all (GOMAXPROCS 1: no helper) or a helper takes one (GOMAXPROCS
+// 2), with exact and smoothed phases: which goroutine evaluates a part must not matter.
+func TestEvalHelpersSameBits(t *testing.T) {
+	const n, pixel = 16, 1e-9
+	rng := rand.New(rand.NewPCG(4, 4))
+	d := randomData(rng, 0.5/pixel/2)
+	x := make([]float64, n*n)
+	for i := range x {
+		x[i] = 0.2 + rng.Float64()
+	}
+	eval := func(procs int, smooth float64) (float64, []float64, [nTypes]float64) {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := NewObjective(d, m, TermOptions{})
+		o.minParallel = 0
+		o.SetPhaseSmoothing(smooth)
+		g := make([]float64, n*n)
+		f := o.Eval(g, x)
+		if helpers := o.pool != nil && o.pool.ch != nil; helpers != (procs > 1) {
+			t.Fatalf("GOMAXPROCS %d: helpers running %v", procs, helpers)
+		}
+		return f, g, o.chi2
+	}
+	for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
+		f1, g1, c1 := eval(1, smooth)
+		f2, g2, c2 := eval(2, smooth)
+		if f1 != f2 || c1 != c2 {
+			t.Errorf("smoothing %g: objective %v and χ² %v with a helper, %v and %v without", smooth, f2, c2, f1, c1)
+		}
+		for i := range g1 {
+			if g1[i] != g2[i] {
+				t.Fatalf("smoothing %g: gradient %d is %v with a helper, %v without", smooth, i, g2[i], g1[i])
+			}
+		}
+	}
+}
