@@ -58,7 +58,7 @@ type Group struct {
 }
 
 // Len returns the number of units.
-func (g *Groups) Len() int { return len(g.Units) }
+func (g Groups) Len() int { return len(g.Units) }
 
 // Group returns the resampling units of d: exposures (file and MJD) or table rows (file, HDU
 // and row).
