@@ -47,6 +47,15 @@ offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
 for the full list with defaults.
 
+-bootstrap K adds uncertainty maps: K reconstructions of the data resampled
+with replacement (-bootstrap-unit exposure, the default, or baseline;
+-bootstrap-seed), each started from the image at its weight, written as
+OUT-boot-mean.fits, OUT-boot-std.fits, OUT-boot-signif.fits (mean / std) and
+OUT-boot.png (contours at 3σ and 5σ). -feature x,y,r (mas) or -feature
+MASK.fits, repeatable, reports how often a region is brighter or fainter
+than a smooth reference (-feature-ref auto, disc or annulus) by more than
+the noise, printed and under "bootstrap" in -json.
+
 # Simulate
 
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits) -o OUT.oifits

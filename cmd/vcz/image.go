@@ -50,7 +50,7 @@ Outputs (OUT defaults to the first file's name with -image.fits):
   OUT-vis2.png        V² data and model against spatial frequency
   OUT-t3phi.png       closure phases, data and model
   OUT-residuals.png   residuals normalised by their errors
-  OUT-lcurve.png      the weight path, when the weight was chosen automatically`
+  OUT-lcurve.png      the weight path, when the weight was chosen automatically` + bootstrapDoc
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
@@ -62,11 +62,16 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	quiet := fs.Bool("quiet", false, quietUsage)
 	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
 	strict := registerStrict(fs)
+	boot := registerBootstrap(fs)
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
 	if fs.NArg() == 0 {
 		return badInputf("image: no OIFITS file given (run 'vcz image --help')")
+	}
+	breq, err := boot.check()
+	if err != nil {
+		return err
 	}
 	if *out == "" {
 		base := filepath.Base(fs.Arg(0))
@@ -75,7 +80,11 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
-	if err := workflow.CheckNotInputs(fs.Args(), *out); err != nil {
+	outPaths := []string{*out}
+	if breq.requests {
+		outPaths = append(outPaths, bootstrapPaths(*out)...)
+	}
+	if err := workflow.CheckNotInputs(fs.Args(), outPaths...); err != nil {
 		return err
 	}
 	st, err := output.ParseStretch(*stretch)
@@ -90,21 +99,36 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
+	outs := output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}
+	sum, run, err := reconstruct(files, d, spec, outs, *out, *quiet, stderr)
 	if err != nil {
 		return err
+	}
+	var bs *BootstrapSummary
+	if breq.requests {
+		if bs, err = runBootstrap(breq, files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
+			return err
+		}
 	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
+		if err := enc.Encode(bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
 			return failure(err)
 		}
 	} else if !*quiet {
 		printImageSummary(stdout, sum)
+		if bs != nil {
+			printBootstrap(stdout, bs)
+		}
 	}
 	printWarnings(stderr, "", sum.Warnings)
-	return strictFailure(*strict, "image", len(sum.Warnings))
+	nwarn := len(sum.Warnings)
+	if bs != nil {
+		printWarnings(stderr, "bootstrap", bs.Warnings)
+		nwarn += len(bs.Warnings)
+	}
+	return strictFailure(*strict, "image", nwarn)
 }
 
 // stretchUsage is the help of -stretch, the display stretch of the PNG previews (vcz image
