@@ -1,11 +1,13 @@
 package workflow
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
 	"vcz/dataset"
 	"vcz/recon"
+	"vcz/recon/batch"
 )
 
 // BootstrapOptions configure a bootstrap of a reconstruction. The zero value of every field
@@ -23,6 +25,27 @@ type BootstrapOptions struct {
 	Budget int
 	// Events, when non-nil, follows the replicates (RunTasks).
 	Events func(Event)
+	// Shard, when N > 1, runs only the replicates k with Shard.Take(k) (a task of a job
+	// array); the maps are then made by Summarize once every replicate is at hand.
+	Shard batch.Shard
+	// Store, when non-nil, keeps replicates across runs: a replicate it has is not
+	// recomputed, and every replicate computed is saved to it as soon as it is done.
+	Store ReplicateStore
+}
+
+// ReplicateStore keeps the images of bootstrap replicates, e.g. in files (ReplicateFiles).
+type ReplicateStore interface {
+	// Load returns replicate k when the store has it for the same run.
+	Load(k int) (r Replicate, ok bool)
+	// Save keeps replicate k.
+	Save(k int, r Replicate) error
+}
+
+// Replicate is the outcome of one bootstrap replicate.
+type Replicate struct {
+	Image     []float64
+	Iter      int
+	Converged bool
 }
 
 // Bootstrap is the outcome of a bootstrap: K reconstructions on data resampled with
@@ -52,6 +75,8 @@ type Bootstrap struct {
 	Iter         []int
 	NotConverged []int
 	Failed       map[int]error
+	// Loaded is the number of replicates taken from BootstrapOptions.Store.
+	Loaded int
 	// Warnings say why the maps may mislead, one sentence each.
 	Warnings []string
 }
@@ -71,9 +96,10 @@ func (im *Image) Bootstrap(full *recon.Result, opt BootstrapOptions) (*Bootstrap
 // transform worker; the replicates run through RunTasks, opt.Budget at once. When the data
 // do not fix the position of the object (no absolute visibility phases fitted), every
 // replicate is moved by whole pixels onto full's image (the alignment of the comparison,
-// alignImages) before the statistics. Errors of the input are *InputError; a replicate that
-// fails is recorded in Failed, and the bootstrap fails only when fewer than two replicates
-// gave an image.
+// alignImages) before the statistics (Summarize). Errors of the input are *InputError; a
+// replicate that fails is recorded in Failed, and the bootstrap fails only when fewer than
+// two replicates gave an image. With opt.Shard of several, only the shard's replicates are
+// made (and stored), and the maps are left to Summarize.
 func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt BootstrapOptions) (*Bootstrap, error) {
 	if opt.Replicates < 2 {
 		return nil, inputErrorf("-bootstrap %d: want at least 2 replicates", opt.Replicates)
@@ -100,27 +126,47 @@ func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt Boo
 	rs.Starts, rs.CoarseToFine, rs.PhaseSmoothing, rs.Workers, rs.Progress = 1, false, -1, 1, nil
 	converged := make([]bool, opt.Replicates)
 	errs := make([]error, opt.Replicates)
-	tasks := make([]Task, opt.Replicates)
-	for k := range tasks {
-		tasks[k] = Task{Name: fmt.Sprintf("bootstrap replicate %d", k+1), Workers: 1, Do: func() error {
+	var tasks []Task
+	var taskK []int // the replicate of each task
+	for k := range opt.Replicates {
+		if !opt.Shard.Take(k) {
+			continue
+		}
+		if opt.Store != nil {
+			if r, ok := opt.Store.Load(k); ok && len(r.Image) == n*n {
+				b.Images[k], b.Iter[k], converged[k] = r.Image, r.Iter, r.Converged
+				b.Loaded++
+				continue
+			}
+		}
+		taskK = append(taskK, k)
+		tasks = append(tasks, Task{Name: fmt.Sprintf("bootstrap replicate %d", k+1), Workers: 1, Do: func() error {
 			q := rp
 			q.Data = p.Data.Resample(&g, g.Draw(opt.Seed, k))
 			res, err := solveFinite(q, rs)
+			if err == nil && opt.Store != nil {
+				err = opt.Store.Save(k, Replicate{Image: res.Image, Iter: res.Iter, Converged: res.Converged})
+			}
 			if err != nil {
 				errs[k] = err
 				return err
 			}
 			b.Images[k], b.Iter[k], converged[k] = res.Image, res.Iter, res.Converged
 			return nil
-		}}
+		}})
 	}
-	perr := RunTasks(tasks, PoolOptions{Budget: opt.Budget, Events: opt.Events})
-	var good [][]float64
-	var goodK []int
-	for k := range tasks {
-		if err := errs[k]; err != nil || perr[k] != nil {
+	for i, err := range RunTasks(tasks, PoolOptions{Budget: opt.Budget, Events: opt.Events}) {
+		if k := taskK[i]; err != nil && errs[k] == nil {
+			errs[k] = err // a panic, caught by RunTasks
+		}
+	}
+	for k := range opt.Replicates {
+		if !opt.Shard.Take(k) {
+			continue
+		}
+		if err := errs[k]; err != nil || b.Images[k] == nil {
 			if err == nil {
-				err = perr[k]
+				err = errors.New("no image")
 			}
 			b.Failed[k] = err
 			b.Images[k] = nil
@@ -129,17 +175,37 @@ func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt Boo
 		if !converged[k] {
 			b.NotConverged = append(b.NotConverged, k)
 		}
-		good = append(good, b.Images[k])
-		goodK = append(goodK, k)
 	}
-	if len(good) < 2 {
-		for k := range tasks {
-			if err := b.Failed[k]; err != nil {
-				return nil, fmt.Errorf("bootstrap: %d of %d replicates failed; replicate %d: %w", len(b.Failed), opt.Replicates, k+1, err)
-			}
+	if opt.Shard.N > 1 {
+		return b, nil
+	}
+	if err := b.Summarize(full); err != nil {
+		return nil, err
+	}
+	return b, nil
+}
+
+// Summarize makes the maps from the replicates' images: it moves them onto full's image when
+// the data do not fix the position, then computes the per-pixel statistics and the
+// warnings. It fails when fewer than two replicates gave an image.
+func (b *Bootstrap) Summarize(full *recon.Result) error {
+	n := b.N
+	var good [][]float64
+	var goodK []int
+	for k, im := range b.Images {
+		if im != nil {
+			good = append(good, im)
+			goodK = append(goodK, k)
 		}
 	}
-	b.Shifts = make([][2]int, opt.Replicates)
+	if len(good) < 2 {
+		if len(b.Failed) > 0 {
+			k := firstKey(b.Failed)
+			return fmt.Errorf("bootstrap: %d of %d replicates failed; replicate %d: %w", len(b.Failed), len(b.Images), k+1, b.Failed[k])
+		}
+		return fmt.Errorf("bootstrap: %d of %d replicates at hand; the maps need at least 2", len(good), len(b.Images))
+	}
+	b.Shifts = make([][2]int, len(b.Images))
 	if !fixesPosition(full) {
 		// The full image is the reference; its own shift is zero.
 		aligned, shifts := alignImages(append([][]float64{full.Image}, good...), n, n/4)
@@ -150,13 +216,14 @@ func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt Boo
 		b.Aligned = true
 	}
 	b.Mean, b.Std, b.Significance = pixelStats(good)
+	b.Warnings = nil
 	if len(b.Failed) > 0 {
-		b.Warnings = append(b.Warnings, fmt.Sprintf("%d of %d bootstrap replicates failed and are left out of the maps (first: %v)", len(b.Failed), opt.Replicates, b.Failed[firstKey(b.Failed)]))
+		b.Warnings = append(b.Warnings, fmt.Sprintf("%d of %d bootstrap replicates failed and are left out of the maps (first: %v)", len(b.Failed), len(b.Images), b.Failed[firstKey(b.Failed)]))
 	}
 	if c := len(b.NotConverged); c > 0 {
 		b.Warnings = append(b.Warnings, fmt.Sprintf("%d of %d bootstrap replicates stopped at the iteration limit before converging: the standard deviation may include their distance from convergence; raise -iter", c, len(good)))
 	}
-	return b, nil
+	return nil
 }
 
 // fixesPosition reports whether the result fitted absolute visibility phases, which fix
