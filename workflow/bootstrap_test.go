@@ -2,10 +2,12 @@ package workflow
 
 import (
 	"math"
+	"path/filepath"
 	"testing"
 
 	"vcz/dataset"
 	"vcz/recon"
+	"vcz/recon/batch"
 	"vcz/runspec"
 )
 
@@ -50,5 +52,60 @@ func TestBootstrapSameBits(t *testing.T) {
 	}
 	if same(a.Std, c.Std) {
 		t.Error("another seed gave the same maps")
+	}
+}
+
+// TestBootstrapShards checks that replicates made by two shards and kept in files give the
+// same maps, bit for bit, as one run; that a file of another run is not used; and that a
+// rerun finds every replicate in the files.
+func TestBootstrapShards(t *testing.T) {
+	files, d := demoData(t)
+	im, err := NewImage(files, d, runspec.Spec{Grid: 32, Iterations: 60, Starts: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	full, err := recon.Solve(im.Problem, im.Settings)
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := BootstrapOptions{Replicates: 4, Seed: 2}
+	one, err := im.Bootstrap(full, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	store := ReplicateFiles{Stem: filepath.Join(t.TempDir(), "rec"), Hash: "run-a", N: 32, Pixel: full.Grid.Pixel}
+	// A stale file of another run for replicate 2.
+	other := store
+	other.Hash = "run-b"
+	if err := other.Save(1, Replicate{Image: make([]float64, 32*32), Iter: 3}); err != nil {
+		t.Fatal(err)
+	}
+	for k := 1; k <= 2; k++ {
+		o := opt
+		o.Shard, o.Store = batch.Shard{K: k, N: 2}, store
+		b, err := im.Bootstrap(full, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if b.Loaded != 0 || b.Mean != nil {
+			t.Errorf("shard %d/2: %d loaded, maps %v; want none", k, b.Loaded, b.Mean != nil)
+		}
+	}
+	o := opt
+	o.Store = store
+	all, err := im.Bootstrap(full, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if all.Loaded != 4 {
+		t.Errorf("collect loaded %d of 4 replicates", all.Loaded)
+	}
+	for p := range one.Std {
+		if math.Float64bits(one.Std[p]) != math.Float64bits(all.Std[p]) || math.Float64bits(one.Mean[p]) != math.Float64bits(all.Mean[p]) {
+			t.Fatalf("pixel %d: maps from the files differ from one run", p)
+		}
+	}
+	if len(one.NotConverged) != len(all.NotConverged) {
+		t.Errorf("not converged: %v from one run, %v from the files", one.NotConverged, all.NotConverged)
 	}
 }
