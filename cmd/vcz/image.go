@@ -106,7 +106,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	}
 	var bs *BootstrapSummary
 	if breq.requests {
-		if bs, err = runBootstrap(breq, files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
+		if bs, err = runBootstrap(breq, fs.Args(), files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
 			return err
 		}
 	}
