@@ -61,7 +61,7 @@ type Bootstrap struct {
 
 	// Images are the replicates' images (flux 1 unless the problem is unnormalised), moved by
 	// Shifts (whole pixels along x and y indices) onto the full data's image when Aligned;
-	// nil for a replicate that failed.
+	// nil for a replicate that failed or that another shard makes.
 	Images  [][]float64
 	Shifts  [][2]int
 	Aligned bool

@@ -186,7 +186,9 @@ func runBootstrap(req bootstrapRequest, inputs []string, files []*oifits.File, d
 			if ev.Left > 0 {
 				left = fmt.Sprintf(", about %s left", ev.Left.Round(time.Second))
 			}
-			fmt.Fprintf(stderr, "bootstrap: %d of %d replicates done (%d failed), %s%s\n", ev.Done, opt.Replicates, ev.Failed, ev.Elapsed.Round(time.Second), left)
+			// The replicates to make: those of the shard not found in files.
+			todo := ev.Done + ev.Failed + ev.Running + ev.Pending
+			fmt.Fprintf(stderr, "bootstrap: %d of %d replicates made (%d failed), %s%s\n", ev.Done, todo, ev.Failed, ev.Elapsed.Round(time.Second), left)
 		}
 	}
 	b, err := im.Bootstrap(run.Result, opt)
