@@ -23,7 +23,9 @@ Uncertainty: -bootstrap K reconstructs K resamplings of the data drawn with
 replacement (whole exposures by default: every channel, baseline and
 triangle of one file and MJD together; -bootstrap-unit baseline draws each
 baseline and triangle row instead), each started from the image of the full
-data at its weight. The replicates are moved onto the image by whole pixels
+data at its weight and run to convergence (up to four times -iter: one
+stopped early stays near the image and makes the spread too small). The
+replicates are moved onto the image by whole pixels
 when the data do not fix the position (no absolute phases). Outputs:
   OUT-boot-mean.fits    mean of the replicates
   OUT-boot-std.fits     standard deviation per pixel
