@@ -57,6 +57,17 @@ spectral axis and per-plane χ²ᵣ, a montage, OUT-planes.csv and OUT-planes.pn
 -star-index fits a star of power-law spectrum plus one environment image with
 its own spectral index, and writes the environment.
 
+-bootstrap K adds uncertainty maps: K reconstructions of the data resampled
+with replacement (-bootstrap-unit exposure, the default, or baseline;
+-bootstrap-seed), each started from the image at its weight, written as
+OUT-boot-mean.fits, OUT-boot-std.fits, OUT-boot-signif.fits (mean / std) and
+OUT-boot.png (contours at 3σ and 5σ). -feature x,y,r (mas) or -feature
+MASK.fits, repeatable, reports how often a region is brighter or fainter
+than a smooth reference (-feature-ref auto, disc or annulus) by more than
+the noise, printed and under "bootstrap" in -json. -bootstrap-shard K/N (or
+slurm) makes one slice of the replicates, kept as OUT-boot-0001.fits, ...,
+and -bootstrap-collect merges them (making any missing) into the maps.
+
 # Simulate
 
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits

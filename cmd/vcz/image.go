@@ -73,7 +73,7 @@ numbers of data. The outputs are then:
 flux goes as λ to the power -star-index (default -4) plus one image of its
 environment with its own fitted spectral index: OUT.fits is the environment,
 with the star's share of the flux at the mean wavelength (STARF0) and the
-indices (STARIDX, ENVIDX) in the header.`
+indices (STARIDX, ENVIDX) in the header.` + bootstrapDoc
 
 func runImage(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
@@ -86,6 +86,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
 	strict := registerStrict(fs)
 	rerun := fs.String("rerun", "", "make the result FILE.fits again: its options and data files (checked by SHA-256) from its header")
+	boot := registerBootstrap(fs)
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -95,7 +96,8 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		if fs.NArg() > 0 {
 			return badInputf("image: -rerun takes the data files from %s; give no file", *rerun)
 		}
-		allowed := map[string]bool{"rerun": true, "o": true, "no-png": true, "no-plots": true, "quiet": true, "json": true, "strict": true, "stretch": true, "workers": true}
+		allowed := map[string]bool{"rerun": true, "o": true, "no-png": true, "no-plots": true, "quiet": true, "json": true, "strict": true, "stretch": true, "workers": true,
+			"bootstrap": true, "bootstrap-seed": true, "bootstrap-unit": true, "bootstrap-shard": true, "bootstrap-collect": true, "feature": true, "feature-ref": true}
 		var extra []string
 		fs.Visit(func(f *flag.Flag) {
 			if !allowed[f.Name] {
@@ -119,6 +121,10 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if len(inputs) == 0 {
 		return badInputf("image: no OIFITS file given (run 'vcz image --help')")
 	}
+	breq, err := boot.check()
+	if err != nil {
+		return err
+	}
 	if *out == "" {
 		base := filepath.Base(inputs[0])
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
@@ -126,7 +132,11 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckOutputs(*out); err != nil {
 		return err
 	}
-	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), *out); err != nil {
+	outPaths := []string{*out}
+	if breq.requests {
+		outPaths = append(outPaths, bootstrapPaths(*out)...)
+	}
+	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), outPaths...); err != nil {
 		return err
 	}
 	st, err := output.ParseStretch(*stretch)
@@ -146,24 +156,42 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	outs := output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}
 	if !spec.Channels.Single() {
-		return runCube(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, *asJSON, *strict, stdout, stderr)
+		if breq.requests {
+			return badInputf("image: -bootstrap is not available for image cubes (-channels)")
+		}
+		return runCube(files, d, spec, outs, *out, *quiet, *asJSON, *strict, stdout, stderr)
 	}
-	sum, _, err := reconstruct(files, d, spec, output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}, *out, *quiet, stderr)
+	sum, run, err := reconstruct(files, d, spec, outs, *out, *quiet, stderr)
 	if err != nil {
 		return err
+	}
+	var bs *BootstrapSummary
+	if breq.requests {
+		if bs, err = runBootstrap(breq, fs.Args(), files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
+			return err
+		}
 	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
+		if err := enc.Encode(bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
 			return failure(err)
 		}
 	} else if !*quiet {
 		printImageSummary(stdout, sum)
+		if bs != nil {
+			printBootstrap(stdout, bs)
+		}
 	}
 	printWarnings(stderr, "", sum.Warnings)
-	return strictFailure(*strict, "image", len(sum.Warnings))
+	nwarn := len(sum.Warnings)
+	if bs != nil {
+		printWarnings(stderr, "bootstrap", bs.Warnings)
+		nwarn += len(bs.Warnings)
+	}
+	return strictFailure(*strict, "image", nwarn)
 }
 
 // stretchUsage is the help of -stretch, the display stretch of the PNG previews (vcz image

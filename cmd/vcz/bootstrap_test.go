@@ -1,0 +1,133 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"vcz/io/fitsimage"
+)
+
+// TestImageBootstrap runs `vcz image -bootstrap` on the demo data: the summary holds the
+// bootstrap and its feature test, and the maps are on the image's grid.
+func TestImageBootstrap(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "rec.fits")
+	stdout, errs, code := runCmd(t, "image", "-n", "32", "-iter", "100", "-starts", "1", "-quiet", "-json",
+		"-bootstrap", "3", "-bootstrap-seed", "9", "-feature", "0.7,0.5,0.5", "-o", out, data)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var sum bootstrapJSON
+	if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
+		t.Fatalf("%v in %q", err, stdout)
+	}
+	b := sum.Bootstrap
+	if b == nil || b.Replicates != 3 || b.Seed != 9 || b.Unit != "exposure" || len(b.Features) != 1 || b.Features[0].Pixels == 0 {
+		t.Fatalf("bootstrap summary %+v", b)
+	}
+	if sum.Grid.N != 32 || sum.Outputs.FITS != out {
+		t.Fatalf("image summary %+v", sum.ImageSummary)
+	}
+	for _, p := range []string{b.Outputs.Mean, b.Outputs.Std, b.Outputs.Significance} {
+		im, err := fitsimage.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if im.NX != 32 {
+			t.Errorf("%s: %d pixels per side", p, im.NX)
+		}
+	}
+	checkPNG(t, b.Outputs.PNG)
+}
+
+// TestBootstrapUsageErrors: bad bootstrap options exit 2 with one line naming the option,
+// before any data are read.
+func TestBootstrapUsageErrors(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"-bootstrap", "1"}, "-bootstrap 1"},
+		{[]string{"-bootstrap", "-3"}, "-bootstrap -3"},
+		{[]string{"-bootstrap", "5", "-bootstrap-unit", "night"}, "-bootstrap-unit"},
+		{[]string{"-feature", "1,2,0.5"}, "-feature needs -bootstrap"},
+		{[]string{"-bootstrap", "5", "-feature", "1,2,0"}, "radius"},
+		{[]string{"-bootstrap", "5", "-feature", "no-such-mask.fits"}, "no-such-mask.fits"},
+		{[]string{"-bootstrap", "5", "-feature-ref", "ring"}, "-feature-ref"},
+		{[]string{"-bootstrap", "5", "-bootstrap-shard", "3/2"}, "-bootstrap-shard"},
+		{[]string{"-bootstrap-collect"}, "need -bootstrap K"},
+		{[]string{"-bootstrap", "5", "-bootstrap-shard", "1/2", "-bootstrap-collect"}, "exclude each other"},
+	} {
+		args := append(append([]string{"image"}, c.args...), "no-such-data.oifits")
+		_, errs, code := runCmd(t, args...)
+		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want %d and one line naming %q", c.args, code, errs, exitBadInput, c.want)
+		}
+	}
+}
+
+// TestBootstrapShardsCollect runs the replicates as two tasks of a SLURM job array, then
+// collects them: the collect takes all three from the files and its maps equal, bit for
+// bit, those of one run; a second collect finds them again.
+func TestBootstrapShardsCollect(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	common := []string{"image", "-n", "32", "-iter", "60", "-starts", "1", "-quiet", "-json", "-no-plots", "-bootstrap", "3"}
+	runJSON := func(extra ...string) bootstrapJSON {
+		t.Helper()
+		args := append(append(append([]string{}, common...), extra...), data)
+		stdout, errs, code := runCmd(t, args...)
+		if code != exitOK {
+			t.Fatalf("%v: exit %d: %s", extra, code, errs)
+		}
+		var sum bootstrapJSON
+		if err := json.Unmarshal([]byte(stdout), &sum); err != nil {
+			t.Fatalf("%v in %q", err, stdout)
+		}
+		return sum
+	}
+	one := runJSON("-o", filepath.Join(dir, "one.fits"))
+	shardOut := filepath.Join(dir, "arr.fits")
+	defer func() { getenv = os.Getenv }()
+	for task := 0; task < 2; task++ {
+		env := map[string]string{"SLURM_ARRAY_TASK_ID": strconv.Itoa(task), "SLURM_ARRAY_TASK_COUNT": "2"}
+		getenv = func(k string) string { return env[k] }
+		s := runJSON("-bootstrap-shard", "slurm", "-o", shardOut)
+		if b := s.Bootstrap; b == nil || b.Shard != strconv.Itoa(task+1)+"/2" || b.Outputs != nil || b.Good != 2-task {
+			t.Fatalf("task %d: %+v", task, s.Bootstrap)
+		}
+	}
+	getenv = os.Getenv
+	for range 2 {
+		c := runJSON("-bootstrap-collect", "-o", shardOut)
+		if c.Bootstrap.Loaded != 3 || c.Bootstrap.Good != 3 {
+			t.Fatalf("collect: %+v", c.Bootstrap)
+		}
+		for _, pair := range [][2]string{{one.Bootstrap.Outputs.Std, c.Bootstrap.Outputs.Std}, {one.Bootstrap.Outputs.Mean, c.Bootstrap.Outputs.Mean}} {
+			a, err := fitsimage.ReadFile(pair[0])
+			if err != nil {
+				t.Fatal(err)
+			}
+			b, err := fitsimage.ReadFile(pair[1])
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i := range a.Data {
+				if a.Data[i] != b.Data[i] {
+					t.Fatalf("%s and %s differ at pixel %d", pair[0], pair[1], i)
+				}
+			}
+		}
+	}
+}
