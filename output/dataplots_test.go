@@ -29,7 +29,8 @@ func everyTypeData() *dataset.Data {
 		Amp: []float64{0.9, 0.8, 12, 0.6}, AmpErr: []float64{0.02, 0.02, 1, 0.02}, Phi: []float64{-math.Pi / 4, 0.2, 0.1, 0.3}, PhiErr: []float64{0.1, 0.1, 0.1, 0.1},
 		AmpOK: []bool{true, true, true, true}, PhiOK: []bool{true, false, true, true},
 		AmpTyp: []dataset.AmpType{dataset.AmpAbsolute, dataset.AmpAbsolute, dataset.AmpCorrelatedFlux, dataset.AmpAbsolute},
-		PhiTyp: []dataset.PhiType{dataset.PhiAbsolute, dataset.PhiAbsolute, dataset.PhiAbsolute, dataset.PhiDifferential}}
+		PhiTyp: []dataset.PhiType{dataset.PhiAbsolute, dataset.PhiAbsolute, dataset.PhiAbsolute, dataset.PhiDifferential},
+		Origin: []dataset.Origin{{Row: 1}, {Row: 2}, {Row: 3}, {Row: 4}}}
 	return d
 }
 
@@ -52,6 +53,8 @@ func TestMeasurements(t *testing.T) {
 		{dataset.VisAmp, []int{0, 1, 3}, 0.9, 1e7},
 		// Not the unusable phase (1) nor the differential one (3).
 		{dataset.VisPhi, []int{0, 2}, -45, 1e7},
+		// The differential phase alone (OIFITS v2 PHITYP, Duvert, Young & Hummel 2017).
+		{dataset.VisDiff, []int{3}, 0.3 * 180 / math.Pi, 4e7},
 	} {
 		m, idx := Measurements(d, c.t)
 		info := c.t.Info()
@@ -93,7 +96,7 @@ func TestModelPlotsEveryType(t *testing.T) {
 		use  dataset.DataType
 		want []string
 	}{
-		{0, []string{"vis2", "t3amp", "t3phi", "visamp", "visphi", "residuals"}},
+		{0, []string{"vis2", "t3amp", "t3phi", "visamp", "visphi", "visdiff", "residuals"}},
 		{dataset.Vis2 | dataset.VisPhi, []string{"vis2", "visphi", "residuals"}},
 	} {
 		stem := filepath.Join(t.TempDir(), "x")

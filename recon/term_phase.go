@@ -66,7 +66,7 @@ func smoothPhaseExact(z complex128, eta, is2 float64) (exact, v float64, g compl
 	if a > 0 {
 		ia := 1 / a
 		ux, uy = re*ia, im*ia
-		exact = 2 * d * ia * is2
+		exact = 2 * (1 - ux) * is2 // as the exact term computes it, to the bit
 	}
 	c := 2 * is2 * iq
 	v = d * c

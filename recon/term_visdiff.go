@@ -89,8 +89,8 @@ func newDiffGroups(p *dataset.VisPoints, ok func(i int) bool, minN int, c termCo
 	var order []key
 	rows := map[key][]int32{}
 	for i := range p.Lambda {
-		if !ok(i) {
-			continue
+		if !ok(i) || i >= len(p.Origin) {
+			continue // a point without its row (a data set built by hand) joins no group
 		}
 		o := p.Origin[i]
 		k := key{o.File, o.HDU, o.Row}
