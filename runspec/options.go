@@ -410,7 +410,10 @@ func parsePositiveAngle(dst *float64, name, text, want string) error {
 		return nil
 	}
 	a, err := ParseAngle(text)
-	if err != nil || !(a > 0) {
+	if err != nil {
+		return fmt.Errorf("%s %q: want %s: %v", name, text, want, err)
+	}
+	if !(a > 0) {
 		return fmt.Errorf("%s %q: want %s", name, text, want)
 	}
 	*dst = a

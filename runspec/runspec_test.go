@@ -109,17 +109,17 @@ func TestOptions(t *testing.T) {
 		want  Spec
 	}{
 		{"target", []string{"-target", "Vaeloris"}, "Vaeloris", Spec{Target: "Vaeloris"}},
-		{"wave", []string{"-wave", "1.5um:1.8"}, "1.5um:1.8", Spec{WaveMin: 1.5 * um, WaveMax: 1.8 * um}},
+		{"wave", []string{"-wave", "1.5um:1.8um"}, "1.5um:1.8um", Spec{WaveMin: 1.5 * um, WaveMax: 1.8 * um}},
 		{"mjd", []string{"-mjd", "60100.5:"}, "60100.5:", Spec{MJDMin: 60100.5}},
 		{"ins", []string{"-ins", "A, B,"}, "A,B", Spec{Instruments: []string{"A", "B"}}},
 		{"use", []string{"-use", "vis2,t3"}, "vis2,t3", Spec{Use: dataset.Vis2 | dataset.T3Amp | dataset.T3Phi}},
 		{"n", []string{"-n", "64"}, int64(64), Spec{Grid: 64}},
-		{"pixel", []string{"-pixel", "0.25mas"}, "0.25", Spec{Pixel: 0.25 * mas}},
+		{"pixel", []string{"-pixel", "0.25mas"}, "0.25MAS", Spec{Pixel: 0.25 * mas}},
 		{"fov", []string{"-fov", "12mas"}, "12mas", Spec{FOV: 12 * mas}},
 		{"reg", []string{"-reg", "MEM,compact:0.1"}, "mem,compact:0.1", Spec{Regularizers: []regularizers.NamedTerm{{Name: "mem", Rel: 1}, {Name: "compact", Rel: 0.1}}}},
 		{"weight", []string{"-weight", "1e4"}, float64(1e4), Spec{Weight: 1e4}},
-		{"prior", []string{"-prior", "gauss:2mas"}, "gaussian:2", Spec{Prior: Prior{Kind: PriorGaussian, Size: 2 * mas}}},
-		{"start", []string{"-start", "ld:2mas:0.3"}, "ld:2:0.3", Spec{Start: Start{Kind: StartLimbDarkened, Size: 2 * mas, LimbDarkening: 0.3}}},
+		{"prior", []string{"-prior", "gauss:2mas"}, "gaussian:2mas", Spec{Prior: Prior{Kind: PriorGaussian, Size: 2 * mas}}},
+		{"start", []string{"-start", "ld:2mas:0.3"}, "ld:2mas:0.3", Spec{Start: Start{Kind: StartLimbDarkened, Size: 2 * mas, LimbDarkening: 0.3}}},
 		{"from-model", []string{"-from-model", "m.toml"}, "m.toml", Spec{FromModel: "m.toml", Start: Start{Kind: StartModel}}},
 		{"support", []string{"-support", "3mas"}, "3mas", Spec{Support: 3 * mas}},
 		{"tv-eps", []string{"-tv-eps", "0.05"}, 0.05, Spec{TVEps: 0.05}},
@@ -192,9 +192,10 @@ func TestBadValues(t *testing.T) {
 	}{
 		{[]string{"-n", "33"}, "-n 33: the grid size must be an even number from 8 to 2048"},
 		{[]string{"-n", "-2"}, "-n -2: the grid size must be an even number from 8 to 2048"},
-		{[]string{"-pixel", "x"}, `-pixel "x": want a positive angle such as 0.25mas`},
+		{[]string{"-pixel", "x"}, `-pixel "x": want a positive angle such as 0.25mas: unknown unit "x" in "x" (use arcsec, as, deg, mas, rad, uas, µas)`},
 		{[]string{"-pixel", "-1mas"}, `-pixel "-1mas": want a positive angle such as 0.25mas`},
-		{[]string{"-fov", "0"}, `-fov "0": want a positive angle such as 12mas`},
+		{[]string{"-fov", "0"}, `-fov "0": want a positive angle such as 12mas: "0" has no unit (use arcsec, as, deg, mas, rad, uas, µas)`},
+		{[]string{"-fov", "0mas"}, `-fov "0mas": want a positive angle such as 12mas`},
 		{[]string{"-reg", "nosuch"}, `-reg: unknown regularizer "nosuch" (use mem, tv, smooth, compact, priordist)`},
 		{[]string{"-reg", ""}, "-reg: no regularizer named"},
 		{[]string{"-reg", "mem:2"}, "-reg: regularizer mem: the first term's weight is 1 by definition; set the overall weight with -weight"},
@@ -204,7 +205,7 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-weight", "x"}, `-weight "x": want a positive number or auto`},
 		{[]string{"-start", "gauss:0"}, `-start: "gauss:0": the size must be a positive angle such as 3mas`},
 		{[]string{"-start", "ld:1mas:2"}, `-start: "ld:1mas:2": the limb-darkening coefficient must be in [0, 1]`},
-		{[]string{"-support", "-3"}, `-support "-3": want a positive radius such as 3mas`},
+		{[]string{"-support", "-3mas"}, `-support "-3mas": want a positive radius such as 3mas`},
 		{[]string{"-data-weights", "vis2"}, `-data-weights: "vis2": want TYPE=WEIGHT`},
 		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
 		{[]string{"-data-weights", "vis2=0"}, `-data-weights: "vis2=0": the weight must be a positive number (leave a data type out with -use)`},
@@ -223,7 +224,7 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-channels", "4-2"}, `-channels "4-2": "4-2" is not a channel number or range such as 5-8 (want all, a number of groups, or a list such as 1-4,5-8)`},
 		{[]string{"-spectral", "wiggly"}, `-spectral: "wiggly" is not a spectral regularizer (want smooth, joint or none, optionally with :FACTOR on the automatic weight)`},
 		{[]string{"-spectral", "smooth:-2"}, `-spectral: factor "-2" of smooth is not a positive number`},
-		{[]string{"-star", "big"}, `-star "big": want point or a positive diameter such as 0.8mas`},
+		{[]string{"-star", "big"}, `-star "big": want point or a positive diameter such as 0.8mas: unknown unit "big" in "big" (use arcsec, as, deg, mas, rad, uas, µas)`},
 		{[]string{"-star-index", "x"}, `-star-index "x": want a number between -20 and 20`},
 	} {
 		_, err := flagSpec(t, All, c.args...)
@@ -237,7 +238,7 @@ func TestBadValues(t *testing.T) {
 		value any
 		want  string
 	}{
-		{"pixel", "x", `pixel "x": want a positive angle such as 0.25mas`},
+		{"pixel", "x", `pixel "x": want a positive angle such as 0.25mas: unknown unit "x" in "x" (use arcsec, as, deg, mas, rad, uas, µas)`},
 		{"n", 64.5, `n "64.5": want a whole number`},
 		{"iter", int64(-1), "iter, starts and workers must not be negative"},
 		{"seed", int64(-3), "seed -3 must not be negative"},
@@ -303,7 +304,7 @@ func TestValidate(t *testing.T) {
 func TestCanonicalRoundTrip(t *testing.T) {
 	full, err := flagSpec(t, All, "-target", "Vaeloris", "-wave", "1.5um:", "-mjd", ":60101.25", "-ins", "ORRIN-6",
 		"-use", "vis2,t3phi", "-n", "64", "-pixel", "0.2mas", "-reg", "mem,compact:0.1", "-weight", "300",
-		"-prior", "disc:1.5mas", "-start", "disk:2", "-from-model", "m.toml", "-support", "4mas", "-tv-eps", "0.02",
+		"-prior", "disc:1.5mas", "-start", "disk:2mas", "-from-model", "m.toml", "-support", "4mas", "-tv-eps", "0.02",
 		"-data-weights", "t3phi=3", "-iter", "250", "-seed", "0", "-starts", "2", "-coarse", "-no-amp-first", "-smearing", "on", "-workers", "3")
 	if err != nil {
 		t.Fatal(err)

@@ -14,22 +14,37 @@ import (
 
 // angleUnits and waveUnits are the units users may write, in radians and metres.
 var (
+	// Keys are lower case; the micro sign µ (U+00B5) and the Greek mu μ (U+03BC) are both
+	// accepted for the prefix.
 	angleUnits = map[string]float64{
-		"uas": recon.Mas / 1000, "µas": recon.Mas / 1000, "mas": recon.Mas,
+		"uas": recon.Mas / 1000, "\u00b5as": recon.Mas / 1000, "\u03bcas": recon.Mas / 1000, "mas": recon.Mas,
 		"arcsec": recon.Mas * 1000, "as": recon.Mas * 1000, "deg": math.Pi / 180, "rad": 1,
 	}
-	waveUnits = map[string]float64{"nm": 1e-9, "um": 1e-6, "µm": 1e-6, "micron": 1e-6, "m": 1}
+	waveUnits = map[string]float64{"nm": 1e-9, "um": 1e-6, "\u00b5m": 1e-6, "\u03bcm": 1e-6, "micron": 1e-6, "m": 1}
 )
 
-// ParseAngle reads an angle with a unit (uas, mas, arcsec, deg, rad); a bare number is in
-// milliarcseconds. The result is in radians.
-func ParseAngle(s string) (float64, error) { return parseWithUnit(s, "mas", angleUnits) }
+// ParseAngle reads an angle with its unit (uas, µas, mas, arcsec, as, deg, rad; case does
+// not matter). A bare number is an error: whether "3" meant mas or arcsec is a guess. The
+// result is in radians.
+func ParseAngle(s string) (float64, error) { return parseWithUnit(s, angleUnits) }
 
-// ParseWavelength reads a wavelength with a unit (nm, um, µm, m); a bare number is in
-// micrometres. The result is in metres.
-func ParseWavelength(s string) (float64, error) { return parseWithUnit(s, "um", waveUnits) }
+// ParseWavelength reads a wavelength with its unit (nm, um, µm, micron, m; case does not
+// matter); a bare number is an error. The result is in metres.
+func ParseWavelength(s string) (float64, error) { return parseWithUnit(s, waveUnits) }
 
-func parseWithUnit(s, def string, units map[string]float64) (float64, error) {
+// unitNames lists the units of a table for messages, µ and μ once.
+func unitNames(units map[string]float64) string {
+	names := make([]string, 0, len(units))
+	for k := range units {
+		if !strings.ContainsRune(k, '\u03bc') {
+			names = append(names, k)
+		}
+	}
+	sort.Strings(names)
+	return strings.Join(names, ", ")
+}
+
+func parseWithUnit(s string, units map[string]float64) (float64, error) {
 	s = strings.TrimSpace(s)
 	i := len(s)
 	for i > 0 && !strings.ContainsRune("0123456789.", rune(s[i-1])) {
@@ -37,16 +52,11 @@ func parseWithUnit(s, def string, units map[string]float64) (float64, error) {
 	}
 	num, unit := s[:i], strings.TrimSpace(s[i:])
 	if unit == "" {
-		unit = def
+		return 0, fmt.Errorf("%q has no unit (use %s)", s, unitNames(units))
 	}
-	f, ok := units[unit]
+	f, ok := units[strings.ToLower(unit)]
 	if !ok {
-		names := make([]string, 0, len(units))
-		for k := range units {
-			names = append(names, k)
-		}
-		sort.Strings(names)
-		return 0, fmt.Errorf("unknown unit %q in %q (use %s)", unit, s, strings.Join(names, ", "))
+		return 0, fmt.Errorf("unknown unit %q in %q (use %s)", unit, s, unitNames(units))
 	}
 	x, err := strconv.ParseFloat(num, 64)
 	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
@@ -62,7 +72,7 @@ func formatWithUnit(x float64, unit string, units map[string]float64, base strin
 	f := units[unit]
 	for prec := 1; prec <= 17; prec++ {
 		s := strconv.FormatFloat(x/f, 'g', prec, 64) + unit
-		if y, err := parseWithUnit(s, unit, units); err == nil && y == x {
+		if y, err := parseWithUnit(s, units); err == nil && y == x {
 			return s
 		}
 	}

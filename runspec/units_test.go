@@ -15,7 +15,8 @@ func TestParseAngle(t *testing.T) {
 	for _, c := range []struct {
 		in   string
 		want float64 // mas
-	}{{"0.25mas", 0.25}, {"250uas", 0.25}, {"0.001arcsec", 1}, {"2", 2}, {"1.5 mas", 1.5}, {"1e-3as", 1}, {"-2mas", -2}} {
+	}{{"0.25mas", 0.25}, {"250uas", 0.25}, {"250\u00b5as", 0.25}, {"250\u03bcas", 0.25}, {"0.25MAS", 0.25}, {"0.001ArcSec", 1},
+		{"1.5 mas", 1.5}, {"1e-3as", 1}, {"-2mas", -2}} {
 		got, err := ParseAngle(c.in)
 		if err != nil {
 			t.Errorf("%q: %v", c.in, err)
@@ -25,16 +26,24 @@ func TestParseAngle(t *testing.T) {
 			t.Errorf("%q = %g mas, want %g", c.in, got/masRad, c.want)
 		}
 	}
-	for _, bad := range []string{"", "mas", "1.2furlong", "x1mas", "NaNmas", "Inf"} {
+	for _, bad := range []string{"", "mas", "1.2furlong", "x1mas", "NaNmas", "Inf", "2"} {
 		if _, err := ParseAngle(bad); err == nil {
 			t.Errorf("%q: no error", bad)
 		}
 	}
+	// A bare number is refused with the list of units: "3" might mean mas or arcsec.
+	if _, err := ParseAngle("3"); err == nil || err.Error() != `"3" has no unit (use arcsec, as, deg, mas, rad, uas, µas)` {
+		t.Errorf("bare number: %v", err)
+	}
 }
 
-// 1 µm is 1e-6 m by definition of the SI prefix; a bare number is in µm.
+// 1 µm is 1e-6 m by definition of the SI prefix (BIPM 2019, table 7); a bare number is
+// refused.
 func TestParseWavelength(t *testing.T) {
-	for in, want := range map[string]float64{"1.5um": 1.5e-6, "1500nm": 1.5e-6, "1.5": 1.5e-6, "1.5e-6m": 1.5e-6, "2 micron": 2e-6} {
+	if _, err := ParseWavelength("1.5"); err == nil {
+		t.Error("a bare number was accepted")
+	}
+	for in, want := range map[string]float64{"1.5um": 1.5e-6, "1500nm": 1.5e-6, "1.5UM": 1.5e-6, "1.5\u00b5m": 1.5e-6, "1.5\u03bcm": 1.5e-6, "1.5e-6m": 1.5e-6, "2 micron": 2e-6} {
 		if got, err := ParseWavelength(in); err != nil || math.Abs(got-want) > 1e-15*want {
 			t.Errorf("%q = %g, %v; want %g", in, got, err, want)
 		}

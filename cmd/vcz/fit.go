@@ -91,7 +91,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	asJSON := fs.Bool("json", false, "print the result as one JSON object on stdout")
 	plotPrefix := fs.String("plot", "", "write PNG plots PREFIX-<type>.png of each fitted data type (vis2, t3phi, ...), PREFIX-residuals.png (and PREFIX-grid.png)")
 	grid := fs.Bool("grid-search", false, "map χ² of a point companion over separation and position angle, then fit it")
-	gridSep := fs.String("grid-sep", "", "separations searched, MIN:MAX (default unit mas; default: 0 to 3/4 of the largest constrained scale)")
+	gridSep := fs.String("grid-sep", "", "separations searched, MIN:MAX with units, e.g. 1mas:20mas (default: 0 to 3/4 of the largest constrained scale)")
 	gridRatio := fs.Float64("grid-ratio", 0.01, "flux ratio of the companion searched (companion / model flux)")
 	gridNSep := fs.Int("grid-nsep", 60, "number of separations of the grid")
 	gridNPA := fs.Int("grid-npa", 120, "number of position angles of the grid (over 360°)")

@@ -133,7 +133,7 @@ func TestFitBinaryEndToEnd(t *testing.T) {
 func TestFitGridSearch(t *testing.T) {
 	data := simulatedFile(t, "ud:diameter=2.5;point:x=4,y=-3,flux=0.05")
 	prefix := filepath.Join(t.TempDir(), "g")
-	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-grid-search", "-grid-sep", "1:15",
+	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-grid-search", "-grid-sep", "1mas:15mas",
 		"-grid-nsep", "57", "-grid-npa", "120", "-grid-ratio", "0.05", "-json", "-plot", prefix, data)
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -438,7 +438,7 @@ func TestImageFromModelErrors(t *testing.T) {
 func TestFitLimits(t *testing.T) {
 	data := simulatedFile(t, "ud:diameter=2.5")
 	prefix := filepath.Join(t.TempDir(), "lim")
-	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-limits", prefix, "-grid-sep", "1:20",
+	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-limits", prefix, "-grid-sep", "1mas:20mas",
 		"-limits-nsep", "10", "-limits-npa", "12", "-json", data)
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
