@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"path/filepath"
 	"runtime/debug"
 	"strings"
 	"time"
@@ -72,10 +73,10 @@ type Paths struct {
 
 // Stem returns the path without its .fits/.fit/.fts extension.
 func Stem(out string) string {
-	for _, ext := range []string{".fits", ".fit", ".fts", ".FITS"} {
-		if strings.HasSuffix(out, ext) {
-			return strings.TrimSuffix(out, ext)
-		}
+	ext := filepath.Ext(out)
+	switch strings.ToLower(ext) {
+	case ".fits", ".fit", ".fts":
+		return strings.TrimSuffix(out, ext)
 	}
 	return out
 }

@@ -367,3 +367,20 @@ func TestInspectEscapes(t *testing.T) {
 		t.Errorf("exit %d, output %q", code, out)
 	}
 }
+
+// TestOutputExtension checks that image refuses an output name whose extension says it is
+// not FITS (star.png used to receive the FITS bytes, with the preview in star.png.png),
+// before any work, and writes nothing.
+func TestOutputExtension(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	for _, out := range []string{"star.png", "star", "star.json"} {
+		_, errs, code := runCmd(t, "image", "-quiet", "-o", filepath.Join(dir, out), data)
+		if code != exitBadInput || !strings.Contains(errs, "give a name ending in .fits") {
+			t.Errorf("-o %s: exit %d: %s", out, code, errs)
+		}
+		if m, _ := filepath.Glob(filepath.Join(dir, "star*")); len(m) != 0 {
+			t.Errorf("-o %s wrote %v", out, m)
+		}
+	}
+}

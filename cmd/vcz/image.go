@@ -139,6 +139,11 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), outPaths...); err != nil {
 		return err
 	}
+	if output.Stem(*out) == *out {
+		// The image is FITS; its preview and plots are named from the FITS path. A name
+		// like star.png used to receive FITS bytes, with the preview in star.png.png.
+		return badInputf("image: -o %s: the image is written as FITS: give a name ending in .fits (the PNG preview and plots go beside it)", *out)
+	}
 	st, err := output.ParseStretch(*stretch)
 	if err != nil {
 		return badInputf("image: %v", err)
