@@ -158,9 +158,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if sr.Montage != nil && !*quiet {
 		fmt.Fprintf(stderr, "note: montage: %v\n", sr.Montage)
 	}
-	if !*quiet {
-		printBatchSummary(stdout, sum, *out, name)
-	}
+	printBatchSummary(stdout, sum, *out, name)
 	// The verdict comes last, after the joint run's messages, whatever happens there.
 	if *joint {
 		if sum.Failed() > 0 {
@@ -202,9 +200,7 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 	if err := workflow.WriteMontage(out, "", sum.Rows, nil, "", st); err != nil && !quiet {
 		fmt.Fprintf(stdout, "note: montage: %v\n", err)
 	}
-	if !quiet {
-		printBatchSummary(stdout, sum, out, "summary")
-	}
+	printBatchSummary(stdout, sum, out, "summary")
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
 		return failure(fmt.Errorf("%d of %d epochs failed", n, len(sum.Rows)))

@@ -384,3 +384,14 @@ func TestOutputExtension(t *testing.T) {
 		}
 	}
 }
+
+// TestQuietKeepsStdout checks that -quiet silences stderr only, as its help says: the
+// summary on stdout stays.
+func TestQuietKeepsStdout(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	out, errs, code := runCmd(t, "image", "-quiet", "-n", "32", "-iter", "200", "-starts", "1", "-o", filepath.Join(dir, "q.fits"), data)
+	if code != exitOK || !strings.Contains(out, "Wrote ") || strings.Contains(errs, "iter") {
+		t.Errorf("exit %d, stdout %q, stderr %q", code, out, errs)
+	}
+}

@@ -134,7 +134,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		if err := writeJSONTo(stdout, rep); err != nil {
 			return failure(err)
 		}
-	} else if !*quiet {
+	} else {
 		printCompareTable(stdout, rep)
 		fmt.Fprintf(stdout, "Wrote %s\n", filepath.Join(*out, "report.html"))
 	}

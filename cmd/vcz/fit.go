@@ -104,7 +104,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
-	quiet := fs.Bool("quiet", false, "print nothing but errors (and -json)")
+	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -219,7 +219,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		if err := enc.Encode(sum); err != nil {
 			return failure(err)
 		}
-	} else if !*quiet {
+	} else {
 		sum.WriteText(stdout, *n)
 	}
 	if fitErr != nil {

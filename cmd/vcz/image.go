@@ -184,7 +184,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		if err := enc.Encode(bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
 			return failure(err)
 		}
-	} else if !*quiet {
+	} else {
 		printImageSummary(stdout, sum)
 		if bs != nil {
 			printBootstrap(stdout, bs)

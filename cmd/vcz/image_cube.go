@@ -84,7 +84,7 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 		if err := enc.Encode(sum); err != nil {
 			return failure(err)
 		}
-	} else if !quiet {
+	} else {
 		printCubeSummary(stdout, sum)
 	}
 	printWarnings(stderr, "", sum.Warnings)

@@ -47,7 +47,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	helpPlan := fs.Bool("help-plan", false, "describe every key of an observing plan and exit")
 	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
 	helpChrom := fs.Bool("help-chromatic", false, "describe chromatic models and exit")
-	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	fs.Bool("quiet", false, quietUsage+"; simulate prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -118,10 +118,8 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if err := oifits.WriteFile(*out, f); err != nil {
 		return failure(err)
 	}
-	if !*quiet {
-		fmt.Fprint(stdout, rep.String())
-		fmt.Fprintf(stdout, "Wrote %s\n", *out)
-	}
+	fmt.Fprint(stdout, rep.String())
+	fmt.Fprintf(stdout, "Wrote %s\n", *out)
 	if *writeImage != "" {
 		px := 0.0
 		if *pixel != "" {
@@ -143,9 +141,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		if err := output.WriteModel(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
 			return failure(err)
 		}
-		if !*quiet {
-			fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
-		}
+		fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
 	}
 	return nil
 }

@@ -25,7 +25,7 @@ func registerStrict(fs *flag.FlagSet) *bool {
 
 // quietUsage is the help text of -quiet: warnings are results, not chatter,
 // so they are printed like errors.
-const quietUsage = "print nothing on stderr but warnings and errors"
+const quietUsage = "print nothing on stderr but warnings and errors (the summary on stdout stays)"
 
 // printWarnings writes each warning as one line on w: "warning: TEXT", or
 // "warning: LABEL: TEXT" when label is not empty.
