@@ -286,8 +286,8 @@ func circular(m *model.Model) bool {
 		switch c.Kind() {
 		case model.Background:
 			continue
-		case model.Point, model.UniformDisc, model.LinearLD, model.PowerLD, model.Gaussian:
-		case model.EllGaussian:
+		case model.Point, model.UniformDisc, model.LinearLD, model.PowerLD:
+		case model.Gaussian:
 			if get("ratio") != 1 {
 				return false
 			}

@@ -38,7 +38,7 @@ func TestNoiselessRecovery(t *testing.T) {
 		{"ld", "ld:diameter=3.4,u_ld=0.45", "ld:diameter~3.1,u_ld~0.3(0..1)", 0},
 		{"ld_power", "ld_power:diameter=3.4,alpha=0.6", "ld_power:diameter~3.2(0..),alpha~0.45(0..3)", 0},
 		{"gauss", "gauss:fwhm=2.2", "gauss:fwhm~2.5", 0},
-		{"egauss", "egauss:fwhm=3,ratio=0.6,pa=35", "egauss:fwhm~2.7,ratio~0.7,pa~40", 0},
+		{"elliptical gauss", "gauss:fwhm=3,ratio=0.6,pa=35", "gauss:fwhm~2.7,ratio~0.7,pa~40", 0},
 		{"ring", "ring:diameter=4,inc=40,pa=110", "ring:diameter~4.3,inc~30,pa~100", 0},
 		{"binary", "ud:diameter=1.2;point:x=4,y=-3,flux=0.3", "ud:diameter~1.1;point:x~4.2,y~-2.8,flux~0.25(0..1)", 0},
 		{"binary vis", "ud:diameter=1.2;point:x=4,y=-3,flux=0.3", "ud:diameter~1.1;point:x~4.2,y~-2.8,flux~0.25(0..1)", dataset.VisAmp | dataset.VisPhi},

@@ -20,8 +20,7 @@ const (
 	UniformDisc Kind = "ud"         // uniform disc: diameter
 	LinearLD    Kind = "ld"         // linear limb-darkened disc: diameter, u_ld
 	PowerLD     Kind = "ld_power"   // power-law limb-darkened disc: diameter, alpha
-	Gaussian    Kind = "gauss"      // circular Gaussian: fwhm
-	EllGaussian Kind = "egauss"     // elliptical Gaussian: fwhm, ratio, pa
+	Gaussian    Kind = "gauss"      // Gaussian: fwhm, and for an elliptical one ratio and pa
 	Ring        Kind = "ring"       // thin ring, optionally inclined: diameter, inc, pa
 	Background  Kind = "background" // fully resolved flux: flux only
 )
@@ -49,7 +48,7 @@ var (
 	pX        = paramInfo{name: "x", unit: "mas", desc: "offset towards east", lo: math.Inf(-1), hi: math.Inf(1)}
 	pY        = paramInfo{name: "y", unit: "mas", desc: "offset towards north", lo: math.Inf(-1), hi: math.Inf(1)}
 	pDiameter = paramInfo{name: "diameter", unit: "mas", desc: "angular diameter", required: true, lo: 0, hi: math.Inf(1)}
-	pFWHM     = paramInfo{name: "fwhm", unit: "mas", desc: "full width at half maximum (major axis for egauss)", required: true, lo: 0, hi: math.Inf(1)}
+	pFWHM     = paramInfo{name: "fwhm", unit: "mas", desc: "full width at half maximum (of the major axis when ratio < 1)", required: true, lo: 0, hi: math.Inf(1)}
 	pULD      = paramInfo{name: "u_ld", desc: "linear limb-darkening coefficient u in I(mu) = 1 - u(1 - mu)", required: true, lo: 0, hi: 1}
 	pAlpha    = paramInfo{name: "alpha", desc: "power-law exponent in I(mu) = mu^alpha", required: true, lo: 0, hi: 2*maxOrder - 2}
 	pRatio    = paramInfo{name: "ratio", desc: "minor to major axis ratio", def: 1, lo: 0, hi: 1, loOpen: true}
@@ -64,8 +63,7 @@ var kinds = []kindInfo{
 	{UniformDisc, "uniform disc", []paramInfo{pFlux, pX, pY, pDiameter}},
 	{LinearLD, "limb-darkened disc, linear law I(mu) = 1 - u(1 - mu)", []paramInfo{pFlux, pX, pY, pDiameter, pULD}},
 	{PowerLD, "limb-darkened disc, power law I(mu) = mu^alpha", []paramInfo{pFlux, pX, pY, pDiameter, pAlpha}},
-	{Gaussian, "circular Gaussian", []paramInfo{pFlux, pX, pY, pFWHM}},
-	{EllGaussian, "elliptical Gaussian", []paramInfo{pFlux, pX, pY, pFWHM, pRatio, pPA}},
+	{Gaussian, "Gaussian, circular (ratio 1, the default) or elliptical", []paramInfo{pFlux, pX, pY, pFWHM, pRatio, pPA}},
 	{Ring, "infinitely thin ring, optionally inclined", []paramInfo{pFlux, pX, pY, pDiameter, pInc, pPA}},
 	{Background, "fully resolved background: adds flux to the zero spatial frequency only", []paramInfo{pFlux}},
 }
@@ -143,6 +141,9 @@ func New(k Kind, values map[string]float64) (*Component, error) {
 func newDefault(k Kind) (*Component, error) {
 	info, ok := lookupKind(k)
 	if !ok {
+		if k == "egauss" { // the name of earlier versions
+			return nil, fmt.Errorf("model: component kind \"egauss\" is now gauss with ratio and pa, e.g. gauss:fwhm=2,ratio=0.5,pa=30")
+		}
 		return nil, fmt.Errorf("model: unknown component kind %q (known: %s)", k, kindList())
 	}
 	c := &Component{kind: k, params: make([]Param, len(info.params))}
@@ -263,9 +264,9 @@ func (c *Component) Clone() *Component {
 //   - ld_power, I(μ) = μ^α: Γ(ν+1) (2/z)^ν J_ν(z), ν = α/2 + 1 (Hestroffer
 //     1997, A&A 327, 199).
 //   - gauss: exp(−(π w q)² / (4 ln 2)) for FWHM w.
-//   - egauss: the same with q_eff² = w² (u sin θ + v cos θ)² +
+//     With an axis ratio r < 1, q_eff² = w² (u sin θ + v cos θ)² +
 //     (r w)² (u cos θ − v sin θ)² in place of (w q)², θ the position angle
-//     of the major axis east of north and r the axis ratio.
+//     of the major axis east of north.
 //   - ring: J0(π d q_eff), q_eff² = (u sin θ + v cos θ)² +
 //     cos² i (u cos θ − v sin θ)², θ the major axis position angle and i
 //     the inclination.
@@ -304,9 +305,10 @@ func (c *Component) amplitude(u, v float64) float64 {
 		z := math.Pi * p[iS0].Value * MasToRad * math.Hypot(u, v)
 		return besselLambda(p[iS1].Value/2+1, z)
 	case Gaussian:
-		w := math.Pi * p[iS0].Value * MasToRad * math.Hypot(u, v)
-		return math.Exp(-w * w / (4 * math.Ln2))
-	case EllGaussian:
+		if p[iS1].Value == 1 {
+			w := math.Pi * p[iS0].Value * MasToRad * math.Hypot(u, v)
+			return math.Exp(-w * w / (4 * math.Ln2))
+		}
 		w := p[iS0].Value * MasToRad
 		s, co := math.Sincos(p[iS2].Value * math.Pi / 180)
 		qa := w * (u*s + v*co)

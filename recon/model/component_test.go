@@ -190,7 +190,7 @@ func TestRing(t *testing.T) {
 // offsets grow together), and the visibility falls fastest along the
 // major axis direction (sin 20°, cos 20°) in (u, v).
 func TestEllipticalGaussianOrientation(t *testing.T) {
-	c := mustNew(t, EllGaussian, map[string]float64{"fwhm": 6, "ratio": 0.4, "pa": 20})
+	c := mustNew(t, Gaussian, map[string]float64{"fwhm": 6, "ratio": 0.4, "pa": 20})
 	m := &Model{Components: []*Component{c}}
 	const n = 64
 	pix := 0.25 * MasToRad
@@ -285,7 +285,7 @@ func TestBackground(t *testing.T) {
 func TestClosurePhaseCentroSymmetric(t *testing.T) {
 	sym := &Model{Components: []*Component{
 		mustNew(t, LinearLD, map[string]float64{"diameter": 3, "u_ld": 0.4}),
-		mustNew(t, EllGaussian, map[string]float64{"fwhm": 8, "ratio": 0.5, "pa": 33, "flux": 0.3}),
+		mustNew(t, Gaussian, map[string]float64{"fwhm": 8, "ratio": 0.5, "pa": 33, "flux": 0.3}),
 		mustNew(t, Ring, map[string]float64{"diameter": 9, "inc": 50, "pa": 70, "flux": 0.2}),
 	}}
 	asym := sym.Clone()
@@ -318,7 +318,7 @@ func TestImageMatchesVis(t *testing.T) {
 	m := &Model{Components: []*Component{
 		mustNew(t, LinearLD, map[string]float64{"diameter": 4, "u_ld": 0.5}),
 		mustNew(t, Gaussian, map[string]float64{"fwhm": 0.8, "x": 1, "y": 0.5, "flux": 0.1}),
-		mustNew(t, EllGaussian, map[string]float64{"fwhm": 3, "ratio": 0.5, "pa": 40, "x": -3, "flux": 0.2}),
+		mustNew(t, Gaussian, map[string]float64{"fwhm": 3, "ratio": 0.5, "pa": 40, "x": -3, "flux": 0.2}),
 		mustNew(t, Point, map[string]float64{"x": 2.3, "y": -3.1, "flux": 0.05}),
 		mustNew(t, Ring, map[string]float64{"diameter": 6, "inc": 30, "pa": 10, "flux": 0.1}),
 	}}
@@ -361,7 +361,7 @@ func TestSetDomain(t *testing.T) {
 	if _, err := New(UniformDisc, nil); err == nil {
 		t.Error("ud without diameter accepted")
 	}
-	e := mustNew(t, EllGaussian, map[string]float64{"fwhm": 1})
+	e := mustNew(t, Gaussian, map[string]float64{"fwhm": 1})
 	if err := e.Set("ratio", 0); err == nil {
 		t.Error("ratio 0 accepted")
 	}

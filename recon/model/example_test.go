@@ -30,7 +30,7 @@ func ExampleParseCompact_error() {
 	_, err := model.ParseCompact("ud:diameter=3;gauss:fwhm=2,widht=1")
 	fmt.Println(err)
 	// Output:
-	// model spec: component 2: gauss: unknown parameter "widht" (known: flux, x, y, fwhm)
+	// model spec: component 2: gauss: unknown parameter "widht" (known: flux, x, y, fwhm, ratio, pa)
 }
 
 // Parameters are read and changed by name, in user units.

@@ -128,7 +128,7 @@ func extent(c *Component) float64 {
 	switch c.kind {
 	case UniformDisc, LinearLD, PowerLD:
 		return p[iS0].Value * MasToRad / 2
-	case Gaussian, EllGaussian:
+	case Gaussian:
 		// exp(−4 ln2 (r/w)²) < 1e-19 for r > 4 w.
 		return 4 * p[iS0].Value * MasToRad
 	}
@@ -155,9 +155,9 @@ func intensity(c *Component, x, y float64) float64 {
 		return 1
 	case Gaussian:
 		w := p[iS0].Value * MasToRad
-		return math.Exp(-4 * math.Ln2 * (x*x + y*y) / (w * w))
-	case EllGaussian:
-		w := p[iS0].Value * MasToRad
+		if p[iS1].Value == 1 {
+			return math.Exp(-4 * math.Ln2 * (x*x + y*y) / (w * w))
+		}
 		s, co := math.Sincos(p[iS2].Value * math.Pi / 180)
 		a := (x*s + y*co) / w                  // along the major axis
 		b := (x*co - y*s) / (p[iS1].Value * w) // along the minor axis
@@ -183,9 +183,9 @@ func integral(c *Component) float64 {
 		return a
 	case Gaussian:
 		w := p[iS0].Value * MasToRad
-		return math.Pi * w * w / (4 * math.Ln2)
-	case EllGaussian:
-		w := p[iS0].Value * MasToRad
+		if p[iS1].Value == 1 {
+			return math.Pi * w * w / (4 * math.Ln2)
+		}
 		return math.Pi * w * w * p[iS1].Value / (4 * math.Ln2)
 	}
 	panic("model: integral of kind " + string(c.kind))
@@ -204,14 +204,12 @@ func rasterArea(dst []float64, c *Component, f float64, nx, ny int, pixel float6
 	if r == 0 {
 		return splat(dst, nx, ny, pixel, x0, y0, f)
 	}
-	if c.kind == Gaussian || c.kind == EllGaussian {
+	if c.kind == Gaussian {
 		// A smooth profile needs few samples once it spans several
 		// pixels: 16 samples per FWHM along each axis bound the midpoint
 		// rule's error well below 1e-4 (common practice, no source).
 		w := c.params[iS0].Value * MasToRad
-		if c.kind == EllGaussian {
-			w *= c.params[iS1].Value
-		}
+		w *= c.params[iS1].Value // the minor axis
 		over = max(1, min(over, int(math.Ceil(16*pixel/w))))
 	}
 	if r < 2*pixel {

@@ -13,7 +13,7 @@ import (
 func TestRasterizeFlux(t *testing.T) {
 	const n = 64
 	pix := 0.1 * MasToRad
-	for _, spec := range []string{"ud:diameter=3", "ld:diameter=2,u_ld=0.6,x=1", "ld_power:diameter=0.05,alpha=0.5", "egauss:fwhm=1,ratio=0.3,pa=60", "ring:diameter=2,inc=40", "point:x=0.33,y=-0.71", "ud:diameter=0", "gauss:fwhm=0,x=0.1", "egauss:fwhm=0.001,ratio=0.01"} {
+	for _, spec := range []string{"ud:diameter=3", "ld:diameter=2,u_ld=0.6,x=1", "ld_power:diameter=0.05,alpha=0.5", "gauss:fwhm=1,ratio=0.3,pa=60", "ring:diameter=2,inc=40", "point:x=0.33,y=-0.71", "ud:diameter=0", "gauss:fwhm=0,x=0.1", "gauss:fwhm=0.001,ratio=0.01"} {
 		m, err := ParseCompact(spec)
 		if err != nil {
 			t.Fatal(err)

@@ -203,7 +203,7 @@ func (m *Model) Radius() float64 {
 		switch c.kind {
 		case UniformDisc, LinearLD, PowerLD, Ring:
 			s = p[iS0].Value / 2
-		case Gaussian, EllGaussian:
+		case Gaussian:
 			s = 1.5 * p[iS0].Value
 		}
 		r = math.Max(r, math.Hypot(p[iX].Value, p[iY].Value)+s)

@@ -105,6 +105,7 @@ func TestParseCompact(t *testing.T) {
 	}
 	for _, tc := range []struct{ spec, want string }{
 		{"ud:diameter=2;blob:x=1", "component 2: unknown component kind \"blob\""},
+		{"egauss:fwhm=2,ratio=0.5", "component 1: component kind \"egauss\" is now gauss with ratio and pa"},
 		{"ud:diameter=2,size=3", "component 1: ud: unknown parameter \"size\""},
 		{"ud:diameter=two", "value \"two\" is not a number"},
 		{"ud:diameter=2(1..", "lack a closing parenthesis"},

@@ -111,7 +111,7 @@ func TestClosurePhaseSymmetry(t *testing.T) {
 	p, star := Demo()
 	p = noiseless(p)
 	p.WriteVis = true
-	f, _, err := Run(p, ModelSky{mustModel(t, "ld:diameter=4,u_ld=0.4;egauss:fwhm=9,ratio=0.4,pa=35,flux=0.2")})
+	f, _, err := Run(p, ModelSky{mustModel(t, "ld:diameter=4,u_ld=0.4;gauss:fwhm=9,ratio=0.4,pa=35,flux=0.2")})
 	if err != nil {
 		t.Fatal(err)
 	}
