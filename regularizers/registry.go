@@ -12,7 +12,7 @@ type Options struct {
 	// Prior is the prior image of the regularizers that use one (Kind.UsesPrior), NX*NY
 	// positive pixels; nil means FlatPrior(NX, NY, 1).
 	Prior []float64
-	// TVEps is TV.Eps, the edge threshold of tv relative to the mean pixel value; 0 means
+	// TVEps is TV.Eps, the gradient size below which tv acts quadratically, relative to the mean pixel value; 0 means
 	// DefaultTVEps.
 	TVEps float64
 }

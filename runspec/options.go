@@ -223,7 +223,7 @@ var options = []option{
 			return parsePositiveAngle(&s.Support, name, text, "a positive radius such as 3mas")
 		},
 		format: func(s *Spec) string { return formatAngle(s.Support) }},
-	{name: "tv-eps", group: Recon, kind: floatFlag, def: "0", usage: "edge threshold of tv as a fraction of the mean pixel value (default 0.01)",
+	{name: "tv-eps", group: Recon, kind: floatFlag, def: "0", usage: "gradient size below which total variation acts quadratically, as a fraction of the mean pixel value (default 0.01)",
 		parse: func(s *Spec, name, text string) error {
 			x, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
 			if err != nil {

@@ -53,7 +53,7 @@ type Spec struct {
 	// Support, when positive, holds the pixels farther than this radius from the centre
 	// at zero (-support, rad).
 	Support float64
-	// TVEps is the edge threshold of tv relative to the mean pixel value (-tv-eps); 0 is
+	// TVEps is the gradient size below which tv acts quadratically, relative to the mean pixel value (-tv-eps); 0 is
 	// regularizers.DefaultTVEps.
 	TVEps float64
 	// DataWeights multiply each data type's χ² (-data-weights), indexed like

@@ -61,7 +61,7 @@
 // # Runs
 //
 // RunCase reconstructs a case with DefaultProblem, which mirrors `vcz image DATA -o OUT.fits`
-// with every option at its default (total variation with its default edge threshold,
+// with every option at its default (total variation with its default smoothing scale,
 // automatic weight, automatic start, grid from recon.ChooseGrid), with one transform worker;
 // and, for the oracle, with fixed weights one per decade from 10⁻¹ to 10⁹ (OracleScan) and
 // then half a decade either side of the best, keeping the weight of lowest L1. Score uses

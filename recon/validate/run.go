@@ -14,7 +14,7 @@ import (
 
 // DefaultProblem returns the reconstruction problem and settings that `vcz image DATA -o
 // OUT.fits -smearing off` builds from d with every other option at its default: grid,
-// weight and start chosen from the data, tv with its default edge threshold, every data
+// weight and start chosen from the data, tv with its default smoothing scale, every data
 // type at weight 1, seed 1, GOMAXPROCS transform workers. Like the command it refuses data
 // with several targets or no usable point. Smearing is off because the suite's data are
 // exact sums at the centre of each channel (Generate), not band averages; the model of
