@@ -81,6 +81,11 @@ func TestShardFromEnv(t *testing.T) {
 		{map[string]string{"SLURM_ARRAY_TASK_ID": "2", "SLURM_ARRAY_TASK_COUNT": "2"}, Shard{}, false, true},
 		{map[string]string{"SLURM_ARRAY_TASK_ID": "2"}, Shard{}, false, true},
 		{map[string]string{"SLURM_ARRAY_TASK_ID": "x", "SLURM_ARRAY_TASK_COUNT": "2"}, Shard{}, false, true},
+		// A stepped array, --array=0-10:5 (sbatch manual): tasks 0, 5 and 10.
+		{map[string]string{"SLURM_ARRAY_TASK_ID": "5", "SLURM_ARRAY_TASK_STEP": "5", "SLURM_ARRAY_TASK_MIN": "0", "SLURM_ARRAY_TASK_MAX": "10", "SLURM_ARRAY_TASK_COUNT": "3"}, Shard{2, 3}, true, false},
+		{map[string]string{"SLURM_ARRAY_TASK_ID": "10", "SLURM_ARRAY_TASK_STEP": "5", "SLURM_ARRAY_TASK_MIN": "0", "SLURM_ARRAY_TASK_MAX": "10"}, Shard{3, 3}, true, false},
+		{map[string]string{"SLURM_ARRAY_TASK_ID": "3", "SLURM_ARRAY_TASK_STEP": "5", "SLURM_ARRAY_TASK_MIN": "0", "SLURM_ARRAY_TASK_MAX": "10"}, Shard{}, false, true},
+		{map[string]string{"SLURM_ARRAY_TASK_ID": "4", "SLURM_ARRAY_TASK_STEP": "2", "SLURM_ARRAY_TASK_COUNT": "3"}, Shard{3, 3}, true, false},
 	} {
 		sh, ok, err := ShardFromEnv(func(k string) string { return c.env[k] })
 		if sh != c.want || ok != c.ok || (err != nil) != c.err {

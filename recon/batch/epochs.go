@@ -75,9 +75,11 @@ func ParseShard(s string) (Shard, error) {
 }
 
 // ShardFromEnv derives the shard of a SLURM job-array task from getenv (os.Getenv in a
-// program). It returns ok false when SLURM_ARRAY_TASK_ID is unset or empty. With
-// SLURM_ARRAY_TASK_COUNT = C the tasks are taken to be numbered MIN..MIN+C−1 with MIN from
-// SLURM_ARRAY_TASK_MIN (0 when unset); otherwise MIN and MAX give the numbering.
+// program), with the variables SLURM documents for array jobs (sbatch manual, "OUTPUT
+// ENVIRONMENT VARIABLES": SLURM_ARRAY_TASK_ID, _MIN, _MAX, _STEP, _COUNT). It returns ok
+// false when SLURM_ARRAY_TASK_ID is unset or empty. The tasks are numbered MIN, MIN+STEP,
+// ..., up to MAX (STEP 1 when unset); without MIN and MAX they are SLURM_ARRAY_TASK_COUNT
+// tasks from MIN (0 when unset). Task ID is shard (ID − MIN)/STEP + 1 of their number.
 func ShardFromEnv(getenv func(string) string) (sh Shard, ok bool, err error) {
 	id := strings.TrimSpace(getenv("SLURM_ARRAY_TASK_ID"))
 	if id == "" {
@@ -110,20 +112,36 @@ func ShardFromEnv(getenv func(string) string) (sh Shard, ok bool, err error) {
 	if err != nil {
 		return Shard{}, false, err
 	}
+	step, hasStep, err := num("SLURM_ARRAY_TASK_STEP")
+	if err != nil {
+		return Shard{}, false, err
+	}
+	if !hasStep {
+		step = 1
+	}
+	if step < 1 {
+		return Shard{}, false, fmt.Errorf("SLURM_ARRAY_TASK_STEP=%d must be positive", step)
+	}
 	switch {
+	case hasLo && hasHi:
+		if hi < lo {
+			return Shard{}, false, fmt.Errorf("SLURM_ARRAY_TASK_MAX=%d is below SLURM_ARRAY_TASK_MIN=%d", hi, lo)
+		}
+		count = (hi-lo)/step + 1
 	case hasCount:
 		if !hasLo {
 			lo = 0
 			if hasHi {
-				lo = hi - count + 1
+				lo = hi - (count-1)*step
 			}
 		}
-	case hasLo && hasHi:
-		count = hi - lo + 1
 	default:
 		return Shard{}, false, fmt.Errorf("SLURM_ARRAY_TASK_ID is set but neither SLURM_ARRAY_TASK_COUNT nor SLURM_ARRAY_TASK_MIN and _MAX are")
 	}
-	k := task - lo + 1
+	if (task-lo)%step != 0 {
+		return Shard{}, false, fmt.Errorf("SLURM array task %d is not on the steps of %d from %d", task, step, lo)
+	}
+	k := (task-lo)/step + 1
 	if count < 1 || k < 1 || k > count {
 		return Shard{}, false, fmt.Errorf("SLURM array task %d is outside %d tasks starting at %d", task, count, lo)
 	}
