@@ -47,11 +47,11 @@ output is written. Neither changes the hash.
 -shard K/N takes every N-th epoch starting at the K-th; inside a SLURM job
 array the shard follows SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT (or
 _MIN and _MAX) unless -shard is given. Shards write summary-K-of-N.json;
-'vcz batch -collect -out DIR' merges them into DIR/summary.json and .csv and
+'vcz batch -collect -o DIR' merges them into DIR/summary.json and .csv and
 draws the montage and animation.
 
 Job file (TOML; paths relative to the job file):
-  output = "epochs"              output folder (-out overrides)
+  output = "epochs"              output folder (-o overrides)
   [image]                        shared settings: the 'vcz image' options,
                                  each key the flag's name without the dash:
     target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
@@ -62,7 +62,7 @@ Job file (TOML; paths relative to the job file):
     files = ["a.oifits", "b.oifits"]
     ...                          any [image] key, overriding it for this epoch
 
-Outputs in the folder (-out, default "batch"):
+Outputs in the folder (-o, default "batch"):
   EPOCH.fits, EPOCH.png        image and preview of each epoch
   EPOCH.status.json            hash, outputs and summary row of each epoch
   summary.json, summary.csv    epoch, MJD range, points and χ²ᵣ per data type,
@@ -83,11 +83,12 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
 	job := fs.String("job", "", "job file (TOML) listing the epochs and their settings")
-	out := fs.String("out", "", "output folder (default: the job file's output, else batch)")
+	out := fs.String("o", "", "output folder (default: the job file's output, else batch)")
+	fs.StringVar(out, "out", "", "earlier name of -o")
 	gap := fs.Float64("gap", dataset.NightGap, "split FILE arguments into epochs at gaps in MJD longer than this (days)")
 	force := fs.Bool("force", false, "redo epochs whose outputs are complete")
 	shardS := fs.String("shard", "", "run only shard K/N: every N-th epoch starting at the K-th (default: from SLURM_ARRAY_TASK_ID, else all)")
-	collect := fs.Bool("collect", false, "merge the shard summaries in -out (and any folders given) into one summary, montage and animation")
+	collect := fs.Bool("collect", false, "merge the shard summaries in -o (and any folders given) into one summary, montage and animation")
 	joint := fs.Bool("joint", false, "also reconstruct all epochs together with a temporal regularizer λ·Σ‖x_t − x_{t−1}‖²")
 	tweight := fs.String("temporal-weight", "auto", "temporal weight λ of -joint, or auto (the largest that raises no epoch's χ²ᵣ by more than 5%)")
 	parallel := fs.Int("parallel", 0, "worker goroutines of all epochs together (default: number of CPUs)")
@@ -104,7 +105,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if *collect {
 		dirs := fs.Args()
 		if *out == "" && len(dirs) == 0 {
-			return badInputf("batch -collect: name the output folder with -out")
+			return badInputf("batch -collect: name the output folder with -o")
 		}
 		if *out == "" {
 			*out = dirs[0]
@@ -142,10 +143,10 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return badInputf("batch: -out: %v", err)
+		return badInputf("batch: -o: %v", err)
 	}
 	if err := workflow.CheckFolder(*out); err != nil {
-		return badInputf("batch: -out: %v", err)
+		return badInputf("batch: -o: %v", err)
 	}
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel, Stretch: st}
 	disp := newBatchDisplay(stderr, *quiet)

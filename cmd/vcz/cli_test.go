@@ -395,3 +395,19 @@ func TestQuietKeepsStdout(t *testing.T) {
 		t.Errorf("exit %d, stdout %q, stderr %q", code, out, errs)
 	}
 }
+
+// TestOneNamePerIdea checks the command language: -o names the output of image, compare
+// and batch (batch's earlier -out still works), -iter the iteration limit of image and fit
+// (fit's earlier -max-iter still works), and fit describes its models with -help-model.
+func TestOneNamePerIdea(t *testing.T) {
+	for _, c := range [][]string{{"image", "o"}, {"compare", "o"}, {"batch", "o"}, {"batch", "out"}, {"image", "iter"}, {"fit", "iter"}, {"fit", "max-iter"}, {"fit", "help-model"}} {
+		out, _, _ := runCmd(t, c[0], "--help")
+		if !strings.Contains(out, "  -"+c[1]+" ") && !strings.Contains(out, "  -"+c[1]+"\n") {
+			t.Errorf("%s has no -%s", c[0], c[1])
+		}
+	}
+	out, _, code := runCmd(t, "fit", "-help-model")
+	if code != exitOK || !strings.Contains(out, "gauss") {
+		t.Errorf("fit -help-model: exit %d, %q", code, out)
+	}
+}

@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"io"
 
 	"vcz/output"
@@ -22,7 +23,7 @@ parameter, '=' a fixed one, and bounds go in parentheses:
   vcz fit -model "ld:diameter~3(1..6),u_ld=0.3" star.oifits
   vcz fit -model "ud:diameter~1;point:x~4,y~-2,flux~0.1(0..1)" -starts 20 binary.oifits
   vcz fit -model "ud:diameter~1" -grid-search -grid-sep 1:20 -grid-ratio 0.02 star.oifits
-Run 'vcz simulate -help-model' for every component and parameter.
+Run 'vcz fit -help-model' for every component and parameter.
 
 The table gives each free parameter with its 1σ uncertainty from the
 covariance matrix scaled by χ²ᵣ, the correlations above 0.5 and χ²ᵣ per data
@@ -87,7 +88,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	spec := fs.String("model", "", "model to fit: a TOML model file or the inline form, e.g. \"ud:diameter~3(0.5..10)\"")
 	starts := fs.Int("starts", 0, "number of starts (default: 16 when a component's x and y are both free, else 1)")
 	seed := fs.Uint64("seed", 1, "seed of the extra starts")
-	maxIter := fs.Int("max-iter", 200, "iteration limit of each start")
+	maxIter := fs.Int("iter", 200, "iteration limit of each start")
+	fs.IntVar(maxIter, "max-iter", 200, "earlier name of -iter")
+	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
 	asJSON := fs.Bool("json", false, "print the result as one JSON object on stdout")
 	plotPrefix := fs.String("plot", "", "write PNG plots PREFIX-<type>.png of each fitted data type (vis2, t3phi, ...), PREFIX-residuals.png (and PREFIX-grid.png)")
 	grid := fs.Bool("grid-search", false, "map χ² of a point companion over separation and position angle, then fit it")
@@ -107,6 +110,10 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
+	}
+	if *helpModel {
+		fmt.Fprint(stdout, model.Help())
+		return errHelp
 	}
 	if *spec == "" {
 		return badInputf("fit: -model is required (run 'vcz fit --help')")
