@@ -47,6 +47,19 @@ func writeEpoch(t testing.TB, path string, k int) {
 // Options keeping the test reconstructions small and fast.
 var batchFast = []string{"-n", "32", "-fov", "", "-weight", "0.001", "-iter", "40", "-starts", "1", "-quiet"}
 
+// writeEpochs writes n nights of data, night0.oifits ... (writeEpoch), in dir and returns
+// their paths.
+func writeEpochs(t *testing.T, dir string, n int) []string {
+	t.Helper()
+	var files []string
+	for k := range n {
+		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
+		writeEpoch(t, p, k)
+		files = append(files, p)
+	}
+	return files
+}
+
 func readSummary(t *testing.T, path string) *batch.Summary {
 	t.Helper()
 	s, err := batch.ReadJSON(path)
@@ -192,12 +205,7 @@ func TestBatchBadStretch(t *testing.T) {
 // their collected summary equals the unsharded run's apart from the timings.
 func TestBatchShardCollect(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
-	for k := range 3 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 3)
 	whole, shards := filepath.Join(dir, "whole"), filepath.Join(dir, "shards")
 	if _, errs, code := runCmd(t, append(append([]string{"batch", "-out", whole}, batchFast...), files...)...); code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -249,12 +257,7 @@ func TestBatchChild(t *testing.T) {
 func TestBatchKill(t *testing.T) {
 	fv := requireTool(t, "fitsverify")
 	dir := t.TempDir()
-	var files []string
-	for k := range 4 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 4)
 	out := filepath.Join(dir, "out")
 	// More iterations than the other tests, so that the kill falls inside an epoch.
 	args := append(append([]string{"batch", "-out", out, "-parallel", "1"}, batchFast...), "-iter", "400", "-weight", "auto")
@@ -312,12 +315,7 @@ func TestBatchKill(t *testing.T) {
 // fitsverify, and per-epoch images.
 func TestBatchJoint(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
-	for k := range 3 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 3)
 	out := filepath.Join(dir, "out")
 	args := append(append([]string{"batch", "-out", out, "-joint"}, batchFast...), files...)
 	if _, errs, code := runCmd(t, args...); code != exitOK {
@@ -370,12 +368,7 @@ func TestBatchJobKeys(t *testing.T) {
 // status beside the new FITS; the next plain run must redo that epoch, not keep it.
 func TestBatchStaleFITS(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
-	for k := range 2 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 2)
 	out, other := filepath.Join(dir, "out"), filepath.Join(dir, "other")
 	args := append(append([]string{"batch", "-out", out}, batchFast...), files...)
 	if _, errs, code := runCmd(t, args...); code != exitOK {

@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -97,12 +96,7 @@ func TestSignalStopsImage(t *testing.T) {
 // finds the finished epochs complete and does the rest.
 func TestSignalStopsBatch(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
-	for k := range 4 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 4)
 	out := filepath.Join(dir, "out")
 	args := append(append([]string{"batch", "-out", out, "-parallel", "1"}, batchFast...), "-iter", "400", "-weight", "auto")
 	args = append(args, files...)

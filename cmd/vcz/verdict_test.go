@@ -265,12 +265,7 @@ func indexOf(list []string, s string) int {
 // and exits 1; with -joint the joint outputs are written before the exit 1.
 func TestBatchVerdict(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
-	for k := range 2 {
-		p := filepath.Join(dir, fmt.Sprintf("night%d.oifits", k))
-		writeEpoch(t, p, k)
-		files = append(files, p)
-	}
+	files := writeEpochs(t, dir, 2)
 	out := filepath.Join(dir, "out")
 	args := append(append([]string{"batch", "-out", out}, batchFast...), "-iter", "3")
 	_, errs, code := runCmd(t, append(args, files...)...)
