@@ -222,10 +222,11 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		rep.T3 = len(tab.Rows) * nc
 		f.T3 = append(f.T3, tab)
 	}
-	if p.WriteVis {
-		rng := rand.New(rand.NewPCG(p.Seed, streamVis))
-		tab := oifits.Vis{DateObs: f.Primary.DateObs, ArrName: p.ArrayName, InsName: p.Instrument,
-			AmpTyp: oifits.AmpAbsolute, PhiTyp: oifits.PhiAbsolute}
+	// visTable makes an OI_VIS table of noisy amplitudes and phases from the noise
+	// stream; each row is passed to finish (nil for none) before it is kept.
+	visTable := func(stream uint64, at, pt string, finish func(*oifits.VisRow)) oifits.Vis {
+		rng := rand.New(rand.NewPCG(p.Seed, stream))
+		tab := oifits.Vis{DateObs: f.Primary.DateObs, ArrName: p.ArrayName, InsName: p.Instrument, AmpTyp: at, PhiTyp: pt}
 		for k := range has {
 			for j, pr := range pairs {
 				row := oifits.VisRow{TargetID: 1, MJD: mjds[k], IntTime: p.IntTime,
@@ -235,29 +236,21 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 				for c := 0; c < nc; c++ {
 					row.Amp[c], row.AmpErr[c], row.Phi[c], row.PhiErr[c] = noisyAmpPhase(vis[(k*np+j)*nc+c], nz.VisAmpRelative, nz.VisAmpFloor, nz.VisPhase, nz.Add, rng)
 				}
+				if finish != nil {
+					finish(&row)
+				}
 				tab.Rows = append(tab.Rows, row)
 			}
 		}
+		return tab
+	}
+	if p.WriteVis {
+		tab := visTable(streamVis, oifits.AmpAbsolute, oifits.PhiAbsolute, nil)
 		rep.Vis = len(tab.Rows) * nc
 		f.Vis = append(f.Vis, tab)
 	}
 	if p.WriteDiff {
-		rng := rand.New(rand.NewPCG(p.Seed, streamDiff))
-		tab := oifits.Vis{DateObs: f.Primary.DateObs, ArrName: p.ArrayName, InsName: p.Instrument,
-			AmpTyp: oifits.AmpDifferential, PhiTyp: oifits.PhiDifferential}
-		for k := range has {
-			for j, pr := range pairs {
-				row := oifits.VisRow{TargetID: 1, MJD: mjds[k], IntTime: p.IntTime,
-					UCoord: uc[k*np+j], VCoord: vc[k*np+j], StaIndex: [2]int{staIndex(pr[0]), staIndex(pr[1])},
-					Amp: make([]float64, nc), AmpErr: make([]float64, nc), Phi: make([]float64, nc), PhiErr: make([]float64, nc),
-					Flag: make([]bool, nc)}
-				for c := 0; c < nc; c++ {
-					row.Amp[c], row.AmpErr[c], row.Phi[c], row.PhiErr[c] = noisyAmpPhase(vis[(k*np+j)*nc+c], nz.VisAmpRelative, nz.VisAmpFloor, nz.VisPhase, nz.Add, rng)
-				}
-				differential(&row, p.Wavelengths)
-				tab.Rows = append(tab.Rows, row)
-			}
-		}
+		tab := visTable(streamDiff, oifits.AmpDifferential, oifits.PhiDifferential, func(row *oifits.VisRow) { differential(row, p.Wavelengths) })
 		rep.Diff = len(tab.Rows) * nc
 		f.Vis = append(f.Vis, tab)
 	}
