@@ -72,14 +72,10 @@ func DataPlots(files []*oifits.File, d *dataset.Data, dir string) ([]string, err
 	return written, nil
 }
 
-// FitPlots writes the plots of a fit of a model to d: for each fitted data type with data
-// PREFIX-<word>.png (data and model against spatial frequency; for V² of a circular model the
-// model's curve), PREFIX-residuals.png and, with a companion search g, PREFIX-grid.png. It
-// returns the files written, those before an error included.
-func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
-	m := res.Model
-	var written []string
-	save := func(fig *plots.Figure, err error, suffix string) error {
+// saver returns the function that writes a figure to prefix + suffix and lists the file in
+// written; a figure without data (plots.ErrNoData) is skipped, any other error returned.
+func saver(prefix string, written *[]string) func(*plots.Figure, error, string) error {
+	return func(fig *plots.Figure, err error, suffix string) error {
 		if err != nil {
 			if errors.Is(err, plots.ErrNoData) {
 				return nil
@@ -90,9 +86,19 @@ func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.Gri
 		if err := fig.WriteFile(p); err != nil {
 			return err
 		}
-		written = append(written, p)
+		*written = append(*written, p)
 		return nil
 	}
+}
+
+// FitPlots writes the plots of a fit of a model to d: for each fitted data type with data
+// PREFIX-<word>.png (data and model against spatial frequency; for V² of a circular model the
+// model's curve), PREFIX-residuals.png and, with a companion search g, PREFIX-grid.png. It
+// returns the files written, those before an error included.
+func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.GridResult, prefix string) ([]string, error) {
+	m := res.Model
+	var written []string
+	save := saver(prefix, &written)
 	title := strings.Join(d.Targets, ", ")
 	mp := modelPlots{files: files, d: d, pred: recon.PredictVis(d, m.VisMany), use: res.Use, name: "fitted model",
 		title:         func(what string) string { return titled(what+" and fitted model", title) },
@@ -324,20 +330,7 @@ func writeFitPlots(stem string, r Run) ([]string, error) {
 		return nil, err
 	}
 	var written []string
-	save := func(fig *plots.Figure, err error, suffix string) error {
-		if err != nil {
-			if errors.Is(err, plots.ErrNoData) {
-				return nil
-			}
-			return err
-		}
-		p := stem + suffix
-		if err := fig.WriteFile(p); err != nil {
-			return err
-		}
-		written = append(written, p)
-		return nil
-	}
+	save := saver(stem, &written)
 	var use dataset.DataType
 	for _, c := range res.Chi2 {
 		use |= c.Type
