@@ -7,9 +7,11 @@ import (
 	"strings"
 	"time"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon"
+	"vcz/runspec"
 )
 
 // Creator is the value of the CREATOR card of every image vcz writes.
@@ -48,40 +50,57 @@ func FITSCards(r Run) []fitsimage.Card {
 		fitsimage.Card{Key: "PIXMAS", Value: res.Grid.Pixel / recon.Mas, Comment: "pixel size (mas)"},
 		fitsimage.Card{Key: "RESOLMAS", Value: res.Grid.Resolution / recon.Mas, Comment: "nominal resolution lambda_min/(2 B_max) (mas)"},
 	)
-	c = append(c, observationCards(r)...)
+	c = append(c, observationCards(r.Files, r.Data)...)
 	c = append(c, WarningCards(res.Warnings)...)
-	for i, f := range r.Data.Files {
+	c = append(c, historyCards(r.Files, r.Data, r.Spec, res.Grid.Reasons, "weight path", res.Path, res.Notices)...)
+	return finishCards(c, "One image consistent with the data, not a photograph: features smaller",
+		"than the resolution lambda/(2 B_max) are not constrained by the data.")
+}
+
+// historyCards are the HISTORY cards of a result: its data files by the paths given, its
+// options (runspec.Spec.String) and with them RUNSPEC and DPATHn (rerunCards), the reasons
+// of the grid choice, the steps of a weight search (labelled label) and the notices.
+func historyCards(files []*oifits.File, d *dataset.Data, spec runspec.Spec, reasons []string, label string, path []recon.WeightStep, notices []string) []fitsimage.Card {
+	var c []fitsimage.Card
+	for i, f := range d.Files {
 		path := filepath.Base(f)
-		if i < len(r.Files) && r.Files[i].Path != "" {
-			path = r.Files[i].Path // as the user gave it, for -rerun
+		if i < len(files) && files[i].Path != "" {
+			path = files[i].Path // as the user gave it, for -rerun
 		}
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, path)})
 	}
 	var lines []string
-	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
+	for _, line := range strings.Split(strings.TrimSuffix(spec.String(), "\n"), "\n") {
 		if line != "" {
 			lines = append(lines, line)
 			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
 		}
 	}
-	c = append(c, rerunCards(r, lines)...)
-	for _, g := range res.Grid.Reasons {
+	c = append(c, rerunCards(files, lines)...)
+	for _, g := range reasons {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + g})
 	}
-	for _, s := range res.Path {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("weight path: weight=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
+	for _, s := range path {
+		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("%s: weight=%.6g chi2r=%.6g R=%.6g iter=%d%s", label, s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
 	}
-	for _, n := range res.Notices {
+	for _, n := range notices {
 		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "note: " + n})
 	}
+	return c
+}
+
+// finishCards turns the text of c into printable ASCII (FITS standard 4.0, sect. 4.1.2.1)
+// and appends the closing COMMENT lines.
+func finishCards(c []fitsimage.Card, comments ...string) []fitsimage.Card {
 	for i := range c {
 		if v, ok := c[i].Value.(string); ok {
 			c[i].Value = ASCII(v)
 		}
 		c[i].Comment = ASCII(c[i].Comment)
 	}
-	c = append(c, fitsimage.Card{Key: "COMMENT", Value: "One image consistent with the data, not a photograph: features smaller"},
-		fitsimage.Card{Key: "COMMENT", Value: "than the resolution lambda/(2 B_max) are not constrained by the data."})
+	for _, t := range comments {
+		c = append(c, fitsimage.Card{Key: "COMMENT", Value: t})
+	}
 	return c
 }
 
@@ -96,13 +115,13 @@ const (
 )
 
 // rerunCards are RUNSPEC and the DPATHn of the files read from disk.
-func rerunCards(r Run, lines []string) []fitsimage.Card {
+func rerunCards(files []*oifits.File, lines []string) []fitsimage.Card {
 	if lines == nil {
 		lines = []string{}
 	}
 	b, _ := json.Marshal(lines)
 	c := []fitsimage.Card{{Key: RunSpecKey, Value: string(b), Comment: "run options (JSON), for vcz image -rerun"}}
-	for i, f := range r.Files {
+	for i, f := range files {
 		if f.Path != "" {
 			c = append(c, fitsimage.Card{Key: fmt.Sprintf("%s%d", DataPathKey, i+1), Value: f.Path, Comment: fmt.Sprintf("data file %d as given", i+1)})
 		}
@@ -118,9 +137,9 @@ const mjdUnix = 40587
 // used (WAVEMIN, WAVEMAX in metres), the instrument set-ups (INSTRUME, their INSNAMEs) and
 // the arrays (TELESCOP, their ARRNAMEs), and the SHA-256 of each data file read from disk
 // (DSHAn, FIPS 180-4).
-func observationCards(r Run) []fitsimage.Card {
+func observationCards(files []*oifits.File, d *dataset.Data) []fitsimage.Card {
 	var c []fitsimage.Card
-	s := r.Data.Summarize()
+	s := d.Summarize()
 	if s.MJDMax > 0 {
 		t := time.Unix(0, 0).UTC().Add(time.Duration((s.MJDMin - mjdUnix) * 86400 * float64(time.Second)))
 		c = append(c,
@@ -134,7 +153,7 @@ func observationCards(r Run) []fitsimage.Card {
 			fitsimage.Card{Key: "WAVEMAX", Value: s.LambdaMax, Comment: "[m] longest wavelength fitted"})
 	}
 	var ins []string
-	for _, in := range r.Data.Instruments {
+	for _, in := range d.Instruments {
 		ins = append(ins, in.Name)
 	}
 	if len(ins) > 0 {
@@ -142,7 +161,7 @@ func observationCards(r Run) []fitsimage.Card {
 	}
 	var arrays []string
 	seen := map[string]bool{}
-	for _, f := range r.Files {
+	for _, f := range files {
 		for _, a := range f.Arrays {
 			if !seen[a.Name] {
 				seen[a.Name] = true
@@ -153,7 +172,7 @@ func observationCards(r Run) []fitsimage.Card {
 	if len(arrays) > 0 {
 		c = append(c, fitsimage.Card{Key: "TELESCOP", Value: strings.Join(arrays, ","), Comment: "arrays (ARRNAME)"})
 	}
-	for i, f := range r.Files {
+	for i, f := range files {
 		if f.SHA256 != "" {
 			c = append(c, fitsimage.Card{Key: fmt.Sprintf("%s%d", DataHashKey, i+1), Value: f.SHA256, Comment: fmt.Sprintf("SHA-256 of data file %d", i+1)})
 		}

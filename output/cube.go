@@ -7,7 +7,6 @@ import (
 	"math"
 	"path/filepath"
 	"strconv"
-	"strings"
 	"time"
 
 	"vcz/dataset"
@@ -168,7 +167,7 @@ func (o Outputs) CubeImage(r CubeRun) *fitsimage.Image {
 
 // CubeCards is the provenance of a cube as FITS header cards: those of an image (FITSCards)
 // where they apply, the spectral regularizer, and per plane nnn its χ²ᵣ (CHI2Rnnn), number of
-// data (NPTnnn), spatial weight (REGWTnnn is too long: MUnnn) and channels (CHANnnn).
+// data (NPTnnn), spatial weight (PENWTnnn) and channels (CHANnnn).
 func CubeCards(r CubeRun) []fitsimage.Card {
 	res := r.Result
 	date := r.Date
@@ -185,8 +184,8 @@ func CubeCards(r CubeRun) []fitsimage.Card {
 		{Key: "OBJECT", Value: orUnknown(targetOf(r.Data)), Comment: "target"},
 		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
 		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
-		{Key: "REGUL", Value: r.Spec.RegularizerLabel(), Comment: "spatial regularizer(s) of each plane"},
-		{Key: "REGWT", Value: res.Weight, Comment: "spatial weight mu of the gray image, shared"},
+		{Key: "PENALTY", Value: r.Spec.RegularizerLabel(), Comment: "spatial regularizer(s) of each plane"},
+		{Key: "PENWT", Value: res.Weight, Comment: "spatial weight (mu) of the gray image, shared"},
 		{Key: "SPECREG", Value: res.Spectral.String(), Comment: "regularizer across planes"},
 		{Key: "SPECWT", Value: res.SpectralWeight, Comment: "weight eta of the regularizer across planes"},
 		{Key: "SPECVAL", Value: res.SpectralValue, Comment: "value of the regularizer across planes"},
@@ -195,7 +194,7 @@ func CubeCards(r CubeRun) []fitsimage.Card {
 		{Key: "CHI2EXP", Value: expect / float64(max(nAll, 1)), Comment: "expected reduced chi2"},
 		{Key: "NITER", Value: res.Iter, Comment: "iterations of the planes' last runs"},
 		{Key: "NITERTOT", Value: res.TotalIter, Comment: "iterations of all runs, gray image included"},
-		{Key: "STOPWHY", Value: Truncate(ASCII(res.StopReason), 68), Comment: "why the sweeps stopped"},
+		{Key: "STOPWHY", Value: res.StopReason, Comment: "why the sweeps stopped"},
 		{Key: "SEED", Value: int(r.Spec.SeedValue()), Comment: "seed of the random choices"},
 		{Key: "GRIDN", Value: res.Grid.N, Comment: "pixels per side"},
 		{Key: "PIXMAS", Value: res.Grid.Pixel / recon.Mas, Comment: "pixel size (mas)"},
@@ -208,39 +207,19 @@ func CubeCards(r CubeRun) []fitsimage.Card {
 		c = append(c,
 			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", k+1), Value: p.Chi2r, Comment: fmt.Sprintf("reduced chi2 of plane %d", k+1)},
 			fitsimage.Card{Key: fmt.Sprintf("NPT%03d", k+1), Value: p.N, Comment: fmt.Sprintf("data fitted by plane %d", k+1)},
-			fitsimage.Card{Key: fmt.Sprintf("MU%03d", k+1), Value: p.Weight, Comment: fmt.Sprintf("spatial weight of plane %d", k+1)},
+			fitsimage.Card{Key: fmt.Sprintf("PENWT%03d", k+1), Value: p.Weight, Comment: fmt.Sprintf("spatial weight of plane %d", k+1)},
 			fitsimage.Card{Key: fmt.Sprintf("CHAN%03d", k+1), Value: ASCII(p.Label), Comment: fmt.Sprintf("%.6g-%.6g um", p.Lo*1e6, p.Hi*1e6)},
 		)
 	}
-	c = append(c, WarningCards(res.Warnings)...)
-	for i, f := range r.Data.Files {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
-	}
-	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
-		if line != "" {
-			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
-		}
-	}
-	for _, g := range res.Grid.Reasons {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "grid: " + g})
-	}
+	var path []recon.WeightStep
 	if res.Gray != nil {
-		for _, s := range res.Gray.Path {
-			c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("gray weight path: mu=%.6g chi2r=%.6g R=%.6g iter=%d%s", s.Weight, s.Chi2r, s.Reg, s.Iter, stepFlags(s))})
-		}
+		path = res.Gray.Path
 	}
-	for _, n := range res.Notices {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: "note: " + n})
-	}
-	for i := range c {
-		if v, ok := c[i].Value.(string); ok {
-			c[i].Value = ASCII(v)
-		}
-		c[i].Comment = ASCII(c[i].Comment)
-	}
-	c = append(c, fitsimage.Card{Key: "COMMENT", Value: "One image per wavelength consistent with the data, not a photograph:"},
-		fitsimage.Card{Key: "COMMENT", Value: "features smaller than lambda/(2 B_max) are not constrained by the data."})
-	return c
+	c = append(c, observationCards(r.Files, r.Data)...)
+	c = append(c, WarningCards(res.Warnings)...)
+	c = append(c, historyCards(r.Files, r.Data, r.Spec, res.Grid.Reasons, "gray weight path", path, res.Notices)...)
+	return finishCards(c, "One image per wavelength consistent with the data, not a photograph:",
+		"features smaller than lambda/(2 B_max) are not constrained by the data.")
 }
 
 // planesHeader are the columns of OUT-planes.csv.
@@ -297,8 +276,8 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 		{Key: "OBJECT", Value: orUnknown(target), Comment: "target"},
 		{Key: "DATE", Value: date.UTC().Format("2006-01-02T15:04:05"), Comment: "file creation date (UTC)"},
 		{Key: "CREATOR", Value: Creator, Comment: "software that made this image"},
-		{Key: "REGUL", Value: r.Spec.RegularizerLabel(), Comment: "regularizer(s) of the environment"},
-		{Key: "REGWT", Value: res.Gray.Weight, Comment: "regularization weight mu (of the gray image)"},
+		{Key: "PENALTY", Value: r.Spec.RegularizerLabel(), Comment: "regularizer(s) of the environment"},
+		{Key: "PENWT", Value: res.Gray.Weight, Comment: "weight of the regularizer (mu, of the gray image)"},
 		{Key: "LAMBDA0", Value: res.Lambda0, Comment: "[m] reference wavelength"},
 		{Key: "STARF0", Value: res.F0, Comment: "star's share of the flux at LAMBDA0"},
 		{Key: "STARF0E", Value: finiteOr(res.F0Err), Comment: "1 sigma, image fixed (underestimate)"},
@@ -313,20 +292,9 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 	if r.Spec.Star != nil && r.Spec.Star.Diameter > 0 {
 		c = append(c, fitsimage.Card{Key: "STARDIAM", Value: r.Spec.Star.Diameter / recon.Mas, Comment: "star's uniform-disc diameter (mas)"})
 	}
-	for i, f := range r.Data.Files {
-		c = append(c, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("data file %d: %s", i+1, filepath.Base(f))})
-	}
-	for _, line := range strings.Split(strings.TrimSuffix(r.Spec.String(), "\n"), "\n") {
-		if line != "" {
-			c = append(c, fitsimage.Card{Key: "HISTORY", Value: "option: " + line})
-		}
-	}
-	for i := range c {
-		if v, ok := c[i].Value.(string); ok {
-			c[i].Value = ASCII(v)
-		}
-		c[i].Comment = ASCII(c[i].Comment)
-	}
+	c = append(c, observationCards(r.Files, r.Data)...)
+	c = append(c, historyCards(r.Files, r.Data, r.Spec, nil, "", nil, nil)...)
+	c = finishCards(c)
 	n := res.Grid.N
 	im := &fitsimage.Image{NX: n, NY: n, Pixel: res.Grid.Pixel, Data: res.Env, RA: ra, Dec: dec, HasRADec: ok,
 		BUnit: BUnit, Normalized: true, Cards: append(c, o.Cards...)}
