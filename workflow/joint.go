@@ -85,8 +85,9 @@ type JointSettings struct {
 // Joint reconstructs the epochs together with a temporal regularizer (batch.Joint), from
 // their independent images: results are those of Batch.Run for the same epochs, all done.
 // An image in memory is used as it is; the FITS file is read only for an epoch found
-// complete. It writes joint.fits (the cube, one plane per epoch with its mean MJD in
-// MJDnnn), EPOCH-joint.fits and .png into the batch's folder, and returns the result.
+// complete. It writes joint.fits (the cube, one plane per epoch on a time axis at the
+// middle of each epoch), EPOCH-joint.fits and .png into the batch's folder, and returns the
+// result.
 func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (*JointResult, error) {
 	out := b.Out
 	j := &batch.Joint{Parallel: true}
@@ -155,13 +156,26 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the kept run"})
-	for t, e := range epochs {
+	// The third axis is time, each plane at the middle of its epoch (fitsimage.Image.Time),
+	// when the epochs come in time order; otherwise it stays the plane number and each
+	// plane's MJD is in MJDnnn.
+	mids := make([]float64, len(epochs))
+	inOrder := true
+	for t := range epochs {
 		row := results[t].Row
+		mids[t] = (row.MJDMin + row.MJDMax) / 2
+		inOrder = inOrder && (t == 0 || mids[t] > mids[t-1])
+	}
+	if inOrder {
+		cube.Time = mids
+	}
+	for t, e := range epochs {
 		cube.Data = append(cube.Data, res.Images[t]...)
-		mid := (row.MJDMin + row.MJDMax) / 2
+		if !inOrder {
+			cube.Cards = append(cube.Cards, fitsimage.Card{Key: fmt.Sprintf("MJD%03d", t+1), Value: mids[t], Comment: output.ASCII("mean MJD of plane " + fmt.Sprint(t+1))})
+		}
 		cube.Cards = append(cube.Cards,
-			fitsimage.Card{Key: fmt.Sprintf("MJD%03d", t+1), Value: mid, Comment: output.ASCII("mean MJD of plane " + fmt.Sprint(t+1))},
-			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: output.ASCII(output.Truncate(e.Name, 68)), Comment: "epoch name"},
+			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: output.ASCII(e.Name), Comment: "epoch name"},
 			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", t+1), Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"})
 	}
 	for _, s := range res.Path {

@@ -75,8 +75,10 @@ epoch's data call for (or -n and -pixel when given), so the images compare
 pixel for pixel; adding an epoch may change that grid and redo the others.
 -stretch sets the display stretch of the previews, montage and animation.
 With -joint also:
-  joint.fits                   the jointly reconstructed cube (axis 3 = epoch,
-                               MJD of each plane in keys MJDnnn)
+  joint.fits                   the jointly reconstructed cube (axis 3 = time:
+                               CTYPE3 TIME or TIME-TAB in MJD, each plane at the
+                               middle of its epoch; MJDnnn keys instead when the
+                               epochs are not in time order)
   EPOCH-joint.fits/.png        its planes as images`
 
 func runBatch(args []string, stdout, stderr io.Writer) error {

@@ -329,16 +329,10 @@ func TestBatchJoint(t *testing.T) {
 		t.Fatalf("cube %d × %d × %d", cube.NX, cube.NY, cube.Planes)
 	}
 	s := readSummary(t, filepath.Join(out, "summary.json"))
-	mjd := map[string]float64{}
-	for _, c := range cube.Cards {
-		if v, ok := c.Value.(float64); ok {
-			mjd[c.Key] = v
-		}
-	}
 	for k, r := range s.Rows {
-		key := fmt.Sprintf("MJD%03d", k+1)
-		if m, ok := mjd[key]; !ok || m < r.MJDMin || m > r.MJDMax {
-			t.Fatalf("%s = %v, epoch %g..%g", key, m, r.MJDMin, r.MJDMax)
+		// The third axis is time (FITS standard 4.0 sect. 9), each plane within its epoch.
+		if len(cube.Time) != len(s.Rows) || cube.Time[k] < r.MJDMin || cube.Time[k] > r.MJDMax {
+			t.Fatalf("plane %d at MJD %v, epoch %g..%g", k+1, cube.Time, r.MJDMin, r.MJDMax)
 		}
 		if _, err := fitsimage.ReadFile(filepath.Join(out, r.Epoch+"-joint.fits")); err != nil {
 			t.Fatal(err)

@@ -37,6 +37,11 @@ type Image struct {
 	// 1e-6 of the step), otherwise 'WAVE-TAB', tabulated in a binary table WCS-TAB that
 	// follows the image (Paper III, sect. 6). Without it the third axis is the plane number.
 	Wave []float64
+	// Time, when non-nil (and Wave nil), holds the MJD (days, UTC) of each plane of a cube,
+	// increasing: the third axis is then a time axis (FITS standard 4.0 sect. 9, Rots et al.
+	// 2015, A&A 574, A36): CTYPE3 = 'TIME' in days from MJDREF = 0 (so values are MJDs),
+	// TIMESYS = 'UTC', linear when evenly spaced, otherwise 'TIME-TAB' tabulated as for Wave.
+	Time []float64
 	// Data holds NX*NY*max(Planes, 1) values, Data[(p*NY+iy)*NX+ix].
 	Data []float64
 	// RA and Dec (deg) of the phase centre, the sky position of pixel
@@ -59,7 +64,7 @@ type Image struct {
 func wcsKey(key string) bool {
 	switch key {
 	case "SIMPLE", "BITPIX", "NAXIS", "EXTEND", "BSCALE", "BZERO", "BLANK", "END",
-		"RADESYS", "RADECSYS", "EQUINOX", "WCSAXES", "LONPOLE", "LATPOLE", "BUNIT", "CHECKSUM", "DATASUM":
+		"RADESYS", "RADECSYS", "EQUINOX", "WCSAXES", "LONPOLE", "LATPOLE", "BUNIT", "CHECKSUM", "DATASUM", "TIMESYS", "MJDREF":
 		return true
 	}
 	for _, p := range []string{"NAXIS", "CTYPE", "CRPIX", "CDELT", "CUNIT", "CRVAL", "CROTA", "CD", "PC", "PS", "PV", "SPECSYS"} {
@@ -131,6 +136,16 @@ func (im *Image) check() error {
 			}
 		}
 	}
+	if im.Time != nil {
+		if im.Wave != nil || len(im.Time) != max(im.Planes, 1) || im.Planes < 2 {
+			return fmt.Errorf("%d times for a cube of %d planes (with %d wavelengths)", len(im.Time), max(im.Planes, 1), len(im.Wave))
+		}
+		for k, x := range im.Time {
+			if math.IsNaN(x) || math.IsInf(x, 0) || k > 0 && !(x > im.Time[k-1]) {
+				return fmt.Errorf("MJD %d of the planes is %g; want finite and increasing", k+1, x)
+			}
+		}
+	}
 	if n := im.NX * im.NY * max(im.Planes, 1); len(im.Data) != n {
 		return fmt.Errorf("image has %d values; %d × %d × %d needs %d", len(im.Data), im.NX, im.NY, max(im.Planes, 1), n)
 	}
@@ -175,6 +190,10 @@ func Encode(w io.Writer, im *Image) error {
 		var wc []fitsfile.Card
 		wc, tab = waveCards(im.Wave)
 		cards = append(cards, wc...)
+	case im.Planes > 1 && im.Time != nil:
+		var tc []fitsfile.Card
+		tc, tab = timeCards(im.Time)
+		cards = append(cards, tc...)
 	case im.Planes > 1:
 		cards = append(cards,
 			fitsfile.Card{Key: "CTYPE3", Value: "PLANE", Comment: "plane number (e.g. epoch), 1-based"},
@@ -215,8 +234,12 @@ func Encode(w io.Writer, im *Image) error {
 	if tab {
 		// The coordinate array of a one-dimensional -TAB axis has dimensions (1, K): one
 		// coordinate per element, K elements (Paper III, sect. 6.1.2).
-		return fw.WriteTable(waveTable, 1, []fitsfile.ColumnSpec{{Name: waveColumn, Type: 'D', Repeat: len(im.Wave),
-			Unit: "m", Dim: []int{1, len(im.Wave)}, Comment: "wavelength of each plane", Data: im.Wave}}, nil)
+		coords, unit, what := im.Wave, "m", "wavelength of each plane"
+		if im.Wave == nil {
+			coords, unit, what = im.Time, "d", "MJD of each plane"
+		}
+		return fw.WriteTable(waveTable, 1, []fitsfile.ColumnSpec{{Name: waveColumn, Type: 'D', Repeat: len(coords),
+			Unit: unit, Dim: []int{1, len(coords)}, Comment: what, Data: coords}}, nil)
 	}
 	return nil
 }
@@ -226,6 +249,42 @@ const (
 	waveTable  = "WCS-TAB"
 	waveColumn = "COORDS"
 )
+
+// timeCards returns the WCS cards of a time third axis at the MJDs mjd (increasing, at
+// least two) and whether the axis is tabulated (FITS standard 4.0 sect. 9.3 and 9.4: time
+// in days, CUNIT3 'd', from the reference MJDREF, here 0 so that the coordinate is the MJD,
+// in the time scale TIMESYS; -TAB as for waveCards).
+func timeCards(mjd []float64) ([]fitsfile.Card, bool) {
+	ref := []fitsfile.Card{
+		{Key: "TIMESYS", Value: "UTC", Comment: "time scale of the time axis"},
+		{Key: "MJDREF", Value: 0.0, Comment: "[d] reference: the time axis is in MJD"},
+	}
+	n := len(mjd)
+	step := (mjd[n-1] - mjd[0]) / float64(n-1)
+	lin := true
+	for k, x := range mjd {
+		lin = lin && math.Abs(x-(mjd[0]+float64(k)*step)) <= 1e-6*step
+	}
+	if lin {
+		return append([]fitsfile.Card{
+			{Key: "CTYPE3", Value: "TIME", Comment: "time of each plane, linear"},
+			{Key: "CUNIT3", Value: "d", Comment: "unit of CRVAL3 and CDELT3"},
+			{Key: "CRPIX3", Value: 1.0, Comment: "reference pixel: the first plane"},
+			{Key: "CRVAL3", Value: mjd[0], Comment: "[d] MJD of the first plane"},
+			{Key: "CDELT3", Value: step, Comment: "[d] time step between planes"},
+		}, ref...), false
+	}
+	return append([]fitsfile.Card{
+		{Key: "CTYPE3", Value: "TIME-TAB", Comment: "time, tabulated in table " + waveTable},
+		{Key: "CUNIT3", Value: "d", Comment: "unit of the tabulated times"},
+		{Key: "CRPIX3", Value: 1.0, Comment: "pixel k maps to index k of the table"},
+		{Key: "CRVAL3", Value: 1.0, Comment: "index of the first plane"},
+		{Key: "CDELT3", Value: 1.0, Comment: "index step between planes"},
+		{Key: "PS3_0", Value: waveTable, Comment: "EXTNAME of the table of times"},
+		{Key: "PS3_1", Value: waveColumn, Comment: "column of the times"},
+		{Key: "PV3_3", Value: 1, Comment: "axis of the coordinate array"},
+	}, ref...), true
+}
 
 // waveCards returns the WCS cards of a spectral third axis at wavelengths wave (m,
 // increasing, at least two) and whether the axis is tabulated (Greisen et al. 2006, A&A
@@ -374,6 +433,9 @@ func Decode(data []byte) (*Image, error) {
 		if im.Wave, err = readWave(ff, hd, im.Planes); err != nil {
 			return nil, bad("%v", err)
 		}
+		if im.Time, err = readTime(ff, hd, im.Planes); err != nil {
+			return nil, bad("%v", err)
+		}
 	}
 	if u, _, _ := hd.String("BUNIT"); u != "" {
 		im.BUnit = strings.TrimSpace(u)
@@ -500,22 +562,45 @@ func flip(im *Image, fx, fy bool) {
 // (linear, in m, um or nm) or WAVE-TAB (the table and column that PS3_0 and PS3_1 name),
 // nil for any other third axis.
 func readWave(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, error) {
+	return readAxis3(ff, hd, planes, "WAVE", map[string]float64{"": 1, "m": 1, "um": 1e-6, "nm": 1e-9, "Angstrom": 1e-10}, "m, um, nm or Angstrom")
+}
+
+// readTime returns the MJDs of the planes of a cube whose third axis is TIME or TIME-TAB
+// in days from MJDREF (0 when absent), nil for any other third axis.
+func readTime(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, error) {
+	t, err := readAxis3(ff, hd, planes, "TIME", map[string]float64{"": 1, "d": 1}, "d")
+	if t == nil || err != nil {
+		return t, err
+	}
+	ref, _, err := hd.Float("MJDREF")
+	if err != nil {
+		return nil, err
+	}
+	for k := range t {
+		t[k] += ref
+	}
+	return t, nil
+}
+
+// readAxis3 returns the coordinates of the planes along a third axis of type ctype, linear
+// or ctype-TAB, in the unit of factor 1 of units (named by want in errors); nil when the
+// third axis is of another type.
+func readAxis3(ff *fitsfile.File, hd *fitsfile.Header, planes int, ctype string, units map[string]float64, want string) ([]float64, error) {
 	ct, _, err := hd.String("CTYPE3")
 	if err != nil {
 		return nil, err
 	}
 	ct = strings.TrimSpace(ct)
-	if ct != "WAVE" && ct != "WAVE-TAB" {
+	if ct != ctype && ct != ctype+"-TAB" {
 		return nil, nil
 	}
 	cu, _, err := hd.String("CUNIT3")
 	if err != nil {
 		return nil, err
 	}
-	unit := map[string]float64{"": 1, "m": 1, "um": 1e-6, "nm": 1e-9, "Angstrom": 1e-10}
-	f, ok := unit[strings.TrimSpace(cu)]
+	f, ok := units[strings.TrimSpace(cu)]
 	if !ok {
-		return nil, fmt.Errorf("CUNIT3 = '%s'; want m, um, nm or Angstrom", cu)
+		return nil, fmt.Errorf("CUNIT3 = '%s'; want %s", cu, want)
 	}
 	get := func(key string, def float64) (float64, error) {
 		v, ok, err := hd.Float(key)
@@ -531,7 +616,7 @@ func readWave(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, er
 		return nil, err
 	}
 	wave := make([]float64, planes)
-	if ct == "WAVE" {
+	if ct == ctype {
 		for k := range wave {
 			wave[k] = f * (crval + (float64(k+1)-crpix)*cdelt)
 		}
@@ -552,7 +637,7 @@ func readWave(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, er
 		}
 		c := t.Column(strings.TrimSpace(colName))
 		if c == nil || t.Rows < 1 {
-			return nil, fmt.Errorf("table %s has no column %s of wavelengths", tabName, colName)
+			return nil, fmt.Errorf("table %s has no column %s of coordinates", tabName, colName)
 		}
 		coords := make([]float64, c.Repeat)
 		if err := t.Float64s(coords, c, 0); err != nil {
@@ -563,11 +648,11 @@ func readWave(ff *fitsfile.File, hd *fitsfile.Header, planes int) ([]float64, er
 			psi := crval + cdelt*(float64(k+1)-crpix)
 			i := int(math.Round(psi)) - 1
 			if math.Abs(psi-math.Round(psi)) > 1e-9 || i < 0 || i >= len(coords) {
-				return nil, fmt.Errorf("plane %d falls at index %g of the %d tabulated wavelengths; only whole indices are read", k+1, psi, len(coords))
+				return nil, fmt.Errorf("plane %d falls at index %g of the %d tabulated coordinates; only whole indices are read", k+1, psi, len(coords))
 			}
 			wave[k] = f * coords[i]
 		}
 		return wave, nil
 	}
-	return nil, fmt.Errorf("CTYPE3 = 'WAVE-TAB' but no table %s", tabName)
+	return nil, fmt.Errorf("CTYPE3 = '%s' but no table %s", ct, tabName)
 }

@@ -67,3 +67,56 @@ func TestSpectralAxis(t *testing.T) {
 		t.Error("decreasing wavelengths written without error")
 	}
 }
+
+// TestTimeAxis writes cubes whose planes are epochs, evenly and unevenly spaced in MJD, and
+// checks them with fitsverify and with astropy.wcs: the world coordinate of each plane along
+// axis 3 is its MJD (FITS standard 4.0 sect. 9: CTYPE3 TIME or TIME-TAB in days from
+// MJDREF = 0).
+func TestTimeAxis(t *testing.T) {
+	for _, tc := range []struct {
+		name  string
+		mjd   []float64
+		ctype string
+	}{
+		{"linear", []float64{61203.5, 61204.5, 61205.5}, "TIME"},
+		{"tabulated", []float64{61203.71, 61204.68, 61206.7, 61209.66}, "TIME-TAB"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			im := testImage(6, 4, len(tc.mjd))
+			im.Time = tc.mjd
+			path := filepath.Join(t.TempDir(), "epochs.fits")
+			if err := WriteFile(path, im); err != nil {
+				t.Fatal(err)
+			}
+			fitstest.Verify(t, path)
+			back, err := ReadFile(path)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(back.Time) != len(tc.mjd) || back.Wave != nil {
+				t.Fatalf("read back %d times, %d wavelengths", len(back.Time), len(back.Wave))
+			}
+			for k, x := range back.Time {
+				if math.Abs(x-tc.mjd[k]) > 1e-9 {
+					t.Errorf("read back: plane %d at MJD %.9f, wrote %.9f", k+1, x, tc.mjd[k])
+				}
+			}
+			var got struct {
+				Wave  []float64 // the world coordinate of axis 3, whatever it is
+				Unit  string
+				Ctype string
+			}
+			if err := json.Unmarshal(fitstest.RunPython(t, "../../testdata/fitsimage/astropy_wave.py", path), &got); err != nil {
+				t.Fatal(err)
+			}
+			if got.Ctype != tc.ctype || got.Unit != "d" || len(got.Wave) != len(tc.mjd) {
+				t.Fatalf("astropy: CTYPE3 %q, unit %q, %d planes", got.Ctype, got.Unit, len(got.Wave))
+			}
+			for k, x := range got.Wave {
+				if math.Abs(x-tc.mjd[k]) > 1e-6 {
+					t.Errorf("astropy: plane %d at MJD %.6f, wrote %.6f", k+1, x, tc.mjd[k])
+				}
+			}
+		})
+	}
+}
