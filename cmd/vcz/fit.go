@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"strings"
 
 	"vcz/output"
 	"vcz/recon"
@@ -179,7 +180,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	if fo == nil {
 		var ie *workflow.InputError
 		if errors.As(fitErr, &ie) {
-			return badInputf("fit: %v", fitErr)
+			return badInputf("fit: %s", strings.TrimPrefix(fitErr.Error(), "fit: "))
 		}
 		return failure(fitErr)
 	}

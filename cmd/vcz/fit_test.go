@@ -465,3 +465,13 @@ func TestFitLimits(t *testing.T) {
 	}
 	checkPNG(t, prefix+".png")
 }
+
+// TestFitMessageNoStutter checks that an input error of the fit reads "vcz: fit: ...", not
+// "vcz: fit: fit: ...".
+func TestFitMessageNoStutter(t *testing.T) {
+	data := writeDemoData(t, t.TempDir())
+	_, errs, code := runCmd(t, "fit", "-model", "ud:diameter=3", data)
+	if code != exitBadInput || strings.Contains(errs, "fit: fit:") || !strings.Contains(errs, "no free parameter") {
+		t.Errorf("exit %d: %q", code, errs)
+	}
+}
