@@ -151,65 +151,44 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		p.imageRows[iy] = int32(mod(iy-r.ny/2, fy))
 	}
 
-	// Grid offsets of each point, then a counting sort by (bin row, x0).
+	// First taps of each point, then a counting sort by (bin row, x0).
+	// u·x + v·y = s·(ix − nx/2) + t·(iy − ny/2) with s = −u·pixel and
+	// t = v·pixel (CONVENTIONS.md); fine coordinates are f·s and f·t.
 	m := r.m
-	tx := make([]float64, m)
-	ty := make([]float64, m)
-	x0 := make([]int32, m)
-	y0 := make([]int32, m)
 	half := float64(w) / 2
-	for k := range m {
-		// u·x + v·y = s·(ix − nx/2) + t·(iy − ny/2) with s = −u·pixel
-		// and t = v·pixel (CONVENTIONS.md); fine coordinates are f·s.
-		tx[k] = reduce(-u[k]*r.pixel) * float64(fx)
-		ty[k] = reduce(v[k]*r.pixel) * float64(fy)
-		x0[k] = int32(mod(int(math.Ceil(tx[k]-half)), fx))
-		y0[k] = int32(mod(int(math.Ceil(ty[k]-half)), fy))
-	}
+	fineX := func(k int) float64 { return reduce(-u[k]*r.pixel) * float64(fx) }
+	fineY := func(k int) float64 { return reduce(v[k]*r.pixel) * float64(fy) }
 	nb := (fy + binRows - 1) / binRows
 	count := make([]int32, nb*fx+1)
+	key := make([]int32, m)
 	for k := range m {
-		count[int(y0[k])/binRows*fx+int(x0[k])+1]++
+		jx := mod(int(math.Ceil(fineX(k)-half)), fx)
+		jy := mod(int(math.Ceil(fineY(k)-half)), fy)
+		key[k] = int32(jy/binRows*fx + jx)
+		count[key[k]+1]++
 	}
 	for i := 1; i < len(count); i++ {
 		count[i] += count[i-1]
 	}
+	// The scatter of the sort also puts the coordinates in sorted order,
+	// so that the weights are computed in sequential passes.
 	p.perm = make([]int32, m)
-	p.sorted = make([]complex128, m)
-	for k := range m {
-		key := int(y0[k])/binRows*fx + int(x0[k])
-		p.perm[count[key]] = int32(k)
-		count[key]++
+	sx := make([]float64, m)
+	sy := make([]float64, m)
+	for k, c := range key {
+		i := count[c]
+		count[c]++
+		p.perm[i] = int32(k)
+		sx[i], sy[i] = fineX(k), fineY(k)
 	}
-	count, x0, y0 = nil, nil, nil
-
-	// Weights, in sorted order.
+	count, key = nil, nil
+	p.sorted = make([]complex128, m)
 	p.x0 = make([]int32, m)
 	p.y0 = make([]int32, m)
-	wbuf := make([]float64, 2*w)
 	if r.tol >= f32Tol {
 		p.wts32 = make([]float32, 2*w*m)
 	} else {
 		p.wts = make([]float64, 2*w*m)
-	}
-	for i, k := range p.perm {
-		jx := math.Ceil(tx[k] - half)
-		jy := math.Ceil(ty[k] - half)
-		p.x0[i] = int32(mod(int(jx), fx))
-		p.y0[i] = int32(mod(int(jy), fy))
-		wt := wbuf
-		if p.wts != nil {
-			wt = p.wts[2*w*i : 2*w*i+2*w]
-		}
-		for d := range w {
-			wt[d] = p.kern.eval(tx[k] - (jx + float64(d)))
-			wt[w+d] = p.kern.eval(ty[k] - (jy + float64(d)))
-		}
-		if p.wts32 != nil {
-			for d, x := range wt {
-				p.wts32[2*w*i+d] = float32(x)
-			}
-		}
 	}
 
 	p.hc = min(fx, (fx/2/colBlock+1)*colBlock)
@@ -245,6 +224,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	for i := range p.scratch {
 		p.scratch[i] = make([]complex128, 2*max(fx, fy*colBlock))
 	}
+
+	// Weights, in sorted order, in shards of points. Kaiser–Bessel
+	// weights come from the fitted polynomials, the other kernel (kept
+	// for TestKernelAccuracy) from its formula.
+	wj := &weightJob{p: p, sx: sx, sy: sy}
+	if kind == kaiserBessel {
+		wj.poly = newKernelPoly(&p.kern)
+	}
+	p.pool.run(wj, chunks(m, interpShard))
 
 	// Spreading bands: shard s spreads sorted points [ptLo[s], ptLo[s+1])
 	// into its own band, which spans the fine rows its points touch.
@@ -290,6 +278,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	}
 	p.rowStart[fy] = int32(len(src))
 	p.rowSrc = src
+
+	// Write the buffers of the calls once, so that the first call does
+	// not pay for mapping fresh pages.
+	clear(p.grid)
+	clear(p.band)
+	clear(p.sorted)
+	for _, s := range p.scratch {
+		clear(s)
+	}
 	return p
 }
 
@@ -668,4 +665,46 @@ func (p *plan) memBytes() (grid, perPoint, total int) {
 		}
 	}
 	return grid, perPoint, total
+}
+
+// weightJob computes the first taps and the kernel weights of the
+// sorted points, one shard of interpShard points at a time.
+type weightJob struct {
+	p      *plan
+	sx, sy []float64 // fine coordinates of the sorted points
+	poly   kernelPoly
+}
+
+func (j *weightJob) do(_, s int) {
+	p, w := j.p, j.p.w
+	lo, hi := chunk(p.m, s, interpShard)
+	half := float64(w) / 2
+	var buf [2 * maxUnrolled]float64
+	for i := lo; i < hi; i++ {
+		jx := math.Ceil(j.sx[i] - half)
+		jy := math.Ceil(j.sy[i] - half)
+		p.x0[i] = int32(mod(int(jx), p.fx))
+		p.y0[i] = int32(mod(int(jy), p.fy))
+		// Offsets of the point from its first taps, a ∈ (w/2 − 1, w/2].
+		ax, ay := j.sx[i]-jx, j.sy[i]-jy
+		wt := buf[:2*w]
+		if p.wts != nil {
+			wt = p.wts[2*w*i : 2*w*i+2*w]
+		}
+		if j.poly.c != nil {
+			j.poly.eval(wt[:w], 2*ax-float64(w)+1)
+			j.poly.eval(wt[w:], 2*ay-float64(w)+1)
+		} else {
+			for d := range w {
+				wt[d] = p.kern.eval(ax - float64(d))
+				wt[w+d] = p.kern.eval(ay - float64(d))
+			}
+		}
+		if p.wts32 != nil {
+			out := p.wts32[2*w*i : 2*w*i+2*w]
+			for d, x := range wt {
+				out[d] = float32(x)
+			}
+		}
+	}
 }
