@@ -552,7 +552,13 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 // dst in a separate tight loop: the scattered stores are independent and
 // overlap their cache misses, which matters once dst outgrows the cache.
 func (p *plan) interp(lo, hi int) {
-	if !p.interpUnrolled(lo, hi) {
+	if p.interpAsm(lo, hi) {
+		for i := lo; i < hi; i++ {
+			if int(p.x0[i])+p.w > p.fx {
+				p.interpWrap(i)
+			}
+		}
+	} else if !p.interpUnrolled(lo, hi) {
 		for i := lo; i < hi; i++ {
 			p.interpWrap(i)
 		}
@@ -603,6 +609,15 @@ func (p *plan) spread(i int) {
 	src, perm := p.srcC, p.perm[lo:hi]
 	for j := range perm {
 		p.sorted[lo+j] = src[perm[j]]
+	}
+	if p.spreadAsm(band, ylo, lo, hi) {
+		// The points at the grid edge, after the others.
+		for k := lo; k < hi; k++ {
+			if int(p.x0[k])+p.w > p.fx {
+				p.spreadWrap(band, ylo, k)
+			}
+		}
+		return
 	}
 	if p.spreadUnrolled(band, ylo, lo, hi) {
 		return

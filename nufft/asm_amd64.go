@@ -1,0 +1,40 @@
+//go:build !purego
+
+package nufft
+
+// hasAsm reports whether the gridding loops have an assembly form on
+// this build: amd64 without the purego tag. Build with -tags purego to
+// run the portable Go loops instead (the tests run both).
+const hasAsm = true
+
+// interpAsm interpolates the sorted points [lo, hi) that do not wrap in
+// x with the SSE2 loops and reports whether it did; the caller then
+// handles the points at the grid edge.
+func (p *plan) interpAsm(lo, hi int) bool {
+	w := p.w
+	if w < minAsm || w > maxAsm || lo >= hi {
+		return false
+	}
+	if p.wts32 != nil {
+		interpAsmf32[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+	} else {
+		interpAsmf64[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+	}
+	return true
+}
+
+// spreadAsm spreads the sorted points [lo, hi) that do not wrap in x
+// into band (first row ylo) with the SSE2 loops and reports whether it
+// did; the caller then spreads the points at the grid edge.
+func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool {
+	w := p.w
+	if w < minAsm || w > maxAsm || lo >= hi {
+		return false
+	}
+	if p.wts32 != nil {
+		spreadAsmf32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+	} else {
+		spreadAsmf64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+	}
+	return true
+}
