@@ -9,3 +9,5 @@ const hasAsm = false
 func (p *plan) interpAsm(lo, hi int) bool { return false }
 
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool { return false }
+
+func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool { return false }

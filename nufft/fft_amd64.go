@@ -1,0 +1,28 @@
+//go:build !purego
+
+package nufft
+
+// radix4SSE2 is the assembly form of radix4 (fft_amd64.s): one stage of
+// sub-length 4m and stride s, twiddles from expandTwiddles, mask from
+// jMask.
+//
+//go:noescape
+func radix4SSE2(dst, src *complex128, tw *float64, mask *[2]uint64, m, s int)
+
+// jMask flips the sign of the low (forward) or high (inverse) half of
+// a swapped complex, turning swap(x) into i·x or −i·x.
+var jMask = [2][2]uint64{{1 << 63, 0}, {0, 1 << 63}}
+
+// radix4Fast runs the stage in assembly and reports that it did.
+func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool {
+	m := st.l / 4
+	if len(src) < 4*m*s || len(dst) < 4*m*s {
+		panic("nufft: FFT buffer length mismatch")
+	}
+	tw, mask := st.fwx, &jMask[0]
+	if inverse {
+		tw, mask = st.iwx, &jMask[1]
+	}
+	radix4SSE2(&dst[0], &src[0], &tw[0], mask, m, s)
+	return true
+}

@@ -1,0 +1,102 @@
+//go:build !purego
+
+#include "textflag.h"
+
+// func radix4SSE2(dst, src *complex128, tw *float64, mask *[2]uint64, m, s int)
+//
+// One Stockham radix-4 stage (see radix4 in fft.go) with one complex128
+// per SSE2 register. tw holds for each p < m the twiddles w1, w2, w3 as
+// (re, re, −im, im), so that x·w = x·(re, re) + swap(x)·(−im, im); mask
+// flips the sign of one half of swap(b − d) to give ±i(b − d). The
+// operations and their order are those of the Go loop, so the results
+// are the same to the bit.
+//
+// Registers: SI src row p, DI dst row 4p, R8 src quarter (s·m·16 bytes),
+// R9 dst stride (s·16 bytes), R10 twiddles, R11 p counter, CX q counter,
+// AX q offset; X0…X5 twiddles, X6 mask, X7…X14 scratch.
+TEXT ·radix4SSE2(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ tw+16(FP), R10
+	MOVQ mask+24(FP), AX
+	MOVUPD (AX), X6
+	MOVQ m+32(FP), R11
+	MOVQ s+40(FP), R9
+	SHLQ $4, R9
+	MOVQ R9, R8
+	IMULQ R11, R8
+	TESTQ R11, R11
+	JLE done
+ploop:
+	MOVUPD 0(R10), X0
+	MOVUPD 16(R10), X1
+	MOVUPD 32(R10), X2
+	MOVUPD 48(R10), X3
+	MOVUPD 64(R10), X4
+	MOVUPD 80(R10), X5
+	XORQ AX, AX
+	MOVQ R9, CX
+qloop:
+	// a, b, c, d
+	LEAQ (SI)(AX*1), DX
+	MOVUPD (DX), X7
+	ADDQ R8, DX
+	MOVUPD (DX), X8
+	ADDQ R8, DX
+	MOVUPD (DX), X9
+	ADDQ R8, DX
+	MOVUPD (DX), X10
+	// apc = a+c (X11), amc = a−c (X7), bpd = b+d (X12), bmd = b−d (X8)
+	MOVAPD X7, X11
+	ADDPD X9, X11
+	SUBPD X9, X7
+	MOVAPD X8, X12
+	ADDPD X10, X12
+	SUBPD X10, X8
+	// jbmd = ±i·bmd
+	SHUFPD $1, X8, X8
+	XORPD X6, X8
+	LEAQ (DI)(AX*1), DX
+	// o0 = apc + bpd
+	MOVAPD X11, X9
+	ADDPD X12, X9
+	MOVUPD X9, (DX)
+	ADDQ R9, DX
+	// o1 = w1·(amc − jbmd)
+	MOVAPD X7, X10
+	SUBPD X8, X10
+	MOVAPD X10, X13
+	SHUFPD $1, X13, X13
+	MULPD X1, X13
+	MULPD X0, X10
+	ADDPD X13, X10
+	MOVUPD X10, (DX)
+	ADDQ R9, DX
+	// o2 = w2·(apc − bpd)
+	SUBPD X12, X11
+	MOVAPD X11, X13
+	SHUFPD $1, X13, X13
+	MULPD X3, X13
+	MULPD X2, X11
+	ADDPD X13, X11
+	MOVUPD X11, (DX)
+	ADDQ R9, DX
+	// o3 = w3·(amc + jbmd)
+	ADDPD X8, X7
+	MOVAPD X7, X13
+	SHUFPD $1, X13, X13
+	MULPD X5, X13
+	MULPD X4, X7
+	ADDPD X13, X7
+	MOVUPD X7, (DX)
+	ADDQ $16, AX
+	CMPQ AX, CX
+	JLT qloop
+	// next p: src row +s, dst rows +4s, twiddles +96 bytes
+	ADDQ R9, SI
+	LEAQ (DI)(R9*4), DI
+	ADDQ $96, R10
+	DECQ R11
+	JNZ ploop
+done:
+	RET
