@@ -125,6 +125,9 @@ func chebFit(deg int, f func(float64) float64) []float64 {
 func (p *kernelPoly) eval(dst []float64, s float64) {
 	w := p.w
 	dst = dst[:w]
+	if hornerUnrolled(dst, p.c, w, p.deg, s) {
+		return
+	}
 	copy(dst, p.c[p.deg*w:])
 	for j := p.deg - 1; j >= 0; j-- {
 		c := p.c[j*w : j*w+w]
