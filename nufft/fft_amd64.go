@@ -26,3 +26,30 @@ func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool {
 	radix4SSE2(&dst[0], &src[0], &tw[0], mask, m, s)
 	return true
 }
+
+//go:noescape
+func conjRevSSE2(dst, src *complex128, n int)
+
+//go:noescape
+func addConjRevSSE2(dst, src *complex128, n int)
+
+// conjRev sets dst[j] = conj(src[len(src)−1−j]); the lengths must match.
+func conjRev(dst, src []complex128) {
+	if len(dst) != len(src) {
+		panic("nufft: conjRev length mismatch")
+	}
+	if len(dst) > 0 {
+		conjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
+	}
+}
+
+// addConjRev adds conj(src[len(src)−1−j]) to dst[j]; the lengths must
+// match.
+func addConjRev(dst, src []complex128) {
+	if len(dst) != len(src) {
+		panic("nufft: addConjRev length mismatch")
+	}
+	if len(dst) > 0 {
+		addConjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
+	}
+}

@@ -100,3 +100,48 @@ qloop:
 	JNZ ploop
 done:
 	RET
+
+// func conjRevSSE2(dst, src *complex128, n int)
+//
+// dst[j] = conj(src[−j]) for j < n: src points at the last value of the
+// reversed run. The sign flip is the negation of Go's conj.
+TEXT ·conjRevSSE2(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ n+16(FP), CX
+	MOVUPD ·jMask+16(SB), X6
+	TESTQ CX, CX
+	JLE cdone
+cloop:
+	MOVUPD (SI), X0
+	XORPD X6, X0
+	MOVUPD X0, (DI)
+	ADDQ $16, DI
+	SUBQ $16, SI
+	DECQ CX
+	JNZ cloop
+cdone:
+	RET
+
+// func addConjRevSSE2(dst, src *complex128, n int)
+//
+// dst[j] += conj(src[−j]) for j < n, as conjRevSSE2.
+TEXT ·addConjRevSSE2(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ n+16(FP), CX
+	MOVUPD ·jMask+16(SB), X6
+	TESTQ CX, CX
+	JLE adone
+aloop:
+	MOVUPD (SI), X0
+	XORPD X6, X0
+	MOVUPD (DI), X1
+	ADDPD X0, X1
+	MOVUPD X1, (DI)
+	ADDQ $16, DI
+	SUBQ $16, SI
+	DECQ CX
+	JNZ aloop
+adone:
+	RET

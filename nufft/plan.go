@@ -446,9 +446,13 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 				srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
 				for _, o := range srcs {
 					row := p.band[int(o) : int(o)+fx]
-					for j := range d {
-						v := row[(fx-c-j)&(fx-1)]
-						d[j] += complex(real(v), -imag(v))
+					// Column fx − c − j, which is 0 for c = j = 0.
+					if c == 0 {
+						v := row[0]
+						d[0] += complex(real(v), -imag(v))
+						addConjRev(d[1:], row[fx-b+1:])
+					} else {
+						addConjRev(d, row[fx-c-b+1:fx-c+1])
 					}
 				}
 			}
@@ -491,10 +495,7 @@ func (p *plan) fwdFill(lo, hi int) {
 	for r := lo; r < hi; r++ {
 		dst := p.grid[r*fx : r*fx+fx]
 		src := p.grid[((fy-r)&(fy-1))*fx:][:fx]
-		for jx := hc; jx < fx; jx++ {
-			v := src[fx-jx]
-			dst[jx] = complex(real(v), -imag(v))
-		}
+		conjRev(dst[hc:], src[1:fx-hc+1]) // dst[jx] = conj src[fx−jx]
 	}
 }
 
