@@ -7,6 +7,15 @@ package nufft
 // run the portable Go loops instead (the tests run both).
 const hasAsm = true
 
+// cpuHasAVX reports whether the processor and the operating system
+// support AVX (fft_amd64.s).
+func cpuHasAVX() bool
+
+// useAVX selects the AVX form of the gridding loops, which gives the
+// same bits as the SSE2 form (TestGriddingAVX) in fewer instructions.
+// Tests switch it.
+var useAVX = cpuHasAVX()
+
 // interpAsm interpolates the sorted points [lo, hi) that do not wrap in
 // x with the SSE2 loops and reports whether it did; the caller then
 // handles the points at the grid edge.
@@ -15,10 +24,14 @@ func (p *plan) interpAsm(lo, hi int) bool {
 	if w < minAsm || w > maxAsm || lo >= hi {
 		return false
 	}
+	f32, f64 := &interpSSE2f32, &interpSSE2f64
+	if useAVX {
+		f32, f64 = &interpAVXf32, &interpAVXf64
+	}
 	if p.wts32 != nil {
-		interpAsmf32[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+		f32[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
 	} else {
-		interpAsmf64[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+		f64[w](&p.grid[0], p.fx, p.fy, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
 	}
 	return true
 }
@@ -31,10 +44,14 @@ func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool {
 	if w < minAsm || w > maxAsm || lo >= hi {
 		return false
 	}
+	f32, f64 := &spreadSSE2f32, &spreadSSE2f64
+	if useAVX {
+		f32, f64 = &spreadAVXf32, &spreadAVXf64
+	}
 	if p.wts32 != nil {
-		spreadAsmf32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+		f32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
 	} else {
-		spreadAsmf64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+		f64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
 	}
 	return true
 }

@@ -6,6 +6,12 @@ package nufft
 // this build; see asm_amd64.go.
 const hasAsm = false
 
+// useAVX is never set without assembly.
+var useAVX = false
+
+// No width has an assembly form.
+const minAsm, maxAsm = 1, 0
+
 func (p *plan) interpAsm(lo, hi int) bool { return false }
 
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool { return false }

@@ -145,3 +145,26 @@ aloop:
 	JNZ aloop
 adone:
 	RET
+
+// func cpuHasAVX() bool
+//
+// Reports whether the processor has AVX (CPUID.1:ECX bit 28) and the
+// operating system saves the YMM registers (OSXSAVE, bit 27, and XCR0
+// bits 1 and 2; Intel SDM vol. 1, sect. 14.3).
+TEXT ·cpuHasAVX(SB), NOSPLIT, $0-1
+	MOVL $1, AX
+	XORL CX, CX
+	CPUID
+	ANDL $0x18000000, CX
+	CMPL CX, $0x18000000
+	JNE no
+	XORL CX, CX
+	XGETBV
+	ANDL $6, AX
+	CMPL AX, $6
+	JNE no
+	MOVB $1, ret+0(FP)
+	RET
+no:
+	MOVB $0, ret+0(FP)
+	RET

@@ -28,6 +28,8 @@ func main() {
 		for w := minW; w <= maxW; w++ {
 			genInterp(&s, &g, w, f32)
 			genSpread(&s, &g, w, f32)
+			genInterpAVX(&s, &g, w, f32)
+			genSpreadAVX(&s, &g, w, f32)
 		}
 	}
 	// Dispatch tables.
@@ -36,13 +38,15 @@ func main() {
 		if kind == "spread" {
 			sig = "func(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)"
 		}
-		for _, sfx := range []string{"f32", "f64"} {
-			ft := map[string]string{"f32": "float32", "f64": "float64"}[sfx]
-			fmt.Fprintf(&g, "var %sAsm%s = [...]"+sig+"{\n", kind, sfx, ft)
-			for w := minW; w <= maxW; w++ {
-				fmt.Fprintf(&g, "\t%d: %s%d%sSSE2,\n", w, kind, w, sfx)
+		for _, isa := range []string{"SSE2", "AVX"} {
+			for _, sfx := range []string{"f32", "f64"} {
+				ft := map[string]string{"f32": "float32", "f64": "float64"}[sfx]
+				fmt.Fprintf(&g, "var %s%s%s = [...]"+sig+"{\n", kind, isa, sfx, ft)
+				for w := minW; w <= maxW; w++ {
+					fmt.Fprintf(&g, "\t%d: %s%d%s%s,\n", w, kind, w, sfx, isa)
+				}
+				g.WriteString("}\n\n")
 			}
-			g.WriteString("}\n\n")
 		}
 	}
 	src, err := format.Source(g.Bytes())
@@ -69,12 +73,16 @@ func loadWeight(s *bytes.Buffer, x string, idx int, f32 bool) {
 }
 
 func names(w int, f32 bool, kind string) (name, ft string, wsize int) {
+	return namesISA(w, f32, kind, "SSE2")
+}
+
+func namesISA(w int, f32 bool, kind, isa string) (name, ft string, wsize int) {
 	ft, wsize = "float64", 8
 	sfx := "f64"
 	if f32 {
 		ft, wsize, sfx = "float32", 4, "f32"
 	}
-	return fmt.Sprintf("%s%d%sSSE2", kind, w, sfx), ft, wsize
+	return fmt.Sprintf("%s%d%s%s", kind, w, sfx, isa), ft, wsize
 }
 
 // genInterp: for each point i < n with x0[i]+w ≤ fx, out[i] = Σ_dy wy Σ_d wx g,
@@ -158,4 +166,115 @@ func genSpread(s, g *bytes.Buffer, w int, f32 bool) {
 	}
 	s.WriteString("next:\n\tADDQ $4, R10\n\tADDQ $4, R11\n")
 	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tRET\n", 2*w*wsize)
+}
+
+// loadPairAVX puts weights idx and idx+1 of the current point (base
+// R12) into register y as (k0, k0, k1, k1). The float32 → float64
+// conversion is exact, so the values are those of the SSE2 loops.
+func loadPairAVX(s *bytes.Buffer, y string, idx int, f32 bool) {
+	x := "X" + y[1:]
+	if f32 {
+		fmt.Fprintf(s, "\tVCVTPS2PD %d(R12), %s\n", 4*idx, x)
+	} else {
+		fmt.Fprintf(s, "\tVMOVUPD %d(R12), %s\n", 8*idx, x)
+	}
+	fmt.Fprintf(s, "\tVINSERTF128 $1, %s, %s, %s\n\tVPERMILPD $12, %s, %s\n", x, y, y, y, y)
+}
+
+// loadDupAVX puts weight idx into both halves of the xmm register x.
+func loadDupAVX(s *bytes.Buffer, x string, idx int, f32 bool) {
+	if f32 {
+		fmt.Fprintf(s, "\tVCVTSS2SD %d(R12), %s, %s\n\tVMOVDDUP %s, %s\n", 4*idx, x, x, x, x)
+	} else {
+		fmt.Fprintf(s, "\tVMOVDDUP %d(R12), %s\n", 8*idx, x)
+	}
+}
+
+// genInterpAVX is genInterp with two taps per 256-bit register: the low
+// half sums the even taps and the high half the odd ones, in the order
+// of the SSE2 loop's two row sums, so the results are the same to the
+// bit (TestGriddingAVX). Registers as genInterp, with Y0…Y(w/2−1) the
+// tap pairs, X(w/2) the last tap of an odd width, Y8 Y9 X10 X11 row
+// sums, X12 the sum, X13 scratch.
+func genInterpAVX(s, g *bytes.Buffer, w int, f32 bool) {
+	name, ft, wsize := namesISA(w, f32, "interp", "AVX")
+	np, odd := w/2, w%2 == 1
+	fmt.Fprintf(g, "//go:noescape\nfunc %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n\n", name, ft)
+	fmt.Fprintf(s, "\n// func %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n", name, ft)
+	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-64\n", name)
+	s.WriteString("\tMOVQ grid+0(FP), SI\n\tMOVQ fx+8(FP), R8\n\tMOVQ fy+16(FP), R9\n\tMOVQ x0+24(FP), R10\n\tMOVQ y0+32(FP), R11\n\tMOVQ wts+40(FP), R12\n\tMOVQ out+48(FP), DI\n\tMOVQ n+56(FP), CX\n")
+	s.WriteString("\tMOVQ R8, R13\n\tSHLQ $4, R13\n\tTESTQ CX, CX\n\tJLE done\n")
+	s.WriteString("loop:\n\tMOVLQSX (R10), DX\n")
+	fmt.Fprintf(s, "\tLEAQ %d(DX), AX\n\tCMPQ AX, R8\n\tJGT next\n", w)
+	for k := range np {
+		loadPairAVX(s, fmt.Sprintf("Y%d", k), 2*k, f32)
+	}
+	if odd {
+		loadDupAVX(s, fmt.Sprintf("X%d", np), w-1, f32)
+	}
+	s.WriteString("\tMOVLQSX (R11), BX\n")
+	s.WriteString("\tMOVQ BX, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
+	s.WriteString("\tVXORPD X12, X12, X12\n")
+	for dy := range w {
+		s.WriteString("\tVMULPD (AX), Y0, Y8\n")
+		for k := 1; k < np; k++ {
+			fmt.Fprintf(s, "\tVMULPD %d(AX), Y%d, Y9\n\tVADDPD Y9, Y8, Y8\n", 32*k, k)
+		}
+		s.WriteString("\tVEXTRACTF128 $1, Y8, X10\n")
+		if odd {
+			fmt.Fprintf(s, "\tVMULPD %d(AX), X%d, X9\n\tVADDPD X9, X8, X11\n", 16*(w-1), np)
+		} else {
+			s.WriteString("\tVMOVAPD X8, X11\n")
+		}
+		s.WriteString("\tVADDPD X10, X11, X11\n")
+		loadDupAVX(s, "X13", w+dy, f32)
+		s.WriteString("\tVMULPD X13, X11, X11\n\tVADDPD X11, X12, X12\n")
+		if dy < w-1 {
+			fmt.Fprintf(s, "\tADDQ R13, AX\n\tINCQ BX\n\tCMPQ BX, R9\n\tJLT row%d\n", dy)
+			s.WriteString("\tXORQ BX, BX\n\tMOVQ R9, DX\n\tIMULQ R13, DX\n\tSUBQ DX, AX\n")
+			fmt.Fprintf(s, "row%d:\n", dy)
+		}
+	}
+	s.WriteString("\tVMOVUPD X12, (DI)\n")
+	s.WriteString("next:\n\tADDQ $4, R10\n\tADDQ $4, R11\n")
+	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tVZEROUPPER\n\tRET\n", 2*w*wsize)
+}
+
+// genSpreadAVX is genSpread with two taps per 256-bit register; every
+// cell gets the same single multiply and add as in the SSE2 loop.
+// Registers: Y0…Y(w/2−1) tap pairs, X(w/2) the last tap of an odd
+// width, Y11 the value twice, Y12 the row value twice, Y13 scratch.
+func genSpreadAVX(s, g *bytes.Buffer, w int, f32 bool) {
+	name, ft, wsize := namesISA(w, f32, "spread", "AVX")
+	np, odd := w/2, w%2 == 1
+	fmt.Fprintf(g, "//go:noescape\nfunc %s(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)\n\n", name, ft)
+	fmt.Fprintf(s, "\n// func %s(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)\n", name, ft)
+	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-64\n", name)
+	s.WriteString("\tMOVQ band+0(FP), SI\n\tMOVQ fx+8(FP), R8\n\tMOVQ ylo+16(FP), R9\n\tMOVQ x0+24(FP), R10\n\tMOVQ y0+32(FP), R11\n\tMOVQ wts+40(FP), R12\n\tMOVQ vis+48(FP), DI\n\tMOVQ n+56(FP), CX\n")
+	s.WriteString("\tMOVQ R8, R13\n\tSHLQ $4, R13\n\tTESTQ CX, CX\n\tJLE done\n")
+	s.WriteString("loop:\n\tMOVLQSX (R10), DX\n")
+	fmt.Fprintf(s, "\tLEAQ %d(DX), AX\n\tCMPQ AX, R8\n\tJGT next\n", w)
+	for k := range np {
+		loadPairAVX(s, fmt.Sprintf("Y%d", k), 2*k, f32)
+	}
+	if odd {
+		loadDupAVX(s, fmt.Sprintf("X%d", np), w-1, f32)
+	}
+	s.WriteString("\tMOVLQSX (R11), AX\n\tSUBQ R9, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
+	s.WriteString("\tVBROADCASTF128 (DI), Y11\n")
+	for dy := range w {
+		loadDupAVX(s, "X12", w+dy, f32)
+		s.WriteString("\tVINSERTF128 $1, X12, Y12, Y12\n\tVMULPD Y11, Y12, Y12\n")
+		for k := range np {
+			fmt.Fprintf(s, "\tVMULPD Y12, Y%d, Y13\n\tVADDPD %d(AX), Y13, Y13\n\tVMOVUPD Y13, %d(AX)\n", k, 32*k, 32*k)
+		}
+		if odd {
+			fmt.Fprintf(s, "\tVMULPD X12, X%d, X13\n\tVADDPD %d(AX), X13, X13\n\tVMOVUPD X13, %d(AX)\n", np, 16*(w-1), 16*(w-1))
+		}
+		if dy < w-1 {
+			s.WriteString("\tADDQ R13, AX\n")
+		}
+	}
+	s.WriteString("next:\n\tADDQ $4, R10\n\tADDQ $4, R11\n")
+	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tVZEROUPPER\n\tRET\n", 2*w*wsize)
 }

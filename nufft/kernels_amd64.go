@@ -13,10 +13,22 @@ func interp2f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 func spread2f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func interp2f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread2f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
 func interp3f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
 func spread3f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func interp3f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread3f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
 func interp4f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -25,10 +37,22 @@ func interp4f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 func spread4f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func interp4f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread4f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
 func interp5f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
 func spread5f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func interp5f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread5f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
 func interp6f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -37,10 +61,22 @@ func interp6f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 func spread6f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func interp6f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread6f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
 func interp7f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
 func spread7f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func interp7f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread7f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
 func interp8f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -49,10 +85,22 @@ func interp8f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 func spread8f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func interp8f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread8f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
 func interp9f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
 func spread9f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func interp9f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread9f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
 func interp10f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -61,10 +109,22 @@ func interp10f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, 
 func spread10f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func interp10f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread10f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
 func interp11f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
 func spread11f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func interp11f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
+
+//go:noescape
+func spread11f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
 func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -73,10 +133,22 @@ func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 func spread2f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func interp2f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread2f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
 func interp3f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
 func spread3f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func interp3f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread3f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
 func interp4f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -85,10 +157,22 @@ func interp4f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 func spread4f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func interp4f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread4f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
 func interp5f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
 func spread5f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func interp5f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread5f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
 func interp6f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -97,10 +181,22 @@ func interp6f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 func spread6f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func interp6f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread6f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
 func interp7f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
 func spread7f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func interp7f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread7f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
 func interp8f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -109,10 +205,22 @@ func interp8f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 func spread8f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func interp8f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread8f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
 func interp9f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
 func spread9f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func interp9f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread9f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
 func interp10f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -121,12 +229,24 @@ func interp10f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, 
 func spread10f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func interp10f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread10f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
 func interp11f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
 func spread11f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
-var interpAsmf32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
+//go:noescape
+func interp11f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
+
+//go:noescape
+func spread11f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
 	2:  interp2f32SSE2,
 	3:  interp3f32SSE2,
 	4:  interp4f32SSE2,
@@ -139,7 +259,7 @@ var interpAsmf32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *f
 	11: interp11f32SSE2,
 }
 
-var interpAsmf64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int){
+var interpSSE2f64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int){
 	2:  interp2f64SSE2,
 	3:  interp3f64SSE2,
 	4:  interp4f64SSE2,
@@ -152,7 +272,33 @@ var interpAsmf64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *f
 	11: interp11f64SSE2,
 }
 
-var spreadAsmf32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
+var interpAVXf32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
+	2:  interp2f32AVX,
+	3:  interp3f32AVX,
+	4:  interp4f32AVX,
+	5:  interp5f32AVX,
+	6:  interp6f32AVX,
+	7:  interp7f32AVX,
+	8:  interp8f32AVX,
+	9:  interp9f32AVX,
+	10: interp10f32AVX,
+	11: interp11f32AVX,
+}
+
+var interpAVXf64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int){
+	2:  interp2f64AVX,
+	3:  interp3f64AVX,
+	4:  interp4f64AVX,
+	5:  interp5f64AVX,
+	6:  interp6f64AVX,
+	7:  interp7f64AVX,
+	8:  interp8f64AVX,
+	9:  interp9f64AVX,
+	10: interp10f64AVX,
+	11: interp11f64AVX,
+}
+
+var spreadSSE2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
 	2:  spread2f32SSE2,
 	3:  spread3f32SSE2,
 	4:  spread4f32SSE2,
@@ -165,7 +311,7 @@ var spreadAsmf32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *
 	11: spread11f32SSE2,
 }
 
-var spreadAsmf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
+var spreadSSE2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
 	2:  spread2f64SSE2,
 	3:  spread3f64SSE2,
 	4:  spread4f64SSE2,
@@ -176,4 +322,30 @@ var spreadAsmf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *
 	9:  spread9f64SSE2,
 	10: spread10f64SSE2,
 	11: spread11f64SSE2,
+}
+
+var spreadAVXf32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
+	2:  spread2f32AVX,
+	3:  spread3f32AVX,
+	4:  spread4f32AVX,
+	5:  spread5f32AVX,
+	6:  spread6f32AVX,
+	7:  spread7f32AVX,
+	8:  spread8f32AVX,
+	9:  spread9f32AVX,
+	10: spread10f32AVX,
+	11: spread11f32AVX,
+}
+
+var spreadAVXf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
+	2:  spread2f64AVX,
+	3:  spread3f64AVX,
+	4:  spread4f64AVX,
+	5:  spread5f64AVX,
+	6:  spread6f64AVX,
+	7:  spread7f64AVX,
+	8:  spread8f64AVX,
+	9:  spread9f64AVX,
+	10: spread10f64AVX,
+	11: spread11f64AVX,
 }
