@@ -5,14 +5,23 @@ import (
 	"testing"
 )
 
-// TestRadix4Asm checks that the assembly FFT stage gives the bits of the
-// Go stage it replaces (same operations in the same order), for every
-// stage of two lengths, strides 1 and 16, both directions. TestFFT checks
-// the whole transform against the defining sum of the DFT.
+// TestRadix4Asm checks that the assembly FFT stages (SSE2, and AVX where
+// the processor has it) give the bits of the Go stage they replace (same
+// operations in the same order), for every stage of two lengths, strides
+// 1 and 16, both directions. TestFFT checks the whole transform against
+// the defining sum of the DFT.
 func TestRadix4Asm(t *testing.T) {
 	if !hasAsm {
 		t.Skip("no assembly in this build (purego or not amd64)")
 	}
+	avx := useAVX
+	defer func() { useAVX = avx }()
+	for _, useAVX = range []bool{false, avx} {
+		testRadix4Asm(t)
+	}
+}
+
+func testRadix4Asm(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, n := range []int{64, 512} {
 		f := newFFTPlan(n)
@@ -40,7 +49,7 @@ func TestRadix4Asm(t *testing.T) {
 					radix4Fast(got, src, st, ss, inv)
 					for k := range want {
 						if got[k] != want[k] {
-							t.Fatalf("n=%d l=%d s=%d inverse=%v: value %d is %v, Go stage %v", n, st.l, ss, inv, k, got[k], want[k])
+							t.Fatalf("n=%d l=%d s=%d inverse=%v AVX=%v: value %d is %v, Go stage %v", n, st.l, ss, inv, useAVX, k, got[k], want[k])
 						}
 					}
 				}
@@ -59,6 +68,8 @@ func TestGriddingAVX(t *testing.T) {
 	}
 	defer func() { useAVX = true }()
 	rng := rand.New(rand.NewPCG(5, 6))
+	// The FFT stages switch with useAVX too; TestRadix4Asm shows they
+	// give the same bits.
 	nx, ny, m := 40, 36, 3000
 	u, v := bandPoints(rng, m, mas)
 	img := randImage(rng, nx*ny)

@@ -9,6 +9,11 @@ package nufft
 //go:noescape
 func radix4SSE2(dst, src *complex128, tw *float64, mask *[2]uint64, m, s int)
 
+// radix4AVX is radix4SSE2 on two columns at once, for even s.
+//
+//go:noescape
+func radix4AVX(dst, src *complex128, tw *float64, mask *[2]uint64, m, s int)
+
 // jMask flips the sign of the low (forward) or high (inverse) half of
 // a swapped complex, turning swap(x) into i·x or −i·x.
 var jMask = [2][2]uint64{{1 << 63, 0}, {0, 1 << 63}}
@@ -23,7 +28,11 @@ func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool {
 	if inverse {
 		tw, mask = st.iwx, &jMask[1]
 	}
-	radix4SSE2(&dst[0], &src[0], &tw[0], mask, m, s)
+	if useAVX && s%2 == 0 {
+		radix4AVX(&dst[0], &src[0], &tw[0], mask, m, s)
+	} else {
+		radix4SSE2(&dst[0], &src[0], &tw[0], mask, m, s)
+	}
 	return true
 }
 
