@@ -42,3 +42,5 @@ func addConjRev(dst, src []complex128) {
 		dst[j] += complex(real(v), -imag(v))
 	}
 }
+
+func radix2Fast(dst, src []complex128, s int) bool { return false }

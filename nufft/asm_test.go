@@ -23,12 +23,25 @@ func TestRadix4Asm(t *testing.T) {
 
 func testRadix4Asm(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
-	for _, n := range []int{64, 512} {
+	for _, n := range []int{64, 512, 128} { // 128 ends with a radix-2 stage
 		f := newFFTPlan(n)
 		for _, s := range []int{1, 16} {
 			for i := range f.stages {
 				st := &f.stages[i]
 				if st.l == 2 {
+					src := make([]complex128, 2*s)
+					for k := range src {
+						src[k] = complex(rng.NormFloat64(), rng.NormFloat64())
+					}
+					want := make([]complex128, 2*s)
+					got := make([]complex128, 2*s)
+					radix2(want, src, s)
+					radix2Fast(got, src, s)
+					for k := range want {
+						if got[k] != want[k] {
+							t.Fatalf("radix 2, s=%d: value %d is %v, Go stage %v", s, k, got[k], want[k])
+						}
+					}
 					continue
 				}
 				// A stage of sub-length l and stride s reads and writes

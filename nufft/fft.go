@@ -78,7 +78,9 @@ func (f *fftPlan) transform(x, y []complex128, b int, inverse bool) []complex128
 	for i := range f.stages {
 		st := &f.stages[i]
 		if st.l == 2 {
-			radix2(dst, src, s)
+			if !radix2Fast(dst, src, s) {
+				radix2(dst, src, s)
+			}
 		} else {
 			if !radix4Fast(dst, src, st, s, inverse) {
 				tw := st.fw

@@ -62,3 +62,16 @@ func addConjRev(dst, src []complex128) {
 		addConjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
 	}
 }
+
+//go:noescape
+func radix2SSE2(dst, src *complex128, s int)
+
+// radix2Fast runs the last radix-2 stage in assembly and reports that
+// it did.
+func radix2Fast(dst, src []complex128, s int) bool {
+	if len(src) < 2*s || len(dst) < 2*s {
+		panic("nufft: FFT buffer length mismatch")
+	}
+	radix2SSE2(&dst[0], &src[0], s)
+	return true
+}

@@ -244,3 +244,30 @@ vqloop:
 vdone:
 	VZEROUPPER
 	RET
+
+// func radix2SSE2(dst, src *complex128, s int)
+//
+// The last Stockham stage, sub-length 2: d0[q] = a0[q] + a1[q],
+// d1[q] = a0[q] − a1[q] for q < s, as radix2 in fft.go.
+TEXT ·radix2SSE2(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ s+16(FP), CX
+	MOVQ CX, R8
+	SHLQ $4, R8
+	TESTQ CX, CX
+	JLE r2done
+r2loop:
+	MOVUPD (SI), X0
+	MOVUPD (SI)(R8*1), X1
+	MOVAPD X0, X2
+	ADDPD X1, X0
+	SUBPD X1, X2
+	MOVUPD X0, (DI)
+	MOVUPD X2, (DI)(R8*1)
+	ADDQ $16, SI
+	ADDQ $16, DI
+	DECQ CX
+	JNZ r2loop
+r2done:
+	RET
