@@ -44,3 +44,7 @@ func addConjRev(dst, src []complex128) {
 }
 
 func radix2Fast(dst, src []complex128, s int) bool { return false }
+
+func (p *plan) interpEdge(scr []complex128, i int) { p.interpWrap(i) }
+
+func (p *plan) spreadEdge(scr, band []complex128, ylo, k int) { p.spreadWrap(band, ylo, k) }

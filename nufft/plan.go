@@ -356,9 +356,9 @@ func (p *plan) do(w, s int) {
 		p.fwdFill(lo, hi)
 	case phFwdInterp:
 		lo, hi := chunk(p.m, s, interpShard)
-		p.interp(lo, hi)
+		p.interp(p.scratch[w], lo, hi)
 	case phAdjSpread:
-		p.spread(s)
+		p.spread(p.scratch[w], s)
 	case phAdjCols:
 		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, true)
 	case phAdjRows:
@@ -552,11 +552,11 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 // The values go to p.sorted in sorted order and are then scattered to
 // dst in a separate tight loop: the scattered stores are independent and
 // overlap their cache misses, which matters once dst outgrows the cache.
-func (p *plan) interp(lo, hi int) {
+func (p *plan) interp(scr []complex128, lo, hi int) {
 	if p.interpAsm(lo, hi) {
 		for i := lo; i < hi; i++ {
 			if int(p.x0[i])+p.w > p.fx {
-				p.interpWrap(i)
+				p.interpEdge(scr, i)
 			}
 		}
 	} else if !p.interpUnrolled(lo, hi) {
@@ -602,7 +602,7 @@ func (p *plan) interpWrap(i int) {
 
 // spread adds the points of shard i, times their kernel weights, into
 // its band.
-func (p *plan) spread(i int) {
+func (p *plan) spread(scr []complex128, i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
 	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
@@ -615,7 +615,7 @@ func (p *plan) spread(i int) {
 		// The points at the grid edge, after the others.
 		for k := lo; k < hi; k++ {
 			if int(p.x0[k])+p.w > p.fx {
-				p.spreadWrap(band, ylo, k)
+				p.spreadEdge(scr, band, ylo, k)
 			}
 		}
 		return
