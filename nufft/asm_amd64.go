@@ -11,6 +11,10 @@ const hasAsm = true
 // support AVX (fft_amd64.s).
 func cpuHasAVX() bool
 
+// useAsm selects the assembly loops; tests clear it to run the portable
+// Go loops of the same build.
+var useAsm = true
+
 // useAVX selects the AVX form of the gridding loops, which gives the
 // same bits as the SSE2 form (TestGriddingAVX) in fewer instructions.
 // Tests switch it.
@@ -21,7 +25,7 @@ var useAVX = cpuHasAVX()
 // handles the points at the grid edge.
 func (p *plan) interpAsm(lo, hi int) bool {
 	w := p.w
-	if w < minAsm || w > maxAsm || lo >= hi {
+	if !useAsm || w < minAsm || w > maxAsm || lo >= hi {
 		return false
 	}
 	f32, f64 := &interpSSE2f32, &interpSSE2f64
@@ -41,7 +45,7 @@ func (p *plan) interpAsm(lo, hi int) bool {
 // did; the caller then spreads the points at the grid edge.
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool {
 	w := p.w
-	if w < minAsm || w > maxAsm || lo >= hi {
+	if !useAsm || w < minAsm || w > maxAsm || lo >= hi {
 		return false
 	}
 	f32, f64 := &spreadSSE2f32, &spreadSSE2f64

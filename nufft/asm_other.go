@@ -6,8 +6,8 @@ package nufft
 // this build; see asm_amd64.go.
 const hasAsm = false
 
-// useAVX is never set without assembly.
-var useAVX = false
+// useAsm and useAVX are never set without assembly.
+var useAsm, useAVX = false, false
 
 // No width has an assembly form.
 const minAsm, maxAsm = 1, 0
@@ -23,11 +23,7 @@ func conjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: conjRev length mismatch")
 	}
-	n := len(src) - 1
-	for j := range dst {
-		v := src[n-j]
-		dst[j] = complex(real(v), -imag(v))
-	}
+	conjRevGo(dst, src)
 }
 
 // addConjRev adds conj(src[len(src)−1−j]) to dst[j]; the lengths must
@@ -36,11 +32,7 @@ func addConjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: addConjRev length mismatch")
 	}
-	n := len(src) - 1
-	for j := range dst {
-		v := src[n-j]
-		dst[j] += complex(real(v), -imag(v))
-	}
+	addConjRevGo(dst, src)
 }
 
 func radix2Fast(dst, src []complex128, s int) bool { return false }

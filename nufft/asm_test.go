@@ -115,3 +115,50 @@ func TestGriddingAVX(t *testing.T) {
 		}
 	}
 }
+
+// TestPortableLoops runs the portable Go loops of this build (the only
+// ones with -tags purego or off amd64) against the exact sum at the
+// tolerances of TestAccuracy, and checks that they agree with the
+// assembly loops to rounding (the sums are taken in another order).
+func TestPortableLoops(t *testing.T) {
+	asm := useAsm
+	defer func() { useAsm = asm }()
+	rng := rand.New(rand.NewPCG(7, 8))
+	nx, ny, m := 48, 30, 2000
+	pix := 0.5 * mas
+	u, v := bandPoints(rng, m, pix)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	e, err := NewExact(nx, ny, pix, u, v, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantF := make([]complex128, m)
+	e.Forward(wantF, img)
+	wantA := make([]float64, nx*ny)
+	e.Adjoint(wantA, vis)
+	for _, tol := range []float64{1e-3, 1e-6, 1e-9, 1e-12} {
+		p, err := NewPlan(nx, ny, pix, u, v, Options{Tol: tol, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var f [2][]complex128
+		var a [2][]float64
+		for i, on := range []bool{false, asm} {
+			useAsm = on
+			f[i], a[i] = make([]complex128, m), make([]float64, nx*ny)
+			p.Forward(f[i], img)
+			p.Adjoint(a[i], vis)
+		}
+		ef, ea := relErrC(f[0], wantF), relErrR(a[0], wantA)
+		if ef > tol || ea > tol {
+			t.Errorf("tol=%g, portable loops: relative errors Forward %g, Adjoint %g exceed tol", tol, ef, ea)
+		}
+		if d := relErrC(f[0], f[1]); d > 1e-13 {
+			t.Errorf("tol=%g: Forward of portable and assembly loops differ by %g relative", tol, d)
+		}
+		if d := relErrR(a[0], a[1]); d > 1e-13 {
+			t.Errorf("tol=%g: Adjoint of portable and assembly loops differ by %g relative", tol, d)
+		}
+	}
+}

@@ -20,6 +20,9 @@ var jMask = [2][2]uint64{{1 << 63, 0}, {0, 1 << 63}}
 
 // radix4Fast runs the stage in assembly and reports that it did.
 func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool {
+	if !useAsm {
+		return false
+	}
 	m := st.l / 4
 	if len(src) < 4*m*s || len(dst) < 4*m*s {
 		panic("nufft: FFT buffer length mismatch")
@@ -47,7 +50,9 @@ func conjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: conjRev length mismatch")
 	}
-	if len(dst) > 0 {
+	if !useAsm {
+		conjRevGo(dst, src)
+	} else if len(dst) > 0 {
 		conjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
 	}
 }
@@ -58,7 +63,9 @@ func addConjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: addConjRev length mismatch")
 	}
-	if len(dst) > 0 {
+	if !useAsm {
+		addConjRevGo(dst, src)
+	} else if len(dst) > 0 {
 		addConjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
 	}
 }
@@ -69,6 +76,9 @@ func radix2SSE2(dst, src *complex128, s int)
 // radix2Fast runs the last radix-2 stage in assembly and reports that
 // it did.
 func radix2Fast(dst, src []complex128, s int) bool {
+	if !useAsm {
+		return false
+	}
 	if len(src) < 2*s || len(dst) < 2*s {
 		panic("nufft: FFT buffer length mismatch")
 	}
