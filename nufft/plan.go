@@ -44,6 +44,8 @@ const (
 )
 
 //go:generate go run gen_kernels.go
+//go:generate go run gen_horner.go
+//go:generate go run gen_asm.go
 
 type plan struct {
 	nx, ny int // image size
