@@ -385,7 +385,7 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 	h := nx / 2
 	for pr := lo; pr < hi; pr++ {
 		i1, i2 := 2*pr, 2*pr+1
-		clear(z)
+		clear(z[nx-h : fx-h]) // the rest is written below
 		c1 := p.corrY[i1]
 		s1 := p.srcR[i1*nx : i1*nx+nx]
 		var c2 float64
@@ -396,13 +396,15 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 		}
 		// Columns ix ≥ nx/2 go to 0, 1, ...; columns ix < nx/2 wrap to
 		// the top of the row.
-		for ix := range nx {
-			j := ix - h
-			if j < 0 {
-				j += fx
-			}
-			cx := p.corrX[ix]
-			z[j] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
+		corr, s1, s2 := p.corrX[:nx], s1[:nx], s2[:nx]
+		for j, zr := 0, z[:nx-h]; j < len(zr); j++ {
+			ix := j + h
+			cx := corr[ix]
+			zr[j] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
+		}
+		for ix, zr := 0, z[fx-h:]; ix < len(zr); ix++ {
+			cx := corr[ix]
+			zr[ix] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
 		}
 		out := p.fftX.transform(z, buf, 1, false)
 		// Split Z = F(r1) + i F(r2): F(r1)[k] = (Z[k] + conj Z[−k])/2,
@@ -527,24 +529,26 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 		}
 		out := p.fftX.transform(z, buf, 1, true)
 		// The factor 1/2 undoes the doubling in Hs = H + conj H(−·).
+		// Image columns ix ≥ nx/2 come from 0, 1, ...; columns ix < nx/2
+		// from the top of the row.
+		corr := p.corrX[:nx]
+		lo, hi := out[fx-h:fx], out[:nx-h]
 		c1 := 0.5 * p.corrY[i1]
 		d1 := p.dstR[i1*nx : i1*nx+nx]
-		for ix := range nx {
-			j := ix - h
-			if j < 0 {
-				j += fx
-			}
-			d1[ix] = real(out[j]) * p.corrX[ix] * c1
+		for ix, v := range lo {
+			d1[ix] = real(v) * corr[ix] * c1
+		}
+		for j, v := range hi {
+			d1[h+j] = real(v) * corr[h+j] * c1
 		}
 		if i2 < p.ny {
 			c2 := 0.5 * p.corrY[i2]
 			d2 := p.dstR[i2*nx : i2*nx+nx]
-			for ix := range nx {
-				j := ix - h
-				if j < 0 {
-					j += fx
-				}
-				d2[ix] = imag(out[j]) * p.corrX[ix] * c2
+			for ix, v := range lo {
+				d2[ix] = imag(v) * corr[ix] * c2
+			}
+			for j, v := range hi {
+				d2[h+j] = imag(v) * corr[h+j] * c2
 			}
 		}
 	}
