@@ -162,3 +162,52 @@ func TestPortableLoops(t *testing.T) {
 		}
 	}
 }
+
+// TestSortedOrder checks that ForwardSorted and AdjointSorted give the
+// bits of Forward and Adjoint with the points in the order of Order, in
+// both the assembly and the portable loops, serially and with two
+// workers.
+func TestSortedOrder(t *testing.T) {
+	asm := useAsm
+	defer func() { useAsm = asm }()
+	rng := rand.New(rand.NewPCG(9, 10))
+	nx, ny, m := 64, 50, 30000
+	u, v := bandPoints(rng, m, mas)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	for _, useAsm = range []bool{false, asm} {
+		for _, w := range []int{1, 2} {
+			p, err := NewPlan(nx, ny, mas, u, v, Options{Workers: w})
+			if err != nil {
+				t.Fatal(err)
+			}
+			order := make([]int, m)
+			p.Order(order)
+			f, fs := make([]complex128, m), make([]complex128, m)
+			p.Forward(f, img)
+			p.ForwardSorted(fs, img)
+			visS := make([]complex128, m)
+			for i, k := range order {
+				visS[i] = vis[k]
+				if fs[i] != f[k] {
+					t.Fatalf("asm=%v workers=%d: ForwardSorted[%d] = %v, Forward[%d] = %v", useAsm, w, i, fs[i], k, f[k])
+				}
+			}
+			a, as := make([]float64, nx*ny), make([]float64, nx*ny)
+			p.Adjoint(a, vis)
+			p.AdjointSorted(as, visS)
+			for k := range a {
+				if a[k] != as[k] {
+					t.Fatalf("asm=%v workers=%d: AdjointSorted pixel %d = %v, Adjoint %v", useAsm, w, k, as[k], a[k])
+				}
+			}
+			// The plan's own buffer is back in place.
+			p.Forward(f, img)
+			for i, k := range order {
+				if fs[i] != f[k] {
+					t.Fatalf("asm=%v workers=%d: Forward after the sorted calls differs at point %d", useAsm, w, k)
+				}
+			}
+		}
+	}
+}

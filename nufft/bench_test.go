@@ -180,3 +180,35 @@ func BenchmarkNewPlan(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSorted runs ForwardSorted and AdjointSorted, the calls in the
+// plan's order of the points, at the largest size, where the permutation
+// of Forward and Adjoint costs most.
+func BenchmarkSorted(b *testing.B) {
+	const n, m = 512, 1000000
+	pixel, u, v, img := benchProblem(n, m)
+	p, err := NewPlan(n, n, pixel, u, v, Options{Tol: 1e-6, Workers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	vis := make([]complex128, m)
+	out := make([]float64, n*n)
+	p.ForwardSorted(vis, img)
+	p.AdjointSorted(out, vis)
+	for _, adjoint := range []bool{false, true} {
+		name := "Forward"
+		if adjoint {
+			name = "Adjoint"
+		}
+		b.Run(fmt.Sprintf("%s/n=%d/m=%d", name, n, m), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if adjoint {
+					p.AdjointSorted(out, vis)
+				} else {
+					p.ForwardSorted(vis, img)
+				}
+			}
+		})
+	}
+}

@@ -91,6 +91,10 @@ type plan struct {
 	pool      *pool
 	imageRows []int32 // fine row of each image row iy
 
+	// inOrder is set during ForwardSorted and AdjointSorted, whose
+	// caller's slice takes the place of sorted.
+	inOrder bool
+
 	// Arguments of the running phase.
 	phase int
 	dstC  []complex128
@@ -341,6 +345,50 @@ func (p *Plan) Adjoint(dst []float64, vis []complex128) {
 	p.dstR, p.srcC = nil, nil
 }
 
+// Order sets dst[i] to the index, among the u and v given to NewPlan,
+// of the i-th point in the plan's order, the order of ForwardSorted and
+// AdjointSorted. dst must have length m.
+func (p *Plan) Order(dst []int) {
+	mustLen("Plan.Order", "dst", len(dst), p.m)
+	for i, k := range p.perm {
+		dst[i] = int(k)
+	}
+}
+
+// ForwardSorted is Forward with dst in the plan's order of the points
+// (Order): dst[i] is the value Forward gives at point Order()[i], to the
+// bit. It saves the scattered stores of Forward, which are about a fifth
+// of its time at 10⁶ points.
+func (p *Plan) ForwardSorted(dst []complex128, img []float64) {
+	mustLen("Plan.ForwardSorted", "dst", len(dst), p.m)
+	mustLen("Plan.ForwardSorted", "img", len(img), p.nx*p.ny)
+	own := p.sorted
+	p.sorted, p.inOrder = dst, true
+	p.dstC, p.srcR = dst, img
+	p.runPhase(phFwdRows)
+	p.runPhase(phFwdCols)
+	p.runPhase(phFwdFill)
+	p.runPhase(phFwdInterp)
+	p.dstC, p.srcR = nil, nil
+	p.sorted, p.inOrder = own, false
+}
+
+// AdjointSorted is Adjoint with vis in the plan's order of the points
+// (Order): it gives the bits of Adjoint of the visibilities vis[i] at
+// points Order()[i], without their gathered loads. vis is not modified.
+func (p *Plan) AdjointSorted(dst []float64, vis []complex128) {
+	mustLen("Plan.AdjointSorted", "dst", len(dst), p.nx*p.ny)
+	mustLen("Plan.AdjointSorted", "vis", len(vis), p.m)
+	own := p.sorted
+	p.sorted, p.inOrder = vis, true
+	p.dstR, p.srcC = dst, vis
+	p.runPhase(phAdjSpread)
+	p.runPhase(phAdjCols)
+	p.runPhase(phAdjRows)
+	p.dstR, p.srcC = nil, nil
+	p.sorted, p.inOrder = own, false
+}
+
 func (p *plan) runPhase(ph int) {
 	p.phase = ph
 	p.pool.run(p, p.shards[ph])
@@ -570,6 +618,9 @@ func (p *plan) interp(scr []complex128, lo, hi int) {
 			p.interpWrap(i)
 		}
 	}
+	if p.inOrder {
+		return
+	}
 	dst, perm := p.dstC, p.perm[lo:hi]
 	for i, v := range p.sorted[lo:hi] {
 		dst[perm[i]] = v
@@ -613,9 +664,11 @@ func (p *plan) spread(scr []complex128, i int) {
 	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
 	// Gather the visibilities into sorted order first (see interp).
-	src, perm := p.srcC, p.perm[lo:hi]
-	for j := range perm {
-		p.sorted[lo+j] = src[perm[j]]
+	if !p.inOrder {
+		src, perm := p.srcC, p.perm[lo:hi]
+		for j := range perm {
+			p.sorted[lo+j] = src[perm[j]]
+		}
 	}
 	if p.spreadAsm(band, ylo, lo, hi) {
 		// The points at the grid edge, after the others.
