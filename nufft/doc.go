@@ -100,6 +100,12 @@
 //
 // # Calls
 //
+// A Plan keeps its points sorted by grid position. ForwardSorted and
+// AdjointSorted take the visibilities in that order (Order gives it)
+// and skip the scattered stores and gathered loads of Forward and
+// Adjoint, with the same bits; a caller that keeps its data in the
+// plan's order pays the permutation once instead of at every call.
+//
 // Methods take the destination first, never allocate, and panic with a
 // message starting "nufft:" on wrong slice lengths. dst must not alias
 // the input. Constructors return errors for bad arguments. A Plan or an
