@@ -89,6 +89,7 @@ func BenchmarkForward(b *testing.B) {
 	for _, s := range benchSizes {
 		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, false) })
 	}
+	b.Run("n=256/m=100000/workers=2", func(b *testing.B) { benchPlan(b, 256, 100000, 2, false) })
 	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, false) })
 }
 
@@ -96,6 +97,7 @@ func BenchmarkAdjoint(b *testing.B) {
 	for _, s := range benchSizes {
 		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, true) })
 	}
+	b.Run("n=256/m=100000/workers=2", func(b *testing.B) { benchPlan(b, 256, 100000, 2, true) })
 	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, true) })
 }
 
