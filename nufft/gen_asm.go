@@ -240,13 +240,15 @@ func genInterpAVX(s, g *bytes.Buffer, w int, f32 bool) {
 	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tVZEROUPPER\n\tRET\n", 2*w*wsize)
 }
 
-// genSpreadAVX is genSpread with two taps per 256-bit register; every
-// cell gets the same single multiply and add as in the SSE2 loop.
-// Registers: Y0…Y(w/2−1) tap pairs, X(w/2) the last tap of an odd
-// width, Y11 the value twice, Y12 the row value twice, Y13 scratch.
+// genSpreadAVX is genSpread in three-operand VEX form, one complex per
+// 128-bit register as in the SSE2 loop: every cell gets the same single
+// multiply and add, so the same bits. Two taps per 256-bit register
+// took the same time (the loop is bound by its stores, one per cell,
+// and loads of two cells straddle the stores of the previous point,
+// whose taps overlap these), so the simpler form is kept.
+// Registers: X0…X(w−1) x weights, X11 value, X12 row value, X13 scratch.
 func genSpreadAVX(s, g *bytes.Buffer, w int, f32 bool) {
 	name, ft, wsize := namesISA(w, f32, "spread", "AVX")
-	np, odd := w/2, w%2 == 1
 	fmt.Fprintf(g, "//go:noescape\nfunc %s(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)\n\n", name, ft)
 	fmt.Fprintf(s, "\n// func %s(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)\n", name, ft)
 	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-64\n", name)
@@ -254,22 +256,16 @@ func genSpreadAVX(s, g *bytes.Buffer, w int, f32 bool) {
 	s.WriteString("\tMOVQ R8, R13\n\tSHLQ $4, R13\n\tTESTQ CX, CX\n\tJLE done\n")
 	s.WriteString("loop:\n\tMOVLQSX (R10), DX\n")
 	fmt.Fprintf(s, "\tLEAQ %d(DX), AX\n\tCMPQ AX, R8\n\tJGT next\n", w)
-	for k := range np {
-		loadPairAVX(s, fmt.Sprintf("Y%d", k), 2*k, f32)
-	}
-	if odd {
-		loadDupAVX(s, fmt.Sprintf("X%d", np), w-1, f32)
+	for d := range w {
+		loadDupAVX(s, fmt.Sprintf("X%d", d), d, f32)
 	}
 	s.WriteString("\tMOVLQSX (R11), AX\n\tSUBQ R9, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
-	s.WriteString("\tVBROADCASTF128 (DI), Y11\n")
+	s.WriteString("\tVMOVUPD (DI), X11\n")
 	for dy := range w {
 		loadDupAVX(s, "X12", w+dy, f32)
-		s.WriteString("\tVINSERTF128 $1, X12, Y12, Y12\n\tVMULPD Y11, Y12, Y12\n")
-		for k := range np {
-			fmt.Fprintf(s, "\tVMULPD Y12, Y%d, Y13\n\tVADDPD %d(AX), Y13, Y13\n\tVMOVUPD Y13, %d(AX)\n", k, 32*k, 32*k)
-		}
-		if odd {
-			fmt.Fprintf(s, "\tVMULPD X12, X%d, X13\n\tVADDPD %d(AX), X13, X13\n\tVMOVUPD X13, %d(AX)\n", np, 16*(w-1), 16*(w-1))
+		s.WriteString("\tVMULPD X11, X12, X12\n")
+		for d := range w {
+			fmt.Fprintf(s, "\tVMULPD X12, X%d, X13\n\tVADDPD %d(AX), X13, X13\n\tVMOVUPD X13, %d(AX)\n", d, 16*d, 16*d)
 		}
 		if dy < w-1 {
 			s.WriteString("\tADDQ R13, AX\n")
