@@ -14,7 +14,9 @@ const minAsm, maxAsm = 1, 0
 
 func (p *plan) interpAsm(lo, hi int) bool { return false }
 
-func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) bool { return false }
+func (p *plan) hasSpreadAsm() bool { return false }
+
+func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {}
 
 func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool { return false }
 
@@ -36,7 +38,3 @@ func addConjRev(dst, src []complex128) {
 }
 
 func radix2Fast(dst, src []complex128, s int) bool { return false }
-
-func (p *plan) interpEdge(scr []complex128, i int) { p.interpWrap(i) }
-
-func (p *plan) spreadEdge(scr, band []complex128, ylo, k int) { p.spreadWrap(band, ylo, k) }

@@ -16,7 +16,7 @@ import (
 	"os"
 )
 
-const minW, maxW = 2, 11
+const minW, maxW = 2, 10
 
 func main() {
 	var s bytes.Buffer
@@ -85,13 +85,47 @@ func namesISA(w int, f32 bool, kind, isa string) (name, ft string, wsize int) {
 	return fmt.Sprintf("%s%d%s%s", kind, w, sfx, isa), ft, wsize
 }
 
+// treeSum emits the sum of taps lo … hi−1 in the order of the Go loops'
+// pairwise sum (tree in gen_kernels.go: the first ⌈n/2⌉ taps, then the
+// rest, then their sum), with the free registers regs; tap(d, x) loads
+// the product of tap d into x, and add is the format of x += y with %[1]s
+// = x and %[2]s = y. It returns the register holding the sum.
+func treeSum(s *bytes.Buffer, lo, hi int, regs []string, tap func(d int, x string), add string) string {
+	if len(regs) == 0 {
+		log.Fatal("tree sum: out of registers")
+	}
+	if hi-lo == 1 {
+		tap(lo, regs[0])
+		return regs[0]
+	}
+	h := (hi - lo + 1) / 2
+	a := treeSum(s, lo, lo+h, regs, tap, add)
+	b := treeSum(s, lo+h, hi, regs[1:], tap, add)
+	fmt.Fprintf(s, "\t"+add, a, b)
+	return a
+}
+
 // genInterp: for each point i < n with x0[i]+w ≤ fx, out[i] = Σ_dy wy Σ_d wx g,
-// rows wrapping at fy; points at the x edge are left to the caller.
+// rows wrapping at fy; points at the x edge are left to the caller. The
+// taps of a row are summed in the order of the Go loop, so the results
+// are the same to the bit.
 // Registers: SI grid, R8 fx, R9 fy, R10 x0, R11 y0, R12 weights, DI out,
 // CX count, R13 row stride in bytes, AX row pointer, BX row index,
-// DX scratch; X0…X(w−1) x weights, X11 sum, X12 X13 row sums, X14 scratch.
+// DX scratch; X0…X(w−1) x weights, X10 sum, X11…X14 row sums.
 func genInterp(s, g *bytes.Buffer, w int, f32 bool) {
-	name, ft, wsize := names(w, f32, "interp")
+	genInterpISA(s, g, w, f32, "SSE2")
+}
+
+// genInterpAVX is genInterp in three-operand VEX form, which saves the
+// register copies and loads the grid as an operand of the multiply; the
+// operations are those of the SSE2 loop, so the same bits.
+func genInterpAVX(s, g *bytes.Buffer, w int, f32 bool) {
+	genInterpISA(s, g, w, f32, "AVX")
+}
+
+func genInterpISA(s, g *bytes.Buffer, w int, f32 bool, isa string) {
+	name, ft, wsize := namesISA(w, f32, "interp", isa)
+	avx := isa == "AVX"
 	fmt.Fprintf(g, "//go:noescape\nfunc %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n\n", name, ft)
 	fmt.Fprintf(s, "\n// func %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n", name, ft)
 	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-64\n", name)
@@ -99,30 +133,43 @@ func genInterp(s, g *bytes.Buffer, w int, f32 bool) {
 	s.WriteString("\tMOVQ R8, R13\n\tSHLQ $4, R13\n\tTESTQ CX, CX\n\tJLE done\n")
 	s.WriteString("loop:\n\tMOVLQSX (R10), DX\n")
 	fmt.Fprintf(s, "\tLEAQ %d(DX), AX\n\tCMPQ AX, R8\n\tJGT next\n", w)
+	load := func(x string, idx int) {
+		if avx {
+			loadDupAVX(s, x, idx, f32)
+		} else {
+			loadWeight(s, x, idx, f32)
+		}
+	}
 	for d := range w {
-		loadWeight(s, fmt.Sprintf("X%d", d), d, f32)
+		load(fmt.Sprintf("X%d", d), d)
 	}
 	s.WriteString("\tMOVLQSX (R11), BX\n")
 	// AX = grid + y0*stride + x0*16
 	s.WriteString("\tMOVQ BX, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
-	s.WriteString("\tXORPS X11, X11\n")
+	if avx {
+		s.WriteString("\tVXORPD X10, X10, X10\n")
+	} else {
+		s.WriteString("\tXORPS X10, X10\n")
+	}
+	tap := func(d int, x string) {
+		if avx {
+			fmt.Fprintf(s, "\tVMULPD %d(AX), X%d, %s\n", 16*d, d, x)
+		} else {
+			fmt.Fprintf(s, "\tMOVUPD %d(AX), %s\n\tMULPD X%d, %s\n", 16*d, x, d, x)
+		}
+	}
+	add := "ADDPD %[2]s, %[1]s\n"
+	if avx {
+		add = "VADDPD %[2]s, %[1]s, %[1]s\n"
+	}
 	for dy := range w {
-		for d := range w {
-			acc := "X12"
-			if d%2 == 1 {
-				acc = "X13"
-			}
-			if d < 2 {
-				fmt.Fprintf(s, "\tMOVUPD %d(AX), %s\n\tMULPD X%d, %s\n", 16*d, acc, d, acc)
-			} else {
-				fmt.Fprintf(s, "\tMOVUPD %d(AX), X14\n\tMULPD X%d, X14\n\tADDPD X14, %s\n", 16*d, d, acc)
-			}
+		r := treeSum(s, 0, w, []string{"X11", "X12", "X13", "X14"}, tap, add)
+		load("X12", w+dy)
+		if avx {
+			fmt.Fprintf(s, "\tVMULPD X12, %s, %s\n\tVADDPD %s, X10, X10\n", r, r, r)
+		} else {
+			fmt.Fprintf(s, "\tMULPD X12, %s\n\tADDPD %s, X10\n", r, r)
 		}
-		if w > 1 {
-			s.WriteString("\tADDPD X13, X12\n")
-		}
-		loadWeight(s, "X14", w+dy, f32)
-		s.WriteString("\tMULPD X14, X12\n\tADDPD X12, X11\n")
 		if dy < w-1 {
 			// Next row, wrapping at fy.
 			fmt.Fprintf(s, "\tADDQ R13, AX\n\tINCQ BX\n\tCMPQ BX, R9\n\tJLT row%d\n", dy)
@@ -130,9 +177,17 @@ func genInterp(s, g *bytes.Buffer, w int, f32 bool) {
 			fmt.Fprintf(s, "row%d:\n", dy)
 		}
 	}
-	s.WriteString("\tMOVUPD X11, (DI)\n")
+	if avx {
+		s.WriteString("\tVMOVUPD X10, (DI)\n")
+	} else {
+		s.WriteString("\tMOVUPD X10, (DI)\n")
+	}
 	s.WriteString("next:\n\tADDQ $4, R10\n\tADDQ $4, R11\n")
-	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tRET\n", 2*w*wsize)
+	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n", 2*w*wsize)
+	if avx {
+		s.WriteString("\tVZEROUPPER\n")
+	}
+	s.WriteString("\tRET\n")
 }
 
 // genSpread: for each point i < n with x0[i]+w ≤ fx, adds vis[i]·wx·wy
@@ -188,56 +243,6 @@ func loadDupAVX(s *bytes.Buffer, x string, idx int, f32 bool) {
 	} else {
 		fmt.Fprintf(s, "\tVMOVDDUP %d(R12), %s\n", 8*idx, x)
 	}
-}
-
-// genInterpAVX is genInterp with two taps per 256-bit register: the low
-// half sums the even taps and the high half the odd ones, in the order
-// of the SSE2 loop's two row sums, so the results are the same to the
-// bit (TestGriddingAVX). Registers as genInterp, with Y0…Y(w/2−1) the
-// tap pairs, X(w/2) the last tap of an odd width, Y8 Y9 X10 X11 row
-// sums, X12 the sum, X13 scratch.
-func genInterpAVX(s, g *bytes.Buffer, w int, f32 bool) {
-	name, ft, wsize := namesISA(w, f32, "interp", "AVX")
-	np, odd := w/2, w%2 == 1
-	fmt.Fprintf(g, "//go:noescape\nfunc %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n\n", name, ft)
-	fmt.Fprintf(s, "\n// func %s(grid *complex128, fx, fy int, x0, y0 *int32, wts *%s, out *complex128, n int)\n", name, ft)
-	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-64\n", name)
-	s.WriteString("\tMOVQ grid+0(FP), SI\n\tMOVQ fx+8(FP), R8\n\tMOVQ fy+16(FP), R9\n\tMOVQ x0+24(FP), R10\n\tMOVQ y0+32(FP), R11\n\tMOVQ wts+40(FP), R12\n\tMOVQ out+48(FP), DI\n\tMOVQ n+56(FP), CX\n")
-	s.WriteString("\tMOVQ R8, R13\n\tSHLQ $4, R13\n\tTESTQ CX, CX\n\tJLE done\n")
-	s.WriteString("loop:\n\tMOVLQSX (R10), DX\n")
-	fmt.Fprintf(s, "\tLEAQ %d(DX), AX\n\tCMPQ AX, R8\n\tJGT next\n", w)
-	for k := range np {
-		loadPairAVX(s, fmt.Sprintf("Y%d", k), 2*k, f32)
-	}
-	if odd {
-		loadDupAVX(s, fmt.Sprintf("X%d", np), w-1, f32)
-	}
-	s.WriteString("\tMOVLQSX (R11), BX\n")
-	s.WriteString("\tMOVQ BX, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
-	s.WriteString("\tVXORPD X12, X12, X12\n")
-	for dy := range w {
-		s.WriteString("\tVMULPD (AX), Y0, Y8\n")
-		for k := 1; k < np; k++ {
-			fmt.Fprintf(s, "\tVMULPD %d(AX), Y%d, Y9\n\tVADDPD Y9, Y8, Y8\n", 32*k, k)
-		}
-		s.WriteString("\tVEXTRACTF128 $1, Y8, X10\n")
-		if odd {
-			fmt.Fprintf(s, "\tVMULPD %d(AX), X%d, X9\n\tVADDPD X9, X8, X11\n", 16*(w-1), np)
-		} else {
-			s.WriteString("\tVMOVAPD X8, X11\n")
-		}
-		s.WriteString("\tVADDPD X10, X11, X11\n")
-		loadDupAVX(s, "X13", w+dy, f32)
-		s.WriteString("\tVMULPD X13, X11, X11\n\tVADDPD X11, X12, X12\n")
-		if dy < w-1 {
-			fmt.Fprintf(s, "\tADDQ R13, AX\n\tINCQ BX\n\tCMPQ BX, R9\n\tJLT row%d\n", dy)
-			s.WriteString("\tXORQ BX, BX\n\tMOVQ R9, DX\n\tIMULQ R13, DX\n\tSUBQ DX, AX\n")
-			fmt.Fprintf(s, "row%d:\n", dy)
-		}
-	}
-	s.WriteString("\tVMOVUPD X12, (DI)\n")
-	s.WriteString("next:\n\tADDQ $4, R10\n\tADDQ $4, R11\n")
-	fmt.Fprintf(s, "\tADDQ $%d, R12\n\tADDQ $16, DI\n\tDECQ CX\n\tJNZ loop\ndone:\n\tVZEROUPPER\n\tRET\n", 2*w*wsize)
 }
 
 // genSpreadAVX is genSpread in three-operand VEX form, one complex per

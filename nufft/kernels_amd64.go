@@ -4,7 +4,7 @@
 
 package nufft
 
-const minAsm, maxAsm = 2, 11
+const minAsm, maxAsm = 2, 10
 
 //go:noescape
 func interp2f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -115,18 +115,6 @@ func interp10f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 func spread10f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func interp11f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
-
-//go:noescape
-func spread11f32SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
-
-//go:noescape
-func interp11f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
-
-//go:noescape
-func spread11f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
-
-//go:noescape
 func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -234,18 +222,6 @@ func interp10f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 //go:noescape
 func spread10f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
-//go:noescape
-func interp11f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
-
-//go:noescape
-func spread11f64SSE2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
-
-//go:noescape
-func interp11f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
-
-//go:noescape
-func spread11f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
-
 var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
 	2:  interp2f32SSE2,
 	3:  interp3f32SSE2,
@@ -256,7 +232,6 @@ var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *
 	8:  interp8f32SSE2,
 	9:  interp9f32SSE2,
 	10: interp10f32SSE2,
-	11: interp11f32SSE2,
 }
 
 var interpSSE2f64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int){
@@ -269,7 +244,6 @@ var interpSSE2f64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *
 	8:  interp8f64SSE2,
 	9:  interp9f64SSE2,
 	10: interp10f64SSE2,
-	11: interp11f64SSE2,
 }
 
 var interpAVXf32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
@@ -282,7 +256,6 @@ var interpAVXf32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *f
 	8:  interp8f32AVX,
 	9:  interp9f32AVX,
 	10: interp10f32AVX,
-	11: interp11f32AVX,
 }
 
 var interpAVXf64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int){
@@ -295,7 +268,6 @@ var interpAVXf64 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *f
 	8:  interp8f64AVX,
 	9:  interp9f64AVX,
 	10: interp10f64AVX,
-	11: interp11f64AVX,
 }
 
 var spreadSSE2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
@@ -308,7 +280,6 @@ var spreadSSE2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	8:  spread8f32SSE2,
 	9:  spread9f32SSE2,
 	10: spread10f32SSE2,
-	11: spread11f32SSE2,
 }
 
 var spreadSSE2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
@@ -321,7 +292,6 @@ var spreadSSE2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	8:  spread8f64SSE2,
 	9:  spread9f64SSE2,
 	10: spread10f64SSE2,
-	11: spread11f64SSE2,
 }
 
 var spreadAVXf32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
@@ -334,7 +304,6 @@ var spreadAVXf32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *
 	8:  spread8f32AVX,
 	9:  spread9f32AVX,
 	10: spread10f32AVX,
-	11: spread11f32AVX,
 }
 
 var spreadAVXf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
@@ -347,5 +316,4 @@ var spreadAVXf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *
 	8:  spread8f64AVX,
 	9:  spread9f64AVX,
 	10: spread10f64AVX,
-	11: spread11f64AVX,
 }

@@ -406,9 +406,9 @@ func (p *plan) do(w, s int) {
 		p.fwdFill(lo, hi)
 	case phFwdInterp:
 		lo, hi := chunk(p.m, s, interpShard)
-		p.interp(p.scratch[w], lo, hi)
+		p.interp(lo, hi)
 	case phAdjSpread:
-		p.spread(p.scratch[w], s)
+		p.spread(s)
 	case phAdjCols:
 		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, true)
 	case phAdjRows:
@@ -606,11 +606,12 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 // The values go to p.sorted in sorted order and are then scattered to
 // dst in a separate tight loop: the scattered stores are independent and
 // overlap their cache misses, which matters once dst outgrows the cache.
-func (p *plan) interp(scr []complex128, lo, hi int) {
+func (p *plan) interp(lo, hi int) {
 	if p.interpAsm(lo, hi) {
+		// The points at the grid edge, as the Go loops do them.
 		for i := lo; i < hi; i++ {
 			if int(p.x0[i])+p.w > p.fx {
-				p.interpEdge(scr, i)
+				p.interpWrap(i)
 			}
 		}
 	} else if !p.interpUnrolled(lo, hi) {
@@ -659,7 +660,7 @@ func (p *plan) interpWrap(i int) {
 
 // spread adds the points of shard i, times their kernel weights, into
 // its band.
-func (p *plan) spread(scr []complex128, i int) {
+func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
 	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
@@ -670,12 +671,21 @@ func (p *plan) spread(scr []complex128, i int) {
 			p.sorted[lo+j] = src[perm[j]]
 		}
 	}
-	if p.spreadAsm(band, ylo, lo, hi) {
-		// The points at the grid edge, after the others.
-		for k := lo; k < hi; k++ {
-			if int(p.x0[k])+p.w > p.fx {
-				p.spreadEdge(scr, band, ylo, k)
+	if p.hasSpreadAsm() {
+		// Runs of points inside the grid in assembly, the points at the
+		// grid edge between them in Go, all in sorted order as in the Go
+		// loops, so that every cell sums its terms in the same order.
+		for k := lo; k < hi; {
+			j := k
+			for j < hi && int(p.x0[j])+p.w <= p.fx {
+				j++
 			}
+			p.spreadAsm(band, ylo, k, j)
+			if j < hi {
+				p.spreadWrap(band, ylo, j)
+				j++
+			}
+			k = j
 		}
 		return
 	}
