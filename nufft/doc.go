@@ -84,18 +84,17 @@
 //
 // # Assembly
 //
-// On amd64 the interpolation and spreading loops (widths 2 to 11), the
+// On amd64 the interpolation and spreading loops (widths 2 to 10), the
 // FFT stages and the conjugate copies of the Hermitian symmetry run in
 // assembly: SSE2, the amd64 baseline, with one complex value per
-// register, and AVX, two per register, where the processor has it.
-// The FFT and spreading loops do the same operations in the same order
-// as the Go loops and give the same bits; the AVX and SSE2 forms of
-// every loop give the same bits (no fused multiply-add), so results do
-// not depend on the processor. The assembly interpolation sums the taps
-// in another order than the Go loop and differs from it by rounding.
-// The build tag purego, and every other architecture, compile the
-// portable Go loops only; the tests run both forms in one build
-// (TestPortableLoops, TestGriddingAVX, TestRadix4Asm). GOAMD64=v3 is
+// register, and AVX (three-operand forms, two columns at once in the
+// FFT) where the processor has it. Every assembly loop does the
+// operations of its Go loop in the same order, with no fused
+// multiply-add, so results are the same bits with or without assembly
+// and on any amd64 processor. The build tag purego, and every other
+// architecture, compile the portable Go loops only; the tests run both
+// forms in one build (TestPortableLoops, TestGriddingAVX,
+// TestRadix4Asm). GOAMD64=v3 is
 // optional and changes the Go loops' results only by rounding.
 //
 // # Calls
