@@ -34,8 +34,10 @@ func benchPlan(b *testing.B, n, m, workers int, adjoint bool) {
 		b.Fatal(err)
 	}
 	vis := make([]complex128, m)
-	p.Forward(vis, img)
 	out := make([]float64, n*n)
+	// Warm both directions, so that no timed call is the first.
+	p.Forward(vis, img)
+	p.Adjoint(out, vis)
 	b.ReportAllocs()
 	b.ResetTimer()
 	for b.Loop() {
@@ -87,6 +89,7 @@ func BenchmarkForward(b *testing.B) {
 	for _, s := range benchSizes {
 		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, false) })
 	}
+	b.Run("n=256/m=100000/workers=2", func(b *testing.B) { benchPlan(b, 256, 100000, 2, false) })
 	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, false) })
 }
 
@@ -94,6 +97,7 @@ func BenchmarkAdjoint(b *testing.B) {
 	for _, s := range benchSizes {
 		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) { benchPlan(b, s.n, s.m, 1, true) })
 	}
+	b.Run("n=256/m=100000/workers=2", func(b *testing.B) { benchPlan(b, 256, 100000, 2, true) })
 	b.Run("n=512/m=1000000/workers=2", func(b *testing.B) { benchPlan(b, 512, 1000000, 2, true) })
 }
 
@@ -158,6 +162,54 @@ func BenchmarkExactAdjoint(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
 				e.Adjoint(out, vis)
+			}
+		})
+	}
+}
+
+// BenchmarkNewPlan measures making a plan, which computes the kernel
+// weights of every point.
+func BenchmarkNewPlan(b *testing.B) {
+	for _, s := range benchSizes {
+		b.Run(fmt.Sprintf("n=%d/m=%d", s.n, s.m), func(b *testing.B) {
+			pixel, u, v, _ := benchProblem(s.n, s.m)
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := NewPlan(s.n, s.n, pixel, u, v, Options{Tol: 1e-6, Workers: 1}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkSorted runs ForwardSorted and AdjointSorted, the calls in the
+// plan's order of the points, at the largest size, where the permutation
+// of Forward and Adjoint costs most.
+func BenchmarkSorted(b *testing.B) {
+	const n, m = 512, 1000000
+	pixel, u, v, img := benchProblem(n, m)
+	p, err := NewPlan(n, n, pixel, u, v, Options{Tol: 1e-6, Workers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	vis := make([]complex128, m)
+	out := make([]float64, n*n)
+	p.ForwardSorted(vis, img)
+	p.AdjointSorted(out, vis)
+	for _, adjoint := range []bool{false, true} {
+		name := "Forward"
+		if adjoint {
+			name = "Adjoint"
+		}
+		b.Run(fmt.Sprintf("%s/n=%d/m=%d", name, n, m), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if adjoint {
+					p.AdjointSorted(out, vis)
+				} else {
+					p.ForwardSorted(vis, img)
+				}
 			}
 		})
 	}

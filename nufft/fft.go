@@ -22,6 +22,19 @@ type fftPlan struct {
 type fftStage struct {
 	l      int          // length of the sub-transforms at this stage
 	fw, iw []complex128 // for radix 4: w^p, w^2p, w^3p interleaved, p < l/4, w = exp(∓2πi/l)
+
+	// The same twiddles for the assembly stage (fft_amd64.s), each as
+	// (re, re, −im, im); nil where there is none.
+	fwx, iwx []float64
+}
+
+// expandTwiddles returns tw in the layout of fftStage.fwx.
+func expandTwiddles(tw []complex128) []float64 {
+	x := make([]float64, 4*len(tw))
+	for i, w := range tw {
+		x[4*i], x[4*i+1], x[4*i+2], x[4*i+3] = real(w), real(w), -imag(w), imag(w)
+	}
+	return x
 }
 
 func newFFTPlan(n int) *fftPlan {
@@ -39,6 +52,9 @@ func newFFTPlan(n int) *fftPlan {
 					st.fw[3*p+r-1] = complex(cs, sn)
 					st.iw[3*p+r-1] = complex(cs, -sn)
 				}
+			}
+			if hasAsm {
+				st.fwx, st.iwx = expandTwiddles(st.fw), expandTwiddles(st.iw)
 			}
 			f.stages = append(f.stages, st)
 			l /= 4
@@ -62,13 +78,17 @@ func (f *fftPlan) transform(x, y []complex128, b int, inverse bool) []complex128
 	for i := range f.stages {
 		st := &f.stages[i]
 		if st.l == 2 {
-			radix2(dst, src, s)
-		} else {
-			tw := st.fw
-			if inverse {
-				tw = st.iw
+			if !radix2Fast(dst, src, s) {
+				radix2(dst, src, s)
 			}
-			radix4(dst, src, tw, st.l, s, inverse)
+		} else {
+			if !radix4Fast(dst, src, st, s, inverse) {
+				tw := st.fw
+				if inverse {
+					tw = st.iw
+				}
+				radix4(dst, src, tw, st.l, s, inverse)
+			}
 		}
 		if st.l == 2 {
 			s *= 2

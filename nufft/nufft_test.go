@@ -354,10 +354,12 @@ func TestAllocs(t *testing.T) {
 		}
 		visE := make([]complex128, 50)
 		for name, f := range map[string]func(){
-			"Plan.Forward":  func() { p.Forward(vis, img) },
-			"Plan.Adjoint":  func() { p.Adjoint(out, vis) },
-			"Exact.Forward": func() { e.Forward(visE, img) },
-			"Exact.Adjoint": func() { e.Adjoint(out, visE) },
+			"Plan.Forward":       func() { p.Forward(vis, img) },
+			"Plan.Adjoint":       func() { p.Adjoint(out, vis) },
+			"Plan.ForwardSorted": func() { p.ForwardSorted(vis, img) },
+			"Plan.AdjointSorted": func() { p.AdjointSorted(out, vis) },
+			"Exact.Forward":      func() { e.Forward(visE, img) },
+			"Exact.Adjoint":      func() { e.Adjoint(out, visE) },
 		} {
 			if a := testing.AllocsPerRun(5, f); a != 0 {
 				t.Errorf("%s with %d workers: %g allocations per call", name, w, a)

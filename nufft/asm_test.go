@@ -1,0 +1,225 @@
+package nufft
+
+import (
+	"math/cmplx"
+	"math/rand/v2"
+	"testing"
+)
+
+// TestRadix4Asm checks that the assembly FFT stages (SSE2, and AVX where
+// the processor has it) give the bits of the Go stage they replace (same
+// operations in the same order), for every stage of two lengths, strides
+// 1 and 16, both directions. TestFFT checks the whole transform against
+// the defining sum of the DFT.
+func TestRadix4Asm(t *testing.T) {
+	if !hasAsm {
+		t.Skip("no assembly in this build (purego or not amd64)")
+	}
+	avx := useAVX
+	defer func() { useAVX = avx }()
+	for _, useAVX = range []bool{false, avx} {
+		testRadix4Asm(t)
+	}
+}
+
+func testRadix4Asm(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, n := range []int{64, 512, 128} { // 128 ends with a radix-2 stage
+		f := newFFTPlan(n)
+		for _, s := range []int{1, 16} {
+			for i := range f.stages {
+				st := &f.stages[i]
+				if st.l == 2 {
+					src := make([]complex128, 2*s)
+					for k := range src {
+						src[k] = complex(rng.NormFloat64(), rng.NormFloat64())
+					}
+					want := make([]complex128, 2*s)
+					got := make([]complex128, 2*s)
+					radix2(want, src, s)
+					radix2Fast(got, src, s)
+					for k := range want {
+						if !sameOrClose(got[k], want[k]) {
+							t.Fatalf("radix 2, s=%d: value %d is %v, Go stage %v", s, k, got[k], want[k])
+						}
+					}
+					continue
+				}
+				// A stage of sub-length l and stride s reads and writes
+				// l·s values per block; test one block of n·s values.
+				src := make([]complex128, n*s)
+				for k := range src {
+					src[k] = complex(rng.NormFloat64(), rng.NormFloat64())
+				}
+				for _, inv := range []bool{false, true} {
+					want := make([]complex128, n*s)
+					got := make([]complex128, n*s)
+					tw := st.fw
+					if inv {
+						tw = st.iw
+					}
+					ss := s * (n / st.l) // the stride at which this stage runs
+					radix4(want, src, tw, st.l, ss, inv)
+					radix4Fast(got, src, st, ss, inv)
+					for k := range want {
+						if !sameOrClose(got[k], want[k]) {
+							t.Fatalf("n=%d l=%d s=%d inverse=%v AVX=%v: value %d is %v, Go stage %v", n, st.l, ss, inv, useAVX, k, got[k], want[k])
+						}
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestGriddingAVX checks that the AVX and SSE2 forms of the gridding
+// loops give the same bits, for every width with an assembly form and
+// both weight precisions, in Forward and Adjoint; TestAccuracy checks
+// the results against the exact sum in whichever form the machine runs.
+func TestGriddingAVX(t *testing.T) {
+	if !hasAsm || !useAVX {
+		t.Skip("no AVX assembly in this build or on this processor")
+	}
+	defer func() { useAVX = true }()
+	rng := rand.New(rand.NewPCG(5, 6))
+	// The FFT stages switch with useAVX too; TestRadix4Asm shows they
+	// give the same bits.
+	nx, ny, m := 40, 36, 3000
+	u, v := bandPoints(rng, m, mas)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	for w := minAsm; w <= maxAsm; w++ {
+		for _, tol := range []float64{1e-6, 1e-9} { // float32 and float64 weights
+			r, err := resolve("test", nx, ny, mas, u, v, Options{Tol: tol, Workers: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := &Plan{newPlan(r, u, v, kaiserBessel, w)}
+			var f [2][]complex128
+			var a [2][]float64
+			for i, avx := range []bool{false, true} {
+				useAVX = avx
+				f[i], a[i] = make([]complex128, m), make([]float64, nx*ny)
+				p.Forward(f[i], img)
+				p.Adjoint(a[i], vis)
+			}
+			for k := range f[0] {
+				if f[0][k] != f[1][k] {
+					t.Fatalf("w=%d tol=%g: Forward at point %d: SSE2 %v, AVX %v", w, tol, k, f[0][k], f[1][k])
+				}
+			}
+			for k := range a[0] {
+				if a[0][k] != a[1][k] {
+					t.Fatalf("w=%d tol=%g: Adjoint at pixel %d: SSE2 %v, AVX %v", w, tol, k, a[0][k], a[1][k])
+				}
+			}
+		}
+	}
+}
+
+// TestPortableLoops runs the portable Go loops of this build (the only
+// ones with -tags purego or off amd64) against the exact sum at the
+// tolerances of TestAccuracy, and checks that the assembly loops give
+// their bits (same operations in the same order), or agree to rounding
+// where the compiler may fuse multiply-adds in the Go loops.
+func TestPortableLoops(t *testing.T) {
+	asm := useAsm
+	defer func() { useAsm = asm }()
+	rng := rand.New(rand.NewPCG(7, 8))
+	nx, ny, m := 48, 30, 2000
+	pix := 0.5 * mas
+	u, v := bandPoints(rng, m, pix)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	e, err := NewExact(nx, ny, pix, u, v, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantF := make([]complex128, m)
+	e.Forward(wantF, img)
+	wantA := make([]float64, nx*ny)
+	e.Adjoint(wantA, vis)
+	for _, tol := range []float64{1e-3, 1e-6, 1e-9, 1e-12} {
+		p, err := NewPlan(nx, ny, pix, u, v, Options{Tol: tol, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var f [2][]complex128
+		var a [2][]float64
+		for i, on := range []bool{false, asm} {
+			useAsm = on
+			f[i], a[i] = make([]complex128, m), make([]float64, nx*ny)
+			p.Forward(f[i], img)
+			p.Adjoint(a[i], vis)
+		}
+		ef, ea := relErrC(f[0], wantF), relErrR(a[0], wantA)
+		if ef > tol || ea > tol {
+			t.Errorf("tol=%g, portable loops: relative errors Forward %g, Adjoint %g exceed tol", tol, ef, ea)
+		}
+		if d := relErrC(f[0], f[1]); d > 1e-13 || (!goFused && d != 0) {
+			t.Errorf("tol=%g: Forward of portable and assembly loops differ by %g relative", tol, d)
+		}
+		if d := relErrR(a[0], a[1]); d > 1e-13 || (!goFused && d != 0) {
+			t.Errorf("tol=%g: Adjoint of portable and assembly loops differ by %g relative", tol, d)
+		}
+	}
+}
+
+// TestSortedOrder checks that ForwardSorted and AdjointSorted give the
+// bits of Forward and Adjoint with the points in the order of Order, in
+// both the assembly and the portable loops, serially and with two
+// workers.
+func TestSortedOrder(t *testing.T) {
+	asm := useAsm
+	defer func() { useAsm = asm }()
+	rng := rand.New(rand.NewPCG(9, 10))
+	nx, ny, m := 64, 50, 30000
+	u, v := bandPoints(rng, m, mas)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	for _, useAsm = range []bool{false, asm} {
+		for _, w := range []int{1, 2} {
+			p, err := NewPlan(nx, ny, mas, u, v, Options{Workers: w})
+			if err != nil {
+				t.Fatal(err)
+			}
+			order := make([]int, m)
+			p.Order(order)
+			f, fs := make([]complex128, m), make([]complex128, m)
+			p.Forward(f, img)
+			p.ForwardSorted(fs, img)
+			visS := make([]complex128, m)
+			for i, k := range order {
+				visS[i] = vis[k]
+				if fs[i] != f[k] {
+					t.Fatalf("asm=%v workers=%d: ForwardSorted[%d] = %v, Forward[%d] = %v", useAsm, w, i, fs[i], k, f[k])
+				}
+			}
+			a, as := make([]float64, nx*ny), make([]float64, nx*ny)
+			p.Adjoint(a, vis)
+			p.AdjointSorted(as, visS)
+			for k := range a {
+				if a[k] != as[k] {
+					t.Fatalf("asm=%v workers=%d: AdjointSorted pixel %d = %v, Adjoint %v", useAsm, w, k, as[k], a[k])
+				}
+			}
+			// The plan's own buffer is back in place.
+			p.Forward(f, img)
+			for i, k := range order {
+				if fs[i] != f[k] {
+					t.Fatalf("asm=%v workers=%d: Forward after the sorted calls differs at point %d", useAsm, w, k)
+				}
+			}
+		}
+	}
+}
+
+// sameOrClose reports whether a Go loop's value b equals the assembly's
+// a: to the bit, or to rounding (1e-14 relative) where the compiler may
+// fuse multiply-adds in the Go loops (goFused).
+func sameOrClose(a, b complex128) bool {
+	if !goFused {
+		return a == b
+	}
+	return cmplx.Abs(a-b) <= 1e-14*(cmplx.Abs(b)+1e-300)
+}
