@@ -26,7 +26,14 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 		if p.AtBound {
 			note = "  (at a bound)"
 		}
+		if p.BootError != nil {
+			note = fmt.Sprintf("  bootstrap ± %.4g", float64(*p.BootError)) + note
+		}
 		fmt.Fprintf(w, "  %-14s %-9s %16.8g   %-12s %s%s\n", p.Name, p.Kind, float64(p.Value), e, p.Unit, note)
+	}
+	if b := s.Bootstrap; b != nil {
+		fmt.Fprintf(w, "  (bootstrap: %d of %d refits of the data resampled by %s, seed %d; a spread well above 1σ\n", b.Done, b.K, b.Unit, b.Seed)
+		fmt.Fprintln(w, "   means errors the error bars do not hold, such as calibration or correlated errors)")
 	}
 	if len(s.Pairs) > 0 {
 		fmt.Fprintf(w, "\nRelative to component %d (the brightest), 1σ propagated from the covariance:\n", s.Pairs[0].Primary)
@@ -38,6 +45,9 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 			}
 			fmt.Fprintf(w, "  %-9d %-22s %-22s %-24s %s%s\n", p.Component, pm(p.Sep, p.SepErr), pm(p.PA, p.PAErr),
 				pm(p.Ratio, p.RatioErr), pm(p.DMag, p.DMagErr), note)
+			if p.SepBoot != nil {
+				fmt.Fprintf(w, "  %-9s %-22s %-22s %-24s\n", "bootstrap", fmt.Sprintf("± %.3g", float64(*p.SepBoot)), fmt.Sprintf("± %.3g", float64(*p.PABoot)), fmt.Sprintf("± %.3g", float64(*p.RatioBoot)))
+			}
 		}
 	}
 	if len(s.Detections) > 0 {

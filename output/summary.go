@@ -199,6 +199,7 @@ type FitSummary struct {
 	Detections   []FitDetectJ     `json:"significance"`
 	Grid         *FitGridJ        `json:"grid_search,omitempty"`
 	Limits       *FitLimitsJ      `json:"detection_limits,omitempty"`
+	Bootstrap    *FitBootJ        `json:"bootstrap,omitempty"`
 	Plots        []string         `json:"plots"`
 	Image        string           `json:"image,omitempty"`
 	ModelFile    string           `json:"model_file,omitempty"`
@@ -216,6 +217,36 @@ type FitParamJ struct {
 	Error     JFloat `json:"error"`
 	Unit      string `json:"unit"`
 	AtBound   bool   `json:"at_bound"`
+	// BootError is the bootstrap error (vcz fit -bootstrap), absent without one.
+	BootError *JFloat `json:"bootstrap_error,omitempty"`
+}
+
+// FitBootJ describes the bootstrap of a fit: replicates asked for and done, the unit
+// resampled and the seed.
+type FitBootJ struct {
+	K    int    `json:"replicates"`
+	Done int    `json:"done"`
+	Unit string `json:"unit"`
+	Seed uint64 `json:"seed"`
+}
+
+// AddBootstrap puts bootstrap errors beside the covariance errors: per parameter (in the
+// order of Params) and per pair the spreads of the separation, position angle and flux
+// ratio.
+func (s *FitSummary) AddBootstrap(b FitBootJ, params, sep, pa, ratio []float64) {
+	s.Bootstrap = &b
+	for i := range s.Params {
+		if i < len(params) {
+			e := JFloat(params[i])
+			s.Params[i].BootError = &e
+		}
+	}
+	for i := range s.Pairs {
+		if i < len(sep) {
+			a, b, c := JFloat(sep[i]), JFloat(pa[i]), JFloat(ratio[i])
+			s.Pairs[i].SepBoot, s.Pairs[i].PABoot, s.Pairs[i].RatioBoot = &a, &b, &c
+		}
+	}
 }
 
 // FitPairJ is one component relative to the primary (fit.Pair); components are counted
@@ -232,6 +263,10 @@ type FitPairJ struct {
 	DMag      JFloat `json:"dmag"`
 	DMagErr   JFloat `json:"dmag_error"`
 	AtBound   bool   `json:"at_bound"`
+	// SepBoot, PABoot and RatioBoot are the bootstrap errors, absent without a bootstrap.
+	SepBoot   *JFloat `json:"separation_bootstrap_error_mas,omitempty"`
+	PABoot    *JFloat `json:"pa_bootstrap_error_deg,omitempty"`
+	RatioBoot *JFloat `json:"flux_ratio_bootstrap_error,omitempty"`
 }
 
 // FitDetectJ is the significance of one component (fit.Detection); components are counted

@@ -31,6 +31,8 @@ type FitSettings struct {
 	// the fitted model (fit.DetectionLimits; SepMax = 0 means 3/4 of the largest constrained
 	// scale, as for Grid).
 	Limits *fit.LimitOptions
+	// Bootstrap, when K > 0, adds bootstrap errors beside the covariance errors.
+	Bootstrap FitBootstrap
 }
 
 // FitOutcome is the outcome of FitModel.
@@ -43,6 +45,8 @@ type FitOutcome struct {
 	// parameters, in that order; none with FitSettings.SkipSignificance.
 	Detections []*fit.Detection
 	Limits     *fit.Limits // the detection limits; nil unless asked for
+	// Boot holds the bootstrap errors; nil unless asked for.
+	Boot *FitBootErrors
 }
 
 // FitModel fits the model m to d, then gives the significance of its components and the
@@ -105,6 +109,9 @@ func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, erro
 			}
 			o.Detections = append(o.Detections, det)
 		}
+	}
+	if s.Bootstrap.K > 0 {
+		o.Boot = fitBootstrap(d, res, opt, s.Bootstrap)
 	}
 	if s.Limits != nil {
 		lopt := *s.Limits

@@ -7,6 +7,7 @@ import (
 	"io"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -107,6 +108,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	bootK := fs.Int("bootstrap", 0, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
+	bootUnit := fs.String("bootstrap-unit", "exposure", "what -bootstrap draws with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)")
+	bootSeed := fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -159,6 +163,16 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}, SkipSignificance: *noSig}
+	if *bootK < 0 {
+		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
+	}
+	if *bootK > 0 {
+		unit, err := dataset.ParseUnit(*bootUnit)
+		if err != nil {
+			return badInputf("fit: -bootstrap-unit: %v", err)
+		}
+		fitSet.Bootstrap = workflow.FitBootstrap{K: *bootK, Unit: unit, Seed: *bootSeed}
+	}
 	sepMin, sepMax := 0.0, 0.0 // the separations of -grid-search and -limits (mas; 0, 0: the default)
 	if *gridSep != "" {
 		lo, hi, err := runspec.ParseRange(*gridSep, runspec.ParseAngle)
@@ -186,6 +200,9 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	}
 	res, g := fo.Result, fo.Grid
 	sum := output.NewFitSummary(res, fo.Starts)
+	if b := fo.Boot; b != nil {
+		sum.AddBootstrap(output.FitBootJ{K: b.K, Done: b.Done, Unit: b.Unit.String(), Seed: b.Seed}, b.Params, b.Sep, b.PA, b.Ratio)
+	}
 	sum.Detections = output.FitDetections(res, fo.Detections)
 	if g != nil {
 		sum.Grid = &output.FitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
