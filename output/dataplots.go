@@ -123,8 +123,16 @@ func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.Gri
 		return written, err
 	}
 	if g != nil {
-		fig, err := plots.Chi2Map(plots.Grid{X: g.Sep, Y: g.PA, Values: g.Chi2, XLabel: "separation (mas)", YLabel: "position angle, east of north (°)", ZLabel: "χ²", XUnit: "mas", YUnit: "°"},
-			plots.Options{Title: titled("Companion search χ²", title)})
+		grid := plots.Grid{X: g.Sep, Y: g.PA, Values: g.Chi2, XLabel: "separation (mas)", YLabel: "position angle, east of north (°)", ZLabel: "χ²", XUnit: "mas", YUnit: "°"}
+		// The companion the search added is the model's last component: its fitted
+		// position with the 1σ error ellipse of separation and position angle.
+		for _, p := range res.Pairs {
+			if p.Comp == len(res.Model.Components)-1 && !p.AtBound {
+				grid.Fit = &plots.FitMark{X: p.Sep, Y: p.PA, VarX: p.SepErr * p.SepErr, VarY: p.PAErr * p.PAErr, CovXY: p.SepPACov,
+					Label: "fitted companion, 1σ error ellipse"}
+			}
+		}
+		fig, err := plots.Chi2Map(grid, plots.Options{Title: titled("Companion search χ²", title)})
 		if err := save(fig, err, "-grid.png"); err != nil {
 			return written, err
 		}

@@ -397,3 +397,23 @@ func TestPixels(t *testing.T) {
 		}
 	}
 }
+
+// TestFitEllipse checks the error ellipse of a fitted position: every point p of it has
+// (p − c)ᵀ C⁻¹ (p − c) = 1, the 1σ (Δχ² = 1) contour of the covariance C (e.g. Press et al.,
+// Numerical Recipes, 3rd ed., sect. 15.6), for tilted and axis-aligned covariances.
+func TestFitEllipse(t *testing.T) {
+	for _, f := range []FitMark{
+		{X: 12, Y: 40, VarX: 0.04, VarY: 9, CovXY: 0.3},
+		{X: 3, Y: 200, VarX: 1, VarY: 1, CovXY: 0},
+		{X: 0, Y: 0, VarX: 2, VarY: 0.5, CovXY: -0.9},
+	} {
+		det := f.VarX*f.VarY - f.CovXY*f.CovXY
+		for _, p := range f.ellipse(40) {
+			dx, dy := p.X-f.X, p.Y-f.Y
+			q := (f.VarY*dx*dx - 2*f.CovXY*dx*dy + f.VarX*dy*dy) / det
+			if math.Abs(q-1) > 1e-9 {
+				t.Fatalf("%+v: point (%g, %g) at Δχ² %g, want 1", f, p.X, p.Y, q)
+			}
+		}
+	}
+}

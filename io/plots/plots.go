@@ -612,6 +612,37 @@ type Grid struct {
 	InvertX bool
 	// LogZ colours by log10 of the values (non-positive ones are grey).
 	LogZ bool
+	// Fit, when non-nil, marks a fitted position with its error ellipse.
+	Fit *FitMark
+}
+
+// FitMark is a fitted position on a map with the covariance of its two coordinates.
+type FitMark struct {
+	X, Y              float64
+	VarX, VarY, CovXY float64
+	Label             string // legend entry, e.g. "fit, 1σ ellipse"
+}
+
+// ellipse returns n points of the ellipse of the fit's 1σ errors, the set where
+// (p − c)ᵀ C⁻¹ (p − c) = 1 (Δχ² = 1 for the two coordinates; e.g. Press et al., Numerical
+// Recipes, 3rd ed., sect. 15.6): with C = V diag(λ₁, λ₂) Vᵀ, c + V diag(√λ₁, √λ₂)(cos t,
+// sin t).
+func (f *FitMark) ellipse(n int) plotter.XYs {
+	a, b, c := f.VarX, f.CovXY, f.VarY
+	// Eigenvalues and the angle of the first eigenvector of [[a, b], [b, c]].
+	tr, det := a+c, a*c-b*b
+	disc := math.Sqrt(math.Max(tr*tr/4-det, 0))
+	l1, l2 := tr/2+disc, math.Max(tr/2-disc, 0)
+	th := 0.5 * math.Atan2(2*b, a-c)
+	cs, sn := math.Cos(th), math.Sin(th)
+	pts := make(plotter.XYs, n+1)
+	for k := range pts {
+		t := 2 * math.Pi * float64(k) / float64(n)
+		u, v := math.Sqrt(l1)*math.Cos(t), math.Sqrt(l2)*math.Sin(t)
+		pts[k].X = f.X + cs*u - sn*v
+		pts[k].Y = f.Y + sn*u + cs*v
+	}
+	return pts
 }
 
 // gridXYZ presents a Grid to the heat map. With neg set, columns are
@@ -701,6 +732,22 @@ func Chi2Map(g Grid, opt Options) (*Figure, error) {
 	dot, _ := plotter.NewScatter(plotter.XYs{{X: mx, Y: by}})
 	dot.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Radius: vg.Points(3.5), Color: color.RGBA{230, 40, 30, 255}}
 	p.Add(ring, dot)
+	if f := g.Fit; f != nil && finite(f.VarX) && finite(f.VarY) && finite(f.CovXY) {
+		pts := f.ellipse(96)
+		if g.InvertX {
+			for i := range pts {
+				pts[i].X = -pts[i].X
+			}
+		}
+		line, err := plotter.NewLine(pts)
+		if err == nil {
+			line.LineStyle = draw.LineStyle{Color: color.RGBA{60, 200, 255, 255}, Width: vg.Points(1.5)}
+			p.Add(line)
+			if f.Label != "" {
+				p.Legend.Add(f.Label, line)
+			}
+		}
+	}
 	zl := g.ZLabel
 	if zl == "" {
 		zl = "χ²"

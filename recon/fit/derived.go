@@ -28,6 +28,10 @@ type Pair struct {
 	// the free parameters. They are NaN without a covariance, and 0 when
 	// none of the parameters a quantity depends on is free.
 	SepErr, PAErr, RatioErr, DMagErr float64
+	// SepPACov is the covariance of the separation and the position angle (mas·°),
+	// propagated the same way; with SepErr and PAErr it gives the error ellipse of the
+	// position. NaN without a covariance.
+	SepPACov float64
 	// AtBound is set when a free parameter the pair depends on lies on a
 	// bound of the fit, where the uncertainties mean nothing.
 	AtBound bool
@@ -111,7 +115,7 @@ func Pairs(m *model.Model, refs []model.Ref, cov *mat.SymDense, atBound []bool) 
 			dm = -2.5 * math.Log10(r)
 		}
 		p := Pair{Primary: ip, Comp: ic, Sep: s, PA: pa, Ratio: r, DMag: dm,
-			SepErr: math.NaN(), PAErr: math.NaN(), RatioErr: math.NaN(), DMagErr: math.NaN()}
+			SepErr: math.NaN(), PAErr: math.NaN(), RatioErr: math.NaN(), DMagErr: math.NaN(), SepPACov: math.NaN()}
 		// The six parameters and the gradients of the four quantities
 		// with respect to them (rows: sep, PA in degrees, ratio, Δm).
 		idx := [6]int{index(ip, "x"), index(ip, "y"), index(ip, "flux"), index(ic, "x"), index(ic, "y"), index(ic, "flux")}
@@ -129,22 +133,27 @@ func Pairs(m *model.Model, refs []model.Ref, cov *mat.SymDense, atBound []bool) 
 			}
 		}
 		if cov != nil {
-			errs := [4]*float64{&p.SepErr, &p.PAErr, &p.RatioErr, &p.DMagErr}
-			for q := range grad {
+			// gcg returns g_q C g_rᵀ over the free parameters among the six.
+			gcg := func(q, r int) float64 {
 				v := 0.0
 				for a := range idx {
 					if idx[a] < 0 || grad[q][a] == 0 {
 						continue
 					}
 					for b := range idx {
-						if idx[b] < 0 || grad[q][b] == 0 {
+						if idx[b] < 0 || grad[r][b] == 0 {
 							continue
 						}
-						v += grad[q][a] * cov.At(idx[a], idx[b]) * grad[q][b]
+						v += grad[q][a] * cov.At(idx[a], idx[b]) * grad[r][b]
 					}
 				}
-				*errs[q] = math.Sqrt(v)
+				return v
 			}
+			errs := [4]*float64{&p.SepErr, &p.PAErr, &p.RatioErr, &p.DMagErr}
+			for q := range grad {
+				*errs[q] = math.Sqrt(gcg(q, q))
+			}
+			p.SepPACov = gcg(0, 1)
 		}
 		out = append(out, p)
 	}
