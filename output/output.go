@@ -195,13 +195,15 @@ func (o Outputs) writePreview(path string, r Run) error {
 	return preview.WriteFile(path, res.Image, res.Grid.N, res.Grid.N, opt)
 }
 
-// LCurve is the weight path of res as a plot path named name, with the chosen weight
-// marked; ok is false for a path of fewer than two steps.
+// LCurve is the weight path of res as a plot path named name, with the final image's own
+// misfit and regularizer at the weight used marked (plots.LPath.Final), so that the marker
+// is where the result lies even when its weight is not a step of the path; ok is false for
+// a path of fewer than two steps.
 func LCurve(name string, res *recon.Result) (lp plots.LPath, ok bool) {
 	if len(res.Path) < 2 {
 		return lp, false
 	}
-	lp = plots.LPath{Name: name, Chosen: -1}
+	lp = plots.LPath{Name: name, Chosen: -1, Final: &plots.LPoint{Weight: res.Weight, Misfit: res.Chi2r, Regularizer: res.Reg}}
 	for i, s := range res.Path {
 		lp.Points = append(lp.Points, plots.LPoint{Weight: s.Weight, Misfit: s.Chi2r, Regularizer: s.Reg, Stalled: s.Stalled})
 		// The final weight is that of one step of the path (recon.Result.Path).

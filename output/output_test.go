@@ -15,6 +15,7 @@ import (
 	"vcz/dataset"
 	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"
+	"vcz/io/plots"
 	"vcz/io/oifits"
 	"vcz/io/preview"
 	"vcz/recon"
@@ -254,5 +255,19 @@ func TestDateObsAstropy(t *testing.T) {
 	got := strings.Fields(string(fitstest.RunPython(t, "testdata/dateobs.py", out)))
 	if len(got) != 2 || got[0] != got[1] {
 		t.Errorf("DATE-OBS %q, astropy's reading of MJD-OBS %q", got[0], got[1])
+	}
+}
+
+// TestLCurveMarksFinal checks that the weight path marks the weight used with the final
+// image's own misfit and regularizer, also when that weight is not a step of the path (a
+// marker found by float equality with the steps used to vanish then).
+func TestLCurveMarksFinal(t *testing.T) {
+	res := &recon.Result{Weight: 31.6, Chi2r: 1.02, Reg: 2.5, Path: []recon.WeightStep{{Weight: 10, Chi2r: 0.9, Reg: 3}, {Weight: 100, Chi2r: 1.3, Reg: 2}}}
+	lp, ok := LCurve("tv", res)
+	if !ok || lp.Final == nil || lp.Final.Weight != 31.6 || lp.Final.Misfit != 1.02 || lp.Final.Regularizer != 2.5 || lp.Chosen != -1 {
+		t.Fatalf("path %+v, final %+v", lp, lp.Final)
+	}
+	if _, err := plots.LCurve([]plots.LPath{lp}, plots.Options{}); err != nil {
+		t.Fatal(err)
 	}
 }

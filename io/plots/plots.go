@@ -510,11 +510,14 @@ type LPoint struct {
 }
 
 // LPath is the weight path of one regularizer; Chosen is the index of the
-// selected weight in Points (−1 for none).
+// selected weight in Points (−1 for none). Final, when set, is the result at the
+// weight used, marked where it lies whether or not it is a step of the path (a
+// final run may go on from a step, or use a weight between steps).
 type LPath struct {
 	Name   string
 	Points []LPoint
 	Chosen int
+	Final  *LPoint
 }
 
 // LCurve plots each path's data misfit against its regularizer value on
@@ -573,11 +576,18 @@ func LCurve(paths []LPath, opt Options) (*Figure, error) {
 		s.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Radius: vg.Points(2.2), Color: seriesColor(k)}
 		p.Add(l, s)
 		p.Legend.Add(legendName(path.Name, "path", k, len(paths)), l, s)
+		var c plotter.XY
+		var w float64
+		switch f := path.Final; {
+		case f != nil && finite(f.Misfit, f.Regularizer) && f.Misfit > 0 && f.Regularizer > 0:
+			c, w, chosen = plotter.XY{X: f.Regularizer, Y: f.Misfit}, f.Weight, 0
+		case chosen >= 0:
+			c, w = xy[chosen], path.Points[path.Chosen].Weight
+		}
 		if chosen >= 0 {
-			c := xy[chosen]
 			m, _ := plotter.NewScatter(plotter.XYs{c})
 			m.GlyphStyle = draw.GlyphStyle{Shape: draw.RingGlyph{}, Radius: vg.Points(7), Color: color.Black}
-			lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{c}, Labels: []string{"  weight " + strconv.FormatFloat(path.Points[path.Chosen].Weight, 'g', 3, 64)}})
+			lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{c}, Labels: []string{"  weight " + strconv.FormatFloat(w, 'g', 3, 64)}})
 			if err != nil {
 				return nil, fmt.Errorf("plots: L-curve: %w", err)
 			}

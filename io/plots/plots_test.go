@@ -137,7 +137,7 @@ func TestAllPlotsRender(t *testing.T) {
 			return ResidualPlot([]Residuals{{Name: "V²", Freq: u, Value: NormalizedResiduals(nil, v2, m2, e2), Wavelength: lam},
 				{Name: "closure phase", Freq: fq, Value: PhaseResiduals(nil, phi, pm, perr), Wavelength: lam[:n/3]}}, o)
 		}},
-		{"L-curve", func(o Options) (*Figure, error) { return LCurve([]LPath{{"entropy", path, 2}}, o) }},
+		{"L-curve", func(o Options) (*Figure, error) { return LCurve([]LPath{{"entropy", path, 2, nil}}, o) }},
 		{"chi2 map", func(o Options) (*Figure, error) { return Chi2Map(grid, o) }},
 		{"contrast", func(o Options) (*Figure, error) {
 			sep := []float64{1, 2, 4, 8, 16}
@@ -188,7 +188,7 @@ func TestEmptyInput(t *testing.T) {
 			return ResidualPlot([]Residuals{{Name: "x", Freq: []float64{1}, Value: []float64{nan}}}, Options{})
 		},
 		"lcurve empty": func() (*Figure, error) { return LCurve(nil, Options{}) },
-		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3, false}}, 0}}, Options{}) },
+		"lcurve ≤ 0":   func() (*Figure, error) { return LCurve([]LPath{{"S", []LPoint{{1, 2, -3, false}}, 0, nil}}, Options{}) },
 		"chi2 NaN": func() (*Figure, error) {
 			return Chi2Map(Grid{X: []float64{0}, Y: []float64{0}, Values: []float64{nan}}, Options{})
 		},
