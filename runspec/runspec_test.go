@@ -16,6 +16,7 @@ import (
 	"testing"
 	"vcz/dataset"
 
+	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon"
 	"vcz/recon/simulate"
@@ -518,6 +519,27 @@ func TestProblemFiles(t *testing.T) {
 	} {
 		if _, _, err := c.s.Problem(d); err == nil || !strings.HasPrefix(err.Error(), c.want) || !strings.Contains(err.Error(), "none.") {
 			t.Errorf("%+v: error %v, want one starting %q and naming the file", c.s, err, c.want)
+		}
+	}
+}
+
+// TestStartFileFlux checks that a start image whose pixels are not finite, or whose flux is
+// not positive, is refused naming the file and the option, before any reconstruction.
+func TestStartFileFlux(t *testing.T) {
+	d := data(t)
+	dir := t.TempDir()
+	for name, v := range map[string]float64{"nan.fits": math.NaN(), "zero.fits": 0, "negative.fits": -1} {
+		p := filepath.Join(dir, name)
+		im := &fitsimage.Image{NX: 8, NY: 8, Pixel: 0.2 * recon.Mas, Data: make([]float64, 64)}
+		for i := range im.Data {
+			im.Data[i] = v
+		}
+		if err := fitsimage.WriteFile(p, im); err != nil {
+			t.Fatal(err)
+		}
+		_, _, err := Spec{Start: Start{Kind: StartFile, File: p}}.Problem(d)
+		if err == nil || !strings.Contains(err.Error(), "-start: "+p+": start image has") {
+			t.Errorf("%s: %v", name, err)
 		}
 	}
 }

@@ -404,6 +404,16 @@ func (s *Spec) start() (recon.Start, error) {
 		if im.NX != im.NY || im.Planes > 1 {
 			return st, fmt.Errorf("%s: start image must be a square 2-D image, not %d × %d × %d", s.Start.File, im.NX, im.NY, max(im.Planes, 1))
 		}
+		flux := 0.0
+		for _, v := range im.Data {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return st, fmt.Errorf("%s: start image has pixels that are not finite (%v)", s.Start.File, v)
+			}
+			flux += v
+		}
+		if !(flux > 0) || math.IsInf(flux, 0) {
+			return st, fmt.Errorf("%s: start image has total flux %g; it must be positive", s.Start.File, flux)
+		}
 		st = recon.Start{Kind: recon.StartImage, Image: im.Data, ImageN: im.NX, ImagePixel: im.Pixel}
 	default:
 		st = recon.Start{Kind: recon.StartAuto}
