@@ -307,6 +307,12 @@ func TestWarnings(t *testing.T) {
 		})), "HDU 5: OI_WAVELENGTH 'HNARROW' has EFF_WAVE from 1.65 to 1.65 m, outside the 0.1–30 µm of optical and infrared interferometry; check the unit (metres)"},
 		{"phase-huge", encodeUnchecked(t, edited(func(f *File) { f.T3[0].Rows[0].Phi[0] = 1e300 })),
 			"HDU 8: OI_T3 has 1 value of T3PHI beyond ±720° (up to 1e+300°); phases are in degrees"},
+		{"baselines-tiny", encodeUnchecked(t, edited(func(f *File) {
+			for i := range f.Vis2[1].Rows {
+				f.Vis2[1].Rows[i].UCoord *= 1e-300
+				f.Vis2[1].Rows[i].VCoord *= 1e-300
+			}
+		})), "HDU 7: OI_VIS2 has projected baselines up to 5.6e-299 m, outside 1 cm–100 km; check the unit of UCOORD and VCOORD (metres)"},
 		{"v2-negative", encodeUnchecked(t, edited(func(f *File) {
 			for _, r := range f.Vis2[1].Rows {
 				r.Data[0] = -1

@@ -15,8 +15,8 @@ const (
 )
 
 // implausible returns warnings for values the standard allows but no measurement gives:
-// wavelengths outside 0.1–30 µm, phases beyond ±720°, and tables whose every V² is
-// negative. Each is one line naming the table.
+// wavelengths outside 0.1–30 µm, baselines all under 1 cm or beyond 100 km, phases beyond
+// ±720°, and tables whose every V² is negative. Each is one line naming the table.
 func implausible(f *File) []string {
 	var w []string
 	for _, t := range f.Wavelengths {
@@ -59,6 +59,34 @@ func implausible(f *File) []string {
 			rows[i], flags[i] = r.Phi, r.Flag
 		}
 		phases(t.HDU, extVis, "VISPHI", rows, flags)
+	}
+	// baselines warns of a table whose projected baselines are all shorter than 1 cm or any
+	// longer than 100 km: no optical interferometer has either, so the unit is likely wrong.
+	baselines := func(hdu int, ext string, b []float64) {
+		lo, hi := math.Inf(1), 0.0
+		for _, x := range b {
+			if !math.IsNaN(x) {
+				hi = math.Max(hi, x)
+				lo = math.Min(lo, x)
+			}
+		}
+		if len(b) > 0 && (hi < 0.01 || hi > 1e5) {
+			w = append(w, fmt.Sprintf("HDU %d: %s has projected baselines up to %.3g m, outside 1 cm–100 km; check the unit of UCOORD and VCOORD (metres)", hdu, ext, hi))
+		}
+	}
+	for _, t := range f.Vis2 {
+		var b []float64
+		for _, r := range t.Rows {
+			b = append(b, math.Hypot(r.UCoord, r.VCoord))
+		}
+		baselines(t.HDU, extVis2, b)
+	}
+	for _, t := range f.T3 {
+		var b []float64
+		for _, r := range t.Rows {
+			b = append(b, math.Hypot(r.U1Coord, r.V1Coord), math.Hypot(r.U2Coord, r.V2Coord))
+		}
+		baselines(t.HDU, extT3, b)
 	}
 	for _, t := range f.Vis2 {
 		pos, neg := 0, 0
