@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -97,6 +98,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	stretch := registerStretch(fs)
 	quiet := fs.Bool("quiet", false, quietUsage)
 	strict := fs.Bool("strict", false, strictUsage+"; with -collect, any warning in the merged summary")
+	asJSON := fs.Bool("json", false, "print the summary (as summary.json holds it) on stdout instead of the table")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -112,7 +114,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *out == "" {
 			*out = dirs[0]
 		}
-		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict, st)
+		return collectShards(*out, append([]string{*out}, dirs...), stdout, stderr, *quiet, *strict, *asJSON, st)
 	}
 	shared, err := opts.Spec()
 	if err != nil {
@@ -161,14 +163,18 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if sr.Montage != nil && !*quiet {
 		fmt.Fprintf(stderr, "note: montage: %v\n", sr.Montage)
 	}
-	printBatchSummary(stdout, sum, *out, name)
+	printBatchSummary(stdout, sum, *out, name, *asJSON)
 	// The verdict comes last, after the joint run's messages, whatever happens there.
 	if *joint {
 		if sum.Failed() > 0 {
 			printBatchWarnings(stderr, sum)
 			return failure(fmt.Errorf("%d of %d epochs failed; the joint reconstruction needs them all", sum.Failed(), len(sr.Epochs)))
 		}
-		if err := runJoint(b, sr.Epochs, sr.Results, lambda, stdout, stderr, *quiet); err != nil {
+		jointOut := stdout
+		if *asJSON {
+			jointOut = stderr // stdout holds the JSON summary alone
+		}
+		if err := runJoint(b, sr.Epochs, sr.Results, lambda, jointOut, stderr, *quiet); err != nil {
 			printBatchWarnings(stderr, sum)
 			return err
 		}
@@ -192,7 +198,7 @@ func printBatchWarnings(w io.Writer, s *batch.Summary) int {
 }
 
 // collectShards merges the shard summaries found in dirs into out/summary.json.
-func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict bool, st preview.Stretch) error {
+func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict, asJSON bool, st preview.Stretch) error {
 	sum, err := workflow.Collect(dirs)
 	if err != nil {
 		return err
@@ -201,9 +207,9 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 		return failure(err)
 	}
 	if err := workflow.WriteMontage(out, "", sum.Rows, nil, "", st); err != nil && !quiet {
-		fmt.Fprintf(stdout, "note: montage: %v\n", err)
+		fmt.Fprintf(stderr, "note: montage: %v\n", err)
 	}
-	printBatchSummary(stdout, sum, out, "summary")
+	printBatchSummary(stdout, sum, out, "summary", asJSON)
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
 		return failure(fmt.Errorf("%d of %d epochs failed", n, len(sum.Rows)))
@@ -211,7 +217,14 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 	return strictFailure(strict, "batch -collect", nwarn)
 }
 
-func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string) {
+// printBatchSummary prints the summary as a table, or with asJSON as summary.json holds it.
+func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string, asJSON bool) {
+	if asJSON {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		enc.Encode(s)
+		return
+	}
 	skipped, warned := 0, 0
 	for _, r := range s.Rows {
 		if r.Skipped {

@@ -42,9 +42,7 @@ func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.Ep
 	if err := b.WriteJointMontage(results, res); err != nil && !quiet {
 		fmt.Fprintf(stderr, "note: joint montage: %v\n", err)
 	}
-	{
-		fmt.Fprintf(stdout, "Joint: temporal weight %.4g, χ²ᵣ %.4g over all epochs, %d iterations; wrote %s\n",
-			res.Lambda, res.Chi2rAll, res.Iter, filepath.Join(out, "joint.fits"))
-	}
+	fmt.Fprintf(stdout, "Joint: temporal weight %.4g, χ²ᵣ %.4g over all epochs, %d iterations; wrote %s\n",
+		res.Lambda, res.Chi2rAll, res.Iter, filepath.Join(out, "joint.fits"))
 	return nil
 }

@@ -411,3 +411,20 @@ func TestOneNamePerIdea(t *testing.T) {
 		t.Errorf("fit -help-model: exit %d, %q", code, out)
 	}
 }
+
+// TestJSONEveryCommand checks that simulate and batch, like image, fit, compare and inspect,
+// print one JSON object on stdout with -json, and nothing else there.
+func TestJSONEveryCommand(t *testing.T) {
+	dir := t.TempDir()
+	out, errs, code := runCmd(t, "simulate", "-plan", filepath.Join("..", "..", "examples", "plan-six-snapshot.toml"),
+		"-model", "ud:diameter=2", "-o", filepath.Join(dir, "s.oifits"), "-json")
+	var sim map[string]any
+	if code != exitOK || json.Unmarshal([]byte(out), &sim) != nil || sim["output"] != filepath.Join(dir, "s.oifits") {
+		t.Fatalf("simulate -json: exit %d, %q, %s", code, out, errs)
+	}
+	out, errs, code = runCmd(t, append(append([]string{"batch", "-o", filepath.Join(dir, "b"), "-json"}, batchFast...), filepath.Join(dir, "s.oifits"))...)
+	var sum map[string]any
+	if code != exitOK || json.Unmarshal([]byte(out), &sum) != nil || sum["rows"] == nil {
+		t.Fatalf("batch -json: exit %d, %q, %s", code, out, errs)
+	}
+}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
 	"io"
 	"strings"
@@ -48,6 +49,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
 	helpChrom := fs.Bool("help-chromatic", false, "describe chromatic models and exit")
 	fs.Bool("quiet", false, quietUsage+"; simulate prints nothing else there")
+	asJSON := fs.Bool("json", false, "print a summary as one JSON object on stdout")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -118,8 +120,14 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if err := oifits.WriteFile(*out, f); err != nil {
 		return failure(err)
 	}
-	fmt.Fprint(stdout, rep.String())
-	fmt.Fprintf(stdout, "Wrote %s\n", *out)
+	sum := simulateSummary{Output: *out, HourAngles: rep.HourAngles, Skipped: rep.Skipped, SkippedHourAngles: append([]float64{}, rep.SkippedHourAngles...),
+		Stations: rep.Stations, Baselines: rep.Baselines, Triangles: rep.Triangles, Channels: rep.Channels,
+		Points:      map[string]int{"vis2": rep.Vis2, "t3": rep.T3, "vis": rep.Vis, "visdiff": rep.Diff},
+		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected}
+	if !*asJSON {
+		fmt.Fprint(stdout, rep.String())
+		fmt.Fprintf(stdout, "Wrote %s\n", *out)
+	}
 	if *writeImage != "" {
 		px := 0.0
 		if *pixel != "" {
@@ -141,9 +149,36 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		if err := output.WriteModel(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
 			return failure(err)
 		}
-		fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
+		if !*asJSON {
+			fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
+		}
+		sum.Image = *writeImage
+	}
+	if *asJSON {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(sum); err != nil {
+			return failure(err)
+		}
 	}
 	return nil
+}
+
+// simulateSummary is the -json output of simulate: the files written and what the plan
+// observed (simulate.Report), with the data points written per table type.
+type simulateSummary struct {
+	Output            string         `json:"output"`
+	Image             string         `json:"image,omitempty"`
+	HourAngles        int            `json:"hour_angles"`
+	Skipped           int            `json:"skipped_hour_angles"`
+	SkippedHourAngles []float64      `json:"skipped_hour_angle_values_h"`
+	Stations          int            `json:"stations"`
+	Baselines         int            `json:"baselines_per_hour_angle"`
+	Triangles         int            `json:"triangles_per_hour_angle"`
+	Channels          int            `json:"channels"`
+	Points            map[string]int `json:"points"`
+	BaselineMin       float64        `json:"baseline_min_m"`
+	BaselineMax       float64        `json:"baseline_max_m"`
 }
 
 // btoi is 1 for true and 0 for false.
