@@ -134,6 +134,23 @@ type CompareRun struct {
 	Result  *recon.Result // nil when the run failed
 	Err     error         // why it failed
 	Seconds float64
+
+	// Boot is the bootstrap of the result (Comparison.Bootstrap), nil without one; BootErr
+	// says why it failed.
+	Boot    *Bootstrap
+	BootErr error
+}
+
+// Bootstrap runs the bootstrap of every successful run around its own result (RunBootstrap
+// with opt), one regularizer after another, so that the report can show each one's per-pixel
+// spread beside its image.
+func (c *Comparison) Bootstrap(opt BootstrapOptions) {
+	for _, r := range c.Runs {
+		if r.Result == nil {
+			continue
+		}
+		r.Boot, r.BootErr = RunBootstrap(r.Problem, r.Settings, r.Result, opt)
+	}
 }
 
 // CheckData refuses data that no workflow reconstructs: several targets, or no point to

@@ -41,6 +41,11 @@ type CompareRow struct {
 	Warnings []string `json:"warnings"`
 	Error    string   `json:"error,omitempty"`
 	FITS     string   `json:"fits,omitempty"`
+	// BootStd is the bootstrap standard deviation map (FITS) of the image with the
+	// replicates that gave one, when compare ran a bootstrap; BootError why it failed.
+	BootStd        string `json:"bootstrap_std,omitempty"`
+	BootReplicates int    `json:"bootstrap_replicates,omitempty"`
+	BootError      string `json:"bootstrap_error,omitempty"`
 }
 
 // CompareReport is the outcome of a comparison, the JSON form of compare.json.
@@ -102,6 +107,22 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 			row.Converged = res.Converged || res.Status.Converged()
 			for _, t := range res.Chi2 {
 				row.Chi2ByType[t.Type.String()] = t.Chi2r
+			}
+			if b := r.Boot; b != nil {
+				paths, err := outs.WriteBootstrap(out, run, output.BootstrapMaps{Mean: b.Mean, Std: b.Std, Significance: b.Significance,
+					Replicates: len(b.Images), Good: b.Good(), NotConverged: len(b.NotConverged), Seed: b.Seed, Unit: b.Unit.String(),
+					Units: b.Units, Aligned: b.Aligned})
+				if err != nil {
+					return nil, err
+				}
+				row.BootStd, row.BootReplicates = filepath.Base(paths.Std), b.Good()
+				opt := preview.Options{Title: r.Name + ": bootstrap standard deviation per pixel", Pixel: res.Grid.Pixel / recon.Mas,
+					Subtitle: fmt.Sprintf("%d replicates, resampled by %s", b.Good(), b.Unit)}
+				if err := preview.WriteFile(filepath.Join(dir, r.Name+"-boot-std.png"), b.Std, res.Grid.N, res.Grid.N, opt); err != nil {
+					return nil, err
+				}
+			} else if r.BootErr != nil {
+				row.BootError = output.OneLine(r.BootErr.Error())
 			}
 			if lp, ok := output.LCurve(r.Name, res); ok {
 				if fig, err := plots.LCurve([]plots.LPath{lp}, plots.Options{Title: "Weight path — " + r.Name}); err == nil {
@@ -446,7 +467,7 @@ th:first-child, td:first-child { text-align: left; }
 <ul class="files">{{range .Files}}<li><a href="{{.Name}}">{{.Name}}</a> — {{.What}}</li>
 {{end}}</ul>
 <h2>Each regularizer</h2>
-{{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Warnings}}<ul class="warned">{{range .Warnings}}<li>Warning: {{.}}</li>{{end}}</ul>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}
+{{range .Each}}<h3>{{.Name}}</h3>{{if .Error}}<p class="failed">Failed: {{.Error}}</p>{{end}}{{if .Warnings}}<ul class="warned">{{range .Warnings}}<li>Warning: {{.}}</li>{{end}}</ul>{{end}}{{if .Image}}<img src="{{.Image}}" alt="{{.Name}} image">{{end}}{{if .LCurve}}<img src="{{.LCurve}}" alt="{{.Name}} L-curve">{{end}}{{if .BootStd}}<img src="{{.BootStd}}" alt="{{.Name}} bootstrap standard deviation">{{end}}
 {{end}}
 </body>
 </html>
@@ -462,9 +483,9 @@ type reportPlot struct {
 }
 
 type reportEach struct {
-	Name, Error   string
-	Warnings      []string
-	Image, LCurve template.URL
+	Name, Error            string
+	Warnings               []string
+	Image, LCurve, BootStd template.URL
 }
 
 func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretch preview.Stretch) error {
@@ -490,6 +511,9 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		if r.FITS != "" {
 			data.Files = append(data.Files, reportFile{r.FITS, "image of " + r.Regularizer + " (FITS)"})
 		}
+		if r.BootStd != "" {
+			data.Files = append(data.Files, reportFile{r.BootStd, "bootstrap standard deviation of " + r.Regularizer + " (FITS)"})
+		}
 	}
 	for _, f := range []reportFile{
 		{"compare-spread.fits", "spread map (FITS)"}, {"compare-robust.fits", "robust features (FITS)"},
@@ -507,6 +531,9 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		if r.Err == nil {
 			e.Image = dataURI(filepath.Join(dir, r.Name+".png"))
 			e.LCurve = dataURI(filepath.Join(dir, r.Name+"-lcurve.png"))
+			if r.Boot != nil {
+				e.BootStd = dataURI(filepath.Join(dir, r.Name+"-boot-std.png"))
+			}
 		}
 		data.Each = append(data.Each, e)
 	}

@@ -10,6 +10,7 @@ import (
 	"sync"
 	"time"
 
+	"vcz/dataset"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/regularizers"
@@ -72,11 +73,23 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	quiet := fs.Bool("quiet", false, quietUsage)
 	asJSON := fs.Bool("json", false, "print the table as JSON on stdout")
 	strict := fs.Bool("strict", false, strictUsage)
+	bootK := fs.Int("bootstrap", 0, "also reconstruct this many resamplings of the data around each regularizer's image, and show each one's per-pixel standard deviation in the report (0: none)")
+	bootUnit := fs.String("bootstrap-unit", "exposure", "what -bootstrap draws with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)")
+	bootSeed := fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
 	if fs.NArg() == 0 {
 		return badInputf("compare: no OIFITS file given (run 'vcz compare --help')")
+	}
+	bootOpt := workflow.BootstrapOptions{Replicates: *bootK, Seed: *bootSeed}
+	if *bootK == 1 || *bootK < 0 {
+		return badInputf("compare: -bootstrap %d: want 0 (none) or at least 2 replicates", *bootK)
+	}
+	if u, err := dataset.ParseUnit(*bootUnit); err != nil {
+		return badInputf("compare: -bootstrap-unit: %v", err)
+	} else {
+		bootOpt.Unit = u
 	}
 	if *out == "" {
 		base := filepath.Base(fs.Arg(0))
@@ -126,6 +139,12 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	t0 := time.Now()
 	cmp.Run(*parallel, spec.Workers, prog.hooks())
 	prog.finish()
+	if *bootK > 0 {
+		if !*quiet {
+			fmt.Fprintf(stderr, "bootstrap: %d resamplings around each image ...\n", *bootK)
+		}
+		cmp.Bootstrap(bootOpt)
+	}
 	rep, err := cmp.Write(*out, output.Outputs{Stretch: st}, time.Since(t0).Seconds())
 	if err != nil {
 		return failure(err)

@@ -306,3 +306,33 @@ func screenshot(t *testing.T, page string) {
 		t.Errorf("screenshot has %d distinct colours: blank or images missing", len(colours))
 	}
 }
+
+// TestCompareBootstrap checks that compare -bootstrap K writes, per regularizer, the
+// bootstrap maps with the image's world coordinates (fitsverify: 0 warnings, 0 errors) and
+// shows the standard deviation map in the report, and refuses K = 1.
+func TestCompareBootstrap(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	out := filepath.Join(dir, "cmp")
+	rep := compareOn(t, data, out, "-reg", "tv,mem", "-n", "32", "-iter", "60", "-starts", "1", "-bootstrap", "4")
+	html, err := os.ReadFile(filepath.Join(out, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	fv := requireTool(t, "fitsverify")
+	for _, r := range rep.Rows {
+		if r.BootStd != r.Regularizer+"-boot-std.fits" || r.BootReplicates != 4 {
+			t.Fatalf("%s: bootstrap %q of %d replicates (%s)", r.Regularizer, r.BootStd, r.BootReplicates, r.BootError)
+		}
+		vout, err := exec.Command(fv, "-q", filepath.Join(out, r.BootStd)).CombinedOutput()
+		if err != nil || !strings.HasPrefix(string(vout), "verification OK") {
+			t.Errorf("fitsverify %s: %v: %s", r.BootStd, err, vout)
+		}
+		if !strings.Contains(string(html), r.Regularizer+" bootstrap standard deviation") || !strings.Contains(string(html), r.BootStd) {
+			t.Errorf("the report shows no bootstrap map of %s", r.Regularizer)
+		}
+	}
+	if _, errs, code := runCmd(t, "compare", "-bootstrap", "1", "-o", filepath.Join(dir, "x"), data); code != exitBadInput {
+		t.Errorf("-bootstrap 1: exit %d: %s", code, errs)
+	}
+}
