@@ -167,7 +167,7 @@ is written all the same. The warnings go
 	             and in the text tables
 
 A summary with warnings says "finished with N warnings" instead of
-"converged". -strict (image, demo, compare, batch, batch -collect) exits with
+"converged". -strict (image, demo, compare, batch, batch -collect, fit) exits with
 status 1 when there is any warning, after writing every output; without it
 the status stays 0. Neither the warnings nor -strict enter the batch hash,
 so a rerun with -strict finds finished epochs complete and reports their

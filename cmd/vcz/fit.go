@@ -108,6 +108,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	strict := registerStrict(fs)
 	bootK := fs.Int("bootstrap", 0, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootUnit := fs.String("bootstrap-unit", "exposure", "what -bootstrap draws with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)")
 	bootSeed := fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates")
@@ -246,6 +247,12 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 	} else {
 		sum.WriteText(stdout, *n)
+	}
+	if errors.Is(fitErr, fit.ErrNotConverged) {
+		// As image does: a run that did not reach its goal is a warning, the result is
+		// still given, and -strict makes it a failure.
+		printWarnings(stderr, "", []string{strings.TrimPrefix(fitErr.Error(), "fit: ")})
+		return strictFailure(*strict, "fit", 1)
 	}
 	if fitErr != nil {
 		return failure(fitErr)
