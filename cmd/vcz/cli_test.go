@@ -428,3 +428,18 @@ func TestJSONEveryCommand(t *testing.T) {
 		t.Fatalf("batch -json: exit %d, %q, %s", code, out, errs)
 	}
 }
+
+// TestInspectPathsAsGiven checks that inspect lists the files by the paths the user gave,
+// so that files of the same name in different folders are told apart.
+func TestInspectPathsAsGiven(t *testing.T) {
+	dir := t.TempDir()
+	var paths []string
+	for _, night := range []string{"n1", "n2"} {
+		os.Mkdir(filepath.Join(dir, night), 0o755)
+		paths = append(paths, writeDemoData(t, filepath.Join(dir, night)))
+	}
+	out, errs, code := runCmd(t, append([]string{"inspect"}, paths...)...)
+	if code != exitOK || !strings.Contains(out, paths[0]+", "+paths[1]) {
+		t.Errorf("exit %d: %q %s", code, out, errs)
+	}
+}

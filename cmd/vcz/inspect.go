@@ -49,6 +49,9 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	rep := output.NewInspectReport(d)
+	// The files as the user named them: three nights in three folders, all named
+	// data.oifits, are told apart by their paths.
+	rep.Files = append([]string(nil), fs.Args()...)
 	rep.Breakdown = output.Breakdown(files, d)
 	if *plotDir != "" {
 		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
