@@ -257,3 +257,10 @@ func runHelp(args []string, stdout, stderr io.Writer) error {
 	}
 	return c.run([]string{"--help"}, stdout, stderr)
 }
+
+// flagGiven reports whether the flag name was set on the command line.
+func flagGiven(fs *flag.FlagSet, name string) bool {
+	given := false
+	fs.Visit(func(f *flag.Flag) { given = given || f.Name == name })
+	return given
+}

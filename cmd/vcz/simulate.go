@@ -41,7 +41,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	imagePath := fs.String("image", "", "model as a FITS image instead of -model")
 	chromPath := fs.String("chromatic", "", "chromatic model (TOML) instead of -model")
 	out := fs.String("o", "", "output OIFITS file")
-	seed := fs.Int64("seed", -1, "noise seed, overriding the plan's seed")
+	seed := fs.Uint64("seed", 0, "noise seed, overriding the plan's seed (the plan's when not given)")
 	writeImage := fs.String("write-image", "", "also write the -model as a FITS image to this file (same world coordinates as reconstructions)")
 	n := fs.Int("n", 128, "grid size in pixels of -write-image")
 	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the simulated data's resolution)")
@@ -90,8 +90,8 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInput(err)
 	}
-	if *seed >= 0 {
-		plan.Seed = uint64(*seed)
+	if flagGiven(fs, "seed") {
+		plan.Seed = *seed
 	}
 	var sky simulate.Sky
 	var m *model.Model

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"bytes"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -125,5 +127,31 @@ func TestSimulateChromatic(t *testing.T) {
 	}
 	if _, err := os.Stat(out2); err == nil {
 		t.Fatal("an output file was written for a bad model")
+	}
+}
+
+// TestSimulateSeed checks that -seed is unsigned like every other command's seed: a given
+// seed (0 included) replaces the plan's, none keeps it, and -1 is refused as a usage error.
+func TestSimulateSeed(t *testing.T) {
+	dir := t.TempDir()
+	plan := filepath.Join("..", "..", "examples", "plan-six-snapshot.toml")
+	read := func(args ...string) []byte {
+		t.Helper()
+		out := filepath.Join(dir, fmt.Sprintf("s%d.oifits", len(args)))
+		if _, errs, code := runCmd(t, append([]string{"simulate", "-plan", plan, "-model", "ud:diameter=2", "-o", out}, args...)...); code != exitOK {
+			t.Fatalf("%q: exit %d: %s", args, code, errs)
+		}
+		b, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return b
+	}
+	plain, zero, seven := read(), read("-seed", "0"), read("-seed", "7", "-quiet")
+	if bytes.Equal(plain, seven) || bytes.Equal(zero, seven) {
+		t.Error("-seed did not change the noise")
+	}
+	if _, _, code := runCmd(t, "simulate", "-plan", plan, "-model", "ud:diameter=2", "-o", filepath.Join(dir, "x.oifits"), "-seed", "-1"); code != exitBadInput {
+		t.Errorf("-seed -1: exit %d", code)
 	}
 }
