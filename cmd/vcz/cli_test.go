@@ -400,7 +400,7 @@ func TestQuietKeepsStdout(t *testing.T) {
 // and batch (batch's earlier -out still works), -iter the iteration limit of image and fit
 // (fit's earlier -max-iter still works), and fit describes its models with -help-model.
 func TestOneNamePerIdea(t *testing.T) {
-	for _, c := range [][]string{{"image", "o"}, {"compare", "o"}, {"batch", "o"}, {"batch", "out"}, {"image", "iter"}, {"fit", "iter"}, {"fit", "max-iter"}, {"fit", "help-model"}, {"batch", "cpus"}, {"compare", "parallel"}} {
+	for _, c := range [][]string{{"image", "o"}, {"compare", "o"}, {"batch", "o"}, {"batch", "out"}, {"image", "iter"}, {"fit", "iter"}, {"fit", "max-iter"}, {"fit", "help-model"}, {"batch", "cpus"}, {"compare", "parallel"}, {"fit", "write-n"}, {"fit", "write-pixel"}, {"simulate", "write-n"}, {"simulate", "write-pixel"}} {
 		out, _, _ := runCmd(t, c[0], "--help")
 		if !strings.Contains(out, "  -"+c[1]+" ") && !strings.Contains(out, "  -"+c[1]+"\n") {
 			t.Errorf("%s has no -%s", c[0], c[1])

@@ -103,8 +103,10 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	gridRefit := fs.Bool("grid-refit", false, "refit the model's free parameters at every grid cell (slower)")
 	writeImage := fs.String("write-image", "", "write the fitted model as a FITS image to this file")
 	saveModel := fs.String("save-model", "", "write the fitted model as a TOML model file (for -model and 'vcz image -from-model')")
-	n := fs.Int("n", 128, "grid size in pixels of -write-image")
-	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
+	n := fs.Int("write-n", 128, "grid size in pixels of -write-image")
+	fs.IntVar(n, "n", 128, "earlier name of -write-n (in image, -n is the reconstruction's grid)")
+	pixel := fs.String("write-pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the resolution λmin/(2·Bmax))")
+	fs.StringVar(pixel, "pixel", "", "earlier name of -write-pixel (in image, -pixel is the reconstruction's pixel)")
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
@@ -225,7 +227,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		px := 0.0
 		if *pixel != "" {
 			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
-				return badInputf("fit: -pixel %q: want a positive angle such as 0.1mas", *pixel)
+				return badInputf("fit: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		}
 		if err := fo.WriteImage(*writeImage, *n, px, files, d); err != nil {

@@ -43,8 +43,10 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	out := fs.String("o", "", "output OIFITS file")
 	seed := fs.Uint64("seed", 0, "noise seed, overriding the plan's seed (the plan's when not given)")
 	writeImage := fs.String("write-image", "", "also write the -model as a FITS image to this file (same world coordinates as reconstructions)")
-	n := fs.Int("n", 128, "grid size in pixels of -write-image")
-	pixel := fs.String("pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the simulated data's resolution)")
+	n := fs.Int("write-n", 128, "grid size in pixels of -write-image")
+	fs.IntVar(n, "n", 128, "earlier name of -write-n (in image, -n is the reconstruction's grid)")
+	pixel := fs.String("write-pixel", "", "pixel size of -write-image, e.g. 0.1mas (default: a quarter of the simulated data's resolution)")
+	fs.StringVar(pixel, "pixel", "", "earlier name of -write-pixel (in image, -pixel is the reconstruction's pixel)")
 	helpPlan := fs.Bool("help-plan", false, "describe every key of an observing plan and exit")
 	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
 	helpChrom := fs.Bool("help-chromatic", false, "describe chromatic models and exit")
@@ -132,7 +134,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		px := 0.0
 		if *pixel != "" {
 			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
-				return badInputf("simulate: -pixel %q: want a positive angle such as 0.1mas", *pixel)
+				return badInputf("simulate: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
 			}
 		} else {
 			d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
