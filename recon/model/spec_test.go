@@ -138,7 +138,7 @@ func TestLoad(t *testing.T) {
 }
 
 func TestKeyLine(t *testing.T) {
-	src := []byte("seed = 3\n[site]\nlatitude = -20\n\n[[station]]\nname = \"A\"\n[[station]]\nname = \"B\"\nnmae = \"x\"\n[noise]\n\"v2_floor\" = 1\n")
+	src := []byte("seed = 3\n[site]\nlatitude = -20\n\n[[station]]\nname = \"A\"\n[[station]]\nname = \"B\"\nnmae = \"x\"\n[noise]\n\"vis2_floor\" = 1\n")
 	for _, tc := range []struct {
 		key   []string
 		index int
@@ -150,7 +150,7 @@ func TestKeyLine(t *testing.T) {
 		{[]string{"station", "name"}, 1, 8},
 		{[]string{"station", "nmae"}, -1, 9},
 		{[]string{"station"}, 1, 7},
-		{[]string{"noise", "v2_floor"}, -1, 11},
+		{[]string{"noise", "vis2_floor"}, -1, 11},
 		{[]string{"noise", "other"}, -1, 0},
 	} {
 		if got := KeyLine(src, tc.key, tc.index); got != tc.want {

@@ -83,9 +83,9 @@ to = 1.72
 channels = 8
 
 [noise]
-v2_relative = 0.04
-v2_floor = 0.001
-closure_phase = 1.5
+vis2_relative = 0.04
+vis2_floor = 0.001
+t3phi_floor = 1.5
 t3amp_relative = 0.06
 t3amp_floor = 0.0005
 `

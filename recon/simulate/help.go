@@ -64,12 +64,12 @@ Top level
                           most 180, so phases are poorly known near |V| = 0
   add = true              add Gaussian noise with these errors (default true);
                           false writes exact values with the same errors
-  v2_relative = 0.05      relative error of VIS2DATA (default 0.05)
-  v2_floor = 0.002        absolute floor of VIS2ERR, > 0 (default 0.002)
-  closure_phase = 1.0     floor of T3PHIERR in degrees, > 0 (default 1)
+  vis2_relative = 0.05    relative error of VIS2DATA (default 0.05)
+  vis2_floor = 0.002      absolute floor of VIS2ERR, > 0 (default 0.002)
+  t3phi_floor = 1.0       floor of T3PHIERR in degrees, > 0 (default 1)
   t3amp_relative = 0.05   relative error of T3AMP (default 0.05)
   t3amp_floor = 0.002     absolute floor of T3AMPERR, > 0 (default 0.002)
   visamp_relative = 0.03  relative error of VISAMP (default 0.03)
   visamp_floor = 0.002    absolute floor of VISAMPERR, > 0 (default 0.002)
-  visphase = 1.0          floor of VISPHIERR in degrees, > 0 (default 1)
+  visphi_floor = 1.0      floor of VISPHIERR in degrees, > 0 (default 1)
 `

@@ -123,14 +123,14 @@ type planFile struct {
 	} `toml:"wavelengths"`
 	Noise struct {
 		Add            *bool    `toml:"add"`
-		V2Relative     *float64 `toml:"v2_relative"`
-		V2Floor        *float64 `toml:"v2_floor"`
-		ClosurePhase   *float64 `toml:"closure_phase"`
+		V2Relative     *float64 `toml:"vis2_relative"`
+		V2Floor        *float64 `toml:"vis2_floor"`
+		ClosurePhase   *float64 `toml:"t3phi_floor"`
 		T3AmpRelative  *float64 `toml:"t3amp_relative"`
 		T3AmpFloor     *float64 `toml:"t3amp_floor"`
 		VisAmpRelative *float64 `toml:"visamp_relative"`
 		VisAmpFloor    *float64 `toml:"visamp_floor"`
-		VisPhase       *float64 `toml:"visphase"`
+		VisPhase       *float64 `toml:"visphi_floor"`
 	} `toml:"noise"`
 }
 
@@ -189,8 +189,11 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
-		return nil, &PlanError{File: name, Line: model.KeyLine(src, k, -1), Key: k.String(),
-			Err: errors.New("unknown key (see the plan key list in the help)")}
+		msg := "unknown key (see the plan key list in the help)"
+		if now, ok := renamedPlanKeys[k.String()]; ok {
+			msg = "unknown key; the noise keys are named after the data types now: " + now
+		}
+		return nil, &PlanError{File: name, Line: model.KeyLine(src, k, -1), Key: k.String(), Err: errors.New(msg)}
 	}
 	fail := func(key string, index int, format string, args ...any) error {
 		parts := strings.Split(key, ".")
@@ -453,11 +456,11 @@ func (p *Plan) Validate() error {
 		v   float64
 		pos bool
 	}{
-		{"noise.v2_relative", nz.V2Relative, false}, {"noise.v2_floor", nz.V2Floor, true},
-		{"noise.closure_phase", nz.ClosurePhase, true},
+		{"noise.vis2_relative", nz.V2Relative, false}, {"noise.vis2_floor", nz.V2Floor, true},
+		{"noise.t3phi_floor", nz.ClosurePhase, true},
 		{"noise.t3amp_relative", nz.T3AmpRelative, false}, {"noise.t3amp_floor", nz.T3AmpFloor, true},
 		{"noise.visamp_relative", nz.VisAmpRelative, false}, {"noise.visamp_floor", nz.VisAmpFloor, true},
-		{"noise.visphase", nz.VisPhase, true},
+		{"noise.visphi_floor", nz.VisPhase, true},
 	} {
 		if math.IsNaN(c.v) || math.IsInf(c.v, 0) || c.v < 0 || (c.pos && c.v == 0) {
 			if c.pos {
@@ -489,4 +492,13 @@ func (p *Plan) combined() []int {
 		}
 	}
 	return out
+}
+
+// renamedPlanKeys are the noise keys of earlier versions, by their names now (spelled as the
+// data types of -use).
+var renamedPlanKeys = map[string]string{
+	"noise.v2_relative":   "noise.vis2_relative",
+	"noise.v2_floor":      "noise.vis2_floor",
+	"noise.closure_phase": "noise.t3phi_floor",
+	"noise.visphase":      "noise.visphi_floor",
 }

@@ -82,7 +82,7 @@ func TestPlanErrors(t *testing.T) {
 		{"combine", "mjd = 61204", "mjd = 61204\ncombine = [\"K1\", \"K9\"]", `observation.combine: no station named "K9"`},
 		{"write", `write = ["vis2", "t3", "vis"]`, `write = ["vis2", "cp"]`, `:8: write: unknown data type "cp"`},
 		{"latitude", "latitude = -19.6", "", `site: missing latitude`},
-		{"floor", "v2_floor = 0.002", "v2_floor = 0", `noise.v2_floor: 0: must be positive`},
+		{"floor", "vis2_floor = 0.002", "vis2_floor = 0", `noise.vis2_floor: 0: must be positive`},
 		{"widths", "width = [0.04]", "width = [0.04, 0.05]", `wavelengths.width: needs one value or one per centre`},
 		{"hour angles", "hour_angles = [-2.5, -1.0, 0.0, 1.2, 2.6]", "hour_angle_start = 1\nhour_angles = [0]", `give either hour_angles or hour_angle_start`},
 		{"duplicate station", "name = \"K4\"", "name = \"K1\"", `station name "K1" used twice`},
@@ -117,5 +117,15 @@ func TestHourAngleRange(t *testing.T) {
 		if p.HourAngles[i] != want[i] {
 			t.Errorf("hour angles %v, want %v", p.HourAngles, want)
 		}
+	}
+}
+
+// TestRenamedNoiseKeys checks that a plan with a noise key of earlier versions is refused
+// with the key's line and its name now.
+func TestRenamedNoiseKeys(t *testing.T) {
+	src := strings.Replace(DemoPlanTOML, "vis2_relative", "v2_relative", 1)
+	_, err := ParsePlan([]byte(src), "old.toml")
+	if err == nil || !strings.Contains(err.Error(), "noise.vis2_relative") || !strings.Contains(err.Error(), "old.toml:") {
+		t.Errorf("error %v", err)
 	}
 }
