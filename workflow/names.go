@@ -1,7 +1,10 @@
 package workflow
 
 import (
+	"errors"
 	"fmt"
+	"io/fs"
+	"os"
 	"strings"
 	"unicode"
 
@@ -77,6 +80,25 @@ func checkCollected(s *batch.Summary) error {
 		}
 		if r.FITS != "" && r.FITS != r.Epoch+".fits" || r.PNG != "" && r.PNG != r.Epoch+".png" {
 			return fmt.Errorf("epoch %q names files %q and %q, not its own", r.Epoch, r.FITS, r.PNG)
+		}
+	}
+	return nil
+}
+
+// CheckEpochFiles refuses, before any work, an epoch whose data file is missing or is not a
+// regular file: that is bad input (exit 2), not an epoch that failed in its computation.
+func CheckEpochFiles(epochs []*Epoch) error {
+	for _, e := range epochs {
+		for _, f := range e.Files {
+			st, err := os.Stat(f)
+			switch {
+			case errors.Is(err, fs.ErrNotExist):
+				return inputError(f, fmt.Errorf("%s: no such file (epoch %q)", f, e.Name))
+			case err != nil:
+				return inputError(f, fmt.Errorf("%s: %v (epoch %q)", f, err, e.Name))
+			case !st.Mode().IsRegular():
+				return inputError(f, fmt.Errorf("%s: not a regular file (epoch %q)", f, e.Name))
+			}
 		}
 	}
 	return nil

@@ -138,6 +138,9 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err := workflow.CheckEpochNames(epochs, *joint); err != nil {
 		return err
 	}
+	if err := workflow.CheckEpochFiles(epochs); err != nil {
+		return err
+	}
 	if *joint && shard.N > 1 {
 		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)
 	}

@@ -389,3 +389,18 @@ func TestBatchStaleFITS(t *testing.T) {
 		t.Fatalf("skipped %v, %v: want the epoch with the stale FITS redone and the other kept", s.Rows[0].Skipped, s.Rows[1].Skipped)
 	}
 }
+
+// A data file that does not exist is bad input: batch refuses it before any work, naming the
+// file and its epoch, exit 2 (README: 2 bad input), and writes nothing.
+func TestBatchMissingFile(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 1)
+	out := filepath.Join(dir, "out")
+	_, errs, code := runCmd(t, "batch", "-o", out, files[0], filepath.Join(dir, "missing.oifits"))
+	if code != exitBadInput || !strings.Contains(errs, "missing.oifits: no such file") {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if m, _ := filepath.Glob(filepath.Join(out, "*.fits")); len(m) != 0 {
+		t.Errorf("wrote %v", m)
+	}
+}
