@@ -84,7 +84,7 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 	}
 	fmt.Fprintf(w, "%s after %d iterations: %s", conv, s.Iterations, s.Status)
 	if s.Starts > 1 {
-		fmt.Fprintf(w, " (best of %d starts: start %d", s.Starts, s.BestStart+1)
+		fmt.Fprintf(w, " (best of %d starts: start %d", s.Starts, s.BestStart)
 		if s.Seeded > 0 {
 			fmt.Fprintf(w, "; starts 2 to %d seeded from a χ² map of the free position", s.Seeded+1)
 		}

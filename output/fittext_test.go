@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"vcz/recon/fit"
+	"vcz/recon/model"
 )
 
 // The JSON form of detection limits gives Δmag = −2.5 log10 of the ratio (Pogson's
@@ -59,5 +60,20 @@ func TestFitSummaryText(t *testing.T) {
 	}
 	if rows != 10 {
 		t.Errorf("%d rows of limits, want 10 of 20 separations:\n%s", rows, out)
+	}
+}
+
+// TestBestStartCounted checks that -json counts the best start as the text does, from 1
+// (1 being the model's own values), not from 0 as fit.Result.Start does.
+func TestBestStartCounted(t *testing.T) {
+	m, err := model.Load("ud:diameter~1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := NewFitSummary(&fit.Result{Model: m, Start: 2, Converged: true}, 16)
+	var b strings.Builder
+	s.WriteText(&b, 0)
+	if s.BestStart != 3 || !strings.Contains(b.String(), "start 3") {
+		t.Errorf("best_start %d, text %q", s.BestStart, b.String())
 	}
 }

@@ -194,7 +194,7 @@ type FitSummary struct {
 	Converged    bool             `json:"converged"`
 	Status       string           `json:"status"`
 	Starts       int              `json:"starts"`
-	BestStart    int              `json:"best_start"`
+	BestStart    int              `json:"best_start"` // 1-based, as the text counts starts (1 = the model's own values)
 	Pairs        []FitPairJ       `json:"pairs"`
 	Detections   []FitDetectJ     `json:"significance"`
 	Grid         *FitGridJ        `json:"grid_search,omitempty"`
@@ -332,7 +332,7 @@ func NewFitSummary(res *fit.Result, starts int) FitSummary {
 	s := FitSummary{
 		Model: res.Model.String(), Chi2: JFloat(res.Chi2), N: res.N, DOF: res.DOF, Chi2r: JFloat(res.Chi2r),
 		Chi2ByType: map[string]Chi2J{}, Iterations: res.Iterations, Evals: res.Evals, Converged: res.Converged,
-		Status: res.Reason, Starts: starts, BestStart: res.Start, Seeded: res.Scanned, Plots: []string{},
+		Status: res.Reason, Starts: starts, BestStart: res.Start + 1, Seeded: res.Scanned, Plots: []string{},
 		Notices: append([]string{}, res.Notices...), Correlations: []FitCorrJ{},
 	}
 	for _, p := range res.Params {
