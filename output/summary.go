@@ -91,7 +91,7 @@ type InspectReport struct {
 	Wavelength  InspectRange        `json:"wavelength_um"`
 	Resolution  float64             `json:"resolution_mas"`
 	Largest     float64             `json:"largest_scale_mas"`
-	Grid        GridJ               `json:"suggested_grid"`
+	Grid        GridJ               `json:"grid"` // the grid vcz image would choose
 	MJD         InspectRange        `json:"mjd"`
 	Nights      int                 `json:"nights"`
 	// Breakdown is the data by night and instrument (Breakdown); empty when not computed.

@@ -27,15 +27,15 @@ import (
 
 // CompareRow is one line of compare.csv and compare.json: one regularizer's result.
 type CompareRow struct {
-	Regularizer string             `json:"regularizer"`
-	Weight      float64            `json:"weight"`
-	WeightAuto  bool               `json:"weight_auto"`
-	Chi2r       float64            `json:"chi2r"`
-	Chi2ByType  map[string]float64 `json:"chi2r_by_type"`
-	RegValue    float64            `json:"regularizer_value"`
-	Iterations  int                `json:"iterations"`
-	Converged   bool               `json:"converged"`
-	Seconds     float64            `json:"seconds"`
+	Regularizer string                  `json:"regularizer"`
+	Weight      float64                 `json:"weight"`
+	WeightAuto  bool                    `json:"weight_auto"`
+	Chi2r       float64                 `json:"chi2r"`
+	Chi2ByType  map[string]output.Chi2J `json:"chi2r_by_type"`
+	RegValue    float64                 `json:"regularizer_value"`
+	Iterations  int                     `json:"iterations"`
+	Converged   bool                    `json:"converged"`
+	Seconds     float64                 `json:"seconds"`
 	// Warnings is the quality verdict of the image (recon.Result.Warnings); an
 	// empty list when none or when the run failed.
 	Warnings []string `json:"warnings"`
@@ -48,16 +48,22 @@ type CompareRow struct {
 	BootError      string `json:"bootstrap_error,omitempty"`
 }
 
+// CompareGrid is the grid every regularizer of a comparison used, in the shape of the grid
+// of the other commands' JSON (output.GridJ): pixels per side, pixel and resolution in mas.
+type CompareGrid struct {
+	N             int     `json:"n"`
+	PixelMas      float64 `json:"pixel_mas"`
+	ResolutionMas float64 `json:"resolution_mas"`
+}
+
 // CompareReport is the outcome of a comparison, the JSON form of compare.json.
 type CompareReport struct {
-	Target        string       `json:"target"`
-	GridN         int          `json:"grid_n"`
-	PixelMas      float64      `json:"pixel_mas"`
-	ResolutionMas float64      `json:"resolution_mas"`
-	Seconds       float64      `json:"seconds"`
-	Alignment     string       `json:"alignment"`
-	Rows          []CompareRow `json:"rows"`
-	Shifts        [][2]int     `json:"shifts_px"`
+	Target    string       `json:"target"`
+	Grid      CompareGrid  `json:"grid"`
+	Seconds   float64      `json:"seconds"`
+	Alignment string       `json:"alignment"`
+	Rows      []CompareRow `json:"rows"`
+	Shifts    [][2]int     `json:"shifts_px"`
 	// Stretch is the display stretch of the panel (preview.Stretch's name), chosen from the
 	// images when -stretch is auto.
 	Stretch string `json:"stretch,omitempty"`
@@ -80,7 +86,7 @@ func fmtF(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
 // report.html. seconds is the time of the whole comparison, for the report.
 func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*CompareReport, error) {
 	d, choice, runs := c.Data, c.Grid, c.Runs
-	rep := &CompareReport{GridN: choice.N, PixelMas: choice.Pixel / recon.Mas, ResolutionMas: choice.Resolution / recon.Mas, Seconds: seconds}
+	rep := &CompareReport{Grid: CompareGrid{N: choice.N, PixelMas: choice.Pixel / recon.Mas, ResolutionMas: choice.Resolution / recon.Mas}, Seconds: seconds}
 	if len(d.Targets) == 1 {
 		rep.Target = d.Targets[0]
 	}
@@ -88,7 +94,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 	var err error
 	rep.Plots = []string{}
 	for _, r := range runs {
-		row := CompareRow{Regularizer: r.Name, Seconds: r.Seconds, Chi2ByType: map[string]float64{}, Warnings: []string{}}
+		row := CompareRow{Regularizer: r.Name, Seconds: r.Seconds, Chi2ByType: map[string]output.Chi2J{}, Warnings: []string{}}
 		if r.Err != nil {
 			row.Error = output.OneLine(r.Err.Error())
 			row.Weight, row.Chi2r, row.RegValue = math.NaN(), math.NaN(), math.NaN()
@@ -106,7 +112,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 			row.Warnings = output.NonNil(res.Warnings)
 			row.Converged = res.Converged || res.Status.Converged()
 			for _, t := range res.Chi2 {
-				row.Chi2ByType[t.Type.String()] = t.Chi2r
+				row.Chi2ByType[t.Type.String()] = output.Chi2J{N: t.N, Chi2r: t.Chi2r}
 			}
 			if b := r.Boot; b != nil {
 				paths, err := outs.WriteBootstrap(out, run, output.BootstrapMaps{Mean: b.Mean, Std: b.Std, Significance: b.Significance,
@@ -390,7 +396,7 @@ func writeCompareTable(dir string, rep *CompareReport) error {
 			rec := []string{r.Regularizer, fmtF(r.Weight), strconv.FormatBool(r.WeightAuto), fmtF(r.Chi2r)}
 			for _, t := range types {
 				if v, ok := r.Chi2ByType[t]; ok {
-					rec = append(rec, fmtF(v))
+					rec = append(rec, fmtF(v.Chi2r))
 				} else {
 					rec = append(rec, "")
 				}
@@ -446,12 +452,12 @@ th:first-child, td:first-child { text-align: left; }
 </head>
 <body>
 <h1>Regularizers compared: {{.Target}}</h1>
-<p>Grid {{.GridN}} × {{.GridN}} pixels of {{printf "%.4g" .PixelMas}} mas; nominal resolution λ/(2·B<sub>max</sub>) = {{printf "%.4g" .ResolutionMas}} mas. Every regularizer used this grid, the same start image and the same stopping rules. Total time {{printf "%.1f" .Seconds}} s.</p>
-<p class="caution">Caution: an image is one solution consistent with the data, not a photograph. Features smaller than the resolution λ/(2·B<sub>max</sub>) = {{printf "%.3g" .ResolutionMas}} mas are not constrained by the data, and a feature that only one regularizer shows is suspect.</p>
+<p>Grid {{.Grid.N}} × {{.Grid.N}} pixels of {{printf "%.4g" .Grid.PixelMas}} mas; nominal resolution λ/(2·B<sub>max</sub>) = {{printf "%.4g" .Grid.ResolutionMas}} mas. Every regularizer used this grid, the same start image and the same stopping rules. Total time {{printf "%.1f" .Seconds}} s.</p>
+<p class="caution">Caution: an image is one solution consistent with the data, not a photograph. Features smaller than the resolution λ/(2·B<sub>max</sub>) = {{printf "%.3g" .Grid.ResolutionMas}} mas are not constrained by the data, and a feature that only one regularizer shows is suspect.</p>
 <h2>Results</h2>
 <div class="scroll"><table>
 <tr><th>regularizer</th><th>weight μ</th><th>χ²ᵣ</th>{{range .Types}}<th>χ²ᵣ {{.}}</th>{{end}}<th>R(x)</th><th>iterations</th><th>converged</th><th>warnings</th><th>seconds</th><th>error</th></tr>
-{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{if .FITS}}<a href="{{.FITS}}">{{.Regularizer}}</a>{{else}}{{.Regularizer}}{{end}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{index $r.Chi2ByType .| printf "%.4g"}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
+{{range .Rows}}<tr{{if .Error}} class="failed"{{end}}><td>{{if .FITS}}<a href="{{.FITS}}">{{.Regularizer}}</a>{{else}}{{.Regularizer}}{{end}}</td>{{if .Error}}<td>–</td><td>–</td>{{range $.Types}}<td>–</td>{{end}}<td>–</td>{{else}}<td>{{printf "%.4g" .Weight}}{{if .WeightAuto}} (auto){{end}}</td><td>{{printf "%.4g" .Chi2r}}</td>{{$r := .}}{{range $.Types}}<td>{{with index $r.Chi2ByType .}}{{printf "%.4g" .Chi2r}}{{end}}</td>{{end}}<td>{{printf "%.4g" .RegValue}}</td>{{end}}<td>{{.Iterations}}</td><td>{{if .Error}}–{{else}}{{.Converged}}{{end}}</td><td{{if .Warnings}} class="warned"{{end}}>{{if .Error}}–{{else}}{{len .Warnings}}{{end}}</td><td>{{printf "%.1f" .Seconds}}</td><td>{{.Error}}</td></tr>
 {{end}}</table></div>
 {{if .Panel}}<h2>Images on one colour scale</h2>{{if .Stretch}}<p>Display stretch: {{.Stretch}}{{if .StretchAuto}} (chosen from the images; <code>-stretch</code> sets it){{end}}.</p>{{end}}<img src="{{.Panel}}" alt="panel of the images">{{end}}
 {{if .Spread}}<h2>Agreement</h2>

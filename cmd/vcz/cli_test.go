@@ -443,3 +443,70 @@ func TestInspectPathsAsGiven(t *testing.T) {
 		t.Errorf("exit %d: %q %s", code, out, errs)
 	}
 }
+
+// TestJSONSchema checks that the JSON of every command that reports a fit has one shape:
+// "chi2r" a number (the total), "chi2r_by_type" an object of {"n", "chi2r"} per data type,
+// and "grid" an object with "n" (image, fit, compare and its rows, batch rows, inspect's grid).
+func TestJSONSchema(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	fast := []string{"-n", "32", "-iter", "30", "-starts", "1", "-weight", "0.001"}
+	decode := func(args ...string) map[string]any {
+		t.Helper()
+		out, errs, code := runCmd(t, args...)
+		var v map[string]any
+		if code != exitOK || json.Unmarshal([]byte(out), &v) != nil {
+			t.Fatalf("%q: exit %d, %q, %s", args, code, out, errs)
+		}
+		return v
+	}
+	check := func(what string, v map[string]any, wantGrid bool) {
+		t.Helper()
+		if _, hasFit := v["chi2r"]; hasFit != (v["chi2r_by_type"] != nil) {
+			t.Errorf("%s: chi2r and chi2r_by_type come together (%v, %v)", what, v["chi2r"], v["chi2r_by_type"])
+		}
+		if c, ok := v["chi2r"]; ok {
+			if _, isNum := c.(float64); !isNum {
+				t.Errorf("%s: chi2r is %T, not a number", what, c)
+			}
+		}
+		if by, ok := v["chi2r_by_type"]; ok {
+			m, _ := by.(map[string]any)
+			if len(m) == 0 {
+				t.Errorf("%s: chi2r_by_type is %v", what, by)
+			}
+			for k, e := range m {
+				o, isObj := e.(map[string]any)
+				if !isObj || o["n"] == nil || o["chi2r"] == nil {
+					t.Errorf("%s: chi2r_by_type[%s] is %v, not {n, chi2r}", what, k, e)
+				}
+			}
+		}
+		if wantGrid {
+			g, ok := v["grid"].(map[string]any)
+			if !ok || g["n"] == nil {
+				t.Errorf("%s: grid is %v, not an object with n", what, v["grid"])
+			}
+		}
+	}
+	img := decode(append(append([]string{"image", "-json", "-quiet", "-o", filepath.Join(dir, "i0.fits")}, fast...), data)...)
+	if img["chi2r_by_type"] == nil {
+		t.Fatal("image: no chi2r_by_type")
+	}
+	check("image", decode(append(append([]string{"image", "-json", "-quiet", "-o", filepath.Join(dir, "i.fits")}, fast...), data)...), true)
+	check("fit", decode("fit", "-json", "-model", "ud:diameter~3", data), false)
+	check("inspect", decode("inspect", "-json", data), true)
+	cmp := decode(append(append([]string{"compare", "-json", "-quiet", "-reg", "tv", "-o", filepath.Join(dir, "c")}, fast...), data)...)
+	check("compare", cmp, true)
+	rows, _ := cmp["rows"].([]any)
+	if len(rows) == 0 {
+		t.Fatal("compare: no rows")
+	}
+	check("compare row", rows[0].(map[string]any), false)
+	b := decode(append(append([]string{"batch", "-json", "-quiet", "-o", filepath.Join(dir, "b")}, fast...), data)...)
+	brows, _ := b["rows"].([]any)
+	if len(brows) == 0 {
+		t.Fatal("batch: no rows")
+	}
+	check("batch row", brows[0].(map[string]any), false)
+}

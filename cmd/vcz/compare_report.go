@@ -8,7 +8,7 @@ import (
 )
 
 func printCompareTable(w io.Writer, rep *workflow.CompareReport) {
-	fmt.Fprintf(w, "Grid: %d × %d pixels of %.4g mas; resolution %.4g mas\n", rep.GridN, rep.GridN, rep.PixelMas, rep.ResolutionMas)
+	fmt.Fprintf(w, "Grid: %d × %d pixels of %.4g mas; resolution %.4g mas\n", rep.Grid.N, rep.Grid.N, rep.Grid.PixelMas, rep.Grid.ResolutionMas)
 	fmt.Fprintf(w, "%-10s %-10s %-8s %-10s %-6s %-13s %s\n", "reg", "weight", "χ²ᵣ", "R(x)", "iter", "result", "seconds")
 	for _, r := range rep.Rows {
 		if r.Error != "" {

@@ -13,11 +13,16 @@ import (
 	"vcz/workflow"
 )
 
+// cubeGrid is the grid of a cube, in the shape of the other commands' grid (output.GridJ).
+type cubeGrid struct {
+	N        int     `json:"n"`
+	PixelMas float64 `json:"pixel_mas"`
+}
+
 // cubeSummary is what `vcz image -channels ... -json` prints.
 type cubeSummary struct {
 	Planes         []cubePlane      `json:"planes"`
-	GridN          int              `json:"grid_n"`
-	PixelMas       float64          `json:"pixel_mas"`
+	Grid           cubeGrid         `json:"grid"`
 	Weight         float64          `json:"weight"`
 	Spectral       string           `json:"spectral"`
 	SpectralWeight float64          `json:"spectral_weight"`
@@ -65,7 +70,7 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 		return failure(err)
 	}
 	res := run.Result
-	sum := cubeSummary{GridN: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas, Weight: res.Weight, Spectral: res.Spectral.String(),
+	sum := cubeSummary{Grid: cubeGrid{N: res.Grid.N, PixelMas: res.Grid.Pixel / recon.Mas}, Weight: res.Weight, Spectral: res.Spectral.String(),
 		SpectralWeight: res.SpectralWeight, Chi2r: res.Chi2r, TotalIter: res.TotalIter, StopReason: res.StopReason,
 		Seconds: run.Seconds, Notices: res.Notices, Warnings: res.Warnings, Outputs: paths}
 	if sum.Warnings == nil {
@@ -92,7 +97,7 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 }
 
 func printCubeSummary(w io.Writer, s cubeSummary) {
-	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas\n", s.GridN, s.GridN, s.PixelMas)
+	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas)
 	fmt.Fprintf(w, "Cube:        %d planes; spatial weight %.4g (of the gray image, χ²ᵣ %.4g), spectral %s weight %.4g\n",
 		len(s.Planes), s.Weight, s.GrayChi2r, s.Spectral, s.SpectralWeight)
 	fmt.Fprintf(w, "  %-16s %9s %7s %8s %9s %9s %9s\n", "channels", "λ (µm)", "data", "χ²ᵣ", "x (mas)", "y (mas)", "size (mas)")

@@ -18,12 +18,6 @@ const (
 	StateFailed = "failed"
 )
 
-// TypeFit is the fit to one data type of an epoch.
-type TypeFit struct {
-	N     int     `json:"n"`
-	Chi2r float64 `json:"chi2r"`
-}
-
 // Row is one epoch of a batch summary.
 type Row struct {
 	Index   int     `json:"index"` // 0-based position in the full list of epochs
@@ -34,10 +28,11 @@ type Row struct {
 	Error   string  `json:"error,omitempty"`
 	Skipped bool    `json:"skipped,omitempty"` // found complete and not redone
 	// Points and Chi2r are per data type, keyed by the type's word (dataset.DataType.String:
-	// "vis2", "t3phi", …).
-	Points     map[string]int     `json:"points"`
-	Chi2r      map[string]float64 `json:"chi2r"`
-	Chi2rTotal float64            `json:"chi2r_total"`
+	// "vis2", "t3phi", …). In JSON they are "chi2r_by_type", {"vis2": {"n": …, "chi2r": …}},
+	// the shape of the other commands' JSON, and Chi2rTotal is "chi2r".
+	Points     map[string]int     `json:"-"`
+	Chi2r      map[string]float64 `json:"-"`
+	Chi2rTotal float64            `json:"chi2r"`
 	Weight     float64            `json:"weight"`
 	Iterations int                `json:"iterations"`
 	Seconds    float64            `json:"seconds"`
@@ -46,6 +41,57 @@ type Row struct {
 	// Warnings is the quality verdict of the epoch's image (recon.Result.Warnings);
 	// WriteJSON writes an empty list for none.
 	Warnings []string `json:"warnings"`
+}
+
+// typeFitJSON is the JSON of one data type of a row: its points and, when the epoch was
+// imaged, its χ²ᵣ.
+type typeFitJSON struct {
+	N     int      `json:"n"`
+	Chi2r *float64 `json:"chi2r,omitempty"`
+}
+
+// rowFields is Row without its JSON methods.
+type rowFields Row
+
+// rowJSON is the JSON form of a Row.
+type rowJSON struct {
+	rowFields
+	ByType map[string]typeFitJSON `json:"chi2r_by_type"`
+}
+
+// MarshalJSON writes the row with its points and χ²ᵣ per type as "chi2r_by_type".
+func (r Row) MarshalJSON() ([]byte, error) {
+	j := rowJSON{rowFields: rowFields(r), ByType: map[string]typeFitJSON{}}
+	for t, n := range r.Points {
+		f := typeFitJSON{N: n}
+		if c, ok := r.Chi2r[t]; ok {
+			f.Chi2r = &c
+		}
+		j.ByType[t] = f
+	}
+	for t, c := range r.Chi2r {
+		if _, ok := j.ByType[t]; !ok {
+			j.ByType[t] = typeFitJSON{Chi2r: &c}
+		}
+	}
+	return json.Marshal(j)
+}
+
+// UnmarshalJSON reads a row written by MarshalJSON.
+func (r *Row) UnmarshalJSON(b []byte) error {
+	var j rowJSON
+	if err := json.Unmarshal(b, &j); err != nil {
+		return err
+	}
+	*r = Row(j.rowFields)
+	r.Points, r.Chi2r = map[string]int{}, map[string]float64{}
+	for t, f := range j.ByType {
+		r.Points[t] = f.N
+		if f.Chi2r != nil {
+			r.Chi2r[t] = *f.Chi2r
+		}
+	}
+	return nil
 }
 
 // Summary is a batch summary: the epochs handled, sorted by Index, and the shard that
