@@ -445,11 +445,7 @@ func parseCount(dst *int, name, text string) error {
 		return err
 	}
 	if n < 0 {
-		dash := ""
-		if strings.HasPrefix(name, "-") {
-			dash = "-"
-		}
-		return fmt.Errorf("%siter, %sstarts and %sworkers must not be negative", dash, dash, dash)
+		return fmt.Errorf("%s %d must not be negative", name, n)
 	}
 	*dst = n
 	return nil
