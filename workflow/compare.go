@@ -155,12 +155,12 @@ func (c *Comparison) Bootstrap(opt BootstrapOptions) {
 
 // CheckData refuses data that no workflow reconstructs: several targets, or no point to
 // fit. Its errors are *InputError.
-func CheckData(d *dataset.Data) error { return checkData(d) }
+func CheckData(d *dataset.Data) error { return checkData(nil, d) }
 
 // NewComparison builds one run per entry, all on the grid chosen once from the data. Its
 // errors are *InputError.
 func NewComparison(files []*oifits.File, d *dataset.Data, entries []Entry) (*Comparison, error) {
-	if err := checkData(d); err != nil {
+	if err := checkData(files, d); err != nil {
 		return nil, err
 	}
 	c := &Comparison{Files: files, Data: d}

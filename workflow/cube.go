@@ -23,7 +23,7 @@ type Cube struct {
 // NewCube checks that d can be reconstructed as spec says and splits its channels into
 // the planes of spec.Channels. Its errors are *InputError.
 func NewCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Cube, error) {
-	if err := checkData(d); err != nil {
+	if err := checkData(files, d); err != nil {
 		return nil, err
 	}
 	p, s, err := spec.Problem(d)

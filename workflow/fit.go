@@ -57,7 +57,7 @@ type FitOutcome struct {
 func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, error) {
 	// One target at a time, as image asks: a fit to two targets' data
 	// mixes two objects.
-	if err := checkData(d); err != nil {
+	if err := checkData(nil, d); err != nil {
 		return nil, err
 	}
 	opt := s.Fit

@@ -263,3 +263,26 @@ func TestFitBootstrap(t *testing.T) {
 		t.Errorf("the same seed gave %v, then %v (%v)", b.Params, again.Boot.Params, err)
 	}
 }
+
+// TestEmptySelectionLists checks that a selection that leaves no point is refused naming the
+// files and listing the targets and instruments they hold.
+func TestEmptySelectionLists(t *testing.T) {
+	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, _ := model.Load("ud:diameter=2")
+	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{WaveMin: 9e-6, WaveMax: 10e-6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = checkData([]*oifits.File{f}, d)
+	want := "the files hold targets " + f.Targets[0].Name + " and instruments " + f.Wavelengths[0].InsName
+	if err == nil || !strings.Contains(err.Error(), "no usable data points") || !strings.Contains(err.Error(), want) {
+		t.Errorf("error %v, want %q", err, want)
+	}
+}

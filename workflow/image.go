@@ -25,7 +25,7 @@ type Image struct {
 // NewImage checks that d can be reconstructed as spec says (one target, some points, options
 // that fit the data) and builds the problem. Its errors are *InputError.
 func NewImage(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Image, error) {
-	if err := checkData(d); err != nil {
+	if err := checkData(files, d); err != nil {
 		return nil, err
 	}
 	p, s, err := spec.Problem(d)
@@ -36,19 +36,19 @@ func NewImage(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Image,
 }
 
 // checkData refuses data of several targets, or without a point to fit.
-func checkData(d *dataset.Data) error {
+func checkData(files []*oifits.File, d *dataset.Data) error {
 	if len(d.Targets) > 1 {
 		return inputErrorf("the data hold %d targets (%s); choose one with -target", len(d.Targets), strings.Join(d.Targets, ", "))
 	}
-	files := "the data"
+	names := "the data"
 	if len(d.Files) > 0 {
-		files = strings.Join(d.Files, ", ")
+		names = strings.Join(d.Files, ", ")
 	}
 	if d.Len(dataset.AllTypes) == 0 {
-		return inputErrorf("%s: no usable data points after selection (%s)", files, dropped(d))
+		return inputErrorf("%s: no usable data points after selection (%s)%s", names, dropped(d), available(files))
 	}
 	if !(d.Summarize().BaselineMax > 0) {
-		return inputErrorf("%s: every (u,v) point is at zero baseline: the data hold no spatial information", files)
+		return inputErrorf("%s: every (u,v) point is at zero baseline: the data hold no spatial information", names)
 	}
 	return nil
 }
@@ -91,4 +91,29 @@ func dropped(d *dataset.Data) string {
 		return "no row matches the selection of target, wavelength, MJD, instrument and data types"
 	}
 	return fmt.Sprintf("%d flagged, %d with a NaN or infinite value or error", flagged, nonFinite)
+}
+
+// available lists the targets and instruments (INSNAME) the files hold, for a selection
+// that left nothing: "; the files hold targets A, B and instruments X, Y".
+func available(files []*oifits.File) string {
+	var targets, ins []string
+	seen := map[string]bool{}
+	for _, f := range files {
+		for _, t := range f.Targets {
+			if n := strings.TrimSpace(t.Name); !seen["t"+n] {
+				seen["t"+n] = true
+				targets = append(targets, n)
+			}
+		}
+		for _, w := range f.Wavelengths {
+			if n := strings.TrimSpace(w.InsName); !seen["i"+n] {
+				seen["i"+n] = true
+				ins = append(ins, n)
+			}
+		}
+	}
+	if len(targets)+len(ins) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("; the files hold targets %s and instruments %s", strings.Join(targets, ", "), strings.Join(ins, ", "))
 }
