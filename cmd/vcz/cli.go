@@ -116,22 +116,24 @@ func run(args []string, stdout, stderr io.Writer) int {
 		// when it came has finished or been abandoned with its temporary.
 		safefile.RemoveTemporaries()
 		if err != nil {
-			fmt.Fprintf(stderr, "vcz: %s\n", strings.ReplaceAll(strings.TrimSpace(err.Error()), "\n", "; "))
+			fmt.Fprintf(stderr, "vcz %s: %s\n", name, strings.ReplaceAll(strings.TrimSpace(err.Error()), "\n", "; "))
 		}
-		fmt.Fprintf(stderr, "vcz: stopped by %s; files reported as written are complete, nothing else was written\n", signalName(sig))
+		fmt.Fprintf(stderr, "vcz %s: stopped by %s; files reported as written are complete, nothing else was written\n", name, signalName(sig))
 		return exitCodeOf(sig)
 	}
-	return exitCode(err, stderr)
+	return exitCode(name, err, stderr)
 }
 
-// exitCode reports err on stderr in one line and turns it into an exit code.
-func exitCode(err error, stderr io.Writer) int {
+// exitCode reports err on stderr in one line, "vcz COMMAND: message" (a message that
+// begins with the command's name loses that repetition), and turns it into an exit code.
+func exitCode(name string, err error, stderr io.Writer) int {
 	if err == nil || errors.Is(err, errHelp) {
 		return exitOK
 	}
 	msg := strings.TrimSpace(err.Error())
 	msg = strings.ReplaceAll(msg, "\n", "; ")
-	fmt.Fprintf(stderr, "vcz: %s\n", msg)
+	msg = strings.TrimPrefix(msg, name+": ")
+	fmt.Fprintf(stderr, "vcz %s: %s\n", name, msg)
 	var ee *exitError
 	if errors.As(err, &ee) {
 		return ee.code

@@ -75,8 +75,13 @@ func TestUsageErrors(t *testing.T) {
 		if code != exitBadInput {
 			t.Errorf("%v: exit %d, want %d (stderr %q)", args, code, exitBadInput, errs)
 		}
-		if len(args) > 0 && (strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, "vcz: ")) {
-			t.Errorf("%v: stderr is not one line starting with 'vcz: ': %q", args, errs)
+		// One prefix style: "vcz COMMAND: …" ("vcz: …" when there is no command to name).
+		prefix := "vcz: "
+		if len(args) > 0 && args[0] != "frobnicate" {
+			prefix = "vcz " + args[0] + ": "
+		}
+		if len(args) > 0 && (strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, prefix)) {
+			t.Errorf("%v: stderr is not one line starting with %q: %q", args, prefix, errs)
 		}
 	}
 }
@@ -85,7 +90,7 @@ func TestUsageErrors(t *testing.T) {
 // the form the foundation issue asks for.
 func TestBadFileMessage(t *testing.T) {
 	_, errs, code := runCmd(t, "inspect", filepath.Join("..", "..", "testdata", "oifits", "bad", "vis2err-negative.oifits"))
-	want := "vcz: vis2err-negative.oifits: OI_VIS2 (HDU 7) row 1: VIS2ERR is -0.01; errors must be positive\n"
+	want := "vcz inspect: vis2err-negative.oifits: OI_VIS2 (HDU 7) row 1: VIS2ERR is -0.01; errors must be positive\n"
 	if code != exitBadInput || errs != want {
 		t.Fatalf("got exit %d and %q, want %q", code, errs, want)
 	}
