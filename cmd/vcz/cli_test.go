@@ -405,7 +405,7 @@ func TestQuietKeepsStdout(t *testing.T) {
 // and batch (batch's earlier -out still works), -iter the iteration limit of image and fit
 // (fit's earlier -max-iter still works), and fit describes its models with -help-model.
 func TestOneNamePerIdea(t *testing.T) {
-	for _, c := range [][]string{{"image", "o"}, {"compare", "o"}, {"batch", "o"}, {"batch", "out"}, {"image", "iter"}, {"fit", "iter"}, {"fit", "max-iter"}, {"fit", "help-model"}, {"batch", "cpus"}, {"compare", "parallel"}, {"fit", "write-n"}, {"fit", "write-pixel"}, {"simulate", "write-n"}, {"simulate", "write-pixel"}} {
+	for _, c := range [][]string{{"image", "o"}, {"compare", "o"}, {"batch", "o"}, {"batch", "out"}, {"image", "iter"}, {"fit", "iter"}, {"fit", "max-iter"}, {"fit", "help-model"}, {"batch", "cpus"}, {"compare", "parallel"}, {"fit", "write-n"}, {"fit", "write-pixel"}, {"simulate", "write-n"}, {"simulate", "write-pixel"}, {"fit", "o"}, {"inspect", "o"}, {"simulate", "o"}, {"demo", "o"}} {
 		out, _, _ := runCmd(t, c[0], "--help")
 		if !strings.Contains(out, "  -"+c[1]+" ") && !strings.Contains(out, "  -"+c[1]+"\n") {
 			t.Errorf("%s has no -%s", c[0], c[1])
@@ -501,6 +501,7 @@ func TestJSONSchema(t *testing.T) {
 	check("image", decode(append(append([]string{"image", "-json", "-quiet", "-o", filepath.Join(dir, "i.fits")}, fast...), data)...), true)
 	check("fit", decode("fit", "-json", "-model", "ud:diameter~3", data), false)
 	check("inspect", decode("inspect", "-json", data), true)
+	check("demo", decode("demo", "-json", "-quiet", "-o", filepath.Join(dir, "demo")), true)
 	cmp := decode(append(append([]string{"compare", "-json", "-quiet", "-reg", "tv", "-o", filepath.Join(dir, "c")}, fast...), data)...)
 	check("compare", cmp, true)
 	rows, _ := cmp["rows"].([]any)

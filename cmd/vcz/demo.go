@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	_ "embed"
+	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -44,11 +45,16 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	dir := fs.String("o", "vcz-demo", "output folder (made if missing)")
 	quiet := fs.Bool("quiet", false, quietUsage)
 	strict := registerStrict(fs)
+	asJSON := fs.Bool("json", false, "print the image's summary as one JSON object on stdout (as vcz image -json)")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
 	if fs.NArg() > 0 {
 		return badInputf("demo takes no arguments (run 'vcz demo --help')")
+	}
+	text := stdout
+	if *asJSON {
+		text = io.Discard // stdout holds the JSON alone
 	}
 	if err := os.MkdirAll(*dir, 0o755); err != nil {
 		return badInputf("demo: %v", err)
@@ -70,7 +76,7 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
 	rep := output.NewInspectReport(d)
-	fmt.Fprintf(stdout, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
+	fmt.Fprintf(text, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
 		dataPath, rep.Vis2.Valid, rep.T3.Valid, rep.Baseline.Min, rep.Baseline.Max, rep.Resolution)
 	out := filepath.Join(*dir, "vaeloris-image.fits")
 	// The zero Spec is vcz image with no option.
@@ -78,12 +84,20 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	printImageSummary(stdout, sum)
+	if *asJSON {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(sum); err != nil {
+			return failure(err)
+		}
+	} else {
+		printImageSummary(stdout, sum)
+	}
 	truthPath, panel := filepath.Join(*dir, "vaeloris-truth.fits"), filepath.Join(*dir, "vaeloris-compare.png")
 	if err := workflow.DemoTruth(truthPath, panel, run); err != nil {
 		return failure(err)
 	}
-	fmt.Fprintf(stdout, "Wrote %s\nWrote %s\n", truthPath, panel)
+	fmt.Fprintf(text, "Wrote %s\nWrote %s\n", truthPath, panel)
 	printWarnings(stderr, "", sum.Warnings)
 	return strictFailure(*strict, "demo", len(sum.Warnings))
 }

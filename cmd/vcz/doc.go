@@ -25,7 +25,7 @@ The commands are:
 
 # Inspect
 
-	vcz inspect [-json] [-plot DIR] [selection] FILE...
+	vcz inspect [-json] [-o DIR] [selection] FILE...
 
 prints the targets, instruments, number of valid, flagged and non-finite
 points per data type, baselines, the nominal resolution λmin/(2·Bmax), the
@@ -176,13 +176,23 @@ has no verdict of its own; its epochs' independent images do.
 
 # Exit status
 
-0 on success, 1 when the computation failed (no convergence where that is an
-error, non-finite values, an output that could not be written) or, with
--strict, when the quality verdict gave a warning, 2 for bad
-input files, bad options or wrong usage. Errors are one line on standard
-error, naming the file and, where it applies, the table (HDU number and
-EXTNAME), row and column. Outputs are written to a temporary file and renamed,
-so an interrupted run never leaves a half-written file.
+0 on success (warnings included: a run that did not converge says so in a
+warning), 1 when the computation failed (non-finite values, an output that
+could not be written) or, with -strict, when the quality verdict gave a
+warning, 2 for bad input files, bad options or wrong usage, 130 or 143 after
+SIGINT or SIGTERM. Errors are one line on standard error, "vcz COMMAND: …",
+naming the file and, where it applies, the table (HDU number and EXTNAME), row
+and column. Outputs are written to a temporary file and renamed, so an
+interrupted run never leaves a half-written file.
+
+# Outputs
+
+-o names the output of every command: a FITS file for image, an OIFITS file
+for simulate, a folder for compare, batch, inspect and demo, and a file-name
+prefix for fit's plots. A folder named by -o is made when missing; a file whose
+folder is missing is refused before any work, as is an output that would
+replace an input. -json prints a summary on stdout in one shape for every
+command (chi2r, chi2r_by_type of {n, chi2r}, grid of {n, pixel_mas, …}).
 
 A reconstructed image is one solution consistent with the data, not a
 photograph: structure smaller than the resolution λ/(2·Bmax) is not

@@ -66,7 +66,7 @@ parameters refitted to first order. PREFIX.csv gives the mean and worst
 ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
 against separation.
 
-Outputs with -plot PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
+Outputs with -o PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
 (closure phases) and likewise PREFIX-t3amp.png, PREFIX-visamp.png and
 PREFIX-visphi.png for each data type fitted, PREFIX-residuals.png (normalised
 residuals) and, with
@@ -94,7 +94,8 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	fs.IntVar(maxIter, "max-iter", 200, "earlier name of -iter")
 	helpModel := fs.Bool("help-model", false, "describe the model forms and components and exit")
 	asJSON := fs.Bool("json", false, "print the result as one JSON object on stdout")
-	plotPrefix := fs.String("plot", "", "write PNG plots PREFIX-<type>.png of each fitted data type (vis2, t3phi, ...), PREFIX-residuals.png (and PREFIX-grid.png)")
+	plotPrefix := fs.String("o", "", "write PNG plots PREFIX-<type>.png of each fitted data type (vis2, t3phi, ...), PREFIX-residuals.png (and PREFIX-grid.png)")
+	fs.StringVar(plotPrefix, "plot", "", "earlier name of -o")
 	grid := fs.Bool("grid-search", false, "map χ² of a point companion over separation and position angle, then fit it")
 	gridSep := fs.String("grid-sep", "", "separations searched, MIN:MAX with units, e.g. 1mas:20mas (default: 0 to 3/4 of the largest constrained scale)")
 	gridRatio := fs.Float64("grid-ratio", 0.01, "flux ratio of the companion searched (companion / model flux)")

@@ -22,7 +22,7 @@ stations, the number of distinct baselines and closure triangles, and for each
 data type the number of points, their errors (median and range) and median
 signal-to-noise ratio (-json: "breakdown").
 
-With -plot DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
+With -o DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
 data type present, DIR/<type>.png against spatial frequency (vis2.png,
 t3phi.png for closure phases against the longest baseline of the triangle,
 t3amp.png, visamp.png, visphi.png), coloured by instrument when there are
@@ -33,7 +33,8 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
 	selFlags := runspec.RegisterFlags(fs, runspec.Select)
 	asJSON := fs.Bool("json", false, "print the summary as one JSON object on stdout")
-	plotDir := fs.String("plot", "", "write PNG plots of the data into this folder (made if missing)")
+	plotDir := fs.String("o", "", "write PNG plots of the data into this folder (made if missing)")
+	fs.StringVar(plotDir, "plot", "", "earlier name of -o")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
