@@ -133,7 +133,7 @@ func rerunCards(files []*oifits.File, lines []string) []fitsimage.Card {
 const mjdUnix = 40587
 
 // observationCards describe the data behind r: the dates of the first and last
-// observation (DATE-OBS, MJD-OBS, MJD-END, FITS standard 4.0 sect. 9.4), the wavelengths
+// observation (DATE-OBS, DATE-END, MJD-OBS, MJD-END, FITS standard 4.0 sect. 9.4), the wavelengths
 // used (WAVEMIN, WAVEMAX in metres), the instrument set-ups (INSTRUME, their INSNAMEs) and
 // the arrays (TELESCOP, their ARRNAMEs), and the SHA-256 of each data file read from disk
 // (DSHAn, FIPS 180-4).
@@ -141,9 +141,12 @@ func observationCards(files []*oifits.File, d *dataset.Data) []fitsimage.Card {
 	var c []fitsimage.Card
 	s := d.Summarize()
 	if s.MJDMax > 0 {
-		t := time.Unix(0, 0).UTC().Add(time.Duration((s.MJDMin - mjdUnix) * 86400 * float64(time.Second)))
+		iso := func(mjd float64) string {
+			return time.Unix(0, 0).UTC().Add(time.Duration((mjd - mjdUnix) * 86400 * float64(time.Second))).Format("2006-01-02T15:04:05")
+		}
 		c = append(c,
-			fitsimage.Card{Key: "DATE-OBS", Value: t.Format("2006-01-02T15:04:05"), Comment: "first observation (UTC)"},
+			fitsimage.Card{Key: "DATE-OBS", Value: iso(s.MJDMin), Comment: "first observation (UTC)"},
+			fitsimage.Card{Key: "DATE-END", Value: iso(s.MJDMax), Comment: "last observation (UTC)"},
 			fitsimage.Card{Key: "MJD-OBS", Value: s.MJDMin, Comment: "[d] MJD of the first observation"},
 			fitsimage.Card{Key: "MJD-END", Value: s.MJDMax, Comment: "[d] MJD of the last observation"})
 	}

@@ -3,6 +3,7 @@ package main
 import (
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -111,4 +112,58 @@ func headerValue(t *testing.T, path, key string) string {
 		}
 	}
 	return ""
+}
+
+// TestEveryFITSReads checks every kind of FITS image the commands write with two independent
+// readers: HEASARC fitsverify (0 warnings, 0 errors, the FITS standard's checks, CHECKSUM
+// included) and astropy (CCDData.read with the BUNIT, a WCS with two celestial axes, and the
+// checksum verified): image and its -rerun, fit -write-image, simulate -write-image, demo's
+// image and truth, and image -bootstrap's maps.
+func TestEveryFITSReads(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	fast := []string{"-n", "32", "-iter", "30", "-starts", "1", "-weight", "0.001"}
+	run := func(args ...string) {
+		t.Helper()
+		if _, errs, code := runCmd(t, args...); code != exitOK {
+			t.Fatalf("%q: exit %d: %s", args, code, errs)
+		}
+	}
+	img := filepath.Join(dir, "img.fits")
+	run(append(append([]string{"image", "-quiet", "-no-plots", "-o", img, "-bootstrap", "3"}, fast...), data)...)
+	run("image", "-quiet", "-no-plots", "-rerun", img, "-o", filepath.Join(dir, "again.fits"))
+	run("fit", "-quiet", "-model", "ud:diameter~3", "-write-image", filepath.Join(dir, "fit.fits"), data)
+	run("simulate", "-plan", filepath.Join("..", "..", "examples", "plan-six-snapshot.toml"), "-model", "ud:diameter=2",
+		"-o", filepath.Join(dir, "s.oifits"), "-write-image", filepath.Join(dir, "sim.fits"))
+	run("demo", "-quiet", "-o", filepath.Join(dir, "demo"))
+	files, _ := filepath.Glob(filepath.Join(dir, "*.fits"))
+	more, _ := filepath.Glob(filepath.Join(dir, "demo", "*.fits"))
+	files = append(files, more...)
+	if len(files) < 9 {
+		t.Fatalf("only %d FITS files: %v", len(files), files)
+	}
+	fv := requireTool(t, "fitsverify")
+	for _, p := range files {
+		vout, err := exec.Command(fv, p).CombinedOutput()
+		if err != nil || !strings.Contains(string(vout), "Verification found 0 warning(s) and 0 error(s)") {
+			t.Errorf("fitsverify %s: %v:\n%s", filepath.Base(p), err, vout)
+		}
+	}
+	if _, err := exec.LookPath("/usr/bin/python3"); err != nil {
+		t.Skip("no /usr/bin/python3 for astropy")
+	}
+	out, err := exec.Command("/usr/bin/python3", append([]string{filepath.Join("testdata", "astropy_read.py")}, files...)...).CombinedOutput()
+	if err != nil {
+		t.Fatalf("astropy: %v:\n%s", err, out)
+	}
+	lines := strings.Split(strings.TrimSpace(string(out)), "\n")
+	if len(lines) != len(files) {
+		t.Fatalf("astropy read %d of %d files:\n%s", len(lines), len(files), out)
+	}
+	for _, l := range lines {
+		f := strings.Fields(l)
+		if len(f) != 4 || f[2] != "2" || f[3] != "checksum-ok" {
+			t.Errorf("astropy: %q", l)
+		}
+	}
 }
