@@ -6,7 +6,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -336,9 +335,9 @@ func WriteFile(path string, im *Image) error {
 
 // ReadFile reads the first image of the FITS file at path: the primary
 // HDU, or the first IMAGE extension when the primary HDU has no data.
-// Errors begin with the base name of path.
+// Errors begin with path as given.
 func ReadFile(path string) (*Image, error) {
-	name := filepath.Base(path)
+	name := path // messages name the file as the user gave it
 	data, err := safefile.ReadFile(path)
 	if err != nil {
 		var pe *os.PathError

@@ -216,9 +216,11 @@ func TestBadFiles(t *testing.T) {
 		if !ok {
 			t.Fatalf("bad line %q", line)
 		}
-		_, err := ReadFile(filepath.Join(badDir, name))
-		if err == nil || err.Error() != name+": "+want {
-			t.Errorf("%s: got %v\nwant %s: %s", name, err, name, want)
+		// The message names the file as the reader was given it.
+		path := filepath.Join(badDir, name)
+		_, err := ReadFile(path)
+		if err == nil || err.Error() != path+": "+want {
+			t.Errorf("%s: got %v\nwant %s: %s", name, err, path, want)
 		}
 		n++
 	}
@@ -231,7 +233,7 @@ func TestBadFiles(t *testing.T) {
 	if n != kept {
 		t.Errorf("expected.tsv lists %d files, the test has %d cases; run with -update", n, kept)
 	}
-	if _, err := ReadFile(filepath.Join(badDir, "no-such-file.oifits")); err == nil || !strings.HasPrefix(err.Error(), "no-such-file.oifits: ") {
+	if _, err := ReadFile(filepath.Join(badDir, "no-such-file.oifits")); err == nil || !strings.HasPrefix(err.Error(), filepath.Join(badDir, "no-such-file.oifits")+": ") {
 		t.Errorf("missing file: %v", err)
 	}
 }

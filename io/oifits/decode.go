@@ -15,7 +15,7 @@ import (
 )
 
 // ReadFile reads and validates the OIFITS file at path. Errors are *Error
-// values whose File is the base name of path.
+// values whose File is path as given; File.Name is its base name.
 func ReadFile(path string) (*File, error) {
 	name := filepath.Base(path)
 	data, err := safefile.ReadFile(path)
@@ -24,10 +24,15 @@ func ReadFile(path string) (*File, error) {
 		if errors.As(err, &pe) {
 			err = pe.Err
 		}
-		return nil, &Error{File: name, Err: err}
+		return nil, &Error{File: path, Err: err}
 	}
 	f, err := decode(data, name)
 	if err != nil {
+		// Messages name the file as the user gave it: data.oifits of two folders differ.
+		var oe *Error
+		if errors.As(err, &oe) {
+			oe.File = path
+		}
 		return nil, err
 	}
 	sum := sha256.Sum256(data)
