@@ -74,7 +74,7 @@ and -bootstrap-collect merges them (making any missing) into the maps.
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
 documents every plan key (smearing = true averages each channel over its band,
-write "dvis" adds differential amplitudes and phases), -help-model the model
+write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
 indices, rotating discs emitting a line).
 

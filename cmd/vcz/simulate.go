@@ -22,7 +22,7 @@ write them as an OIFITS v2 file. The model is either analytic components
 (-model, a TOML file or the inline form below) or a FITS image (-image, any
 pixel scale; its world coordinates are read with east to the left), or a
 chromatic model (-chromatic, a TOML file of components with spectral indices
-and rotating discs emitting a line; write "dvis" in the plan for differential
+and rotating discs emitting a line; write "visdiff" in the plan for differential
 phases).
 
 Examples:

@@ -12,7 +12,7 @@ Top level
   write = ["vis2", "t3"]  data tables to write: any of "vis2" (OI_VIS2),
                           "t3" (OI_T3: closure phases and triple amplitudes),
                           "vis" (OI_VIS: complex visibilities, absolute phases),
-                          "dvis" (OI_VIS: differential amplitudes and phases,
+                          "visdiff" (OI_VIS: differential amplitudes and phases,
                           each row's mean amplitude divided out and its phases'
                           mean and slope in 1/wavelength removed);
                           default ["vis2", "t3"]

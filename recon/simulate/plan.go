@@ -356,10 +356,10 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 			p.WriteT3 = true
 		case "vis":
 			p.WriteVis = true
-		case "dvis":
+		case "visdiff", "dvis": // dvis: the name of earlier versions
 			p.WriteDiff = true
 		default:
-			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis, dvis)", s)
+			return nil, fail("write", -1, "unknown data type %q (known: vis2, t3, vis, visdiff)", s)
 		}
 	}
 	if err := p.Validate(); err != nil {
