@@ -18,26 +18,34 @@ import (
 	"vcz/recon/simulate"
 )
 
+// observe simulates the model m with the example plan of that file name (seeded noise,
+// exact model visibilities) and returns the file and its data set, selected by sel.
+func observe(t testing.TB, plan string, m *model.Model, sel dataset.Selection) (*oifits.File, *dataset.Data) {
+	t.Helper()
+	p, err := simulate.LoadPlan(filepath.Join("..", "examples", plan))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, _, err := simulate.Run(p, simulate.ModelSky{Model: m})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := dataset.FromFiles([]*oifits.File{f}, sel)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return f, d
+}
+
 // binaryData is a star of 2.5 mas with a companion of flux ratio 0.05 at (4, −3) mas,
 // observed with the four-station example plan (seeded noise).
 func binaryData(t *testing.T) *dataset.Data {
 	t.Helper()
-	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	m, err := model.Load("ud:diameter=2.5;point:x=4,y=-3,flux=0.05")
 	if err != nil {
 		t.Fatal(err)
 	}
-	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
-	if err != nil {
-		t.Fatal(err)
-	}
+	_, d := observe(t, "plan-four-compact.toml", m, dataset.Selection{})
 	return d
 }
 
@@ -224,22 +232,11 @@ func TestCheckOutputs(t *testing.T) {
 // from ~100 replicates and ~100 rows, common practice, no source). The same seed gives the
 // same errors.
 func TestFitBootstrap(t *testing.T) {
-	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	truth, err := model.Load("ud:diameter=2.5")
 	if err != nil {
 		t.Fatal(err)
 	}
-	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: truth})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
-	if err != nil {
-		t.Fatal(err)
-	}
+	_, d := observe(t, "plan-four-compact.toml", truth, dataset.Selection{})
 	m, err := model.Load("ud:diameter~2")
 	if err != nil {
 		t.Fatal(err)
@@ -267,20 +264,9 @@ func TestFitBootstrap(t *testing.T) {
 // TestEmptySelectionLists checks that a selection that leaves no point is refused naming the
 // files and listing the targets and instruments they hold.
 func TestEmptySelectionLists(t *testing.T) {
-	plan, err := simulate.LoadPlan(filepath.Join("..", "examples", "plan-four-compact.toml"))
-	if err != nil {
-		t.Fatal(err)
-	}
 	m, _ := model.Load("ud:diameter=2")
-	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: m})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{WaveMin: 9e-6, WaveMax: 10e-6})
-	if err != nil {
-		t.Fatal(err)
-	}
-	err = checkData([]*oifits.File{f}, d)
+	f, d := observe(t, "plan-four-compact.toml", m, dataset.Selection{WaveMin: 9e-6, WaveMax: 10e-6})
+	err := checkData([]*oifits.File{f}, d)
 	want := "the files hold targets " + f.Targets[0].Name + " and instruments " + f.Wavelengths[0].InsName
 	if err == nil || !strings.Contains(err.Error(), "no usable data points") || !strings.Contains(err.Error(), want) {
 		t.Errorf("error %v, want %q", err, want)
