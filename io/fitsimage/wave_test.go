@@ -26,15 +26,7 @@ func TestSpectralAxis(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			im := testImage(6, 4, len(tc.wave))
 			im.Wave = tc.wave
-			path := filepath.Join(t.TempDir(), "cube.fits")
-			if err := WriteFile(path, im); err != nil {
-				t.Fatal(err)
-			}
-			fitstest.Verify(t, path)
-			back, err := ReadFile(path)
-			if err != nil {
-				t.Fatal(err)
-			}
+			path, back := writeVerifyRead(t, im)
 			for k, w := range back.Wave {
 				if math.Abs(w-tc.wave[k]) > 1e-12*tc.wave[k] {
 					t.Errorf("read back: plane %d at %g m, wrote %g m", k+1, w, tc.wave[k])
@@ -84,15 +76,7 @@ func TestTimeAxis(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			im := testImage(6, 4, len(tc.mjd))
 			im.Time = tc.mjd
-			path := filepath.Join(t.TempDir(), "epochs.fits")
-			if err := WriteFile(path, im); err != nil {
-				t.Fatal(err)
-			}
-			fitstest.Verify(t, path)
-			back, err := ReadFile(path)
-			if err != nil {
-				t.Fatal(err)
-			}
+			path, back := writeVerifyRead(t, im)
 			if len(back.Time) != len(tc.mjd) || back.Wave != nil {
 				t.Fatalf("read back %d times, %d wavelengths", len(back.Time), len(back.Wave))
 			}
@@ -119,4 +103,20 @@ func TestTimeAxis(t *testing.T) {
 			}
 		})
 	}
+}
+
+// writeVerifyRead writes im to a temporary file, checks it with fitsverify and reads it
+// back.
+func writeVerifyRead(t *testing.T, im *Image) (string, *Image) {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "cube.fits")
+	if err := WriteFile(path, im); err != nil {
+		t.Fatal(err)
+	}
+	fitstest.Verify(t, path)
+	back, err := ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return path, back
 }
