@@ -164,8 +164,9 @@ Commands:
 	fmt.Fprint(w, `
 Run 'vcz help COMMAND' or 'vcz COMMAND --help' for the options of one command.
 
-Exit status: 0 success, 1 the computation failed (or, with -strict, the
-quality verdict warned), 2 bad input or usage.
+Exit status: 0 success (warnings included), 1 the computation failed (or,
+with -strict, the quality verdict warned), 2 bad input or usage, 130 or 143
+after SIGINT or SIGTERM.
 `)
 }
 

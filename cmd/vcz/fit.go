@@ -24,7 +24,7 @@ The model is a TOML model file or the inline form; '~' marks a free
 parameter, '=' a fixed one, and bounds go in parentheses:
   vcz fit -model "ld:diameter~3(1..6),u_ld=0.3" star.oifits
   vcz fit -model "ud:diameter~1;point:x~4,y~-2,flux~0.1(0..1)" -starts 20 binary.oifits
-  vcz fit -model "ud:diameter~1" -grid-search -grid-sep 1:20 -grid-ratio 0.02 star.oifits
+  vcz fit -model "ud:diameter~1" -grid-search -grid-sep 1mas:20mas -grid-ratio 0.02 star.oifits
 Run 'vcz fit -help-model' for every component and parameter.
 
 The table gives each free parameter with its 1σ uncertainty from the
