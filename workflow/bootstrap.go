@@ -123,7 +123,7 @@ func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt Boo
 	}
 	rp.Start = recon.Start{Kind: recon.StartImage, Image: full.Image, ImageN: n, ImagePixel: full.Grid.Pixel}
 	rs := s
-	rs.Starts, rs.CoarseToFine, rs.PhaseSmoothing, rs.Workers, rs.Progress = 1, false, -1, 1, nil
+	rs.Starts, rs.CoarseToFine, rs.PhaseSmoothing, rs.Workers, rs.Progress = 1, false, -1, 1, interruptible(nil)
 	rs.MaxIter = ReplicateIterFactor * max(s.MaxIter, 0)
 	if s.MaxIter <= 0 {
 		rs.MaxIter = ReplicateIterFactor * recon.DefaultMaxIter
@@ -163,6 +163,10 @@ func RunBootstrap(p recon.Problem, s recon.Settings, full *recon.Result, opt Boo
 		if k := taskK[i]; err != nil && errs[k] == nil {
 			errs[k] = err // a panic, caught by RunTasks
 		}
+	}
+	if Interrupted() {
+		// Replicates stopped early are not kept (a store holds only finished ones).
+		return nil, ErrInterrupted
 	}
 	for k := range opt.Replicates {
 		if !opt.Shard.Take(k) {

@@ -23,13 +23,11 @@ type Cube struct {
 // NewCube checks that d can be reconstructed as spec says and splits its channels into
 // the planes of spec.Channels. Its errors are *InputError.
 func NewCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Cube, error) {
-	if err := checkData(files, d); err != nil {
+	im, err := NewImage(files, d, spec)
+	if err != nil {
 		return nil, err
 	}
-	p, s, err := spec.Problem(d)
-	if err != nil {
-		return nil, inputError("", err)
-	}
+	p, s := im.Problem, im.Settings
 	if p.Unnormalized {
 		return nil, inputErrorf("-channels: a cube of images of known flux is not supported")
 	}
@@ -49,11 +47,14 @@ func NewCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec) (*Cube, e
 // writing is not an *InputError.
 func (c *Cube) Run(outs output.Outputs, out string, progress func(recon.Progress) bool) (output.CubeRun, output.CubePaths, error) {
 	s := c.Settings
-	s.Progress = progress
+	s.Progress = interruptible(progress)
 	t0 := time.Now()
 	res, err := recon.SolveCube(c.Problem, s)
+	if err == nil && Interrupted() {
+		err = ErrInterrupted
+	}
 	if err != nil {
-		return output.CubeRun{}, output.CubePaths{}, err
+		return output.CubeRun{}, output.CubePaths{}, orInterrupted(err)
 	}
 	run := output.CubeRun{Files: c.Files, Data: c.Data, Spec: c.Spec, Result: res, Seconds: time.Since(t0).Seconds(), Date: time.Now()}
 	paths, err := outs.WriteCube(out, run)

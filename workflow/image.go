@@ -60,12 +60,7 @@ func checkData(files []*oifits.File, d *dataset.Data) error {
 // *InputError.
 func (im *Image) Run(outs output.Outputs, out string, progress func(recon.Progress) bool) (output.Run, output.Paths, error) {
 	s := im.Settings
-	s.Progress = func(pr recon.Progress) bool {
-		if Interrupted() {
-			return false
-		}
-		return progress == nil || progress(pr)
-	}
+	s.Progress = interruptible(progress)
 	t0 := time.Now()
 	res, err := recon.Solve(im.Problem, s)
 	if err != nil {

@@ -3,6 +3,8 @@ package workflow
 import (
 	"errors"
 	"sync/atomic"
+
+	"vcz/recon"
 )
 
 // interrupted is set by Interrupt, from a command's signal handler.
@@ -29,4 +31,12 @@ func orInterrupted(err error) error {
 		return ErrInterrupted
 	}
 	return err
+}
+
+// interruptible wraps a solver's progress callback (nil for none) so that the solver stops
+// at its next iteration once Interrupt was called.
+func interruptible(progress func(recon.Progress) bool) func(recon.Progress) bool {
+	return func(pr recon.Progress) bool {
+		return !Interrupted() && (progress == nil || progress(pr))
+	}
 }
