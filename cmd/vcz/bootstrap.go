@@ -54,21 +54,44 @@ func (f *featureList) Set(s string) error { *f = append(*f, s); return nil }
 
 // bootstrapFlags are the bootstrap options of `vcz image`.
 type bootstrapFlags struct {
-	k        *int
-	seed     *uint64
-	unit     *string
+	resampling
 	ref      *string
 	shard    *string
 	collect  *bool
 	features featureList
 }
 
-func registerBootstrap(fs *flag.FlagSet) *bootstrapFlags {
-	b := &bootstrapFlags{
-		k:    fs.Int("bootstrap", 0, "reconstruct this many resamplings of the data for uncertainty maps (0: none)"),
+// resampling holds the flags every command with a bootstrap takes: -bootstrap K,
+// -bootstrap-seed and -bootstrap-unit.
+type resampling struct {
+	k    *int
+	seed *uint64
+	unit *string
+}
+
+// registerResampling adds the resampling flags to fs; kUsage is -bootstrap's help.
+func registerResampling(fs *flag.FlagSet, kUsage string) resampling {
+	return resampling{
+		k:    fs.Int("bootstrap", 0, kUsage),
 		seed: fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates"),
 		unit: fs.String("bootstrap-unit", "exposure", "what is drawn with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)"),
-		ref:  fs.String("feature-ref", "auto", "reference of -feature: auto (disc on a fitted uniform disc, else annulus), disc (azimuthal average) or annulus"),
+	}
+}
+
+// parseUnit reads -bootstrap-unit, naming the command in its error.
+func (r resampling) parseUnit(cmd string) (dataset.Unit, error) {
+	u, err := dataset.ParseUnit(*r.unit)
+	if err != nil {
+		return u, badInputf("%s: -bootstrap-unit %v", cmd, err)
+	}
+	return u, nil
+}
+
+func registerBootstrap(fs *flag.FlagSet) *bootstrapFlags {
+	r := registerResampling(fs, "reconstruct this many resamplings of the data for uncertainty maps (0: none)")
+	b := &bootstrapFlags{
+		resampling: r,
+		ref:        fs.String("feature-ref", "auto", "reference of -feature: auto (disc on a fitted uniform disc, else annulus), disc (azimuthal average) or annulus"),
 	}
 	b.shard = fs.String("bootstrap-shard", "", "make only shard K/N of the replicates and keep them in files (slurm: from SLURM_ARRAY_TASK_ID); merge with -bootstrap-collect")
 	b.collect = fs.Bool("bootstrap-collect", false, "make the maps from the replicates kept in files by -bootstrap-shard, making any missing")
@@ -91,9 +114,9 @@ func (b *bootstrapFlags) check() (bootstrapRequest, error) {
 	if *b.k < 0 || *b.k == 1 {
 		return r, badInputf("image: -bootstrap %d: want 0 (none) or at least 2 replicates", *b.k)
 	}
-	u, err := dataset.ParseUnit(*b.unit)
+	u, err := b.parseUnit("image")
 	if err != nil {
-		return r, badInputf("image: -bootstrap-unit %v", err)
+		return r, err
 	}
 	switch *b.ref {
 	case "auto", "disc", "annulus":

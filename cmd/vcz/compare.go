@@ -10,7 +10,6 @@ import (
 	"sync"
 	"time"
 
-	"vcz/dataset"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/regularizers"
@@ -73,24 +72,23 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	quiet := fs.Bool("quiet", false, quietUsage)
 	asJSON := fs.Bool("json", false, "print the table as JSON on stdout")
 	strict := fs.Bool("strict", false, strictUsage)
-	bootK := fs.Int("bootstrap", 0, "also reconstruct this many resamplings of the data around each regularizer's image, and show each one's per-pixel standard deviation in the report (0: none)")
-	bootUnit := fs.String("bootstrap-unit", "exposure", "what -bootstrap draws with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)")
-	bootSeed := fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates")
+	boot := registerResampling(fs, "also reconstruct this many resamplings of the data around each regularizer's image, and show each one's per-pixel standard deviation in the report (0: none)")
+	bootK := boot.k
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
 	if fs.NArg() == 0 {
 		return badInputf("compare: no OIFITS file given (run 'vcz compare --help')")
 	}
-	bootOpt := workflow.BootstrapOptions{Replicates: *bootK, Seed: *bootSeed}
+	bootOpt := workflow.BootstrapOptions{Replicates: *bootK, Seed: *boot.seed}
 	if *bootK == 1 || *bootK < 0 {
 		return badInputf("compare: -bootstrap %d: want 0 (none) or at least 2 replicates", *bootK)
 	}
-	if u, err := dataset.ParseUnit(*bootUnit); err != nil {
-		return badInputf("compare: -bootstrap-unit: %v", err)
-	} else {
-		bootOpt.Unit = u
+	unit, err := boot.parseUnit("compare")
+	if err != nil {
+		return err
 	}
+	bootOpt.Unit = unit
 	if *out == "" {
 		base := filepath.Base(fs.Arg(0))
 		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-compare"

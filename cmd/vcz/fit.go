@@ -7,7 +7,6 @@ import (
 	"io"
 	"strings"
 
-	"vcz/dataset"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
@@ -112,9 +111,8 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
 	strict := registerStrict(fs)
-	bootK := fs.Int("bootstrap", 0, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
-	bootUnit := fs.String("bootstrap-unit", "exposure", "what -bootstrap draws with replacement: exposure (all data of one file and MJD) or baseline (each baseline and triangle row)")
-	bootSeed := fs.Uint64("bootstrap-seed", 1, "seed of the resampling: the same seed draws the same replicates")
+	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
+	bootK := boot.k
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -171,11 +169,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
 	}
 	if *bootK > 0 {
-		unit, err := dataset.ParseUnit(*bootUnit)
+		unit, err := boot.parseUnit("fit")
 		if err != nil {
-			return badInputf("fit: -bootstrap-unit: %v", err)
+			return err
 		}
-		fitSet.Bootstrap = workflow.FitBootstrap{K: *bootK, Unit: unit, Seed: *bootSeed}
+		fitSet.Bootstrap = workflow.FitBootstrap{K: *bootK, Unit: unit, Seed: *boot.seed}
 	}
 	sepMin, sepMax := 0.0, 0.0 // the separations of -grid-search and -limits (mas; 0, 0: the default)
 	if *gridSep != "" {
