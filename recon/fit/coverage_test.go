@@ -6,8 +6,6 @@ import (
 	"math/rand/v2"
 	"sort"
 	"testing"
-
-	"vcz/recon/model"
 )
 
 // BenchmarkCoverage checks the observer's quantities of simulated binaries over separations
@@ -35,8 +33,8 @@ func BenchmarkCoverage(b *testing.B) {
 		for is, sep := range seps {
 			for ir, ratio := range ratios {
 				x, y := sep*math.Sin(pa), sep*math.Cos(pa)
-				truth := mustLoadB(b, fmt.Sprintf("ud:diameter=0.5;point:x=%g,y=%g,flux=%g", x, y, ratio))
-				start := mustLoadB(b, fmt.Sprintf("ud:diameter~0.5;point:x~%g,y~%g,flux~%g(0..1)", x, y, ratio))
+				truth := mustLoad(b, fmt.Sprintf("ud:diameter=0.5;point:x=%g,y=%g,flux=%g", x, y, ratio))
+				start := mustLoad(b, fmt.Sprintf("ud:diameter~0.5;point:x~%g,y~%g,flux~%g(0..1)", x, y, ratio))
 				var in [3]int
 				var vals [3][]float64
 				var errs [3][]float64
@@ -83,15 +81,6 @@ func BenchmarkCoverage(b *testing.B) {
 	}
 	b.ReportMetric(worst, "worst-coverage")
 	b.ReportMetric(worstScatter, "worst-scatter-dev")
-}
-
-func mustLoadB(b *testing.B, spec string) *model.Model {
-	b.Helper()
-	m, err := model.Load(spec)
-	if err != nil {
-		b.Fatal(err)
-	}
-	return m
 }
 
 // mad is 1.4826 times the median of |x|: the scatter of deviations x from the truth.
