@@ -317,7 +317,7 @@ func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) ([]string,
 	preds := make([]*recon.Prediction, len(ok))
 	var use dataset.DataType
 	for i, r := range ok {
-		p, err := recon.Predict(d, r.Result.Grid.Grid, r.Result.Image, nil)
+		p, err := recon.PredictWith(d, r.Result.Grid.Grid, r.Result.Image, nil, recon.ModelOptions{Smearing: r.Result.Smearing})
 		if err != nil {
 			return nil, err
 		}

@@ -93,6 +93,8 @@ against the χ² with it, rescaled so that the latter's χ²ᵣ is 1, as a p-val
 of the χ² distribution with the component's number of free parameters and a
 Gaussian-equivalent σ; it holds at a given position, a searched position
 reaches it by chance more often, and calibration errors inflate it.
+-smearing on (or auto) averages the model over each channel's band, as
+images do; the default, off, takes it at the channel's centre.
 -limits PREFIX writes detection limits of a further point companion, the
 3σ and 5σ Δmag against separation (mean and worst over position angle), as
 PREFIX.csv and PREFIX.png, on a -limits-nsep × -limits-npa grid. A
