@@ -368,7 +368,7 @@ func (r *planeReg) Eval(grad, x []float64) float64 {
 //     the support, by the runs of Solve: in the first sweep from x̄, the amplitudes first
 //     (as Solve does from a smooth start), then the smoothed phase terms, then the exact
 //     ones for up to MaxIter iterations; then further sweeps of exact runs of up to
-//     PathIter iterations, at most CubeSweeps in all, until a sweep lowers the objective
+//     PathIter iterations (MaxIter when smaller), at most CubeSweeps in all, until a sweep lowers the objective
 //     by less than CubeSweepTol relative. A single quasi-Newton run over the whole cube
 //     was measured to creep: its one curvature scale cannot suit planes whose χ² differ
 //     tenfold (a disc growing 20 % across the band, 8 planes: the objective fell by 0.02 %
@@ -618,7 +618,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				}
 				iters := s.MaxIter
 				if sweep > 0 {
-					iters = s.PathIter
+					iters = min(s.PathIter, s.MaxIter)
 				}
 				r, err := e.run(cur, 1, use, iters, stage)
 				if err != nil {
