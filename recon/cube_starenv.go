@@ -204,7 +204,7 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	}
 	nTot := 0
 	for k, pl := range p.Planes {
-		m, err := NewForwardModel(pl.Data, g.Grid, true, mk)
+		m, err := NewForwardModelWith(pl.Data, g.Grid, true, mk, ModelOptions{Smearing: p.Smearing})
 		if err != nil {
 			return nil, fmt.Errorf("recon: plane %d (%s): %w", k+1, pl.Label, err)
 		}
