@@ -57,7 +57,8 @@ Job file (TOML; paths relative to the job file):
                                  each key the flag's name without the dash:
     target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
     support, tv-eps, data-weights, iter, seed, starts, coarse, no-amp-first,
-    smearing, workers (e.g. n = 64, reg = "mem,compact:0.1", coarse = true)
+    smearing, workers, channels, spectral, star, star-index (e.g. n = 64,
+    reg = "mem,compact:0.1", coarse = true, channels = "4")
   [[epoch]]
     name = "night-1"             used for the output names (default epoch-NN)
     files = ["a.oifits", "b.oifits"]
@@ -70,6 +71,10 @@ Outputs in the folder (-o, default "batch"):
                                weight, iterations, seconds, status, warnings
                                (a list in JSON, their number in CSV), error
   montage.png, epochs.gif      all epochs on one colour scale, with dates
+
+With channels (-channels) or a star (-star) each epoch is imaged as 'vcz
+image' does with them: EPOCH.fits is its cube (the montage and animation
+show its first plane) or its environment image, and -joint is refused.
 
 Every epoch is imaged on one grid, the finest pixel and widest field that any
 epoch's data call for (or -n and -pixel when given), so the images compare
@@ -84,7 +89,7 @@ With -joint also:
 
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
-	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)
 	job := fs.String("job", "", "job file (TOML) listing the epochs and their settings")
 	out := fs.String("o", "", "output folder (default: the job file's output, else batch)")
 	fs.StringVar(out, "out", "", "earlier name of -o")
@@ -140,6 +145,11 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	}
 	if err := workflow.CheckEpochFiles(epochs); err != nil {
 		return err
+	}
+	if *joint {
+		if err := workflow.CheckJoint(epochs); err != nil {
+			return err
+		}
 	}
 	if *joint && shard.N > 1 {
 		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)

@@ -33,6 +33,9 @@ on the split.
 Outputs in DIR (made if missing):
   NAME.fits, NAME.png    each regularizer's image and preview
   NAME-lcurve.png        its weight path (misfit against regularizer value)
+  NAME-cube.fits, .png, -planes.csv  with -channels, each regularizer's cube
+                         (NAME.fits is then the gray image it started from,
+                         which the rest of the report compares)
   compare-panel.png      all images on one colour scale, labelled
   compare-spread.fits/.png  pixel-wise standard deviation over the mean image
   compare-robust.fits/.png  pixel-wise minimum after aligning the images by
@@ -60,7 +63,7 @@ func init() {
 
 func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
-	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon, "reg")
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube, "reg")
 	stretch := registerStretch(fs)
 	regs := fs.String("reg", "all", "regularizers to compare, comma-separated from "+regularizers.NameList()+", or all")
 	if fl := fs.Lookup("weight"); fl != nil {

@@ -161,10 +161,10 @@ func runStarEnv(c *workflow.Cube, outs output.Outputs, out string, quiet, asJSON
 	if quiet {
 		return nil
 	}
-	fmt.Fprintf(stdout, "Star:        %.4f of the flux at %.4g µm (± %.2g with the image fixed), spectral index %.3g (given)\n", sum.StarF0, sum.Lambda0Um, sum.StarF0Err, sum.StarIndex)
-	fmt.Fprintf(stdout, "Environment: spectral index %.4g (± %.2g with the image fixed)\n", sum.EnvIndex, sum.EnvIndexErr)
+	fmt.Fprintf(stdout, "Star:        %.4f of the flux at %.4g µm ± %.2g, spectral index %.3g (given)\n", sum.StarF0, sum.Lambda0Um, sum.StarF0Err, sum.StarIndex)
+	fmt.Fprintf(stdout, "Environment: spectral index %.4g ± %.2g\n", sum.EnvIndex, sum.EnvIndexErr)
 	fmt.Fprintf(stdout, "Fit:         χ²ᵣ %.4g over all channels (gray image %.4g), %d iterations, %.1f s\n", sum.Chi2r, sum.GrayChi2r, sum.Iterations, sum.Seconds)
-	fmt.Fprintln(stdout, "Note:        the errors hold the image fixed and underestimate; the image is the environment alone.")
+	fmt.Fprintln(stdout, "Note:        1σ errors from the profile with the image refitted (noise only; the regularizer's bias is not in them); the image is the environment alone.")
 	for _, p := range []string{paths.FITS, paths.PNG} {
 		if p != "" {
 			fmt.Fprintf(stdout, "Wrote %s\n", p)
