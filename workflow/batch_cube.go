@@ -19,7 +19,8 @@ func cubeEpoch(e *Epoch) bool { return !e.Spec.Channels.Single() || e.Spec.Star 
 
 // CheckJoint refuses a joint reconstruction of epochs that are not imaged as one gray image
 // each: the joint run starts from the epochs' images and fits all their channels to one
-// image per epoch. Its error is an *InputError.
+// image per epoch, with the first epoch's data terms and regularizers, so epochs that
+// differ there are refused too. Its error is an *InputError.
 func CheckJoint(epochs []*Epoch) error {
 	for _, e := range epochs {
 		if cubeEpoch(e) {
