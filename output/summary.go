@@ -281,6 +281,13 @@ type FitDetectJ struct {
 	PValue    JFloat `json:"p_value"`
 	Sigma     JFloat `json:"sigma"`
 	Searched  bool   `json:"position_searched"`
+	// GlobalPValue and GlobalSigma are the field-wide figures of a searched position (null
+	// without a calibration); PValue and Sigma are then the local ones. Trials is the
+	// effective number of independent positions and SearchDraws the simulated searches.
+	GlobalPValue JFloat `json:"global_p_value"`
+	GlobalSigma  JFloat `json:"global_sigma"`
+	Trials       JFloat `json:"effective_trials,omitempty"`
+	SearchDraws  int    `json:"search_draws,omitempty"`
 }
 
 // FitLimitsJ gives the detection limits: the files written and the azimuthal mean and
@@ -377,7 +384,8 @@ func FitDetections(res *fit.Result, dets []*fit.Detection) []FitDetectJ {
 		}
 		out = append(out, FitDetectJ{Component: det.Comp + 1, Chi2Null: JFloat(det.Chi2Null), Chi2Alt: JFloat(det.Chi2Alt),
 			Scale: JFloat(det.Scale), Extra: det.Extra, DeltaChi2: JFloat(det.DeltaChi2), PValue: JFloat(det.PValue),
-			Sigma: JFloat(det.Sigma), Searched: searched})
+			Sigma: JFloat(det.Sigma), Searched: searched, GlobalPValue: JFloat(det.GlobalPValue), GlobalSigma: JFloat(det.GlobalSigma),
+			Trials: JFloat(det.Trials), SearchDraws: det.Draws})
 	}
 	return out
 }

@@ -39,10 +39,16 @@ of the model without it (refitted) with the χ² with it, both divided by the
 χ²ᵣ with it so that it is 1; the difference is referred to the χ²
 distribution with as many degrees of freedom as the component has free
 parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
-0.27 %). It is calibrated for a component at a given position; when its
-position was searched (free x and y, -grid-search), chance alone reaches a
-given σ far more often, and calibration errors outside the error bars
-inflate it too. -no-significance skips it.
+0.27 %). That local figure is calibrated for a component at a given
+position. When its position was searched (-grid-search, or free x and y
+with several starts) chance alone reaches a given local σ far more often,
+so a field-wide figure is given beside it: the chance that noise alone
+gives so large a Δχ² anywhere in the searched field, from -search-draws
+simulated searches (noise drawn with these (u,v) points and error bars
+around the best fit without the component; first order in the noise and
+the companion's flux). Quote the field-wide figure for a companion that
+was searched for. Calibration errors outside the error bars inflate both.
+-no-significance skips them.
 
 Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
@@ -114,6 +120,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
+	searchDraws := fs.Int("search-draws", 1000, "simulated searches that give the field-wide significance of a searched companion (0: local figures only)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -165,6 +172,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}, SkipSignificance: *noSig}
+	if fitSet.SearchDraws = *searchDraws; *searchDraws == 0 {
+		fitSet.SearchDraws = -1
+	} else if *searchDraws < 0 {
+		return badInputf("fit: -search-draws %d must not be negative", *searchDraws)
+	}
 	if *bootK < 0 {
 		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
 	}
