@@ -126,6 +126,11 @@ func (l *FitLimitsJ) writeText(w io.Writer) {
 	for _, name := range names {
 		fmt.Fprintf(w, " %8s", name)
 	}
+	if l.InjMeanDMag != nil {
+		for _, name := range names {
+			fmt.Fprintf(w, " %12s", name+" inj.")
+		}
+	}
 	fmt.Fprintln(w)
 	step := max(1, len(l.Sep)/10)
 	for i := 0; i < len(l.Sep); i += step {
@@ -133,7 +138,16 @@ func (l *FitLimitsJ) writeText(w io.Writer) {
 		for _, name := range names {
 			fmt.Fprintf(w, " %8s", pm(l.MeanDMag[name][i], 0))
 		}
+		if l.InjMeanDMag != nil {
+			for _, name := range names {
+				fmt.Fprintf(w, " %12s", pm(l.InjMeanDMag[name][i], 0))
+			}
+		}
 		fmt.Fprintln(w)
+	}
+	if l.InjMeanDMag != nil {
+		fmt.Fprintln(w, "  (\"inj.\": by injection–recovery into these data, which follows their noise at each position;")
+		fmt.Fprintln(w, "   the others by the χ² method, the limits expected of these observations)")
 	}
 	fmt.Fprintf(w, "Wrote %s and %s\n", l.CSV, l.Plot)
 }

@@ -26,7 +26,15 @@ func TestFitSummaryText(t *testing.T) {
 	}
 	mean[0][0] = math.NaN()
 	L := &fit.Limits{Sep: seps, Sigmas: []float64{3, 5}, Mean: mean, Worst: mean, Scale: 1.2}
+	L.Inj = &fit.InjLimits{Mean: [][]float64{make([]float64, 20), make([]float64, 20)}}
+	L.Inj.Worst = L.Inj.Mean
+	for i := range seps {
+		L.Inj.Mean[0][i], L.Inj.Mean[1][i] = 0.001, 0.01
+	}
 	lj := NewFitLimits(L, "lim.csv", "lim.png")
+	if got := float64(lj.InjMeanDMag["5σ"][2]); math.Abs(got-5) > 1e-12 {
+		t.Errorf("Δmag of a ratio 0.01 by injection: %g, want 5", got)
+	}
 	if got := float64(lj.MeanDMag["3σ"][1]); math.Abs(got-5) > 1e-12 {
 		t.Errorf("Δmag of a ratio 0.01: %g, want 5", got)
 	}
@@ -50,14 +58,14 @@ func TestFitSummaryText(t *testing.T) {
 	for _, want := range []string{"Relative to component 1", "5 ± 0.01", "126.87 ± 0.1", "3.2526 ± 0.02",
 		"component 2: Δχ² 40 for 3 parameters, local p = 1e-08, 5.7σ; field-wide p = 2e-05, 4.3σ (812 effective positions, 1000 simulated searches)",
 		"component 3: Δχ² 9 for 1 parameters, p = 0.0027, 3.0σ\n", `"field-wide" is the chance`,
-		"errors scaled by χ²ᵣ 1.2", "n/a", "Wrote lim.csv and lim.png"} {
+		"errors scaled by χ²ᵣ 1.2", "n/a", "Wrote lim.csv and lim.png", "5σ inj.", `"inj.": by injection–recovery`} {
 		if !strings.Contains(out, want) {
 			t.Errorf("report lacks %q:\n%s", want, out)
 		}
 	}
 	rows := 0
 	for _, line := range strings.Split(out, "\n") {
-		if strings.HasSuffix(line, "   2.5") {
+		if strings.HasSuffix(line, "   2.5          7.5            5") {
 			rows++
 		}
 	}

@@ -300,6 +300,9 @@ type FitLimitsJ struct {
 	MeanDMag map[string][]JFloat `json:"dmag_mean"`
 	Worst    map[string][]JFloat `json:"dmag_worst"`
 	Scale    JFloat              `json:"chi2r_scale"`
+	// InjMeanDMag and InjWorst are the same by injection–recovery, absent unless computed.
+	InjMeanDMag map[string][]JFloat `json:"dmag_mean_injection,omitempty"`
+	InjWorst    map[string][]JFloat `json:"dmag_worst_injection,omitempty"`
 }
 
 // FitCorrJ is a correlation between two parameters.
@@ -399,6 +402,16 @@ func NewFitLimits(L *fit.Limits, csv, plot string) *FitLimitsJ {
 		for i := range L.Sep {
 			j.MeanDMag[name] = append(j.MeanDMag[name], JFloat(fit.DMag(L.Mean[k][i])))
 			j.Worst[name] = append(j.Worst[name], JFloat(fit.DMag(L.Worst[k][i])))
+		}
+	}
+	if in := L.Inj; in != nil {
+		j.InjMeanDMag, j.InjWorst = map[string][]JFloat{}, map[string][]JFloat{}
+		for k, s := range L.Sigmas {
+			name := sigmaName(s)
+			for i := range L.Sep {
+				j.InjMeanDMag[name] = append(j.InjMeanDMag[name], JFloat(fit.DMag(in.Mean[k][i])))
+				j.InjWorst[name] = append(j.InjWorst[name], JFloat(fit.DMag(in.Worst[k][i])))
+			}
 		}
 	}
 	return j

@@ -69,7 +69,12 @@ the flux ratio whose companion would change χ² by the Δχ² of a 3σ and a 5�
 detection (3 degrees of freedom: its position and flux), the model's free
 parameters refitted to first order. PREFIX.csv gives the mean and worst
 ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
-against separation.
+against separation. With -limits-injection they are also found by
+injection–recovery: a companion of each trial ratio is added to the data at
+each position and counts as recovered when its detection there (its flux
+and the model refitted) reaches 3σ or 5σ. These follow the noise of these
+data at each position, the χ² limits what the observations are expected to
+reach; the two agree on average.
 
 Outputs with -o PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
 (closure phases) and likewise PREFIX-t3amp.png, PREFIX-visamp.png and
@@ -116,6 +121,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	limInj := fs.Bool("limits-injection", false, "also give the -limits by injection–recovery of fake companions into the data")
 	strict := registerStrict(fs)
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
@@ -196,7 +202,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		sepMin, sepMax = lo/recon.Mas, hi/recon.Mas
 	}
 	if *limits != "" {
-		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA}
+		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA, Injection: *limInj}
 	}
 	if *grid {
 		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, SepMin: sepMin, SepMax: sepMax}

@@ -215,6 +215,14 @@ func TestInjectionLimits(t *testing.T) {
 			t.Errorf("%gσ: s has mean %.3f and sd %.3f, want 0 and 1", sigma, mean, sd)
 		}
 	}
+	var b bytes.Buffer
+	if err := L.WriteCSV(&b); err != nil {
+		t.Fatal(err)
+	}
+	rows, err := csv.NewReader(&b).ReadAll()
+	if err != nil || len(rows) != 7 || len(rows[0]) != 17 || rows[0][9] != "ratio_mean_injection_3sigma" {
+		t.Fatalf("CSV %v (%v)", rows, err)
+	}
 	for is := range L.Sep {
 		if r := L.Inj.Mean[1][is] / L.Mean[1][is]; math.Abs(r-1) > 0.15 {
 			t.Errorf("%g mas: 5σ mean limits %.4g by injection, %.4g by χ²", L.Sep[is], L.Inj.Mean[1][is], L.Mean[1][is])
