@@ -61,8 +61,12 @@
 // companion of free flux at a fixed position the false-detection rates at
 // 2σ and 3σ match the normal tails over 4 000 noise draws. With the
 // position searched too (16 seeded starts) the rates on the same data were
-// 60 % at 2σ and 12 % at 3σ over 300 draws: the figure is local, not
-// field-wide.
+// 60 % at 2σ and 12 % at 3σ over 300 draws: that figure is local, not
+// field-wide. Detection.Calibrate gives the field-wide one: CalibrateSearch
+// simulates the search over the field on the data's own (u,v) points and
+// error bars (noise around the fit without the component, to first order,
+// an adjoint transform per draw) and refers the Δχ² found to the
+// distribution of the largest Δχ² of those searches (FIELDWIDE_FIGURES).
 //
 // # Detection limits
 //
@@ -74,7 +78,10 @@
 // worst case against separation. Companions injected at 1.5 times the 5σ
 // limit were detected at 5σ in 119 of 120 draws at three positions, at
 // half of it in 1 of 120. A 50 × 50 grid on 2 040 data takes about 5 s on
-// two shared cores (BenchmarkDetectionLimits).
+// two shared cores (BenchmarkDetectionLimits). LimitOptions.Injection
+// adds limits by injection–recovery: companions injected into these data
+// and detected at their position. They follow the data's noise at each
+// position and agree with the χ² limits on average (INJECTION_FIGURES).
 //
 // # Model files
 //

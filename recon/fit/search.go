@@ -387,39 +387,44 @@ func visJacobian(t *terms, v0 []complex128) []jacEntry {
 func abs(v complex128) float64 { return math.Hypot(real(v), imag(v)) }
 
 // gNorms returns |g_p|² at every cell of the field (0 elsewhere): g_p,j =
-// Σ_i Re(conj(w_ji)(e_i(p) − V₀_i)), with the separable phases
-// e_i(p) = exp(−2πi u_i x) exp(−2πi v_i y).
+// Σ_i Re(conj(w_ji)(e_i(p) − V₀_i)). Along a row the phases
+// e_i(p) = exp(−2πi(u_i x + v_i y)) advance by a constant factor per cell
+// (rounding grows by about one unit in the last place per cell), so the
+// memory is a few vectors of the points and a cell costs one complex
+// product per point and one multiply-add per non-zero derivative.
 func gNorms(t *terms, jac []jacEntry, v0 []complex128, in []bool, nx, ny int, cellX, cellY func(int) float64) []float64 {
 	nf := len(v0)
-	ex := make([][]complex128, nx)
-	for ix := range ex {
-		ex[ix] = make([]complex128, nf)
-		x := cellX(ix) * model.MasToRad
-		for i := range ex[ix] {
-			s, c := math.Sincos(-2 * math.Pi * t.u[i] * x)
-			ex[ix][i] = complex(c, s)
-		}
+	x0, dx := cellX(0)*model.MasToRad, (cellX(1)-cellX(0))*model.MasToRad
+	step := make([]complex128, nf)
+	for i := range step {
+		s, c := math.Sincos(-2 * math.Pi * t.u[i] * dx)
+		step[i] = complex(c, s)
 	}
-	ey := make([]complex128, nf)
+	e := make([]complex128, nf)
 	delta := make([]complex128, nf)
 	g := make([]float64, t.Len())
 	out := make([]float64, nx*ny)
 	for iy := 0; iy < ny; iy++ {
 		y := cellY(iy) * model.MasToRad
-		for i := range ey {
-			s, c := math.Sincos(-2 * math.Pi * t.v[i] * y)
-			ey[i] = complex(c, s)
+		for i := range e {
+			s, c := math.Sincos(-2 * math.Pi * (t.u[i]*x0 + t.v[i]*y))
+			e[i] = complex(c, s)
 		}
 		for ix := 0; ix < nx; ix++ {
+			if ix > 0 {
+				for i := range e {
+					e[i] *= step[i]
+				}
+			}
 			if !in[iy*nx+ix] {
 				continue
 			}
 			for i := range delta {
-				delta[i] = ex[ix][i]*ey[i] - v0[i]
+				delta[i] = e[i] - v0[i]
 			}
 			clear(g)
-			for _, e := range jac {
-				g[e.j] += real(e.w)*real(delta[e.i]) + imag(e.w)*imag(delta[e.i])
+			for _, en := range jac {
+				g[en.j] += real(en.w)*real(delta[en.i]) + imag(en.w)*imag(delta[en.i])
 			}
 			out[iy*nx+ix] = dot(g, g)
 		}

@@ -224,3 +224,28 @@ func TestCalibrationTail(t *testing.T) {
 		prev = p
 	}
 }
+
+// BenchmarkCalibrateSearch calibrates a search over separations up to
+// 25 mas (a resolution of 0.88 mas: about 2 500 resolution elements) next
+// to a disc fitted to 2 040 data (V², closure amplitudes and phases,
+// visibility amplitudes and phases), with 1 000 simulated searches.
+func BenchmarkCalibrateSearch(b *testing.B) {
+	n := exactNoise
+	n.vis = true
+	n.rng = rand.New(rand.NewPCG(1, 2))
+	d := synth(modelVis(mustLoad(b, "ud:diameter=1.5")), n)
+	use := dataset.Vis2 | dataset.T3Amp | dataset.T3Phi | dataset.VisAmp | dataset.VisPhi
+	res, err := Fit(d, mustLoad(b, "ud:diameter~1.5"), Options{Use: use})
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		cal, err := CalibrateSearch(d, res.Model, use, SearchOptions{Field: Field{SepMin: 1, SepMax: 25}})
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.ReportMetric(float64(cal.Positions), "positions")
+		b.ReportMetric(cal.Trials, "N_eff")
+	}
+}
