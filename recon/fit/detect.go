@@ -66,13 +66,18 @@ func (det *Detection) Calibrate(d *dataset.Data, opt SearchOptions) (*Calibratio
 	if err != nil {
 		return nil, err
 	}
+	det.SetGlobal(cal)
+	return cal, nil
+}
+
+// SetGlobal sets the field-wide significance from a calibration of the
+// search (CalibrateSearch), never above the local one.
+func (det *Detection) SetGlobal(cal *Calibration) {
 	det.GlobalPValue, det.GlobalSigma = cal.PValue(det.DeltaChi2)
 	if det.GlobalPValue < det.PValue {
-		// Never more significant than the one position found.
 		det.GlobalPValue, det.GlobalSigma = det.PValue, det.Sigma
 	}
 	det.Trials, det.Draws = cal.Trials, cal.Draws
-	return cal, nil
 }
 
 // Significance returns the significance of component c of the fit res:

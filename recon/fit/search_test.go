@@ -58,7 +58,8 @@ func checkSearchedFalseDetections(t testing.TB, draws int) {
 			}
 			t.Logf("calibration: %d positions %.3g mas apart, N_eff %.4g (field area over resolution element: %.4g)", cal.Positions, cal.Step, cal.Trials, cal.AreaTrials)
 		}
-		_, global := cal.PValue(det.DeltaChi2)
+		det.SetGlobal(cal)
+		global := det.GlobalSigma
 		// The trials correction without simulation: p_global = 1 − (1 −
 		// p₁)^N, N the field's area over the resolution element.
 		p1 := cal.pOne(det.DeltaChi2)
