@@ -23,7 +23,10 @@ import (
 // The calibration is made once, from the first draw's fit without the
 // companion: it depends on the data only through the (u,v) points, the
 // error bars and that fit, the same for every draw to first order. The
-// test runs 40 draws; BenchmarkFalseDetectionRateSearched runs 1000:
+// test runs 40 draws; BenchmarkFalseDetectionRateSearched runs 1000 (it
+// measured 43 and 2 field-wide detections at 2σ and 3σ, against 45.5 ±
+// 6.6 and 2.7 ± 1.6 expected; 484 and 77 local ones; 59 and 6 by the
+// trials correction of the field's area; 500 s on two loaded cores):
 //
 //	go test -run '^$' -bench FalseDetectionRateSearched -benchtime 1x ./recon/fit
 func TestFalseDetectionRateSearched(t *testing.T) { checkSearchedFalseDetections(t, 40) }
