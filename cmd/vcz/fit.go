@@ -39,10 +39,16 @@ of the model without it (refitted) with the χ² with it, both divided by the
 χ²ᵣ with it so that it is 1; the difference is referred to the χ²
 distribution with as many degrees of freedom as the component has free
 parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
-0.27 %). It is calibrated for a component at a given position; when its
-position was searched (free x and y, -grid-search), chance alone reaches a
-given σ far more often, and calibration errors outside the error bars
-inflate it too. -no-significance skips it.
+0.27 %). That local figure is calibrated for a component at a given
+position. When its position was searched (-grid-search, or free x and y
+with several starts) chance alone reaches a given local σ far more often,
+so a field-wide figure is given beside it: the chance that noise alone
+gives so large a Δχ² anywhere in the searched field, from -search-draws
+simulated searches (noise drawn with these (u,v) points and error bars
+around the best fit without the component; first order in the noise and
+the companion's flux). Quote the field-wide figure for a companion that
+was searched for. Calibration errors outside the error bars inflate both.
+-no-significance skips them.
 
 Binaries are multi-modal in separation and position angle: when a
 component's x and y are both free, the fit makes 16 starts (-starts) and
@@ -63,7 +69,12 @@ the flux ratio whose companion would change χ² by the Δχ² of a 3σ and a 5�
 detection (3 degrees of freedom: its position and flux), the model's free
 parameters refitted to first order. PREFIX.csv gives the mean and worst
 ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
-against separation.
+against separation. With -limits-injection they are also found by
+injection–recovery: a companion of each trial ratio is added to the data at
+each position and counts as recovered when its detection there (its flux
+and the model refitted) reaches 3σ or 5σ. These follow the noise of these
+data at each position, the χ² limits what the observations are expected to
+reach; the two agree on average.
 
 Outputs with -o PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
 (closure phases) and likewise PREFIX-t3amp.png, PREFIX-visamp.png and
@@ -110,11 +121,13 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	limInj := fs.Bool("limits-injection", false, "also give the -limits by injection–recovery of fake companions into the data")
 	strict := registerStrict(fs)
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
 	smearing := fs.String("smearing", "auto", "bandwidth smearing of the model: auto (averaged over each band where that exceeds the noise for a source as large as λ/B_min), on, or off (each channel at its centre)")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
+	searchDraws := fs.Int("search-draws", 1000, "simulated searches that give the field-wide significance of a searched companion (0: local figures only)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -171,6 +184,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	} else if sm != recon.SmearOff {
 		fitSet.Fit.Smearing = &sm
 	}
+	if fitSet.SearchDraws = *searchDraws; *searchDraws == 0 {
+		fitSet.SearchDraws = -1
+	} else if *searchDraws < 0 {
+		return badInputf("fit: -search-draws %d must not be negative", *searchDraws)
+	}
 	if *bootK < 0 {
 		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
 	}
@@ -190,7 +208,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		sepMin, sepMax = lo/recon.Mas, hi/recon.Mas
 	}
 	if *limits != "" {
-		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA}
+		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA, Injection: *limInj}
 	}
 	if *grid {
 		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, SepMin: sepMin, SepMax: sepMax}
