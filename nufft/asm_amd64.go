@@ -11,6 +11,9 @@ const hasAsm = true
 // support AVX (fft_amd64.s).
 func cpuHasAVX() bool
 
+// cpuHasAVX2 reports whether the processor has AVX2 (fft_amd64.s).
+func cpuHasAVX2() bool
+
 // useAsm selects the assembly loops; tests clear it to run the portable
 // Go loops of the same build.
 var useAsm = true
@@ -19,6 +22,10 @@ var useAsm = true
 // same bits as the SSE2 form (TestGriddingAVX) in fewer instructions.
 // Tests switch it.
 var useAVX = cpuHasAVX()
+
+// usePairs selects the spreading loops on pairs of cells (AVX2), which
+// give the bits of the other forms (TestGriddingAVX). Tests switch it.
+var usePairs = useAVX && cpuHasAVX2()
 
 // interpAsm interpolates the sorted points [lo, hi) that do not wrap in
 // x with the SSE2 loops and reports whether it did; the caller then
@@ -51,6 +58,14 @@ func (p *plan) hasSpreadAsm() bool {
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {
 	w := p.w
 	if lo >= hi {
+		return
+	}
+	if usePairs && w >= minPair {
+		if p.wts32 != nil {
+			spreadAVX2f32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+		} else {
+			spreadAVX2f64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+		}
 		return
 	}
 	f32, f64 := &spreadSSE2f32, &spreadSSE2f64

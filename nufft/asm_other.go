@@ -6,8 +6,8 @@ package nufft
 // this build; see asm_amd64.go.
 const hasAsm = false
 
-// useAsm and useAVX are never set without assembly.
-var useAsm, useAVX = false, false
+// useAsm, useAVX and usePairs are never set without assembly.
+var useAsm, useAVX, usePairs = false, false, false
 
 // No width has an assembly form.
 const minAsm, maxAsm = 1, 0

@@ -271,3 +271,25 @@ r2loop:
 	JNZ r2loop
 r2done:
 	RET
+
+// func cpuHasAVX2() bool
+//
+// Reports whether the processor has AVX2 (CPUID.(EAX=7,ECX=0):EBX bit 5;
+// Intel SDM vol. 2A, CPUID). The caller checks cpuHasAVX for the
+// operating system's support of the YMM registers.
+TEXT ·cpuHasAVX2(SB), NOSPLIT, $0-1
+	XORL AX, AX
+	XORL CX, CX
+	CPUID
+	CMPL AX, $7
+	JLT no2
+	MOVL $7, AX
+	XORL CX, CX
+	CPUID
+	ANDL $0x20, BX
+	JZ no2
+	MOVB $1, ret+0(FP)
+	RET
+no2:
+	MOVB $0, ret+0(FP)
+	RET
