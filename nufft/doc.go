@@ -99,7 +99,10 @@
 //
 // # Calls
 //
-// A Plan keeps its points sorted by grid position. ForwardSorted and
+// A Plan keeps its points sorted by grid position (in bands of rows,
+// then by column, with the two halves of each run of 128 points
+// interleaved so that the spreading does not wait on its own stores).
+// ForwardSorted and
 // AdjointSorted take the visibilities in that order (Order gives it)
 // and skip the scattered stores and gathered loads of Forward and
 // Adjoint, with the same bits; a caller that keeps its data in the

@@ -179,15 +179,18 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// The scatter of the sort also puts the coordinates in sorted order,
 	// so that the weights are computed in sequential passes.
 	p.perm = make([]int32, m)
-	sx := make([]float64, m)
-	sy := make([]float64, m)
 	for k, c := range key {
 		i := count[c]
 		count[c]++
 		p.perm[i] = int32(k)
-		sx[i], sy[i] = fineX(k), fineY(k)
 	}
 	count, key = nil, nil
+	interleave(p.perm, make([]int32, min(m, interleaveBlock)))
+	sx := make([]float64, m)
+	sy := make([]float64, m)
+	for i, k := range p.perm {
+		sx[i], sy[i] = fineX(int(k)), fineY(int(k))
+	}
 	p.sorted = make([]complex128, m)
 	p.x0 = make([]int32, m)
 	p.y0 = make([]int32, m)
@@ -791,5 +794,31 @@ func (j *weightJob) do(_, s int) {
 				out[d] = float32(x)
 			}
 		}
+	}
+}
+
+// interleaveBlock is the number of sorted points whose two halves
+// interleave (see interleave). 64 to 512 gave the same speed, 16 less
+// and 1 (no interleaving) 10–13 % more spreading time at 128² and 256².
+const interleaveBlock = 128
+
+// interleave reorders perm, sorted by bin row and x0, so that within
+// each block of interleaveBlock points the first and second halves
+// alternate. Neighbours in the sort touch mostly the same cells, so the
+// spreading of a point would wait on the stores of the point before it;
+// alternating two runs about half a block apart in x lets the processor
+// overlap them. The interpolation reads the same cells in the same
+// block either way, at the same speed (measured).
+func interleave(perm, tmp []int32) {
+	b := interleaveBlock
+	for lo := 0; lo < len(perm); lo += b {
+		blk := perm[lo:min(lo+b, len(perm))]
+		n := len(blk)
+		q := (n + 1) / 2
+		t := tmp[:n]
+		for i := range t {
+			t[i] = blk[i/2+(i%2)*q]
+		}
+		copy(blk, t)
 	}
 }
