@@ -102,11 +102,11 @@
 // A Plan keeps its points sorted by grid position (in bands of rows,
 // then by column, with the two halves of each run of 128 points
 // interleaved so that the spreading does not wait on its own stores).
-// ForwardSorted and
-// AdjointSorted take the visibilities in that order (Order gives it)
-// and skip the scattered stores and gathered loads of Forward and
-// Adjoint, with the same bits; a caller that keeps its data in the
-// plan's order pays the permutation once instead of at every call.
+// ForwardSorted and AdjointSorted take the visibilities in that order
+// (Order gives it) and skip the scattered stores and gathered loads of
+// Forward and Adjoint, with the same bits; a caller that keeps its data
+// in the plan's order pays the permutation once instead of at every
+// call.
 //
 // Methods take the destination first, never allocate, and panic with a
 // message starting "nufft:" on wrong slice lengths. dst must not alias
