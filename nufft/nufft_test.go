@@ -610,3 +610,25 @@ func TestMemory(t *testing.T) {
 		}
 	}
 }
+
+// TestInterleaved checks that the plan's order is a permutation of the
+// sorted positions that alternates the halves of each block.
+func TestInterleaved(t *testing.T) {
+	for _, m := range []int{1, 2, 3, interleaveBlock - 1, interleaveBlock, 5*interleaveBlock + 7} {
+		seen := make([]int, m)
+		for i := range m {
+			seen[interleaved(i, m)]++
+		}
+		for j, c := range seen {
+			if c != 1 {
+				t.Fatalf("m=%d: position %d taken %d times", m, j, c)
+			}
+		}
+		if m >= 4 {
+			q := (min(m, interleaveBlock) + 1) / 2
+			if interleaved(0, m) != 0 || interleaved(q, m) != 1 || interleaved(1, m) != 2 {
+				t.Errorf("m=%d: the first block does not alternate its halves", m)
+			}
+		}
+	}
+}
