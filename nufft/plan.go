@@ -68,10 +68,15 @@ type plan struct {
 
 	fftX, fftY *fftPlan
 
-	// grid is the fx×fy upsampled grid, row-major (fine row j_y holds
-	// fx columns). Forward interpolates from it; Adjoint uses its image
-	// rows for the column-to-row hand-over.
+	// grid is the fx×fy upsampled grid of Forward, row-major (fine row
+	// j_y holds fx columns), which it interpolates from. It shares its
+	// memory with band.
 	grid []complex128
+
+	// half holds, for Adjoint, the columns 0 … hc−1 of the image rows
+	// after the y transforms, image row iy at half[iy·hc:]: the
+	// hand-over from the column to the row transforms.
+	half []complex128
 
 	// Adjoint spreading: shard s spreads its points into band rows
 	// [bandLo[s], bandLo[s]+bandRows[s]) of the unwrapped y range,
@@ -201,7 +206,6 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.hc = min(fx, (fx/2/colBlock+1)*colBlock)
 	p.fftX = newFFTPlan(fx)
 	p.fftY = newFFTPlan(fy)
-	p.grid = make([]complex128, fx*fy)
 
 	// Shards: every phase is divided into a number of shards fixed by
 	// the problem, never by the workers, who only take shards in turn
@@ -270,7 +274,12 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		p.bandOff[i] = off
 		off += p.bandRows[i] * fx
 	}
-	p.band = make([]complex128, off)
+	// Forward uses the grid and Adjoint the bands, never both in one
+	// call, and each writes what it reads before reading it: the two
+	// share one buffer, the largest of the plan after the weights.
+	buf := make([]complex128, max(fx*fy, off))
+	p.grid, p.band = buf[:fx*fy], buf[:off]
+	p.half = make([]complex128, r.ny*p.hc)
 	p.rowStart = make([]int32, fy+1)
 	var src []int32
 	for r := range fy {
@@ -288,8 +297,8 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 
 	// Write the buffers of the calls once, so that the first call does
 	// not pay for mapping fresh pages.
-	clear(p.grid)
-	clear(p.band)
+	clear(buf)
+	clear(p.half)
 	clear(p.sorted)
 	for _, s := range p.scratch {
 		clear(s)
@@ -480,7 +489,7 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 // Forward only the image rows are nonzero on input (the rest are not
 // read). In Adjoint the input is folded from the spreading bands and
 // made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
-// the output are stored.
+// the output are stored, in half.
 func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	fx, fy := p.fx, p.fy
 	const b = colBlock
@@ -516,8 +525,9 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
 			}
 		} else {
-			for _, r := range p.imageRows {
-				copy(p.grid[int(r)*fx+c:int(r)*fx+c+b], out[int(r)*b:int(r)*b+b])
+			hc := p.hc
+			for iy, r := range p.imageRows {
+				copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
 			}
 		}
 		x, y = scr[:fy*b], scr[fy*b:2*fy*b]
@@ -563,10 +573,11 @@ func (p *plan) adjRows(scr []complex128, lo, hi int) {
 	h := nx / 2
 	for pr := lo; pr < hi; pr++ {
 		i1, i2 := 2*pr, 2*pr+1
-		g1 := p.grid[int(p.imageRows[i1])*fx:][:fx]
+		// Columns 0 … fx/2 of the image rows, which hc covers.
+		g1 := p.half[i1*p.hc:][:fx/2+1]
 		g2 := g1
 		if i2 < p.ny {
-			g2 = p.grid[int(p.imageRows[i2])*fx:][:fx]
+			g2 = p.half[i2*p.hc:][:fx/2+1]
 		}
 		for k := 0; k <= fx/2; k++ {
 			a, b := g1[k], g2[k]
@@ -740,7 +751,8 @@ func (p *plan) memBytes() (grid, perPoint, total int) {
 	const c, f, i32 = 16, 8, 4
 	grid = c * len(p.grid)
 	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
-	total = grid + perPoint + c*len(p.band) + f*(len(p.corrX)+len(p.corrY)) +
+	// grid and band share their memory.
+	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.half) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows))
 	for _, s := range p.scratch {
 		total += c * len(s)
