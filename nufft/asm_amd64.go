@@ -52,18 +52,30 @@ func (p *plan) hasSpreadAsm() bool {
 	return useAsm && p.w >= minAsm && p.w <= maxAsm
 }
 
-// spreadAsm spreads the sorted points [lo, hi), none of which wraps in
-// x, into band (first row ylo) with the assembly loops; the caller
-// checks hasSpreadAsm.
+// spreadGathers reports whether spreadAsm reads the caller's values
+// through the permutation itself (the AVX2 loops).
+func (p *plan) spreadGathers() bool {
+	return p.hasSpreadAsm() && usePairs && p.w >= minPair
+}
+
+// spreadAsm spreads the sorted points [lo, hi) that do not wrap in x
+// into band (first row ylo) with the assembly loops, skipping the
+// others; the caller checks hasSpreadAsm. Where spreadGathers, the
+// values are p.srcC[p.perm[i]] unless p.inOrder.
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {
 	w := p.w
 	if lo >= hi {
 		return
 	}
 	if usePairs && w >= minPair {
-		if p.wts32 != nil {
+		switch {
+		case !p.inOrder && p.wts32 != nil:
+			spreadAVX2f32Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
+		case !p.inOrder:
+			spreadAVX2f64Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
+		case p.wts32 != nil:
 			spreadAVX2f32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
-		} else {
+		default:
 			spreadAVX2f64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
 		}
 		return

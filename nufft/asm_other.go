@@ -18,6 +18,8 @@ func (p *plan) hasSpreadAsm() bool { return false }
 
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {}
 
+func (p *plan) spreadGathers() bool { return false }
+
 func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool { return false }
 
 // conjRev sets dst[j] = conj(src[len(src)−1−j]); the lengths must match.

@@ -36,6 +36,9 @@ func spread3f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread3f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp4f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -49,6 +52,9 @@ func spread4f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 
 //go:noescape
 func spread4f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp5f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -66,6 +72,9 @@ func spread5f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread5f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp6f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -79,6 +88,9 @@ func spread6f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 
 //go:noescape
 func spread6f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp7f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -96,6 +108,9 @@ func spread7f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread7f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp8f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -109,6 +124,9 @@ func spread8f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 
 //go:noescape
 func spread8f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp9f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -126,6 +144,9 @@ func spread9f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread9f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp10f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -139,6 +160,9 @@ func spread10f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, 
 
 //go:noescape
 func spread10f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -168,6 +192,9 @@ func spread3f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread3f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp4f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -181,6 +208,9 @@ func spread4f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 
 //go:noescape
 func spread4f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp5f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -198,6 +228,9 @@ func spread5f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread5f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp6f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -211,6 +244,9 @@ func spread6f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 
 //go:noescape
 func spread6f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp7f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -228,6 +264,9 @@ func spread7f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread7f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp8f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -241,6 +280,9 @@ func spread8f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 
 //go:noescape
 func spread8f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp9f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -258,6 +300,9 @@ func spread9f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread9f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp10f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -271,6 +316,9 @@ func spread10f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, 
 
 //go:noescape
 func spread10f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
 	2:  interp2f32SSE2,
@@ -379,6 +427,17 @@ var spreadAVX2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	10: spread10f32AVX2,
 }
 
+var spreadAVX2f32Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int){
+	3:  spread3f32AVX2Gather,
+	4:  spread4f32AVX2Gather,
+	5:  spread5f32AVX2Gather,
+	6:  spread6f32AVX2Gather,
+	7:  spread7f32AVX2Gather,
+	8:  spread8f32AVX2Gather,
+	9:  spread9f32AVX2Gather,
+	10: spread10f32AVX2Gather,
+}
+
 var spreadAVX2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
 	3:  spread3f64AVX2,
 	4:  spread4f64AVX2,
@@ -388,4 +447,15 @@ var spreadAVX2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	8:  spread8f64AVX2,
 	9:  spread9f64AVX2,
 	10: spread10f64AVX2,
+}
+
+var spreadAVX2f64Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int){
+	3:  spread3f64AVX2Gather,
+	4:  spread4f64AVX2Gather,
+	5:  spread5f64AVX2Gather,
+	6:  spread6f64AVX2Gather,
+	7:  spread7f64AVX2Gather,
+	8:  spread8f64AVX2Gather,
+	9:  spread9f64AVX2Gather,
+	10: spread10f64AVX2Gather,
 }

@@ -89,7 +89,9 @@ type plan struct {
 	bandOff   []int
 	rowStart  []int32
 	rowSrc    []int32
-	ptLo      []int          // shard s spreads sorted points [ptLo[s], ptLo[s+1])
+	ptLo      []int   // shard s spreads sorted points [ptLo[s], ptLo[s+1])
+	edge      []int32 // the points of shard s with x0 + w > fx are edge[edgeLo[s]:edgeLo[s+1]]
+	edgeLo    []int
 	scratch   [][]complex128 // per worker
 	workers   int
 	shards    [nPhases]int // number of shards of each phase
@@ -254,6 +256,18 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	for i := range ns + 1 {
 		p.ptLo[i], _ = span(m, i, ns)
 	}
+	// The points at the grid edge in x, which the spreading takes after
+	// the others, listed per shard.
+	p.edgeLo = make([]int, ns+1)
+	for i := range ns {
+		p.edgeLo[i] = len(p.edge)
+		for k := p.ptLo[i]; k < p.ptLo[i+1]; k++ {
+			if int(p.x0[k])+w > fx {
+				p.edge = append(p.edge, int32(k))
+			}
+		}
+	}
+	p.edgeLo[ns] = len(p.edge)
 	p.bandLo = make([]int, ns)
 	p.bandRows = make([]int, ns)
 	p.bandOff = make([]int, ns)
@@ -671,11 +685,24 @@ func (p *plan) interpWrap(i int) {
 }
 
 // spread adds the points of shard i, times their kernel weights, into
-// its band.
+// its band: first the points inside the grid in x, then those at its
+// edge, each group in the plan's order. The assembly and the Go loops
+// keep this order, so every cell sums its terms in the same order.
 func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
 	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
+	edge := p.edge[p.edgeLo[i]:p.edgeLo[i+1]]
+	if !p.inOrder && p.spreadGathers() {
+		// The assembly reads the visibilities through the permutation;
+		// the points at the edge get theirs here.
+		p.spreadAsm(band, ylo, lo, hi)
+		for _, k := range edge {
+			p.sorted[k] = p.srcC[p.perm[k]]
+			p.spreadWrap(band, ylo, int(k))
+		}
+		return
+	}
 	// Gather the visibilities into sorted order first (see interp).
 	if !p.inOrder {
 		src, perm := p.srcC, p.perm[lo:hi]
@@ -683,29 +710,19 @@ func (p *plan) spread(i int) {
 			p.sorted[lo+j] = src[perm[j]]
 		}
 	}
-	if p.hasSpreadAsm() {
-		// Runs of points inside the grid in assembly, the points at the
-		// grid edge between them in Go, all in sorted order as in the Go
-		// loops, so that every cell sums its terms in the same order.
-		for k := lo; k < hi; {
-			j := k
-			for j < hi && int(p.x0[j])+p.w <= p.fx {
-				j++
+	switch {
+	case p.hasSpreadAsm():
+		p.spreadAsm(band, ylo, lo, hi)
+	case p.spreadUnrolled(band, ylo, lo, hi):
+	default:
+		for k := lo; k < hi; k++ {
+			if int(p.x0[k])+p.w <= p.fx {
+				p.spreadWrap(band, ylo, k)
 			}
-			p.spreadAsm(band, ylo, k, j)
-			if j < hi {
-				p.spreadWrap(band, ylo, j)
-				j++
-			}
-			k = j
 		}
-		return
 	}
-	if p.spreadUnrolled(band, ylo, lo, hi) {
-		return
-	}
-	for k := lo; k < hi; k++ {
-		p.spreadWrap(band, ylo, k)
+	for _, k := range edge {
+		p.spreadWrap(band, ylo, int(k))
 	}
 }
 
@@ -753,7 +770,7 @@ func (p *plan) memBytes() (grid, perPoint, total int) {
 	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	// grid and band share their memory.
 	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.half) + f*(len(p.corrX)+len(p.corrY)) +
-		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows))
+		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows)+len(p.edge))
 	for _, s := range p.scratch {
 		total += c * len(s)
 	}
