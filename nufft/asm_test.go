@@ -234,3 +234,32 @@ func sameOrClose(a, b complex128) bool {
 	}
 	return cmplx.Abs(a-b) <= 1e-14*(cmplx.Abs(b)+1e-300)
 }
+
+// TestConjRev checks the assembly forms of conjRev and addConjRev
+// against their definition, dst[j] (+)= conj(src[n−1−j]), written out
+// with math/cmplx.Conj, for every length up to 9 (odd lengths take the
+// tail of the two-at-a-time AVX loop) and in slices that end where the
+// data does.
+func TestConjRev(t *testing.T) {
+	asm, avx := useAsm, useAVX
+	defer func() { useAsm, useAVX = asm, avx }()
+	rng := rand.New(rand.NewPCG(11, 12))
+	for _, form := range []struct{ asm, avx bool }{{false, false}, {asm, false}, {asm, avx}} {
+		useAsm, useAVX = form.asm, form.avx
+		for n := 0; n <= 9; n++ {
+			src := randVis(rng, n)
+			base := randVis(rng, n)
+			got, add := make([]complex128, n), append([]complex128(nil), base...)
+			conjRev(got, src)
+			addConjRev(add, src)
+			for j := range n {
+				if want := cmplx.Conj(src[n-1-j]); got[j] != want {
+					t.Fatalf("asm=%v avx=%v n=%d: conjRev[%d] = %v, want %v", useAsm, useAVX, n, j, got[j], want)
+				}
+				if want := base[j] + cmplx.Conj(src[n-1-j]); add[j] != want {
+					t.Fatalf("asm=%v avx=%v n=%d: addConjRev[%d] = %v, want %v", useAsm, useAVX, n, j, add[j], want)
+				}
+			}
+		}
+	}
+}
