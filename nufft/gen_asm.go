@@ -273,11 +273,12 @@ func loadDupAVX(s *bytes.Buffer, x string, idx int, f32 bool) {
 
 // genSpreadAVX is genSpread in three-operand VEX form, one complex per
 // 128-bit register as in the SSE2 loop: every cell gets the same single
-// multiply and add, so the same bits. Two taps per 256-bit register
-// took the same time (the loop is bound by its stores, one per cell,
-// and loads of two cells straddle the stores of the previous point,
-// whose taps overlap these), so the simpler form is kept.
-// Registers: X0…X(w−1) x weights, X11 value, X12 row value, X13 scratch.
+// multiply and add, so the same bits. It runs where the processor has
+// AVX but not AVX2; genSpreadPairs puts two taps in a 256-bit register
+// on the pairs of cells that every point shares, so that its loads
+// never straddle the stores of the previous point.
+// Registers: X0…X(w−1) x weights, X11 value, X12 row value, X13 scratch,
+// X15 zero.
 func genSpreadAVX(s, g *bytes.Buffer, w int, f32 bool) {
 	name, ft, wsize := namesISA(w, f32, "spread", "AVX")
 	fmt.Fprintf(g, "//go:noescape\nfunc %s(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, n int)\n\n", name, ft)
