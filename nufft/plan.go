@@ -172,13 +172,17 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	fineX := func(k int) float64 { return reduce(-u[k]*r.pixel) * float64(fx) }
 	fineY := func(k int) float64 { return reduce(v[k]*r.pixel) * float64(fy) }
 	nb := (fy + binRows - 1) / binRows
+	// key is the bin of a point with fine coordinates (x, y); fx and fy
+	// are powers of two. Both passes compute it, which is cheaper than
+	// storing it.
+	key := func(x, y float64) int {
+		jx := int(math.Ceil(x-half)) & (fx - 1)
+		jy := int(math.Ceil(y-half)) & (fy - 1)
+		return jy/binRows*fx + jx
+	}
 	count := make([]int32, nb*fx+1)
-	key := make([]int32, m)
 	for k := range m {
-		jx := int(math.Ceil(fineX(k)-half)) & (fx - 1) // fx, fy are powers of two
-		jy := int(math.Ceil(fineY(k)-half)) & (fy - 1)
-		key[k] = int32(jy/binRows*fx + jx)
-		count[key[k]+1]++
+		count[key(fineX(k), fineY(k))+1]++
 	}
 	for i := 1; i < len(count); i++ {
 		count[i] += count[i-1]
@@ -189,13 +193,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.perm = make([]int32, m)
 	sx := make([]float64, m)
 	sy := make([]float64, m)
-	for k, c := range key {
+	for k := range m {
+		x, y := fineX(k), fineY(k)
+		c := key(x, y)
 		i := interleaved(int(count[c]), m)
 		count[c]++
 		p.perm[i] = int32(k)
-		sx[i], sy[i] = fineX(k), fineY(k)
+		sx[i], sy[i] = x, y
 	}
-	count, key = nil, nil
+	count = nil
 	p.sorted = make([]complex128, m)
 	p.x0 = make([]int32, m)
 	p.y0 = make([]int32, m)
