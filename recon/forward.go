@@ -15,6 +15,18 @@ type Transform interface {
 	Adjoint(dst []float64, vis []complex128)
 }
 
+// sortedTransform is a Transform that also takes and gives the visibilities in an order of
+// its own points (nufft.Plan): Order(dst) sets dst[i] to the index, among the points it was
+// made for, of its i-th point, and ForwardSorted and AdjointSorted are Forward and Adjoint
+// with the visibilities in that order, to the bit. A forward model keeps its visibilities in
+// that order, so that the transform does not permute them at every call.
+type sortedTransform interface {
+	Transform
+	Order(dst []int)
+	ForwardSorted(dst []complex128, img []float64)
+	AdjointSorted(dst []float64, vis []complex128)
+}
+
 // TransformFunc makes a Transform for an n×n grid of the given pixel (rad) and (u,v) points
 // (cycles/rad). NewTransform is the default.
 type TransformFunc func(n int, pixel float64, u, v []float64) (Transform, error)
@@ -35,7 +47,11 @@ type ForwardModel struct {
 	Grid
 	sampling // the distinct points U, V and the points each datum sees
 
-	tr   Transform
+	tr Transform
+	// st is tr when it works in its own order of the points (sortedTransform), nil
+	// otherwise: the points of the sampling (or the sub-points of smearing) are then held
+	// in its order.
+	st   sortedTransform
 	norm bool         // divide by the total flux
 	flux float64      // Σ x of the last Forward
 	vis  []complex128 // model visibilities at U, V of the last Forward
@@ -77,6 +93,16 @@ func NewForwardModelWith(d *dataset.Data, g Grid, normalize bool, mk TransformFu
 		return nil, fmt.Errorf("recon: making the transform: %w", err)
 	}
 	m.tr = tr
+	if st, ok := tr.(sortedTransform); ok {
+		m.st = st
+		order := make([]int, len(u))
+		st.Order(order)
+		if m.smear != nil {
+			m.smear.reorder(order)
+		} else {
+			m.sampling.reorder(order)
+		}
+	}
 	m.vis = make([]complex128, len(m.U))
 	m.gvis = make([]complex128, len(m.U))
 	m.adj = make([]float64, g.N*g.N)
