@@ -221,3 +221,42 @@ func BenchmarkObjective(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkTerms evaluates each data term of the night alone (value and gradient with
+// respect to the model visibilities, in one part) at the model visibilities of the start
+// image, and reports the time per datum.
+func BenchmarkTerms(b *testing.B) {
+	d := nightData()
+	s := d.Summarize()
+	g := Grid{N: 128, Pixel: s.Resolution / 4}
+	m, err := NewForwardModel(d, g, true, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	img, _ := StartImageFor(Start{}, g, GridChoice{}, 1)
+	m.Forward(img)
+	o := NewObjective(d, m, TermOptions{})
+	for i, t := range o.terms {
+		if t.len() == 0 {
+			continue
+		}
+		for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
+			if smooth > 0 && typeList[i] != dataset.T3Phi {
+				continue
+			}
+			name := typeList[i].String()
+			if smooth > 0 {
+				name += "-smoothed"
+			}
+			b.Run(name, func(b *testing.B) {
+				c := &evalCtx{s: &m.sampling, vis: m.vis, grad: m.gvis, w: 1, smooth: smooth}
+				b.ReportAllocs()
+				b.ResetTimer()
+				for range b.N {
+					t.eval(c, 0, 1)
+				}
+				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(t.len()), "ns/datum")
+			})
+		}
+	}
+}
