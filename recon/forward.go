@@ -129,9 +129,9 @@ func (m *ForwardModel) forward(x []float64, f float64) {
 	m.flux = f
 	m.transform(x)
 	if m.norm {
-		s := complex(1/f, 0)
-		for k := range m.vis {
-			m.vis[k] *= s
+		s := 1 / f
+		for k, v := range m.vis {
+			m.vis[k] = complex(real(v)*s, imag(v)*s)
 		}
 	}
 	clear(m.gvis)

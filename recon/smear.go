@@ -160,7 +160,8 @@ func (s *smearing) average(dst []complex128) {
 		for k := range dst {
 			var a complex128
 			for j := s.off[k]; j < s.off[k+1]; j++ {
-				a += complex(s.w[j], 0) * s.sub[at[j]]
+				v, wj := s.sub[at[j]], s.w[j]
+				a += complex(wj*real(v), wj*imag(v))
 			}
 			dst[k] = a
 		}
@@ -169,7 +170,8 @@ func (s *smearing) average(dst []complex128) {
 	for k := range dst {
 		var a complex128
 		for j := s.off[k]; j < s.off[k+1]; j++ {
-			a += complex(s.w[j], 0) * s.sub[j]
+			v, wj := s.sub[j], s.w[j]
+			a += complex(wj*real(v), wj*imag(v))
 		}
 		dst[k] = a
 	}
@@ -181,14 +183,14 @@ func (s *smearing) spread(g []complex128) {
 		at := s.at[:len(s.w)]
 		for k, gk := range g {
 			for j := s.off[k]; j < s.off[k+1]; j++ {
-				s.gsub[at[j]] = complex(s.w[j], 0) * gk
+				s.gsub[at[j]] = complex(s.w[j]*real(gk), s.w[j]*imag(gk))
 			}
 		}
 		return
 	}
 	for k, gk := range g {
 		for j := s.off[k]; j < s.off[k+1]; j++ {
-			s.gsub[j] = complex(s.w[j], 0) * gk
+			s.gsub[j] = complex(s.w[j]*real(gk), s.w[j]*imag(gk))
 		}
 	}
 }

@@ -127,7 +127,7 @@ func (t *t3PhiTerm) evalSmoothed(c *evalCtx, lo, hi int, eta float64) (float64, 
 		if g == nil {
 			continue
 		}
-		gb := gz * complex(w, 0)
+		gb := complex(w*real(gz), w*imag(gz))
 		d2 := w1 * w3e
 		d3 := w1 * w2 * e
 		addGrad(g, r[0], conj(d1)*gb)
