@@ -57,6 +57,7 @@ type ForwardModel struct {
 	vis  []complex128 // model visibilities at U, V of the last Forward
 	gvis []complex128 // accumulated ∂J/∂Re V + i ∂J/∂Im V
 	adj  []float64
+	xs   []float64 // the image times (−1)^(ix − N/2), which the transform takes (halfShift)
 
 	smear     *smearing // the band averages, nil without smearing (smear.go)
 	smearInfo SmearInfo
@@ -88,7 +89,11 @@ func NewForwardModelWith(d *dataset.Data, g Grid, normalize bool, mk TransformFu
 	if m.smear, m.smearInfo = newSmearing(d, &m.sampling, g, opt); m.smear != nil {
 		u, v = m.smear.u, m.smear.v
 	}
-	tr, err := mk(g.N, g.Pixel, u, v)
+	us := make([]float64, len(u))
+	for k, uk := range u {
+		us[k] = uk - halfShift(g.Pixel)
+	}
+	tr, err := mk(g.N, g.Pixel, us, v)
 	if err != nil {
 		return nil, fmt.Errorf("recon: making the transform: %w", err)
 	}
@@ -106,7 +111,39 @@ func NewForwardModelWith(d *dataset.Data, g Grid, normalize bool, mk TransformFu
 	m.vis = make([]complex128, len(m.U))
 	m.gvis = make([]complex128, len(m.U))
 	m.adj = make([]float64, g.N*g.N)
+	m.xs = make([]float64, g.N*g.N)
 	return m, nil
+}
+
+// halfShift is the shift of u, half a period of the pixel grid, with which the forward model
+// calls its transform. For pixel (ix, iy) at x = −(ix − N/2)·pixel (CONVENTIONS.md),
+// exp(−2πi(u − 1/(2·pixel))x) = exp(−2πi u x)·(−1)^(ix − N/2), so that the transform at
+// u − 1/(2·pixel) of the image times (−1)^(ix − N/2) is the visibility at u, and the adjoint
+// at the shifted points times (−1)^(ix − N/2) is the adjoint at u (the factor is ±1, its own
+// inverse, exact in floating point). The shift keeps the points, which the sampling holds at
+// u ≥ 0 and which lie within a quarter period of u = 0 on any grid that samples the data,
+// away from the frequency where a gridding transform's kernel wraps around the edge of its
+// grid: nufft.Plan evaluates such points in a general loop several times slower than the
+// others (measured on the night of BenchmarkImageNight, 128²: a fifth of the time of the
+// reconstruction, and Forward plus Adjoint 16–21 % faster with the shift).
+func halfShift(pixel float64) float64 { return 0.5 / pixel }
+
+// alternate sets dst to src times (−1)^(ix − N/2) at each pixel (ix, iy) of the n×n grid;
+// dst may be src.
+func alternate(dst, src []float64, n int) {
+	s0 := 1.0
+	if (n/2)%2 != 0 {
+		s0 = -1 // the sign at ix = 0
+	}
+	for iy := 0; iy < n; iy++ {
+		row, out := src[iy*n:iy*n+n], dst[iy*n:iy*n+n]
+		out = out[:len(row)]
+		s := s0
+		for ix, v := range row {
+			out[ix] = s * v
+			s = -s
+		}
+	}
 }
 
 // Forward computes the model visibilities of image x (len N²) at the distinct points and

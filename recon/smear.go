@@ -198,6 +198,8 @@ func (s *smearing) spread(g []complex128) {
 // transform computes the model visibilities of x at the points, unnormalised: the transform,
 // then the band averages when smearing is modelled.
 func (m *ForwardModel) transform(x []float64) {
+	alternate(m.xs, x, m.N) // the transform's points are shifted by halfShift
+	x = m.xs
 	dst := m.vis
 	if m.smear != nil {
 		dst = m.smear.sub
@@ -224,6 +226,7 @@ func (m *ForwardModel) adjoint() {
 	} else {
 		m.tr.Adjoint(m.adj, src)
 	}
+	alternate(m.adj, m.adj, m.N) // the transform's points are shifted by halfShift
 }
 
 // Smearing returns how the model treats bandwidth smearing.
