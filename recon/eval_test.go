@@ -119,3 +119,39 @@ func TestEvalHelpersSameBits(t *testing.T) {
 		}
 	}
 }
+
+// TestPhaseResidual checks the wrap-safe residual of the phase terms against its definition
+// 2 sin(Δφ/2)/σ with Δφ = atan2(Im z, Re z) (the normalised residual of term_phase.go) over
+// all phases, small and large moduli, the axes and signed zeros, and that its square is the
+// exact term 2(1 − cos Δφ)/σ² of the same z.
+func TestPhaseResidual(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 2))
+	var zs []complex128
+	for k := 0; k < 2000; k++ {
+		phi := (2*rng.Float64() - 1) * math.Pi
+		if k%7 == 0 {
+			phi = math.Pi - math.Ldexp(rng.Float64(), -rng.IntN(40)) // near the negative real axis
+		}
+		if k%11 == 0 {
+			phi = math.Ldexp(2*rng.Float64()-1, -rng.IntN(40)) // near the positive real axis
+		}
+		zs = append(zs, cmplx.Rect(math.Ldexp(1, rng.IntN(400)-300), phi))
+	}
+	neg0 := math.Copysign(0, -1)
+	zs = append(zs, 1, -1, 1i, -1i, complex(-1, neg0), complex(-2, 0), complex(neg0, 3), complex(5, neg0), 1e200, complex(-1e200, 1))
+	for _, z := range zs {
+		const sigma = 0.3
+		got := phaseResidual(z, sigma)
+		phi := math.Atan2(imag(z), real(z))
+		want := 2 * math.Sin(phi/2) / sigma
+		if math.Abs(got-want) > 2e-15*math.Max(math.Abs(want), 1/sigma) || math.Signbit(got) != math.Signbit(want) {
+			t.Errorf("z = %v: residual %.17g, 2 sin(Δφ/2)/σ = %.17g", z, got, want)
+		}
+		if term := 2 * (1 - math.Cos(phi)) / (sigma * sigma); math.Abs(got*got-term) > 1e-14*math.Max(term, 1) {
+			t.Errorf("z = %v: residual² %.17g, 2(1 − cos Δφ)/σ² = %.17g", z, got*got, term)
+		}
+	}
+	if r := phaseResidual(0, 0.1); r != 0 {
+		t.Errorf("z = 0: residual %g, want 0", r)
+	}
+}

@@ -135,14 +135,43 @@ type smearing struct {
 	off  []int32      // point k has the sub-points off[k] .. off[k+1]−1
 	sub  []complex128 // the visibilities at the sub-points of the last Forward
 	gsub []complex128 // ∂J/∂V at the sub-points
+	// at, when not nil, is the place in sub and gsub of each sub-point, which are then in
+	// the transform's order of the sub-points (ForwardModel.st; reorder).
+	at []int32
+}
+
+// reorder holds sub and gsub in a new order of the sub-points, sub-point order[i] at place
+// i. The band averages then gather the sub-points of each point from their places, in the
+// same order of nodes, so that they give the same bits.
+func (s *smearing) reorder(order []int) {
+	if len(order) != len(s.u) {
+		panic(fmt.Sprintf("recon: reorder of %d sub-points by %d indices", len(s.u), len(order)))
+	}
+	s.at = make([]int32, len(order))
+	for i, k := range order {
+		s.at[k] = int32(i)
+	}
 }
 
 // average sets dst[k] to the weighted mean of the visibilities of the sub-points of point k.
 func (s *smearing) average(dst []complex128) {
+	if s.at != nil {
+		at := s.at[:len(s.w)]
+		for k := range dst {
+			var a complex128
+			for j := s.off[k]; j < s.off[k+1]; j++ {
+				v, wj := s.sub[at[j]], s.w[j]
+				a += complex(wj*real(v), wj*imag(v))
+			}
+			dst[k] = a
+		}
+		return
+	}
 	for k := range dst {
 		var a complex128
 		for j := s.off[k]; j < s.off[k+1]; j++ {
-			a += complex(s.w[j], 0) * s.sub[j]
+			v, wj := s.sub[j], s.w[j]
+			a += complex(wj*real(v), wj*imag(v))
 		}
 		dst[k] = a
 	}
@@ -150,9 +179,18 @@ func (s *smearing) average(dst []complex128) {
 
 // spread sets the derivative at each sub-point from that of its point: w_j·g[k].
 func (s *smearing) spread(g []complex128) {
+	if s.at != nil {
+		at := s.at[:len(s.w)]
+		for k, gk := range g {
+			for j := s.off[k]; j < s.off[k+1]; j++ {
+				s.gsub[at[j]] = complex(s.w[j]*real(gk), s.w[j]*imag(gk))
+			}
+		}
+		return
+	}
 	for k, gk := range g {
 		for j := s.off[k]; j < s.off[k+1]; j++ {
-			s.gsub[j] = complex(s.w[j], 0) * gk
+			s.gsub[j] = complex(s.w[j]*real(gk), s.w[j]*imag(gk))
 		}
 	}
 }
@@ -160,22 +198,35 @@ func (s *smearing) spread(g []complex128) {
 // transform computes the model visibilities of x at the points, unnormalised: the transform,
 // then the band averages when smearing is modelled.
 func (m *ForwardModel) transform(x []float64) {
-	if m.smear == nil {
-		m.tr.Forward(m.vis, x)
-		return
+	alternate(m.xs, x, m.N) // the transform's points are shifted by halfShift
+	x = m.xs
+	dst := m.vis
+	if m.smear != nil {
+		dst = m.smear.sub
 	}
-	m.tr.Forward(m.smear.sub, x)
-	m.smear.average(m.vis)
+	if m.st != nil {
+		m.st.ForwardSorted(dst, x)
+	} else {
+		m.tr.Forward(dst, x)
+	}
+	if m.smear != nil {
+		m.smear.average(m.vis)
+	}
 }
 
 // adjoint computes the adjoint transform of the accumulated derivatives into m.adj.
 func (m *ForwardModel) adjoint() {
-	if m.smear == nil {
-		m.tr.Adjoint(m.adj, m.gvis)
-		return
+	src := m.gvis
+	if m.smear != nil {
+		m.smear.spread(m.gvis)
+		src = m.smear.gsub
 	}
-	m.smear.spread(m.gvis)
-	m.tr.Adjoint(m.adj, m.smear.gsub)
+	if m.st != nil {
+		m.st.AdjointSorted(m.adj, src)
+	} else {
+		m.tr.Adjoint(m.adj, src)
+	}
+	alternate(m.adj, m.adj, m.N) // the transform's points are shifted by halfShift
 }
 
 // Smearing returns how the model treats bandwidth smearing.

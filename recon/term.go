@@ -220,6 +220,38 @@ func newSampling(d *dataset.Data, n *needs) sampling {
 	return s
 }
 
+// reorder puts the points in a new order, point order[i] becoming point i, and points the
+// data at their new places. The data keep their order, and so does the order in which the
+// terms add each datum's derivative to a point.
+func (s *sampling) reorder(order []int) {
+	if len(order) != len(s.U) {
+		panic(fmt.Sprintf("recon: reorder of %d points by %d indices", len(s.U), len(order)))
+	}
+	at := make([]int32, len(order)) // new index of each old point
+	u, v, rb := make([]float64, len(order)), make([]float64, len(order)), make([]float64, len(order))
+	for i, k := range order {
+		at[k] = int32(i)
+		u[i], v[i], rb[i] = s.U[k], s.V[k], s.rb[k]
+	}
+	s.U, s.V, s.rb = u, v, rb
+	move := func(r *ref) {
+		if r.sign != 0 { // a datum without a point (newSampling) keeps the zero ref
+			r.i = at[r.i]
+		}
+	}
+	for i := range s.vis2 {
+		move(&s.vis2[i])
+	}
+	for i := range s.t3 {
+		for j := range s.t3[i] {
+			move(&s.t3[i][j])
+		}
+	}
+	for i := range s.cvis {
+		move(&s.cvis[i])
+	}
+}
+
 // Points returns the number of distinct (u,v) points and the number of baselines that were
 // found among them already.
 func (s *sampling) Points() (distinct, shared int) { return len(s.U), s.dedup }

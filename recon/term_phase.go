@@ -20,9 +20,28 @@ import (
 // function of the normal distribution). The smoothed form used while Solve searches is
 // smoothPhase (Objective.SetPhaseSmoothing).
 
-// phaseResidual returns the normalised wrap-safe residual 2 sin(Δφ/2)/σ of z = |z|e^(iΔφ).
+// phaseResidual returns the normalised wrap-safe residual 2 sin(Δφ/2)/σ of z = |z|e^(iΔφ),
+// Δφ in (−π, π] as atan2 gives it, and 0 at z = 0, which has no phase (as eval takes its
+// term). It uses the half-angle formulas, not atan2 and sin: with z = x + iy and a = |z|,
+//
+//	sin(Δφ/2) = y/√(2a(a + x))     for x ≥ 0 (sin Δφ = 2 sin(Δφ/2) cos(Δφ/2), cos(Δφ/2) = √((a + x)/2a)),
+//	sin(Δφ/2) = ±√((a − x)/2a)     for x < 0, with the sign of y (of −0 too, as atan2),
+//
+// each free of cancellation on its side (half-angle formulas, Abramowitz & Stegun 1964,
+// 4.3.20–4.3.21, from memory). Moduli that are not finite or beyond 1e150, where a² would
+// overflow, take the atan2 form.
 func phaseResidual(z complex128, sigma float64) float64 {
-	return 2 * math.Sin(math.Atan2(imag(z), real(z))/2) / sigma
+	x, y := real(z), imag(z)
+	a := math.Sqrt(x*x + y*y)
+	switch {
+	case a == 0:
+		return 0
+	case !(a <= 1e150):
+		return 2 * math.Sin(math.Atan2(y, x)/2) / sigma
+	case x >= 0:
+		return 2 * y / (math.Sqrt(2*a*(a+x)) * sigma)
+	}
+	return 2 * math.Copysign(math.Sqrt((a-x)/(2*a)), y) / sigma
 }
 
 // expectedPhaseTerm is E[2(1 − cos ε)]/σ² for ε ~ N(0, σ²), σ in radians (ExpectedChi2r).

@@ -64,51 +64,77 @@ func (t *t3PhiTerm) expected() float64 {
 }
 
 func (t *t3PhiTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
-	w, g, refs, vis := c.w, c.grad, c.s.t3, c.vis
-	s, sm := 0.0, 0.0
-	eta := c.smooth * t.scale
 	lo, hi := part(len(t.idx), k, parts)
+	if eta := c.smooth * t.scale; eta > 0 {
+		return t.evalSmoothed(c, lo, hi, eta)
+	}
+	w, g, refs, vis := c.w, c.grad, c.s.t3, c.vis
+	s := 0.0
 	idx, es, is2s := t.idx[lo:hi], t.e[lo:hi], t.is2[lo:hi]
 	es, is2s = es[:len(idx)], is2s[:len(idx)]
 	for j, i := range idx {
 		r := &refs[i]
 		w1, w2, w3 := sides(vis, *r)
-		// b = W1·W2·W3·exp(−iφₒ), whose argument is φ − φₒ, and its derivatives
-		// ∂b/∂W1 = W2 W3 e, ∂b/∂W2 = W1 W3 e, ∂b/∂W3 = W1 W2 e from shared products.
-		w3e := w3 * es[j]
-		d1 := w2 * w3e
-		b := w1 * d1
+		// b = W1·W2·W3·exp(−iφₒ), whose argument is φ − φₒ.
+		b := w1 * (w2 * (w3 * es[j]))
+		ab2 := real(b)*real(b) + imag(b)*imag(b)
+		if !(ab2 > 0) {
+			continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
+		}
 		is2 := is2s[j]
-		var gb complex128 // ∂J/∂(Re b, Im b), weighted
-		if eta > 0 {
-			// The smoothed term of SetPhaseSmoothing.
-			x, v, gz := smoothPhaseExact(b, eta, is2)
-			s += x
-			sm += v
-			gb = gz * complex(w, 0)
-		} else {
-			ab2 := real(b)*real(b) + imag(b)*imag(b)
-			if !(ab2 > 0) {
-				continue // a zero bispectrum has no phase: its term is taken as 0, without gradient
-			}
-			ia := 1 / math.Sqrt(ab2)
-			s += 2 * (1 - real(b)*ia) * is2
-			// dJ/dφ = 2 sin φ/σ² and ∂φ/∂(Re, Im) b = i b/|b|²: gb = i·(2w sin φ/σ²/|b|)·b/|b|.
-			kb := 2 * w * imag(b) * ia * is2 * ia * ia
-			gb = complex(-kb*imag(b), kb*real(b))
+		ia := 1 / math.Sqrt(ab2)
+		s += 2 * (1 - real(b)*ia) * is2
+		if g == nil {
+			continue
 		}
-		if g != nil {
-			d2 := w1 * w3e
-			d3 := w1 * w2 * es[j]
-			addGrad(g, r[0], conj(d1)*gb)
-			addGrad(g, r[1], conj(d2)*gb)
-			addGrad(g, r[2], conj(d3)*gb)
-		}
-	}
-	if eta > 0 {
-		return s, w * (sm - s)
+		// dJ/dφ = 2 sin φ/σ² = 2 Im b/(|b|σ²) and ∂φ/∂(Re, Im) W1 = i W1/|W1|², so that
+		// ∂J/∂W1 = i·kb·|b|²/|W1|²·W1 with kb = 2w Im b/(|b|³σ²), and |b|²/|W1|² = |W2|²|W3|²
+		// (|exp(−iφₒ)| = 1): one real factor per side, without the products W2·W3 of the
+		// chain rule through b.
+		kb := 2 * w * imag(b) * ia * is2 * ia * ia
+		a1 := real(w1)*real(w1) + imag(w1)*imag(w1)
+		a2 := real(w2)*real(w2) + imag(w2)*imag(w2)
+		a3 := real(w3)*real(w3) + imag(w3)*imag(w3)
+		k1, k2, k3 := kb*(a2*a3), kb*(a1*a3), kb*(a1*a2)
+		addGrad(g, r[0], complex(-k1*imag(w1), k1*real(w1)))
+		addGrad(g, r[1], complex(-k2*imag(w2), k2*real(w2)))
+		addGrad(g, r[2], complex(-k3*imag(w3), k3*real(w3)))
 	}
 	return s, 0
+}
+
+// evalSmoothed is eval on the triangles [lo, hi) while the phase terms are smoothed with
+// scale eta: the smoothed term of SetPhaseSmoothing on b, whose gradient with respect to
+// (Re b, Im b) has a radial part, carried to the sides by ∂b/∂W1 = W2·W3·exp(−iφₒ) and its
+// likes. It returns the exact χ² and the weighted excess of the smoothed term.
+func (t *t3PhiTerm) evalSmoothed(c *evalCtx, lo, hi int, eta float64) (float64, float64) {
+	w, g, refs, vis := c.w, c.grad, c.s.t3, c.vis
+	s, sm := 0.0, 0.0
+	idx, es, is2s := t.idx[lo:hi], t.e[lo:hi], t.is2[lo:hi]
+	es, is2s = es[:len(idx)], is2s[:len(idx)]
+	for j, i := range idx {
+		r := &refs[i]
+		w1, w2, w3 := sides(vis, *r)
+		e := es[j]
+		// b and its derivatives ∂b/∂W1 = W2 W3 e, ∂b/∂W2 = W1 W3 e, ∂b/∂W3 = W1 W2 e from
+		// shared products.
+		w3e := w3 * e
+		d1 := w2 * w3e
+		b := w1 * d1
+		x, v, gz := smoothPhaseExact(b, eta, is2s[j])
+		s += x
+		sm += v
+		if g == nil {
+			continue
+		}
+		gb := complex(w*real(gz), w*imag(gz))
+		d2 := w1 * w3e
+		d3 := w1 * w2 * e
+		addGrad(g, r[0], conj(d1)*gb)
+		addGrad(g, r[1], conj(d2)*gb)
+		addGrad(g, r[2], conj(d3)*gb)
+	}
+	return s, w * (sm - s)
 }
 
 func (t *t3PhiTerm) residuals(dst []float64, c *evalCtx) {

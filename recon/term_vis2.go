@@ -35,6 +35,7 @@ func (t *vis2Term) notices() []string { return nil }
 func (t *vis2Term) need(n *needs) {
 	mark(n.vis2, t.idx)
 }
+
 func (t *vis2Term) residual(v complex128, i int32) float64 {
 	return (real(v)*real(v) + imag(v)*imag(v) - t.d.Vis2.Value[i]) / t.d.Vis2.Err[i]
 }
@@ -42,15 +43,19 @@ func (t *vis2Term) residual(v complex128, i int32) float64 {
 func (t *vis2Term) eval(c *evalCtx, k, parts int) (float64, float64) {
 	val, verr, refs, vis, grad := t.d.Vis2.Value, t.d.Vis2.Err, c.s.vis2, c.vis, c.grad
 	lo, hi := part(len(t.idx), k, parts)
-	s := 0.0
+	s, w4 := 0.0, 4*c.w
 	for _, i := range t.idx[lo:hi] {
 		r := refs[i]
-		v := at(vis, r)
+		// |V|² and the gradient 4w r/σ·V, taken with respect to the point's own visibility:
+		// a conjugated datum sees the same modulus, and its derivative conjugated back is
+		// the same multiple of the point's visibility.
+		v := vis[r.i]
 		sig := verr[i]
 		res := (real(v)*real(v) + imag(v)*imag(v) - val[i]) / sig
 		s += res * res
 		if grad != nil {
-			addGrad(grad, r, complex(4*c.w*res/sig, 0)*v)
+			f := w4 * res / sig
+			grad[r.i] += complex(f*real(v), f*imag(v))
 		}
 	}
 	return s, 0

@@ -107,7 +107,7 @@ func (t *visPhiTerm) eval(c *evalCtx, k, parts int) (float64, float64) {
 			sv, gz := smoothPhase(z, eta, is2)
 			sm += sv
 			if g != nil {
-				addGrad(g, r, conj(e)*gz*complex(w, 0))
+				addGrad(g, r, conj(e)*complex(w*real(gz), w*imag(gz)))
 			}
 			continue
 		}

@@ -126,19 +126,32 @@ func directVis(img []float64, n int, pixel, u, v float64) complex128 {
 	return s / complex(f, 0)
 }
 
+// TestModelAgainstDirectSum checks the model visibilities and bispectra against the direct
+// sum of CONVENTIONS.md on even and odd grids, through the exact transform, the default and
+// the gridding transform (nufft.Plan) at its tolerance; the model calls the transform at
+// points shifted by half a period of the grid (halfShift), which the sum does not.
 func TestModelAgainstDirectSum(t *testing.T) {
+	for _, n := range []int{8, 9, 10} {
+		testModelAgainstDirectSum(t, n)
+	}
+}
+
+func testModelAgainstDirectSum(t *testing.T, n int) {
 	rng := rand.New(rand.NewPCG(1, 2))
-	const n, pixel = 8, 1e-9
+	const pixel = 1e-9
 	d := randomData(rng, 0.5/pixel/2)
 	img := make([]float64, n*n)
 	for i := range img {
 		img[i] = rng.Float64()
 	}
+	plan := func(n int, pixel float64, u, v []float64) (Transform, error) {
+		return nufft.NewPlan(n, n, pixel, u, v, nufft.Options{Workers: 1})
+	}
 	for _, mk := range []struct {
 		name string
 		f    TransformFunc
 		tol  float64
-	}{{"exact", exactTransform, 1e-12}, {"default", NewTransform(1), 1e-5}} {
+	}{{"exact", exactTransform, 1e-12}, {"default", NewTransform(1), 1e-5}, {"plan", plan, 1e-5}} {
 		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, mk.f)
 		if err != nil {
 			t.Fatal(err)
@@ -157,7 +170,7 @@ func TestModelAgainstDirectSum(t *testing.T) {
 			worst = math.Max(worst, cmplx.Abs(m.at(r[0])*m.at(r[1])*m.at(r[2])-want))
 		}
 		if worst > mk.tol {
-			t.Errorf("%s: largest difference from the direct sum %g", mk.name, worst)
+			t.Errorf("n = %d, %s: largest difference from the direct sum %g", n, mk.name, worst)
 		}
 		distinct, shared := m.Points()
 		// 12 V² + 10 triangles × 3 + 9 + 16 VIS = 67 baselines; the triangles' first two sides

@@ -280,6 +280,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 	}
 	r.f = f
 	r.pgnorm = r.projGradNorm(w.x, w.g)
+	r.nfree = r.setFree(w.x, w.g)
 	if pgtol > 0 && r.pgnorm <= pgtol {
 		return finish(GradientConvergence, nil)
 	}
@@ -328,6 +329,7 @@ type run struct {
 	iter   int
 	evals  int
 	gamma  float64 // scale of the initial inverse Hessian, s.y/y.y of the newest pair
+	nfree  int     // number of free variables at x, whose runs are in w.runs (setFree)
 }
 
 // eval calls Func and checks that value and gradient are finite.
@@ -393,7 +395,9 @@ func (r *run) projGradNorm(x, g []float64) float64 {
 // the sign of the gradient. They are stored as runs of consecutive
 // indices, [runs[2k], runs[2k+1]), so that the restricted inner products
 // below are plain vector loops; image supports make the runs long. It
-// returns the number of free variables.
+// returns the number of free variables. It serves the starting point;
+// accept marks those of each new point in its own pass, with the same
+// rule.
 func (r *run) setFree(x, g []float64) int {
 	lo, hi := r.p.Lower, r.p.Upper
 	runs := r.w.runs[:0]
@@ -689,7 +693,7 @@ func (r *run) steepest() float64 {
 // accepted step and false when no acceptable step was found.
 func (r *run) iterate() (float64, bool, error) {
 	w := r.w
-	if r.setFree(w.x, w.g) == 0 {
+	if r.nfree == 0 {
 		// Every variable is held at a bound: the point is stationary.
 		return 0, false, nil
 	}
@@ -814,6 +818,9 @@ func (r *run) accept(ft float64) float64 {
 	x, g, xt, gt := w.x, w.g, w.xt, w.gt
 	s, y, g, xt, gt = s[:len(x)], y[:len(x)], g[:len(x)], xt[:len(x)], gt[:len(x)]
 	var sy, step, pg float64
+	// The free variables of the new point (setFree's rule), marked in the same pass.
+	runs := w.runs[:0]
+	nf, in := 0, false
 	for i, xi := range x {
 		xn, gn := xt[i], gt[i]
 		si, yi := xn-xi, gn-g[i]
@@ -826,16 +833,38 @@ func (r *run) accept(ft float64) float64 {
 			step = a
 		}
 		v := xn - gn
-		if lo != nil && v < lo[i] {
-			v = lo[i]
+		free := true
+		if lo != nil {
+			if v < lo[i] {
+				v = lo[i]
+			}
+			if xn <= lo[i] && gn > 0 {
+				free = false
+			}
 		}
-		if hi != nil && v > hi[i] {
-			v = hi[i]
+		if hi != nil {
+			if v > hi[i] {
+				v = hi[i]
+			}
+			if xn >= hi[i] && gn < 0 {
+				free = false
+			}
 		}
 		if a := math.Abs(v - xn); a > pg {
 			pg = a
 		}
+		if free != in {
+			runs = append(runs, i)
+			in = free
+		}
+		if free {
+			nf++
+		}
 	}
+	if in {
+		runs = append(runs, len(x))
+	}
+	w.runs, r.nfree = runs, nf
 	switch {
 	case sy > 0 && w.k < w.m:
 		w.k++

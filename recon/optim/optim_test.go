@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -586,5 +587,58 @@ func TestScale(t *testing.T) {
 	}
 	if math.Abs(res.Scale*c-1) > 1e-9 {
 		t.Errorf("Result.Scale = %g, want 1/c = %g", res.Scale, 1/c)
+	}
+}
+
+// TestAcceptMarksFree checks that accept marks the free variables of the new point as
+// setFree does on its own (the rule of Thiébaut 2002: a variable at a bound whose gradient
+// points out of the box is held), on random points with many variables at their bounds.
+func TestAcceptMarksFree(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 2))
+	const n = 300
+	for _, bounds := range []string{"lower", "upper", "both", "none"} {
+		lo, hi := make([]float64, n), make([]float64, n)
+		for i := range lo {
+			lo[i], hi[i] = -1, 1
+		}
+		p := Problem{Func: func(g, x []float64) float64 { return 0 }}
+		switch bounds {
+		case "lower":
+			p.Lower = lo
+		case "upper":
+			p.Upper = hi
+		case "both":
+			p.Lower, p.Upper = lo, hi
+		}
+		w := newWorkspace(n, 3)
+		r := &run{p: p, w: w}
+		pick := func() float64 {
+			switch rng.IntN(4) {
+			case 0:
+				return -1
+			case 1:
+				return 1
+			}
+			return 2*rng.Float64() - 1
+		}
+		for trial := 0; trial < 20; trial++ {
+			for i := range n {
+				// Runs of equal state, so that both long and short runs occur.
+				if i == 0 || rng.IntN(6) == 0 {
+					w.xt[i] = pick()
+				} else {
+					w.xt[i] = w.xt[i-1]
+				}
+				w.x[i] = pick()
+				w.g[i] = rng.NormFloat64()
+				w.gt[i] = rng.NormFloat64()
+			}
+			r.accept(0)
+			got := append([]int(nil), w.runs...)
+			want := r.setFree(w.x, w.g)
+			if r.nfree != want || !slices.Equal(got, w.runs) {
+				t.Fatalf("%s bounds, trial %d: accept marked %d free in runs %v; setFree %d in %v", bounds, trial, r.nfree, got, want, w.runs)
+			}
+		}
 	}
 }
