@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -224,31 +223,10 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 // printBatchSummary prints the summary as a table, or with asJSON as summary.json holds it.
 func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string, asJSON bool) {
 	if asJSON {
-		enc := json.NewEncoder(w)
-		enc.SetIndent("", "  ")
-		enc.Encode(s)
+		writeJSONTo(w, s)
 		return
 	}
-	skipped, warned := 0, 0
-	for _, r := range s.Rows {
-		if r.Skipped {
-			skipped++
-		}
-		if len(r.Warnings) > 0 {
-			warned++
-		}
-	}
-	fmt.Fprintf(w, "%d of %d epochs (shard %s): %d done (%d of them found complete, %d with warnings), %d failed\n",
-		len(s.Rows), s.Epochs, s.Shard, len(s.Rows)-s.Failed(), skipped, warned, s.Failed())
-	for _, r := range s.Rows {
-		switch {
-		case r.Status != batch.StateDone:
-			fmt.Fprintf(w, "  %s FAILED: %s\n", r.Epoch, r.Error)
-		case len(r.Warnings) > 0:
-			fmt.Fprintf(w, "  %s finished with %s\n", r.Epoch, countWarnings(len(r.Warnings)))
-		}
-	}
-	fmt.Fprintf(w, "Wrote %s and %s\n", filepath.Join(dir, name+".json"), filepath.Join(dir, name+".csv"))
+	output.WriteBatchText(w, s, dir, name)
 }
 
 // batchDisplay shows the state of a batch: one line redrawn in place on a terminal, a
@@ -293,7 +271,7 @@ func (b *batchDisplay) event(ev workflow.Event, r *workflow.EpochResult) {
 		case ev.Err != nil:
 			what = "FAILED: " + ev.Err.Error()
 		case len(r.Row.Warnings) > 0:
-			what = "finished with " + countWarnings(len(r.Row.Warnings))
+			what = "finished with " + output.CountWarnings(len(r.Row.Warnings))
 		}
 		fmt.Fprintf(b.w, "%s %s (%s)\n", name, what, state)
 	}

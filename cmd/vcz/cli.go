@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -8,6 +9,7 @@ import (
 	"sort"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/workflow"
@@ -266,4 +268,26 @@ func flagGiven(fs *flag.FlagSet, name string) bool {
 	given := false
 	fs.Visit(func(f *flag.Flag) { given = given || f.Name == name })
 	return given
+}
+
+// writeJSONTo writes v as indented JSON.
+func writeJSONTo(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+// writeJSON writes v as indented JSON; an error of writing exits 1.
+func writeJSON(w io.Writer, v any) error {
+	return failure(writeJSONTo(w, v))
+}
+
+// printNotices prints the notes of reading d, one "note: TEXT" line each, unless quiet.
+func printNotices(w io.Writer, d *dataset.Data, quiet bool) {
+	if quiet {
+		return
+	}
+	for _, n := range d.Notices {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
 }

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -119,11 +118,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if !*quiet {
-		for _, n := range d.Notices {
-			fmt.Fprintf(stderr, "note: %s\n", n)
-		}
-	}
+	printNotices(stderr, d, *quiet)
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return badInputf("compare: %v", err)
 	}
@@ -148,11 +143,11 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		return failure(err)
 	}
 	if *asJSON {
-		if err := writeJSONTo(stdout, rep); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, rep); err != nil {
+			return err
 		}
 	} else {
-		printCompareTable(stdout, rep)
+		rep.WriteText(stdout)
 		fmt.Fprintf(stdout, "Wrote %s\n", filepath.Join(*out, "report.html"))
 	}
 	var failed []string
@@ -169,13 +164,6 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		return failure(fmt.Errorf("compare: %d of %d regularizers failed (%s); see %s", len(failed), len(cmp.Runs), strings.Join(failed, ", "), filepath.Join(*out, "report.html")))
 	}
 	return strictFailure(*strict, "compare", nwarn)
-}
-
-// writeJSONTo writes v as indented JSON.
-func writeJSONTo(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
 }
 
 // multiProgress shows one line per regularizer on stderr. On a terminal the
@@ -279,7 +267,7 @@ func (p *multiProgress) end(i int, r *workflow.CompareRun) {
 	}
 	what := "done    "
 	if n := len(r.Result.Warnings); n > 0 {
-		what = "done with " + countWarnings(n) + ":"
+		what = "done with " + output.CountWarnings(n) + ":"
 	}
 	p.set(i, fmt.Sprintf("%s χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", what, r.Result.Chi2r, r.Result.Weight, r.Result.TotalIter, r.Seconds), true)
 }

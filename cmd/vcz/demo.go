@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	_ "embed"
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -85,13 +84,11 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, sum); err != nil {
+			return err
 		}
 	} else {
-		printImageSummary(stdout, sum)
+		sum.WriteText(stdout)
 	}
 	truthPath, panel := filepath.Join(*dir, "vaeloris-truth.fits"), filepath.Join(*dir, "vaeloris-compare.png")
 	if err := workflow.DemoTruth(truthPath, panel, run); err != nil {

@@ -1,9 +1,7 @@
 package main
 
 import (
-	"encoding/json"
 	"flag"
-	"fmt"
 	"io"
 	"path/filepath"
 	"strings"
@@ -11,7 +9,6 @@ import (
 	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/output"
-	"vcz/recon"
 	"vcz/runspec"
 	"vcz/workflow"
 )
@@ -133,8 +130,8 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	outPaths := []string{*out}
-	if breq.requests {
-		outPaths = append(outPaths, bootstrapPaths(*out)...)
+	if breq.Requested() {
+		outPaths = append(outPaths, workflow.BootstrapOutputs(*out)...)
 	}
 	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), outPaths...); err != nil {
 		return err
@@ -163,7 +160,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	}
 	outs := output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}
 	if !spec.Channels.Single() {
-		if breq.requests {
+		if breq.Requested() {
 			return badInputf("image: -bootstrap is not available for image cubes (-channels)")
 		}
 		return runCube(files, d, spec, outs, *out, *quiet, *asJSON, *strict, stdout, stderr)
@@ -172,22 +169,24 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	var bs *BootstrapSummary
-	if breq.requests {
-		if bs, err = runBootstrap(breq, fs.Args(), files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
+	var bs *workflow.BootstrapSummary
+	if breq.Requested() {
+		im, err := workflow.NewImage(files, d, spec)
+		if err != nil {
+			return err
+		}
+		if bs, err = im.ImageBootstrap(breq, fs.Args(), run, outs, *out, bootstrapEvents(stderr, *quiet)); err != nil {
 			return err
 		}
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
+			return err
 		}
 	} else {
-		printImageSummary(stdout, sum)
+		sum.WriteText(stdout)
 		if bs != nil {
-			printBootstrap(stdout, bs)
+			bs.WriteText(stdout)
 		}
 	}
 	printWarnings(stderr, "", sum.Warnings)
@@ -213,67 +212,12 @@ func reconstruct(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs 
 	if err != nil {
 		return output.ImageSummary{}, output.Run{}, err
 	}
-	if !quiet {
-		for _, n := range d.Notices {
-			fmt.Fprintf(stderr, "note: %s\n", n)
-		}
-	}
+	printNotices(stderr, d, quiet)
 	prog := newProgressLine(stderr, quiet)
-	run, paths, err := im.Run(outs, out, func(pr recon.Progress) bool {
-		prog.report(pr)
-		return true
-	})
+	run, paths, err := im.Run(outs, out, prog.follow)
 	prog.done()
 	if err != nil {
 		return output.ImageSummary{}, output.Run{}, failure(err)
 	}
 	return output.NewImageSummary(run, paths), run, nil
-}
-
-func printImageSummary(w io.Writer, s output.ImageSummary) {
-	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas (field %.4g mas)\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas, s.Grid.FOVMas)
-	for _, r := range s.Grid.Reasons {
-		fmt.Fprintf(w, "  - %s\n", r)
-	}
-	how := "given"
-	if s.WeightAuto {
-		plural := "s"
-		if len(s.Path) == 1 {
-			plural = ""
-		}
-		how = fmt.Sprintf("chosen from %d weight%s: χ²ᵣ aimed at %.3g, between %.3g of the least-regularized images and its expected value %.3g", len(s.Path), plural, s.Chi2rAim, s.Chi2rFloor, s.Chi2rTarget)
-	}
-	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
-	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
-	for _, t := range dataset.DataTypes() {
-		name := t.String()
-		if c, ok := s.Chi2ByType[name]; ok {
-			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)
-		}
-	}
-	fmt.Fprintln(w)
-	conv := "converged"
-	if !s.Converged {
-		conv = "NOT converged"
-	}
-	switch {
-	case len(s.Warnings) > 0:
-		// The verdict doubts the result: the line must not read as a success.
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), finished with %s (stop: %s), %.1f s\n", s.Iterations, s.TotalIter, countWarnings(len(s.Warnings)), stopText(s.Status), s.Seconds)
-	case s.Converged:
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s, %.1f s\n", s.Iterations, s.TotalIter, s.Status, s.Seconds)
-	default:
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s: %s, %.1f s\n", s.Iterations, s.TotalIter, conv, s.Status, s.Seconds)
-	}
-	for _, n := range s.Notices {
-		fmt.Fprintf(w, "Note:        %s\n", n)
-	}
-	fmt.Fprintf(w, "Wrote %s\n", s.Outputs.FITS)
-	if s.Outputs.PNG != "" {
-		fmt.Fprintf(w, "Wrote %s\n", s.Outputs.PNG)
-	}
-	for _, p := range s.Outputs.Plots {
-		fmt.Fprintf(w, "Wrote %s\n", p)
-	}
-	fmt.Fprintln(w, "The image is one solution consistent with the data; structure below the resolution is not constrained.")
 }
