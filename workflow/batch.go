@@ -269,6 +269,19 @@ func Collect(dirs []string) (*batch.Summary, error) {
 	return sum, nil
 }
 
+// CollectShards merges the shard summaries found in dirs (Collect) into out/summary.json and
+// .csv and draws the montage and animation of the merged epochs from their files.
+func CollectShards(out string, dirs []string, st preview.Stretch) (*ShardRun, error) {
+	sum, err := Collect(dirs)
+	if err != nil {
+		return nil, err
+	}
+	if err := WriteSummary(out, "summary", sum); err != nil {
+		return nil, err
+	}
+	return &ShardRun{Summary: sum, Name: "summary", Montage: WriteMontage(out, "", sum.Rows, nil, "", st)}, nil
+}
+
 // WriteSummary writes s as NAME.json and NAME.csv in dir.
 func WriteSummary(dir, name string, s *batch.Summary) error {
 	if err := batch.WriteJSON(filepath.Join(dir, name+".json"), s); err != nil {

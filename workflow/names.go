@@ -5,9 +5,11 @@ import (
 	"fmt"
 	"io/fs"
 	"os"
+	"path/filepath"
 	"strings"
 	"unicode"
 
+	"vcz/output"
 	"vcz/recon/batch"
 )
 
@@ -100,6 +102,36 @@ func CheckEpochFiles(epochs []*Epoch) error {
 				return inputError(f, fmt.Errorf("%s: not a regular file (epoch %q)", f, e.Name))
 			}
 		}
+	}
+	return nil
+}
+
+// DefaultOutput is the output a command names from its first input: the input's base name
+// without its extension, followed by suffix, in the current folder ("night1.oifits" and
+// "-image.fits" give "night1-image.fits").
+func DefaultOutput(input, suffix string) string {
+	base := filepath.Base(input)
+	return strings.TrimSuffix(base, filepath.Ext(base)) + suffix
+}
+
+// CheckImageOutput refuses, before any work, an image path out of 'vcz image' that is not a
+// FITS name, that cannot be written, or that (with the bootstrap's maps beside it when
+// bootstrap) would overwrite one of the inputs. Errors are *InputError.
+func CheckImageOutput(out string, inputs []string, bootstrap bool) error {
+	if err := CheckOutputs(out); err != nil {
+		return err
+	}
+	outs := []string{out}
+	if bootstrap {
+		outs = append(outs, BootstrapOutputs(out)...)
+	}
+	if err := CheckNotInputs(inputs, outs...); err != nil {
+		return err
+	}
+	if output.Stem(out) == out {
+		// The image is FITS; its preview and plots are named from the FITS path. A name
+		// like star.png used to receive FITS bytes, with the preview in star.png.png.
+		return inputErrorf("image: -o %s: the image is written as FITS: give a name ending in .fits (the PNG preview and plots go beside it)", out)
 	}
 	return nil
 }

@@ -163,9 +163,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	sum, name := sr.Summary, sr.Name
-	if sr.Montage != nil && !*quiet {
-		fmt.Fprintf(stderr, "note: montage: %v\n", sr.Montage)
-	}
+	printMontageNote(stderr, sr, *quiet)
 	printBatchSummary(stdout, sum, *out, name, *asJSON)
 	// The verdict comes last, after the joint run's messages, whatever happens there.
 	if *joint {
@@ -202,22 +200,25 @@ func printBatchWarnings(w io.Writer, s *batch.Summary) int {
 
 // collectShards merges the shard summaries found in dirs into out/summary.json.
 func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict, asJSON bool, st preview.Stretch) error {
-	sum, err := workflow.Collect(dirs)
+	sr, err := workflow.CollectShards(out, dirs, st)
 	if err != nil {
 		return err
 	}
-	if err := workflow.WriteSummary(out, "summary", sum); err != nil {
-		return failure(err)
-	}
-	if err := workflow.WriteMontage(out, "", sum.Rows, nil, "", st); err != nil && !quiet {
-		fmt.Fprintf(stderr, "note: montage: %v\n", err)
-	}
+	sum := sr.Summary
+	printMontageNote(stderr, sr, quiet)
 	printBatchSummary(stdout, sum, out, "summary", asJSON)
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
 		return failure(fmt.Errorf("%d of %d epochs failed", n, len(sum.Rows)))
 	}
 	return strictFailure(strict, "batch -collect", nwarn)
+}
+
+// printMontageNote says why the montage of sr could not be drawn, unless quiet.
+func printMontageNote(w io.Writer, sr *workflow.ShardRun, quiet bool) {
+	if sr.Montage != nil && !quiet {
+		fmt.Fprintf(w, "note: montage: %v\n", sr.Montage)
+	}
 }
 
 // printBatchSummary prints the summary as a table, or with asJSON as summary.json holds it.

@@ -89,8 +89,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	}
 	bootOpt.Unit = unit
 	if *out == "" {
-		base := filepath.Base(fs.Arg(0))
-		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-compare"
+		*out = workflow.DefaultOutput(fs.Arg(0), "-compare")
 	}
 	if *parallel < 0 {
 		return badInputf("compare: -parallel %d must not be negative", *parallel)

@@ -1,16 +1,11 @@
 package main
 
 import (
-	"bytes"
 	_ "embed"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 
-	"vcz/dataset"
-	"vcz/io/oifits"
-	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/runspec"
 	"vcz/workflow"
@@ -55,24 +50,9 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if *asJSON {
 		text = io.Discard // stdout holds the JSON alone
 	}
-	if err := os.MkdirAll(*dir, 0o755); err != nil {
-		return badInputf("demo: %v", err)
-	}
-	dataPath := filepath.Join(*dir, "vaeloris.oifits")
-	if err := safefile.Write(dataPath, func(w io.Writer) error {
-		_, err := w.Write(demoOIFITS)
+	dataPath, files, d, err := workflow.DemoData(*dir, demoOIFITS)
+	if err != nil {
 		return err
-	}); err != nil {
-		return failure(err)
-	}
-	file, err := oifits.Decode(bytes.NewReader(demoOIFITS), "vaeloris.oifits")
-	if err != nil {
-		return failure(fmt.Errorf("embedded demo data: %w", err))
-	}
-	files := []*oifits.File{file}
-	d, err := dataset.FromFiles(files, dataset.Selection{})
-	if err != nil {
-		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
 	rep := output.NewInspectReport(d)
 	fmt.Fprintf(text, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",

@@ -3,7 +3,6 @@ package main
 import (
 	"flag"
 	"io"
-	"path/filepath"
 	"strings"
 
 	"vcz/dataset"
@@ -111,8 +110,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		inputs = rr.Files
 		rerunSpec = &rr.Spec
 		if *out == "" {
-			base := filepath.Base(*rerun)
-			*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-rerun.fits"
+			*out = workflow.DefaultOutput(*rerun, "-rerun.fits")
 		}
 	}
 	if len(inputs) == 0 {
@@ -123,23 +121,10 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *out == "" {
-		base := filepath.Base(inputs[0])
-		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
+		*out = workflow.DefaultOutput(inputs[0], "-image.fits")
 	}
-	if err := workflow.CheckOutputs(*out); err != nil {
+	if err := workflow.CheckImageOutput(*out, append(append([]string(nil), inputs...), *rerun), breq.Requested()); err != nil {
 		return err
-	}
-	outPaths := []string{*out}
-	if breq.Requested() {
-		outPaths = append(outPaths, workflow.BootstrapOutputs(*out)...)
-	}
-	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), outPaths...); err != nil {
-		return err
-	}
-	if output.Stem(*out) == *out {
-		// The image is FITS; its preview and plots are named from the FITS path. A name
-		// like star.png used to receive FITS bytes, with the preview in star.png.png.
-		return badInputf("image: -o %s: the image is written as FITS: give a name ending in .fits (the PNG preview and plots go beside it)", *out)
 	}
 	st, err := output.ParseStretch(*stretch)
 	if err != nil {
