@@ -5,7 +5,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strings"
 	"sync"
 	"time"
 
@@ -120,44 +119,15 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("batch: %v", err)
 	}
-	epochs, jobOut, err := workflow.Epochs(*job, fs.Args(), shared, *gap)
+	plan, err := workflow.PlanBatch(workflow.BatchRequest{Job: *job, Files: fs.Args(), Gap: *gap, Shared: shared, Out: *out,
+		Shard: *shardS, Joint: *joint, TemporalWeight: *tweight}, os.Getenv)
 	if err != nil {
 		return err
 	}
-	if *out == "" {
-		*out = jobOut
-	}
-	if *out == "" {
-		*out = "batch"
-	}
-	shard, err := workflow.ChooseShard(*shardS, os.Getenv)
-	if err != nil {
-		return err
-	}
-	if err := workflow.CheckEpochNames(epochs, *joint); err != nil {
-		return err
-	}
-	if err := workflow.CheckEpochFiles(epochs); err != nil {
-		return err
-	}
-	if *joint && shard.N > 1 {
-		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)
-	}
-	lambda := 0.0
-	if *joint && strings.ToLower(*tweight) != "auto" {
-		if _, err := fmt.Sscanf(*tweight, "%g", &lambda); err != nil || !(lambda > 0) {
-			return badInputf("batch: -temporal-weight %q: want a positive number or auto", *tweight)
-		}
-	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return badInputf("batch: -o: %v", err)
-	}
-	if err := workflow.CheckFolder(*out); err != nil {
-		return badInputf("batch: -o: %v", err)
-	}
+	*out = plan.Out
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel, Stretch: st}
 	disp := newBatchDisplay(stderr, *quiet)
-	sr, err := b.RunShard(epochs, shard, *joint, disp.event)
+	sr, err := b.RunShard(plan.Epochs, plan.Shard, *joint, disp.event)
 	disp.finish()
 	if err != nil {
 		return err
@@ -175,7 +145,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *asJSON {
 			jointOut = stderr // stdout holds the JSON summary alone
 		}
-		if err := runJoint(b, sr.Epochs, sr.Results, lambda, jointOut, stderr, *quiet); err != nil {
+		if err := runJoint(b, sr.Epochs, sr.Results, plan.Lambda, jointOut, stderr, *quiet); err != nil {
 			printBatchWarnings(stderr, sum)
 			return err
 		}

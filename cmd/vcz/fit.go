@@ -1,13 +1,11 @@
 package main
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"strings"
 
-	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
@@ -200,51 +198,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 		return failure(fitErr)
 	}
-	res, g := fo.Result, fo.Grid
-	sum := output.NewFitSummary(res, fo.Starts)
-	if b := fo.Boot; b != nil {
-		sum.AddBootstrap(output.FitBootJ{K: b.K, Done: b.Done, Unit: b.Unit.String(), Seed: b.Seed}, b.Params, b.Sep, b.PA, b.Ratio)
-	}
-	sum.Detections = output.FitDetections(res, fo.Detections)
-	if g != nil {
-		sum.Grid = &output.FitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
-			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
-	}
-	if *limits != "" {
-		if sum.Limits, err = fo.WriteLimits(*limits, d); err != nil {
-			return failure(err)
-		}
-	}
-	if *plotPrefix != "" {
-		written, err := output.FitPlots(files, d, res, g, *plotPrefix)
-		sum.Plots = append(sum.Plots, written...)
-		if err != nil {
-			return failure(err)
-		}
-	}
-	if *writeImage != "" {
-		px := 0.0
-		if *pixel != "" {
-			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
-				return badInputf("fit: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
-			}
-		}
-		if err := fo.WriteImage(*writeImage, *n, px, files, d); err != nil {
-			return err // an *InputError exits 2, any other error 1
-		}
-		sum.Image = *writeImage
-	}
-	if *saveModel != "" {
-		if err := fo.SaveModel(*saveModel, fs.Args()); err != nil {
-			return failure(err)
-		}
-		sum.ModelFile = *saveModel
+	sum, err := fo.Report(fitSet, workflow.FitFiles{Plots: *plotPrefix, Limits: *limits, Image: *writeImage, N: *n, Pixel: *pixel,
+		Model: *saveModel, Data: fs.Args()}, files, d)
+	if err != nil {
+		return err // an *InputError exits 2, any other error 1
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, sum); err != nil {
+			return err
 		}
 	} else {
 		sum.WriteText(stdout, *n)
