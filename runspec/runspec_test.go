@@ -204,7 +204,7 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-pixel", "-1mas"}, `-pixel "-1mas": want a positive angle such as 0.25mas`},
 		{[]string{"-fov", "0"}, `-fov "0": want a positive angle such as 12mas: "0" has no unit (use arcsec, as, deg, mas, rad, uas, µas)`},
 		{[]string{"-fov", "0mas"}, `-fov "0mas": want a positive angle such as 12mas`},
-		{[]string{"-reg", "nosuch"}, `-reg: unknown regularizer "nosuch" (use mem, tv, smooth, compact, priordist)`},
+		{[]string{"-reg", "nosuch"}, `-reg: unknown regularizer "nosuch" (use ` + regularizers.NameList() + ")"},
 		{[]string{"-reg", ""}, "-reg: no regularizer named"},
 		{[]string{"-reg", "mem:2"}, "-reg: regularizer mem: the first term's weight is 1 by definition; set the overall weight with -weight"},
 		{[]string{"-prior", "gauss:-1"}, `-prior: prior "gauss:-1": size must be a positive angle such as 3mas`},
