@@ -349,16 +349,15 @@ func (t *table) vector(name string, kind colKind, w *Wavelength, required bool) 
 // Readers of one field; the column types were checked by column, so the
 // accessors cannot fail, but any error is still reported with its place.
 func (t *table) floats(dst []float64, c *fitsfile.Column, row int) error {
-	return readField(t, (*fitsfile.Table).Float64s, dst, c, row)
-}
-
-// readField reads the field of column c in row into dst with read (Table.Float64s or
-// Table.Ints); a nil c reads nothing.
-func readField[T any](t *table, read func(*fitsfile.Table, []T, *fitsfile.Column, int) error, dst []T, c *fitsfile.Column, row int) error {
 	if c == nil {
 		return nil
 	}
-	if err := read(t.t, dst, c, row); err != nil {
+	return t.fieldErr(t.t.Float64s(dst, c, row), c, row)
+}
+
+// fieldErr places err, of reading column c in row, in the table; nil stays nil.
+func (t *table) fieldErr(err error, c *fitsfile.Column, row int) error {
+	if err != nil {
 		return t.errf(row+1, c.Name, "%v", err)
 	}
 	return nil
@@ -374,7 +373,10 @@ func (t *table) float(c *fitsfile.Column, row int) (float64, error) {
 }
 
 func (t *table) ints(dst []int, c *fitsfile.Column, row int) error {
-	return readField(t, (*fitsfile.Table).Ints, dst, c, row)
+	if c == nil {
+		return nil
+	}
+	return t.fieldErr(t.t.Ints(dst, c, row), c, row)
 }
 
 func (t *table) int(c *fitsfile.Column, row int) (int, error) {
