@@ -142,10 +142,10 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 		}
 		// channels reads the channels of row r of an OI_T3 or OI_VIS table (k) of instrument
 		// ins: it counts the flagged and unusable ones in count and appends each usable one
-		// to set, after add has appended its (u, v) (and whatever else the table has) at
-		// wavelength l.
+		// to set; the caller appends their (u, v), and whatever else its table has, for the
+		// wavelengths added to set.
 		channels := func(k ampPhaseCols, set ampPhaseSet, count *Counts, hdu, r int, ins string, w *oifits.Wavelength, tid int, mjd float64,
-			amp, ampErr, phi, phiErr []float64, flag []bool, wantAmp, wantPhi bool, add func(l float64)) error {
+			amp, ampErr, phi, phiErr []float64, flag []bool, wantAmp, wantPhi bool) error {
 			for c, l := range w.EffWave {
 				if !waveOK(l) {
 					continue
@@ -163,7 +163,6 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					continue
 				}
 				count.Valid++
-				add(l)
 				v.appendTo(set, l, w.EffBand[c], mjd, Origin{File: fi, HDU: hdu, Row: r, Channel: c})
 				use(ins, w, c, tid)
 			}
@@ -248,12 +247,14 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					uvOK := finite(row.U1Coord) && finite(row.V1Coord) && finite(row.U2Coord) && finite(row.V2Coord)
 					p := &d.T3
 					set := ampPhaseSet{&p.Lambda, &p.DLambda, &p.MJD, &p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK, &p.Origin}
+					n0 := len(p.Lambda)
 					if err := channels(t3Cols, set, &d.T3Count, tb.HDU, r+1, tb.InsName, w, row.TargetID, row.MJD, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag,
-						types&T3Amp != 0 && uvOK, types&T3Phi != 0 && uvOK, func(l float64) {
-							p.U1, p.V1 = append(p.U1, row.U1Coord/l), append(p.V1, row.V1Coord/l)
-							p.U2, p.V2 = append(p.U2, row.U2Coord/l), append(p.V2, row.V2Coord/l)
-						}); err != nil {
+						types&T3Amp != 0 && uvOK, types&T3Phi != 0 && uvOK); err != nil {
 						return nil, err
+					}
+					for _, l := range p.Lambda[n0:] {
+						p.U1, p.V1 = append(p.U1, row.U1Coord/l), append(p.V1, row.V1Coord/l)
+						p.U2, p.V2 = append(p.U2, row.U2Coord/l), append(p.V2, row.V2Coord/l)
 					}
 				}
 			}
@@ -289,12 +290,14 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					uvOK := finite(row.UCoord) && finite(row.VCoord)
 					p := &d.Vis
 					set := ampPhaseSet{&p.Lambda, &p.DLambda, &p.MJD, &p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK, &p.Origin}
+					n0 := len(p.Lambda)
 					if err := channels(visCols, set, &d.VisCount, tb.HDU, r+1, tb.InsName, w, row.TargetID, row.MJD, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag,
-						types&VisAmp != 0 && uvOK, types&VisPhi != 0 && uvOK, func(l float64) {
-							p.U, p.V = append(p.U, row.UCoord/l), append(p.V, row.VCoord/l)
-							p.AmpTyp, p.PhiTyp = append(p.AmpTyp, at), append(p.PhiTyp, pt)
-						}); err != nil {
+						types&VisAmp != 0 && uvOK, types&VisPhi != 0 && uvOK); err != nil {
 						return nil, err
+					}
+					for _, l := range p.Lambda[n0:] {
+						p.U, p.V = append(p.U, row.UCoord/l), append(p.V, row.VCoord/l)
+						p.AmpTyp, p.PhiTyp = append(p.AmpTyp, at), append(p.PhiTyp, pt)
 					}
 				}
 			}
