@@ -20,66 +20,6 @@ func init() {
 	register(&command{name: "batch", summary: "image many epochs of one target: in parallel, resumable, sharded for job arrays, optionally jointly", run: runBatch})
 }
 
-const batchDoc = `Reconstruct one image per epoch with one set of settings.
-
-The epochs come from a job file (-job) or from OIFITS files given as
-arguments, split into epochs wherever consecutive observations are more than
--gap days apart (default half a day: one epoch per night). Every 'vcz image'
-option applies to all epochs; a job file may override them per epoch.
-
-Epochs run concurrently; the worker goroutines of all running epochs (their
-transforms' workers included) never exceed the number of CPUs. An epoch that
-fails is recorded with its error and the others go on; the exit status is 1
-when any failed. Each epoch's FITS header (INHASH) and its status file record
-a SHA-256 of its input files and the canonical text of its options (the
-options that differ from the defaults, the worker count left out, also in
-the FITS header as "option:" HISTORY cards); a rerun skips the epochs whose
-outputs are complete with the same hash (-force redoes them). Every file is
-written to a temporary name and renamed, and the status file last, so a run
-killed at any moment loses no finished epoch.
-
-The quality verdict of each epoch's image is printed after the summary as
-"warning: epoch NAME: ..." lines on stderr, and kept in its FITS header
-(NWARN, WARNn) and the summary; -strict makes any warning exit 1 once every
-output is written. Neither changes the hash.
-
--shard K/N takes every N-th epoch starting at the K-th; inside a SLURM job
-array the shard follows SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT (or
-_MIN and _MAX) unless -shard is given. Shards write summary-K-of-N.json;
-'vcz batch -collect -o DIR' merges them into DIR/summary.json and .csv and
-draws the montage and animation.
-
-Job file (TOML; paths relative to the job file):
-  output = "epochs"              output folder (-o overrides)
-  [image]                        shared settings: the 'vcz image' options,
-                                 each key the flag's name without the dash:
-    target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
-    support, tv-eps, data-weights, iter, seed, starts, coarse, no-amp-first,
-    smearing, workers (e.g. n = 64, reg = "mem,compact:0.1", coarse = true)
-  [[epoch]]
-    name = "night-1"             used for the output names (default epoch-NN)
-    files = ["a.oifits", "b.oifits"]
-    ...                          any [image] key, overriding it for this epoch
-
-Outputs in the folder (-o, default "batch"):
-  EPOCH.fits, EPOCH.png        image and preview of each epoch
-  EPOCH.status.json            hash, outputs and summary row of each epoch
-  summary.json, summary.csv    epoch, MJD range, points and χ²ᵣ per data type,
-                               weight, iterations, seconds, status, warnings
-                               (a list in JSON, their number in CSV), error
-  montage.png, epochs.gif      all epochs on one colour scale, with dates
-
-Every epoch is imaged on one grid, the finest pixel and widest field that any
-epoch's data call for (or -n and -pixel when given), so the images compare
-pixel for pixel; adding an epoch may change that grid and redo the others.
--stretch sets the display stretch of the previews, montage and animation.
-With -joint also:
-  joint.fits                   the jointly reconstructed cube (axis 3 = time:
-                               CTYPE3 TIME or TIME-TAB in MJD, each plane at the
-                               middle of its epoch; MJDnnn keys instead when the
-                               epochs are not in time order)
-  EPOCH-joint.fits/.png        its planes as images`
-
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)

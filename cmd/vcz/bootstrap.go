@@ -14,32 +14,6 @@ import (
 	"vcz/workflow"
 )
 
-// bootstrapDoc is the part of `vcz image -help` about the bootstrap.
-const bootstrapDoc = `
-Uncertainty: -bootstrap K reconstructs K resamplings of the data drawn with
-replacement (whole exposures by default: every channel, baseline and
-triangle of one file and MJD together; -bootstrap-unit baseline draws each
-baseline and triangle row instead), each started from the image of the full
-data at its weight and run to convergence (up to four times -iter: one
-stopped early stays near the image and makes the spread too small). The
-replicates are moved onto the image by whole pixels
-when the data do not fix the position (no absolute phases). Outputs:
-  OUT-boot-mean.fits    mean of the replicates
-  OUT-boot-std.fits     standard deviation per pixel
-  OUT-boot-signif.fits  mean / standard deviation
-  OUT-boot.png          the image with significance contours at 3σ and 5σ
--feature x,y,r (mas, x east) or -feature MASK.fits weighs a region against
-a smooth reference (the azimuthal average about the photocentre on a
-stellar disc, the mean of the annulus out to twice its radius otherwise):
-the fraction of replicates in which it is brighter, or fainter, than the
-reference by more than the noise (the spread of that difference over the
-replicates). -feature may be given several times.
-For large K, -bootstrap-shard K/N (or slurm: from the SLURM job-array
-variables) makes only every N-th replicate, starting at the K-th, and keeps
-each as OUT-boot-0001.fits, ...; -bootstrap-collect then makes the maps,
-taking the replicates kept by the shards (or an interrupted run) and making
-any that are missing. Replicates of other data or settings are not taken.`
-
 // getenv reads the environment (the SLURM variables of -bootstrap-shard slurm).
 var getenv = os.Getenv
 

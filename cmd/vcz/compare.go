@@ -16,43 +16,6 @@ import (
 	"vcz/workflow"
 )
 
-const compareDoc = `Reconstruct the same data with several regularizers (all of them by default)
-on one grid, from one start image, with the same stopping rules, and write the
-images side by side with a report, so that what agrees and what does not can
-be seen.
-
-The grid is chosen once from the data (or from -n, -pixel, -fov) and used by
-every regularizer. Each regularizer's weight is chosen automatically (the
-weight chosen from the data by the χ²ᵣ it gives) unless given with -weight (all) or
--weights (per regularizer, e.g. mem=1e4,tv=auto). The regularizers run in
-parallel: at most GOMAXPROCS goroutines in all, split between concurrent
-reconstructions and the workers of each transform; the images do not depend
-on the split.
-
-Outputs in DIR (made if missing):
-  NAME.fits, NAME.png    each regularizer's image and preview
-  NAME-lcurve.png        its weight path (misfit against regularizer value)
-  compare-panel.png      all images on one colour scale, labelled
-  compare-spread.fits/.png  pixel-wise standard deviation over the mean image
-  compare-robust.fits/.png  pixel-wise minimum after aligning the images by
-                         their cross-correlation peak with the first image
-  compare-vis2.png       V² data and every regularizer's model
-  compare-t3phi.png      closure phases against the longest baseline; likewise
-                         compare-t3amp.png, -visamp.png, -visphi.png for each
-                         other data type fitted
-  compare.csv, compare.json  the table of results
-  report.html            all of the above in one self-contained page, with
-                         the display stretch and links to the FITS, CSV and
-                         JSON files (keep it in DIR for the links to work)
-
-Progress goes to stderr, one line per regularizer. A regularizer that fails
-(an error or non-finite values) is reported in the table and the report and
-the others complete; the exit status is then 1. A run that stops at the
-iteration limit is marked as not converged but does not fail. The quality
-verdict of each image follows the table as "warning: NAME: ..." lines on
-stderr, and is in its FITS header (NWARN, WARNn), the table (a count) and
-the JSON (a "warnings" list per row); -strict makes any warning exit 1.`
-
 func init() {
 	register(&command{name: "compare", summary: "reconstruct with several regularizers side by side and write a report", run: runCompare})
 }

@@ -19,21 +19,6 @@ import (
 //go:embed demodata/vaeloris.oifits
 var demoOIFITS []byte
 
-const demoDoc = `Reconstruct the embedded demo data set: simulated V² and closure phases of
-the invented spotted, limb-darkened giant Vaeloris observed with the invented
-six-telescope array. It writes into DIR:
-
-  vaeloris.oifits            the data (inspect or image it yourself)
-  vaeloris-image.fits, .png  the reconstruction with default settings
-  vaeloris-image-*.png       data-fit plots
-  vaeloris-truth.fits        the model the data were simulated from
-  vaeloris-compare.png       model and reconstruction side by side
-
-and prints where they are. The reconstruction is one image consistent with
-the data; compare it with the model to see what the data constrain. The
-quality verdict of the reconstruction, if it doubts the result, follows as
-"warning:" lines on stderr (and in the FITS header, NWARN and WARNn).`
-
 func runDemo(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("demo", "[-o DIR]", demoDoc, stderr)
 	dir := fs.String("o", "vcz-demo", "output folder (made if missing)")

@@ -11,23 +11,6 @@ import (
 	"vcz/workflow"
 )
 
-const inspectDoc = `Summarise one or more OIFITS files, merged into one data set: targets,
-instruments with their wavelength range and channel count, the number of
-points per data type (valid, flagged, non-finite), baseline lengths, the
-nominal resolution λmin/(2·Bmax), the largest constrained scale λmax/Bmin, a
-suggested pixel size and grid, and the MJD range with the number of nights;
-then, for each night and instrument, the date, array, OIFITS revision,
-stations, the number of distinct baselines and closure triangles, and for each
-data type the number of points, their errors (median and range) and median
-signal-to-noise ratio (-json: "breakdown").
-
-With -o DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
-data type present, DIR/<type>.png against spatial frequency (vis2.png,
-t3phi.png for closure phases against the longest baseline of the triangle,
-t3amp.png, visamp.png, visphi.png), coloured by instrument when there are
-several, else by wavelength; V² and amplitudes that span more than two decades
-on a logarithmic axis.`
-
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
 	selFlags := runspec.RegisterFlags(fs, runspec.Select)

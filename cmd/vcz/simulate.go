@@ -9,23 +9,6 @@ import (
 	"vcz/workflow"
 )
 
-const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
-write them as an OIFITS v2 file. The model is either analytic components
-(-model, a TOML file or the inline form below) or a FITS image (-image, any
-pixel scale; its world coordinates are read with east to the left), or a
-chromatic model (-chromatic, a TOML file of components with spectral indices
-and rotating discs emitting a line; write "visdiff" in the plan for differential
-phases).
-
-Examples:
-  vcz simulate -plan examples/plan-six-demo.toml -model examples/vaeloris.toml -o demo.oifits
-  vcz simulate -plan plan.toml -model "ud:diameter=3;point:x=6,y=2,flux=0.05" -o binary.oifits
-  vcz simulate -plan plan.toml -image truth.fits -o sim.oifits
-
-Run 'vcz simulate -help-plan' for every key of a plan file,
-'vcz simulate -help-model' for the model forms and components and
-'vcz simulate -help-chromatic' for chromatic models.`
-
 func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("simulate", "-plan PLAN.toml (-model MODEL | -image FILE.fits) -o OUT.oifits", simulateDoc, stderr)
 	planPath := fs.String("plan", "", "observing plan (TOML)")
