@@ -100,7 +100,13 @@ func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.Gri
 	var written []string
 	save := saver(prefix, &written)
 	title := strings.Join(d.Targets, ", ")
-	mp := modelPlots{files: files, d: d, pred: recon.PredictVis(d, m.VisMany), use: res.Use, name: "fitted model",
+	var smear recon.ResidualOptions
+	if res.Smearing != nil {
+		smear.Smearing = *res.Smearing
+	} else {
+		smear.Smearing = recon.SmearOff
+	}
+	mp := modelPlots{files: files, d: d, pred: recon.PredictVisWith(d, m.VisMany, smear), use: res.Use, name: "fitted model",
 		title:         func(what string) string { return titled(what+" and fitted model", title) },
 		residualTitle: titled("Normalised residuals of the fit", title)}
 	if circular(m) {
@@ -333,7 +339,7 @@ func titled(what, target string) string {
 func writeFitPlots(stem string, r Run) ([]string, error) {
 	d, res := r.Data, r.Result
 	target := r.Target()
-	pred, err := recon.Predict(d, res.Grid.Grid, res.Image, nil)
+	pred, err := recon.PredictWith(d, res.Grid.Grid, res.Image, nil, recon.ModelOptions{Smearing: res.Smearing})
 	if err != nil {
 		return nil, err
 	}

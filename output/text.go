@@ -233,10 +233,10 @@ func NewStarEnvSummary(run StarEnvRun, paths Paths) StarEnvSummary {
 
 // WriteText writes the summary of a star + environment fit.
 func (s StarEnvSummary) WriteText(w io.Writer) {
-	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm (± %.2g with the image fixed), spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Err, s.StarIndex)
-	fmt.Fprintf(w, "Environment: spectral index %.4g (± %.2g with the image fixed)\n", s.EnvIndex, s.EnvIndexErr)
+	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm ± %.2g, spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Err, s.StarIndex)
+	fmt.Fprintf(w, "Environment: spectral index %.4g ± %.2g\n", s.EnvIndex, s.EnvIndexErr)
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g over all channels (gray image %.4g), %d iterations, %.1f s\n", s.Chi2r, s.GrayChi2r, s.Iterations, s.Seconds)
-	fmt.Fprintln(w, "Note:        the errors hold the image fixed and underestimate; the image is the environment alone.")
+	fmt.Fprintln(w, "Note:        1σ errors from the profile with the image refitted (noise only; the regularizer's bias is not in them); the image is the environment alone.")
 	writePaths(w, s.Outputs.FITS, s.Outputs.PNG)
 }
 

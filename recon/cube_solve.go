@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sync"
 
 	"vcz/dataset"
@@ -201,6 +202,28 @@ type CubeProblem struct {
 	// Gray, when non-nil, is the gray reconstruction of Data with this problem and the
 	// same settings (an earlier CubeResult.Gray), used instead of solving it again.
 	Gray *Result
+	// Starts, when non-nil, holds one start image per plane on Problem.Grid (e.g. the
+	// planes' own reconstructions, as for the epochs of a batch): no gray image is solved,
+	// Data may be nil, plane k keeps the spatial weight PlaneWeights[k], and every sweep
+	// fits the exact data terms.
+	Starts [][]float64
+	// PlaneWeights are the spatial weights μ_k of the planes with Starts.
+	PlaneWeights []float64
+	// SpectralSteps, when positive and SpectralWeight is 0, chooses η by the discrepancy
+	// path of SolveCube instead of the formula: at most that many weights, a factor 10
+	// apart.
+	SpectralSteps int
+	// SpectralTolerance is the rise of a plane's χ²ᵣ over that at its start that the path
+	// accepts, as a fraction; 0 means 0.05.
+	SpectralTolerance float64
+}
+
+// SpectralStep is one weight tried by the discrepancy path of SolveCube.
+type SpectralStep struct {
+	Weight   float64 // η
+	Chi2r    float64 // Σχ²/ΣN of all planes
+	Value    float64 // S of the normalised planes
+	Accepted bool
 }
 
 // PlaneResult is the outcome of one plane of a cube.
@@ -234,15 +257,17 @@ type CubeResult struct {
 	Spectral       Spectral
 	SpectralWeight float64
 	SpectralValue  float64
-	Objective      float64
-	Chi2r          float64 // Σχ²/ΣN over all planes
-	Iter, Evals    int     // of the planes' runs in the last sweep, summed
-	TotalIter      int     // of all runs, the gray ones included
-	Status         optim.Status
-	Converged      bool
-	StopReason     string
-	Notices        []string
-	Warnings       []string
+	// Path holds the weights the discrepancy path tried (CubeProblem.SpectralSteps).
+	Path        []SpectralStep
+	Objective   float64
+	Chi2r       float64 // Σχ²/ΣN over all planes
+	Iter, Evals int     // of the planes' runs in the last sweep, summed
+	TotalIter   int     // of all runs, the gray ones included
+	Status      optim.Status
+	Converged   bool
+	StopReason  string
+	Notices     []string
+	Warnings    []string
 }
 
 // DefaultSpectralSmooth is the constant c of the automatic weight of SpectralSmoothness,
@@ -343,7 +368,7 @@ func (r *planeReg) Eval(grad, x []float64) float64 {
 //     the support, by the runs of Solve: in the first sweep from x̄, the amplitudes first
 //     (as Solve does from a smooth start), then the smoothed phase terms, then the exact
 //     ones for up to MaxIter iterations; then further sweeps of exact runs of up to
-//     PathIter iterations, at most CubeSweeps in all, until a sweep lowers the objective
+//     PathIter iterations (MaxIter when smaller), at most CubeSweeps in all, until a sweep lowers the objective
 //     by less than CubeSweepTol relative. A single quasi-Newton run over the whole cube
 //     was measured to creep: its one curvature scale cannot suit planes whose χ² differ
 //     tenfold (a disc growing 20 % across the band, 8 planes: the objective fell by 0.02 %
@@ -377,7 +402,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	if cp.Unnormalized {
 		return nil, errors.New("recon: a cube of unnormalised images is not supported")
 	}
-	if cp.Data == nil {
+	if cp.Starts == nil && cp.Data == nil {
 		return nil, errors.New("recon: no data")
 	}
 	if s.MaxIter <= 0 {
@@ -386,30 +411,77 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	if s.PathIter <= 0 {
 		s.PathIter = DefaultPathIter
 	}
-	// 1. The gray image.
-	gs := s
-	if s.Progress != nil {
-		gs.Progress = func(pr Progress) bool {
-			pr.Stage = "gray, " + pr.Stage
-			return s.Progress(pr)
+	// 1. The gray image, or the given starts.
+	var (
+		gray *Result
+		g    GridChoice
+		xbar []float64
+	)
+	if cp.Starts != nil {
+		if len(cp.Starts) != P || (cp.PlaneWeights != nil && len(cp.PlaneWeights) != P) {
+			panic(fmt.Sprintf("recon: SolveCube: %d planes, %d start images and %d weights", P, len(cp.Starts), len(cp.PlaneWeights)))
 		}
-	}
-	gray := cp.Gray
-	if gray == nil {
-		var err error
-		if gray, err = Solve(cp.Problem, gs); err != nil {
-			return nil, fmt.Errorf("recon: gray image: %w", err)
+		switch {
+		case cp.Choice != nil:
+			g = *cp.Choice
+		case cp.Grid.N > 0:
+			g = GridChoice{Grid: cp.Grid, FOV: float64(cp.Grid.N) * cp.Grid.Pixel}
+		default:
+			return nil, errors.New("recon: a cube from given start images needs their grid")
 		}
+		xbar = make([]float64, g.N*g.N)
+		for k, st := range cp.Starts {
+			if len(st) != len(xbar) {
+				panic(fmt.Sprintf("recon: SolveCube: start image %d has %d pixels, the grid %d", k+1, len(st), len(xbar)))
+			}
+			fl := 0.0
+			for _, v := range st {
+				fl += max(v, 0)
+			}
+			if !(fl > 0) {
+				return nil, fmt.Errorf("recon: plane %d (%s): the start image has no flux", k+1, cp.Planes[k].Label)
+			}
+			for i, v := range st {
+				xbar[i] += max(v, 0) / fl / float64(P)
+			}
+		}
+	} else {
+		gs := s
+		if s.Progress != nil {
+			gs.Progress = func(pr Progress) bool {
+				pr.Stage = "gray, " + pr.Stage
+				return s.Progress(pr)
+			}
+		}
+		gray = cp.Gray
+		if gray == nil {
+			var err error
+			if gray, err = Solve(cp.Problem, gs); err != nil {
+				return nil, fmt.Errorf("recon: gray image: %w", err)
+			}
+		}
+		g, xbar = gray.Grid, gray.Image
 	}
-	g := gray.Grid
 	npix := g.N * g.N
-	res := &CubeResult{Grid: g, Gray: gray, Weight: gray.Weight, Spectral: cp.Spectral, TotalIter: gray.TotalIter}
-	res.Notices = append(res.Notices, gray.Notices...)
-	// 2. The planes: an engine each, on the gray grid.
-	xbar := gray.Image
+	res := &CubeResult{Grid: g, Gray: gray, Spectral: cp.Spectral}
+	if gray != nil {
+		res.Weight, res.TotalIter = gray.Weight, gray.TotalIter
+		res.Notices = append(res.Notices, gray.Notices...)
+	}
+	// 2. The planes: an engine each, on the common grid.
 	cube := make([]float64, P*npix) // the normalised planes
 	for k := range P {
-		copy(cube[k*npix:], xbar)
+		if cp.Starts != nil {
+			st, fl := cp.Starts[k], 0.0
+			for _, v := range st {
+				fl += max(v, 0)
+			}
+			for i, v := range st {
+				cube[k*npix+i] = max(v, 0) / fl
+			}
+		} else {
+			copy(cube[k*npix:], xbar)
+		}
 	}
 	c := &CubeObjective{NPix: npix, Workers: 1}
 	engines := make([]*engine, P)
@@ -432,7 +504,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		if err != nil {
 			return nil, fmt.Errorf("recon: plane %d (%s): %w", k+1, pl.Label, err)
 		}
-		if cp.Reg != nil && gray.Weight != 0 {
+		if cp.Reg != nil && (gray == nil || gray.Weight != 0) {
 			if pr.spatial, err = cp.Reg(g.Grid); err != nil {
 				return nil, fmt.Errorf("recon: regularizer: %w", err)
 			}
@@ -442,8 +514,26 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		c.Planes = append(c.Planes, &CubePlaneTerm{Obj: e.obj, Reg: pr.spatial, Rho: e.rho})
 	}
 	for k, t := range c.Planes {
-		t.Mu = gray.Weight * t.Rho / float64(max(nTot, 1))
+		switch {
+		case cp.Starts == nil:
+			t.Mu = gray.Weight * t.Rho / float64(max(nTot, 1))
+		case cp.PlaneWeights != nil:
+			t.Mu = cp.PlaneWeights[k]
+			res.Weight += t.Mu
+		}
 		regs[k].mu = t.Mu
+	}
+	x := make([]float64, P*npix) // the planes as the engines hold them (flux ≈ 1)
+	copy(x, cube)
+	if cp.Starts != nil {
+		// Positivity and the support, as the engines' bounds hold them.
+		for k, e := range engines {
+			if e.upper != nil {
+				for i, u := range e.upper {
+					x[k*npix+i] = min(x[k*npix+i], u)
+				}
+			}
+		}
 	}
 	// 3. The spectral term and its weight.
 	factor := cp.SpectralFactor
@@ -470,7 +560,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				r = sp.Eval(nil, xbar)
 			}
 			l := c.Spectral.Eval(nil, cube)
-			c.Eta = factor * DefaultSpectralJoint * gray.Weight * r / l
+			c.Eta = factor * DefaultSpectralJoint * res.Weight * r / l
 			if !(c.Eta > 0) || !finite(c.Eta) {
 				// Without a spatial term to scale by: the weight at which the spectral
 				// term at the start is a tenth of the number of data.
@@ -481,79 +571,141 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	default:
 		return nil, fmt.Errorf("recon: unknown spectral regularizer %d", cp.Spectral)
 	}
-	res.SpectralWeight = c.Eta
-	for _, r := range regs {
-		r.spectral, r.eta = c.Spectral, c.Eta
-	}
-	// 4. Sweeps over the planes.
+	// 4. Sweeps over the planes at weight eta, from x and cube as they are.
 	smoothing := s.PhaseSmoothing
 	if smoothing == 0 {
 		smoothing = DefaultPhaseSmoothing
 	}
 	smoothing = max(smoothing, 0)
-	x := make([]float64, P*npix) // the planes as the engines hold them (flux ≈ 1)
-	copy(x, cube)
-	prev := c.Eval(nil, x)
 	var last []runOut
-	for sweep := range CubeSweeps {
-		last = last[:0]
+	sweeps := func(eta float64, label string) error {
+		c.Eta = eta
+		for _, r := range regs {
+			r.spectral, r.eta = c.Spectral, c.Eta
+		}
+		res.Converged = false
+		prev := c.Eval(nil, x)
+		for sweep := range CubeSweeps {
+			last = last[:0]
+			for k, e := range engines {
+				xk := x[k*npix : (k+1)*npix]
+				use := e.obj.Use()
+				stage := fmt.Sprintf("%splane %d/%d", label, k+1, P)
+				if sweep > 0 {
+					stage = fmt.Sprintf("%ssweep %d, plane %d/%d", label, sweep+1, k+1, P)
+				}
+				cur := xk
+				if ps, ok := c.Spectral.(planeSpectral); ok {
+					ps.prepare(cube, k)
+				}
+				if sweep == 0 && cp.Starts == nil {
+					e.obj.SetPhaseSmoothing(smoothing)
+					if !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0 {
+						r, err := e.run(cur, 1, use&amplitudeTypes, s.PathIter, stage+" amplitudes")
+						if err != nil {
+							return err
+						}
+						cur = r.X
+					}
+					if smoothing > 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0 {
+						r, err := e.run(cur, 1, use, s.PathIter, stage+" smoothed phases")
+						if err != nil {
+							return err
+						}
+						cur = r.X
+					}
+					e.obj.SetPhaseSmoothing(0)
+				}
+				iters := s.MaxIter
+				if sweep > 0 {
+					iters = min(s.PathIter, s.MaxIter)
+				}
+				r, err := e.run(cur, 1, use, iters, stage)
+				if err != nil {
+					return err
+				}
+				res.TotalIter += e.total
+				e.total = 0
+				last = append(last, r)
+				copy(xk, r.X)
+				fl := 0.0
+				for _, v := range xk {
+					fl += v
+				}
+				for i, v := range xk {
+					cube[k*npix+i] = v / fl
+				}
+			}
+			f := c.Eval(nil, x)
+			if prev-f <= CubeSweepTol*math.Max(math.Abs(f), 1) {
+				res.Converged = true
+				break
+			}
+			prev = f
+		}
+		return nil
+	}
+	// planeChi2r returns the χ²ᵣ of every plane at x, and Σχ²/ΣN of all.
+	planeChi2r := func() ([]float64, float64) {
+		per := make([]float64, P)
+		var c2, nn float64
 		for k, e := range engines {
-			xk := x[k*npix : (k+1)*npix]
-			use := e.obj.Use()
-			stage := fmt.Sprintf("plane %d/%d", k+1, P)
-			if sweep > 0 {
-				stage = fmt.Sprintf("sweep %d, plane %d/%d", sweep+1, k+1, P)
-			}
-			cur := xk
-			if ps, ok := c.Spectral.(planeSpectral); ok {
-				ps.prepare(cube, k)
-			}
-			if sweep == 0 {
-				e.obj.SetPhaseSmoothing(smoothing)
-				if !s.NoAmplitudeFirst && use&amplitudeTypes != 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0 {
-					r, err := e.run(cur, 1, use&amplitudeTypes, s.PathIter, stage+" amplitudes")
-					if err != nil {
-						return nil, err
-					}
-					cur = r.X
-				}
-				if smoothing > 0 && use&(dataset.T3Phi|dataset.VisPhi) != 0 {
-					r, err := e.run(cur, 1, use, s.PathIter, stage+" smoothed phases")
-					if err != nil {
-						return nil, err
-					}
-					cur = r.X
-				}
-				e.obj.SetPhaseSmoothing(0)
-			}
-			iters := s.MaxIter
-			if sweep > 0 {
-				iters = s.PathIter
-			}
-			r, err := e.run(cur, 1, use, iters, stage)
-			if err != nil {
+			e.obj.Eval(nil, x[k*npix:(k+1)*npix])
+			per[k] = e.obj.TotalChi2r()
+			nk := float64(cp.Planes[k].Data.Len(e.obj.Use()))
+			c2 += per[k] * nk
+			nn += nk
+		}
+		return per, c2 / math.Max(nn, 1)
+	}
+	if cp.SpectralSteps > 0 && cp.SpectralWeight == 0 && c.Spectral != nil {
+		// The discrepancy path: the largest weight at which no plane's χ²ᵣ rises by more
+		// than SpectralTolerance over its start's (the discrepancy idea of the weight
+		// choice of Solve, applied across planes; common practice, no source), from
+		// η₀ = N̄·NPix/10⁴ (N̄ the mean number of data of a plane; NPix scales the
+		// squared difference of two flat unit-flux planes) up by factors of 10, each
+		// weight warm-started from the last kept cube. When no weight passes, the first
+		// is kept.
+		tol := cp.SpectralTolerance
+		if tol <= 0 {
+			tol = 0.05
+		}
+		base, _ := planeChi2r()
+		eta := float64(nTot) / float64(P) * float64(npix) / 1e4
+		keptX, keptCube := slices.Clone(x), slices.Clone(cube)
+		keptEta := eta
+		var keptLast []runOut
+		keptConv := false
+		for k := range cp.SpectralSteps {
+			if err := sweeps(eta, fmt.Sprintf("weight %.3g, ", eta)); err != nil {
 				return nil, err
 			}
-			res.TotalIter += e.total
-			e.total = 0
-			last = append(last, r)
-			copy(xk, r.X)
-			fl := 0.0
-			for _, v := range xk {
-				fl += v
+			per, all := planeChi2r()
+			c.Eval(nil, x)
+			ok := true
+			for i := range per {
+				ok = ok && per[i] <= base[i]*(1+tol)
 			}
-			for i, v := range xk {
-				cube[k*npix+i] = v / fl
+			res.Path = append(res.Path, SpectralStep{Weight: eta, Chi2r: all, Value: c.Spectral.Eval(nil, c.xn), Accepted: ok})
+			if ok || k == 0 {
+				copy(keptX, x)
+				copy(keptCube, cube)
+				keptEta, keptConv = eta, res.Converged
+				keptLast = append(keptLast[:0], last...)
 			}
+			if !ok {
+				break
+			}
+			eta *= 10
 		}
-		f := c.Eval(nil, x)
-		if prev-f <= CubeSweepTol*math.Max(math.Abs(f), 1) {
-			prev = f
-			res.Converged = true
-			break
-		}
-		prev = f
+		copy(x, keptX)
+		copy(cube, keptCube)
+		c.Eta, res.Converged = keptEta, keptConv
+		last = append(last[:0], keptLast...)
+	} else if err := sweeps(c.Eta, ""); err != nil {
+		return nil, err
 	}
+	res.SpectralWeight = c.Eta
 	for _, r := range last {
 		res.Iter += r.Iter
 		res.Evals += r.Evals

@@ -20,10 +20,17 @@ type Prediction struct {
 func (p *Prediction) Of(t dataset.DataType) []float64 { return p.values[t.Index()] }
 
 // Predict computes the model observables of img (N² pixels on grid g, any positive flux;
-// the model is normalised by it) at the data points of d. mk makes the transform; nil means
+// the model is normalised by it) at the data points of d, with the default ModelOptions
+// (bandwidth smearing where it exceeds the noise). mk makes the transform; nil means
 // NewTransform(0).
 func Predict(d *dataset.Data, g Grid, img []float64, mk TransformFunc) (*Prediction, error) {
-	m, err := NewForwardModel(d, g, true, mk)
+	return PredictWith(d, g, img, mk, ModelOptions{})
+}
+
+// PredictWith is Predict with the forward model's options, e.g. the smearing setting of the
+// run that made img (Result.Smearing), so that the predictions are the model it fitted.
+func PredictWith(d *dataset.Data, g Grid, img []float64, mk TransformFunc, opt ModelOptions) (*Prediction, error) {
+	m, err := NewForwardModelWith(d, g, true, mk, opt)
 	if err != nil {
 		return nil, err
 	}
@@ -44,6 +51,25 @@ func PredictVis(d *dataset.Data, vis func(dst []complex128, u, v []float64)) *Pr
 	s := newSampling(d, nil)
 	buf := make([]complex128, len(s.U))
 	vis(buf, s.U, s.V)
+	return predict(d, &s, buf)
+}
+
+// PredictVisWith is PredictVis with the model's visibilities averaged over each channel's
+// band as the fits of recon/fit average them (ResidualOptions: Smearing and Extent): vis is
+// evaluated at the quadrature sub-points of every band. SmearOff is PredictVis.
+func PredictVisWith(d *dataset.Data, vis func(dst []complex128, u, v []float64), opt ResidualOptions) *Prediction {
+	if opt.Smearing == SmearOff {
+		return PredictVis(d, vis)
+	}
+	s := newSampling(d, nil)
+	sm, _ := newSmearingOut(d, &s, smearExtent(&s, opt.Extent), smearExtent(&s, opt.Extent), ModelOptions{Smearing: opt.Smearing, SmearTol: opt.SmearTol})
+	buf := make([]complex128, len(s.U))
+	if sm == nil {
+		vis(buf, s.U, s.V)
+	} else {
+		vis(sm.sub, sm.u, sm.v)
+		sm.average(buf)
+	}
 	return predict(d, &s, buf)
 }
 

@@ -2,6 +2,7 @@ package recon
 
 import (
 	"fmt"
+	"math"
 
 	"vcz/dataset"
 )
@@ -13,6 +14,20 @@ type ResidualOptions struct {
 	// Stride keeps every Stride-th datum of each type's list (0 or 1: all), for cheap maps of
 	// χ² over a few parameters.
 	Stride int
+	// Smearing says whether the model visibilities are averaged over each channel's band
+	// (smear.go), as for images: SmearAuto (the zero value) where the smearing of a point
+	// source at distance Extent from the phase centre exceeds the noise, SmearOn wherever
+	// it exceeds the quadrature tolerance, SmearOff never (without a notice, unlike
+	// images: the fits of recon/fit leave it off unless asked). When smearing is modelled,
+	// Points holds the quadrature sub-points of every point and Eval and Chi2 take the
+	// model visibilities there.
+	Smearing Smearing
+	// Extent (rad) is the distance from the phase centre out to which the smeared model
+	// is exact within the tolerance; 0 means the largest scale the data constrain,
+	// λmax/Bmin (common practice, no source).
+	Extent float64
+	// SmearTol is the quadrature tolerance (ModelOptions.SmearTol); 0 means the default.
+	SmearTol float64
 }
 
 // Residuals are the normalised residuals of the data of a data set for a least-squares fit of
@@ -33,6 +48,9 @@ type Residuals struct {
 	use     dataset.DataType
 	notices []string
 	c       evalCtx
+	smear   *smearing    // nil when the band averages are not modelled
+	avg     []complex128 // the band-averaged visibilities at the points
+	info    SmearInfo
 }
 
 // NewResiduals selects the data of d that a fit of the types opt.Use uses.
@@ -65,12 +83,60 @@ func NewResiduals(d *dataset.Data, opt ResidualOptions) *Residuals {
 	}
 	r.s = newSampling(d, n)
 	r.c = evalCtx{s: &r.s, w: 1}
+	if opt.Smearing == SmearOff {
+		return r
+	}
+	if ext := smearExtent(&r.s, opt.Extent); ext > 0 {
+		r.smear, r.info = newSmearingOut(d, &r.s, ext, ext, ModelOptions{Smearing: opt.Smearing, SmearTol: opt.SmearTol})
+		if r.smear != nil {
+			r.avg = make([]complex128, len(r.s.U))
+		}
+	}
+	if n := r.info.Notice(len(r.s.U)); n != "" {
+		r.notices = append(r.notices, n)
+	}
 	return r
 }
 
+// smearExtent returns ext when positive, else 1/f_min over the points of s, the largest
+// scale λmax/Bmin the data constrain (common practice, no source); 0 without a point off
+// the origin.
+func smearExtent(s *sampling, ext float64) float64 {
+	if ext > 0 {
+		return ext
+	}
+	fmin := math.Inf(1)
+	for k := range s.U {
+		if f := math.Hypot(s.U[k], s.V[k]); f > 0 {
+			fmin = math.Min(fmin, f)
+		}
+	}
+	if math.IsInf(fmin, 1) {
+		return 0
+	}
+	return 1 / fmin
+}
+
+// Smearing returns how the residuals treat bandwidth smearing.
+func (r *Residuals) Smearing() SmearInfo { return r.info }
+
 // Points returns the distinct (u,v) points (cycles/rad) at which Eval and Chi2 want the model
-// visibilities. The slices belong to r.
-func (r *Residuals) Points() (u, v []float64) { return r.s.U, r.s.V }
+// visibilities: the data's points, or the quadrature sub-points of their bands when
+// smearing is modelled. The slices belong to r.
+func (r *Residuals) Points() (u, v []float64) {
+	if r.smear != nil {
+		return r.smear.u, r.smear.v
+	}
+	return r.s.U, r.s.V
+}
+
+// nPoints is the number of visibilities Eval and Chi2 take.
+func (r *Residuals) nPoints() int {
+	if r.smear != nil {
+		return len(r.smear.u)
+	}
+	return len(r.s.U)
+}
 
 // Len returns the number of residuals.
 func (r *Residuals) Len() int { return r.total }
@@ -87,8 +153,8 @@ func (r *Residuals) Notices() []string { return r.notices }
 // Eval writes the normalised residuals of the model whose visibilities at Points are vis to
 // dst (length Len) and returns the sum of their squares.
 func (r *Residuals) Eval(dst []float64, vis []complex128) float64 {
-	if len(dst) != r.total || len(vis) != len(r.s.U) {
-		panic(fmt.Sprintf("recon: Residuals.Eval: %d residuals and %d visibilities for %d and %d", len(dst), len(vis), r.total, len(r.s.U)))
+	if len(dst) != r.total || len(vis) != r.nPoints() {
+		panic(fmt.Sprintf("recon: Residuals.Eval: %d residuals and %d visibilities for %d and %d", len(dst), len(vis), r.total, r.nPoints()))
 	}
 	c := r.ctx(vis)
 	for i, t := range r.terms {
@@ -106,8 +172,8 @@ func (r *Residuals) Eval(dst []float64, vis []complex128) float64 {
 // Chi2 returns the χ² of the model whose visibilities at Points are vis, the sum of squares of
 // the residuals, without writing them; it is the cheaper of the two.
 func (r *Residuals) Chi2(vis []complex128) float64 {
-	if len(vis) != len(r.s.U) {
-		panic(fmt.Sprintf("recon: Residuals.Chi2: %d visibilities for %d points", len(vis), len(r.s.U)))
+	if len(vis) != r.nPoints() {
+		panic(fmt.Sprintf("recon: Residuals.Chi2: %d visibilities for %d points", len(vis), r.nPoints()))
 	}
 	c := r.ctx(vis)
 	s := 0.0
@@ -130,9 +196,16 @@ func (r *Residuals) Chi2Of(t dataset.DataType, res []float64) float64 {
 	return s
 }
 
-// ctx prepares the evaluation at vis: free scales are fitted first.
+// ctx prepares the evaluation at vis: the band averages when smearing is modelled, then
+// the free scales are fitted.
 func (r *Residuals) ctx(vis []complex128) *evalCtx {
 	c := &r.c
+	if r.smear != nil {
+		// average reads the sub-point visibilities from sub; vis is only read.
+		r.smear.sub = vis
+		r.smear.average(r.avg)
+		vis = r.avg
+	}
 	c.vis = vis
 	for _, t := range r.terms {
 		if sc, ok := t.(scaler); ok {

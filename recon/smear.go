@@ -268,6 +268,13 @@ func smearTolerance(rhoMin float64) float64 {
 // newSmearing decides whether the model of d on grid g is smeared and builds its sub-points;
 // nil when it is not (or when no point needs more than one node).
 func newSmearing(d *dataset.Data, s *sampling, g Grid, opt ModelOptions) (*smearing, SmearInfo) {
+	edge := float64(g.N) * g.Pixel / 2
+	return newSmearingOut(d, s, edge, edge*math.Sqrt2, opt)
+}
+
+// newSmearingOut is newSmearing for emission out to corner (rad) from the phase centre,
+// judged for the automatic choice by a point source at edge.
+func newSmearingOut(d *dataset.Data, s *sampling, edge, corner float64, opt ModelOptions) (*smearing, SmearInfo) {
 	var info SmearInfo
 	any := false
 	for _, r := range s.rb {
@@ -280,7 +287,6 @@ func newSmearing(d *dataset.Data, s *sampling, g Grid, opt ModelOptions) (*smear
 		return nil, info
 	}
 	l := legendre{}
-	edge := float64(g.N) * g.Pixel / 2
 	// δ_k: the fractional loss at each point of a point source at the field's edge.
 	delta := make([]float64, len(s.U))
 	for k := range s.U {
@@ -334,7 +340,6 @@ func newSmearing(d *dataset.Data, s *sampling, g Grid, opt ModelOptions) (*smear
 	if !(info.Tol > 0) {
 		info.Tol = smearTolerance(rhoMin)
 	}
-	corner := edge * math.Sqrt2
 	sm := &smearing{off: make([]int32, len(s.U)+1)}
 	for k := range s.U {
 		n := 1

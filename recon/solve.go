@@ -135,6 +135,9 @@ type WeightStep struct {
 type Result struct {
 	Image []float64 // N² pixels, normalised to a total flux of 1 (unless Unnormalized)
 	Grid  GridChoice
+	// Smearing is the problem's bandwidth-smearing setting, for predictions of the image
+	// at the data (PredictWith).
+	Smearing Smearing
 
 	Chi2  []TermChi2 // per used data type, in the order of dataset.DataTypes()
 	Chi2r float64    // Σχ²/ΣN over the used types
@@ -509,7 +512,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	res := &Result{Grid: g}
+	res := &Result{Grid: g, Smearing: p.Smearing}
 	if s.CoarseToFine && g.N >= 32 {
 		cp := p
 		// Half the pixels, rounded up to an even number, over the same field.

@@ -126,6 +126,9 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if lo, hi, ok := dataMJDRange(d); ok {
 		row.MJDMin, row.MJDMax = lo, hi
 	}
+	if cubeEpoch(e) {
+		return b.runCubeEpoch(e, row, t0, hash, statusPath, files, d)
+	}
 	im, err := NewImage(files, d, e.Spec)
 	if err != nil {
 		return fail(err)

@@ -56,6 +56,11 @@ func PlanBatch(r BatchRequest, getenv func(string) string) (*BatchPlan, error) {
 	if err := CheckEpochFiles(epochs); err != nil {
 		return nil, err
 	}
+	if r.Joint {
+		if err := CheckJoint(epochs); err != nil {
+			return nil, err
+		}
+	}
 	if r.Joint && p.Shard.N > 1 {
 		return nil, inputErrorf("batch: -joint needs all epochs in one run, not shard %s", p.Shard)
 	}

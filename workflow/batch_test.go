@@ -201,3 +201,52 @@ func TestCollectRefusesOutsideNames(t *testing.T) {
 		t.Fatalf("error %v", err)
 	}
 }
+
+// Epochs with -channels from a job file are imaged as cubes: each epoch's FITS file holds
+// one plane per channel with the channels' wavelengths on a WAVE axis (FITS WCS Paper III,
+// Greisen et al. 2006), its status is written and a rerun finds it complete; -joint
+// refuses such epochs.
+func TestBatchCubeEpochs(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	job := fmt.Sprintf("[image]\nn = 32\nweight = 0.001\niter = 30\nstarts = 1\nchannels = \"all\"\nspectral = \"smooth:0.5\"\n[[epoch]]\nfiles = [%q]\n[[epoch]]\nfiles = [%q]\n", files[0], files[1])
+	epochs, _, err := parseJobFile([]byte(job), filepath.Join(dir, "job.toml"), runspec.Spec{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(epochs) != 2 || epochs[0].Spec.Channels.String() != "all" || epochs[1].Spec.SpectralFactor != 0.5 {
+		t.Fatalf("job file: %d epochs, channels %q, spectral factor %g", len(epochs), epochs[0].Spec.Channels, epochs[1].Spec.SpectralFactor)
+	}
+	if err := CheckJoint(epochs); err == nil {
+		t.Error("-joint accepted epochs imaged as cubes")
+	}
+	out := filepath.Join(dir, "out")
+	if err := os.Mkdir(out, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := CommonGrid(epochs); err != nil {
+		t.Fatal(err)
+	}
+	b := &Batch{Out: out, Budget: 2}
+	for _, r := range b.Run(epochs, nil) {
+		if r.Row.Status != batch.StateDone {
+			t.Fatalf("epoch %s: %+v", r.Row.Epoch, r.Row)
+		}
+		cube, err := fitsimage.ReadFile(filepath.Join(out, r.Row.FITS))
+		if err != nil {
+			t.Fatal(err)
+		}
+		// writeEpochs' two channels of the demo array.
+		if cube.Planes != 2 || len(cube.Wave) != 2 || !(cube.Wave[0] < cube.Wave[1]) || card(cube.Cards, "INHASH") == nil {
+			t.Fatalf("epoch %s: %d planes, wavelengths %v, INHASH %v", r.Row.Epoch, cube.Planes, cube.Wave, card(cube.Cards, "INHASH"))
+		}
+		if !reflect.DeepEqual(cube.Data, r.Image.Data) {
+			t.Errorf("epoch %s: the cube in memory differs from the file", r.Row.Epoch)
+		}
+	}
+	for _, r := range b.Run(epochs, nil) {
+		if !r.Row.Skipped {
+			t.Errorf("rerun of %s was not skipped", r.Row.Epoch)
+		}
+	}
+}

@@ -1,6 +1,7 @@
 package workflow
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -135,6 +136,12 @@ type CompareRun struct {
 	Err     error         // why it failed
 	Seconds float64
 
+	// CubeProblem, when the spec asks for channel groups (-channels), is the cube of this
+	// regularizer: Run solves it, keeps it in Cube and its gray image in Result, which the
+	// report compares.
+	CubeProblem *recon.CubeProblem
+	Cube        *recon.CubeResult
+
 	// Boot is the bootstrap of the result (Comparison.Bootstrap), nil without one; BootErr
 	// says why it failed.
 	Boot    *Bootstrap
@@ -147,6 +154,10 @@ type CompareRun struct {
 func (c *Comparison) Bootstrap(opt BootstrapOptions) {
 	for _, r := range c.Runs {
 		if r.Result == nil {
+			continue
+		}
+		if r.Cube != nil {
+			r.BootErr = errors.New("the bootstrap is not available for image cubes (-channels)")
 			continue
 		}
 		r.Boot, r.BootErr = RunBootstrap(r.Problem, r.Settings, r.Result, opt)
@@ -175,7 +186,18 @@ func NewComparison(files []*oifits.File, d *dataset.Data, entries []Entry) (*Com
 			}
 		}
 		p.Choice = &c.Grid
-		c.Runs = append(c.Runs, &CompareRun{Name: e.Name, Spec: e.Spec, Problem: p, Settings: s})
+		r := &CompareRun{Name: e.Name, Spec: e.Spec, Problem: p, Settings: s}
+		if e.Spec.Star != nil {
+			return nil, inputErrorf("compare: -star is not available; compare images or cubes (-channels)")
+		}
+		if !e.Spec.Channels.Single() {
+			planes, err := recon.SplitChannels(d, e.Spec.Channels)
+			if err != nil {
+				return nil, inputErrorf("-channels %s: %v", e.Spec.Channels, err)
+			}
+			r.CubeProblem = &recon.CubeProblem{Problem: p, Planes: planes, Spectral: e.Spec.Spectral, SpectralFactor: e.Spec.SpectralFactor}
+		}
+		c.Runs = append(c.Runs, r)
 	}
 	return c, nil
 }
@@ -215,6 +237,12 @@ func (c *Comparison) Run(parallel, workers int, h CompareHooks) {
 			}
 			t0 := time.Now()
 			r.Err = Safely(r.Name, func() (err error) {
+				if r.CubeProblem != nil {
+					if r.Cube, err = recon.SolveCube(*r.CubeProblem, r.Settings); err == nil {
+						r.Result = r.Cube.Gray
+					}
+					return orInterrupted(err)
+				}
 				r.Result, err = solveFinite(r.Problem, r.Settings)
 				return orInterrupted(err)
 			})

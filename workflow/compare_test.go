@@ -12,6 +12,7 @@ import (
 	"time"
 	"vcz/dataset"
 
+	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/output"
 	"vcz/recon"
@@ -204,4 +205,45 @@ func BenchmarkCompare(b *testing.B) {
 	b.ReportMetric(par.Seconds()/float64(b.N), "compare-s/op")
 	b.ReportMetric(seq.Seconds()/float64(b.N), "separate-s/op")
 	b.ReportMetric(par.Seconds()/seq.Seconds(), "ratio")
+}
+
+// With -channels every regularizer's run is a cube: the report compares the gray images
+// the cubes started from and writes each cube beside them, with one plane per channel
+// group and their wavelengths on the WAVE axis (FITS WCS Paper III, Greisen et al. 2006).
+func TestCompareCubes(t *testing.T) {
+	files, d := demoData(t)
+	base := runspec.Spec{Grid: 32, Iterations: 30, Starts: 1, Weight: 0.01}
+	if err := base.Set("channels", "2"); err != nil {
+		t.Fatal(err)
+	}
+	entries, err := CompareEntries(base, "tv,smooth", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := NewComparison(files, d, entries)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c.Run(1, 1, CompareHooks{})
+	dir := t.TempDir()
+	rep, err := c.Write(dir, output.Outputs{}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, r := range c.Runs {
+		if r.Err != nil || r.Cube == nil || r.Result != r.Cube.Gray {
+			t.Fatalf("%s: error %v, cube %v", r.Name, r.Err, r.Cube != nil)
+		}
+		cube, err := fitsimage.ReadFile(filepath.Join(dir, rep.Rows[i].Cube))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if cube.Planes != 2 || len(cube.Wave) != 2 || !(cube.Wave[0] < cube.Wave[1]) {
+			t.Errorf("%s: %d planes, wavelengths %v", r.Name, cube.Planes, cube.Wave)
+		}
+	}
+	c.Bootstrap(BootstrapOptions{})
+	if c.Runs[0].BootErr == nil {
+		t.Error("the bootstrap of a cube was not refused")
+	}
 }

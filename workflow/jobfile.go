@@ -177,7 +177,7 @@ func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, strin
 		}
 		return bad("%s: %s %v", path, where, err)
 	}
-	if err := shared.SetTable(jf.Image, runspec.Select|runspec.Types|runspec.Recon); err != nil {
+	if err := shared.SetTable(jf.Image, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube); err != nil {
 		return nil, "", optionErr(err, "image", -1, "[image]")
 	}
 	if len(jf.Epoch) == 0 {
@@ -221,7 +221,7 @@ func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, strin
 			}
 			e.Files = append(e.Files, p)
 		}
-		if err := e.Spec.SetTable(opts, runspec.Select|runspec.Types|runspec.Recon); err != nil {
+		if err := e.Spec.SetTable(opts, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube); err != nil {
 			return nil, "", optionErr(err, "epoch", i, fmt.Sprintf("epoch %q:", e.Name))
 		}
 		epochs = append(epochs, e)

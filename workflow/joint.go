@@ -10,7 +10,6 @@ import (
 	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/batch"
-	"vcz/regularizers"
 )
 
 // CommonGrid fixes one grid for all epochs, so that their images compare pixel for pixel
@@ -67,35 +66,44 @@ func CommonGrid(epochs []*Epoch) error {
 	return nil
 }
 
-// JointResult is the outcome of Batch.Joint: the joint images (batch.JointResult) on the
-// common grid.
+// JointResult is the outcome of Batch.Joint: the joint images on the common grid.
 type JointResult struct {
-	*batch.JointResult
-	Grid recon.Grid
+	// Cube is the joint reconstruction, one plane per epoch (batch.JointProblem).
+	Cube   *recon.CubeResult
+	Grid   recon.Grid
+	Images [][]float64 // per epoch, normalised to flux 1
+	Lambda float64     // the temporal weight λ
+	// Chi2r is each epoch's χ²ᵣ and Chi2rAll Σχ²/ΣN over all epochs.
+	Chi2r    []float64
+	Chi2rAll float64
+	Iter     int // iterations of the last sweep over the epochs
 }
 
 // JointSettings control Joint.
 type JointSettings struct {
-	// Lambda is the temporal weight λ; 0 chooses it (batch.SolveJoint).
+	// Lambda is the temporal weight λ; 0 chooses it (batch.JointProblem).
 	Lambda float64
-	// Progress, when non-nil, is called after every iteration (batch.JointSettings).
-	Progress func(lambda float64, iter int, f float64) bool
+	// Progress, when non-nil, is called after every iteration of an epoch's run; its
+	// Stage names the temporal weight being tried, the sweep and the epoch's plane.
+	Progress func(recon.Progress) bool
 }
 
-// Joint reconstructs the epochs together with a temporal regularizer (batch.Joint), from
-// their independent images: results are those of Batch.Run for the same epochs, all done.
-// An image in memory is used as it is; the FITS file is read only for an epoch found
-// complete. It writes joint.fits (the cube, one plane per epoch on a time axis at the
-// middle of each epoch), EPOCH-joint.fits and .png into the batch's folder, and returns the
-// result.
+// Joint reconstructs the epochs together with a temporal regularizer, as an image cube
+// along time (batch.JointProblem, recon.SolveCube), from their independent images: results
+// are those of Batch.Run for the same epochs, all done. The first epoch's options give the
+// data terms, regularizer, support, smearing and iteration limit of the joint run (a batch
+// shares them; only the selection of dates differs). An image in memory is used as it is;
+// the FITS file is read only for an epoch found complete. It writes joint.fits (the cube,
+// one plane per epoch on a time axis at the middle of each epoch), EPOCH-joint.fits and
+// .png into the batch's folder, and returns the result.
 func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (*JointResult, error) {
 	out := b.Out
-	j := &batch.Joint{Parallel: true}
-	starts := make([][]float64, len(epochs))
 	var grid recon.Grid
 	var ra, dec float64
 	hasRADec := false
-	maxIter := 0
+	var base recon.Problem
+	var settings recon.Settings
+	var eps []batch.JointEpoch
 	for t, e := range epochs {
 		row := results[t].Row
 		im := results[t].Image
@@ -112,7 +120,6 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 			return nil, fmt.Errorf("epoch %s is on a %d-pixel grid of %g mas, the first on %d of %g mas; rerun with -force",
 				e.Name, g.N, g.Pixel/recon.Mas, grid.N, grid.Pixel/recon.Mas)
 		}
-		starts[t] = im.Data[:g.N*g.N]
 		_, d, err := ReadData(e.Files, e.Spec.Selection())
 		if err != nil {
 			return nil, err
@@ -121,32 +128,32 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		if err != nil {
 			return nil, inputError("", err)
 		}
-		maxIter = max(maxIter, st.MaxIter)
-		var reg recon.Regularizer
-		if p.Reg != nil {
-			if reg, err = p.Reg(g); err != nil {
-				return nil, err
-			}
+		if t == 0 {
+			base, settings = p, st
 		}
-		je, err := batch.NewJointEpoch(d, g, p.Terms, reg, row.Weight, e.Spec.Workers)
-		if err != nil {
-			return nil, fmt.Errorf("epoch %s: %w", e.Name, err)
-		}
-		if p.Support > 0 {
-			_, je.Upper = regularizers.SupportBounds(g.N, g.N, g.Pixel, p.Support)
-		}
-		j.Epochs = append(j.Epochs, je)
+		settings.MaxIter = max(settings.MaxIter, st.MaxIter)
+		eps = append(eps, batch.JointEpoch{Data: d, Start: im.Data[:g.N*g.N], Weight: row.Weight, Label: e.Name,
+			MJDMin: row.MJDMin, MJDMax: row.MJDMax})
 	}
-	j.NPix = grid.N * grid.N
-	progress := func(lambda float64, iter int, f float64) bool {
-		return !Interrupted() && (s.Progress == nil || s.Progress(lambda, iter, f))
+	base.Grid, base.GridOptions, base.Choice = grid, recon.GridOptions{}, nil
+	cp, err := batch.JointProblem(base, eps, s.Lambda)
+	if err != nil {
+		return nil, inputError("", err)
 	}
-	res, err := batch.SolveJoint(j, starts, s.Lambda, batch.JointSettings{MaxIter: maxIter, Progress: progress})
+	settings.Progress = func(pr recon.Progress) bool {
+		return !Interrupted() && (s.Progress == nil || s.Progress(pr))
+	}
+	cr, err := recon.SolveCube(cp, settings)
 	if err == nil && Interrupted() {
 		err = ErrInterrupted
 	}
 	if err != nil {
-		return nil, orInterrupted(err)
+		return nil, orInterrupted(fmt.Errorf("joint reconstruction: %w", err))
+	}
+	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter}
+	for _, pl := range cr.Planes {
+		res.Images = append(res.Images, pl.Image)
+		res.Chi2r = append(res.Chi2r, pl.Chi2r)
 	}
 	n := grid.N
 	cube := &fitsimage.Image{NX: n, NY: n, Planes: len(epochs), Pixel: grid.Pixel, RA: ra, Dec: dec, HasRADec: hasRADec,
@@ -155,7 +162,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		fitsimage.Card{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
-		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the kept run"})
+		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the last sweep over the epochs"})
 	// The third axis is time, each plane at the middle of its epoch (fitsimage.Image.Time),
 	// when the epochs come in time order; otherwise it stays the plane number and each
 	// plane's MJD is in MJDnnn.
@@ -178,8 +185,8 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 			fitsimage.Card{Key: fmt.Sprintf("EPNAM%03d", t+1), Value: output.ASCII(e.Name), Comment: "epoch name"},
 			fitsimage.Card{Key: fmt.Sprintf("CHI2R%03d", t+1), Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"})
 	}
-	for _, s := range res.Path {
-		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.5g, sum |dx|^2 %.5g, %s", s.Lambda, s.Chi2r, s.Temporal, map[bool]string{true: "kept", false: "rejected"}[s.Accepted])})
+	for _, s := range cr.Path {
+		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.5g, sum |dx|^2 %.5g, %s", s.Weight, s.Chi2r, s.Value, map[bool]string{true: "kept", false: "rejected"}[s.Accepted])})
 	}
 	if err := fitsimage.WriteFile(filepath.Join(out, jointCube), cube); err != nil {
 		return nil, err
@@ -202,7 +209,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 			return nil, err
 		}
 	}
-	return &JointResult{JointResult: res, Grid: grid}, nil
+	return res, nil
 }
 
 // WriteJointMontage draws the joint images as montage-joint.png and epochs-joint.gif in

@@ -41,6 +41,9 @@ type CompareRow struct {
 	Warnings []string `json:"warnings"`
 	Error    string   `json:"error,omitempty"`
 	FITS     string   `json:"fits,omitempty"`
+	// Cube is the regularizer's image cube (NAME-cube.fits, with -channels); FITS is then
+	// the gray image of all channels that the cube started from, which the report compares.
+	Cube string `json:"cube,omitempty"`
 	// BootStd is the bootstrap standard deviation map (FITS) of the image with the
 	// replicates that gave one, when compare ran a bootstrap; BootError why it failed.
 	BootStd        string `json:"bootstrap_std,omitempty"`
@@ -107,6 +110,14 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 				return nil, err
 			}
 			row.FITS = filepath.Base(out)
+			if r.Cube != nil {
+				cubeOut := filepath.Join(dir, r.Name+"-cube.fits")
+				cr := output.CubeRun{Files: c.Files, Data: d, Spec: r.Spec, Result: r.Cube, Seconds: r.Seconds}
+				if _, err := outs.WriteCube(cubeOut, cr); err != nil {
+					return nil, err
+				}
+				row.Cube = filepath.Base(cubeOut)
+			}
 			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
 			row.Iterations = res.TotalIter
 			row.Warnings = output.NonNil(res.Warnings)
@@ -317,7 +328,7 @@ func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) ([]string,
 	preds := make([]*recon.Prediction, len(ok))
 	var use dataset.DataType
 	for i, r := range ok {
-		p, err := recon.Predict(d, r.Result.Grid.Grid, r.Result.Image, nil)
+		p, err := recon.PredictWith(d, r.Result.Grid.Grid, r.Result.Image, nil, recon.ModelOptions{Smearing: r.Result.Smearing})
 		if err != nil {
 			return nil, err
 		}

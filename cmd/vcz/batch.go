@@ -22,7 +22,7 @@ func init() {
 
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
-	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)
 	job := fs.String("job", "", "job file (TOML) listing the epochs and their settings")
 	out := fs.String("o", "", "output folder (default: the job file's output, else batch)")
 	fs.StringVar(out, "out", "", "earlier name of -o")

@@ -6,6 +6,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"vcz/recon"
 	"vcz/workflow"
 )
 
@@ -17,11 +18,12 @@ func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.Ep
 	tty := isTerminal(stderr)
 	var last time.Time
 	res, err := b.Joint(epochs, results, workflow.JointSettings{Lambda: lambda,
-		Progress: func(lam float64, it int, f float64) bool {
+		Progress: func(pr recon.Progress) bool {
 			if quiet {
 				return true
 			}
-			text := fmt.Sprintf("joint: temporal weight %-9.3g iter %4d  objective %.6g", lam, it, f)
+			it := pr.Iter
+			text := fmt.Sprintf("joint: %s iter %4d  objective %.6g", pr.Stage, it, pr.Objective)
 			if tty {
 				if time.Since(last) > 100*time.Millisecond {
 					fmt.Fprintf(stderr, "\r\033[K%s", clip(text, terminalWidth(stderr)))

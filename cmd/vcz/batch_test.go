@@ -348,7 +348,7 @@ func TestBatchJoint(t *testing.T) {
 // batch --help lists every option of a job file.
 func TestBatchJobKeys(t *testing.T) {
 	fs := newFlagSet("x", "", "", io.Discard)
-	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon)
+	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)
 	fs.VisitAll(func(f *flag.Flag) {
 		if !strings.Contains(batchDoc, " "+f.Name+",") && !strings.Contains(batchDoc, " "+f.Name+" (") {
 			t.Errorf("batch --help does not list the job key %s", f.Name)

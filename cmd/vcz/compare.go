@@ -22,7 +22,7 @@ func init() {
 
 func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
-	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon, "reg")
+	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube, "reg")
 	stretch := registerStretch(fs)
 	regs := fs.String("reg", "all", "regularizers to compare, comma-separated from "+regularizers.NameList()+", or all")
 	if fl := fs.Lookup("weight"); fl != nil {

@@ -93,6 +93,8 @@ against the χ² with it, rescaled so that the latter's χ²ᵣ is 1, as a p-val
 of the χ² distribution with the component's number of free parameters and a
 Gaussian-equivalent σ; it holds at a given position, a searched position
 reaches it by chance more often, and calibration errors inflate it.
+-smearing on (or auto) averages the model over each channel's band, as
+images do; the default, off, takes it at the channel's centre.
 -limits PREFIX writes detection limits of a further point companion, the
 3σ and 5σ Δmag against separation (mean and worst over position angle), as
 PREFIX.csv and PREFIX.png, on a -limits-nsep × -limits-npa grid. A
@@ -123,7 +125,11 @@ of image apply to every epoch; -strict fails the run on any warning. In a
 job file ([image] and each [[epoch]]) the keys are the flag names without
 the dash: reg, n, iter, tv-eps, data-weights, ins, no-amp-first and so on
 (job files of earlier versions named some differently: regularizer, grid,
-iterations, tv_eps, data_weights, instruments, amplitudes_first).
+iterations, tv_eps, data_weights, instruments, amplitudes_first). With
+-channels (or -star) each epoch is a cube (or a star and its environment),
+as in image; -joint then refuses. compare takes -channels and -spectral too:
+each regularizer's run is then a cube, NAME-cube.fits, and the report compares
+the gray images the cubes started from.
 
 The FITS header of every reconstruction records the options that differ
 from the defaults as HISTORY cards "option: NAME=VALUE", the canonical

@@ -47,6 +47,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	strict := registerStrict(fs)
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
+	smearing := fs.String("smearing", "off", "bandwidth smearing of the model: off (each channel at its centre), auto (averaged over the band where that exceeds the noise) or on")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
@@ -99,6 +100,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}, SkipSignificance: *noSig}
+	if sm, err := recon.ParseSmearing(*smearing); err != nil {
+		return badInputf("fit: -smearing: %v", err)
+	} else if sm != recon.SmearOff {
+		fitSet.Fit.Smearing = &sm
+	}
 	if *bootK < 0 {
 		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
 	}

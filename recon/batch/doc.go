@@ -28,15 +28,17 @@
 //
 // # Joint imaging
 //
-// Joint is the objective of all epochs reconstructed together,
+// JointProblem is the reconstruction of all epochs together, an image cube along time
+// solved by recon.SolveCube: its planes are the epochs, and it minimises
 //
-//	F(x_1..x_T) = Σ_t [ J_t(x_t) + μ_t R_t(x_t) + ρ_t (Σx_t − 1)² ] + λ Σ_{t>1} ‖x_t − x_{t−1}‖²,
+//	F(x_1..x_T) = Σ_t [ J_t(x_t/F_t) + μ_t R(x_t/F_t) + ρ_t (F_t − 1)² ] + λ Σ_{t>1} ‖x_t/F_t − x_{t−1}/F_{t−1}‖²,
 //
-// with J_t the weighted χ² of epoch t (recon.Objective, flux-normalised model), R_t its
-// regularizer at weight μ_t, the flux term of recon.Solve (ρ_t the number of data of the
-// epoch) and λ the temporal weight. The regularizer is evaluated on x_t itself rather
-// than x_t/Σx_t: the flux term holds Σx_t at 1 to within a small fraction, so the two
-// agree to that fraction. The quadratic temporal term is the discrete form of a
-// penalty on the time derivative of the image (Tikhonov regularization in time; common
-// practice, no source).
+// with F_t = Σx_t, J_t the weighted χ² of epoch t (recon.Objective, flux-normalised
+// model), R the regularizer at the epoch's own weight μ_t, the flux term of recon.Solve
+// (ρ_t the number of data of the epoch) and λ the temporal weight, the cube's spectral
+// weight η of the quadratic smoothness across planes (recon.SpectralSmoothness) with the
+// planes along time. The quadratic temporal term is the discrete form of a penalty on the
+// time derivative of the image (Tikhonov regularization in time; common practice, no
+// source). The automatic λ is the largest at which no epoch's χ²ᵣ rises by more than 5 %
+// over that of its own image (recon.CubeProblem.SpectralSteps).
 package batch

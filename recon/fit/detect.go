@@ -60,7 +60,7 @@ func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection,
 		if err := null.Validate(); err != nil {
 			return nil, err
 		}
-		t := newTerms(d, res.Use, 1)
+		t := newTerms(d, res.Use, 1, res.Smearing)
 		chi2Null = t.eval(make([]float64, t.Len()), null)
 	} else {
 		o := opt

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"vcz/dataset"
+	"vcz/recon"
 	"vcz/recon/model"
 )
 
@@ -48,6 +49,10 @@ type Options struct {
 	// means 1e-10). GTol stops when the largest cosine between the
 	// residual vector and a Jacobian column is below it (0 means 1e-10).
 	FTol, XTol, GTol float64
+	// Smearing, when non-nil, says whether the model's visibilities are
+	// averaged over each channel's band, as for images
+	// (recon.ResidualOptions); nil takes them at the band centres.
+	Smearing *recon.Smearing
 }
 
 func (o Options) withDefaults() Options {
@@ -116,7 +121,9 @@ type Result struct {
 	// free positions (starts 1 to Scanned); the rest were drawn at random.
 	Scanned int
 	Use     dataset.DataType
-	Notices []string
+	// Smearing is the bandwidth-smearing setting of the fit (Options).
+	Smearing *recon.Smearing
+	Notices  []string
 	// Pairs gives every component with a position relative to the
 	// primary (the brightest): separation, position angle, flux ratio and
 	// Δmag with their propagated 1σ errors (see Pairs).
@@ -134,14 +141,14 @@ func Fit(d *dataset.Data, m *model.Model, opt Options) (*Result, error) {
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, opt.Use, 1)
+	t := newTerms(d, opt.Use, 1, opt.Smearing)
 	pr, err := newProblem(t, m)
 	if err != nil {
 		return nil, err
 	}
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	var best *run
-	res := &Result{Use: t.Use(), Notices: t.Notices()}
+	res := &Result{Use: t.Use(), Smearing: opt.Smearing, Notices: t.Notices()}
 	var seeds [][]float64
 	if !opt.NoScan {
 		seeds = pr.scanSeeds(pr.x0, opt.Starts-1)

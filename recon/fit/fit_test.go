@@ -80,7 +80,7 @@ func TestResidualsMatchChi2(t *testing.T) {
 	n.t3phi = 0.5 // large errors, so that some residuals exceed π
 	n.rng = rand.New(rand.NewPCG(1, 2))
 	d := synth(modelVis(truth), n)
-	tr := newTerms(d, 0, 1)
+	tr := newTerms(d, 0, 1, nil)
 	r := make([]float64, tr.Len())
 	m := mustLoad(t, "ud:diameter=2.2;point:x=2.5,y=1.5,flux=0.3")
 	tr.eval(r, m)

@@ -103,7 +103,7 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, res.Use, 1)
+	t := newTerms(d, res.Use, 1, res.Smearing)
 	if t.Len() == 0 {
 		return nil, errors.New("fit: detection limits: no data of the selected types")
 	}

@@ -14,16 +14,25 @@ type terms struct {
 	*recon.Residuals
 	d    *dataset.Data
 	use  dataset.DataType // as asked, 0 = all
+	sm   *recon.Smearing  // the bandwidth-smearing setting; nil: off
 	u, v []float64        // the points at which vis is evaluated
 	vis  []complex128     // scratch: visibilities at the points
 }
 
 // newTerms selects the data of d that a fit of the types in use (0 = all)
-// uses; stride > 1 keeps every stride-th datum of each type.
-func newTerms(d *dataset.Data, use dataset.DataType, stride int) *terms {
-	r := recon.NewResiduals(d, recon.ResidualOptions{Use: use, Stride: stride})
+// uses; stride > 1 keeps every stride-th datum of each type. sm says
+// whether the model's visibilities are averaged over each channel's band
+// (recon.ResidualOptions; nil: never): the model is then evaluated at the
+// quadrature sub-points of every band and the residuals take their
+// averages, as the images' forward model does.
+func newTerms(d *dataset.Data, use dataset.DataType, stride int, sm *recon.Smearing) *terms {
+	mode := recon.SmearOff
+	if sm != nil {
+		mode = *sm
+	}
+	r := recon.NewResiduals(d, recon.ResidualOptions{Use: use, Stride: stride, Smearing: mode})
 	u, v := r.Points()
-	return &terms{Residuals: r, d: d, use: use, u: u, v: v, vis: make([]complex128, len(u))}
+	return &terms{Residuals: r, d: d, use: use, sm: sm, u: u, v: v, vis: make([]complex128, len(u))}
 }
 
 // eval writes the normalised residuals of m into dst (length Len) and

@@ -111,7 +111,7 @@ func (pr *problem) scanComponent(x0 []float64, c, ix, iy, k int) []scanMin {
 		return nil
 	}
 	// The data scanned: every stride-th datum of each type.
-	sub := newTerms(pr.t.d, pr.t.use, 1+pr.t.Len()/scanMaxData)
+	sub := newTerms(pr.t.d, pr.t.use, 1+pr.t.Len()/scanMaxData, pr.t.sm)
 	fu, fv := sub.u, sub.v
 	nf := len(fu)
 	qmax, qmin := 0.0, math.Inf(1)

@@ -1,0 +1,96 @@
+package workflow
+
+import (
+	"os"
+	"path/filepath"
+	"time"
+
+	"vcz/dataset"
+	"vcz/io/fitsimage"
+	"vcz/io/oifits"
+	"vcz/output"
+	"vcz/recon/batch"
+)
+
+// cubeEpoch reports whether the epoch is imaged as a cube (-channels) or as a star with an
+// environment (-star) rather than as one gray image.
+func cubeEpoch(e *Epoch) bool { return !e.Spec.Channels.Single() || e.Spec.Star != nil }
+
+// CheckJoint refuses a joint reconstruction of epochs that are not imaged as one gray image
+// each: the joint run starts from the epochs' images and fits all their channels to one
+// image per epoch. Its error is an *InputError.
+func CheckJoint(epochs []*Epoch) error {
+	for _, e := range epochs {
+		if cubeEpoch(e) {
+			return inputErrorf("batch: -joint needs one gray image per epoch; epoch %s is imaged with -channels %s or -star, drop them for -joint", e.Name, e.Spec.Channels)
+		}
+	}
+	return nil
+}
+
+// runCubeEpoch is runEpoch for an epoch imaged as a cube or a star with its environment
+// (workflow.Cube): NAME.fits is the cube (one plane per channel group; the batch's
+// montage shows its first plane) or the environment image, NAME.png its montage or
+// preview; the row holds the χ² of all planes and the gray run's spatial weight.
+func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, statusPath string, files []*oifits.File, d *dataset.Data) EpochResult {
+	fail := func(err error) EpochResult { return EpochResult{Row: b.failed(e, row, t0, err)} }
+	c, err := NewCube(files, d, e.Spec)
+	if err != nil {
+		return fail(err)
+	}
+	fitsPath := epochFile(b.Out, e.Name, "", extFITS)
+	// As in runEpoch: the old status goes before any output is rewritten.
+	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+		return fail(err)
+	}
+	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
+	var img *fitsimage.Image
+	if e.Spec.Star != nil {
+		run, paths, err := c.RunStarEnv(outs, fitsPath, interruptible(nil))
+		if err == nil && Interrupted() {
+			err = ErrInterrupted
+		}
+		if err != nil {
+			return fail(orInterrupted(err))
+		}
+		res := run.Result
+		row.Chi2rTotal, row.Weight, row.Iterations = res.Chi2r, res.Gray.Weight, res.Iter
+		row.Warnings = output.NonNil(res.Gray.Warnings)
+		row.PNG = filepath.Base(paths.PNG)
+	} else {
+		run, paths, err := c.Run(outs, fitsPath, nil)
+		if err != nil {
+			return fail(err)
+		}
+		res := run.Result
+		chi2, n := map[string]float64{}, map[string]int{}
+		for _, p := range res.Planes {
+			for _, t := range p.Chi2 {
+				chi2[t.Type.String()] += t.Chi2
+				n[t.Type.String()] += t.N
+			}
+		}
+		for k, nk := range n {
+			row.Points[k] = nk
+			row.Chi2r[k] = chi2[k] / float64(max(nk, 1))
+		}
+		row.Chi2rTotal, row.Weight, row.Iterations = res.Chi2r, res.Weight, res.TotalIter
+		row.Warnings = output.NonNil(res.Warnings)
+		row.PNG = filepath.Base(paths.Montage)
+		img = outs.CubeImage(run)
+	}
+	if row.PNG == "." {
+		row.PNG = ""
+	}
+	row.FITS = filepath.Base(fitsPath)
+	row.Status = batch.StateDone
+	row.Seconds = time.Since(t0).Seconds()
+	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: row}
+	if row.PNG != "" {
+		st.Outputs = append(st.Outputs, row.PNG)
+	}
+	if err := batch.WriteStatus(statusPath, st); err != nil {
+		return fail(err)
+	}
+	return EpochResult{Row: row, Image: img}
+}
