@@ -10,6 +10,7 @@ import (
 	"vcz/io/oifits"
 	"vcz/output"
 	"vcz/recon/batch"
+	"vcz/runspec"
 )
 
 // cubeEpoch reports whether the epoch is imaged as a cube (-channels) or as a star with an
@@ -18,14 +19,28 @@ func cubeEpoch(e *Epoch) bool { return !e.Spec.Channels.Single() || e.Spec.Star 
 
 // CheckJoint refuses a joint reconstruction of epochs that are not imaged as one gray image
 // each: the joint run starts from the epochs' images and fits all their channels to one
-// image per epoch. Its error is an *InputError.
+// image per epoch, with the first epoch's data terms and regularizers, so epochs that
+// differ there are refused too. Its error is an *InputError.
 func CheckJoint(epochs []*Epoch) error {
 	for _, e := range epochs {
 		if cubeEpoch(e) {
 			return inputErrorf("batch: -joint needs one gray image per epoch; epoch %s is imaged with -channels %s or -star, drop them for -joint", e.Name, e.Spec.Channels)
 		}
 	}
+	for _, e := range epochs[min(1, len(epochs)):] {
+		if a, b := jointTerms(epochs[0].Spec), jointTerms(e.Spec); a != b {
+			return inputErrorf("batch: -joint fits every epoch with the same data terms and regularizers; epoch %s has %q, epoch %s %q", epochs[0].Name, a, e.Name, b)
+		}
+	}
 	return nil
+}
+
+// jointTerms is the canonical text of the options the joint run takes from the first
+// epoch for all: data types and their weights, regularizers, prior, support, tv's
+// threshold and smearing.
+func jointTerms(s runspec.Spec) string {
+	return runspec.Spec{Use: s.Use, DataWeights: s.DataWeights, Regularizers: s.Regularizers, Prior: s.Prior,
+		Support: s.Support, TVEps: s.TVEps, Smearing: s.Smearing}.String()
 }
 
 // runCubeEpoch is runEpoch for an epoch imaged as a cube or a star with its environment

@@ -250,3 +250,24 @@ func TestBatchCubeEpochs(t *testing.T) {
 		}
 	}
 }
+
+// -joint fits every epoch with the first epoch's data terms and regularizers, so epochs
+// that differ there are refused before any work, naming both; a different date range is
+// what epochs are for and passes.
+func TestCheckJointSameTerms(t *testing.T) {
+	a, b := runspec.Spec{MJDMin: 60000, MJDMax: 60001}, runspec.Spec{MJDMin: 60002, MJDMax: 60003}
+	if err := CheckJoint([]*Epoch{{Name: "n1", Spec: a}, {Name: "n2", Spec: b}}); err != nil {
+		t.Fatalf("epochs differing in dates only: %v", err)
+	}
+	for _, opt := range [][2]string{{"reg", "mem"}, {"use", "vis2"}, {"support", "3mas"}, {"smearing", "off"}} {
+		c := b
+		if err := c.Set(opt[0], opt[1]); err != nil {
+			t.Fatal(err)
+		}
+		err := CheckJoint([]*Epoch{{Name: "n1", Spec: a}, {Name: "n2", Spec: c}})
+		var ie *InputError
+		if !errors.As(err, &ie) || !strings.Contains(err.Error(), "epoch n1") || !strings.Contains(err.Error(), "epoch n2") {
+			t.Errorf("-%s %s in one epoch: error %v", opt[0], opt[1], err)
+		}
+	}
+}

@@ -47,7 +47,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	strict := registerStrict(fs)
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
-	smearing := fs.String("smearing", "off", "bandwidth smearing of the model: off (each channel at its centre), auto (averaged over the band where that exceeds the noise) or on")
+	smearing := fs.String("smearing", "auto", "bandwidth smearing of the model: auto (averaged over each band where that exceeds the noise for a source as large as λ/B_min), on, or off (each channel at its centre)")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
