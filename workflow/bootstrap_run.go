@@ -43,14 +43,21 @@ func ParseBootstrapUnit(cmd, text string) (dataset.Unit, error) {
 	return u, nil
 }
 
+// ResamplingOptions checks the resampling options of the command cmd (-bootstrap K,
+// -bootstrap-seed, -bootstrap-unit): K is 0 (none) or at least 2. Errors are *InputError.
+func ResamplingOptions(cmd string, k int, seed uint64, unit string) (BootstrapOptions, error) {
+	if k < 0 || k == 1 {
+		return BootstrapOptions{}, inputErrorf("%s: -bootstrap %d: want 0 (none) or at least 2 replicates", cmd, k)
+	}
+	u, err := ParseBootstrapUnit(cmd, unit)
+	return BootstrapOptions{Replicates: k, Seed: seed, Unit: u}, err
+}
+
 // NewBootstrapRequest checks a's options, reading the SLURM variables of "-bootstrap-shard
 // slurm" with getenv. Errors are *InputError naming the option.
 func NewBootstrapRequest(a BootstrapArgs, getenv func(string) string) (BootstrapRequest, error) {
 	var r BootstrapRequest
-	if a.Replicates < 0 || a.Replicates == 1 {
-		return r, inputErrorf("image: -bootstrap %d: want 0 (none) or at least 2 replicates", a.Replicates)
-	}
-	u, err := ParseBootstrapUnit("image", a.Unit)
+	opt, err := ResamplingOptions("image", a.Replicates, a.Seed, a.Unit)
 	if err != nil {
 		return r, err
 	}
@@ -69,7 +76,7 @@ func NewBootstrapRequest(a BootstrapArgs, getenv func(string) string) (Bootstrap
 		}
 		r.Regions = append(r.Regions, reg)
 	}
-	r.Options = BootstrapOptions{Replicates: a.Replicates, Seed: a.Seed, Unit: u}
+	r.Options = opt
 	r.Ref = a.Ref
 	if (a.Shard != "" || a.Collect) && a.Replicates == 0 {
 		return r, inputErrorf("image: -bootstrap-shard and -bootstrap-collect need -bootstrap K")

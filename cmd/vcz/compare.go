@@ -42,15 +42,10 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() == 0 {
 		return badInputf("compare: no OIFITS file given (run 'vcz compare --help')")
 	}
-	bootOpt := workflow.BootstrapOptions{Replicates: *bootK, Seed: *boot.seed}
-	if *bootK == 1 || *bootK < 0 {
-		return badInputf("compare: -bootstrap %d: want 0 (none) or at least 2 replicates", *bootK)
-	}
-	unit, err := boot.parseUnit("compare")
+	bootOpt, err := workflow.ResamplingOptions("compare", *bootK, *boot.seed, *boot.unit)
 	if err != nil {
 		return err
 	}
-	bootOpt.Unit = unit
 	if *out == "" {
 		*out = workflow.DefaultOutput(fs.Arg(0), "-compare")
 	}
@@ -112,17 +107,14 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		rep.WriteText(stdout)
 		fmt.Fprintf(stdout, "Wrote %s\n", filepath.Join(*out, "report.html"))
 	}
-	var failed []string
 	nwarn := 0
 	for _, r := range cmp.Runs {
-		if r.Err != nil {
-			failed = append(failed, r.Name)
-			continue
+		if r.Err == nil {
+			printWarnings(stderr, r.Name, r.Result.Warnings)
+			nwarn += len(r.Result.Warnings)
 		}
-		printWarnings(stderr, r.Name, r.Result.Warnings)
-		nwarn += len(r.Result.Warnings)
 	}
-	if len(failed) > 0 {
+	if failed := cmp.Failed(); len(failed) > 0 {
 		return failure(fmt.Errorf("compare: %d of %d regularizers failed (%s); see %s", len(failed), len(cmp.Runs), strings.Join(failed, ", "), filepath.Join(*out, "report.html")))
 	}
 	return strictFailure(*strict, "compare", nwarn)
