@@ -16,10 +16,6 @@ import (
 	"vcz/workflow"
 )
 
-func init() {
-	register(&command{name: "batch", summary: "image many epochs of one target: in parallel, resumable, sharded for job arrays, optionally jointly", run: runBatch})
-}
-
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)

@@ -82,6 +82,9 @@ func init() {
 	for _, c := range []*command{
 		{name: "image", summary: "reconstruct an image from OIFITS data and write FITS, PNG and fit plots", run: runImage},
 		{name: "demo", summary: "reconstruct the embedded demo data set and write the results into a folder", run: runDemo},
+		{name: "compare", summary: "reconstruct with several regularizers side by side and write a report", run: runCompare},
+		{name: "batch", summary: "image many epochs of one target: in parallel, resumable, sharded for job arrays, optionally jointly", run: runBatch},
+		{name: "fit", summary: "fit parametric models (discs, limb darkening, binaries) to the data", run: runFit},
 		{name: "simulate", summary: "simulate OIFITS data of a model observed with an observing plan", run: runSimulate},
 		{name: "inspect", summary: "summarise OIFITS files: targets, data, baselines, resolution", run: runInspect},
 		{name: "version", summary: "print the version of vcz", run: runVersion},

@@ -16,10 +16,6 @@ import (
 	"vcz/workflow"
 )
 
-func init() {
-	register(&command{name: "compare", summary: "reconstruct with several regularizers side by side and write a report", run: runCompare})
-}
-
 func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube, "reg")

@@ -13,10 +13,6 @@ import (
 	"vcz/workflow"
 )
 
-func init() {
-	register(&command{name: "fit", summary: "fit parametric models (discs, limb darkening, binaries) to the data", run: runFit})
-}
-
 func runFit(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("fit", "-model SPEC [options] FILE...", fitDoc, stderr)
 	selFlags := runspec.RegisterFlags(fs, runspec.Select|runspec.Types)
