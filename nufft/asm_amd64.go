@@ -11,6 +11,9 @@ const hasAsm = true
 // support AVX (fft_amd64.s).
 func cpuHasAVX() bool
 
+// cpuHasAVX2 reports whether the processor has AVX2 (fft_amd64.s).
+func cpuHasAVX2() bool
+
 // useAsm selects the assembly loops; tests clear it to run the portable
 // Go loops of the same build.
 var useAsm = true
@@ -19,6 +22,10 @@ var useAsm = true
 // same bits as the SSE2 form (TestGriddingAVX) in fewer instructions.
 // Tests switch it.
 var useAVX = cpuHasAVX()
+
+// usePairs selects the spreading loops on pairs of cells (AVX2), which
+// give the bits of the other forms (TestGriddingAVX). Tests switch it.
+var usePairs = useAVX && cpuHasAVX2()
 
 // interpAsm interpolates the sorted points [lo, hi) that do not wrap in
 // x with the SSE2 loops and reports whether it did; the caller then
@@ -45,12 +52,32 @@ func (p *plan) hasSpreadAsm() bool {
 	return useAsm && p.w >= minAsm && p.w <= maxAsm
 }
 
-// spreadAsm spreads the sorted points [lo, hi), none of which wraps in
-// x, into band (first row ylo) with the assembly loops; the caller
-// checks hasSpreadAsm.
+// spreadGathers reports whether spreadAsm reads the caller's values
+// through the permutation itself (the AVX2 loops).
+func (p *plan) spreadGathers() bool {
+	return p.hasSpreadAsm() && usePairs && p.w >= minPair
+}
+
+// spreadAsm spreads the sorted points [lo, hi) that do not wrap in x
+// into band (first row ylo) with the assembly loops, skipping the
+// others; the caller checks hasSpreadAsm. Where spreadGathers, the
+// values are p.srcC[p.perm[i]] unless p.inOrder.
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {
 	w := p.w
 	if lo >= hi {
+		return
+	}
+	if usePairs && w >= minPair {
+		switch {
+		case !p.inOrder && p.wts32 != nil:
+			spreadAVX2f32Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
+		case !p.inOrder:
+			spreadAVX2f64Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
+		case p.wts32 != nil:
+			spreadAVX2f32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
+		default:
+			spreadAVX2f64[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.sorted[lo], hi-lo)
+		}
 		return
 	}
 	f32, f64 := &spreadSSE2f32, &spreadSSE2f64

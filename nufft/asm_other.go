@@ -6,8 +6,8 @@ package nufft
 // this build; see asm_amd64.go.
 const hasAsm = false
 
-// useAsm and useAVX are never set without assembly.
-var useAsm, useAVX = false, false
+// useAsm, useAVX and usePairs are never set without assembly.
+var useAsm, useAVX, usePairs = false, false, false
 
 // No width has an assembly form.
 const minAsm, maxAsm = 1, 0
@@ -17,6 +17,8 @@ func (p *plan) interpAsm(lo, hi int) bool { return false }
 func (p *plan) hasSpreadAsm() bool { return false }
 
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {}
+
+func (p *plan) spreadGathers() bool { return false }
 
 func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool { return false }
 

@@ -73,14 +73,16 @@ func testRadix4Asm(t *testing.T) {
 }
 
 // TestGriddingAVX checks that the AVX and SSE2 forms of the gridding
-// loops give the same bits, for every width with an assembly form and
+// loops, and the AVX2 spreading on pairs of cells where the processor
+// has it, give the same bits, for every width with an assembly form and
 // both weight precisions, in Forward and Adjoint; TestAccuracy checks
 // the results against the exact sum in whichever form the machine runs.
 func TestGriddingAVX(t *testing.T) {
 	if !hasAsm || !useAVX {
 		t.Skip("no AVX assembly in this build or on this processor")
 	}
-	defer func() { useAVX = true }()
+	pairs := usePairs
+	defer func() { useAVX, usePairs = true, pairs }()
 	rng := rand.New(rand.NewPCG(5, 6))
 	// The FFT stages switch with useAVX too; TestRadix4Asm shows they
 	// give the same bits.
@@ -95,22 +97,31 @@ func TestGriddingAVX(t *testing.T) {
 				t.Fatal(err)
 			}
 			p := &Plan{newPlan(r, u, v, kaiserBessel, w)}
-			var f [2][]complex128
-			var a [2][]float64
-			for i, avx := range []bool{false, true} {
-				useAVX = avx
+			forms := []struct {
+				name       string
+				avx, pairs bool
+			}{{"SSE2", false, false}, {"AVX", true, false}, {"AVX2 pairs", true, true}}
+			if !pairs {
+				forms = forms[:2]
+			}
+			f := make([][]complex128, len(forms))
+			a := make([][]float64, len(forms))
+			for i, fm := range forms {
+				useAVX, usePairs = fm.avx, fm.pairs
 				f[i], a[i] = make([]complex128, m), make([]float64, nx*ny)
 				p.Forward(f[i], img)
 				p.Adjoint(a[i], vis)
 			}
-			for k := range f[0] {
-				if f[0][k] != f[1][k] {
-					t.Fatalf("w=%d tol=%g: Forward at point %d: SSE2 %v, AVX %v", w, tol, k, f[0][k], f[1][k])
+			for i := 1; i < len(forms); i++ {
+				for k := range f[0] {
+					if f[0][k] != f[i][k] {
+						t.Fatalf("w=%d tol=%g: Forward at point %d: SSE2 %v, %s %v", w, tol, k, f[0][k], forms[i].name, f[i][k])
+					}
 				}
-			}
-			for k := range a[0] {
-				if a[0][k] != a[1][k] {
-					t.Fatalf("w=%d tol=%g: Adjoint at pixel %d: SSE2 %v, AVX %v", w, tol, k, a[0][k], a[1][k])
+				for k := range a[0] {
+					if a[0][k] != a[i][k] {
+						t.Fatalf("w=%d tol=%g: Adjoint at pixel %d: SSE2 %v, %s %v", w, tol, k, a[0][k], forms[i].name, a[i][k])
+					}
 				}
 			}
 		}
@@ -222,4 +233,33 @@ func sameOrClose(a, b complex128) bool {
 		return a == b
 	}
 	return cmplx.Abs(a-b) <= 1e-14*(cmplx.Abs(b)+1e-300)
+}
+
+// TestConjRev checks the assembly forms of conjRev and addConjRev
+// against their definition, dst[j] (+)= conj(src[n−1−j]), written out
+// with math/cmplx.Conj, for every length up to 9 (odd lengths take the
+// tail of the two-at-a-time AVX loop) and in slices that end where the
+// data does.
+func TestConjRev(t *testing.T) {
+	asm, avx := useAsm, useAVX
+	defer func() { useAsm, useAVX = asm, avx }()
+	rng := rand.New(rand.NewPCG(11, 12))
+	for _, form := range []struct{ asm, avx bool }{{false, false}, {asm, false}, {asm, avx}} {
+		useAsm, useAVX = form.asm, form.avx
+		for n := 0; n <= 9; n++ {
+			src := randVis(rng, n)
+			base := randVis(rng, n)
+			got, add := make([]complex128, n), append([]complex128(nil), base...)
+			conjRev(got, src)
+			addConjRev(add, src)
+			for j := range n {
+				if want := cmplx.Conj(src[n-1-j]); got[j] != want {
+					t.Fatalf("asm=%v avx=%v n=%d: conjRev[%d] = %v, want %v", useAsm, useAVX, n, j, got[j], want)
+				}
+				if want := base[j] + cmplx.Conj(src[n-1-j]); add[j] != want {
+					t.Fatalf("asm=%v avx=%v n=%d: addConjRev[%d] = %v, want %v", useAsm, useAVX, n, j, add[j], want)
+				}
+			}
+		}
+	}
 }

@@ -71,16 +71,18 @@
 // NewPlan sorts the points into bins of 8 fine rows (by row bin, then
 // column), and stores for each point its grid offsets and its 2w kernel
 // weights: 12 + 8w bytes (float32 weights) or 12 + 16w bytes, plus 16
-// bytes of scratch. It holds the upsampled grid (16·fx·fy bytes for an
-// fx×fy grid, fx the smallest power of two ≥ 2·nx), spreading bands of
-// about the same size (at most 8 bands, one per 4(w+8) fine rows, which
-// overlap by at most w+7 rows), and small FFT scratch: about 2.3 grids
-// plus 84 bytes per point at Tol = 1e-6. A call costs about 2w² multiply-adds per
-// point and one 2D FFT of the upsampled grid restricted by the symmetry
-// of real images and the zero rows of the padded image. NewPlan
-// computes the weights in shards on the plan's workers and writes every
-// buffer of the calls once, so that the first call is not slowed by
-// fresh memory pages.
+// bytes of scratch. It holds the upsampled grid of Forward (16·fx·fy
+// bytes for an fx×fy grid, fx the smallest power of two ≥ 2·nx) in the
+// same memory as the spreading bands of Adjoint, which are a little
+// larger (at most 8 bands, one per 4(w+8) fine rows, which overlap by
+// at most w+7 rows), a quarter grid for Adjoint's hand-over from the
+// column to the row transforms, and small FFT scratch: about 1.4 to 1.6
+// grids plus 84 bytes per point at Tol = 1e-6. A call costs about 2w²
+// multiply-adds per point and one 2D FFT of the upsampled grid
+// restricted by the symmetry of real images and the zero rows of the
+// padded image. NewPlan computes the weights in shards on the plan's
+// workers and writes every buffer of the calls once, so that the first
+// call is not slowed by fresh memory pages.
 //
 // # Assembly
 //
@@ -88,22 +90,26 @@
 // FFT stages and the conjugate copies of the Hermitian symmetry run in
 // assembly: SSE2, the amd64 baseline, with one complex value per
 // register, and AVX (three-operand forms, two columns at once in the
-// FFT) where the processor has it. Every assembly loop does the
-// operations of its Go loop in the same order, with no fused
-// multiply-add, so results are the same bits with or without assembly
-// and on any amd64 processor. The build tag purego, and every other
-// architecture, compile the portable Go loops only; the tests run both
-// forms in one build (TestPortableLoops, TestGriddingAVX,
-// TestRadix4Asm). GOAMD64=v3 is
-// optional and changes the Go loops' results only by rounding.
+// FFT) where the processor has it; with AVX2 the spreading works on
+// pairs of cells and reads the caller's values through the permutation
+// itself. Every assembly loop does the operations of its Go loop in the
+// same order, with no fused multiply-add, so results are the same bits
+// with or without assembly and on any amd64 processor. The build tag
+// purego, and every other architecture, compile the portable Go loops
+// only; the tests run both forms in one build (TestPortableLoops,
+// TestGriddingAVX, TestRadix4Asm). GOAMD64=v3 is optional and changes
+// the Go loops' results only by rounding.
 //
 // # Calls
 //
-// A Plan keeps its points sorted by grid position. ForwardSorted and
-// AdjointSorted take the visibilities in that order (Order gives it)
-// and skip the scattered stores and gathered loads of Forward and
-// Adjoint, with the same bits; a caller that keeps its data in the
-// plan's order pays the permutation once instead of at every call.
+// A Plan keeps its points sorted by grid position (in bands of rows,
+// then by column, with the two halves of each run of 128 points
+// interleaved so that the spreading does not wait on its own stores).
+// ForwardSorted and AdjointSorted take the visibilities in that order
+// (Order gives it) and skip the scattered stores and gathered loads of
+// Forward and Adjoint, with the same bits; a caller that keeps its data
+// in the plan's order pays the permutation once instead of at every
+// call.
 //
 // Methods take the destination first, never allocate, and panic with a
 // message starting "nufft:" on wrong slice lengths. dst must not alias

@@ -45,14 +45,24 @@ func conjRevSSE2(dst, src *complex128, n int)
 //go:noescape
 func addConjRevSSE2(dst, src *complex128, n int)
 
+//go:noescape
+func conjRevAVX(dst, src *complex128, n int)
+
+//go:noescape
+func addConjRevAVX(dst, src *complex128, n int)
+
 // conjRev sets dst[j] = conj(src[len(src)−1−j]); the lengths must match.
 func conjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: conjRev length mismatch")
 	}
-	if !useAsm {
+	switch {
+	case !useAsm:
 		conjRevGo(dst, src)
-	} else if len(dst) > 0 {
+	case len(dst) == 0:
+	case useAVX:
+		conjRevAVX(&dst[0], &src[len(src)-1], len(dst))
+	default:
 		conjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
 	}
 }
@@ -63,9 +73,13 @@ func addConjRev(dst, src []complex128) {
 	if len(dst) != len(src) {
 		panic("nufft: addConjRev length mismatch")
 	}
-	if !useAsm {
+	switch {
+	case !useAsm:
 		addConjRevGo(dst, src)
-	} else if len(dst) > 0 {
+	case len(dst) == 0:
+	case useAVX:
+		addConjRevAVX(&dst[0], &src[len(src)-1], len(dst))
+	default:
 		addConjRevSSE2(&dst[0], &src[len(src)-1], len(dst))
 	}
 }

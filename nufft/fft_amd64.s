@@ -271,3 +271,88 @@ r2loop:
 	JNZ r2loop
 r2done:
 	RET
+
+// func cpuHasAVX2() bool
+//
+// Reports whether the processor has AVX2 (CPUID.(EAX=7,ECX=0):EBX bit 5;
+// Intel SDM vol. 2A, CPUID). The caller checks cpuHasAVX for the
+// operating system's support of the YMM registers.
+TEXT ·cpuHasAVX2(SB), NOSPLIT, $0-1
+	XORL AX, AX
+	XORL CX, CX
+	CPUID
+	CMPL AX, $7
+	JLT no2
+	MOVL $7, AX
+	XORL CX, CX
+	CPUID
+	ANDL $0x20, BX
+	JZ no2
+	MOVB $1, ret+0(FP)
+	RET
+no2:
+	MOVB $0, ret+0(FP)
+	RET
+
+// func conjRevAVX(dst, src *complex128, n int)
+//
+// conjRevSSE2 two values at a time: the load of src[−j−1], src[−j] has
+// its halves swapped, then the same sign flip, so the same bits.
+TEXT ·conjRevAVX(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ n+16(FP), CX
+	VBROADCASTF128 ·jMask+16(SB), Y6
+	SUBQ $16, SI
+cvloop:
+	CMPQ CX, $2
+	JLT cvtail
+	VMOVUPD (SI), Y0
+	VPERM2F128 $1, Y0, Y0, Y0
+	VXORPD Y6, Y0, Y0
+	VMOVUPD Y0, (DI)
+	ADDQ $32, DI
+	SUBQ $32, SI
+	SUBQ $2, CX
+	JMP cvloop
+cvtail:
+	TESTQ CX, CX
+	JLE cvdone
+	VMOVUPD 16(SI), X0
+	VXORPD X6, X0, X0
+	VMOVUPD X0, (DI)
+cvdone:
+	VZEROUPPER
+	RET
+
+// func addConjRevAVX(dst, src *complex128, n int)
+//
+// addConjRevSSE2 two values at a time, as conjRevAVX.
+TEXT ·addConjRevAVX(SB), NOSPLIT, $0-24
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ n+16(FP), CX
+	VBROADCASTF128 ·jMask+16(SB), Y6
+	SUBQ $16, SI
+avloop:
+	CMPQ CX, $2
+	JLT avtail
+	VMOVUPD (SI), Y0
+	VPERM2F128 $1, Y0, Y0, Y0
+	VXORPD Y6, Y0, Y0
+	VADDPD (DI), Y0, Y0
+	VMOVUPD Y0, (DI)
+	ADDQ $32, DI
+	SUBQ $32, SI
+	SUBQ $2, CX
+	JMP avloop
+avtail:
+	TESTQ CX, CX
+	JLE avdone
+	VMOVUPD 16(SI), X0
+	VXORPD X6, X0, X0
+	VADDPD (DI), X0, X0
+	VMOVUPD X0, (DI)
+avdone:
+	VZEROUPPER
+	RET

@@ -89,7 +89,7 @@ func genSpread(b *bytes.Buffer, w int, sfx, ws, ft string) {
 	fmt.Fprintf(b, "\tfx := p.fx\n")
 	fmt.Fprintf(b, "\tfor i := lo; i < hi; i++ {\n")
 	fmt.Fprintf(b, "\t\tx0, y0 := int(p.x0[i]), int(p.y0[i])-ylo\n")
-	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tp.spreadWrap(band, ylo, i)\n\t\t\tcontinue\n\t\t}\n", w)
+	fmt.Fprintf(b, "\t\tif x0+%d > fx {\n\t\t\tcontinue // spread by the caller afterwards\n\t\t}\n", w)
 	fmt.Fprintf(b, "\t\twt := (*[%d]%s)(p.%s[%d*i:])\n", 2*w, ft, ws, 2*w)
 	fmt.Fprintf(b, "\t\tvis := p.sorted[i]\n\t\tvr, vi := real(vis), imag(vis)\n")
 	for d := range w {

@@ -236,8 +236,7 @@ func (p *plan) spread2(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+2 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[4]float64)(p.wts[4*i:])
 		vis := p.sorted[i]
@@ -286,8 +285,7 @@ func (p *plan) spread2f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+2 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[4]float32)(p.wts32[4*i:])
 		vis := p.sorted[i]
@@ -337,8 +335,7 @@ func (p *plan) spread3(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+3 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[6]float64)(p.wts[6*i:])
 		vis := p.sorted[i]
@@ -390,8 +387,7 @@ func (p *plan) spread3f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+3 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[6]float32)(p.wts32[6*i:])
 		vis := p.sorted[i]
@@ -444,8 +440,7 @@ func (p *plan) spread4(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+4 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[8]float64)(p.wts[8*i:])
 		vis := p.sorted[i]
@@ -500,8 +495,7 @@ func (p *plan) spread4f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+4 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[8]float32)(p.wts32[8*i:])
 		vis := p.sorted[i]
@@ -557,8 +551,7 @@ func (p *plan) spread5(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+5 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[10]float64)(p.wts[10*i:])
 		vis := p.sorted[i]
@@ -616,8 +609,7 @@ func (p *plan) spread5f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+5 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[10]float32)(p.wts32[10*i:])
 		vis := p.sorted[i]
@@ -676,8 +668,7 @@ func (p *plan) spread6(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+6 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[12]float64)(p.wts[12*i:])
 		vis := p.sorted[i]
@@ -738,8 +729,7 @@ func (p *plan) spread6f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+6 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[12]float32)(p.wts32[12*i:])
 		vis := p.sorted[i]
@@ -801,8 +791,7 @@ func (p *plan) spread7(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+7 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[14]float64)(p.wts[14*i:])
 		vis := p.sorted[i]
@@ -866,8 +855,7 @@ func (p *plan) spread7f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+7 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[14]float32)(p.wts32[14*i:])
 		vis := p.sorted[i]
@@ -932,8 +920,7 @@ func (p *plan) spread8(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+8 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[16]float64)(p.wts[16*i:])
 		vis := p.sorted[i]
@@ -1000,8 +987,7 @@ func (p *plan) spread8f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+8 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[16]float32)(p.wts32[16*i:])
 		vis := p.sorted[i]
@@ -1069,8 +1055,7 @@ func (p *plan) spread9(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+9 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[18]float64)(p.wts[18*i:])
 		vis := p.sorted[i]
@@ -1140,8 +1125,7 @@ func (p *plan) spread9f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+9 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[18]float32)(p.wts32[18*i:])
 		vis := p.sorted[i]
@@ -1212,8 +1196,7 @@ func (p *plan) spread10(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+10 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[20]float64)(p.wts[20*i:])
 		vis := p.sorted[i]
@@ -1286,8 +1269,7 @@ func (p *plan) spread10f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+10 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[20]float32)(p.wts32[20*i:])
 		vis := p.sorted[i]
@@ -1361,8 +1343,7 @@ func (p *plan) spread11(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+11 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[22]float64)(p.wts[22*i:])
 		vis := p.sorted[i]
@@ -1438,8 +1419,7 @@ func (p *plan) spread11f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+11 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[22]float32)(p.wts32[22*i:])
 		vis := p.sorted[i]
@@ -1516,8 +1496,7 @@ func (p *plan) spread12(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+12 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[24]float64)(p.wts[24*i:])
 		vis := p.sorted[i]
@@ -1596,8 +1575,7 @@ func (p *plan) spread12f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+12 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[24]float32)(p.wts32[24*i:])
 		vis := p.sorted[i]
@@ -1677,8 +1655,7 @@ func (p *plan) spread13(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+13 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[26]float64)(p.wts[26*i:])
 		vis := p.sorted[i]
@@ -1760,8 +1737,7 @@ func (p *plan) spread13f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+13 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[26]float32)(p.wts32[26*i:])
 		vis := p.sorted[i]
@@ -1844,8 +1820,7 @@ func (p *plan) spread14(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+14 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[28]float64)(p.wts[28*i:])
 		vis := p.sorted[i]
@@ -1930,8 +1905,7 @@ func (p *plan) spread14f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+14 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[28]float32)(p.wts32[28*i:])
 		vis := p.sorted[i]
@@ -2017,8 +1991,7 @@ func (p *plan) spread15(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+15 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[30]float64)(p.wts[30*i:])
 		vis := p.sorted[i]
@@ -2106,8 +2079,7 @@ func (p *plan) spread15f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+15 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[30]float32)(p.wts32[30*i:])
 		vis := p.sorted[i]
@@ -2196,8 +2168,7 @@ func (p *plan) spread16(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+16 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[32]float64)(p.wts[32*i:])
 		vis := p.sorted[i]
@@ -2288,8 +2259,7 @@ func (p *plan) spread16f32(band []complex128, ylo, lo, hi int) {
 	for i := lo; i < hi; i++ {
 		x0, y0 := int(p.x0[i]), int(p.y0[i])-ylo
 		if x0+16 > fx {
-			p.spreadWrap(band, ylo, i)
-			continue
+			continue // spread by the caller afterwards
 		}
 		wt := (*[32]float32)(p.wts32[32*i:])
 		vis := p.sorted[i]

@@ -6,6 +6,8 @@ package nufft
 
 const minAsm, maxAsm = 2, 10
 
+const minPair = 3
+
 //go:noescape
 func interp2f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
@@ -31,6 +33,12 @@ func interp3f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 func spread3f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread3f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp4f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -41,6 +49,12 @@ func interp4f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 
 //go:noescape
 func spread4f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread4f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp5f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -55,6 +69,12 @@ func interp5f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 func spread5f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread5f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp6f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -65,6 +85,12 @@ func interp6f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 
 //go:noescape
 func spread6f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread6f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp7f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -79,6 +105,12 @@ func interp7f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 func spread7f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread7f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp8f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -89,6 +121,12 @@ func interp8f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 
 //go:noescape
 func spread8f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread8f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp9f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -103,6 +141,12 @@ func interp9f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, ou
 func spread9f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
+func spread9f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp10f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
 
 //go:noescape
@@ -113,6 +157,12 @@ func interp10f32AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, o
 
 //go:noescape
 func spread10f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread10f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
+
+//go:noescape
+func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -139,6 +189,12 @@ func interp3f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 func spread3f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread3f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp4f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -149,6 +205,12 @@ func interp4f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 
 //go:noescape
 func spread4f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread4f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp5f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -163,6 +225,12 @@ func interp5f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 func spread5f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread5f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp6f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -173,6 +241,12 @@ func interp6f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 
 //go:noescape
 func spread6f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread6f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp7f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -187,6 +261,12 @@ func interp7f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 func spread7f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread7f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp8f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -197,6 +277,12 @@ func interp8f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 
 //go:noescape
 func spread8f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread8f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 //go:noescape
 func interp9f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -211,6 +297,12 @@ func interp9f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, ou
 func spread9f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
+func spread9f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+
+//go:noescape
 func interp10f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
 
 //go:noescape
@@ -221,6 +313,12 @@ func interp10f64AVX(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, o
 
 //go:noescape
 func spread10f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread10f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
+
+//go:noescape
+func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
 
 var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
 	2:  interp2f32SSE2,
@@ -316,4 +414,48 @@ var spreadAVXf64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *
 	8:  spread8f64AVX,
 	9:  spread9f64AVX,
 	10: spread10f64AVX,
+}
+
+var spreadAVX2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int){
+	3:  spread3f32AVX2,
+	4:  spread4f32AVX2,
+	5:  spread5f32AVX2,
+	6:  spread6f32AVX2,
+	7:  spread7f32AVX2,
+	8:  spread8f32AVX2,
+	9:  spread9f32AVX2,
+	10: spread10f32AVX2,
+}
+
+var spreadAVX2f32Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int){
+	3:  spread3f32AVX2Gather,
+	4:  spread4f32AVX2Gather,
+	5:  spread5f32AVX2Gather,
+	6:  spread6f32AVX2Gather,
+	7:  spread7f32AVX2Gather,
+	8:  spread8f32AVX2Gather,
+	9:  spread9f32AVX2Gather,
+	10: spread10f32AVX2Gather,
+}
+
+var spreadAVX2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int){
+	3:  spread3f64AVX2,
+	4:  spread4f64AVX2,
+	5:  spread5f64AVX2,
+	6:  spread6f64AVX2,
+	7:  spread7f64AVX2,
+	8:  spread8f64AVX2,
+	9:  spread9f64AVX2,
+	10: spread10f64AVX2,
+}
+
+var spreadAVX2f64Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int){
+	3:  spread3f64AVX2Gather,
+	4:  spread4f64AVX2Gather,
+	5:  spread5f64AVX2Gather,
+	6:  spread6f64AVX2Gather,
+	7:  spread7f64AVX2Gather,
+	8:  spread8f64AVX2Gather,
+	9:  spread9f64AVX2Gather,
+	10: spread10f64AVX2Gather,
 }

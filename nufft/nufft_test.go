@@ -610,3 +610,63 @@ func TestMemory(t *testing.T) {
 		}
 	}
 }
+
+// TestInterleaved checks that the plan's order is a permutation of the
+// sorted positions that alternates the halves of each block.
+func TestInterleaved(t *testing.T) {
+	for _, m := range []int{1, 2, 3, interleaveBlock - 1, interleaveBlock, 5*interleaveBlock + 7} {
+		seen := make([]int, m)
+		for i := range m {
+			seen[interleaved(i, m)]++
+		}
+		for j, c := range seen {
+			if c != 1 {
+				t.Fatalf("m=%d: position %d taken %d times", m, j, c)
+			}
+		}
+		if m >= 4 {
+			q := (min(m, interleaveBlock) + 1) / 2
+			if interleaved(0, m) != 0 || interleaved(q, m) != 1 || interleaved(1, m) != 2 {
+				t.Errorf("m=%d: the first block does not alternate its halves", m)
+			}
+		}
+	}
+}
+
+// TestSharedBuffer checks that Forward and Adjoint, whose grid and
+// spreading bands share memory, give the same bits whichever ran
+// before, with float32 and float64 weights.
+func TestSharedBuffer(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	nx, ny, m := 40, 34, 5000
+	u, v := bandPoints(rng, m, mas)
+	img := randImage(rng, nx*ny)
+	vis := randVis(rng, m)
+	for _, tol := range []float64{1e-6, 1e-10} {
+		// p runs Adjoint first, q Forward first.
+		p, err := NewPlan(nx, ny, mas, u, v, Options{Tol: tol, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		q, err := NewPlan(nx, ny, mas, u, v, Options{Tol: tol, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		a1, a2 := make([]float64, nx*ny), make([]float64, nx*ny)
+		f1, f2 := make([]complex128, m), make([]complex128, m)
+		p.Adjoint(a1, vis) // on a fresh plan
+		p.Forward(f2, img) // after Adjoint
+		p.Adjoint(a2, vis) // after Forward
+		q.Forward(f1, img) // on a fresh plan
+		for k := range a1 {
+			if a1[k] != a2[k] {
+				t.Fatalf("tol=%g: Adjoint at pixel %d is %v after Forward, %v before", tol, k, a2[k], a1[k])
+			}
+		}
+		for k := range f1 {
+			if f1[k] != f2[k] {
+				t.Fatalf("tol=%g: Forward at point %d is %v after Adjoint, %v before", tol, k, f2[k], f1[k])
+			}
+		}
+	}
+}

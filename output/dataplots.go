@@ -278,7 +278,8 @@ func upperFirst(s string) string {
 
 // LimitsPlot writes the detection limits L as a plot of Δmag against separation to path:
 // for each significance the mean over position angle (solid) and the worst position angle
-// (dashed) in one colour. target, when not empty, goes in the title.
+// (dashed) in one colour, and the mean by injection–recovery when computed, in another.
+// target, when not empty, goes in the title.
 func LimitsPlot(L *fit.Limits, path, target string) error {
 	var lines []plots.ContrastLine
 	for k, s := range L.Sigmas {
@@ -289,6 +290,17 @@ func LimitsPlot(L *fit.Limits, path, target string) error {
 		name := sigmaName(s)
 		lines = append(lines, plots.ContrastLine{Name: name + ", mean over position angle", Sep: L.Sep, DMag: mean, Series: k},
 			plots.ContrastLine{Name: name + ", worst position angle", Sep: L.Sep, DMag: worst, Dashed: true, Series: k})
+	}
+	if in := L.Inj; in != nil {
+		// Injection–recovery in colours of their own, its mean only to keep the plot
+		// readable (the CSV file has its worst case too).
+		for k, s := range L.Sigmas {
+			mean := make([]float64, len(L.Sep))
+			for i := range L.Sep {
+				mean[i] = fit.DMag(in.Mean[k][i])
+			}
+			lines = append(lines, plots.ContrastLine{Name: sigmaName(s) + ", injection–recovery, mean", Sep: L.Sep, DMag: mean, Series: len(L.Sigmas) + k})
+		}
 	}
 	fig, err := plots.Contrast(lines, plots.Options{Title: titled("Detection limits of a point companion", target)})
 	if err != nil {

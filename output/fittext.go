@@ -59,8 +59,10 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 		}
 		fmt.Fprintln(w, "  Caution: calibration errors outside the error bars inflate these figures.")
 		if searched {
-			fmt.Fprintln(w, "  A position that was searched raises the chance of a spurious companion: the figure")
-			fmt.Fprintln(w, "  holds at one position, and a search over the field reaches it by chance far more often.")
+			fmt.Fprintln(w, "  \"local\" holds at the one position found; a search over a field reaches it by chance")
+			fmt.Fprintln(w, "  far more often. \"field-wide\" is the chance that noise alone gives so large a Δχ²")
+			fmt.Fprintln(w, "  anywhere in the searched field, from simulated searches on these (u,v) points and")
+			fmt.Fprintln(w, "  error bars: quote it for a companion that was searched for.")
 		}
 	}
 	if len(s.Correlations) > 0 {
@@ -124,6 +126,11 @@ func (l *FitLimitsJ) writeText(w io.Writer) {
 	for _, name := range names {
 		fmt.Fprintf(w, " %8s", name)
 	}
+	if l.InjMeanDMag != nil {
+		for _, name := range names {
+			fmt.Fprintf(w, " %12s", name+" inj.")
+		}
+	}
 	fmt.Fprintln(w)
 	step := max(1, len(l.Sep)/10)
 	for i := 0; i < len(l.Sep); i += step {
@@ -131,7 +138,16 @@ func (l *FitLimitsJ) writeText(w io.Writer) {
 		for _, name := range names {
 			fmt.Fprintf(w, " %8s", pm(l.MeanDMag[name][i], 0))
 		}
+		if l.InjMeanDMag != nil {
+			for _, name := range names {
+				fmt.Fprintf(w, " %12s", pm(l.InjMeanDMag[name][i], 0))
+			}
+		}
 		fmt.Fprintln(w)
+	}
+	if l.InjMeanDMag != nil {
+		fmt.Fprintln(w, "  (\"inj.\": by injection–recovery into these data, which follows their noise at each position;")
+		fmt.Fprintln(w, "   the others by the χ² method, the limits expected of these observations)")
 	}
 	fmt.Fprintf(w, "Wrote %s and %s\n", l.CSV, l.Plot)
 }
@@ -146,7 +162,18 @@ func (d FitDetectJ) Line() string {
 	if d.PValue == 0 {
 		p = "p < 1e-300"
 	}
-	return fmt.Sprintf("component %d: Δχ² %.5g for %d parameters, %s, %s", d.Component, float64(d.DeltaChi2), d.Extra, p, sig)
+	line := fmt.Sprintf("component %d: Δχ² %.5g for %d parameters, %s, %s", d.Component, float64(d.DeltaChi2), d.Extra, p, sig)
+	if d.Searched {
+		line = fmt.Sprintf("component %d: Δχ² %.5g for %d parameters, local %s, %s", d.Component, float64(d.DeltaChi2), d.Extra, p, sig)
+	}
+	if g := float64(d.GlobalSigma); d.SearchDraws > 0 && !math.IsNaN(g) {
+		gp := fmt.Sprintf("p = %.2g", float64(d.GlobalPValue))
+		if d.GlobalPValue == 0 {
+			gp = "p < 1e-300"
+		}
+		line += fmt.Sprintf("; field-wide %s, %.1fσ (%.3g effective positions, %d simulated searches)", gp, g, float64(d.Trials), d.SearchDraws)
+	}
+	return line
 }
 
 // pm writes a value and its 1σ error with five significant digits of the value ("n/a" for

@@ -281,6 +281,13 @@ type FitDetectJ struct {
 	PValue    JFloat `json:"p_value"`
 	Sigma     JFloat `json:"sigma"`
 	Searched  bool   `json:"position_searched"`
+	// GlobalPValue and GlobalSigma are the field-wide figures of a searched position (null
+	// without a calibration); PValue and Sigma are then the local ones. Trials is the
+	// effective number of independent positions and SearchDraws the simulated searches.
+	GlobalPValue JFloat `json:"global_p_value"`
+	GlobalSigma  JFloat `json:"global_sigma"`
+	Trials       JFloat `json:"effective_trials,omitempty"`
+	SearchDraws  int    `json:"search_draws,omitempty"`
 }
 
 // FitLimitsJ gives the detection limits: the files written and the azimuthal mean and
@@ -293,6 +300,9 @@ type FitLimitsJ struct {
 	MeanDMag map[string][]JFloat `json:"dmag_mean"`
 	Worst    map[string][]JFloat `json:"dmag_worst"`
 	Scale    JFloat              `json:"chi2r_scale"`
+	// InjMeanDMag and InjWorst are the same by injection–recovery, absent unless computed.
+	InjMeanDMag map[string][]JFloat `json:"dmag_mean_injection,omitempty"`
+	InjWorst    map[string][]JFloat `json:"dmag_worst_injection,omitempty"`
 }
 
 // FitCorrJ is a correlation between two parameters.
@@ -377,7 +387,8 @@ func FitDetections(res *fit.Result, dets []*fit.Detection) []FitDetectJ {
 		}
 		out = append(out, FitDetectJ{Component: det.Comp + 1, Chi2Null: JFloat(det.Chi2Null), Chi2Alt: JFloat(det.Chi2Alt),
 			Scale: JFloat(det.Scale), Extra: det.Extra, DeltaChi2: JFloat(det.DeltaChi2), PValue: JFloat(det.PValue),
-			Sigma: JFloat(det.Sigma), Searched: searched})
+			Sigma: JFloat(det.Sigma), Searched: searched, GlobalPValue: JFloat(det.GlobalPValue), GlobalSigma: JFloat(det.GlobalSigma),
+			Trials: JFloat(det.Trials), SearchDraws: det.Draws})
 	}
 	return out
 }
@@ -391,6 +402,16 @@ func NewFitLimits(L *fit.Limits, csv, plot string) *FitLimitsJ {
 		for i := range L.Sep {
 			j.MeanDMag[name] = append(j.MeanDMag[name], JFloat(fit.DMag(L.Mean[k][i])))
 			j.Worst[name] = append(j.Worst[name], JFloat(fit.DMag(L.Worst[k][i])))
+		}
+	}
+	if in := L.Inj; in != nil {
+		j.InjMeanDMag, j.InjWorst = map[string][]JFloat{}, map[string][]JFloat{}
+		for k, s := range L.Sigmas {
+			name := sigmaName(s)
+			for i := range L.Sep {
+				j.InjMeanDMag[name] = append(j.InjMeanDMag[name], JFloat(fit.DMag(in.Mean[k][i])))
+				j.InjWorst[name] = append(j.InjWorst[name], JFloat(fit.DMag(in.Worst[k][i])))
+			}
 		}
 	}
 	return j

@@ -27,6 +27,11 @@ type FitSettings struct {
 	// SkipSignificance leaves out the significance of each component (fit.Significance, one
 	// more fit per component with free parameters).
 	SkipSignificance bool
+	// SearchDraws is the number of simulated searches that calibrate the field-wide
+	// significance of a component whose position was searched (by Grid, or by the seeded
+	// starts of a free x and y): fit.Detection.Calibrate over the field searched. 0 means
+	// 1000; a negative value leaves the calibration out (the local figures only).
+	SearchDraws int
 	// Limits, when non-nil, computes detection limits of a further point companion next to
 	// the fitted model (fit.DetectionLimits; SepMax = 0 means 3/4 of the largest constrained
 	// scale, as for Grid).
@@ -107,6 +112,11 @@ func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, erro
 			if err != nil {
 				continue // a fixed component has no significance to give
 			}
+			if s.SearchDraws >= 0 {
+				if err := calibrateSearch(d, m, det, p.Comp, s, opt); err != nil {
+					return nil, inputErrorf("significance of component %d: %v", p.Comp+1, err)
+				}
+			}
 			o.Detections = append(o.Detections, det)
 		}
 	}
@@ -124,6 +134,37 @@ func FitModel(d *dataset.Data, m *model.Model, s FitSettings) (*FitOutcome, erro
 		}
 	}
 	return o, fitErr
+}
+
+// calibrateSearch sets the field-wide significance of det, the significance of component c
+// of a fit started from m, when that component's position was searched: over the grid's
+// annulus when s.Grid is set and c is the companion it added (the last component), over the
+// box of the seeded starts when its x and y were free and several starts were made. It does
+// nothing for a position that was not searched.
+func calibrateSearch(d *dataset.Data, m *model.Model, det *fit.Detection, c int, s FitSettings, opt fit.Options) error {
+	var field fit.Field
+	switch {
+	case s.Grid != nil && c == len(m.Components)-1:
+		field = fit.Field{SepMin: s.Grid.SepMin, SepMax: s.Grid.SepMax}
+		if field.SepMax == 0 {
+			field.SepMax = 0.75 * d.Summarize().LargestScale / recon.Mas
+		}
+	case opt.Starts > 1 && hasFreePositionOf(m, c):
+		var err error
+		if field, err = fit.StartsField(d, m, opt.Use, c); err != nil {
+			return err
+		}
+	default:
+		return nil
+	}
+	_, err := det.Calibrate(d, fit.SearchOptions{Field: field, Draws: s.SearchDraws, Seed: opt.Seed})
+	return err
+}
+
+// hasFreePositionOf reports whether component c of m has both x and y free.
+func hasFreePositionOf(m *model.Model, c int) bool {
+	one := &model.Model{Components: m.Components[c : c+1]}
+	return hasFreePosition(one)
 }
 
 // hasFreePosition reports whether a component of m has both x and y free.

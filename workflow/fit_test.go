@@ -69,6 +69,9 @@ func TestFitModelSignificanceLimits(t *testing.T) {
 	if len(o.Detections) != 1 || o.Detections[0].Comp != 1 || o.Detections[0].Extra != 1 || !(o.Detections[0].Sigma > 5) {
 		t.Fatalf("detections %+v, want component 2 with 1 parameter above 5σ", o.Detections)
 	}
+	if det := o.Detections[0]; det.Draws != 0 || !math.IsNaN(det.GlobalSigma) {
+		t.Errorf("a companion at a fixed position got a field-wide figure: %d draws, %gσ", det.Draws, det.GlobalSigma)
+	}
 	L := o.Limits
 	if L == nil || len(L.Sep) != 6 || L.Sep[0] != 0 || math.Abs(L.Sep[5]-0.75*d.Summarize().LargestScale/recon.Mas) > 1e-9*L.Sep[5] {
 		t.Fatalf("limits %+v, want 6 separations from 0 to 3/4 of the largest scale", L)
@@ -270,5 +273,43 @@ func TestEmptySelectionLists(t *testing.T) {
 	want := "the files hold targets " + f.Targets[0].Name + " and instruments " + f.Wavelengths[0].InsName
 	if err == nil || !strings.Contains(err.Error(), "no usable data points") || !strings.Contains(err.Error(), want) {
 		t.Errorf("error %v, want %q", err, want)
+	}
+}
+
+// A companion found by the grid search, and one whose free position the seeded starts
+// searched, get a field-wide significance from simulated searches (SearchDraws of them),
+// below the local one for a faint companion; a negative SearchDraws leaves it out.
+func TestFitModelSearchCalibrated(t *testing.T) {
+	d := binaryData(t)
+	grid := &fit.GridOptions{SepMin: 1, SepMax: 10, NSep: 20, NPA: 36, Ratio: 0.05}
+	for _, c := range []struct {
+		name  string
+		model string
+		set   FitSettings
+		draws int
+	}{
+		{"grid", "ud:diameter~2", FitSettings{Grid: grid, SearchDraws: 300}, 300},
+		{"starts", "ud:diameter~2;point:x~1,y~1,flux~0.1(0..1)", FitSettings{SearchDraws: 300}, 300},
+		{"none", "ud:diameter~2", FitSettings{Grid: grid, SearchDraws: -1}, 0},
+	} {
+		m, err := model.Load(c.model)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c.set.Fit.Use = dataset.Vis2 | dataset.T3Phi
+		o, err := FitModel(d, m, c.set)
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		if len(o.Detections) != 1 {
+			t.Fatalf("%s: detections %+v", c.name, o.Detections)
+		}
+		det := o.Detections[0]
+		if det.Draws != c.draws {
+			t.Errorf("%s: %d simulated searches, want %d", c.name, det.Draws, c.draws)
+		}
+		if c.draws > 0 && !(det.GlobalSigma <= det.Sigma && det.GlobalSigma > 0 && det.Trials > 1) {
+			t.Errorf("%s: local %gσ, field-wide %gσ over %g effective positions", c.name, det.Sigma, det.GlobalSigma, det.Trials)
+		}
 	}
 }

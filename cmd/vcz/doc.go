@@ -91,13 +91,19 @@ the covariance (also in -json and the -save-model file). The significance of
 each component (-no-significance skips it) is the χ² of the model without it
 against the χ² with it, rescaled so that the latter's χ²ᵣ is 1, as a p-value
 of the χ² distribution with the component's number of free parameters and a
-Gaussian-equivalent σ; it holds at a given position, a searched position
-reaches it by chance more often, and calibration errors inflate it.
--smearing on (or auto) averages the model over each channel's band, as
-images do; the default, off, takes it at the channel's centre.
+Gaussian-equivalent σ; that local figure holds at a given position. A
+searched position (-grid-search, or free x and y with several starts)
+reaches it by chance more often, so it also gets a field-wide figure, the
+chance that noise alone gives so large a Δχ² anywhere in the searched field,
+from -search-draws simulated searches on the data's (u,v) points and error
+bars. Calibration errors outside the error bars inflate both.
+-smearing (auto by default, as for images; on, off) averages the model over
+each channel's band.
 -limits PREFIX writes detection limits of a further point companion, the
 3σ and 5σ Δmag against separation (mean and worst over position angle), as
-PREFIX.csv and PREFIX.png, on a -limits-nsep × -limits-npa grid. A
+PREFIX.csv and PREFIX.png, on a -limits-nsep × -limits-npa grid;
+-limits-injection adds limits by injection–recovery of fake companions
+into the data beside them. A
 component whose x and y are both free gets 16 starts (-starts), seeded from
 the minima of a quick χ² map of its position, so a companion is found from a
 poor guess; -grid-search maps χ² of a point companion over separation and

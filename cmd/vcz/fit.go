@@ -40,11 +40,13 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	limits := fs.String("limits", "", "write detection limits of a further point companion: PREFIX.csv and PREFIX.png (3σ and 5σ Δmag against separation)")
 	limNSep := fs.Int("limits-nsep", 50, "number of separations of the -limits grid (over -grid-sep)")
 	limNPA := fs.Int("limits-npa", 50, "number of position angles of the -limits grid (over 360°)")
+	limInj := fs.Bool("limits-injection", false, "also give the -limits by injection–recovery of fake companions into the data")
 	strict := registerStrict(fs)
 	boot := registerResampling(fs, "also give each parameter's bootstrap error: this many refits of the data resampled with replacement (0: none)")
 	bootK := boot.k
 	smearing := fs.String("smearing", "auto", "bandwidth smearing of the model: auto (averaged over each band where that exceeds the noise for a source as large as λ/B_min), on, or off (each channel at its centre)")
 	noSig := fs.Bool("no-significance", false, "skip the significance of each component (one more fit per component)")
+	searchDraws := fs.Int("search-draws", 1000, "simulated searches that give the field-wide significance of a searched companion (0: local figures only)")
 	fs.Bool("quiet", false, quietUsage+"; fit prints nothing else there")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
@@ -101,6 +103,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	} else if sm != recon.SmearOff {
 		fitSet.Fit.Smearing = &sm
 	}
+	if fitSet.SearchDraws = *searchDraws; *searchDraws == 0 {
+		fitSet.SearchDraws = -1
+	} else if *searchDraws < 0 {
+		return badInputf("fit: -search-draws %d must not be negative", *searchDraws)
+	}
 	if *bootK < 0 {
 		return badInputf("fit: -bootstrap %d must not be negative", *bootK)
 	}
@@ -120,7 +127,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		sepMin, sepMax = lo/recon.Mas, hi/recon.Mas
 	}
 	if *limits != "" {
-		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA}
+		fitSet.Limits = &fit.LimitOptions{SepMin: sepMin, SepMax: sepMax, NSep: *limNSep, NPA: *limNPA, Injection: *limInj}
 	}
 	if *grid {
 		fitSet.Grid = &fit.GridOptions{NSep: *gridNSep, NPA: *gridNPA, Ratio: *gridRatio, Refit: *gridRefit, SepMin: sepMin, SepMax: sepMax}

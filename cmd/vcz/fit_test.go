@@ -444,7 +444,7 @@ func TestFitLimits(t *testing.T) {
 	data := simulatedFile(t, "ud:diameter=2.5")
 	prefix := filepath.Join(t.TempDir(), "lim")
 	stdout, errs, code := runCmd(t, "fit", "-model", "ud:diameter~2.5", "-limits", prefix, "-grid-sep", "1mas:20mas",
-		"-limits-nsep", "10", "-limits-npa", "12", "-json", data)
+		"-limits-nsep", "10", "-limits-npa", "12", "-limits-injection", "-json", data)
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -453,7 +453,7 @@ func TestFitLimits(t *testing.T) {
 		t.Fatal(err)
 	}
 	l := s.Limits
-	if l == nil || len(l.Sep) != 10 || l.Sep[0] != 1 || l.Sep[9] != 20 || len(l.MeanDMag["3σ"]) != 10 {
+	if l == nil || len(l.Sep) != 10 || l.Sep[0] != 1 || l.Sep[9] != 20 || len(l.MeanDMag["3σ"]) != 10 || len(l.InjMeanDMag["5σ"]) != 10 {
 		t.Fatalf("limits %+v", l)
 	}
 	for i := range l.Sep {

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"vcz/dataset"
+	"vcz/recon/model"
 )
 
 // Detection is the significance of a component: the χ² of the model
@@ -33,6 +34,50 @@ type Detection struct {
 	// outside which a normal variable falls with probability PValue (so
 	// 3σ is a p-value of 0.27 %).
 	DeltaChi2, PValue, Sigma float64
+	// GlobalPValue and GlobalSigma are the field-wide p-value and σ of a
+	// component whose position was searched, the chance that noise alone
+	// gives so large a Δχ² anywhere in the searched field (Calibrate);
+	// NaN until Calibrate sets them. PValue and Sigma are then the local
+	// figures, those of the one position found.
+	GlobalPValue, GlobalSigma float64
+	// Trials is the effective number of independent positions of the
+	// search (Calibration.Trials) and Draws the number of simulated
+	// searches; 0 without a calibration.
+	Trials float64
+	Draws  int
+
+	null     *model.Model     // the best fit without the component
+	use      dataset.DataType // the data types fitted
+	twoSided bool             // the component's flux may be negative
+}
+
+// Calibrate sets the field-wide significance of the component tested,
+// whose position was searched over opt.Field: CalibrateSearch simulates
+// the search on the data's (u,v) points and error bars with the best fit
+// without the component, and the component's Δχ² is referred to the
+// distribution of the largest Δχ² of those searches. opt.TwoSided is set
+// from the component's flux bound. It returns the calibration.
+func (det *Detection) Calibrate(d *dataset.Data, opt SearchOptions) (*Calibration, error) {
+	if det.null == nil {
+		return nil, errors.New("fit: significance: no fit without the component to calibrate the search with")
+	}
+	opt.TwoSided = det.twoSided
+	cal, err := CalibrateSearch(d, det.null, det.use, opt)
+	if err != nil {
+		return nil, err
+	}
+	det.SetGlobal(cal)
+	return cal, nil
+}
+
+// SetGlobal sets the field-wide significance from a calibration of the
+// search (CalibrateSearch), never above the local one.
+func (det *Detection) SetGlobal(cal *Calibration) {
+	det.GlobalPValue, det.GlobalSigma = cal.PValue(det.DeltaChi2)
+	if det.GlobalPValue < det.PValue {
+		det.GlobalPValue, det.GlobalSigma = det.PValue, det.Sigma
+	}
+	det.Trials, det.Draws = cal.Trials, cal.Draws
 }
 
 // Significance returns the significance of component c of the fit res:
@@ -56,6 +101,7 @@ func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection,
 	null := res.Model.Clone()
 	null.Components = append(null.Components[:c:c], null.Components[c+1:]...)
 	var chi2Null float64
+	nullFit := null
 	if len(null.Refs(true)) == 0 {
 		if err := null.Validate(); err != nil {
 			return nil, err
@@ -71,9 +117,14 @@ func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection,
 			return nil, fmt.Errorf("fit: significance: the model without component %d: %w", c+1, err)
 		}
 		chi2Null = r0.Chi2
+		nullFit = r0.Model
 	}
 	det := NewDetection(chi2Null, res.Chi2, res.DOF, extra)
 	det.Comp = c
+	det.null, det.use = nullFit, res.Use
+	if p, err := res.Model.Param(model.Ref{Comp: c, Name: "flux"}); err == nil {
+		det.twoSided = p.Free && p.Min < 0
+	}
 	return det, nil
 }
 
@@ -97,7 +148,8 @@ func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection,
 // there. Calibration errors outside the error bars are not random at
 // each point and inflate the significance.
 func NewDetection(chi2Null, chi2Alt float64, dof, extra int) *Detection {
-	det := &Detection{Chi2Null: chi2Null, Chi2Alt: chi2Alt, DOF: dof, Extra: extra, Scale: 1}
+	det := &Detection{Chi2Null: chi2Null, Chi2Alt: chi2Alt, DOF: dof, Extra: extra, Scale: 1,
+		GlobalPValue: math.NaN(), GlobalSigma: math.NaN()}
 	if dof > 0 && chi2Alt > 0 {
 		det.Scale = chi2Alt / float64(dof)
 	}

@@ -2,6 +2,7 @@ package fit
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -455,6 +456,29 @@ func TestDeterministic(t *testing.T) {
 	for i := range a.Params {
 		if a.Params[i].Value != b.Params[i].Value {
 			t.Fatalf("%s: %v then %v", a.Params[i].Ref, a.Params[i].Value, b.Params[i].Value)
+		}
+	}
+}
+
+// A start on a bound of a parameter is a stationary point of the change
+// of variables (and d = 0 one of the disc's visibility, dV/dd = 0): the
+// fit must still move from there. Starts at the lower domain bound of the
+// diameter, at an upper bound given by the user, and at a lower bound
+// given by the user, on noiseless data of a 3.1 mas disc (exact model
+// visibilities of discs of 0.8, 1.5 and 3.1 mas), must all recover the
+// truth.
+func TestStartOnBound(t *testing.T) {
+	for _, diam := range []float64{0.8, 1.5, 3.1} {
+		d := synth(modelVis(mustLoad(t, fmt.Sprintf("ud:diameter=%g", diam))), exactNoise)
+		for _, start := range []string{"ud:diameter~0", "ud:diameter~6(0..6)", "ud:diameter~0.5(0.5..5)"} {
+			res, err := Fit(d, mustLoad(t, start), Options{})
+			if err != nil {
+				t.Errorf("%g mas from %s: %v", diam, start, err)
+				continue
+			}
+			if got := res.Params[0].Value; math.Abs(got-diam) > 1e-6 || res.Chi2r > 1e-10 {
+				t.Errorf("%g mas from %s: diameter %g after %d iterations (χ²ᵣ %g)", diam, start, got, res.Iterations, res.Chi2r)
+			}
 		}
 	}
 }

@@ -37,6 +37,10 @@ type LimitOptions struct {
 	// companion's signal moves Δχ² by about ±2√Δχ² from position to
 	// position.
 	FromData bool
+	// Injection also gives limits by injection–recovery (Limits.Inj):
+	// companions injected into these data, then detected at the injected
+	// position (see DetectionLimits).
+	Injection bool
 }
 
 // Limits are detection limits of a point companion next to a model: at
@@ -55,10 +59,20 @@ type Limits struct {
 	// Worst[k][isep] the largest (NaN when a position angle has none);
 	// 1 − Worst is reached at every angle.
 	Mean, Worst [][]float64
+	// Inj holds the limits by injection–recovery, with the layout of
+	// Ratio, Mean and Worst; nil unless LimitOptions.Injection.
+	Inj *InjLimits
 	// Chi2 and DOF are those of the model, Scale = Chi2/DOF the χ²ᵣ by
 	// which every χ² is divided.
 	Chi2, Scale float64
 	DOF         int
+}
+
+// InjLimits are detection limits by injection–recovery: Ratio[k] the map
+// at Limits.Sigmas[k] (row-major, as Limits.Ratio), Mean[k] and Worst[k]
+// its mean and largest value over position angle at each separation.
+type InjLimits struct {
+	Ratio, Mean, Worst [][]float64
 }
 
 // DetectionLimits computes detection limits of a point companion next
@@ -88,6 +102,26 @@ type Limits struct {
 // up to a factor 1.4 in flux in the tests. The model's visibilities are
 // computed once; each trial costs one complex multiply-add per frequency,
 // the residuals of the data and P dot products.
+//
+// With LimitOptions.Injection the limits are also found by
+// injection–recovery (the second method of Absil et al. 2011, sect. 4):
+// a companion of ratio f is injected into the data at each position,
+// the data thus becoming the data plus the companion's signal (in the
+// residuals: r_inj(M) = r(M) − (r(M_f) − r(M₀)), M₀ the model and M_f
+// the model with the companion, exact in the companion and to first
+// order in the noise), and it is recovered when the detection at that
+// position reaches nσ: Δχ² between the model without a companion and
+// with one of free flux at the injected position, both with the model's
+// parameters refitted to first order as above and the flux by one
+// Gauss–Newton step from the injected value, reaches the threshold. The
+// limit is the smallest f recovered, found as above. Unlike the χ²
+// limits, these follow the noise of these data: to first order Δχ² =
+// (f|g| − s)², g the companion's signal per unit ratio and s ~ N(0, 1)
+// the noise along it, so the injection limit is the χ² limit times
+// 1 + s/√Δχ²_n at each position; where the data alone reach the
+// threshold (s² ≥ Δχ²_n, a candidate companion) the limit is the floor
+// 10⁻⁶. A trial costs one evaluation of the residuals, and a position
+// two more.
 func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, error) {
 	var err error
 	if opt.NSep, opt.NPA, err = checkPolarGrid("detection limits", opt.SepMin, opt.SepMax, opt.NSep, opt.NPA, 50, 50); err != nil {
@@ -166,6 +200,62 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 	for range opt.Sigmas {
 		L.Ratio = append(L.Ratio, make([]float64, opt.NSep*opt.NPA))
 	}
+	// Injection–recovery: r_inj(M) = r(M) − (r(M_f) − r₀). Without a
+	// companion (refitted): |P⊥(2r₀ − r_f)|²; with the injected one,
+	// refitted by one Gauss–Newton step in its flux: |P⊥r₀|² − (r₀·ĝ)²,
+	// ĝ the unit vector of P⊥ ∂r/∂f. ∂r/∂f is taken once per position, at
+	// f = 0 (central differences): at f it differs by O(f), which moves
+	// only the small term (r₀·ĝ)².
+	var injAt func(f float64) float64
+	var injStart func() // prepares ĝ at a new position
+	if opt.Injection {
+		L.Inj = &InjLimits{}
+		for range opt.Sigmas {
+			L.Inj.Ratio = append(L.Inj.Ratio, make([]float64, opt.NSep*opt.NPA))
+		}
+		rf := make([]float64, t.Len())
+		rh := make([]float64, t.Len())
+		a := make([]float64, t.Len())
+		perp := func(x []float64) float64 { // |P⊥x|², P⊥x written to x
+			for _, b := range q {
+				p := dot(b, x)
+				for i := range x {
+					x[i] -= p * b[i]
+				}
+			}
+			return dot(x, x)
+		}
+		copy(a, r0)
+		chi2Truth := perp(a)
+		at := func(dst []float64, f float64) {
+			cf, ci := complex(f, 0), complex(1/(1+f), 0)
+			for i := range vis {
+				vis[i] = (v0[i] + cf*ec[i]) * ci
+			}
+			t.Eval(dst, vis)
+		}
+		chi2Alt := chi2Truth
+		injStart = func() {
+			const h = 1e-6
+			at(rf, h)
+			at(rh, -h)
+			for i := range rh {
+				rh[i] = (rf[i] - rh[i]) / (2 * h)
+			}
+			chi2Alt = chi2Truth
+			if g2 := perp(rh); g2 > 0 {
+				p := dot(r0, rh)
+				chi2Alt -= p * p / g2
+			}
+		}
+		injAt = func(f float64) float64 {
+			at(rf, f)
+			for i := range a {
+				a[i] = 2*r0[i] - rf[i]
+			}
+			return (perp(a) - chi2Alt) / L.Scale
+		}
+	}
 	for ip, pa := range L.PA {
 		s, c := math.Sincos(pa * math.Pi / 180)
 		for is, sep := range L.Sep {
@@ -182,15 +272,40 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 					lo = f // a higher threshold is reached further out
 				}
 			}
+			if injAt != nil {
+				// Δχ² = (f|g| − s)² to first order dips before it rises;
+				// the first root lies on the rising side, so a higher
+				// threshold is reached further out, as above.
+				injStart()
+				lo := limitFloor
+				for k, thr := range L.Threshold {
+					f := limitRatio(injAt, thr, lo)
+					L.Inj.Ratio[k][ip*opt.NSep+is] = f
+					if k+1 < len(L.Threshold) && L.Threshold[k+1] >= thr && f > lo {
+						lo = f
+					}
+				}
+			}
 		}
 	}
-	for k := range opt.Sigmas {
-		mean := make([]float64, opt.NSep)
-		worst := make([]float64, opt.NSep)
-		for is := range L.Sep {
+	L.Mean, L.Worst = azimuthal(L.Ratio, opt.NSep, opt.NPA)
+	if L.Inj != nil {
+		L.Inj.Mean, L.Inj.Worst = azimuthal(L.Inj.Ratio, opt.NSep, opt.NPA)
+	}
+	return L, nil
+}
+
+// azimuthal returns the mean and the largest of each map of ratios over
+// position angle at each separation (NaN where a position angle has no
+// limit: the largest is then NaN, the mean that of the others).
+func azimuthal(ratio [][]float64, nsep, npa int) (means, worsts [][]float64) {
+	for k := range ratio {
+		mean := make([]float64, nsep)
+		worst := make([]float64, nsep)
+		for is := 0; is < nsep; is++ {
 			sum, n, w := 0.0, 0, 0.0
-			for ip := range L.PA {
-				r := L.Ratio[k][ip*opt.NSep+is]
+			for ip := 0; ip < npa; ip++ {
+				r := ratio[k][ip*nsep+is]
 				if math.IsNaN(r) {
 					w = math.NaN()
 					continue
@@ -205,10 +320,10 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 			}
 			worst[is] = w
 		}
-		L.Mean = append(L.Mean, mean)
-		L.Worst = append(L.Worst, worst)
+		means = append(means, mean)
+		worsts = append(worsts, worst)
 	}
-	return L, nil
+	return means, worsts
 }
 
 // limitFloor is the smallest flux ratio DetectionLimits gives.
@@ -261,14 +376,21 @@ func DMag(ratio float64) float64 {
 // WriteCSV writes the azimuth-averaged limits as CSV: a header line and
 // one row per separation with the separation in mas, then for each
 // significance the mean flux ratio over position angle, its Δmag, the
-// largest ratio over position angle and its Δmag; cells with no limit
-// are empty.
+// largest ratio over position angle and its Δmag, then the same by
+// injection–recovery (columns named injection_3sigma and so on) when
+// computed; cells with no limit are empty.
 func (L *Limits) WriteCSV(w io.Writer) error {
 	cw := csv.NewWriter(w)
 	head := []string{"separation_mas"}
 	for _, s := range L.Sigmas {
 		n := strconv.FormatFloat(s, 'g', -1, 64) + "sigma"
 		head = append(head, "ratio_mean_"+n, "dmag_mean_"+n, "ratio_worst_"+n, "dmag_worst_"+n)
+	}
+	if L.Inj != nil {
+		for _, s := range L.Sigmas {
+			n := "injection_" + strconv.FormatFloat(s, 'g', -1, 64) + "sigma"
+			head = append(head, "ratio_mean_"+n, "dmag_mean_"+n, "ratio_worst_"+n, "dmag_worst_"+n)
+		}
 	}
 	if err := cw.Write(head); err != nil {
 		return err
@@ -283,6 +405,11 @@ func (L *Limits) WriteCSV(w io.Writer) error {
 		row := []string{num(sep)}
 		for k := range L.Sigmas {
 			row = append(row, num(L.Mean[k][is]), num(DMag(L.Mean[k][is])), num(L.Worst[k][is]), num(DMag(L.Worst[k][is])))
+		}
+		if in := L.Inj; in != nil {
+			for k := range L.Sigmas {
+				row = append(row, num(in.Mean[k][is]), num(DMag(in.Mean[k][is])), num(in.Worst[k][is]), num(DMag(in.Worst[k][is])))
+			}
 		}
 		if err := cw.Write(row); err != nil {
 			return err

@@ -127,25 +127,7 @@ func (pr *problem) scanComponent(x0 []float64, c, ix, iy, k int) []scanMin {
 	}
 	// Grid: step and extent in mas.
 	step := 1 / (3 * qmax) / model.MasToRad
-	reach := math.Max(0.75/qmin/model.MasToRad, 1.5*math.Hypot(x0[ix], x0[iy]))
-	span := func(lo, hi float64) (float64, float64) {
-		a, b := lo, hi
-		if math.IsInf(a, -1) {
-			a = -reach
-			if !math.IsInf(hi, 1) {
-				a = math.Min(a, hi-2*reach)
-			}
-		}
-		if math.IsInf(b, 1) {
-			b = reach
-			if !math.IsInf(lo, -1) {
-				b = math.Max(b, lo+2*reach)
-			}
-		}
-		return a, b
-	}
-	xlo, xhi := span(pr.lo[ix], pr.hi[ix])
-	ylo, yhi := span(pr.lo[iy], pr.hi[iy])
+	xlo, xhi, ylo, yhi := scanBox(qmin, x0[ix], x0[iy], pr.lo[ix], pr.hi[ix], pr.lo[iy], pr.hi[iy])
 	if !(xhi >= xlo && yhi >= ylo) {
 		return nil
 	}
@@ -310,4 +292,32 @@ func pickMinima(chi []float64, nx, ny, k int, sep float64) []int {
 		}
 	}
 	return out
+}
+
+// scanBox returns the box (mas) that the position map of a component
+// started at (x, y) with bounds [xlo0, xhi0] × [ylo0, yhi0] spans: the
+// bounds, or ±0.75/qmin (qmin the shortest spatial frequency, cycles per
+// radian) and at least 1.5 times the start separation where a bound is
+// missing (see scanComponent).
+func scanBox(qmin, x, y, xlo0, xhi0, ylo0, yhi0 float64) (xlo, xhi, ylo, yhi float64) {
+	reach := math.Max(0.75/qmin/model.MasToRad, 1.5*math.Hypot(x, y))
+	span := func(lo, hi float64) (float64, float64) {
+		a, b := lo, hi
+		if math.IsInf(a, -1) {
+			a = -reach
+			if !math.IsInf(hi, 1) {
+				a = math.Min(a, hi-2*reach)
+			}
+		}
+		if math.IsInf(b, 1) {
+			b = reach
+			if !math.IsInf(lo, -1) {
+				b = math.Max(b, lo+2*reach)
+			}
+		}
+		return a, b
+	}
+	xlo, xhi = span(xlo0, xhi0)
+	ylo, yhi = span(ylo0, yhi0)
+	return
 }
