@@ -140,6 +140,34 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 			}
 			names[tname[tid]] = true
 		}
+		// channels reads the channels of row r of an OI_T3 or OI_VIS table (k) of instrument
+		// ins: it counts the flagged and unusable ones in count and appends each usable one
+		// to set; the caller appends their (u, v), and whatever else its table has, for the
+		// wavelengths added to set.
+		channels := func(k ampPhaseCols, set ampPhaseSet, count *Counts, hdu, r int, ins string, w *oifits.Wavelength, tid int, mjd float64,
+			amp, ampErr, phi, phiErr []float64, flag []bool, wantAmp, wantPhi bool) error {
+			for c, l := range w.EffWave {
+				if !waveOK(l) {
+					continue
+				}
+				if flag[c] {
+					count.Flagged++
+					continue
+				}
+				v, err := k.channel(f.Name, hdu, r, c, amp, ampErr, phi, phiErr, wantAmp, wantPhi)
+				if err != nil {
+					return err
+				}
+				if !v.ampOK && !v.phiOK {
+					count.NonFinite++
+					continue
+				}
+				count.Valid++
+				v.appendTo(set, l, w.EffBand[c], mjd, Origin{File: fi, HDU: hdu, Row: r, Channel: c})
+				use(ins, w, c, tid)
+			}
+			return nil
+		}
 		width := func(ext string, hdu, row int, col string, got, n int) error {
 			if got != n {
 				return bad(ext, hdu, row, col, "%s has %d values for %d channels", col, got, n)
@@ -217,35 +245,16 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						return nil, err
 					}
 					uvOK := finite(row.U1Coord) && finite(row.V1Coord) && finite(row.U2Coord) && finite(row.V2Coord)
-					for c := 0; c < nw; c++ {
-						l := w.EffWave[c]
-						if !waveOK(l) {
-							continue
-						}
-						if row.Flag[c] {
-							d.T3Count.Flagged++
-							continue
-						}
-						v, err := t3Cols.channel(f.Name, tb.HDU, r+1, c, row.Amp, row.AmpErr, row.Phi, row.PhiErr, types&T3Amp != 0 && uvOK, types&T3Phi != 0 && uvOK)
-						if err != nil {
-							return nil, err
-						}
-						if !v.ampOK && !v.phiOK {
-							d.T3Count.NonFinite++
-							continue
-						}
-						d.T3Count.Valid++
-						p := &d.T3
-						p.U1 = append(p.U1, row.U1Coord/l)
-						p.V1 = append(p.V1, row.V1Coord/l)
-						p.U2 = append(p.U2, row.U2Coord/l)
-						p.V2 = append(p.V2, row.V2Coord/l)
-						p.Lambda = append(p.Lambda, l)
-						p.DLambda = append(p.DLambda, w.EffBand[c])
-						p.MJD = append(p.MJD, row.MJD)
-						v.appendTo(&p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK)
-						p.Origin = append(p.Origin, Origin{File: fi, HDU: tb.HDU, Row: r + 1, Channel: c})
-						use(tb.InsName, w, c, row.TargetID)
+					p := &d.T3
+					set := ampPhaseSet{&p.Lambda, &p.DLambda, &p.MJD, &p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK, &p.Origin}
+					n0 := len(p.Lambda)
+					if err := channels(t3Cols, set, &d.T3Count, tb.HDU, r+1, tb.InsName, w, row.TargetID, row.MJD, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag,
+						types&T3Amp != 0 && uvOK, types&T3Phi != 0 && uvOK); err != nil {
+						return nil, err
+					}
+					for _, l := range p.Lambda[n0:] {
+						p.U1, p.V1 = append(p.U1, row.U1Coord/l), append(p.V1, row.V1Coord/l)
+						p.U2, p.V2 = append(p.U2, row.U2Coord/l), append(p.V2, row.V2Coord/l)
 					}
 				}
 			}
@@ -279,35 +288,16 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						return nil, err
 					}
 					uvOK := finite(row.UCoord) && finite(row.VCoord)
-					for c := 0; c < nw; c++ {
-						l := w.EffWave[c]
-						if !waveOK(l) {
-							continue
-						}
-						if row.Flag[c] {
-							d.VisCount.Flagged++
-							continue
-						}
-						v, err := visCols.channel(f.Name, tb.HDU, r+1, c, row.Amp, row.AmpErr, row.Phi, row.PhiErr, types&VisAmp != 0 && uvOK, types&VisPhi != 0 && uvOK)
-						if err != nil {
-							return nil, err
-						}
-						if !v.ampOK && !v.phiOK {
-							d.VisCount.NonFinite++
-							continue
-						}
-						d.VisCount.Valid++
-						p := &d.Vis
-						p.U = append(p.U, row.UCoord/l)
-						p.V = append(p.V, row.VCoord/l)
-						p.Lambda = append(p.Lambda, l)
-						p.DLambda = append(p.DLambda, w.EffBand[c])
-						p.MJD = append(p.MJD, row.MJD)
-						v.appendTo(&p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK)
-						p.AmpTyp = append(p.AmpTyp, at)
-						p.PhiTyp = append(p.PhiTyp, pt)
-						p.Origin = append(p.Origin, Origin{File: fi, HDU: tb.HDU, Row: r + 1, Channel: c})
-						use(tb.InsName, w, c, row.TargetID)
+					p := &d.Vis
+					set := ampPhaseSet{&p.Lambda, &p.DLambda, &p.MJD, &p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK, &p.Origin}
+					n0 := len(p.Lambda)
+					if err := channels(visCols, set, &d.VisCount, tb.HDU, r+1, tb.InsName, w, row.TargetID, row.MJD, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag,
+						types&VisAmp != 0 && uvOK, types&VisPhi != 0 && uvOK); err != nil {
+						return nil, err
+					}
+					for _, l := range p.Lambda[n0:] {
+						p.U, p.V = append(p.U, row.UCoord/l), append(p.V, row.VCoord/l)
+						p.AmpTyp, p.PhiTyp = append(p.AmpTyp, at), append(p.PhiTyp, pt)
 					}
 				}
 			}
@@ -393,12 +383,23 @@ func (k ampPhaseCols) channel(file string, hdu, row, c int, amp, ampErr, phi, ph
 	return v, nil
 }
 
-// appendTo appends v to the parallel slices of a point set.
-func (v ampPhase) appendTo(amp, ampErr, phi, phiErr *[]float64, ampOK, phiOK *[]bool) {
-	*amp = append(*amp, v.a)
-	*ampErr = append(*ampErr, v.ae)
-	*phi = append(*phi, v.ph)
-	*phiErr = append(*phiErr, v.pe)
-	*ampOK = append(*ampOK, v.ampOK)
-	*phiOK = append(*phiOK, v.phiOK)
+// ampPhaseSet points at the slices that the points of OI_T3 and OI_VIS tables share.
+type ampPhaseSet struct {
+	lambda, dlambda, mjd, amp, ampErr, phi, phiErr *[]float64
+	ampOK, phiOK                                   *[]bool
+	origin                                         *[]Origin
+}
+
+// appendTo appends v, at wavelength l of bandwidth dl and date mjd, from o, to s.
+func (v ampPhase) appendTo(s ampPhaseSet, l, dl, mjd float64, o Origin) {
+	*s.lambda = append(*s.lambda, l)
+	*s.dlambda = append(*s.dlambda, dl)
+	*s.mjd = append(*s.mjd, mjd)
+	*s.amp = append(*s.amp, v.a)
+	*s.ampErr = append(*s.ampErr, v.ae)
+	*s.phi = append(*s.phi, v.ph)
+	*s.phiErr = append(*s.phiErr, v.pe)
+	*s.ampOK = append(*s.ampOK, v.ampOK)
+	*s.phiOK = append(*s.phiOK, v.phiOK)
+	*s.origin = append(*s.origin, o)
 }

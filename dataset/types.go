@@ -145,8 +145,7 @@ func (t DataType) Index() int {
 func tableWord(table string) string { return strings.ToLower(strings.TrimPrefix(table, "OI_")) }
 
 // typeWords lists the words ParseDataTypes accepts, in table order, each table's word after
-// its types when the table holds more than one: vis2, t3amp, t3phi, t3, visamp, visphi,
-// visdiff, vis.
+// its types when the table holds more than one (t3 after t3amp and t3phi).
 func typeWords() []string {
 	var w []string
 	for i, r := range typeTable {
@@ -159,12 +158,11 @@ func typeWords() []string {
 	return w
 }
 
-// ParseDataTypes reads a comma-separated list of data types, each given by its word (vis2,
-// t3amp, t3phi, visamp, visphi, visdiff) or by the word of its OIFITS table for all the types
-// of that table (t3 for t3amp and t3phi, vis for visamp, visphi and visdiff), in any case,
-// blanks ignored. The
-// error names the unknown word; it carries no package prefix, since it is about the user's
-// text.
+// ParseDataTypes reads a comma-separated list of data types, each given by its word
+// (TypeInfo.Word, e.g. vis2 or t3phi) or by the word of its OIFITS table for all the types of
+// that table (t3 for t3amp and t3phi, likewise vis), in any case, blanks ignored. The error
+// names the unknown word and lists the known ones; it carries no package prefix, since it is
+// about the user's text.
 func ParseDataTypes(s string) (DataType, error) {
 	var t DataType
 	for _, w := range strings.Split(s, ",") {

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"vcz/dataset"
+	"vcz/recon/model"
 )
 
 // Grid is a square image grid: N×N pixels of Pixel radians, laid out as CONVENTIONS.md says.
@@ -185,24 +186,6 @@ func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 // Mas is one milliarcsecond in radians.
 const Mas = math.Pi / (180 * 3600 * 1000)
 
-// UniformDiscV returns the visibility of a uniform disc of angular diameter theta (rad) at
-// spatial frequency q (cycles/rad): 2·J1(x)/x with x = π·θ·q (Born & Wolf, Principles of
-// Optics, sect. 8.5.2).
-func UniformDiscV(theta, q float64) float64 {
-	x := math.Pi * theta * q
-	if math.Abs(x) < 1e-8 {
-		return 1 - x*x/8
-	}
-	return 2 * math.J1(x) / x
-}
-
-// GaussianV returns the visibility of a circular Gaussian of FWHM fwhm (rad) at spatial
-// frequency q: exp(−(π·fwhm·q)²/(4 ln 2)), the Fourier transform of a Gaussian.
-func GaussianV(fwhm, q float64) float64 {
-	x := math.Pi * fwhm * q
-	return math.Exp(-x * x / (4 * math.Ln2))
-}
-
 // fitSize fits a uniform disc and a Gaussian to the V² data by 1-D least squares on the
 // diameter (FWHM) and returns the better model and the object size: the disc diameter or twice
 // the Gaussian FWHM (which holds all but 1/16 of the peak). At most 2000 points are used, taken
@@ -271,8 +254,8 @@ func fitSize(d *dataset.Data) (string, float64, bool) {
 		th := (a + b) / 2
 		return th, chi2(vis, th)
 	}
-	tu, cu := best(UniformDiscV)
-	tg, cg := best(GaussianV)
+	tu, cu := best(model.UniformDiscV)
+	tg, cg := best(model.GaussianV)
 	if cu <= cg {
 		return "uniform disc", tu, true
 	}

@@ -95,13 +95,13 @@ func TestParseList(t *testing.T) {
 	for in, want := range map[string]string{
 		"":             "no regularizer named",
 		" , ":          "no regularizer named",
-		"bogus":        `unknown regularizer "bogus" (use mem, tv, smooth, compact, priordist)`,
+		"bogus":        `unknown regularizer "bogus" (use ` + NameList() + ")",
 		"mem:2":        "regularizer mem: the first term's weight is 1 by definition; set the overall weight with -weight",
 		"mem,tv:0":     `regularizer tv: relative weight "0" must be a positive number`,
 		"mem,tv:x":     `regularizer tv: relative weight "x" must be a positive number`,
 		"mem,tv:-1":    `regularizer tv: relative weight "-1" must be a positive number`,
 		"mem,tv:NaN":   `regularizer tv: relative weight "NaN" must be a positive number`,
-		"tv,mem,other": `unknown regularizer "other" (use mem, tv, smooth, compact, priordist)`,
+		"tv,mem,other": `unknown regularizer "other" (use ` + NameList() + ")",
 	} {
 		if _, err := ParseList(in); err == nil || err.Error() != want {
 			t.Errorf("ParseList(%q): error %v, want %q", in, err, want)

@@ -187,6 +187,13 @@ func TestDefaultTexts(t *testing.T) {
 // Bad values give one-line errors naming the option, the text `vcz image` gave before the
 // Spec existed; from a job file they name the key without the dash.
 func TestBadValues(t *testing.T) {
+	// The message of an unknown data type, with the list of words, is dataset's (its
+	// TestTypeTable checks it).
+	_, derr := dataset.ParseDataTypes("vis3")
+	if derr == nil {
+		t.Fatal("dataset.ParseDataTypes accepts vis3")
+	}
+	unknownVis3 := derr.Error()
 	for _, c := range []struct {
 		args []string
 		want string
@@ -197,7 +204,7 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-pixel", "-1mas"}, `-pixel "-1mas": want a positive angle such as 0.25mas`},
 		{[]string{"-fov", "0"}, `-fov "0": want a positive angle such as 12mas: "0" has no unit (use arcsec, as, deg, mas, rad, uas, µas)`},
 		{[]string{"-fov", "0mas"}, `-fov "0mas": want a positive angle such as 12mas`},
-		{[]string{"-reg", "nosuch"}, `-reg: unknown regularizer "nosuch" (use mem, tv, smooth, compact, priordist)`},
+		{[]string{"-reg", "nosuch"}, `-reg: unknown regularizer "nosuch" (use ` + regularizers.NameList() + ")"},
 		{[]string{"-reg", ""}, "-reg: no regularizer named"},
 		{[]string{"-reg", "mem:2"}, "-reg: regularizer mem: the first term's weight is 1 by definition; set the overall weight with -weight"},
 		{[]string{"-prior", "gauss:-1"}, `-prior: prior "gauss:-1": size must be a positive angle such as 3mas`},
@@ -208,9 +215,9 @@ func TestBadValues(t *testing.T) {
 		{[]string{"-start", "ld:1mas:2"}, `-start: "ld:1mas:2": the limb-darkening coefficient must be in [0, 1]`},
 		{[]string{"-support", "-3mas"}, `-support "-3mas": want a positive radius such as 3mas`},
 		{[]string{"-data-weights", "vis2"}, `-data-weights: "vis2": want TYPE=WEIGHT`},
-		{[]string{"-data-weights", "vis3=1"}, `-data-weights: unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
+		{[]string{"-data-weights", "vis3=1"}, "-data-weights: " + unknownVis3},
 		{[]string{"-data-weights", "vis2=0"}, `-data-weights: "vis2=0": the weight must be a positive number (leave a data type out with -use)`},
-		{[]string{"-use", "vis3"}, `-use "vis3": unknown data type "vis3" (use vis2, t3amp, t3phi, t3, visamp, visphi, visdiff, vis)`},
+		{[]string{"-use", "vis3"}, `-use "vis3": ` + unknownVis3},
 		{[]string{"-use", ","}, `-use ",": no data type given`},
 		{[]string{"-iter", "-1"}, "-iter -1 must not be negative"},
 		{[]string{"-starts", "-1"}, "-starts -1 must not be negative"},
@@ -470,7 +477,11 @@ func TestProblemOptions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != (recon.Weights{2, 1, 1, 1, 1, 1}) || p.Support != 3*mas || p.Weight != 50 {
+	weights := recon.Weights{2} // and 1, the default, for every other type
+	for i := 1; i < len(weights); i++ {
+		weights[i] = 1
+	}
+	if p.Terms.Use != dataset.Vis2|dataset.T3Phi || p.Terms.Weights != weights || p.Support != 3*mas || p.Weight != 50 {
 		t.Errorf("problem %+v", p)
 	}
 	if st.MaxIter != 99 || st.Seed != 7 || st.Starts != 2 || !st.CoarseToFine || !st.NoAmplitudeFirst || st.Workers != 3 {

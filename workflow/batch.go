@@ -93,7 +93,7 @@ func newRow(e *Epoch) batch.Row {
 func (b *Batch) failed(e *Epoch, row batch.Row, t0 time.Time, err error) batch.Row {
 	row.Error = output.OneLine(err.Error())
 	row.Seconds = time.Since(t0).Seconds()
-	os.Remove(filepath.Join(b.Out, e.Name+".status.json"))
+	os.Remove(epochFile(b.Out, e.Name, "", extStatus))
 	return row
 }
 
@@ -110,7 +110,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if err != nil {
 		return fail(err)
 	}
-	statusPath := filepath.Join(b.Out, e.Name+".status.json")
+	statusPath := epochFile(b.Out, e.Name, "", extStatus)
 	if !b.Force {
 		if st, ok := batch.Complete(statusPath, hash); ok {
 			r := st.Row
@@ -133,7 +133,7 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if err != nil {
 		return fail(err)
 	}
-	fitsPath := filepath.Join(b.Out, e.Name+".fits")
+	fitsPath := epochFile(b.Out, e.Name, "", extFITS)
 	// The old status goes before any output of the epoch is rewritten, so that a run
 	// killed between the new FITS and the new status cannot pass the old one's check.
 	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
@@ -185,7 +185,7 @@ func image(dir, suffix string, r batch.Row, mem *fitsimage.Image) (*fitsimage.Im
 	if mem != nil {
 		return mem, nil
 	}
-	return fitsimage.ReadFile(filepath.Join(dir, r.Epoch+suffix+".fits"))
+	return fitsimage.ReadFile(epochFile(dir, r.Epoch, suffix, extFITS))
 }
 
 // WriteMontage draws the done rows' images on one colour scale with the display stretch s
@@ -224,10 +224,10 @@ func WriteMontage(dir, suffix string, rows []batch.Row, images []*fitsimage.Imag
 		title = fmt.Sprintf("%d epochs", len(frames))
 	}
 	opt := preview.Options{Title: title, Pixel: pix, ColorbarLabel: "flux per pixel", Stretch: s}
-	if err := preview.WriteMontage(filepath.Join(dir, "montage"+suffix+".png"), frames, opt); err != nil {
+	if err := preview.WriteMontage(montageFile(dir, suffix), frames, opt); err != nil {
 		return err
 	}
-	return preview.WriteGIF(filepath.Join(dir, "epochs"+suffix+".gif"), frames, opt)
+	return preview.WriteGIF(animationFile(dir, suffix), frames, opt)
 }
 
 // mjdLabel gives the dates of a row, or "" when its MJD range is unknown (0).
@@ -245,7 +245,7 @@ func Collect(dirs []string) (*batch.Summary, error) {
 	var parts []*batch.Summary
 	seen := map[string]bool{}
 	for _, d := range dirs {
-		m, _ := filepath.Glob(filepath.Join(d, "summary-*-of-*.json"))
+		m, _ := filepath.Glob(filepath.Join(d, shardSummaries))
 		for _, p := range m {
 			if abs, _ := filepath.Abs(p); seen[abs] {
 				continue
@@ -270,6 +270,19 @@ func Collect(dirs []string) (*batch.Summary, error) {
 		return nil, inputErrorf("batch -collect: %v", err)
 	}
 	return sum, nil
+}
+
+// CollectShards merges the shard summaries found in dirs (Collect) into out/summary.json and
+// .csv and draws the montage and animation of the merged epochs from their files.
+func CollectShards(out string, dirs []string, st preview.Stretch) (*ShardRun, error) {
+	sum, err := Collect(dirs)
+	if err != nil {
+		return nil, err
+	}
+	if err := WriteSummary(out, summaryName, sum); err != nil {
+		return nil, err
+	}
+	return &ShardRun{Summary: sum, Name: summaryName, Montage: WriteMontage(out, "", sum.Rows, nil, "", st)}, nil
 }
 
 // WriteSummary writes s as NAME.json and NAME.csv in dir.
@@ -299,7 +312,7 @@ type ShardRun struct {
 // epoch set from which no grid can be chosen keeps each epoch's own choice, and each epoch
 // then fails on its own.
 func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(Event, *EpochResult)) (*ShardRun, error) {
-	sr := &ShardRun{Name: "summary"}
+	sr := &ShardRun{Name: summaryName}
 	for _, e := range all {
 		if sh.Take(e.Index) {
 			sr.Epochs = append(sr.Epochs, e)
@@ -321,7 +334,7 @@ func (b *Batch) RunShard(all []*Epoch, sh batch.Shard, joint bool, events func(E
 	}
 	sr.Summary = &batch.Summary{Shard: sh.String(), Epochs: len(all), Rows: rows}
 	if sh.N > 1 {
-		sr.Name = fmt.Sprintf("summary-%d-of-%d", sh.K, sh.N)
+		sr.Name = shardSummary(sh)
 	}
 	if err := WriteSummary(b.Out, sr.Name, sr.Summary); err != nil {
 		return nil, err

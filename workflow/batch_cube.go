@@ -53,7 +53,7 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 	if err != nil {
 		return fail(err)
 	}
-	fitsPath := filepath.Join(b.Out, e.Name+".fits")
+	fitsPath := epochFile(b.Out, e.Name, "", extFITS)
 	// As in runEpoch: the old status goes before any output is rewritten.
 	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
 		return fail(err)

@@ -279,3 +279,14 @@ func solveFinite(p recon.Problem, s recon.Settings) (*recon.Result, error) {
 	}
 	return res, nil
 }
+
+// Failed returns the names of the runs that failed, in order.
+func (c *Comparison) Failed() []string {
+	var names []string
+	for _, r := range c.Runs {
+		if r.Err != nil {
+			names = append(names, r.Name)
+		}
+	}
+	return names
+}

@@ -1,13 +1,47 @@
 package workflow
 
 import (
+	"bytes"
 	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"vcz/dataset"
+	"vcz/io/oifits"
+	"vcz/io/safefile"
 
 	"vcz/io/preview"
 	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/simulate"
 )
+
+// DemoData writes the demo data set, the OIFITS bytes data, into dir (made if missing) as
+// vaeloris.oifits and returns its path with the file decoded and its points. An error of
+// the folder is an *InputError; one of the embedded bytes is not.
+func DemoData(dir string, data []byte) (string, []*oifits.File, *dataset.Data, error) {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", nil, nil, inputErrorf("demo: %v", err)
+	}
+	path := filepath.Join(dir, "vaeloris.oifits")
+	if err := safefile.Write(path, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	}); err != nil {
+		return "", nil, nil, err
+	}
+	file, err := oifits.Decode(bytes.NewReader(data), "vaeloris.oifits")
+	if err != nil {
+		return "", nil, nil, fmt.Errorf("embedded demo data: %w", err)
+	}
+	files := []*oifits.File{file}
+	d, err := dataset.FromFiles(files, dataset.Selection{})
+	if err != nil {
+		return "", nil, nil, fmt.Errorf("embedded demo data: %w", err)
+	}
+	return path, files, d, nil
+}
 
 // DemoTruth writes the model the demo data were simulated from (simulate.Demo) on the grid
 // of the demo's reconstruction run, as a FITS image at truthPath with the world

@@ -188,7 +188,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	for _, s := range cr.Path {
 		cube.Cards = append(cube.Cards, fitsimage.Card{Key: "HISTORY", Value: fmt.Sprintf("temporal weight %.6g: chi2r %.5g, sum |dx|^2 %.5g, %s", s.Weight, s.Chi2r, s.Value, map[bool]string{true: "kept", false: "rejected"}[s.Accepted])})
 	}
-	if err := fitsimage.WriteFile(filepath.Join(out, "joint.fits"), cube); err != nil {
+	if err := fitsimage.WriteFile(filepath.Join(out, jointCube), cube); err != nil {
 		return nil, err
 	}
 	for t, e := range epochs {
@@ -200,12 +200,12 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
 				{Key: "MJD-AVG", Value: (row.MJDMin + row.MJDMax) / 2, Comment: "mean MJD of the epoch"},
 			}}
-		base := filepath.Join(out, e.Name+"-joint")
-		if err := fitsimage.WriteFile(base+".fits", im); err != nil {
+		base := filepath.Join(out, e.Name+jointSuffix)
+		if err := fitsimage.WriteFile(base+extFITS, im); err != nil {
 			return nil, err
 		}
 		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas, Stretch: b.Stretch}
-		if err := preview.WriteFile(base+".png", res.Images[t], n, n, opt); err != nil {
+		if err := preview.WriteFile(base+extPNG, res.Images[t], n, n, opt); err != nil {
 			return nil, err
 		}
 	}
@@ -222,5 +222,5 @@ func (b *Batch) WriteJointMontage(results []EpochResult, jr *JointResult) error 
 		rows[t] = r.Row
 		images[t] = &fitsimage.Image{NX: n, NY: n, Pixel: jr.Grid.Pixel, Data: jr.Images[t]}
 	}
-	return WriteMontage(b.Out, "-joint", rows, images, fmt.Sprintf("%d epochs, joint (λ = %.3g)", len(results), jr.Lambda), b.Stretch)
+	return WriteMontage(b.Out, jointSuffix, rows, images, fmt.Sprintf("%d epochs, joint (λ = %.3g)", len(results), jr.Lambda), b.Stretch)
 }

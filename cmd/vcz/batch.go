@@ -1,12 +1,10 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
-	"strings"
 	"sync"
 	"time"
 
@@ -17,75 +15,6 @@ import (
 	"vcz/runspec"
 	"vcz/workflow"
 )
-
-func init() {
-	register(&command{name: "batch", summary: "image many epochs of one target: in parallel, resumable, sharded for job arrays, optionally jointly", run: runBatch})
-}
-
-const batchDoc = `Reconstruct one image per epoch with one set of settings.
-
-The epochs come from a job file (-job) or from OIFITS files given as
-arguments, split into epochs wherever consecutive observations are more than
--gap days apart (default half a day: one epoch per night). Every 'vcz image'
-option applies to all epochs; a job file may override them per epoch.
-
-Epochs run concurrently; the worker goroutines of all running epochs (their
-transforms' workers included) never exceed the number of CPUs. An epoch that
-fails is recorded with its error and the others go on; the exit status is 1
-when any failed. Each epoch's FITS header (INHASH) and its status file record
-a SHA-256 of its input files and the canonical text of its options (the
-options that differ from the defaults, the worker count left out, also in
-the FITS header as "option:" HISTORY cards); a rerun skips the epochs whose
-outputs are complete with the same hash (-force redoes them). Every file is
-written to a temporary name and renamed, and the status file last, so a run
-killed at any moment loses no finished epoch.
-
-The quality verdict of each epoch's image is printed after the summary as
-"warning: epoch NAME: ..." lines on stderr, and kept in its FITS header
-(NWARN, WARNn) and the summary; -strict makes any warning exit 1 once every
-output is written. Neither changes the hash.
-
--shard K/N takes every N-th epoch starting at the K-th; inside a SLURM job
-array the shard follows SLURM_ARRAY_TASK_ID and SLURM_ARRAY_TASK_COUNT (or
-_MIN and _MAX) unless -shard is given. Shards write summary-K-of-N.json;
-'vcz batch -collect -o DIR' merges them into DIR/summary.json and .csv and
-draws the montage and animation.
-
-Job file (TOML; paths relative to the job file):
-  output = "epochs"              output folder (-o overrides)
-  [image]                        shared settings: the 'vcz image' options,
-                                 each key the flag's name without the dash:
-    target, wave, mjd, ins, use, n, pixel, fov, reg, weight, prior, start,
-    support, tv-eps, data-weights, iter, seed, starts, coarse, no-amp-first,
-    smearing, workers, channels, spectral, star, star-index (e.g. n = 64,
-    reg = "mem,compact:0.1", coarse = true, channels = "4")
-  [[epoch]]
-    name = "night-1"             used for the output names (default epoch-NN)
-    files = ["a.oifits", "b.oifits"]
-    ...                          any [image] key, overriding it for this epoch
-
-Outputs in the folder (-o, default "batch"):
-  EPOCH.fits, EPOCH.png        image and preview of each epoch
-  EPOCH.status.json            hash, outputs and summary row of each epoch
-  summary.json, summary.csv    epoch, MJD range, points and χ²ᵣ per data type,
-                               weight, iterations, seconds, status, warnings
-                               (a list in JSON, their number in CSV), error
-  montage.png, epochs.gif      all epochs on one colour scale, with dates
-
-With channels (-channels) or a star (-star) each epoch is imaged as 'vcz
-image' does with them: EPOCH.fits is its cube (the montage and animation
-show its first plane) or its environment image, and -joint is refused.
-
-Every epoch is imaged on one grid, the finest pixel and widest field that any
-epoch's data call for (or -n and -pixel when given), so the images compare
-pixel for pixel; adding an epoch may change that grid and redo the others.
--stretch sets the display stretch of the previews, montage and animation.
-With -joint also:
-  joint.fits                   the jointly reconstructed cube (axis 3 = time:
-                               CTYPE3 TIME or TIME-TAB in MJD, each plane at the
-                               middle of its epoch; MJDnnn keys instead when the
-                               epochs are not in time order)
-  EPOCH-joint.fits/.png        its planes as images`
 
 func runBatch(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("batch", "[options] (-job FILE | FILE...)", batchDoc, stderr)
@@ -126,57 +55,21 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("batch: %v", err)
 	}
-	epochs, jobOut, err := workflow.Epochs(*job, fs.Args(), shared, *gap)
+	plan, err := workflow.PlanBatch(workflow.BatchRequest{Job: *job, Files: fs.Args(), Gap: *gap, Shared: shared, Out: *out,
+		Shard: *shardS, Joint: *joint, TemporalWeight: *tweight}, os.Getenv)
 	if err != nil {
 		return err
 	}
-	if *out == "" {
-		*out = jobOut
-	}
-	if *out == "" {
-		*out = "batch"
-	}
-	shard, err := workflow.ChooseShard(*shardS, os.Getenv)
-	if err != nil {
-		return err
-	}
-	if err := workflow.CheckEpochNames(epochs, *joint); err != nil {
-		return err
-	}
-	if err := workflow.CheckEpochFiles(epochs); err != nil {
-		return err
-	}
-	if *joint {
-		if err := workflow.CheckJoint(epochs); err != nil {
-			return err
-		}
-	}
-	if *joint && shard.N > 1 {
-		return badInputf("batch: -joint needs all epochs in one run, not shard %s", shard)
-	}
-	lambda := 0.0
-	if *joint && strings.ToLower(*tweight) != "auto" {
-		if _, err := fmt.Sscanf(*tweight, "%g", &lambda); err != nil || !(lambda > 0) {
-			return badInputf("batch: -temporal-weight %q: want a positive number or auto", *tweight)
-		}
-	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return badInputf("batch: -o: %v", err)
-	}
-	if err := workflow.CheckFolder(*out); err != nil {
-		return badInputf("batch: -o: %v", err)
-	}
+	*out = plan.Out
 	b := &workflow.Batch{Out: *out, Force: *force, Budget: *parallel, Stretch: st}
 	disp := newBatchDisplay(stderr, *quiet)
-	sr, err := b.RunShard(epochs, shard, *joint, disp.event)
+	sr, err := b.RunShard(plan.Epochs, plan.Shard, *joint, disp.event)
 	disp.finish()
 	if err != nil {
 		return err
 	}
 	sum, name := sr.Summary, sr.Name
-	if sr.Montage != nil && !*quiet {
-		fmt.Fprintf(stderr, "note: montage: %v\n", sr.Montage)
-	}
+	printMontageNote(stderr, sr, *quiet)
 	printBatchSummary(stdout, sum, *out, name, *asJSON)
 	// The verdict comes last, after the joint run's messages, whatever happens there.
 	if *joint {
@@ -188,7 +81,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *asJSON {
 			jointOut = stderr // stdout holds the JSON summary alone
 		}
-		if err := runJoint(b, sr.Epochs, sr.Results, lambda, jointOut, stderr, *quiet); err != nil {
+		if err := runJoint(b, sr.Epochs, sr.Results, plan.Lambda, jointOut, stderr, *quiet); err != nil {
 			printBatchWarnings(stderr, sum)
 			return err
 		}
@@ -213,16 +106,12 @@ func printBatchWarnings(w io.Writer, s *batch.Summary) int {
 
 // collectShards merges the shard summaries found in dirs into out/summary.json.
 func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, strict, asJSON bool, st preview.Stretch) error {
-	sum, err := workflow.Collect(dirs)
+	sr, err := workflow.CollectShards(out, dirs, st)
 	if err != nil {
 		return err
 	}
-	if err := workflow.WriteSummary(out, "summary", sum); err != nil {
-		return failure(err)
-	}
-	if err := workflow.WriteMontage(out, "", sum.Rows, nil, "", st); err != nil && !quiet {
-		fmt.Fprintf(stderr, "note: montage: %v\n", err)
-	}
+	sum := sr.Summary
+	printMontageNote(stderr, sr, quiet)
 	printBatchSummary(stdout, sum, out, "summary", asJSON)
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {
@@ -231,34 +120,20 @@ func collectShards(out string, dirs []string, stdout, stderr io.Writer, quiet, s
 	return strictFailure(strict, "batch -collect", nwarn)
 }
 
+// printMontageNote says why the montage of sr could not be drawn, unless quiet.
+func printMontageNote(w io.Writer, sr *workflow.ShardRun, quiet bool) {
+	if sr.Montage != nil && !quiet {
+		fmt.Fprintf(w, "note: montage: %v\n", sr.Montage)
+	}
+}
+
 // printBatchSummary prints the summary as a table, or with asJSON as summary.json holds it.
 func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string, asJSON bool) {
 	if asJSON {
-		enc := json.NewEncoder(w)
-		enc.SetIndent("", "  ")
-		enc.Encode(s)
+		writeJSONTo(w, s)
 		return
 	}
-	skipped, warned := 0, 0
-	for _, r := range s.Rows {
-		if r.Skipped {
-			skipped++
-		}
-		if len(r.Warnings) > 0 {
-			warned++
-		}
-	}
-	fmt.Fprintf(w, "%d of %d epochs (shard %s): %d done (%d of them found complete, %d with warnings), %d failed\n",
-		len(s.Rows), s.Epochs, s.Shard, len(s.Rows)-s.Failed(), skipped, warned, s.Failed())
-	for _, r := range s.Rows {
-		switch {
-		case r.Status != batch.StateDone:
-			fmt.Fprintf(w, "  %s FAILED: %s\n", r.Epoch, r.Error)
-		case len(r.Warnings) > 0:
-			fmt.Fprintf(w, "  %s finished with %s\n", r.Epoch, countWarnings(len(r.Warnings)))
-		}
-	}
-	fmt.Fprintf(w, "Wrote %s and %s\n", filepath.Join(dir, name+".json"), filepath.Join(dir, name+".csv"))
+	output.WriteBatchText(w, s, dir, name)
 }
 
 // batchDisplay shows the state of a batch: one line redrawn in place on a terminal, a
@@ -303,7 +178,7 @@ func (b *batchDisplay) event(ev workflow.Event, r *workflow.EpochResult) {
 		case ev.Err != nil:
 			what = "FAILED: " + ev.Err.Error()
 		case len(r.Row.Warnings) > 0:
-			what = "finished with " + countWarnings(len(r.Row.Warnings))
+			what = "finished with " + output.CountWarnings(len(r.Row.Warnings))
 		}
 		fmt.Fprintf(b.w, "%s %s (%s)\n", name, what, state)
 	}

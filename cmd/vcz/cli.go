@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -8,6 +9,7 @@ import (
 	"sort"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/workflow"
@@ -80,6 +82,9 @@ func init() {
 	for _, c := range []*command{
 		{name: "image", summary: "reconstruct an image from OIFITS data and write FITS, PNG and fit plots", run: runImage},
 		{name: "demo", summary: "reconstruct the embedded demo data set and write the results into a folder", run: runDemo},
+		{name: "compare", summary: "reconstruct with several regularizers side by side and write a report", run: runCompare},
+		{name: "batch", summary: "image many epochs of one target: in parallel, resumable, sharded for job arrays, optionally jointly", run: runBatch},
+		{name: "fit", summary: "fit parametric models (discs, limb darkening, binaries) to the data", run: runFit},
 		{name: "simulate", summary: "simulate OIFITS data of a model observed with an observing plan", run: runSimulate},
 		{name: "inspect", summary: "summarise OIFITS files: targets, data, baselines, resolution", run: runInspect},
 		{name: "version", summary: "print the version of vcz", run: runVersion},
@@ -266,4 +271,26 @@ func flagGiven(fs *flag.FlagSet, name string) bool {
 	given := false
 	fs.Visit(func(f *flag.Flag) { given = given || f.Name == name })
 	return given
+}
+
+// writeJSONTo writes v as indented JSON.
+func writeJSONTo(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+// writeJSON writes v as indented JSON; an error of writing exits 1.
+func writeJSON(w io.Writer, v any) error {
+	return failure(writeJSONTo(w, v))
+}
+
+// printNotices prints the notes of reading d, one "note: TEXT" line each, unless quiet.
+func printNotices(w io.Writer, d *dataset.Data, quiet bool) {
+	if quiet {
+		return
+	}
+	for _, n := range d.Notices {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
 }

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -16,50 +15,6 @@ import (
 	"vcz/runspec"
 	"vcz/workflow"
 )
-
-const compareDoc = `Reconstruct the same data with several regularizers (all of them by default)
-on one grid, from one start image, with the same stopping rules, and write the
-images side by side with a report, so that what agrees and what does not can
-be seen.
-
-The grid is chosen once from the data (or from -n, -pixel, -fov) and used by
-every regularizer. Each regularizer's weight is chosen automatically (the
-weight chosen from the data by the χ²ᵣ it gives) unless given with -weight (all) or
--weights (per regularizer, e.g. mem=1e4,tv=auto). The regularizers run in
-parallel: at most GOMAXPROCS goroutines in all, split between concurrent
-reconstructions and the workers of each transform; the images do not depend
-on the split.
-
-Outputs in DIR (made if missing):
-  NAME.fits, NAME.png    each regularizer's image and preview
-  NAME-lcurve.png        its weight path (misfit against regularizer value)
-  NAME-cube.fits, .png, -planes.csv  with -channels, each regularizer's cube
-                         (NAME.fits is then the gray image it started from,
-                         which the rest of the report compares)
-  compare-panel.png      all images on one colour scale, labelled
-  compare-spread.fits/.png  pixel-wise standard deviation over the mean image
-  compare-robust.fits/.png  pixel-wise minimum after aligning the images by
-                         their cross-correlation peak with the first image
-  compare-vis2.png       V² data and every regularizer's model
-  compare-t3phi.png      closure phases against the longest baseline; likewise
-                         compare-t3amp.png, -visamp.png, -visphi.png for each
-                         other data type fitted
-  compare.csv, compare.json  the table of results
-  report.html            all of the above in one self-contained page, with
-                         the display stretch and links to the FITS, CSV and
-                         JSON files (keep it in DIR for the links to work)
-
-Progress goes to stderr, one line per regularizer. A regularizer that fails
-(an error or non-finite values) is reported in the table and the report and
-the others complete; the exit status is then 1. A run that stops at the
-iteration limit is marked as not converged but does not fail. The quality
-verdict of each image follows the table as "warning: NAME: ..." lines on
-stderr, and is in its FITS header (NWARN, WARNn), the table (a count) and
-the JSON (a "warnings" list per row); -strict makes any warning exit 1.`
-
-func init() {
-	register(&command{name: "compare", summary: "reconstruct with several regularizers side by side and write a report", run: runCompare})
-}
 
 func runCompare(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("compare", "[options] FILE... -o DIR", compareDoc, stderr)
@@ -83,18 +38,12 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() == 0 {
 		return badInputf("compare: no OIFITS file given (run 'vcz compare --help')")
 	}
-	bootOpt := workflow.BootstrapOptions{Replicates: *bootK, Seed: *boot.seed}
-	if *bootK == 1 || *bootK < 0 {
-		return badInputf("compare: -bootstrap %d: want 0 (none) or at least 2 replicates", *bootK)
-	}
-	unit, err := boot.parseUnit("compare")
+	bootOpt, err := workflow.ResamplingOptions("compare", *bootK, *boot.seed, *boot.unit)
 	if err != nil {
 		return err
 	}
-	bootOpt.Unit = unit
 	if *out == "" {
-		base := filepath.Base(fs.Arg(0))
-		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-compare"
+		*out = workflow.DefaultOutput(fs.Arg(0), "-compare")
 	}
 	if *parallel < 0 {
 		return badInputf("compare: -parallel %d must not be negative", *parallel)
@@ -122,11 +71,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if !*quiet {
-		for _, n := range d.Notices {
-			fmt.Fprintf(stderr, "note: %s\n", n)
-		}
-	}
+	printNotices(stderr, d, *quiet)
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return badInputf("compare: %v", err)
 	}
@@ -151,34 +96,24 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		return failure(err)
 	}
 	if *asJSON {
-		if err := writeJSONTo(stdout, rep); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, rep); err != nil {
+			return err
 		}
 	} else {
-		printCompareTable(stdout, rep)
+		rep.WriteText(stdout)
 		fmt.Fprintf(stdout, "Wrote %s\n", filepath.Join(*out, "report.html"))
 	}
-	var failed []string
 	nwarn := 0
 	for _, r := range cmp.Runs {
-		if r.Err != nil {
-			failed = append(failed, r.Name)
-			continue
+		if r.Err == nil {
+			printWarnings(stderr, r.Name, r.Result.Warnings)
+			nwarn += len(r.Result.Warnings)
 		}
-		printWarnings(stderr, r.Name, r.Result.Warnings)
-		nwarn += len(r.Result.Warnings)
 	}
-	if len(failed) > 0 {
+	if failed := cmp.Failed(); len(failed) > 0 {
 		return failure(fmt.Errorf("compare: %d of %d regularizers failed (%s); see %s", len(failed), len(cmp.Runs), strings.Join(failed, ", "), filepath.Join(*out, "report.html")))
 	}
 	return strictFailure(*strict, "compare", nwarn)
-}
-
-// writeJSONTo writes v as indented JSON.
-func writeJSONTo(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
 }
 
 // multiProgress shows one line per regularizer on stderr. On a terminal the
@@ -282,7 +217,7 @@ func (p *multiProgress) end(i int, r *workflow.CompareRun) {
 	}
 	what := "done    "
 	if n := len(r.Result.Warnings); n > 0 {
-		what = "done with " + countWarnings(n) + ":"
+		what = "done with " + output.CountWarnings(n) + ":"
 	}
 	p.set(i, fmt.Sprintf("%s χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", what, r.Result.Chi2r, r.Result.Weight, r.Result.TotalIter, r.Seconds), true)
 }

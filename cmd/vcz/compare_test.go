@@ -179,7 +179,7 @@ func TestCompareDisc(t *testing.T) {
 		cost := func(theta float64) float64 {
 			c := 0.0
 			for i := range obs.Of(dataset.Vis2) {
-				v := recon.UniformDiscV(theta*recon.Mas, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
+				v := model.UniformDiscV(theta*recon.Mas, math.Hypot(d.Vis2.U[i], d.Vis2.V[i]))
 				c += (v*v - obs.Of(dataset.Vis2)[i]) * (v*v - obs.Of(dataset.Vis2)[i])
 			}
 			return c

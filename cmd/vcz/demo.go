@@ -1,17 +1,11 @@
 package main
 
 import (
-	"bytes"
 	_ "embed"
-	"encoding/json"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 
-	"vcz/dataset"
-	"vcz/io/oifits"
-	"vcz/io/safefile"
 	"vcz/output"
 	"vcz/runspec"
 	"vcz/workflow"
@@ -24,21 +18,6 @@ import (
 //
 //go:embed demodata/vaeloris.oifits
 var demoOIFITS []byte
-
-const demoDoc = `Reconstruct the embedded demo data set: simulated V² and closure phases of
-the invented spotted, limb-darkened giant Vaeloris observed with the invented
-six-telescope array. It writes into DIR:
-
-  vaeloris.oifits            the data (inspect or image it yourself)
-  vaeloris-image.fits, .png  the reconstruction with default settings
-  vaeloris-image-*.png       data-fit plots
-  vaeloris-truth.fits        the model the data were simulated from
-  vaeloris-compare.png       model and reconstruction side by side
-
-and prints where they are. The reconstruction is one image consistent with
-the data; compare it with the model to see what the data constrain. The
-quality verdict of the reconstruction, if it doubts the result, follows as
-"warning:" lines on stderr (and in the FITS header, NWARN and WARNn).`
 
 func runDemo(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("demo", "[-o DIR]", demoDoc, stderr)
@@ -56,24 +35,9 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 	if *asJSON {
 		text = io.Discard // stdout holds the JSON alone
 	}
-	if err := os.MkdirAll(*dir, 0o755); err != nil {
-		return badInputf("demo: %v", err)
-	}
-	dataPath := filepath.Join(*dir, "vaeloris.oifits")
-	if err := safefile.Write(dataPath, func(w io.Writer) error {
-		_, err := w.Write(demoOIFITS)
+	dataPath, files, d, err := workflow.DemoData(*dir, demoOIFITS)
+	if err != nil {
 		return err
-	}); err != nil {
-		return failure(err)
-	}
-	file, err := oifits.Decode(bytes.NewReader(demoOIFITS), "vaeloris.oifits")
-	if err != nil {
-		return failure(fmt.Errorf("embedded demo data: %w", err))
-	}
-	files := []*oifits.File{file}
-	d, err := dataset.FromFiles(files, dataset.Selection{})
-	if err != nil {
-		return failure(fmt.Errorf("embedded demo data: %w", err))
 	}
 	rep := output.NewInspectReport(d)
 	fmt.Fprintf(text, "Demo data: %s — %d V², %d closure phases, baselines %.0f–%.0f m, resolution %.3g mas\n",
@@ -85,13 +49,11 @@ func runDemo(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, sum); err != nil {
+			return err
 		}
 	} else {
-		printImageSummary(stdout, sum)
+		sum.WriteText(stdout)
 	}
 	truthPath, panel := filepath.Join(*dir, "vaeloris-truth.fits"), filepath.Join(*dir, "vaeloris-compare.png")
 	if err := workflow.DemoTruth(truthPath, panel, run); err != nil {

@@ -1,98 +1,17 @@
 package main
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"strings"
 
-	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/fit"
 	"vcz/recon/model"
 	"vcz/runspec"
 	"vcz/workflow"
 )
-
-const fitDoc = `Fit a parametric model (discs, limb-darkened discs, Gaussians, rings, point
-companions, a resolved background) to OIFITS data by least squares
-(Levenberg–Marquardt), with the same χ² per data type as 'vcz image'.
-
-The model is a TOML model file or the inline form; '~' marks a free
-parameter, '=' a fixed one, and bounds go in parentheses:
-  vcz fit -model "ld:diameter~3(1..6),u_ld=0.3" star.oifits
-  vcz fit -model "ud:diameter~1;point:x~4,y~-2,flux~0.1(0..1)" -starts 20 binary.oifits
-  vcz fit -model "ud:diameter~1" -grid-search -grid-sep 1mas:20mas -grid-ratio 0.02 star.oifits
-Run 'vcz fit -help-model' for every component and parameter.
-
-The table gives each free parameter with its 1σ uncertainty from the
-covariance matrix scaled by χ²ᵣ, the correlations above 0.5 and χ²ᵣ per data
-type. Every other component is then given relative to the brightest (the
-primary): separation (mas), position angle (degrees east of north), flux
-ratio and Δmag = −2.5 log10(ratio), with 1σ errors propagated to first order
-from the covariance; the same lines head the -save-model file and go in
--json as "pairs".
-
-The significance of each component with free parameters compares the χ²
-of the model without it (refitted) with the χ² with it, both divided by the
-χ²ᵣ with it so that it is 1; the difference is referred to the χ²
-distribution with as many degrees of freedom as the component has free
-parameters and given as a p-value and a Gaussian-equivalent σ (3σ: p =
-0.27 %). That local figure is calibrated for a component at a given
-position. When its position was searched (-grid-search, or free x and y
-with several starts) chance alone reaches a given local σ far more often,
-so a field-wide figure is given beside it: the chance that noise alone
-gives so large a Δχ² anywhere in the searched field, from -search-draws
-simulated searches (noise drawn with these (u,v) points and error bars
-around the best fit without the component; first order in the noise and
-the companion's flux). Quote the field-wide figure for a companion that
-was searched for. Calibration errors outside the error bars inflate both.
--no-significance skips them.
-
-Binaries are multi-modal in separation and position angle: when a
-component's x and y are both free, the fit makes 16 starts (-starts) and
-keeps the best. The extra starts are seeded from a quick χ² map of that
-position over the field (a few trial fluxes, the other parameters at their
-start values): the companion is placed at the lowest well-separated minima
-of the map, so a poor start guess still finds it without -grid-search.
-
--grid-search maps χ² of a point companion of fixed flux ratio over
-separation and position angle (east of north) next to the model, reports the
-best cell, then fits the model plus a companion started there (its x, y and
-flux free).
-
--limits PREFIX gives detection limits of a further point companion next to
-the fitted model, taken as the truth with its errors scaled to χ²ᵣ = 1: at
-each of -limits-nsep × -limits-npa positions (separations over -grid-sep),
-the flux ratio whose companion would change χ² by the Δχ² of a 3σ and a 5σ
-detection (3 degrees of freedom: its position and flux), the model's free
-parameters refitted to first order. PREFIX.csv gives the mean and worst
-ratio and Δmag over position angle at each separation, PREFIX.png plots Δmag
-against separation. With -limits-injection they are also found by
-injection–recovery: a companion of each trial ratio is added to the data at
-each position and counts as recovered when its detection there (its flux
-and the model refitted) reaches 3σ or 5σ. These follow the noise of these
-data at each position, the χ² limits what the observations are expected to
-reach; the two agree on average.
-
-Outputs with -o PREFIX: PREFIX-vis2.png (V² data and model), PREFIX-t3phi.png
-(closure phases) and likewise PREFIX-t3amp.png, PREFIX-visamp.png and
-PREFIX-visphi.png for each data type fitted, PREFIX-residuals.png (normalised
-residuals) and, with
--grid-search, PREFIX-grid.png (the χ² map). -write-image writes the fitted
-model as a FITS image, usable as a prior or start image of 'vcz image'.
--save-model FILE.toml writes the fitted model as a model file (best-fit
-values, free parameters still free, 1σ in comments): 'vcz fit -model
-FILE.toml' refits from it, and 'vcz image -from-model FILE.toml' takes its
-grid and start image from it.
-
-Exit status: 0 on success, 1 when the fit did not converge (results are
-still printed), 2 for bad options, files or model.`
-
-func init() {
-	register(&command{name: "fit", summary: "fit parametric models (discs, limb darkening, binaries) to the data", run: runFit})
-}
 
 func runFit(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("fit", "-model SPEC [options] FILE...", fitDoc, stderr)
@@ -224,51 +143,14 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		}
 		return failure(fitErr)
 	}
-	res, g := fo.Result, fo.Grid
-	sum := output.NewFitSummary(res, fo.Starts)
-	if b := fo.Boot; b != nil {
-		sum.AddBootstrap(output.FitBootJ{K: b.K, Done: b.Done, Unit: b.Unit.String(), Seed: b.Seed}, b.Params, b.Sep, b.PA, b.Ratio)
-	}
-	sum.Detections = output.FitDetections(res, fo.Detections)
-	if g != nil {
-		sum.Grid = &output.FitGridJ{Ratio: *gridRatio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
-			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
-	}
-	if *limits != "" {
-		if sum.Limits, err = fo.WriteLimits(*limits, d); err != nil {
-			return failure(err)
-		}
-	}
-	if *plotPrefix != "" {
-		written, err := output.FitPlots(files, d, res, g, *plotPrefix)
-		sum.Plots = append(sum.Plots, written...)
-		if err != nil {
-			return failure(err)
-		}
-	}
-	if *writeImage != "" {
-		px := 0.0
-		if *pixel != "" {
-			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
-				return badInputf("fit: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
-			}
-		}
-		if err := fo.WriteImage(*writeImage, *n, px, files, d); err != nil {
-			return err // an *InputError exits 2, any other error 1
-		}
-		sum.Image = *writeImage
-	}
-	if *saveModel != "" {
-		if err := fo.SaveModel(*saveModel, fs.Args()); err != nil {
-			return failure(err)
-		}
-		sum.ModelFile = *saveModel
+	sum, err := fo.Report(fitSet, workflow.FitFiles{Plots: *plotPrefix, Limits: *limits, Image: *writeImage, N: *n, Pixel: *pixel,
+		Model: *saveModel, Data: fs.Args()}, files, d)
+	if err != nil {
+		return err // an *InputError exits 2, any other error 1
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, sum); err != nil {
+			return err
 		}
 	} else {
 		sum.WriteText(stdout, *n)

@@ -1,82 +1,19 @@
 package main
 
 import (
-	"encoding/json"
 	"flag"
-	"fmt"
 	"io"
-	"path/filepath"
 	"strings"
 
 	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/output"
-	"vcz/recon"
 	"vcz/runspec"
 	"vcz/workflow"
 )
 
-const imageDoc = `Reconstruct an image from one or more OIFITS files (merged into one data set)
-and write it as a FITS image with world coordinates, a PNG preview and plots
-of the fit to the data.
-
-The grid, the start image and the regularization weight are chosen from the
-data unless given: the pixel is a quarter of the nominal resolution
-λmin/(2·Bmax), the field three times the size of a disc or Gaussian fitted to
-V², and the weight the one at which χ²ᵣ of the data lies three tenths of the
-way from the floor that the least-regularized images reach to its expected
-value (1, or a little less where phases have large errors): images with more
-free pixels than the data constrain fit some of the noise.
--from-model FILE takes the object's size from a model file instead (one
-written by 'vcz fit -save-model', or 'vcz fit -json' output): the field is
-three times the diameter of the circle holding the model (largest component
-offset plus radius), and the start image is the model's image. -fov, -n,
--pixel and -start still override.
-
-The image is one solution consistent with the data, not a photograph:
-features smaller than the resolution λ/(2·Bmax) are not constrained, and a
-feature is only trusted when it survives a change of regularizer.
-
-A quality verdict follows the summary: one "warning:" line on stderr for
-each reason to doubt the image (χ²ᵣ well above its expected value, a run
-stopped at -iter while still improving, a weight at the edge of the searched
-range, starts that disagree, a data type fitted far worse), also in the FITS
-header (NWARN, WARN1, ...) and in "warnings" of -json. -strict makes any
-warning exit with status 1, after every output is written.
-
-Outputs (OUT defaults to the first file's name with -image.fits):
-  OUT.fits            the image, normalised to a total flux of 1, with provenance
-  OUT.png             preview: north up, east left, scale bar, resolution circle
-  OUT-vis2.png        V² data and model against spatial frequency
-  OUT-t3phi.png       closure phases, data and model; likewise OUT-t3amp.png,
-                      OUT-visamp.png and OUT-visphi.png for each other data
-                      type fitted (data coloured by wavelength)
-  OUT-residuals.png   residuals normalised by their errors
-  OUT-lcurve.png      the weight path, when the weight was chosen automatically
-
-Image cubes over wavelength: -channels all (one plane per channel), K (K
-groups of adjacent channels) or a list such as 1-4,5-8 (channels numbered by
-increasing wavelength) fits one image per group to that group's data, with
-the spatial regularizer in each plane and -spectral across planes (smooth:
-quadratic differences between neighbouring planes; joint: a support shared
-by all planes). The gray image of all channels comes first and sets the
-grid, the start and the spatial weight, shared among the planes by their
-numbers of data. The outputs are then:
-  OUT.fits            the cube, spectral axis WAVE (m), χ²ᵣ of each plane (CHI2Rnnn)
-  OUT.png             the planes on one colour scale, labelled with their wavelengths
-  OUT-planes.csv      per plane: wavelengths, data, χ²ᵣ, photocentre and size (mas)
-  OUT-planes.png      photocentre and second-moment size against wavelength
-  OUT-spectrum.png    total flux of each plane, only with correlated fluxes (V²
-                      and closure phases are normalised and say nothing of it)
-
--star point|DIAMETER (with -channels, best all) fits instead a star whose
-flux goes as λ to the power -star-index (default -4) plus one image of its
-environment with its own fitted spectral index: OUT.fits is the environment,
-with the star's share of the flux at the mean wavelength (STARF0) and the
-indices (STARIDX, ENVIDX) in the header.` + bootstrapDoc
-
 func runImage(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("image", "[options] FILE...", imageDoc, stderr)
+	fs := newFlagSet("image", "[options] FILE...", imageDoc+bootstrapDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.All)
 	stretch := registerStretch(fs)
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
@@ -114,8 +51,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		inputs = rr.Files
 		rerunSpec = &rr.Spec
 		if *out == "" {
-			base := filepath.Base(*rerun)
-			*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-rerun.fits"
+			*out = workflow.DefaultOutput(*rerun, "-rerun.fits")
 		}
 	}
 	if len(inputs) == 0 {
@@ -126,23 +62,10 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *out == "" {
-		base := filepath.Base(inputs[0])
-		*out = strings.TrimSuffix(base, filepath.Ext(base)) + "-image.fits"
+		*out = workflow.DefaultOutput(inputs[0], "-image.fits")
 	}
-	if err := workflow.CheckOutputs(*out); err != nil {
+	if err := workflow.CheckImageOutput(*out, append(append([]string(nil), inputs...), *rerun), breq.Requested()); err != nil {
 		return err
-	}
-	outPaths := []string{*out}
-	if breq.requests {
-		outPaths = append(outPaths, bootstrapPaths(*out)...)
-	}
-	if err := workflow.CheckNotInputs(append(append([]string(nil), inputs...), *rerun), outPaths...); err != nil {
-		return err
-	}
-	if output.Stem(*out) == *out {
-		// The image is FITS; its preview and plots are named from the FITS path. A name
-		// like star.png used to receive FITS bytes, with the preview in star.png.png.
-		return badInputf("image: -o %s: the image is written as FITS: give a name ending in .fits (the PNG preview and plots go beside it)", *out)
 	}
 	st, err := output.ParseStretch(*stretch)
 	if err != nil {
@@ -163,7 +86,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	}
 	outs := output.Outputs{NoPNG: *noPNG, NoPlots: *noPlots, Stretch: st}
 	if !spec.Channels.Single() {
-		if breq.requests {
+		if breq.Requested() {
 			return badInputf("image: -bootstrap is not available for image cubes (-channels)")
 		}
 		return runCube(files, d, spec, outs, *out, *quiet, *asJSON, *strict, stdout, stderr)
@@ -172,22 +95,24 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	var bs *BootstrapSummary
-	if breq.requests {
-		if bs, err = runBootstrap(breq, fs.Args(), files, d, spec, run, outs, *out, *quiet, stderr); err != nil {
+	var bs *workflow.BootstrapSummary
+	if breq.Requested() {
+		im, err := workflow.NewImage(files, d, spec)
+		if err != nil {
+			return err
+		}
+		if bs, err = im.ImageBootstrap(breq, fs.Args(), run, outs, *out, bootstrapEvents(stderr, *quiet)); err != nil {
 			return err
 		}
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
-			return failure(err)
+		if err := writeJSON(stdout, bootstrapJSON{ImageSummary: sum, Bootstrap: bs}); err != nil {
+			return err
 		}
 	} else {
-		printImageSummary(stdout, sum)
+		sum.WriteText(stdout)
 		if bs != nil {
-			printBootstrap(stdout, bs)
+			bs.WriteText(stdout)
 		}
 	}
 	printWarnings(stderr, "", sum.Warnings)
@@ -213,67 +138,12 @@ func reconstruct(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs 
 	if err != nil {
 		return output.ImageSummary{}, output.Run{}, err
 	}
-	if !quiet {
-		for _, n := range d.Notices {
-			fmt.Fprintf(stderr, "note: %s\n", n)
-		}
-	}
+	printNotices(stderr, d, quiet)
 	prog := newProgressLine(stderr, quiet)
-	run, paths, err := im.Run(outs, out, func(pr recon.Progress) bool {
-		prog.report(pr)
-		return true
-	})
+	run, paths, err := im.Run(outs, out, prog.follow)
 	prog.done()
 	if err != nil {
 		return output.ImageSummary{}, output.Run{}, failure(err)
 	}
 	return output.NewImageSummary(run, paths), run, nil
-}
-
-func printImageSummary(w io.Writer, s output.ImageSummary) {
-	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas (field %.4g mas)\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas, s.Grid.FOVMas)
-	for _, r := range s.Grid.Reasons {
-		fmt.Fprintf(w, "  - %s\n", r)
-	}
-	how := "given"
-	if s.WeightAuto {
-		plural := "s"
-		if len(s.Path) == 1 {
-			plural = ""
-		}
-		how = fmt.Sprintf("chosen from %d weight%s: χ²ᵣ aimed at %.3g, between %.3g of the least-regularized images and its expected value %.3g", len(s.Path), plural, s.Chi2rAim, s.Chi2rFloor, s.Chi2rTarget)
-	}
-	fmt.Fprintf(w, "Regularizer: %s, weight %.4g (%s)\n", s.Regularizer, s.Weight, how)
-	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g in total", s.Chi2r)
-	for _, t := range dataset.DataTypes() {
-		name := t.String()
-		if c, ok := s.Chi2ByType[name]; ok {
-			fmt.Fprintf(w, "; %s %.4g (%d)", name, c.Chi2r, c.N)
-		}
-	}
-	fmt.Fprintln(w)
-	conv := "converged"
-	if !s.Converged {
-		conv = "NOT converged"
-	}
-	switch {
-	case len(s.Warnings) > 0:
-		// The verdict doubts the result: the line must not read as a success.
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), finished with %s (stop: %s), %.1f s\n", s.Iterations, s.TotalIter, countWarnings(len(s.Warnings)), stopText(s.Status), s.Seconds)
-	case s.Converged:
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s, %.1f s\n", s.Iterations, s.TotalIter, s.Status, s.Seconds)
-	default:
-		fmt.Fprintf(w, "Optimizer:   %d iterations (%d in all runs), %s: %s, %.1f s\n", s.Iterations, s.TotalIter, conv, s.Status, s.Seconds)
-	}
-	for _, n := range s.Notices {
-		fmt.Fprintf(w, "Note:        %s\n", n)
-	}
-	fmt.Fprintf(w, "Wrote %s\n", s.Outputs.FITS)
-	if s.Outputs.PNG != "" {
-		fmt.Fprintf(w, "Wrote %s\n", s.Outputs.PNG)
-	}
-	for _, p := range s.Outputs.Plots {
-		fmt.Fprintf(w, "Wrote %s\n", p)
-	}
-	fmt.Fprintln(w, "The image is one solution consistent with the data; structure below the resolution is not constrained.")
 }

@@ -12,6 +12,7 @@ import (
 	"vcz/io/fitsfile/fitstest"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
+	"vcz/output"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
 )
@@ -45,7 +46,7 @@ func TestImageCube(t *testing.T) {
 	if code := run([]string{"image", "-channels", "3", "-n", "32", "-iter", "40", "-quiet", "-json", "-o", out, in}, &stdout, &stderr); code != 0 {
 		t.Fatalf("exit %d\n%s", code, stderr.String())
 	}
-	var sum cubeSummary
+	var sum output.CubeSummary
 	if err := json.Unmarshal(stdout.Bytes(), &sum); err != nil {
 		t.Fatalf("%v\n%s", err, stdout.String())
 	}

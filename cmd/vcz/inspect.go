@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -11,23 +10,6 @@ import (
 	"vcz/runspec"
 	"vcz/workflow"
 )
-
-const inspectDoc = `Summarise one or more OIFITS files, merged into one data set: targets,
-instruments with their wavelength range and channel count, the number of
-points per data type (valid, flagged, non-finite), baseline lengths, the
-nominal resolution λmin/(2·Bmax), the largest constrained scale λmax/Bmin, a
-suggested pixel size and grid, and the MJD range with the number of nights;
-then, for each night and instrument, the date, array, OIFITS revision,
-stations, the number of distinct baselines and closure triangles, and for each
-data type the number of points, their errors (median and range) and median
-signal-to-noise ratio (-json: "breakdown").
-
-With -o DIR it also writes DIR/uv.png (the (u,v) coverage) and, for each
-data type present, DIR/<type>.png against spatial frequency (vis2.png,
-t3phi.png for closure phases against the longest baseline of the triangle,
-t3amp.png, visamp.png, visphi.png), coloured by instrument when there are
-several, else by wavelength; V² and amplitudes that span more than two decades
-on a logarithmic axis.`
 
 func runInspect(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("inspect", "[options] FILE...", inspectDoc, stderr)
@@ -65,11 +47,9 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 		rep.Plots = paths
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		return enc.Encode(rep)
+		return writeJSON(stdout, rep)
 	}
-	printInspect(&escaper{w: stdout}, rep)
+	rep.WriteText(&escaper{w: stdout})
 	return nil
 }
 
@@ -97,57 +77,4 @@ func (e *escaper) Write(p []byte) (int, error) {
 		return 0, err
 	}
 	return len(p), nil
-}
-
-func printInspect(w io.Writer, r output.InspectReport) {
-	fmt.Fprintf(w, "Files:          %s\n", strings.Join(r.Files, ", "))
-	fmt.Fprintf(w, "Targets:        %s\n", output.OrNone(strings.Join(r.Targets, ", ")))
-	fmt.Fprintf(w, "Instruments:\n")
-	for _, in := range r.Instruments {
-		fmt.Fprintf(w, "  %-20s %3d channels, %.4g–%.4g µm\n", in.Name, in.Channels, in.MinUm, in.MaxUm)
-	}
-	if len(r.Instruments) == 0 {
-		fmt.Fprintf(w, "  (none with selected data)\n")
-	}
-	fmt.Fprintf(w, "Data points:    %-8s %8s %8s %10s\n", "", "valid", "flagged", "non-finite")
-	for _, c := range []struct {
-		name string
-		c    output.InspectCounts
-	}{{"V²", r.Vis2}, {"closure", r.T3}, {"vis", r.Vis}} {
-		fmt.Fprintf(w, "                %-8s %8d %8d %10d\n", c.name, c.c.Valid, c.c.Flagged, c.c.NonFinite)
-	}
-	fmt.Fprintf(w, "(closure = OI_T3 triangle-channels, vis = OI_VIS baseline-channels)\n")
-	if r.Baseline.Max == 0 {
-		fmt.Fprintf(w, "No valid data points: nothing to image.\n")
-	} else {
-		fmt.Fprintf(w, "Baselines:      %.4g – %.4g m (%.4g – %.4g Mλ)\n", r.Baseline.Min, r.Baseline.Max, r.Frequency.Min, r.Frequency.Max)
-		fmt.Fprintf(w, "Wavelengths:    %.4g – %.4g µm\n", r.Wavelength.Min, r.Wavelength.Max)
-		fmt.Fprintf(w, "Resolution:     %.4g mas (λmin/(2·Bmax))\n", r.Resolution)
-		if r.Largest > 0 {
-			fmt.Fprintf(w, "Largest scale:  %.4g mas (λmax/Bmin)\n", r.Largest)
-		}
-		if r.Grid.N > 0 {
-			fmt.Fprintf(w, "Suggested grid: %d × %d pixels of %.4g mas (field %.4g mas)\n", r.Grid.N, r.Grid.N, r.Grid.PixelMas, r.Grid.FOVMas)
-			for _, why := range r.Grid.Reasons {
-				fmt.Fprintf(w, "  - %s\n", why)
-			}
-		}
-		fmt.Fprintf(w, "MJD:            %.5f – %.5f (%d night%s)\n", r.MJD.Min, r.MJD.Max, r.Nights, plural(r.Nights))
-	}
-	if len(r.Breakdown) > 0 {
-		fmt.Fprintf(w, "By night and instrument:\n%s", output.BreakdownText(r.Breakdown))
-	}
-	for _, n := range r.Notices {
-		fmt.Fprintf(w, "Note: %s\n", n)
-	}
-	for _, p := range r.Plots {
-		fmt.Fprintf(w, "Wrote %s\n", p)
-	}
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }

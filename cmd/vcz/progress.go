@@ -73,6 +73,12 @@ func newProgressLine(w io.Writer, quiet bool) *progressLine {
 	return &progressLine{w: w, tty: isTerminal(w), started: time.Now()}
 }
 
+// follow is report as a progress function of a run: it never stops the run.
+func (p *progressLine) follow(pr recon.Progress) bool {
+	p.report(pr)
+	return true
+}
+
 // report shows the state after an iteration: stage, iteration, objective, total χ²ᵣ and
 // χ²ᵣ of each data type fitted, weight and time. It is safe for concurrent use.
 func (p *progressLine) report(pr recon.Progress) {

@@ -1,38 +1,13 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
-	"strings"
 
-	"vcz/dataset"
-	"vcz/io/fitsimage"
-	"vcz/io/oifits"
-	"vcz/output"
-	"vcz/recon"
 	"vcz/recon/model"
 	"vcz/recon/simulate"
-	"vcz/runspec"
 	"vcz/workflow"
 )
-
-const simulateDoc = `Simulate interferometric data of a model observed with an observing plan and
-write them as an OIFITS v2 file. The model is either analytic components
-(-model, a TOML file or the inline form below) or a FITS image (-image, any
-pixel scale; its world coordinates are read with east to the left), or a
-chromatic model (-chromatic, a TOML file of components with spectral indices
-and rotating discs emitting a line; write "visdiff" in the plan for differential
-phases).
-
-Examples:
-  vcz simulate -plan examples/plan-six-demo.toml -model examples/vaeloris.toml -o demo.oifits
-  vcz simulate -plan plan.toml -model "ud:diameter=3;point:x=6,y=2,flux=0.05" -o binary.oifits
-  vcz simulate -plan plan.toml -image truth.fits -o sim.oifits
-
-Run 'vcz simulate -help-plan' for every key of a plan file,
-'vcz simulate -help-model' for the model forms and components and
-'vcz simulate -help-chromatic' for chromatic models.`
 
 func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("simulate", "-plan PLAN.toml (-model MODEL | -image FILE.fits) -o OUT.oifits", simulateDoc, stderr)
@@ -73,120 +48,17 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if *planPath == "" || *out == "" {
 		return badInputf("simulate: -plan and -o are required (run 'vcz simulate --help')")
 	}
-	if given := btoi(*modelSpec != "") + btoi(*imagePath != "") + btoi(*chromPath != ""); given != 1 {
-		return badInputf("simulate: give exactly one of -model, -image and -chromatic")
+	text := stdout
+	if *asJSON {
+		text = io.Discard // stdout holds the JSON alone
 	}
-	if *writeImage != "" && *modelSpec == "" {
-		return badInputf("simulate: -write-image needs -model")
-	}
-	if *n < 2 || *n%2 != 0 || *n > 4096 {
-		return badInputf("simulate: -n %d must be an even number from 2 to 4096", *n)
-	}
-	if err := workflow.CheckOutputs(*out, *writeImage); err != nil {
-		return err
-	}
-	if err := workflow.CheckNotInputs([]string{*planPath, *modelSpec, *imagePath, *chromPath}, *out, *writeImage); err != nil {
-		return err
-	}
-	plan, err := simulate.LoadPlan(*planPath)
+	sum, err := workflow.Simulate(workflow.SimulateRequest{Plan: *planPath, Model: *modelSpec, Image: *imagePath, Chromatic: *chromPath,
+		Out: *out, Seed: *seed, SeedGiven: flagGiven(fs, "seed"), WriteImage: *writeImage, N: *n, Pixel: *pixel}, text)
 	if err != nil {
-		return badInput(err)
-	}
-	if flagGiven(fs, "seed") {
-		plan.Seed = *seed
-	}
-	var sky simulate.Sky
-	var m *model.Model
-	if *modelSpec != "" {
-		if m, err = model.Load(*modelSpec); err != nil {
-			return badInputf("simulate: -model: %v", err)
-		}
-		sky = simulate.ModelSky{Model: m}
-	} else if *chromPath != "" {
-		cs, err := simulate.LoadChromatic(*chromPath)
-		if err != nil {
-			return badInputf("simulate: -chromatic: %v", err)
-		}
-		sky = cs
-	} else {
-		im, err := fitsimage.ReadFile(*imagePath)
-		if err != nil {
-			return badInput(err)
-		}
-		sky = simulate.ImageSky{NX: im.NX, NY: im.NY, Pixel: im.Pixel, Data: im.Data}
-	}
-	f, rep, err := simulate.Run(plan, sky)
-	if err != nil {
-		return badInput(err)
-	}
-	if err := oifits.WriteFile(*out, f); err != nil {
-		return failure(err)
-	}
-	sum := simulateSummary{Output: *out, HourAngles: rep.HourAngles, Skipped: rep.Skipped, SkippedHourAngles: append([]float64{}, rep.SkippedHourAngles...),
-		Stations: rep.Stations, Baselines: rep.Baselines, Triangles: rep.Triangles, Channels: rep.Channels,
-		Points:      map[string]int{"vis2": rep.Vis2, "t3": rep.T3, "vis": rep.Vis, "visdiff": rep.Diff},
-		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected}
-	if !*asJSON {
-		fmt.Fprint(stdout, rep.String())
-		fmt.Fprintf(stdout, "Wrote %s\n", *out)
-	}
-	if *writeImage != "" {
-		px := 0.0
-		if *pixel != "" {
-			if px, err = runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
-				return badInputf("simulate: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
-			}
-		} else {
-			d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
-			if err != nil {
-				return failure(err)
-			}
-			px = d.Summarize().Resolution / 4
-		}
-		img := m.Image(*n, *n, px)
-		name := ""
-		if len(f.Targets) > 0 {
-			name = f.Targets[0].Name
-		}
-		if err := output.WriteModel(*writeImage, img, *n, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(*modelSpec)); err != nil {
-			return failure(err)
-		}
-		if !*asJSON {
-			fmt.Fprintf(stdout, "Wrote %s (%d × %d pixels of %.4g mas)\n", *writeImage, *n, *n, px/recon.Mas)
-		}
-		sum.Image = *writeImage
+		return err
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		if err := enc.Encode(sum); err != nil {
-			return failure(err)
-		}
+		return writeJSON(stdout, sum)
 	}
 	return nil
-}
-
-// simulateSummary is the -json output of simulate: the files written and what the plan
-// observed (simulate.Report), with the data points written per table type.
-type simulateSummary struct {
-	Output            string         `json:"output"`
-	Image             string         `json:"image,omitempty"`
-	HourAngles        int            `json:"hour_angles"`
-	Skipped           int            `json:"skipped_hour_angles"`
-	SkippedHourAngles []float64      `json:"skipped_hour_angle_values_h"`
-	Stations          int            `json:"stations"`
-	Baselines         int            `json:"baselines_per_hour_angle"`
-	Triangles         int            `json:"triangles_per_hour_angle"`
-	Channels          int            `json:"channels"`
-	Points            map[string]int `json:"points"`
-	BaselineMin       float64        `json:"baseline_min_m"`
-	BaselineMax       float64        `json:"baseline_max_m"`
-}
-
-// btoi is 1 for true and 0 for false.
-func btoi(b bool) int {
-	if b {
-		return 1
-	}
-	return 0
 }

@@ -4,7 +4,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"strings"
 
 	"vcz/output"
 )
@@ -40,25 +39,11 @@ func printWarnings(w io.Writer, label string, warnings []string) {
 	}
 }
 
-// countWarnings says "1 warning" or "N warnings".
-func countWarnings(n int) string {
-	if n == 1 {
-		return "1 warning"
-	}
-	return fmt.Sprintf("%d warnings", n)
-}
-
 // strictFailure is the error of a run with -strict whose results carry n
 // warnings (0: nil). what names the command.
 func strictFailure(strict bool, what string, n int) error {
 	if !strict || n == 0 {
 		return nil
 	}
-	return failure(fmt.Errorf("%s: %s with -strict (outputs written; see the warning lines above)", what, countWarnings(n)))
-}
-
-// stopText is a stop reason that does not claim success, for a summary line
-// of a result with warnings.
-func stopText(reason string) string {
-	return strings.TrimPrefix(reason, "converged: ")
+	return failure(fmt.Errorf("%s: %s with -strict (outputs written; see the warning lines above)", what, output.CountWarnings(n)))
 }

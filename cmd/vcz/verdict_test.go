@@ -145,7 +145,7 @@ func TestImageVerdict(t *testing.T) {
 			optimizer = l
 		}
 	}
-	if !strings.Contains(optimizer, "finished with "+countWarnings(len(sum.Warnings))) || strings.Contains(optimizer, "converged") {
+	if !strings.Contains(optimizer, "finished with "+output.CountWarnings(len(sum.Warnings))) || strings.Contains(optimizer, "converged") {
 		t.Errorf("summary line %q", optimizer)
 	}
 }

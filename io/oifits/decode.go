@@ -352,7 +352,12 @@ func (t *table) floats(dst []float64, c *fitsfile.Column, row int) error {
 	if c == nil {
 		return nil
 	}
-	if err := t.t.Float64s(dst, c, row); err != nil {
+	return t.fieldErr(t.t.Float64s(dst, c, row), c, row)
+}
+
+// fieldErr places err, of reading column c in row, in the table; nil stays nil.
+func (t *table) fieldErr(err error, c *fitsfile.Column, row int) error {
+	if err != nil {
 		return t.errf(row+1, c.Name, "%v", err)
 	}
 	return nil
@@ -371,10 +376,7 @@ func (t *table) ints(dst []int, c *fitsfile.Column, row int) error {
 	if c == nil {
 		return nil
 	}
-	if err := t.t.Ints(dst, c, row); err != nil {
-		return t.errf(row+1, c.Name, "%v", err)
-	}
-	return nil
+	return t.fieldErr(t.t.Ints(dst, c, row), c, row)
 }
 
 func (t *table) int(c *fitsfile.Column, row int) (int, error) {

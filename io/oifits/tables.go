@@ -251,12 +251,22 @@ func newChunks(rows, nwave, nf int) *chunks {
 	return &chunks{f: make([]float64, rows*nwave*nf), b: make([]bool, rows*nwave)}
 }
 
-func (d *decoder) readVis2(h *fitsfile.HDU) error {
+// openData opens an OI_VIS2, OI_T3 or OI_VIS table (revision 1 or 2) of baselines or
+// triangles of nsta stations and reads its keywords and common columns.
+func (d *decoder) openData(h *fitsfile.HDU, nsta int) (*table, *dataHeader, error) {
 	t, err := d.open(h, 1, 2)
 	if err != nil {
-		return err
+		return nil, nil, err
 	}
-	dh, err := t.readDataHeader(2)
+	dh, err := t.readDataHeader(nsta)
+	if err != nil {
+		return nil, nil, err
+	}
+	return t, dh, nil
+}
+
+func (d *decoder) readVis2(h *fitsfile.HDU) error {
+	t, dh, err := d.openData(h, 2)
 	if err != nil {
 		return err
 	}
@@ -289,11 +299,7 @@ func (d *decoder) readVis2(h *fitsfile.HDU) error {
 }
 
 func (d *decoder) readT3(h *fitsfile.HDU) error {
-	t, err := d.open(h, 1, 2)
-	if err != nil {
-		return err
-	}
-	dh, err := t.readDataHeader(3)
+	t, dh, err := d.openData(h, 3)
 	if err != nil {
 		return err
 	}
@@ -337,11 +343,7 @@ func (d *decoder) readT3(h *fitsfile.HDU) error {
 }
 
 func (d *decoder) readVis(h *fitsfile.HDU) error {
-	t, err := d.open(h, 1, 2)
-	if err != nil {
-		return err
-	}
-	dh, err := t.readDataHeader(2)
+	t, dh, err := d.openData(h, 2)
 	if err != nil {
 		return err
 	}

@@ -100,12 +100,13 @@ func validate(f *File) error {
 		}
 		return nw, nil
 	}
-	// row checks one row: target, vector lengths and errors.
+	// row checks one row: target, vector lengths and errors, then its stations
+	// (station) and its date (mjd).
 	type pair struct {
 		name, errName string
 		val, err      []float64
 	}
-	row := func(hdu int, ext string, r, nw, target int, flag []bool, vecs ...pair) error {
+	row := func(hdu int, ext string, r, nw int, arr string, target int, date float64, flag []bool, sta []int, vecs ...pair) error {
 		if !targets[target] {
 			return fail(hdu, ext, r, "TARGET_ID", "TARGET_ID %d is not in OI_TARGET", target)
 		}
@@ -141,77 +142,59 @@ func validate(f *File) error {
 				return fail(hdu, ext, r, p.errName, "%s is %s%s; %s", p.errName, strconv.FormatFloat(e, 'g', -1, 64), where, rule)
 			}
 		}
+		if err := station(hdu, ext, r, arr, sta...); err != nil {
+			return err
+		}
+		return mjd(hdu, ext, r, date)
+	}
+	// table checks the keywords of one data table and each of its n rows: check(r, nw)
+	// checks row r (from 1) against NWAVE nw.
+	table := func(hdu int, ext, ins, arr string, n int, check func(r, nw int) error) error {
+		nw, err := link(hdu, ext, ins, arr)
+		if err != nil {
+			return err
+		}
+		for i := range n {
+			if err := check(i+1, nw); err != nil {
+				return err
+			}
+		}
 		return nil
 	}
 	for _, t := range f.Vis2 {
-		nw, err := link(t.HDU, extVis2, t.InsName, t.ArrName)
-		if err != nil {
+		if err := table(t.HDU, extVis2, t.InsName, t.ArrName, len(t.Rows), func(r, nw int) error {
+			x := &t.Rows[r-1]
+			return row(t.HDU, extVis2, r, nw, t.ArrName, x.TargetID, x.MJD, x.Flag, x.StaIndex[:], pair{"VIS2DATA", "VIS2ERR", x.Data, x.Err})
+		}); err != nil {
 			return err
-		}
-		for i, r := range t.Rows {
-			if err := row(t.HDU, extVis2, i+1, nw, r.TargetID, r.Flag, pair{"VIS2DATA", "VIS2ERR", r.Data, r.Err}); err != nil {
-				return err
-			}
-			if err := station(t.HDU, extVis2, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
-				return err
-			}
-			if err := mjd(t.HDU, extVis2, i+1, r.MJD); err != nil {
-				return err
-			}
 		}
 	}
 	for _, t := range f.T3 {
-		nw, err := link(t.HDU, extT3, t.InsName, t.ArrName)
-		if err != nil {
+		if err := table(t.HDU, extT3, t.InsName, t.ArrName, len(t.Rows), func(r, nw int) error {
+			x := &t.Rows[r-1]
+			return row(t.HDU, extT3, r, nw, t.ArrName, x.TargetID, x.MJD, x.Flag, x.StaIndex[:],
+				pair{"T3AMP", "T3AMPERR", x.Amp, x.AmpErr}, pair{"T3PHI", "T3PHIERR", x.Phi, x.PhiErr})
+		}); err != nil {
 			return err
-		}
-		for i, r := range t.Rows {
-			if err := row(t.HDU, extT3, i+1, nw, r.TargetID, r.Flag,
-				pair{"T3AMP", "T3AMPERR", r.Amp, r.AmpErr}, pair{"T3PHI", "T3PHIERR", r.Phi, r.PhiErr}); err != nil {
-				return err
-			}
-			if err := station(t.HDU, extT3, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
-				return err
-			}
-			if err := mjd(t.HDU, extT3, i+1, r.MJD); err != nil {
-				return err
-			}
 		}
 	}
 	for _, t := range f.Vis {
-		nw, err := link(t.HDU, extVis, t.InsName, t.ArrName)
-		if err != nil {
+		if err := table(t.HDU, extVis, t.InsName, t.ArrName, len(t.Rows), func(r, nw int) error {
+			x := &t.Rows[r-1]
+			return row(t.HDU, extVis, r, nw, t.ArrName, x.TargetID, x.MJD, x.Flag, x.StaIndex[:],
+				pair{"VISAMP", "VISAMPERR", x.Amp, x.AmpErr}, pair{"VISPHI", "VISPHIERR", x.Phi, x.PhiErr})
+		}); err != nil {
 			return err
-		}
-		for i, r := range t.Rows {
-			if err := row(t.HDU, extVis, i+1, nw, r.TargetID, r.Flag,
-				pair{"VISAMP", "VISAMPERR", r.Amp, r.AmpErr}, pair{"VISPHI", "VISPHIERR", r.Phi, r.PhiErr}); err != nil {
-				return err
-			}
-			if err := station(t.HDU, extVis, i+1, t.ArrName, r.StaIndex[:]...); err != nil {
-				return err
-			}
-			if err := mjd(t.HDU, extVis, i+1, r.MJD); err != nil {
-				return err
-			}
 		}
 	}
 	for _, t := range f.Flux {
-		nw, err := link(t.HDU, extFlux, t.InsName, t.ArrName)
-		if err != nil {
+		if err := table(t.HDU, extFlux, t.InsName, t.ArrName, len(t.Rows), func(r, nw int) error {
+			x := &t.Rows[r-1]
+			return row(t.HDU, extFlux, r, nw, t.ArrName, x.TargetID, x.MJD, x.Flag, []int{x.StaIndex}, pair{"FLUXDATA", "FLUXERR", x.Data, x.Err})
+		}); err != nil {
 			return err
 		}
-		for i, r := range t.Rows {
-			if err := row(t.HDU, extFlux, i+1, nw, r.TargetID, r.Flag, pair{"FLUXDATA", "FLUXERR", r.Data, r.Err}); err != nil {
-				return err
-			}
-			if err := station(t.HDU, extFlux, i+1, t.ArrName, r.StaIndex); err != nil {
-				return err
-			}
-			if err := mjd(t.HDU, extFlux, i+1, r.MJD); err != nil {
-				return err
-			}
-		}
 	}
+
 	return nil
 }

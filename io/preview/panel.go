@@ -44,35 +44,37 @@ func Montage(frames []Frame, opt Options) (*image.RGBA, error) {
 
 // EncodePanel writes the Panel of frames as a PNG to w.
 func EncodePanel(w io.Writer, frames []Frame, opt Options) error {
-	m, err := Panel(frames, opt)
-	if err != nil {
-		return err
-	}
-	return png.Encode(w, m)
+	return encodeDrawn(w, Panel, frames, opt)
 }
 
 // WritePanel writes the Panel of frames as a PNG file at path, atomically.
 func WritePanel(path string, frames []Frame, opt Options) error {
-	m, err := Panel(frames, opt)
-	if err != nil {
-		return err
-	}
-	return writePNG(path, m)
+	return writeDrawn(path, Panel, frames, opt)
 }
 
 // EncodeMontage writes the Montage of frames as a PNG to w.
 func EncodeMontage(w io.Writer, frames []Frame, opt Options) error {
-	m, err := Montage(frames, opt)
-	if err != nil {
-		return err
-	}
-	return png.Encode(w, m)
+	return encodeDrawn(w, Montage, frames, opt)
 }
 
 // WriteMontage writes the Montage of frames as a PNG file at path,
 // atomically.
 func WriteMontage(path string, frames []Frame, opt Options) error {
-	m, err := Montage(frames, opt)
+	return writeDrawn(path, Montage, frames, opt)
+}
+
+// encodeDrawn writes the image that draw (Panel or Montage) makes of frames as a PNG to
+// w; writeDrawn writes it as a PNG file at path, atomically.
+func encodeDrawn(w io.Writer, draw func([]Frame, Options) (*image.RGBA, error), frames []Frame, opt Options) error {
+	m, err := draw(frames, opt)
+	if err != nil {
+		return err
+	}
+	return png.Encode(w, m)
+}
+
+func writeDrawn(path string, draw func([]Frame, Options) (*image.RGBA, error), frames []Frame, opt Options) error {
+	m, err := draw(frames, opt)
 	if err != nil {
 		return err
 	}

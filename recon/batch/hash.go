@@ -55,25 +55,32 @@ type Status struct {
 }
 
 // WriteStatus writes st to path atomically (safefile.Write).
-func WriteStatus(path string, st *Status) error {
-	b, err := json.MarshalIndent(st, "", "  ")
+func WriteStatus(path string, st *Status) error { return writeJSONFile(path, st) }
+
+// ReadStatus reads a status file.
+func ReadStatus(path string) (*Status, error) { return readJSONFile[Status](path) }
+
+// writeJSONFile writes v as indented JSON and a newline to path atomically.
+func writeJSONFile(path string, v any) error {
+	b, err := json.MarshalIndent(v, "", "  ")
 	if err != nil {
 		return err
 	}
 	return safefile.WriteBytes(path, append(b, '\n'))
 }
 
-// ReadStatus reads a status file.
-func ReadStatus(path string) (*Status, error) {
-	b, err := os.ReadFile(path)
+// readJSONFile reads the JSON file at path (a regular file: safefile.ReadFile) into a new
+// T; an error of decoding names the file.
+func readJSONFile[T any](path string) (*T, error) {
+	b, err := safefile.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	var st Status
-	if err := json.Unmarshal(b, &st); err != nil {
+	var v T
+	if err := json.Unmarshal(b, &v); err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	return &st, nil
+	return &v, nil
 }
 
 // Complete reports whether the status file at path records a finished epoch (state

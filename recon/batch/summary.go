@@ -133,25 +133,11 @@ func WriteJSON(path string, s *Summary) error {
 			c.Rows[i].Warnings = []string{}
 		}
 	}
-	b, err := json.MarshalIndent(&c, "", "  ")
-	if err != nil {
-		return err
-	}
-	return safefile.WriteBytes(path, append(b, '\n'))
+	return writeJSONFile(path, &c)
 }
 
 // ReadJSON reads a summary written by WriteJSON.
-func ReadJSON(path string) (*Summary, error) {
-	b, err := safefile.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	var s Summary
-	if err := json.Unmarshal(b, &s); err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	return &s, nil
-}
+func ReadJSON(path string) (*Summary, error) { return readJSONFile[Summary](path) }
 
 // EncodeCSV writes the rows as a CSV table (RFC 4180) with a header line: epoch, MJD range,
 // status, the points and χ²ᵣ of each data type (empty for a type the epoch lacks), total

@@ -306,8 +306,7 @@ func (c *Component) amplitude(u, v float64) float64 {
 		return besselLambda(p[iS1].Value/2+1, z)
 	case Gaussian:
 		if p[iS1].Value == 1 {
-			w := math.Pi * p[iS0].Value * MasToRad * math.Hypot(u, v)
-			return math.Exp(-w * w / (4 * math.Ln2))
+			return gaussV(math.Pi * p[iS0].Value * MasToRad * math.Hypot(u, v))
 		}
 		w := p[iS0].Value * MasToRad
 		s, co := math.Sincos(p[iS2].Value * math.Pi / 180)
