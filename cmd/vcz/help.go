@@ -3,8 +3,8 @@ package main
 import _ "embed"
 
 // The help texts of the commands, printed by -help above the list of options, are the files
-// in help/, embedded as they are. bootstrapDoc is the part of 'vcz image -help' about the
-// bootstrap, after imageDoc.
+// in help/, embedded as they are (newFlagSet trims their ends). bootstrapDoc is the
+// paragraph of 'vcz image -help' about the bootstrap, on the line after imageDoc.
 var (
 	//go:embed help/batch.txt
 	batchDoc string

@@ -13,7 +13,7 @@ import (
 )
 
 func runImage(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("image", "[options] FILE...", imageDoc+bootstrapDoc, stderr)
+	fs := newFlagSet("image", "[options] FILE...", strings.TrimSpace(imageDoc)+"\n"+bootstrapDoc, stderr)
 	opts := runspec.RegisterFlags(fs, runspec.All)
 	stretch := registerStretch(fs)
 	out := fs.String("o", "", "output FITS file (default: FIRSTFILE-image.fits in the current folder)")
