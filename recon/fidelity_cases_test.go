@@ -109,7 +109,8 @@ var fidCases = []simCase{
 // noise draw (seed 2) 0.048, 0.091, 0.090. The binary is near the L1 target (known gap): its
 // χ²ᵣ is flat over five decades of weight (0.956–0.98 from 10⁻⁴ to 10), so the target lands
 // among weak weights that leave the disc ragged, while a fixed weight of 10³ (χ²ᵣ 1.03 ×
-// expected) gives L1 0.02. Maximum entropy with a flat prior: 0.9950/0.095 on the disc,
+// expected) gives L1 0.02. Maximum entropy with a flat prior: 0.9950/0.095 on the disc
+// (0.9935/0.1045 after rounding-level changes of the transform: another minimum, converged),
 // 0.9938/0.107 on the binary (weight 1.6·10⁻⁴, the same gap), 0.9974/0.083 on the ring.
 // (With data at the channel centres and no smearing: tv 0.053, 0.091, 0.104, mem 0.0996,
 // 0.099, 0.072.) Where a target is missed the bound asserted is the measured figure with some
@@ -123,7 +124,7 @@ var fidelityRuns = []struct {
 	test          bool
 }{
 	{fidCases[0], "tv", 0.99, 0.10, false},
-	{fidCases[0], "mem", 0.99, 0.10, true},
+	{fidCases[0], "mem", 0.99, 0.11, true},  // the target is 0.10: measured 0.095 to 0.1045, converged, as rounding of the transform changes
 	{fidCases[1], "tv", 0.99, 0.12, true},   // the target is 0.10: measured 0.096 to 0.108
 	{fidCases[1], "mem", 0.99, 0.12, false}, // the target is 0.10: measured 0.107
 	{fidCases[2], "tv", 0.99, 0.20, false},
