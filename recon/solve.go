@@ -191,7 +191,7 @@ const ftolWindow = 10
 
 // Defaults of Settings.
 const (
-	DefaultMaxIter     = 500
+	DefaultMaxIter     = 1000
 	DefaultPathIter    = 200
 	DefaultFTol        = 1e-7
 	DefaultWeightSteps = 14
