@@ -21,11 +21,9 @@
 // types are one table (package dataset: word, FITS key, label, unit, OIFITS table) and each
 // has one data term (termtable.go) in its own file (term_*.go: formula and source, χ² with its gradient with
 // respect to the model visibilities, residuals for least squares, expected χ², model
-// values). Objective sums the weighted χ² of V² (Gaussian), closure phases (wrap-safe
-// 2(1 − cos Δφ)/σ²), T3 amplitudes (Gaussian on |B|) and complex visibilities (amplitudes;
-// absolute phases, wrap-safe; correlated fluxes with a free scale at its least-squares
-// optimum; differential amplitudes and phases relative to the reference of their row,
-// term_visamp.go and term_visdiff.go), value and gradient in one pass:
+// values). Objective sums the weighted χ² of the terms of the types used (Gaussian in
+// amplitudes, wrap-safe 2(1 − cos Δφ)/σ² in phases; each term's file gives its formula),
+// value and gradient in one pass:
 // one Forward and one Adjoint per evaluation. Residuals gives the same terms as residual
 // vectors for the analytic fits of vcz/recon/fit, and Predict the model values for plots. The gradient includes the flux normalisation:
 // ∂J/∂x_p = (Re Σ conj(G_k) a_kp − Re Σ conj(G_k) V_k)/F with G_k = ∂J/∂Re V_k + i ∂J/∂Im V_k.

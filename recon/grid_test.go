@@ -98,13 +98,21 @@ func TestStartImages(t *testing.T) {
 			t.Errorf("kind %d: flux %g", s.Kind, f)
 		}
 		// Second moments: a uniform disc of diameter θ has ⟨r²⟩ = θ²/8; a Gaussian of FWHM w
-		// has ⟨r²⟩ = 2σ² = w²/(4 ln 2) (from the definitions).
+		// has ⟨r²⟩ = 2σ² = w²/(4 ln 2) (from the definitions); a linearly limb-darkened disc
+		// of radius R, I = 1 − a(1 − μ), has ⟨r²⟩ = R²((1 − a)/4 + 2a/15)/((1 − a)/2 + a/3),
+		// from ∫₀¹ s√(1 − s) ds = B(2, 3/2) = 4/15 and ∫₀¹ √(1 − s) ds = 2/3 (Beta function).
 		var want float64
 		switch s.Kind {
 		case StartAuto, StartUniformDisc:
 			want = 36 * Mas * Mas / 8
 		case StartGaussian:
 			want = 9 * Mas * Mas / (4 * math.Ln2)
+		case StartFlat:
+			d := 0.9 * float64(g.N) * g.Pixel
+			want = d * d / 8
+		case StartLimbDarkened:
+			a, r := s.LimbDarkening, 3*Mas
+			want = r * r * ((1-a)/4 + 2*a/15) / ((1-a)/2 + a/3)
 		default:
 			continue
 		}

@@ -33,12 +33,10 @@ type ResidualOptions struct {
 // Residuals are the normalised residuals of the data of a data set for a least-squares fit of
 // a normalised model whose visibilities are computed elsewhere (recon/fit fits analytic
 // models). They come from the same data terms as the image objective (term_*.go), in the
-// order of the table of data types and, within a type, of the data: (|V|² − V²ₒ)/σ for V²,
-// (|B| − |B|ₒ)/σ for T3 amplitudes, 2 sin(Δφ/2)/σ for closure phases and absolute visibility
-// phases, and (|V| − Aₒ)/σ for absolute visibility amplitudes, so that the sum of squares of
-// each type is its χ² in Objective; differential amplitudes and phases are taken relative to
-// the reference of their row (term_visamp.go, term_visdiff.go). Correlated fluxes cannot be
-// fitted by a normalised model and are left out with a notice.
+// order of the table of data types (package dataset) and, within a type, of the data. Each
+// term's residuals are given in its file (term_<word>.go): (model − data)/σ for amplitudes and
+// 2 sin(Δφ/2)/σ for phases, so that the sum of squares of each type is its χ² in Objective.
+// Data a normalised model cannot fit (correlated fluxes) are left out with a notice.
 // A Residuals is not safe for concurrent use.
 type Residuals struct {
 	s       sampling

@@ -4,12 +4,16 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+
+	"vcz/recon/model"
 )
 
 // StartKind selects a start image.
 type StartKind int
 
-// The start images. All are normalised to a total flux of 1.
+// The start images. All are normalised to a total flux of 1. Discs and Gaussians are
+// rendered by recon/model (one centred component, each pixel the mean over sub-pixel
+// samples), the one place where they are drawn.
 const (
 	// StartAuto, the default, is the simple model that fitted the V² data best in the grid
 	// choice: a uniform disc of the fitted diameter or a Gaussian of the fitted FWHM, and a
@@ -76,18 +80,16 @@ func StartImageFor(s Start, g Grid, choice GridChoice, seed uint64) ([]float64, 
 	}
 	switch kind {
 	case StartGaussian:
-		k := 4 * math.Ln2 / (size * size)
-		fill(img, n, g.Pixel, func(x, y float64) float64 { return math.Exp(-k * (x*x + y*y)) })
+		render(img, n, g.Pixel, model.Gaussian, map[string]float64{"fwhm": size / model.MasToRad})
 	case StartFlat:
-		r := 0.45 * float64(n) * g.Pixel
-		discFill(img, n, g.Pixel, 2*r, 0)
+		render(img, n, g.Pixel, model.UniformDisc, map[string]float64{"diameter": 0.9 * float64(n) * g.Pixel / model.MasToRad})
 	case StartUniformDisc:
-		discFill(img, n, g.Pixel, size, 0)
+		render(img, n, g.Pixel, model.UniformDisc, map[string]float64{"diameter": size / model.MasToRad})
 	case StartLimbDarkened:
-		if s.LimbDarkening < 0 || s.LimbDarkening > 1 {
+		if !(s.LimbDarkening >= 0 && s.LimbDarkening <= 1) {
 			return nil, fmt.Errorf("recon: limb-darkening coefficient %g is outside [0, 1]", s.LimbDarkening)
 		}
-		discFill(img, n, g.Pixel, size, s.LimbDarkening)
+		render(img, n, g.Pixel, model.LinearLD, map[string]float64{"diameter": size / model.MasToRad, "u_ld": s.LimbDarkening})
 	case StartRandom:
 		rng := rand.New(rand.NewPCG(seed, 0x5eed))
 		for i := range img {
@@ -114,35 +116,15 @@ func StartImageFor(s Start, g Grid, choice GridChoice, seed uint64) ([]float64, 
 	return img, nil
 }
 
-// fill sets img to f at the pixel centres (sky coordinates of CONVENTIONS.md).
-func fill(img []float64, n int, pixel float64, f func(x, y float64) float64) {
-	for iy := 0; iy < n; iy++ {
-		y := float64(iy-n/2) * pixel
-		for ix := 0; ix < n; ix++ {
-			img[iy*n+ix] = f(-float64(ix-n/2)*pixel, y)
-		}
+// render adds the centred one-component model of kind k with the given parameters (mas) to
+// img, rendered by recon/model with its oversampling; a size the model rejects (not finite)
+// leaves img unchanged, which the caller reports as a start without flux.
+func render(img []float64, n int, pixel float64, k model.Kind, values map[string]float64) {
+	c, err := model.New(k, values)
+	if err != nil {
+		return
 	}
-}
-
-// discFill rasterises a linearly limb-darkened disc (a = 0: uniform) of diameter theta,
-// averaging 5×5 sub-pixel samples so the edge is smooth.
-func discFill(img []float64, n int, pixel, theta, a float64) {
-	const sub = 5
-	r2 := theta * theta / 4
-	fill(img, n, pixel, func(x, y float64) float64 {
-		s := 0.0
-		for j := 0; j < sub; j++ {
-			for i := 0; i < sub; i++ {
-				xx := x + (float64(i)+0.5-sub/2.0)/sub*pixel
-				yy := y + (float64(j)+0.5-sub/2.0)/sub*pixel
-				q := (xx*xx + yy*yy) / r2
-				if q <= 1 {
-					s += 1 - a*(1-math.Sqrt(1-q))
-				}
-			}
-		}
-		return s / (sub * sub)
-	})
+	(&model.Model{Components: []*model.Component{c}}).Rasterize(img, n, n, pixel, model.DefaultOversample)
 }
 
 // Resample sets dst (n² pixels of pixel radians) to src (ns² pixels of spix radians) by

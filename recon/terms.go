@@ -9,8 +9,9 @@ import (
 	"vcz/dataset"
 )
 
-// Weights are the weights of the χ² terms, indexed like DataTypes() (Vis2, T3Amp, T3Phi, VisAmp,
-// VisPhi, VisDiff). A zero weight means 1; to leave a data type out, leave it out of the used set.
+// Weights are the weights of the χ² terms, indexed like dataset.DataTypes(), the order of the
+// table of data types (package dataset). A zero weight means 1; to leave a data type out, leave
+// it out of the used set.
 type Weights [nTypes]float64
 
 // TermOptions configure the data terms.
@@ -30,17 +31,11 @@ type TermOptions struct {
 //
 //	J(x) = Σ_t w_t χ²_t(x),
 //
-// one term for each data type of the table (package dataset; termtable.go), each in its own
-// file: for V² data χ² = Σ (|V|² − V²ₒ)²/σ² (term_vis2.go); for T3 amplitudes
-// Σ (|B| − |B|ₒ)²/σ² (term_t3amp.go); for closure phases the wrap-safe
-// χ² = Σ 2(1 − cos(φ − φₒ))/σ², σ in radians, which tends to the Gaussian form for small
-// residuals (term_t3phi.go,
-// term_phase.go); for visibility amplitudes Σ (|V| − Aₒ)²/σ², correlated fluxes with a free
-// flux scale (term_visamp.go); and for absolute visibility phases the wrap-safe form
-// (term_visphi.go); differential amplitudes and phases are taken relative to the reference of
-// their row, mean and achromatic slope in 1/λ removed from the phases (term_visamp.go,
-// term_visdiff.go). An Objective holds the buffers of one evaluation and is not safe for
-// concurrent use.
+// one term for each row of the table of data types (package dataset), given by termTable
+// (termtable.go). Each term is in its own file, term_<word>.go, with its χ² formula and source;
+// amplitudes are Gaussian in the measured quantity and phases take the wrap-safe form
+// Σ 2(1 − cos(φ − φₒ))/σ² (term_phase.go). An Objective holds the buffers of one evaluation and
+// is not safe for concurrent use.
 type Objective struct {
 	m      *ForwardModel
 	d      *dataset.Data

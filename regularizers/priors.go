@@ -3,6 +3,8 @@ package regularizers
 import (
 	"fmt"
 	"math"
+
+	"vcz/recon/model"
 )
 
 // DefaultPriorFloor is the floor used by the prior builders when their
@@ -63,10 +65,11 @@ func FlatPrior(nx, ny int, flux float64) ([]float64, error) {
 }
 
 // GaussianPrior returns an nx*ny image of a circular Gaussian of full
-// width at half maximum fwhm (pixels), centred on pixel (nx/2, ny/2),
-// sampled at pixel centres, I(r) = exp(-4 ln 2 r^2/fwhm^2), scaled to
-// total flux, with every pixel raised to at least floor times the mean
-// pixel value flux/(nx*ny) and the result scaled again to total flux.
+// width at half maximum fwhm (pixels), I(r) = exp(-4 ln 2 r^2/fwhm^2),
+// centred on pixel (nx/2, ny/2) and rendered by recon/model (each pixel
+// the mean of the intensity over sub-pixel samples), scaled to total
+// flux, with every pixel raised to at least floor times the mean pixel
+// value flux/(nx*ny) and the result scaled again to total flux.
 // floor = 0 means DefaultPriorFloor.
 func GaussianPrior(nx, ny int, fwhm, flux, floor float64) ([]float64, error) {
 	floor, err := checkPriorArgs("GaussianPrior", nx, ny, flux, floor)
@@ -76,28 +79,17 @@ func GaussianPrior(nx, ny int, fwhm, flux, floor float64) ([]float64, error) {
 	if !(fwhm > 0) || math.IsInf(fwhm, 0) {
 		return nil, fmt.Errorf("regularizers: GaussianPrior: FWHM %g pixels must be positive and finite", fwhm)
 	}
-	m := make([]float64, nx*ny)
-	c := 4 * math.Ln2 / (fwhm * fwhm)
-	cx, cy := nx/2, ny/2
-	for iy := range ny {
-		for ix := range nx {
-			dx, dy := float64(ix-cx), float64(iy-cy)
-			m[iy*nx+ix] = math.Exp(-c * (dx*dx + dy*dy))
-		}
-	}
-	normalize(m, flux, floor)
-	return m, nil
+	return renderPrior("GaussianPrior", "FWHM", model.Gaussian, "fwhm", nx, ny, fwhm, flux, floor)
 }
 
-// discSamples is the number of sub-pixel samples per axis used to
-// rasterise a disc, so that edge pixels get their covered fraction.
-const discSamples = 8
-
 // DiscPrior returns an nx*ny image of a uniform disc of the given
-// diameter (pixels) centred on pixel (nx/2, ny/2): each pixel holds the
-// fraction of its area inside the disc, estimated on 8x8 sub-pixel
-// samples. The image is scaled to total flux, floored like GaussianPrior
-// and scaled again. floor = 0 means DefaultPriorFloor.
+// diameter (pixels) centred on pixel (nx/2, ny/2), rendered by
+// recon/model: each pixel holds the fraction of its sub-pixel samples
+// inside the disc (8x8 samples, more for a disc of few pixels), so edge
+// pixels get their covered fraction, and a disc too small to be hit by
+// any sample lands in the centre pixel. The image is scaled to total
+// flux, floored like GaussianPrior and scaled again. floor = 0 means
+// DefaultPriorFloor.
 func DiscPrior(nx, ny int, diameter, flux, floor float64) ([]float64, error) {
 	floor, err := checkPriorArgs("DiscPrior", nx, ny, flux, floor)
 	if err != nil {
@@ -106,30 +98,26 @@ func DiscPrior(nx, ny int, diameter, flux, floor float64) ([]float64, error) {
 	if !(diameter > 0) || math.IsInf(diameter, 0) {
 		return nil, fmt.Errorf("regularizers: DiscPrior: diameter %g pixels must be positive and finite", diameter)
 	}
-	m := make([]float64, nx*ny)
-	r2 := diameter * diameter / 4
-	cx, cy := nx/2, ny/2
-	var sum float64
-	for iy := range ny {
-		for ix := range nx {
-			inside := 0
-			for sy := range discSamples {
-				dy := float64(iy-cy) + (float64(sy)+0.5)/discSamples - 0.5
-				for sx := range discSamples {
-					dx := float64(ix-cx) + (float64(sx)+0.5)/discSamples - 0.5
-					if dx*dx+dy*dy <= r2 {
-						inside++
-					}
-				}
-			}
-			v := float64(inside) / (discSamples * discSamples)
-			m[iy*nx+ix] = v
-			sum += v
-		}
+	return renderPrior("DiscPrior", "diameter", model.UniformDisc, "diameter", nx, ny, diameter, flux, floor)
+}
+
+// renderPrior renders the centred one-component model of the given kind
+// whose size parameter param is size pixels (a pixel of 1 mas, so the
+// size in mas is the size in pixels) with recon/model's oversampling,
+// and normalises and floors it. what names the size in errors.
+func renderPrior(name, what string, kind model.Kind, param string, nx, ny int, size, flux, floor float64) ([]float64, error) {
+	c, err := model.New(kind, map[string]float64{param: size})
+	if err != nil {
+		return nil, fmt.Errorf("regularizers: %s: %v", name, err)
 	}
-	if sum == 0 {
-		// A disc smaller than the sub-pixel sampling: put it in the centre pixel.
-		m[cy*nx+cx] = 1
+	m := make([]float64, nx*ny)
+	(&model.Model{Components: []*model.Component{c}}).Rasterize(m, nx, ny, model.MasToRad, model.DefaultOversample)
+	var sum float64
+	for _, v := range m {
+		sum += v
+	}
+	if !(sum > 0) || math.IsInf(sum, 0) {
+		return nil, fmt.Errorf("regularizers: %s: %s %g pixels leaves no flux on the %dx%d grid", name, what, size, nx, ny)
 	}
 	normalize(m, flux, floor)
 	return m, nil

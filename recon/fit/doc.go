@@ -5,15 +5,13 @@
 // # Residuals and χ²
 //
 // The fit minimises the sum of squared normalised residuals, with the
-// same χ² per data type as the image reconstruction (recon.Objective):
-// (|V|² − V²ₒ)/σ for squared visibilities, (|B| − |B|ₒ)/σ for T3
-// amplitudes, (|V| − Aₒ)/σ for absolute visibility amplitudes, and for
-// closure phases and absolute visibility phases the wrap-safe 2 sin(Δφ/2)/σ,
-// Δφ the model-minus-data phase reduced to (−π, π], whose square is
-// 2(1 − cos Δφ)/σ²; differential phases and amplitudes relative to their
-// row's reference (recon/term_visdiff.go, recon/term_visamp.go).
-// Correlated-flux amplitudes are left out with a notice. Options.Use
-// selects the types.
+// same χ² per data type as the image reconstruction (recon.Residuals), for
+// each type of the table of data types (package dataset): (model − data)/σ
+// for amplitudes and, for phases, the wrap-safe 2 sin(Δφ/2)/σ, Δφ the
+// model-minus-data phase reduced to (−π, π], whose square is
+// 2(1 − cos Δφ)/σ²; each term's file in recon (term_<word>.go) gives its
+// formula. Data a normalised model cannot fit (correlated fluxes) are left
+// out with a notice. Options.Use selects the types.
 //
 // # Method
 //
