@@ -3,6 +3,7 @@ package nufft
 import (
 	"runtime"
 	"sync/atomic"
+	"time"
 )
 
 // job is one phase of a parallel transform, divided into shards fixed by
@@ -45,6 +46,9 @@ type pool struct {
 	done  atomic.Int64
 	_     [56]byte
 
+	// Helpers blocked on ch.
+	parked atomic.Int64
+
 	// Workers blocked in wait, and their wake-ups.
 	sleepers atomic.Int64
 	wake     chan struct{}
@@ -61,10 +65,41 @@ func newPool(n int) *pool {
 	return p
 }
 
+// helperSpin is how long a helper keeps looking for work after its last
+// shard before it blocks on the channel: calls that follow each other
+// closely then find it awake, without the wake-up of a parked thread
+// (tens of microseconds on a virtual machine whose idle processor has
+// halted) at each call (common practice, no source).
+const helperSpin = 50 * time.Microsecond
+
 func helper(p *pool, ch chan struct{}, w int) {
-	for range ch {
+	for {
 		p.work(w)
+		for t0 := time.Now(); time.Since(t0) < helperSpin; {
+			if p.pending() {
+				p.work(w)
+				t0 = time.Now()
+			}
+			runtime.Gosched()
+		}
+		// Announce the sleep before looking once more, so that a call
+		// published meanwhile either is seen here or sees the sleeper
+		// and sends a wake-up; a wake-up left over only makes the
+		// helper look again.
+		p.parked.Add(1)
+		if !p.pending() {
+			if _, ok := <-ch; !ok {
+				return
+			}
+		}
+		p.parked.Add(-1)
 	}
+}
+
+// pending reports whether the running call has shards left to take.
+func (p *pool) pending() bool {
+	v := p.state.Load()
+	return v&(1<<32-1) < v>>32
 }
 
 // take returns the next shard of the running call, or false when none
@@ -172,7 +207,7 @@ func (p *pool) runSteps(j job, counts []int) {
 	}
 	p.done.Store(0)
 	p.state.Store(uint64(total) << 32)
-	for i := 1; i < min(p.n, total); i++ {
+	for range min(p.parked.Load(), int64(total)-1) {
 		select {
 		case p.ch <- struct{}{}:
 		default: // the helpers have wake-ups pending already
