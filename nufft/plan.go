@@ -102,12 +102,13 @@ type plan struct {
 	// caller's slice takes the place of sorted.
 	inOrder bool
 
-	// Arguments of the running phase.
-	phase int
-	dstC  []complex128
-	srcR  []float64
-	dstR  []float64
-	srcC  []complex128
+	// The running phases, their numbers of shards, and their arguments.
+	phases []int
+	counts [nPhases]int
+	dstC   []complex128
+	srcR   []float64
+	dstR   []float64
+	srcC   []complex128
 }
 
 const (
@@ -119,6 +120,18 @@ const (
 	phAdjCols
 	phAdjRows
 	nPhases
+)
+
+// The phases of a call, in order, and of one phase alone.
+var (
+	fwdPhases = []int{phFwdRows, phFwdCols, phFwdFill, phFwdInterp}
+	adjPhases = []int{phAdjSpread, phAdjCols, phAdjRows}
+	onePhase  = func() (a [nPhases]int) {
+		for i := range a {
+			a[i] = i
+		}
+		return a
+	}()
 )
 
 // NewPlan makes a fast transform for an nx×ny image with the given pixel
@@ -355,10 +368,7 @@ func (p *Plan) Forward(dst []complex128, img []float64) {
 	mustLen("Plan.Forward", "dst", len(dst), p.m)
 	mustLen("Plan.Forward", "img", len(img), p.nx*p.ny)
 	p.dstC, p.srcR = dst, img
-	p.runPhase(phFwdRows)
-	p.runPhase(phFwdCols)
-	p.runPhase(phFwdFill)
-	p.runPhase(phFwdInterp)
+	p.runPhases(fwdPhases)
 	p.dstC, p.srcR = nil, nil
 }
 
@@ -369,9 +379,7 @@ func (p *Plan) Adjoint(dst []float64, vis []complex128) {
 	mustLen("Plan.Adjoint", "dst", len(dst), p.nx*p.ny)
 	mustLen("Plan.Adjoint", "vis", len(vis), p.m)
 	p.dstR, p.srcC = dst, vis
-	p.runPhase(phAdjSpread)
-	p.runPhase(phAdjCols)
-	p.runPhase(phAdjRows)
+	p.runPhases(adjPhases)
 	p.dstR, p.srcC = nil, nil
 }
 
@@ -395,10 +403,7 @@ func (p *Plan) ForwardSorted(dst []complex128, img []float64) {
 	own := p.sorted
 	p.sorted, p.inOrder = dst, true
 	p.dstC, p.srcR = dst, img
-	p.runPhase(phFwdRows)
-	p.runPhase(phFwdCols)
-	p.runPhase(phFwdFill)
-	p.runPhase(phFwdInterp)
+	p.runPhases(fwdPhases)
 	p.dstC, p.srcR = nil, nil
 	p.sorted, p.inOrder = own, false
 }
@@ -412,20 +417,37 @@ func (p *Plan) AdjointSorted(dst []float64, vis []complex128) {
 	own := p.sorted
 	p.sorted, p.inOrder = vis, true
 	p.dstR, p.srcC = dst, vis
-	p.runPhase(phAdjSpread)
-	p.runPhase(phAdjCols)
-	p.runPhase(phAdjRows)
+	p.runPhases(adjPhases)
 	p.dstR, p.srcC = nil, nil
 	p.sorted, p.inOrder = own, false
 }
 
-func (p *plan) runPhase(ph int) {
-	p.phase = ph
-	p.pool.run(p, p.shards[ph])
+// runPhases runs the phases in order, with one wake-up of the workers
+// for all of them (pool.runSteps).
+func (p *plan) runPhases(phs []int) {
+	p.phases = phs
+	for i, ph := range phs {
+		p.counts[i] = p.shards[ph]
+	}
+	p.pool.runSteps(p, p.counts[:len(phs)])
 }
 
-func (p *plan) do(w, s int) {
-	switch p.phase {
+// runPhase runs one phase alone.
+func (p *plan) runPhase(ph int) {
+	p.runPhases(onePhase[ph : ph+1])
+}
+
+// do runs shard g of the running phases: shard s of the phase whose
+// shards it falls in.
+func (p *plan) do(w, g int) {
+	ph, s := p.phases[0], g
+	for _, ph = range p.phases {
+		if s < p.shards[ph] {
+			break
+		}
+		s -= p.shards[ph]
+	}
+	switch ph {
 	case phFwdRows:
 		lo, hi := chunk((p.ny+1)/2, s, rowPairShard)
 		p.fwdRows(p.scratch[w], lo, hi)

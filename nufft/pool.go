@@ -1,8 +1,9 @@
 package nufft
 
 import (
-	"sync"
+	"runtime"
 	"sync/atomic"
+	"time"
 )
 
 // job is one phase of a parallel transform, divided into shards fixed by
@@ -15,79 +16,210 @@ type job interface {
 	do(worker, shard int)
 }
 
-type task struct {
-	p *pool
-	w int
-}
-
 // pool is a fixed set of helper goroutines, started once by a
 // constructor, so that a parallel call allocates nothing. Idle helpers
-// hold only the channel; they exit when it is closed, which the owning
+// wait on the channel; they exit when it is closed, which the owning
 // transform arranges with runtime.AddCleanup.
+//
+// A call is a sequence of steps (the phases of a transform), each a
+// number of shards. The shards of all steps are numbered in one
+// sequence, which the workers take in turn from one counter; a shard of
+// step k starts only once every shard of the steps before it has
+// finished. So the helpers are woken once per call, not once per step,
+// and a helper that wakes late joins whatever step is running; the
+// caller never waits for a helper that has taken no shard.
 type pool struct {
 	n  int // workers including the calling goroutine
-	ch chan task
-	wg sync.WaitGroup
+	ch chan struct{}
 
-	// The running phase: workers take shards in turn from next until
-	// shards are exhausted.
-	j      job
-	shards int
-	next   atomic.Int64
+	// The running call, written by the caller before it publishes the
+	// call in state, read by a worker only after it has taken a shard.
+	j     job
+	start []int // shards of step k are [start[k], start[k+1])
+	one   [1]int
+
+	// state packs the number of shards of the running call (high 32
+	// bits) and the next shard to take (low 32 bits); 0 while a call is
+	// being set up or none is running, so that nothing can be taken.
+	state atomic.Uint64
+	_     [56]byte // keeps the two counters on separate cache lines
+	done  atomic.Int64
+	_     [56]byte
+
+	// Helpers blocked on ch.
+	parked atomic.Int64
+
+	// Workers blocked in wait, and their wake-ups.
+	sleepers atomic.Int64
+	wake     chan struct{}
 }
 
 func newPool(n int) *pool {
-	p := &pool{n: n}
+	p := &pool{n: n, start: make([]int, 0, nPhases+1), wake: make(chan struct{}, n)}
 	if n > 1 {
-		p.ch = make(chan task, n)
+		p.ch = make(chan struct{}, n)
 		for i := 1; i < n; i++ {
-			go helper(p.ch)
+			go helper(p, p.ch, i)
 		}
 	}
 	return p
 }
 
-func helper(ch chan task) {
-	for t := range ch {
-		t.p.work(t.w)
-		t.p.wg.Done()
+// helperSpin is how long a helper keeps looking for work after its last
+// shard before it blocks on the channel: calls that follow each other
+// closely then find it awake, without the wake-up of a parked thread
+// (tens of microseconds on a virtual machine whose idle processor has
+// halted) at each call (common practice, no source).
+const helperSpin = 50 * time.Microsecond
+
+func helper(p *pool, ch chan struct{}, w int) {
+	for {
+		p.work(w)
+		for t0 := time.Now(); time.Since(t0) < helperSpin; {
+			if p.pending() {
+				p.work(w)
+				t0 = time.Now()
+			}
+			runtime.Gosched()
+		}
+		// Announce the sleep before looking once more, so that a call
+		// published meanwhile either is seen here or sees the sleeper
+		// and sends a wake-up; a wake-up left over only makes the
+		// helper look again.
+		p.parked.Add(1)
+		if !p.pending() {
+			if _, ok := <-ch; !ok {
+				return
+			}
+		}
+		p.parked.Add(-1)
+	}
+}
+
+// pending reports whether the running call has shards left to take.
+func (p *pool) pending() bool {
+	v := p.state.Load()
+	return v&(1<<32-1) < v>>32
+}
+
+// take returns the next shard of the running call, or false when none
+// is left.
+func (p *pool) take() (int, bool) {
+	for {
+		v := p.state.Load()
+		total, next := v>>32, v&(1<<32-1)
+		if next >= total {
+			return 0, false
+		}
+		if p.state.CompareAndSwap(v, v+1) {
+			return int(next), true
+		}
 	}
 }
 
 // work runs shards on worker w until none is left.
 func (p *pool) work(w int) {
 	for {
-		s := int(p.next.Add(1) - 1)
-		if s >= p.shards {
+		g, ok := p.take()
+		if !ok {
 			return
 		}
-		p.j.do(w, s)
+		// The step of shard g; a helper's loop may run into the next
+		// call, so k starts afresh.
+		k := 0
+		for g >= p.start[k+1] {
+			k++
+		}
+		if k > 0 {
+			p.wait(int64(p.start[k]))
+		}
+		// Read before the shard is counted done, after which the caller
+		// may set up its next call.
+		end := int64(p.start[k+1])
+		p.j.do(w, g)
+		// At the end of a step, wake the workers blocked in wait.
+		if p.done.Add(1) == end && p.sleepers.Load() > 0 {
+			for range p.n {
+				select {
+				case p.wake <- struct{}{}:
+				default:
+				}
+			}
+		}
+	}
+}
+
+// spinWaits is the number of times wait yields before it blocks: about
+// the time of a shard (common practice, no source). Short waits, the
+// common case at a step's end, then cost no wake-up of a parked thread,
+// and a worker whose thread the system has descheduled does not keep
+// the other spinning.
+const spinWaits = 200
+
+// wait returns once done has reached target.
+func (p *pool) wait(target int64) {
+	for i := 0; p.done.Load() < target; i++ {
+		if i < spinWaits {
+			runtime.Gosched()
+			continue
+		}
+		// Announce the wait before checking again, so that the worker
+		// finishing the step either is seen to have finished here or
+		// sees the sleeper; a wake-up left over from an earlier wait
+		// only makes this loop check again.
+		p.sleepers.Add(1)
+		if p.done.Load() < target {
+			<-p.wake
+		}
+		p.sleepers.Add(-1)
 	}
 }
 
 // run calls j.do for shards 0 … shards−1 on at most p.n workers, worker
 // 0 on the calling goroutine, and returns when all have finished.
 func (p *pool) run(j job, shards int) {
-	n := min(p.n, shards)
-	if n <= 1 {
-		for s := range shards {
-			j.do(0, s)
+	p.one[0] = shards
+	p.runSteps(j, p.one[:])
+}
+
+// runSteps runs steps of counts[k] shards in order, calling j.do(w, g)
+// for g = counts[0] + … + counts[k−1] + s, shard s of step k. All shards
+// of a step finish before any of the next starts.
+func (p *pool) runSteps(j job, counts []int) {
+	total := 0
+	for _, c := range counts {
+		total += c
+	}
+	if min(p.n, total) <= 1 {
+		for g := range total {
+			j.do(0, g)
 		}
 		return
 	}
-	p.j, p.shards = j, shards
-	p.next.Store(0)
-	p.wg.Add(n - 1)
-	for i := 1; i < n; i++ {
-		p.ch <- task{p: p, w: i}
+	if total >= 1<<32 {
+		panic("nufft: too many shards")
+	}
+	p.state.Store(0)
+	p.j = j
+	p.start = append(p.start[:0], 0)
+	for _, c := range counts {
+		p.start = append(p.start, p.start[len(p.start)-1]+c)
+	}
+	p.done.Store(0)
+	p.state.Store(uint64(total) << 32)
+	for range min(p.parked.Load(), int64(total)-1) {
+		select {
+		case p.ch <- struct{}{}:
+		default: // the helpers have wake-ups pending already
+		}
 	}
 	p.work(0)
-	p.wg.Wait()
+	p.wait(int64(total))
 	p.j = nil
 }
 
 // stop ends the helpers; used as a cleanup.
-func stopPool(ch chan task) {
+func stopPool(ch chan struct{}) {
 	if ch != nil {
 		close(ch)
 	}
