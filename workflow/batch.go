@@ -133,13 +133,10 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if err != nil {
 		return fail(err)
 	}
-	fitsPath := epochFile(b.Out, e.Name, "", extFITS)
-	// The old status goes before any output of the epoch is rewritten, so that a run
-	// killed between the new FITS and the new status cannot pass the old one's check.
-	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+	fitsPath, outs, err := b.epochOutputs(e, hash, statusPath)
+	if err != nil {
 		return fail(err)
 	}
-	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
 	run, paths, err := im.Run(outs, fitsPath, nil)
 	if err != nil {
 		return fail(err)
@@ -302,6 +299,18 @@ type ShardRun struct {
 	// Montage says why montage.png and epochs.gif could not be drawn; nil when they were,
 	// and for a shard, which draws none. It does not fail the batch.
 	Montage error
+}
+
+// epochOutputs returns the path of epoch e's FITS file and its outputs (no plots; the
+// batch's stretch; INHASH carrying hash), after removing the epoch's old status file: the
+// old status goes before any output of the epoch is rewritten, so that a run killed
+// between the new FITS and the new status cannot pass the old one's check.
+func (b *Batch) epochOutputs(e *Epoch, hash, statusPath string) (string, output.Outputs, error) {
+	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+		return "", output.Outputs{}, err
+	}
+	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
+	return epochFile(b.Out, e.Name, "", extFITS), outs, nil
 }
 
 // RunShard images the epochs of shard sh of all (Run), all of them on one common grid chosen

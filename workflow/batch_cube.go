@@ -1,7 +1,6 @@
 package workflow
 
 import (
-	"os"
 	"path/filepath"
 	"time"
 
@@ -53,12 +52,10 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 	if err != nil {
 		return fail(err)
 	}
-	fitsPath := epochFile(b.Out, e.Name, "", extFITS)
-	// As in runEpoch: the old status goes before any output is rewritten.
-	if err := os.Remove(statusPath); err != nil && !os.IsNotExist(err) {
+	fitsPath, outs, err := b.epochOutputs(e, hash, statusPath)
+	if err != nil {
 		return fail(err)
 	}
-	outs := output.Outputs{NoPlots: true, Stretch: b.Stretch, Cards: []fitsimage.Card{{Key: "INHASH", Value: hash, Comment: "SHA-256 of inputs"}}}
 	var img *fitsimage.Image
 	if e.Spec.Star != nil {
 		run, paths, err := c.RunStarEnv(outs, fitsPath, interruptible(nil))

@@ -179,14 +179,5 @@ func chi2Sigma(x float64, k int) (p, sigma float64) {
 	}
 	lg, _ := math.Lgamma(float64(k) / 2)
 	lnp := (float64(k)/2-1)*math.Log(x/2) - x/2 - lg
-	s := math.Sqrt(-2 * lnp)
-	for i := 0; i < 50; i++ {
-		f := math.Ln2 - s*s/2 - math.Log(s*math.Sqrt(2*math.Pi)) - lnp
-		step := f / (s + 1/s)
-		s += step
-		if math.Abs(step) < 1e-12*s {
-			break
-		}
-	}
-	return math.Exp(lnp), s
+	return math.Exp(lnp), sigmaOfLogP(lnp)
 }

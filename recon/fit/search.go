@@ -585,7 +585,7 @@ func searchSorted(xs []float64, x float64) int {
 
 // sigmaOfLogP solves ln(erfc(σ/√2)) = lnp for σ far in the tail with the
 // leading asymptotic term ln 2 − σ²/2 − ln(σ√(2π)) (Abramowitz & Stegun
-// 26.2.12), by Newton's method, as chi2Sigma does.
+// 26.2.12), by Newton's method.
 func sigmaOfLogP(lnp float64) float64 {
 	s := math.Sqrt(-2 * lnp)
 	for i := 0; i < 50; i++ {
