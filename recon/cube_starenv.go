@@ -255,16 +255,7 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
 		hist = append(hist, it.F)
 		if s.Progress != nil {
-			c, nn := 0.0, 0
-			for _, obj := range o.Planes {
-				for _, t := range typeList {
-					if obj.Use()&t != 0 {
-						c += obj.Chi2(t)
-						nn += obj.N(t)
-					}
-				}
-			}
-			if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F, Chi2r: c / float64(max(nn, 1))}) {
+			if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F, Chi2r: o.planesChi2r()}) {
 				return false
 			}
 		}
@@ -362,6 +353,11 @@ func (o *StarEnvObjective) chi2r(z []float64) float64 {
 	o.Mu = 0
 	o.Eval(nil, z)
 	o.Mu = save
+	return o.planesChi2r()
+}
+
+// planesChi2r returns Σχ²/ΣN over the planes at their last evaluation.
+func (o *StarEnvObjective) planesChi2r() float64 {
 	c, nn := 0.0, 0
 	for _, obj := range o.Planes {
 		for _, t := range typeList {

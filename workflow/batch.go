@@ -152,16 +152,22 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 	if paths.PNG != "" {
 		row.PNG = filepath.Base(paths.PNG)
 	}
-	row.Status = batch.StateDone
-	row.Seconds = time.Since(t0).Seconds()
-	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: row}
-	if row.PNG != "" {
-		st.Outputs = append(st.Outputs, row.PNG)
-	}
-	if err := batch.WriteStatus(statusPath, st); err != nil {
+	if err := finishEpoch(e, &row, t0, hash, statusPath); err != nil {
 		return fail(err)
 	}
 	return EpochResult{Row: row, Image: outs.Image(run)}
+}
+
+// finishEpoch marks row done, with its time since t0, and writes epoch e's status file
+// (its outputs FITS and PNG, the run's hash), the last output of the epoch.
+func finishEpoch(e *Epoch, row *batch.Row, t0 time.Time, hash, statusPath string) error {
+	row.Status = batch.StateDone
+	row.Seconds = time.Since(t0).Seconds()
+	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: *row}
+	if row.PNG != "" {
+		st.Outputs = append(st.Outputs, row.PNG)
+	}
+	return batch.WriteStatus(statusPath, st)
 }
 
 // dataMJDRange returns the range of MJD of the points of d.

@@ -95,13 +95,7 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		row.PNG = ""
 	}
 	row.FITS = filepath.Base(fitsPath)
-	row.Status = batch.StateDone
-	row.Seconds = time.Since(t0).Seconds()
-	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: row}
-	if row.PNG != "" {
-		st.Outputs = append(st.Outputs, row.PNG)
-	}
-	if err := batch.WriteStatus(statusPath, st); err != nil {
+	if err := finishEpoch(e, &row, t0, hash, statusPath); err != nil {
 		return fail(err)
 	}
 	return EpochResult{Row: row, Image: img}
