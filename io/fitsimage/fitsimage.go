@@ -254,35 +254,11 @@ const (
 // in days, CUNIT3 'd', from the reference MJDREF, here 0 so that the coordinate is the MJD,
 // in the time scale TIMESYS; -TAB as for waveCards).
 func timeCards(mjd []float64) ([]fitsfile.Card, bool) {
-	ref := []fitsfile.Card{
-		{Key: "TIMESYS", Value: "UTC", Comment: "time scale of the time axis"},
-		{Key: "MJDREF", Value: 0.0, Comment: "[d] reference: the time axis is in MJD"},
-	}
-	n := len(mjd)
-	step := (mjd[n-1] - mjd[0]) / float64(n-1)
-	lin := true
-	for k, x := range mjd {
-		lin = lin && math.Abs(x-(mjd[0]+float64(k)*step)) <= 1e-6*step
-	}
-	if lin {
-		return append([]fitsfile.Card{
-			{Key: "CTYPE3", Value: "TIME", Comment: "time of each plane, linear"},
-			{Key: "CUNIT3", Value: "d", Comment: "unit of CRVAL3 and CDELT3"},
-			{Key: "CRPIX3", Value: 1.0, Comment: "reference pixel: the first plane"},
-			{Key: "CRVAL3", Value: mjd[0], Comment: "[d] MJD of the first plane"},
-			{Key: "CDELT3", Value: step, Comment: "[d] time step between planes"},
-		}, ref...), false
-	}
-	return append([]fitsfile.Card{
-		{Key: "CTYPE3", Value: "TIME-TAB", Comment: "time, tabulated in table " + waveTable},
-		{Key: "CUNIT3", Value: "d", Comment: "unit of the tabulated times"},
-		{Key: "CRPIX3", Value: 1.0, Comment: "pixel k maps to index k of the table"},
-		{Key: "CRVAL3", Value: 1.0, Comment: "index of the first plane"},
-		{Key: "CDELT3", Value: 1.0, Comment: "index step between planes"},
-		{Key: "PS3_0", Value: waveTable, Comment: "EXTNAME of the table of times"},
-		{Key: "PS3_1", Value: waveColumn, Comment: "column of the times"},
-		{Key: "PV3_3", Value: 1, Comment: "axis of the coordinate array"},
-	}, ref...), true
+	return axisCards(mjd, axisWords{ctype: "TIME", unit: "d", noun: "time", linear: "time of each plane, linear",
+		first: "MJD", plural: "times", tail: []fitsfile.Card{
+			{Key: "TIMESYS", Value: "UTC", Comment: "time scale of the time axis"},
+			{Key: "MJDREF", Value: 0.0, Comment: "[d] reference: the time axis is in MJD"},
+		}})
 }
 
 // waveCards returns the WCS cards of a spectral third axis at wavelengths wave (m,
@@ -292,33 +268,49 @@ func timeCards(mjd []float64) ([]fitsfile.Card, bool) {
 // CDELT3 = 1, CRVAL3 = 1 to the index ψ = k of the coordinate array, whose entry k is the
 // wavelength (the default index vector 1, 2, ..., K).
 func waveCards(wave []float64) ([]fitsfile.Card, bool) {
-	n := len(wave)
-	step := (wave[n-1] - wave[0]) / float64(n-1)
-	lin := true
-	for k, w := range wave {
-		lin = lin && math.Abs(w-(wave[0]+float64(k)*step)) <= 1e-6*step
-	}
-	if lin {
-		return []fitsfile.Card{
-			{Key: "CTYPE3", Value: "WAVE", Comment: "wavelength, linear"},
-			{Key: "CUNIT3", Value: "m", Comment: "unit of CRVAL3 and CDELT3"},
-			{Key: "CRPIX3", Value: 1.0, Comment: "reference pixel: the first plane"},
-			{Key: "CRVAL3", Value: wave[0], Comment: "[m] wavelength of the first plane"},
-			{Key: "CDELT3", Value: step, Comment: "[m] wavelength step between planes"},
+	return axisCards(wave, axisWords{ctype: "WAVE", unit: "m", noun: "wavelength", linear: "wavelength, linear",
+		first: "wavelength", plural: "wavelengths", tail: []fitsfile.Card{
 			{Key: "SPECSYS", Value: "TOPOCENT", Comment: "wavelengths as observed"},
-		}, false
+		}})
+}
+
+// axisWords names a third axis in its cards: CTYPE3 (without -TAB), CUNIT3, the words of
+// the comments, and the cards that follow the axis's own.
+type axisWords struct {
+	ctype, unit, noun, linear, first, plural string
+	tail                                     []fitsfile.Card
+}
+
+// axisCards returns the WCS cards of a third axis at the coordinates x (increasing, at
+// least two), linear when x is evenly spaced to 10⁻⁶ of its step and tabulated in the
+// table waveTable otherwise, and whether it is tabulated.
+func axisCards(x []float64, w axisWords) ([]fitsfile.Card, bool) {
+	n := len(x)
+	step := (x[n-1] - x[0]) / float64(n-1)
+	lin := true
+	for k, v := range x {
+		lin = lin && math.Abs(v-(x[0]+float64(k)*step)) <= 1e-6*step
 	}
-	return []fitsfile.Card{
-		{Key: "CTYPE3", Value: "WAVE-TAB", Comment: "wavelength, tabulated in table " + waveTable},
-		{Key: "CUNIT3", Value: "m", Comment: "unit of the tabulated wavelengths"},
+	u := "[" + w.unit + "] "
+	if lin {
+		return append([]fitsfile.Card{
+			{Key: "CTYPE3", Value: w.ctype, Comment: w.linear},
+			{Key: "CUNIT3", Value: w.unit, Comment: "unit of CRVAL3 and CDELT3"},
+			{Key: "CRPIX3", Value: 1.0, Comment: "reference pixel: the first plane"},
+			{Key: "CRVAL3", Value: x[0], Comment: u + w.first + " of the first plane"},
+			{Key: "CDELT3", Value: step, Comment: u + w.noun + " step between planes"},
+		}, w.tail...), false
+	}
+	return append([]fitsfile.Card{
+		{Key: "CTYPE3", Value: w.ctype + "-TAB", Comment: w.noun + ", tabulated in table " + waveTable},
+		{Key: "CUNIT3", Value: w.unit, Comment: "unit of the tabulated " + w.plural},
 		{Key: "CRPIX3", Value: 1.0, Comment: "pixel k maps to index k of the table"},
 		{Key: "CRVAL3", Value: 1.0, Comment: "index of the first plane"},
 		{Key: "CDELT3", Value: 1.0, Comment: "index step between planes"},
-		{Key: "PS3_0", Value: waveTable, Comment: "EXTNAME of the table of wavelengths"},
-		{Key: "PS3_1", Value: waveColumn, Comment: "column of the wavelengths"},
+		{Key: "PS3_0", Value: waveTable, Comment: "EXTNAME of the table of " + w.plural},
+		{Key: "PS3_1", Value: waveColumn, Comment: "column of the " + w.plural},
 		{Key: "PV3_3", Value: 1, Comment: "axis of the coordinate array"},
-		{Key: "SPECSYS", Value: "TOPOCENT", Comment: "wavelengths as observed"},
-	}, true
+	}, w.tail...), true
 }
 
 func b2i(b bool) int {
