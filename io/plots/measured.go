@@ -262,18 +262,26 @@ func upperFirst(s string) string {
 	return s
 }
 
+// addErrorBars adds the vertical error bars of d to p, thin and grey under the points.
+func addErrorBars(p *plot.Plot, d dataPoints) error {
+	e, err := plotter.NewYErrorBars(d)
+	if err != nil {
+		return err
+	}
+	e.LineStyle.Color = color.Gray{110}
+	e.LineStyle.Width = vg.Points(0.6)
+	e.CapWidth = vg.Points(2.5)
+	p.Add(e)
+	return nil
+}
+
 // addGroups adds the data as points with error bars, coloured by group from the palette, with
 // the legend entry names[g] for group g.
 func addGroups(p *plot.Plot, d dataPoints, withErr bool, names []string) error {
 	if withErr {
-		e, err := plotter.NewYErrorBars(d)
-		if err != nil {
+		if err := addErrorBars(p, d); err != nil {
 			return err
 		}
-		e.LineStyle.Color = color.Gray{110}
-		e.LineStyle.Width = vg.Points(0.6)
-		e.CapWidth = vg.Points(2.5)
-		p.Add(e)
 	}
 	for g, gn := range names {
 		var xy plotter.XYs

@@ -237,14 +237,9 @@ func addData(p *plot.Plot, d dataPoints, withErr bool, name string, lr lambdaRan
 		}
 	}
 	if withErr {
-		e, err := plotter.NewYErrorBars(d)
-		if err != nil {
+		if err := addErrorBars(p, d); err != nil {
 			return err
 		}
-		e.LineStyle.Color = color.Gray{110}
-		e.LineStyle.Width = vg.Points(0.6)
-		e.CapWidth = vg.Points(2.5)
-		p.Add(e)
 	}
 	p.Add(s)
 	p.Legend.Add(name, s)
