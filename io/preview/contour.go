@@ -31,15 +31,10 @@ func RenderContours(img []float64, nx, ny int, contours []Contour, opt Options) 
 			panic(fmt.Sprintf("preview: contour %d: %d values for a %d × %d grid", i, len(c.Data), nx, ny))
 		}
 	}
-	sc, err := newScale(&opt, []Frame{f})
+	dst, area, err := renderOne(img, nx, ny, opt)
 	if err != nil {
 		return nil, err
 	}
-	fc, err := newFaces()
-	if err != nil {
-		return nil, err
-	}
-	dst, area := render(f, &opt, sc, fc, defaultSize(max(nx, ny), 512, opt.Size), opt.Subtitle)
 	for _, c := range contours {
 		drawContour(dst, area, nx, ny, c)
 	}

@@ -113,20 +113,26 @@ var (
 // with its ticks, and inside its corners the compass (N up, E left), the
 // scale bar in mas and the beam.
 func Render(img []float64, nx, ny int, opt Options) (*image.RGBA, error) {
+	out, _, err := renderOne(img, nx, ny, opt)
+	return out, err
+}
+
+// renderOne is Render, returning also the image's area in the output.
+func renderOne(img []float64, nx, ny int, opt Options) (*image.RGBA, image.Rectangle, error) {
 	f := Frame{Data: img, NX: nx, NY: ny}
 	if err := f.check(0); err != nil {
-		return nil, err
+		return nil, image.Rectangle{}, err
 	}
 	sc, err := newScale(&opt, []Frame{f})
 	if err != nil {
-		return nil, err
+		return nil, image.Rectangle{}, err
 	}
 	fc, err := newFaces()
 	if err != nil {
-		return nil, err
+		return nil, image.Rectangle{}, err
 	}
-	out, _ := render(f, &opt, sc, fc, defaultSize(max(nx, ny), 512, opt.Size), opt.Subtitle)
-	return out, nil
+	out, area := render(f, &opt, sc, fc, defaultSize(max(nx, ny), 512, opt.Size), opt.Subtitle)
+	return out, area, nil
 }
 
 // Encode writes the preview of Render as a PNG to w.
