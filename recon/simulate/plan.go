@@ -3,6 +3,7 @@ package simulate
 import (
 	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"path/filepath"
 	"strings"
@@ -170,6 +171,11 @@ func (e *PlanError) Unwrap() error { return e.Err }
 func LoadPlan(path string) (*Plan, error) {
 	src, err := safefile.ReadFile(path)
 	if err != nil {
+		// "plan.toml: no such file or directory", as the data files' errors read.
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = fmt.Errorf("%s: %w", path, pe.Err)
+		}
 		return nil, err
 	}
 	return ParsePlan(src, filepath.Base(path))

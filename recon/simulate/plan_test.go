@@ -2,6 +2,7 @@ package simulate
 
 import (
 	"errors"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -127,5 +128,18 @@ func TestRenamedNoiseKeys(t *testing.T) {
 	_, err := ParsePlan([]byte(src), "old.toml")
 	if err == nil || !strings.Contains(err.Error(), "noise.vis2_relative") || !strings.Contains(err.Error(), "old.toml:") {
 		t.Errorf("error %v", err)
+	}
+}
+
+// A missing plan file is named as the user gave it, without the system call's word, like
+// the data files' errors, and the cause stays visible to errors.Is.
+func TestLoadPlanMissing(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "nope.toml")
+	_, err := LoadPlan(path)
+	if err == nil || !errors.Is(err, fs.ErrNotExist) {
+		t.Fatalf("LoadPlan of a missing file: %v", err)
+	}
+	if want := path + ": "; !strings.HasPrefix(err.Error(), want) {
+		t.Errorf("error %q does not begin with %q", err, want)
 	}
 }
