@@ -12,5 +12,11 @@ func cpuHasAVX() bool
 //go:noescape
 func smoothPhaseAVX(b *phaseBlock, n int, eta2 float64)
 
+// exactPhaseAVX is exactPhaseBlockGo four triangles at a time, n a multiple of 4 (the caller
+// rounds up).
+//
+//go:noescape
+func exactPhaseAVX(b *phaseBlock, n int, tw float64)
+
 // hasPhaseAVX reports whether smoothPhaseBlock has its assembly form on this processor.
 var hasPhaseAVX = cpuHasAVX()

@@ -92,3 +92,50 @@ loop:
 	VZEROUPPER
 done:
 	RET
+
+// func exactPhaseAVX(b *phaseBlock, n int, tw float64)
+//
+// exactPhaseBlockGo on four triangles per step, n a multiple of 4, with the same operations in
+// the same order (see smoothPhaseAVX); the branch on |z|² > 0 is a mask that sets the exact
+// term and kb to 0.
+TEXT ·exactPhaseAVX(SB), NOSPLIT, $0-24
+	MOVQ b+0(FP), SI
+	MOVQ n+8(FP), CX
+	SHLQ $3, CX
+	TESTQ CX, CX
+	JZ done
+	VBROADCASTSD tw+16(FP), Y15
+	VBROADCASTSD phaseOne<>(SB), Y14
+	VBROADCASTSD phaseTwo<>(SB), Y13
+	VXORPD Y12, Y12, Y12
+	XORQ BX, BX
+loop:
+	VMOVUPD (SI)(BX*1), Y0        // x = Re z
+	VMOVUPD 512(SI)(BX*1), Y1     // y = Im z
+	VMOVUPD 1024(SI)(BX*1), Y2    // 1/σ²
+	VMULPD Y0, Y0, Y3
+	VMULPD Y1, Y1, Y4
+	VADDPD Y4, Y3, Y3             // |z|² = x·x + y·y
+	VMOVUPD Y3, 4096(SI)(BX*1)
+	VCMPPD $0x1e, Y12, Y3, Y6     // |z|² > 0 (greater than, ordered, quiet)
+	VSQRTPD Y3, Y3
+	VDIVPD Y3, Y14, Y3            // ia = 1/|z|
+	VMULPD Y3, Y0, Y0             // x·ia
+	VSUBPD Y0, Y14, Y0            // 1 − x·ia
+	VMULPD Y13, Y0, Y0            // 2·(1 − x·ia)
+	VMULPD Y2, Y0, Y0             // ·1/σ²
+	VANDPD Y6, Y0, Y0             // exact, or 0
+	VMOVUPD Y0, 1536(SI)(BX*1)
+	VMULPD Y1, Y15, Y1            // 2w·y
+	VMULPD Y3, Y1, Y1             // ·ia
+	VMULPD Y2, Y1, Y1             // ·1/σ²
+	VMULPD Y3, Y1, Y1             // ·ia
+	VMULPD Y3, Y1, Y1             // kb = 2w·y·ia·1/σ²·ia·ia
+	VANDPD Y6, Y1, Y1             // kb, or 0
+	VMOVUPD Y1, 3584(SI)(BX*1)
+	ADDQ $32, BX
+	CMPQ BX, CX
+	JLT loop
+	VZEROUPPER
+done:
+	RET

@@ -7,3 +7,6 @@ const hasPhaseAVX = false
 
 // smoothPhaseAVX is not in this build and never called.
 func smoothPhaseAVX(b *phaseBlock, n int, eta2 float64) { panic("recon: no assembly in this build") }
+
+// exactPhaseAVX is not in this build and never called.
+func exactPhaseAVX(b *phaseBlock, n int, tw float64) { panic("recon: no assembly in this build") }
