@@ -196,32 +196,59 @@ type gradExtra struct {
 
 // gradient is Gradient with the extra gradient ex (nil for none) added to each pixel.
 func (m *ForwardModel) gradient(grad []float64, ex *gradExtra) {
-	m.adjoint() // through the sub-samples of smearing when it is on
-	adj := m.adj[:len(grad)]
-	cm, inv := 0.0, 1.0
+	cm := 0.0
 	if m.norm {
 		for k, g := range m.gvis {
 			v := m.vis[k]
 			cm += real(g)*real(v) + imag(g)*imag(v)
 		}
+	}
+	m.gradientWith(grad, ex, cm)
+}
+
+// gradientWith is gradient with cm = Re Σ_k conj(G_k)·V_k already summed, in the order of
+// gradient (0 without normalisation). The sign (−1)^(ix − N/2) of the shifted points
+// (halfShift) is applied in the same pass, exactly as alternate would.
+func (m *ForwardModel) gradientWith(grad []float64, ex *gradExtra, cm float64) {
+	m.adjoint() // through the sub-samples of smearing when it is on
+	n := m.N
+	adj := m.adj[:len(grad)]
+	inv := 1.0
+	if m.norm {
 		inv = 1 / m.flux
 	}
-	switch {
-	case ex == nil && !m.norm:
-		copy(grad, adj)
-	case ex == nil:
-		for p, a := range adj {
-			grad[p] = (a - cm) * inv
-		}
-	case ex.r == nil:
-		for p, a := range adj {
-			grad[p] = (a-cm)*inv + ex.add
-		}
-	default:
-		r := ex.r[:len(adj)]
-		s, c, add := ex.s, ex.c, ex.add
-		for p, a := range adj {
-			grad[p] = (a-cm)*inv + s*(r[p]-c) + add
+	s0 := 1.0
+	if (n/2)%2 != 0 {
+		s0 = -1 // the sign at ix = 0
+	}
+	for iy := 0; iy < n; iy++ {
+		row, out := adj[iy*n:iy*n+n], grad[iy*n:iy*n+n]
+		out = out[:len(row)]
+		s := s0
+		switch {
+		case ex == nil && !m.norm:
+			for ix, a := range row {
+				out[ix] = s * a
+				s = -s
+			}
+		case ex == nil:
+			for ix, a := range row {
+				out[ix] = (s*a - cm) * inv
+				s = -s
+			}
+		case ex.r == nil:
+			for ix, a := range row {
+				out[ix] = (s*a-cm)*inv + ex.add
+				s = -s
+			}
+		default:
+			r := ex.r[iy*n : iy*n+n]
+			r = r[:len(row)]
+			sc, c, add := ex.s, ex.c, ex.add
+			for ix, a := range row {
+				out[ix] = (s*a-cm)*inv + sc*(r[ix]-c) + add
+				s = -s
+			}
 		}
 	}
 }

@@ -249,13 +249,29 @@ func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64
 	}
 	o.pool.run(o, parts)
 	extra := 0.0
+	// The parts' derivatives are added to the model's in part order; the last addition also
+	// sums Re Σ conj(G_k)·V_k of the gradient's normalisation (ForwardModel.gradient), in
+	// the same order, so that the derivatives are read once.
+	cm, haveCM := 0.0, false
 	for k := 0; k < parts; k++ {
 		pt := &o.parts[k]
 		for i := range o.chi2 {
 			o.chi2[i] += pt.chi2[i]
 		}
 		extra += pt.extra
-		if k > 0 {
+		switch {
+		case k == 0:
+		case k == parts-1 && m.norm && grad != nil:
+			gv, vis := m.gvis, m.vis[:len(m.gvis)]
+			pg := pt.gvis[:len(gv)]
+			for q, g := range gv {
+				g += pg[q]
+				gv[q] = g
+				v := vis[q]
+				cm += real(g)*real(v) + imag(g)*imag(v)
+			}
+			haveCM = true
+		default:
 			for q, g := range pt.gvis {
 				m.gvis[q] += g
 			}
@@ -276,7 +292,11 @@ func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64
 		}
 	}
 	total += extra
-	if grad != nil {
+	switch {
+	case grad == nil:
+	case haveCM:
+		m.gradientWith(grad, ex, cm)
+	default:
 		m.gradient(grad, ex)
 	}
 	return total
