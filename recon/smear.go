@@ -195,11 +195,11 @@ func (s *smearing) spread(g []complex128) {
 	}
 }
 
-// transform computes the model visibilities of x at the points, unnormalised: the transform,
+// transform computes the model visibilities of the image at the points, unnormalised, from
+// the image times the sign of the shifted points in m.xs (ForwardModel.shift): the transform,
 // then the band averages when smearing is modelled.
-func (m *ForwardModel) transform(x []float64) {
-	alternate(m.xs, x, m.N) // the transform's points are shifted by halfShift
-	x = m.xs
+func (m *ForwardModel) transform() {
+	x := m.xs
 	dst := m.vis
 	if m.smear != nil {
 		dst = m.smear.sub

@@ -199,18 +199,14 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	if len(x) != o.m.N*o.m.N {
 		panic(fmt.Sprintf("recon: image has %d pixels, grid has %d", len(x), o.m.N*o.m.N))
 	}
-	f := 0.0
-	for _, v := range x {
-		f += v
-	}
-	return o.eval(grad, x, f, nil)
+	return o.eval(grad, o.m.shift(x), nil)
 }
 
-// eval is Eval with the flux Σ x already summed (in the order of Eval) and the extra gradient
-// ex (nil for none) added in the pass that writes grad.
-func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64 {
+// eval is Eval after the model's shift of the image (ForwardModel.shift), which returned its
+// flux, with the extra gradient ex (nil for none) added in the pass that writes grad.
+func (o *Objective) eval(grad []float64, flux float64, ex *gradExtra) float64 {
 	m := o.m
-	m.forward(x, flux)
+	m.forward(flux)
 	o.bad = ""
 	if m.norm && (!(flux > 0) || math.IsInf(flux, 0)) {
 		o.bad = fmt.Sprintf("total flux of the image is %g", flux)
