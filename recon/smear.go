@@ -195,11 +195,11 @@ func (s *smearing) spread(g []complex128) {
 	}
 }
 
-// transform computes the model visibilities of x at the points, unnormalised: the transform,
+// transform computes the model visibilities of the image at the points, unnormalised, from
+// the image times the sign of the shifted points in m.xs (ForwardModel.shift): the transform,
 // then the band averages when smearing is modelled.
-func (m *ForwardModel) transform(x []float64) {
-	alternate(m.xs, x, m.N) // the transform's points are shifted by halfShift
-	x = m.xs
+func (m *ForwardModel) transform() {
+	x := m.xs
 	dst := m.vis
 	if m.smear != nil {
 		dst = m.smear.sub
@@ -214,7 +214,9 @@ func (m *ForwardModel) transform(x []float64) {
 	}
 }
 
-// adjoint computes the adjoint transform of the accumulated derivatives into m.adj.
+// adjoint computes the adjoint transform of the accumulated derivatives at the shifted points
+// into m.adj: the adjoint at the points times (−1)^(ix − N/2) (halfShift), a sign that
+// gradientWith applies.
 func (m *ForwardModel) adjoint() {
 	src := m.gvis
 	if m.smear != nil {
@@ -226,7 +228,6 @@ func (m *ForwardModel) adjoint() {
 	} else {
 		m.tr.Adjoint(m.adj, src)
 	}
-	alternate(m.adj, m.adj, m.N) // the transform's points are shifted by halfShift
 }
 
 // Smearing returns how the model treats bandwidth smearing.

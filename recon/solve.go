@@ -255,10 +255,8 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 	return func(grad, x []float64) float64 {
 		fl := 1.0
 		if e.rho > 0 {
-			fl = 0
-			for _, xi := range x {
-				fl += xi
-			}
+			// The flux, summed in the pass that gives the model its image (eval).
+			fl = e.obj.m.shift(x)
 			if !(fl > 0) {
 				// A trial point of the line search with every pixel at its lower bound has no
 				// normalised image. It gets a huge finite objective, so the search steps
@@ -304,7 +302,7 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 		}
 		var v float64
 		if e.rho > 0 {
-			v = e.obj.eval(grad, x, fl, &ex)
+			v = e.obj.eval(grad, fl, &ex)
 		} else {
 			v = e.obj.Eval(grad, x) // the flux is not summed above
 			if grad != nil && ex.r != nil {

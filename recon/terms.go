@@ -199,18 +199,14 @@ func (o *Objective) Eval(grad, x []float64) float64 {
 	if len(x) != o.m.N*o.m.N {
 		panic(fmt.Sprintf("recon: image has %d pixels, grid has %d", len(x), o.m.N*o.m.N))
 	}
-	f := 0.0
-	for _, v := range x {
-		f += v
-	}
-	return o.eval(grad, x, f, nil)
+	return o.eval(grad, o.m.shift(x), nil)
 }
 
-// eval is Eval with the flux Σ x already summed (in the order of Eval) and the extra gradient
-// ex (nil for none) added in the pass that writes grad.
-func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64 {
+// eval is Eval after the model's shift of the image (ForwardModel.shift), which returned its
+// flux, with the extra gradient ex (nil for none) added in the pass that writes grad.
+func (o *Objective) eval(grad []float64, flux float64, ex *gradExtra) float64 {
 	m := o.m
-	m.forward(x, flux)
+	m.forward(flux)
 	o.bad = ""
 	if m.norm && (!(flux > 0) || math.IsInf(flux, 0)) {
 		o.bad = fmt.Sprintf("total flux of the image is %g", flux)
@@ -249,13 +245,29 @@ func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64
 	}
 	o.pool.run(o, parts)
 	extra := 0.0
+	// The parts' derivatives are added to the model's in part order; the last addition also
+	// sums Re Σ conj(G_k)·V_k of the gradient's normalisation (ForwardModel.gradient), in
+	// the same order, so that the derivatives are read once.
+	cm, haveCM := 0.0, false
 	for k := 0; k < parts; k++ {
 		pt := &o.parts[k]
 		for i := range o.chi2 {
 			o.chi2[i] += pt.chi2[i]
 		}
 		extra += pt.extra
-		if k > 0 {
+		switch {
+		case k == 0:
+		case k == parts-1 && m.norm && grad != nil:
+			gv, vis := m.gvis, m.vis[:len(m.gvis)]
+			pg := pt.gvis[:len(gv)]
+			for q, g := range gv {
+				g += pg[q]
+				gv[q] = g
+				v := vis[q]
+				cm += real(g)*real(v) + imag(g)*imag(v)
+			}
+			haveCM = true
+		default:
 			for q, g := range pt.gvis {
 				m.gvis[q] += g
 			}
@@ -276,7 +288,11 @@ func (o *Objective) eval(grad, x []float64, flux float64, ex *gradExtra) float64
 		}
 	}
 	total += extra
-	if grad != nil {
+	switch {
+	case grad == nil:
+	case haveCM:
+		m.gradientWith(grad, ex, cm)
+	default:
 		m.gradient(grad, ex)
 	}
 	return total
