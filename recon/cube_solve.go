@@ -303,37 +303,35 @@ type planeReg struct {
 	eta      float64
 	cube     []float64
 	k, npix  int
-	rg, sg   []float64
+	sg       []float64 // ∂S/∂cube, for a spectral term without planeSpectral
 }
 
 func (r *planeReg) Eval(grad, x []float64) float64 {
-	v := 0.0
-	clear(grad)
+	// The spatial term writes its gradient into grad, which is then scaled by a (0: grad
+	// holds nothing yet) in the pass that adds the spectral term's.
+	v, a := 0.0, 0.0
 	if r.spatial != nil && r.mu != 0 {
-		var rg []float64
-		if grad != nil {
-			rg = r.rg
-		}
-		v = r.mu * r.spatial.Eval(rg, x)
-		for i := range grad {
-			grad[i] = r.mu * rg[i]
-		}
+		v, a = r.mu*r.spatial.Eval(grad, x), r.mu
 	}
 	if ps, ok := r.spectral.(planeSpectral); ok && r.eta != 0 {
-		var sg []float64
-		if grad != nil {
-			sg = r.sg[:r.npix]
+		return v + r.eta*ps.evalPlane(grad, a, r.eta, x)
+	}
+	if grad != nil {
+		if a == 0 {
+			clear(grad)
+		} else {
+			for i := range grad {
+				grad[i] *= a
+			}
 		}
-		v += r.eta * ps.evalPlane(sg, x, r.cube, r.k)
-		for i, g := range sg {
-			grad[i] += r.eta * g
-		}
-		return v
 	}
 	if r.spectral != nil && r.eta != 0 {
 		copy(r.cube[r.k*r.npix:], x)
 		var sg []float64
 		if grad != nil {
+			if len(r.sg) != len(r.cube) {
+				r.sg = make([]float64, len(r.cube))
+			}
 			sg = r.sg
 		}
 		v += r.eta * r.spectral.Eval(sg, r.cube)
@@ -488,7 +486,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	regs := make([]*planeReg, P)
 	nTot := 0
 	for k, pl := range cp.Planes {
-		pr := &planeReg{cube: cube, k: k, npix: npix, rg: make([]float64, npix), sg: make([]float64, P*npix)}
+		pr := &planeReg{cube: cube, k: k, npix: npix}
 		p := cp.Problem
 		p.Data, p.Choice, p.Weight = pl.Data, &g, 1
 		p.Reg = func(Grid) (Regularizer, error) { return pr, nil }
