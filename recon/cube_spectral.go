@@ -70,6 +70,10 @@ func cutLast(s string, sep byte) (before, after string, found bool) {
 // Planes images of NPix pixels, plane after plane.
 type SpectralSmoothness struct {
 	Planes, NPix int
+
+	mid []float64 // mean of the neighbours of the plane being fitted (planeSpectral)
+	nb  int       // their number
+	cst float64   // ‖x_{k−1} − x_{k+1}‖²/2 of those neighbours
 }
 
 // Eval returns S(x) and, when grad is non-nil, overwrites grad with ∂S/∂x.
@@ -148,42 +152,75 @@ func checkCube(who string, grad, x []float64, planes, n int) {
 
 // planeSpectral is a spectral regularizer that evaluates the part of itself that depends on
 // one plane, the others held fixed, faster than the whole: the sweeps of SolveCube fit one
-// plane at a time. prepare is called with the cube before a plane's runs; evalPlane returns
-// S(cube with plane k set to x) up to a constant that does not depend on x, and writes the
-// gradient with respect to x when grad is non-nil.
+// plane at a time. prepare is called with the cube before a plane's runs and may keep what
+// it needs of it; evalPlane returns S(cube with plane k set to x) up to a constant that does
+// not depend on x and, when grad is non-nil, sets grad to a·grad + b·∂S/∂x in the same pass,
+// so that a caller adds its own gradient without a pass of its own (a = 0 overwrites grad
+// without reading it).
 type planeSpectral interface {
 	prepare(cube []float64, k int)
-	evalPlane(grad, x, cube []float64, k int) float64
+	evalPlane(grad []float64, a, b float64, x []float64) float64
 }
 
-func (r *SpectralSmoothness) prepare([]float64, int) {}
-
-// evalPlane returns ‖x − x_{k−1}‖² + ‖x_{k+1} − x‖², the terms of S that hold plane k.
-func (r *SpectralSmoothness) evalPlane(grad, x, cube []float64, k int) float64 {
+// prepare keeps the mean m of plane k's neighbours (one or two planes), their number c and
+// ‖x_{k−1} − x_{k+1}‖²/2 (0 with one neighbour), for evalPlane.
+func (r *SpectralSmoothness) prepare(cube []float64, k int) {
 	n := r.NPix
-	clear(grad)
+	if len(r.mid) != n {
+		r.mid = make([]float64, n)
+	}
+	r.nb, r.cst = 0, 0
+	switch {
+	case k > 0 && k < r.Planes-1:
+		a, b := cube[(k-1)*n:k*n], cube[(k+1)*n:(k+2)*n]
+		s := 0.0
+		for i := range r.mid {
+			r.mid[i] = 0.5 * (a[i] + b[i])
+			d := a[i] - b[i]
+			s += d * d
+		}
+		r.nb, r.cst = 2, 0.5*s
+	case k > 0:
+		copy(r.mid, cube[(k-1)*n:k*n])
+		r.nb = 1
+	case k < r.Planes-1:
+		copy(r.mid, cube[(k+1)*n:(k+2)*n])
+		r.nb = 1
+	}
+}
+
+// evalPlane returns ‖x − x_{k−1}‖² + ‖x_{k+1} − x‖², the terms of S that hold plane k
+// (those of the neighbours that exist), as c·‖x − m‖² + ‖x_{k−1} − x_{k+1}‖²/2 with m the
+// mean of the c neighbours (the identity ‖x − a‖² + ‖x − b‖² = 2‖x − (a+b)/2‖² + ‖a − b‖²/2),
+// in one pass.
+func (r *SpectralSmoothness) evalPlane(grad []float64, a, b float64, x []float64) float64 {
+	c := float64(r.nb)
+	m := r.mid[:len(x)]
 	s := 0.0
-	if k > 0 {
-		a := cube[(k-1)*n : k*n]
+	switch {
+	case grad == nil:
 		for i, v := range x {
-			d := v - a[i]
+			d := v - m[i]
 			s += d * d
-			if grad != nil {
-				grad[i] += 2 * d
-			}
+		}
+	case a == 0:
+		grad = grad[:len(x)]
+		g := 2 * c * b
+		for i, v := range x {
+			d := v - m[i]
+			s += d * d
+			grad[i] = g * d
+		}
+	default:
+		grad = grad[:len(x)]
+		g := 2 * c * b
+		for i, v := range x {
+			d := v - m[i]
+			s += d * d
+			grad[i] = a*grad[i] + g*d
 		}
 	}
-	if k < r.Planes-1 {
-		b := cube[(k+1)*n : (k+2)*n]
-		for i, v := range x {
-			d := b[i] - v
-			s += d * d
-			if grad != nil {
-				grad[i] -= 2 * d
-			}
-		}
-	}
-	return s
+	return c*s + r.cst
 }
 
 // prepare sums the squares of the other planes, pixel by pixel.
@@ -205,7 +242,7 @@ func (r *JointSparsity) prepare(cube []float64, k int) {
 
 // evalPlane returns Σ_p √(x_p² + Σ_{j≠k} x_{j,p}² + ε²), which is L itself, with the sums of
 // the other planes from prepare.
-func (r *JointSparsity) evalPlane(grad, x, _ []float64, _ int) float64 {
+func (r *JointSparsity) evalPlane(grad []float64, a, b float64, x []float64) float64 {
 	eps := r.Eps
 	if eps == 0 {
 		eps = 0.01 / float64(r.NPix)
@@ -215,8 +252,12 @@ func (r *JointSparsity) evalPlane(grad, x, _ []float64, _ int) float64 {
 	for p, v := range x {
 		q := math.Sqrt(v*v + r.others[p] + e2)
 		s += q
-		if grad != nil {
-			grad[p] = v / q
+		switch {
+		case grad == nil:
+		case a == 0:
+			grad[p] = b * v / q
+		default:
+			grad[p] = a*grad[p] + b*v/q
 		}
 	}
 	return s

@@ -508,13 +508,23 @@ func TestPlaneSpectral(t *testing.T) {
 			sx := r.Eval(full, with(x))
 			sy := r.Eval(nil, with(y))
 			g := make([]float64, n)
-			px := ps.evalPlane(g, x, cube, k)
-			py := ps.evalPlane(nil, y, cube, k)
+			px := ps.evalPlane(g, 0, 1, x)
+			py := ps.evalPlane(nil, 0, 1, y)
 			if d := (sx - sy) - (px - py); math.Abs(d) > 1e-12*math.Abs(sx) {
 				t.Errorf("%T plane %d: differences %.17g and %.17g", r, k, sx-sy, px-py)
 			}
 			if e := relErr(g, full[k*n:(k+1)*n]); e > 1e-14 {
 				t.Errorf("%T plane %d: gradient relative error %.3g", r, k, e)
+			}
+			// grad = a·grad + b·∂S/∂x: a = 0.5, b = 3 on a grad holding y.
+			gab := append([]float64(nil), y...)
+			ps.evalPlane(gab, 0.5, 3, x)
+			want := make([]float64, n)
+			for i := range want {
+				want[i] = 0.5*y[i] + 3*full[k*n+i]
+			}
+			if e := relErr(gab, want); e > 1e-14 {
+				t.Errorf("%T plane %d: a·grad + b·∂S/∂x has relative error %.3g", r, k, e)
 			}
 		}
 	}

@@ -211,6 +211,12 @@ type engine struct {
 	rho     float64 // weight of the flux term ρ(Σx − 1)²
 	total   int     // iterations of all runs
 	stopped bool    // Progress asked to stop
+	// curv, when non-nil, is the curvature memory that run resumes from and leaves its own
+	// in (SolveCube's sweeps); nil starts every run without memory.
+	curv *optim.State
+	// single, when set, ends a run at the relative-change test without the restarts that
+	// confirm it (SolveCube, whose test across sweeps stands in for them).
+	single bool
 }
 
 func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
@@ -347,12 +353,13 @@ const stallDecrease = 1e-6
 const maxRestarts = 3
 
 // run minimises from x0 at weight mu with the used types and the iteration limit given. Every
-// run starts without curvature memory: a scale carried over from another weight or data
-// term can be wrong by orders of magnitude (measured: a scale collapsed to 10⁻²⁰ near model
-// nulls froze every following run of a weight search). The relative-change test (FTol over
-// ftolWindow iterations) can be met by a quasi-Newton method creeping with tiny steps, so a
-// run that meets it is restarted from where it is with fresh memory, whose first step moves
-// the image by a few per cent; it has converged when the restarted run gains nothing either.
+// run starts without curvature memory, unless e.curv holds some (SolveCube): a scale carried
+// over from another weight or data term can be wrong by orders of magnitude (measured: a
+// scale collapsed to 10⁻²⁰ near model nulls froze every following run of a weight search).
+// The relative-change test (FTol over ftolWindow iterations) can be met by a quasi-Newton
+// method creeping with tiny steps, so a run that meets it is restarted from where it is with
+// fresh memory, whose first step moves the image by a few per cent; it has converged when the
+// restarted run gains nothing either (unless e.single: then it ends at the test).
 func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int, stage string) (runOut, error) {
 	prev := e.obj.Use()
 	e.obj.SetUse(use)
@@ -367,7 +374,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	var types []TermChi2
 	var segStart int   // index in hist where the current segment starts
 	var windowHit bool // the current segment met the relative-change test
-	st := optim.Settings{FTol: -1, PGTol: e.s.PGTol, Memory: lbfgsMemory}
+	st := optim.Settings{FTol: -1, PGTol: e.s.PGTol, Memory: lbfgsMemory, Resume: e.curv}
 	st.Callback = func(it optim.Iter) bool {
 		hist = append(hist, it.F)
 		if e.s.Progress != nil {
@@ -425,6 +432,10 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		if res.Status == optim.IterationLimit || !(windowHit || res.Status == optim.LineSearchFailure) {
 			break
 		}
+		if windowHit && e.single {
+			out.Converged = true
+			break
+		}
 		// Met the relative-change test or found no step: restart with fresh memory, unless a
 		// restart already gained nothing.
 		// A fresh start that finds no step at all, or gains nothing, is at a minimum to the
@@ -439,6 +450,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 			break
 		}
 		restarts++
+		e.curv.Reset()
 	}
 	out.Iter, out.Hist = len(hist), hist
 	out.Tail = math.NaN()

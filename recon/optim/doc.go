@@ -61,6 +61,7 @@
 // call of Minimize; iterations allocate nothing. The computation is
 // sequential and deterministic: the same problem and start give the
 // bit-identical result. Every point passed to Func lies within the bounds.
-// Minimize keeps no state between calls, so concurrent calls on distinct
-// problems are safe.
+// Minimize keeps no state between calls, unless given a State to resume
+// from and keep its curvature memory in (Settings.Resume), so concurrent
+// calls on distinct problems, with distinct States, are safe.
 package optim

@@ -61,6 +61,10 @@ type Settings struct {
 	// long and its line search costs many evaluations.
 	Scale float64
 
+	// Resume, when non-nil, is the curvature memory the run starts from and leaves its own
+	// in at the end (State); its workspace is reused.
+	Resume *State
+
 	// Callback, when non-nil, is called after every accepted iteration.
 	// Returning false stops the run with Status CallbackStop.
 	Callback func(Iter) bool
@@ -252,11 +256,12 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		m = DefaultMemory
 	}
 
-	w := newWorkspace(n, m)
+	w := s.Resume.workspace(n, m)
 	r := &run{p: p, w: w}
 	if s.Scale > 0 && !math.IsInf(s.Scale, 0) {
 		r.gamma = s.Scale
 	}
+	s.Resume.resume(r)
 	copy(w.x, x0)
 	r.project(w.x)
 
@@ -269,6 +274,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		res.Status = st
 		res.ProjGradNorm = r.pgnorm
 		res.Scale = r.gamma
+		s.Resume.keep(r)
 		return res, err
 	}
 
