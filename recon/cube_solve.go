@@ -771,7 +771,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		res.Planes = append(res.Planes, pr)
 		if pr.Chi2r > 1.25*pr.Chi2rTarget {
 			res.Warnings = append(res.Warnings, fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, above 1.25 times the %.3g expected: try a smaller -spectral factor", k+1, pr.Label, pr.Chi2r, pr.Chi2rTarget))
-		} else if w := overfitWarning(k, &pr); w != "" {
+		} else if w := overfitWarning(k, &pr, res.Chi2rAim); w != "" {
 			res.Warnings = append(res.Warnings, w)
 		}
 	}

@@ -15,15 +15,17 @@ type CubeWeightStep struct {
 }
 
 // Bounds of the search for the factor α of the planes' spatial weights (chooseCubeFactor):
-// at most CubeWeightSteps factors in all, α = 1 included, at most cubeFactorDecadesDown
-// decades below 1 to find the floor, and up from 1 in steps of cubeFactorUpStep decades to
-// at most cubeFactorDecadesUp decades above 1 to pass the target (common practice, no
-// source: each factor costs one cube of sweeps, so the search stays within a few cubes).
-// The steps up are wide because the gray weight of a chromatic object is small: its search
-// aims just above the floor that the chromatic misfit sets, where the regularizer barely
-// weighs (measured on a 2 mas disc with spectral index −3 and a 6 mas Gaussian with +1, six
-// telescopes, 8 channels: the planes' Σχ²/ΣN was 0.556, 0.557, 0.557 and 0.575 at α = 0.1,
-// 10, 100 and 1000 against an aim of 0.707).
+// at most CubeWeightSteps factors in all, α = 1 included; at most cubeFactorDecadesDown
+// decades below 1 to find the floor; up from the first factor up in steps of
+// cubeFactorUpStep decades, at most cubeFactorDecadesUp decades above it, to pass the target
+// (common practice, no source: each factor costs one cube of sweeps, so the search stays
+// within a few cubes). The first factor up is the gray search's first weight over the gray
+// weight, and at least 10^cubeFactorUpStep: the gray weight of a chromatic object is small,
+// as its search aims just above the floor that the chromatic misfit sets, where the
+// regularizer barely weighs (measured on a 2 mas disc with spectral index −3 and a 6 mas
+// Gaussian with +1, six telescopes, 8 channels: the planes' Σχ²/ΣN was 0.556, 0.557, 0.557
+// and 0.575 at α = 0.1, 10, 100 and 1000 against an aim of 0.707), and it can lie anywhere
+// in the gray search's range of 14 decades.
 const (
 	CubeWeightSteps       = 6
 	cubeFactorDecadesDown = 2
@@ -48,30 +50,34 @@ type cubeFactorSearch struct {
 // its sweeps settled. label names the run for progress reports.
 type cubeFactorRun func(alpha float64, from int, label string) (chi2r float64, iter int, converged bool, err error)
 
-// chooseCubeFactor chooses the common factor α of the planes' spatial weights μ_k =
-// α·μ·N_k/N by the discrepancy aim of Solve's weight choice (chooseWeight), measured on the
-// cube's Σχ²/ΣN over all planes: the target lies between the floor, the χ²ᵣ of the
-// least-regularized cubes, and the expected χ²ᵣ τ of all the planes' data,
+// chooseCubeFactor chooses the common factor α of the planes' spatial weights μ_k = α·μ·N_k/N
+// by the discrepancy aim of Solve's weight choice (chooseWeight), measured on the cube's Σχ²/ΣN
+// over all planes: the target lies between the floor, the χ²ᵣ of the least-regularized cubes,
+// and the expected χ²ᵣ τ of all the planes' data,
 //
 //	χ²_target = χ²_min + max(FloorShare·(τ − χ²_min), FloorMargin·χ²_min, FloorNoise·τ·√(2/N)),
 //
 // with N the planes' data in all and scatter = τ·√(2/N), and a factor is on target within a
-// quarter of the margin (the tolerances of chooseWeight). The cube at α = 1, which run has
-// made already and whose Σχ²/ΣN is chi1, is the first step. The search goes down from α = 1
-// by decades until χ²ᵣ falls by less than FloorFlat·τ over a decade (the floor) or
-// cubeFactorDecadesDown decades are done, each run from the last cube; then up from α = 1 by
-// cubeFactorUpStep decades at a time, each run from the last cube, while no factor fits
-// worse than the target (at most cubeFactorDecadesUp decades); then it refines log α between
-// the factors that bracket the target by regula falsi (Illinois variant; Dowell & Jarratt
-// 1971) on log(χ²ᵣ − χ²_min + tol), the rise above the floor (softened by the tolerance tol
-// so that the floor itself has a finite value), which grows about as a power of the weight
-// once the regularizer starts to weigh (common practice, no source; on such a curve regula
-// falsi on χ²ᵣ itself spent its steps creeping along the flat side of a two-decade bracket,
-// TestChooseCubeFactor). Each refining run starts from the cube of the bracketing
-// larger factor (the smoother cube, as in chooseWeight), until χ²ᵣ is on target or
-// CubeWeightSteps factors were tried. The factor chosen is that of the step nearest the
-// target, one at or below it preferred, as in chooseWeight.
-func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, tau, scatter float64, run cubeFactorRun) (cubeFactorSearch, error) {
+// quarter of the margin (the tolerances of chooseWeight). The cube at α = 1, which run has made
+// already and whose Σχ²/ΣN is chi1, is the first step. The search goes down from α = 1 by
+// decades until χ²ᵣ falls by less than FloorFlat·τ over a decade (the floor) or
+// cubeFactorDecadesDown decades are done, each run from the last cube; then up by
+// cubeFactorUpStep decades at a time from up0 (or 10^cubeFactorUpStep if larger) to at most
+// cubeFactorDecadesUp decades above it, the first run from the cube at α = 1 and each other
+// from the last cube, while no factor fits worse than the target; then it refines log α between
+// the factors that bracket the target by regula falsi (Illinois variant; Dowell & Jarratt 1971)
+// on log(χ²ᵣ − χ²_min + tol), the rise above the floor (softened by the tolerance tol so that
+// the floor itself has a finite value), which grows about as a power of the weight once the
+// regularizer starts to weigh (common practice, no source; on such a curve regula falsi on χ²ᵣ
+// itself spent its steps creeping along the flat side of a two-decade bracket,
+// TestChooseCubeFactor). Each refining run starts from the cube of the factor tried nearest in
+// log α, until χ²ᵣ is on target or CubeWeightSteps factors were tried. (Solve's weight search
+// refines from the image of the bracketing larger weight; the cube's runs are fewer and
+// shorter, and from a cube smoothed by a factor 100 too large they did not come back: a disc
+// growing 20 % across the band, 8 planes, gave Σχ²/ΣN 1.276 at α = 100 and 4.78 at α = 120
+// started from α = 10⁴.) The factor chosen is that of the step nearest the target, one at or
+// below it preferred, as in chooseWeight.
+func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, up0, tau, scatter float64, run cubeFactorRun) (cubeFactorSearch, error) {
 	var fs cubeFactorSearch
 	fs.path = append(fs.path, CubeWeightStep{Factor: 1, Chi2r: chi1, Iter: iter1, Converged: conv1})
 	step := func(alpha float64, from int) (int, error) {
@@ -131,8 +137,9 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, tau, scatter float64,
 	// Up from α = 1 while no factor fits worse than the target.
 	above, below := bracket()
 	last = 0
-	for d := cubeFactorUpStep; above < 0 && d <= cubeFactorDecadesUp && len(fs.path) < CubeWeightSteps; d += cubeFactorUpStep {
-		k, err := step(math.Pow(10, float64(d)), last)
+	up0 = max(up0, math.Pow(10, cubeFactorUpStep))
+	for d := 0; above < 0 && d <= cubeFactorDecadesUp && len(fs.path) < CubeWeightSteps; d += cubeFactorUpStep {
+		k, err := step(up0*math.Pow(10, float64(d)), last)
 		if err != nil {
 			return fs, err
 		}
@@ -147,6 +154,25 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, tau, scatter float64,
 	rise := func(c float64) float64 {
 		return math.Log(math.Max(c-fs.floor+tol, 0.1*tol) / (fs.target - fs.floor + tol))
 	}
+	// nearest returns the usable step whose log α is nearest lm, the larger factor on a tie.
+	nearest := func(lm float64) int {
+		n := -1
+		for k, st := range fs.path {
+			if !usable(k) {
+				continue
+			}
+			d := math.Abs(math.Log(st.Factor) - lm)
+			if n < 0 {
+				n = k
+				continue
+			}
+			dn := math.Abs(math.Log(fs.path[n].Factor) - lm)
+			if d < dn || (d == dn && st.Factor > fs.path[n].Factor) {
+				n = k
+			}
+		}
+		return n
+	}
 	if above >= 0 && below >= 0 {
 		side := 0
 		la, lb := math.Log(fs.path[above].Factor), math.Log(fs.path[below].Factor)
@@ -156,7 +182,7 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, tau, scatter float64,
 			if !finite(lm) || lm <= math.Min(la, lb) || lm >= math.Max(la, lb) {
 				lm = 0.5 * (la + lb)
 			}
-			k, err := step(math.Exp(lm), above)
+			k, err := step(math.Exp(lm), nearest(lm))
 			if err != nil {
 				return fs, err
 			}
@@ -219,16 +245,23 @@ func grayFits(gray *Result) bool {
 }
 
 // overfitWarning returns the warning for plane k of a cube that fits its data far below
-// its expected χ²ᵣ τ: below τ/VerdictChi2Ratio and below τ by more than three times the
-// scatter τ·√(2/N) of χ²ᵣ for its N data (the mirror of the warning above
-// VerdictChi2Ratio·τ; common practice, no source). It returns "" otherwise.
-func overfitWarning(k int, p *PlaneResult) string {
-	tau := p.Chi2rTarget
-	if !(tau > 0) || p.N == 0 {
+// its expected χ²ᵣ τ, or below the cube's aim when the factor search aimed lower (aim > 0,
+// CubeResult.Chi2rAim: the least-regularized cubes fit below τ, and the aim lies between
+// them and τ as the gray image's does): below that level over VerdictChi2Ratio and below it
+// by more than three times the scatter of χ²ᵣ for the plane's N data, level·√(2/N) (the
+// mirror of the warning above VerdictChi2Ratio·τ; common practice, no source). It returns ""
+// otherwise.
+func overfitWarning(k int, p *PlaneResult, aim float64) string {
+	ref := p.Chi2rTarget
+	if !(ref > 0) || p.N == 0 {
 		return ""
 	}
-	if p.Chi2r < tau/VerdictChi2Ratio && p.Chi2r < tau*(1-3*math.Sqrt(2/float64(p.N))) {
-		return fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, far below the %.3g expected: it may fit the noise; try a larger -weight", k+1, p.Label, p.Chi2r, tau)
+	what := "expected"
+	if aim > 0 && aim < ref {
+		ref, what = aim, "aimed at"
+	}
+	if p.Chi2r < ref/VerdictChi2Ratio && p.Chi2r < ref*(1-3*math.Sqrt(2/float64(p.N))) {
+		return fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, far below the %.3g %s: it may fit the noise; try a larger -weight", k+1, p.Label, p.Chi2r, ref, what)
 	}
 	return ""
 }
@@ -306,7 +339,13 @@ func cubeFactor(res *CubeResult, x, cube []float64, last *[]runOut, c *CubeObjec
 		states = append(states, state{append([]float64(nil), x...), append([]runOut(nil), *last...), res.Converged})
 		return ch, res.TotalIter - before, res.Converged, nil
 	}
-	fs, err := chooseCubeFactor(chi1, iter1, res.Converged, tau, scatter, run)
+	// The first factor up: the gray search's first weight, at which the regularizer
+	// weighs a tenth of the data at the start (Solve's initialWeight), shared the same way.
+	up0 := 0.0
+	if g := res.Gray; g != nil && len(g.Path) > 0 && g.Weight > 0 {
+		up0 = g.Path[0].Weight / g.Weight
+	}
+	fs, err := chooseCubeFactor(chi1, iter1, res.Converged, up0, tau, scatter, run)
 	if err != nil {
 		return err
 	}
