@@ -2,6 +2,7 @@ package recon
 
 import (
 	"math"
+	"slices"
 	"testing"
 
 	"vcz/dataset"
@@ -233,5 +234,45 @@ func TestCubeChromaticWeight(t *testing.T) {
 	}
 	if !(now.l1 < old.l1) {
 		t.Errorf("mean L1 to the truth %.4f with the factor chosen, %.4f at α = 1", now.l1, old.l1)
+	}
+}
+
+// TestCubeFactorWorkers checks that the factor search does not depend on the number of
+// workers of the transforms: a disc and a Gaussian of opposite spectral indices, whose gray
+// image cannot fit all channels, give the same factors and the same bits with 1 and 3
+// workers.
+func TestCubeFactorWorkers(t *testing.T) {
+	vis := func(l float64) func(u, v float64) complex128 {
+		a, b := math.Pow(l/1.6e-6, -3), 0.5*(l/1.6e-6)
+		return func(u, v float64) complex128 {
+			q := math.Hypot(u, v)
+			return complex((a*UniformDiscV(2*Mas, q)+b*GaussianV(4*Mas, q))/(a+b), 0)
+		}
+	}
+	d := observeChromatic(41, 5, 100, vis,
+		synthOpts{nchan: 6, nha: 4, lmin: 1.5e-6, lmax: 2.4e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{Groups: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var imgs [][]float64
+	var paths [][]CubeWeightStep
+	for _, w := range []int{1, 3} {
+		s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 4, Workers: w}
+		r, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.4 * Mas}}, Planes: planes}, s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(r.WeightPath) < 2 {
+			t.Fatalf("no factor search (gray χ²ᵣ %.3g, floor %.3g, expected %.3g)", r.Gray.Chi2r, r.Gray.Chi2rFloor, r.Gray.Chi2rTarget)
+		}
+		var all []float64
+		for _, p := range r.Planes {
+			all = append(all, p.Image...)
+		}
+		imgs, paths = append(imgs, all), append(paths, r.WeightPath)
+	}
+	if !slices.Equal(imgs[0], imgs[1]) || !slices.Equal(paths[0], paths[1]) {
+		t.Errorf("the cube depends on the number of workers: factors %+v and %+v", paths[0], paths[1])
 	}
 }
