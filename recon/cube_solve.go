@@ -252,7 +252,8 @@ type CubeResult struct {
 	// weight and the start (nil for one plane, whose result it would be).
 	Gray *Result
 	// Weight is the spatial weight μ of the gray run, shared among the planes by their
-	// numbers of data; Spectral, SpectralWeight and SpectralValue are S, η and S(x).
+	// numbers of data (times WeightFactor); Spectral, SpectralWeight and SpectralValue are
+	// S, η and S(x).
 	Weight         float64
 	Spectral       Spectral
 	SpectralWeight float64
