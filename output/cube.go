@@ -202,6 +202,10 @@ func CubeCards(r CubeRun) []fitsimage.Card {
 	}
 	if res.Gray != nil {
 		c = append(c, fitsimage.Card{Key: "CHI2RGRY", Value: res.Gray.Chi2r, Comment: "reduced chi2 of the gray image"})
+		c = append(c, fitsimage.Card{Key: "PENFAC", Value: res.WeightFactor, Comment: "factor on the planes' shares of PENWT"})
+	}
+	if len(res.WeightPath) > 0 {
+		c = append(c, fitsimage.Card{Key: "CHI2AIM", Value: res.Chi2rAim, Comment: "reduced chi2 of all planes aimed at by PENFAC"})
 	}
 	for k, p := range res.Planes {
 		c = append(c,

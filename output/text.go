@@ -142,6 +142,13 @@ type CubeSummary struct {
 	Notices        []string     `json:"notices,omitempty"`
 	Warnings       []string     `json:"warnings"`
 	Outputs        CubePaths    `json:"outputs"`
+	// WeightFactor is the factor on the planes' shares of Weight; WeightFactors the
+	// number of factors tried, Chi2rFloor and Chi2rAim the least χ²ᵣ of all planes over
+	// them and the χ²ᵣ aimed at (0 without a search).
+	WeightFactor  float64 `json:"weight_factor,omitempty"`
+	WeightFactors int     `json:"weight_factors,omitempty"`
+	Chi2rFloor    float64 `json:"chi2r_floor,omitempty"`
+	Chi2rAim      float64 `json:"chi2r_aim,omitempty"`
 }
 
 // CubeGridJ is the grid of a cube, in the shape of GridJ.
@@ -170,6 +177,7 @@ func NewCubeSummary(run CubeRun, paths CubePaths) CubeSummary {
 	if res.Gray != nil {
 		s.GrayChi2r = res.Gray.Chi2r
 	}
+	s.WeightFactor, s.WeightFactors, s.Chi2rFloor, s.Chi2rAim = res.WeightFactor, len(res.WeightPath), res.Chi2rFloor, res.Chi2rAim
 	for _, p := range res.Planes {
 		s.Planes = append(s.Planes, CubePlaneJ{Channels: p.Label, WaveUm: p.Coord * 1e6, N: p.N, Chi2r: p.Chi2r,
 			XMas: p.X / recon.Mas, YMas: p.Y / recon.Mas, SizeMas: p.Size / recon.Mas})
@@ -182,6 +190,10 @@ func (s CubeSummary) WriteText(w io.Writer) {
 	fmt.Fprintf(w, "Grid:        %d × %d pixels of %.4g mas\n", s.Grid.N, s.Grid.N, s.Grid.PixelMas)
 	fmt.Fprintf(w, "Cube:        %d planes; spatial weight %.4g (of the gray image, χ²ᵣ %.4g), spectral %s weight %.4g\n",
 		len(s.Planes), s.Weight, s.GrayChi2r, s.Spectral, s.SpectralWeight)
+	if s.WeightFactors > 0 {
+		fmt.Fprintf(w, "             planes' spatial weights %.4g times their share of it, chosen from %d factors: χ²ᵣ of all planes aimed at %.4g, above %.4g of the least-regularized cubes\n",
+			s.WeightFactor, s.WeightFactors, s.Chi2rAim, s.Chi2rFloor)
+	}
 	fmt.Fprintf(w, "  %-16s %9s %7s %8s %9s %9s %9s\n", "channels", "λ (µm)", "data", "χ²ᵣ", "x (mas)", "y (mas)", "size (mas)")
 	for _, p := range s.Planes {
 		fmt.Fprintf(w, "  %-16s %9.4f %7d %8.4g %9.4f %9.4f %9.4f\n", p.Channels, p.WaveUm, p.N, p.Chi2r, p.XMas, p.YMas, p.SizeMas)

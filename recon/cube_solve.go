@@ -252,7 +252,8 @@ type CubeResult struct {
 	// weight and the start (nil for one plane, whose result it would be).
 	Gray *Result
 	// Weight is the spatial weight μ of the gray run, shared among the planes by their
-	// numbers of data; Spectral, SpectralWeight and SpectralValue are S, η and S(x).
+	// numbers of data (times WeightFactor); Spectral, SpectralWeight and SpectralValue are
+	// S, η and S(x).
 	Weight         float64
 	Spectral       Spectral
 	SpectralWeight float64
@@ -268,6 +269,14 @@ type CubeResult struct {
 	StopReason  string
 	Notices     []string
 	Warnings    []string
+
+	// WeightFactor is the common factor α of the planes' spatial weights, μ_k =
+	// α·Weight·N_k/N (1 unless SolveCube chose it; 0 for given start images), WeightPath
+	// the factors it tried, and Chi2rFloor and Chi2rAim the least Σχ²/ΣN over them and
+	// the Σχ²/ΣN aimed at (chooseCubeFactor; 0 without a search).
+	WeightFactor         float64
+	WeightPath           []CubeWeightStep
+	Chi2rFloor, Chi2rAim float64
 }
 
 // DefaultSpectralSmooth is the constant c of the automatic weight of SpectralSmoothness,
@@ -349,9 +358,16 @@ func (r *planeReg) Eval(grad, x []float64) float64 {
 //
 //  1. Solve reconstructs the gray image x̄ of all the data (grid, automatic weight μ and
 //     every step of Solve).
-//  2. Each plane k gets the spatial weight μ_k = μ·N_k/N, N_k its number of data and N
-//     theirs in total: the balance between a plane's χ² and its regularizer is the gray
-//     one (Σ_k μ_k = μ, and a cube of identical planes has the gray objective).
+//  2. Each plane k gets the spatial weight μ_k = α·μ·N_k/N, N_k its number of data and N
+//     theirs in total: at α = 1 the balance between a plane's χ² and its regularizer is
+//     the gray one (Σ_k μ_k = μ, and a cube of identical planes has the gray objective).
+//     α is 1 when the gray image fits all channels (its least-regularized χ²ᵣ within twice
+//     the scatter of the expected one) or its weight was given; otherwise the gray image
+//     is biased by the object's colours, its weight aims at the floor that the chromatic
+//     misfit sets and says nothing of the planes, and α is chosen after the sweeps of step
+//     4 at α = 1 by the discrepancy aim of Solve measured on the cube's Σχ²/ΣN, each
+//     factor's sweeps warm-started from an earlier cube (chooseCubeFactor, at most
+//     CubeWeightSteps cubes).
 //  3. The spectral weight, unless given: for SpectralSmoothness η = c·N̄/‖x̄‖² with N̄ the
 //     mean N_k, so that two neighbouring planes that differ by a fraction δ of the gray
 //     image (in the ℓ2 norm) cost c·N̄·δ², as much as the χ² of a plane rising by δ²·c
@@ -466,7 +482,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	npix := g.N * g.N
 	res := &CubeResult{Grid: g, Gray: gray, Spectral: cp.Spectral}
 	if gray != nil {
-		res.Weight, res.TotalIter = gray.Weight, gray.TotalIter
+		res.Weight, res.TotalIter, res.WeightFactor = gray.Weight, gray.TotalIter, 1
 		res.Notices = append(res.Notices, gray.Notices...)
 	}
 	// 2. The planes: an engine each, on the common grid.
@@ -514,6 +530,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		nTot += pl.Data.Len(e.obj.Use())
 		c.Planes = append(c.Planes, &CubePlaneTerm{Obj: e.obj, Reg: pr.spatial, Rho: e.rho})
 	}
+	mu0 := make([]float64, P) // the weights at α = 1
 	for k, t := range c.Planes {
 		switch {
 		case cp.Starts == nil:
@@ -523,6 +540,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			res.Weight += t.Mu
 		}
 		regs[k].mu = t.Mu
+		mu0[k] = t.Mu
 	}
 	x := make([]float64, P*npix) // the planes as the engines hold them (flux ≈ 1)
 	copy(x, cube)
@@ -727,8 +745,21 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		copy(cube, keptCube)
 		c.Eta, res.Converged = keptEta, keptConv
 		last = append(last[:0], keptLast...)
-	} else if err := sweeps(c.Eta, ""); err != nil {
-		return nil, err
+	} else {
+		before := res.TotalIter
+		if err := sweeps(c.Eta, ""); err != nil {
+			return nil, err
+		}
+		if cp.Starts == nil && gray.Chi2rFloor > 0 && regs[0].spatial != nil && !grayFits(gray) {
+			// The factor α of the planes' spatial weights, from the cube's own fit
+			// (chooseCubeFactor), when the gray weight was chosen from the data and the
+			// gray image could not fit all channels. Each factor's sweeps start from a
+			// fitted cube, so they fit the exact terms from the first sweep on.
+			s.NoAmplitudeFirst, smoothing = true, 0
+			if err := cubeFactor(res, x, cube, &last, c, regs, mu0, res.TotalIter-before, planeChi2r, sweeps); err != nil {
+				return nil, err
+			}
+		}
 	}
 	res.SpectralWeight = c.Eta
 	for _, r := range last {
@@ -766,6 +797,8 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		res.Planes = append(res.Planes, pr)
 		if pr.Chi2r > 1.25*pr.Chi2rTarget {
 			res.Warnings = append(res.Warnings, fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, above 1.25 times the %.3g expected: try a smaller -spectral factor", k+1, pr.Label, pr.Chi2r, pr.Chi2rTarget))
+		} else if w := overfitWarning(k, &pr, res.Chi2rAim); w != "" {
+			res.Warnings = append(res.Warnings, w)
 		}
 	}
 	res.Chi2r = chiAll / float64(max(nAll, 1))

@@ -90,7 +90,9 @@
 // (SpectralSmoothness, JointSparsity), the objective of CubeObjective. The gray image of
 // all data sets the grid, the start and the spatial weight, shared among the planes by
 // their numbers of data; the planes are then fitted in Gauss–Seidel sweeps, each by the
-// runs of Solve against the others held fixed. One plane is Solve, bit for bit.
+// runs of Solve against the others held fixed. When the gray image cannot fit all channels,
+// a common factor on the planes' weights is chosen from the cube's own fit with Solve's
+// discrepancy aim (cube_weight.go). One plane is Solve, bit for bit.
 //
 // # Fidelity
 //
