@@ -48,6 +48,7 @@ type SimulateSummary struct {
 	Points            map[string]int `json:"points"`
 	BaselineMin       float64        `json:"baseline_min_m"`
 	BaselineMax       float64        `json:"baseline_max_m"`
+	BandAveraged      bool           `json:"band_averaged"` // each channel averaged over its band
 }
 
 // Simulate checks r, simulates its data and writes them (and the model image), printing the
@@ -107,7 +108,7 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 	sum := &SimulateSummary{Output: r.Out, HourAngles: rep.HourAngles, Skipped: rep.Skipped, SkippedHourAngles: append([]float64{}, rep.SkippedHourAngles...),
 		Stations: rep.Stations, Baselines: rep.Baselines, Triangles: rep.Triangles, Channels: rep.Channels,
 		Points:      map[string]int{"vis2": rep.Vis2, "t3": rep.T3, "vis": rep.Vis, "visdiff": rep.Diff},
-		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected}
+		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected, BandAveraged: rep.BandAveraged}
 	fmt.Fprint(text, rep.String())
 	fmt.Fprintf(text, "Wrote %s\n", r.Out)
 	if r.WriteImage == "" {

@@ -73,7 +73,8 @@ and -bootstrap-collect merges them (making any missing) into the maps.
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
-documents every plan key (smearing = true averages each channel over its band,
+documents every plan key (each channel is averaged over its band unless the
+plan says smearing = false; chromatic models are taken at the channel centres;
 write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
 indices, rotating discs emitting a line).

@@ -20,7 +20,7 @@ func TestFitSmearedBinary(t *testing.T) {
 	plan, _ := simulate.Demo()
 	plan.Wavelengths = []float64{1.5e-6, 1.65e-6, 1.8e-6}
 	plan.Bandwidths = []float64{0.15e-6, 0.15e-6, 0.15e-6}
-	plan.BandAverage = true
+	plan.Smearing = simulate.SmearOn
 	plan.Noise.Add = false
 	f, _, err := simulate.Run(plan, simulate.ModelSky{Model: mustLoad(t, "point;point:x=4,y=3,flux=0.5")})
 	if err != nil {
