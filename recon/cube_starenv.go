@@ -162,6 +162,10 @@ type StarEnvResult struct {
 	// Recipes, 3rd ed., sect. 15.6, recalled from memory), scaled by √χ²ᵣ when χ²ᵣ > 1
 	// (common practice, no source). NaN when the profile has no positive curvature.
 	F0Err, EnvIndexErr float64
+	// F0Interval and EnvIndexInterval are the lower and upper 1σ errors of F0 and
+	// EnvIndex from the profile itself, not its curvature: where it is not quadratic (a
+	// parameter near its bound, an environment of little flux) the two sides differ.
+	F0Interval, EnvIndexInterval ProfileInterval
 	// F0ErrFixed and EnvIndexErrFixed are the errors from the curvature of χ² in (f0, d)
 	// with the image held fixed, cov = 2·H⁻¹: they leave out the image's freedom and
 	// underestimate (measured on a simulated star and environment: f0 lay 21 of them from
@@ -278,16 +282,144 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	}
 	res.Chi2r = o.chi2r(r.X)
 	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(r.X)
-	prof := func(j int, sigma, hmin float64) float64 {
-		return o.profileError(r.X, n+j, sigma, hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-	}
-	res.F0Err = prof(0, res.F0ErrFixed, 1e-3)
-	res.EnvIndexErr = prof(1, res.EnvIndexErrFixed, 1e-2)
-	if res.Chi2r > 1 {
-		res.F0Err *= math.Sqrt(res.Chi2r)
-		res.EnvIndexErr *= math.Sqrt(res.Chi2r)
+	target := math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+	for j, e := range []struct {
+		sigma    *float64
+		fixed    float64
+		hmin     float64
+		interval *ProfileInterval
+	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
+		sigma, pf := o.profileError(r.X, n+j, e.fixed, e.hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		*e.interval = o.profileInterval(r.X, n+j, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		*e.sigma = sigma * math.Sqrt(target)
 	}
 	return res, nil
+}
+
+// ProfileInterval is the 1σ interval of a parameter from the profile of the objective, the
+// parameter held at each value while everything else is refitted: Low and High are the
+// distances from the fitted value down and up to where the profile has risen by Δ = 1
+// above its minimum (Δχ² = 1 for one parameter of interest: Press et al. 2007, Numerical
+// Recipes, 3rd ed., sect. 15.6, recalled from memory), Δ = χ²ᵣ when χ²ᵣ > 1, which
+// scales the errors by √χ²ᵣ as the curvature errors are (common practice, no source).
+// For a quadratic profile both equal the curvature error.
+type ProfileInterval struct {
+	Low, High float64
+	// LowBound and HighBound say that the profile stays below Δ all the way to the
+	// parameter's bound on that side (f0 in [0, 1], the index in [−20, 20]): the error is
+	// then the distance to the bound, and the interval is open there (one-sided).
+	LowBound, HighBound bool
+}
+
+// profileFit holds the refits of profileError's last step: the objective refitted at the
+// value (F) and its rises at the value + H (Up) and − H (Down).
+type profileFit struct{ F, H, Up, Down float64 }
+
+// profileInterval returns the interval of variable j from its profile at z: on each side,
+// the step h at which the refitted objective (as profileError's, from z) has risen by
+// target, found by profileCrossing from the step that pf tried.
+func (o *StarEnvObjective) profileInterval(z []float64, j int, pf profileFit, target float64, lower, upper []float64, maxIter int, ftol float64) ProfileInterval {
+	var iv ProfileInterval
+	for _, side := range []struct {
+		dir       float64
+		room      float64
+		rise      float64
+		err       *float64
+		openBound *bool
+	}{{-1, z[j] - lower[j], pf.Down, &iv.Low, &iv.LowBound}, {1, upper[j] - z[j], pf.Up, &iv.High, &iv.HighBound}} {
+		rise := func(h float64) float64 {
+			return o.refit(z, j, z[j]+side.dir*h, lower, upper, maxIter, ftol) - pf.F
+		}
+		*side.err, *side.openBound = profileCrossing(rise, target, pf.H, side.rise, side.room)
+	}
+	return iv
+}
+
+// profileCrossing returns the step h in (0, hmax] at which rise(h), the rise of a profile
+// at a distance h from its minimum towards one side (rise(0) = 0), reaches target, and
+// atBound = true with h = hmax when the rise stays below target up to hmax. rise(h1) = r1
+// is known (NaN: not known); h1 ≤ 0 starts from hmax/2. It is a bracketing root search
+// of g(h) = √max(rise, 0) − √target, which is linear in h for a quadratic profile: steps
+// grow (5 % beyond the step at which a quadratic profile would reach target, 1.1 to 4
+// times) until g ≥ 0 or the bound is reached, then the bracket shrinks by regula falsi in
+// its Illinois form (Dowell & Jarratt 1971, BIT 11, 168, recalled from memory) until the
+// rise is within 2 % of target (the step within about 1 %) or the bracket within 0.1 % of
+// h; at most 16 evaluations of rise in all. NaN when a rise is not a number or no bracket
+// is found. A near-quadratic profile takes one or two evaluations beyond the first.
+func profileCrossing(rise func(h float64) float64, target, h1, r1, hmax float64) (h float64, atBound bool) {
+	if !(hmax > 0) {
+		return 0, true // the value sits on its bound
+	}
+	if !(h1 > 0) {
+		h1, r1 = hmax/2, math.NaN()
+	}
+	if h1 > hmax {
+		h1, r1 = hmax, math.NaN()
+	}
+	st := math.Sqrt(target)
+	g := func(r float64) float64 { return math.Sqrt(math.Max(r, 0)) - st }
+	evals := 0
+	eval := func(h float64) float64 {
+		evals++
+		return rise(h)
+	}
+	if math.IsNaN(r1) {
+		r1 = eval(h1)
+	}
+	a, ga := 0.0, -st // rise(0) = 0
+	b, gb := h1, g(r1)
+	for gb < 0 {
+		if math.IsNaN(r1) || evals >= 16 {
+			return math.NaN(), false
+		}
+		if b >= hmax {
+			return hmax, true
+		}
+		a, ga = b, gb
+		grow := 4.0
+		if r1 > 0 {
+			grow = math.Min(math.Max(1.05*math.Sqrt(target/r1), 1.1), 4)
+		}
+		b = math.Min(b*grow, hmax)
+		r1 = eval(b)
+		gb = g(r1)
+	}
+	if math.IsNaN(r1) {
+		return math.NaN(), false
+	}
+	const tol = 0.02 // of target
+	if math.Abs(r1-target) <= tol*target {
+		return b, false
+	}
+	side := 0
+	for evals < 16 {
+		c := (a*gb - b*ga) / (gb - ga)
+		if !(c > a && c < b) {
+			c = (a + b) / 2
+		}
+		rc := eval(c)
+		if math.IsNaN(rc) {
+			return math.NaN(), false
+		}
+		gc := g(rc)
+		if math.Abs(rc-target) <= tol*target || b-a <= 1e-3*c {
+			return c, false
+		}
+		if gc >= 0 {
+			b, gb = c, gc
+			if side == 1 {
+				ga /= 2
+			}
+			side = 1
+		} else {
+			a, ga = c, gc
+			if side == -1 {
+				gb /= 2
+			}
+			side = -1
+		}
+	}
+	return (a*gb - b*ga) / (gb - ga), false
 }
 
 // refit minimises the objective from z with variable j held at value v (the other bounds
@@ -319,22 +451,24 @@ func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []f
 // rescaled once to a rise of about 2 (1σ each side): well above what the refits leave
 // unconverged, and near enough for the quadratic form. Steps are kept within the bounds.
 // The error is symmetric: a bound that becomes active within 1σ (a pixel of the
-// environment reaching zero) makes the true interval one-sided, which it does not show.
-func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64, lower, upper []float64, maxIter int, ftol float64) float64 {
+// environment reaching zero) makes the true interval one-sided, which it does not show;
+// profileInterval does, from the refits returned in pf.
+func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64, lower, upper []float64, maxIter int, ftol float64) (float64, profileFit) {
 	h := 10 * sigma
 	if !(h > hmin) {
 		h = hmin
 	}
-	f0 := o.refit(z, j, z[j], lower, upper, maxIter, ftol)
+	pf := profileFit{F: o.refit(z, j, z[j], lower, upper, maxIter, ftol), Up: math.NaN(), Down: math.NaN()}
 	var curv float64
 	for round := range 2 {
 		h = math.Min(h, 0.999*math.Min(z[j]-lower[j], upper[j]-z[j]))
 		if !(h > 0) {
-			return math.NaN()
+			return math.NaN(), pf
 		}
 		fp := o.refit(z, j, z[j]+h, lower, upper, maxIter, ftol)
 		fm := o.refit(z, j, z[j]-h, lower, upper, maxIter, ftol)
-		rise := fp + fm - 2*f0
+		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
+		rise := fp + fm - 2*pf.F
 		curv = rise / (h * h)
 		if round == 1 || (rise > 0.1 && rise < 20) || !(rise > 0) {
 			break
@@ -342,9 +476,9 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 		h *= math.Sqrt(2 / rise)
 	}
 	if !(curv > 0) {
-		return math.NaN()
+		return math.NaN(), pf
 	}
-	return math.Sqrt(2 / curv)
+	return math.Sqrt(2 / curv), pf
 }
 
 // chi2r returns Σχ²/ΣN over the planes at z.
