@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"vcz/dataset"
 	"vcz/io/preview"
 	"vcz/io/safefile"
 	"vcz/output"
@@ -39,6 +40,8 @@ type ComparePlaneRun struct {
 	Weight        output.JFloat `json:"weight"`         // μ_k of the plane
 	Chi2r         output.JFloat `json:"chi2r"`          // Σχ²/ΣN of the plane's data
 	Chi2rExpected output.JFloat `json:"chi2r_expected"` // its expected value
+	// Chi2ByType is the plane's χ²ᵣ of each data type it fitted, keyed by the type's word.
+	Chi2ByType map[string]output.Chi2J `json:"chi2r_by_type"`
 }
 
 // comparePlanes fills rep.Planes from the cubes of the runs in ok (which all have one, of
@@ -60,8 +63,12 @@ func comparePlanes(dir string, c *Comparison, ok []*CompareRun, rep *CompareRepo
 		imgs := make([][]float64, len(ok))
 		for i, r := range ok {
 			p := &r.Cube.Planes[k]
-			pl.Runs = append(pl.Runs, ComparePlaneRun{Regularizer: r.Name, Weight: output.JFloat(p.Weight), Chi2r: output.JFloat(p.Chi2r),
-				Chi2rExpected: output.JFloat(p.Chi2rTarget)})
+			run := ComparePlaneRun{Regularizer: r.Name, Weight: output.JFloat(p.Weight), Chi2r: output.JFloat(p.Chi2r),
+				Chi2rExpected: output.JFloat(p.Chi2rTarget), Chi2ByType: map[string]output.Chi2J{}}
+			for _, c := range p.Chi2 {
+				run.Chi2ByType[c.Type.String()] = output.Chi2J{N: c.N, Chi2r: c.Chi2r}
+			}
+			pl.Runs = append(pl.Runs, run)
 			imgs[i] = p.Image
 		}
 		pl.Spread = spreadFigure(imgs)
@@ -98,14 +105,36 @@ func comparePlanes(dir string, c *Comparison, ok []*CompareRun, rep *CompareRepo
 	return safefile.Write(filepath.Join(dir, "compare-planes.csv"), func(w io.Writer) error { return writePlanesTable(w, rep.Planes) })
 }
 
-// writePlanesTable writes compare-planes.csv: a row per plane and regularizer.
+// writePlanesTable writes compare-planes.csv: a row per plane and regularizer, with a
+// column of χ²ᵣ per data type fitted (empty where a plane has none of it).
 func writePlanesTable(w io.Writer, planes []ComparePlane) error {
+	var types []string
+	for _, t := range dataset.DataTypes() {
+		for _, p := range planes {
+			if _, ok := p.Runs[0].Chi2ByType[t.String()]; ok {
+				types = append(types, t.String())
+				break
+			}
+		}
+	}
 	cw := csv.NewWriter(w)
-	cw.Write([]string{"plane", "wavelength_um", "channels", "regularizer", "weight", "chi2r", "chi2r_expected", "spread", "common_flux"})
+	head := []string{"plane", "wavelength_um", "channels", "regularizer", "weight", "chi2r", "chi2r_expected"}
+	for _, t := range types {
+		head = append(head, "chi2r_"+t)
+	}
+	cw.Write(append(head, "spread", "common_flux"))
 	for _, p := range planes {
 		for _, r := range p.Runs {
-			cw.Write([]string{strconv.Itoa(p.Plane), fmtF(p.WavelengthUm), p.Label, r.Regularizer, fmtF(float64(r.Weight)), fmtF(float64(r.Chi2r)),
-				fmtF(float64(r.Chi2rExpected)), fmtF(p.Spread), fmtF(p.Common)})
+			rec := []string{strconv.Itoa(p.Plane), fmtF(p.WavelengthUm), p.Label, r.Regularizer, fmtF(float64(r.Weight)), fmtF(float64(r.Chi2r)),
+				fmtF(float64(r.Chi2rExpected))}
+			for _, t := range types {
+				if c, ok := r.Chi2ByType[t]; ok {
+					rec = append(rec, fmtF(c.Chi2r))
+				} else {
+					rec = append(rec, "")
+				}
+			}
+			cw.Write(append(rec, fmtF(p.Spread), fmtF(p.Common)))
 		}
 	}
 	cw.Flush()

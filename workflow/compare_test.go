@@ -256,7 +256,8 @@ func TestCompareCubes(t *testing.T) {
 		}
 		for i, r := range p.Runs {
 			pl := c.Runs[i].Cube.Planes[k]
-			if r.Regularizer != c.Runs[i].Name || float64(r.Chi2r) != pl.Chi2r || math.Abs(p.WavelengthUm-pl.Coord*1e6) > 1e-12 {
+			if r.Regularizer != c.Runs[i].Name || float64(r.Chi2r) != pl.Chi2r || math.Abs(p.WavelengthUm-pl.Coord*1e6) > 1e-12 ||
+				len(r.Chi2ByType) != len(pl.Chi2) {
 				t.Errorf("plane %d, %s: %+v", k+1, c.Runs[i].Name, r)
 			}
 		}
@@ -267,7 +268,7 @@ func TestCompareCubes(t *testing.T) {
 		}
 	}
 	csvText, err := os.ReadFile(filepath.Join(dir, "compare-planes.csv"))
-	if err != nil || strings.Count(string(csvText), "\n") != 5 {
+	if err != nil || strings.Count(string(csvText), "\n") != 5 || !strings.Contains(string(csvText), ",chi2r_vis2,") {
 		t.Errorf("compare-planes.csv: %v\n%s", err, csvText)
 	}
 	html, err := os.ReadFile(filepath.Join(dir, "report.html"))
