@@ -2,6 +2,7 @@ package workflow
 
 import (
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -10,6 +11,7 @@ import (
 	"strings"
 
 	"vcz/dataset"
+	"vcz/io/plots"
 	"vcz/io/preview"
 	"vcz/io/safefile"
 	"vcz/output"
@@ -260,4 +262,84 @@ func truncate(s string, n int) string {
 		return s
 	}
 	return strings.TrimSpace(string(r[:n-1])) + "…"
+}
+
+// writeCubeComparePlots is writeComparePlots for cubes: for each data type that some run
+// fitted, the data of every plane with each regularizer's model of that plane (its cube's
+// plane image through the forward model of the run, with its smearing), as
+// compare-<word>.png; the data are those of the planes in plane order.
+func writeCubeComparePlots(dir string, ok []*CompareRun) ([]string, error) {
+	preds, use, err := cubePredictions(ok)
+	if err != nil {
+		return nil, err
+	}
+	names := []string{}
+	for _, t := range dataset.DataTypes() {
+		if use&t == 0 {
+			continue
+		}
+		m, models := cubeMeasured(ok, preds, t)
+		if len(m.Value) == 0 {
+			continue
+		}
+		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's cube, plane by plane", LogY: !m.Phase && plots.AutoLog(m.Value)})
+		if errors.Is(err, plots.ErrNoData) {
+			continue
+		}
+		if err != nil {
+			return nil, err
+		}
+		name := "compare-" + t.String() + ".png"
+		if err := fig.WriteFile(filepath.Join(dir, name)); err != nil {
+			return nil, err
+		}
+		names = append(names, name)
+	}
+	return names, nil
+}
+
+// cubePredictions returns each run's predictions of each plane's data, [run][plane], and
+// the data types that some plane fitted.
+func cubePredictions(ok []*CompareRun) ([][]*recon.Prediction, dataset.DataType, error) {
+	preds := make([][]*recon.Prediction, len(ok))
+	var use dataset.DataType
+	for i, r := range ok {
+		for _, p := range r.Cube.Planes {
+			pr, err := recon.PredictWith(p.Data, r.Cube.Grid.Grid, p.Image, nil, recon.ModelOptions{Smearing: r.Problem.Smearing})
+			if err != nil {
+				return nil, 0, err
+			}
+			preds[i] = append(preds[i], pr)
+			for _, c := range p.Chi2 {
+				use |= c.Type
+			}
+		}
+	}
+	return preds, use, nil
+}
+
+// cubeMeasured gathers the data of type t of every plane, in plane order, and each run's
+// model values of them from preds[run][plane]. With several runs the data stay black (no
+// wavelengths), the models being told apart by their colours.
+func cubeMeasured(ok []*CompareRun, preds [][]*recon.Prediction, t dataset.DataType) (plots.Measurements, []plots.ModelValues) {
+	var m plots.Measurements
+	models := make([]plots.ModelValues, len(ok))
+	for i, r := range ok {
+		models[i].Name = r.Name
+	}
+	for k, p := range ok[0].Cube.Planes {
+		mk, idx := output.Measurements(p.Data, t)
+		m.Label, m.Unit, m.Phase, m.Triangle = mk.Label, mk.Unit, mk.Phase, mk.Triangle
+		m.Freq = append(m.Freq, mk.Freq...)
+		m.Value = append(m.Value, mk.Value...)
+		m.Err = append(m.Err, mk.Err...)
+		m.Wavelength = append(m.Wavelength, mk.Wavelength...)
+		for i := range ok {
+			models[i].Value = append(models[i].Value, output.ModelValues(preds[i][k], t, idx)...)
+		}
+	}
+	if len(ok) > 1 {
+		m.Wavelength = nil
+	}
+	return m, models
 }

@@ -262,6 +262,33 @@ func TestCompareCubes(t *testing.T) {
 			}
 		}
 	}
+	// The fit plots show each cube's planes: χ² of the V² they plot, Σ((data − model)/σ)²,
+	// is the cubes' own χ² of V² summed over the planes.
+	preds, _, err := cubePredictions(c.Runs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, models := cubeMeasured(c.Runs, preds, dataset.Vis2)
+	for i, r := range c.Runs {
+		got, want := 0.0, 0.0
+		for j, v := range m.Value {
+			z := (v - models[i].Value[j]) / m.Err[j]
+			got += z * z
+		}
+		for _, p := range r.Cube.Planes {
+			for _, c := range p.Chi2 {
+				if c.Type == dataset.Vis2 {
+					want += c.Chi2
+				}
+			}
+		}
+		if math.Abs(got-want) > 1e-6*want {
+			t.Errorf("%s: χ² of the plotted V² %.10g, the cube's %.10g", r.Name, got, want)
+		}
+	}
+	if len(rep.Plots) == 0 {
+		t.Error("no fit plots")
+	}
 	for _, f := range []string{"compare-planes.png", "compare-planes.csv"} {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
 			t.Error(err)

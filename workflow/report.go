@@ -165,13 +165,16 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 		if err := writeAgreement(dir, c.Files, choice, ok, rep, outs.Stretch); err != nil {
 			return nil, err
 		}
-		if rep.Plots, err = writeComparePlots(dir, d, ok); err != nil {
-			return nil, err
-		}
 		if allCubes(ok) {
 			if err := comparePlanes(dir, c, ok, rep, outs.Stretch, outs.NoPNG); err != nil {
 				return nil, err
 			}
+			rep.Plots, err = writeCubeComparePlots(dir, ok)
+		} else {
+			rep.Plots, err = writeComparePlots(dir, d, ok)
+		}
+		if err != nil {
+			return nil, err
 		}
 	}
 	if err := writeCompareTable(dir, rep); err != nil {
