@@ -290,7 +290,7 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 		interval *ProfileInterval
 	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
 		sigma, pf := o.profileError(r.X, n+j, e.fixed, e.hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-		*e.interval = o.profileInterval(r.X, n+j, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		*e.interval = o.profileInterval(r.X, n+j, sigma, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
 		*e.sigma = sigma * math.Sqrt(target)
 	}
 	return res, nil
@@ -317,8 +317,9 @@ type profileFit struct{ F, H, Up, Down float64 }
 
 // profileInterval returns the interval of variable j from its profile at z: on each side,
 // the step h at which the refitted objective (as profileError's, from z) has risen by
-// target, found by profileCrossing from the step that pf tried.
-func (o *StarEnvObjective) profileInterval(z []float64, j int, pf profileFit, target float64, lower, upper []float64, maxIter int, ftol float64) ProfileInterval {
+// target, found by profileCrossing from the steps that pf tried and, first, the curvature
+// error sigma (profileError's, unscaled) times √target.
+func (o *StarEnvObjective) profileInterval(z []float64, j int, sigma float64, pf profileFit, target float64, lower, upper []float64, maxIter int, ftol float64) ProfileInterval {
 	var iv ProfileInterval
 	for _, side := range []struct {
 		dir       float64
@@ -330,66 +331,92 @@ func (o *StarEnvObjective) profileInterval(z []float64, j int, pf profileFit, ta
 		rise := func(h float64) float64 {
 			return o.refit(z, j, z[j]+side.dir*h, lower, upper, maxIter, ftol) - pf.F
 		}
-		*side.err, *side.openBound = profileCrossing(rise, target, pf.H, side.rise, side.room)
+		*side.err, *side.openBound = profileCrossing(rise, target, side.room, sigma*math.Sqrt(target), [2]float64{pf.H, side.rise})
 	}
 	return iv
 }
 
 // profileCrossing returns the step h in (0, hmax] at which rise(h), the rise of a profile
 // at a distance h from its minimum towards one side (rise(0) = 0), reaches target, and
-// atBound = true with h = hmax when the rise stays below target up to hmax. rise(h1) = r1
-// is known (NaN: not known); h1 ≤ 0 starts from hmax/2. It is a bracketing root search
-// of g(h) = √max(rise, 0) − √target, which is linear in h for a quadratic profile: steps
-// grow (5 % beyond the step at which a quadratic profile would reach target, 1.1 to 4
-// times) until g ≥ 0 or the bound is reached, then the bracket shrinks by regula falsi in
-// its Illinois form (Dowell & Jarratt 1971, BIT 11, 168, recalled from memory) until the
-// rise is within 2 % of target (the step within about 1 %) or the bracket within 0.1 % of
-// h; at most 16 evaluations of rise in all. NaN when a rise is not a number or no bracket
-// is found. A near-quadratic profile takes one or two evaluations beyond the first.
-func profileCrossing(rise func(h float64) float64, target, h1, r1, hmax float64) (h float64, atBound bool) {
+// atBound = true with h = hmax when the rise stays below target up to hmax. known holds
+// steps whose rises are known already (h, rise(h)); guess, when positive, is the step
+// tried first (for profileInterval the curvature's). It is a bracketing root search of
+// g(h) = √max(rise, 0) − √target, which is linear in h for a quadratic profile: the
+// known points and the guess bracket the root, or the step grows from the largest one
+// below it (5 % beyond the step at which a quadratic profile would reach target, 1.1 to 4
+// times; from hmax/2 without any) until g ≥ 0 or the bound is reached; then the bracket
+// shrinks by regula falsi in its Illinois form (Dowell & Jarratt 1971, BIT 11, 168,
+// recalled from memory) until the rise is within 3 % of target (for a quadratic profile,
+// the step within 1.5 %) or the bracket within 0.1 % of h; at most 16 evaluations of rise. NaN when a rise
+// is not a number or no bracket is found. A near-quadratic profile with a good guess takes
+// one evaluation.
+func profileCrossing(rise func(h float64) float64, target, hmax, guess float64, known ...[2]float64) (h float64, atBound bool) {
 	if !(hmax > 0) {
 		return 0, true // the value sits on its bound
 	}
-	if !(h1 > 0) {
-		h1, r1 = hmax/2, math.NaN()
-	}
-	if h1 > hmax {
-		h1, r1 = hmax, math.NaN()
-	}
+	const tol = 0.03 // of target
 	st := math.Sqrt(target)
 	g := func(r float64) float64 { return math.Sqrt(math.Max(r, 0)) - st }
-	evals := 0
-	eval := func(h float64) float64 {
-		evals++
-		return rise(h)
-	}
-	if math.IsNaN(r1) {
-		r1 = eval(h1)
-	}
-	a, ga := 0.0, -st // rise(0) = 0
-	b, gb := h1, g(r1)
-	for gb < 0 {
-		if math.IsNaN(r1) || evals >= 16 {
-			return math.NaN(), false
+	a, ga, ra := 0.0, -st, 0.0 // the largest step below the root; rise(0) = 0
+	b, gb := math.NaN(), 0.0   // the smallest step at or above it
+	add := func(h, r float64) {
+		if gh := g(r); gh < 0 {
+			if h > a {
+				a, ga, ra = h, gh, r
+			}
+		} else if math.IsNaN(b) || h < b {
+			b, gb = h, gh
 		}
-		if b >= hmax {
+	}
+	close := func(r float64) bool { return math.Abs(r-target) <= tol*target }
+	for _, k := range known {
+		if k[0] > 0 && k[0] <= hmax && !math.IsNaN(k[1]) {
+			if close(k[1]) {
+				return k[0], false
+			}
+			add(k[0], k[1])
+		}
+	}
+	evals := 0
+	try := func(h float64) (float64, bool) {
+		evals++
+		r := rise(h)
+		if math.IsNaN(r) {
+			return r, false
+		}
+		add(h, r)
+		return r, close(r)
+	}
+	if guess > 0 {
+		guess = math.Min(guess, hmax)
+		if guess > a && (math.IsNaN(b) || guess < b) {
+			if r, done := try(guess); math.IsNaN(r) {
+				return math.NaN(), false
+			} else if done {
+				return guess, false
+			}
+		}
+	}
+	for math.IsNaN(b) {
+		if a >= hmax {
 			return hmax, true
 		}
-		a, ga = b, gb
-		grow := 4.0
-		if r1 > 0 {
-			grow = math.Min(math.Max(1.05*math.Sqrt(target/r1), 1.1), 4)
+		if evals >= 16 {
+			return math.NaN(), false
 		}
-		b = math.Min(b*grow, hmax)
-		r1 = eval(b)
-		gb = g(r1)
-	}
-	if math.IsNaN(r1) {
-		return math.NaN(), false
-	}
-	const tol = 0.02 // of target
-	if math.Abs(r1-target) <= tol*target {
-		return b, false
+		next := hmax / 2
+		if a > 0 {
+			grow := 4.0
+			if ra > 0 {
+				grow = math.Min(math.Max(1.05*math.Sqrt(target/ra), 1.1), 4)
+			}
+			next = math.Min(a*grow, hmax)
+		}
+		if r, done := try(next); math.IsNaN(r) {
+			return math.NaN(), false
+		} else if done {
+			return next, false
+		}
 	}
 	side := 0
 	for evals < 16 {
@@ -397,15 +424,15 @@ func profileCrossing(rise func(h float64) float64, target, h1, r1, hmax float64)
 		if !(c > a && c < b) {
 			c = (a + b) / 2
 		}
-		rc := eval(c)
+		evals++
+		rc := rise(c)
 		if math.IsNaN(rc) {
 			return math.NaN(), false
 		}
-		gc := g(rc)
-		if math.Abs(rc-target) <= tol*target || b-a <= 1e-3*c {
+		if close(rc) || b-a <= 1e-3*c {
 			return c, false
 		}
-		if gc >= 0 {
+		if gc := g(rc); gc >= 0 {
 			b, gb = c, gc
 			if side == 1 {
 				ga /= 2
