@@ -98,6 +98,11 @@ func TestCompareFailure(t *testing.T) {
 	if !strings.Contains(string(csvText), rep.Rows[1].Error) {
 		t.Errorf("compare.csv lacks the error:\n%s", csvText)
 	}
+	// Gray images have no planes to compare: none of the cubes' outputs.
+	html, _ := os.ReadFile(filepath.Join(dir, "report.html"))
+	if _, err := os.Stat(filepath.Join(dir, "compare-planes.csv")); err == nil || rep.Planes != nil || strings.Contains(string(html), "Planes") {
+		t.Error("a comparison of gray images wrote the planes of cubes")
+	}
 	page, _ := os.ReadFile(filepath.Join(dir, "report.html"))
 	if !strings.Contains(string(page), "Failed:") {
 		t.Error("report.html does not report the failure")

@@ -508,8 +508,8 @@ th:first-child, td:first-child { text-align: left; }
 <tr><th>plane</th><th>λ (µm)</th><th>channels</th>{{range (index .Planes 0).Runs}}<th>χ²ᵣ {{.Regularizer}}</th>{{end}}<th>spread</th><th>common flux</th></tr>
 {{range .Planes}}<tr><td>{{.Plane}}</td><td>{{printf "%.4f" .WavelengthUm}}</td><td>{{.Label}}</td>{{range .Runs}}<td>{{printf "%.3f" .Chi2r}} ({{printf "%.2f" .Chi2rExpected}})</td>{{end}}<td>{{printf "%.3f" .Spread}}</td><td>{{printf "%.3f" .Common}}</td></tr>
 {{end}}</table></div>
-{{if .PlanesImage}}<img src="{{.PlanesImage}}" alt="montage of the planes: a row per regularizer">{{end}}{{end}}
-<h2>Fit to the data</h2>
+{{if .PlanesImage}}<img src="{{.PlanesImage}}" alt="montage of the planes: a row per regularizer">{{end}}
+{{end}}<h2>Fit to the data</h2>
 {{range .Fit}}<img src="{{.URI}}" alt="{{.Alt}}">
 {{end}}
 <h2>Files</h2>
