@@ -266,7 +266,9 @@ type StarEnvRun struct {
 
 // WriteStarEnv writes the environment image of r to out, with the star's share at the
 // reference wavelength and the spectral indices in the header (STARF0, STARIDX, ENVIDX,
-// LAMBDA0 and the errors STARF0E, ENVIDXE), and, unless o.NoPNG, its PNG preview.
+// LAMBDA0; the errors from the profile's curvature STARF0E, ENVIDXE, and where it rises by
+// 1 below and above, STARF0L, STARF0U, ENVIDXL, ENVIDXU), and, unless o.NoPNG, its PNG
+// preview.
 func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 	res := r.Result
 	paths := Paths{FITS: out}
@@ -285,9 +287,13 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 		{Key: "LAMBDA0", Value: res.Lambda0, Comment: "[m] reference wavelength"},
 		{Key: "STARF0", Value: res.F0, Comment: "star's share of the flux at LAMBDA0"},
 		{Key: "STARF0E", Value: finiteOr(res.F0Err), Comment: "1 sigma, profile with the image refitted"},
+		{Key: "STARF0L", Value: finiteOr(res.F0Interval.Low), Comment: profileComment("lower", res.F0Interval.LowBound)},
+		{Key: "STARF0U", Value: finiteOr(res.F0Interval.High), Comment: profileComment("upper", res.F0Interval.HighBound)},
 		{Key: "STARIDX", Value: r.Spec.StarIndexValue(), Comment: "star's spectral index (given)"},
 		{Key: "ENVIDX", Value: res.EnvIndex, Comment: "environment's spectral index (fitted)"},
 		{Key: "ENVIDXE", Value: finiteOr(res.EnvIndexErr), Comment: "1 sigma, profile with the image refitted"},
+		{Key: "ENVIDXL", Value: finiteOr(res.EnvIndexInterval.Low), Comment: profileComment("lower", res.EnvIndexInterval.LowBound)},
+		{Key: "ENVIDXU", Value: finiteOr(res.EnvIndexInterval.High), Comment: profileComment("upper", res.EnvIndexInterval.HighBound)},
 		{Key: "CHI2R", Value: res.Chi2r, Comment: "reduced chi2 of all channels"},
 		{Key: "CHI2RGRY", Value: res.Gray.Chi2r, Comment: "reduced chi2 of the gray image"},
 		{Key: "NITER", Value: res.Iter, Comment: "iterations of the fit"},
@@ -325,6 +331,14 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 }
 
 // finiteOr returns v, or 0 when it is not finite (FITS has no NaN keyword value).
+// profileComment is the comment of a card of one side of a profile interval.
+func profileComment(side string, open bool) string {
+	if open {
+		return side + " 1 sigma: open, to the bound"
+	}
+	return side + " 1 sigma, profile rise 1 (x chi2r)"
+}
+
 func finiteOr(v float64) float64 {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0

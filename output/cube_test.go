@@ -2,10 +2,12 @@ package output
 
 import (
 	"encoding/csv"
+	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 
 	"vcz/dataset"
@@ -111,6 +113,31 @@ func TestWriteCube(t *testing.T) {
 		}
 		if flux != (paths.Spectrum != "") || flux == (paths.SpectrumNote != "") {
 			t.Errorf("flux %v: spectrum %q, note %q", flux, paths.Spectrum, paths.SpectrumNote)
+		}
+	}
+}
+
+// The star + environment report gives both sides of each profile interval and the
+// curvature error, marks a side open to its bound, and its JSON writes an error that is
+// not a number as null (encoding/json refuses NaN).
+func TestStarEnvSummaryText(t *testing.T) {
+	s := StarEnvSummary{StarF0: 0.5877, StarF0Err: 0.002, Lambda0Um: 1.9, StarIndex: -4,
+		StarF0Range: ProfileRange{Low: 0.0023, High: 0.0018},
+		EnvIndex:    1.87, EnvIndexErr: JFloat(math.NaN()), EnvIndexRange: ProfileRange{Low: 6.2, High: 18.13, HighBound: true}}
+	var b strings.Builder
+	s.WriteText(&b)
+	for _, want := range []string{"0.5877 of the flux at 1.9 µm −0.0023 +0.0018 (± 0.002)", "spectral index 1.87 −6.2 +18 (to the bound) (± NaN)"} {
+		if !strings.Contains(b.String(), want) {
+			t.Errorf("report lacks %q:\n%s", want, b.String())
+		}
+	}
+	j, err := json.Marshal(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`"env_index_err":null`, `"env_index_profile":{"err_low":6.2,"err_high":18.13,"low_open_to_bound":false,"high_open_to_bound":true}`} {
+		if !strings.Contains(string(j), want) {
+			t.Errorf("JSON lacks %s:\n%s", want, j)
 		}
 	}
 }

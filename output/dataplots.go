@@ -100,12 +100,7 @@ func FitPlots(files []*oifits.File, d *dataset.Data, res *fit.Result, g *fit.Gri
 	var written []string
 	save := saver(prefix, &written)
 	title := strings.Join(d.Targets, ", ")
-	var smear recon.ResidualOptions
-	if res.Smearing != nil {
-		smear.Smearing = *res.Smearing
-	} else {
-		smear.Smearing = recon.SmearOff
-	}
+	smear := recon.ResidualOptions{Smearing: res.Smearing}
 	mp := modelPlots{files: files, d: d, pred: recon.PredictVisWith(d, m.VisMany, smear), use: res.Use, name: "fitted model",
 		title:         func(what string) string { return titled(what+" and fitted model", title) },
 		residualTitle: titled("Normalised residuals of the fit", title)}

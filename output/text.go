@@ -222,34 +222,65 @@ func writePaths(w io.Writer, paths ...string) {
 // StarEnvSummary is the JSON summary of a star + environment fit ('vcz image -channels
 // ... -star ...').
 type StarEnvSummary struct {
-	StarF0      float64 `json:"star_f0"`
-	StarF0Err   float64 `json:"star_f0_err"`
-	Lambda0Um   float64 `json:"lambda0_um"`
-	StarIndex   float64 `json:"star_index"`
-	EnvIndex    float64 `json:"env_index"`
-	EnvIndexErr float64 `json:"env_index_err"`
-	Chi2r       float64 `json:"chi2r"`
-	GrayChi2r   float64 `json:"gray_chi2r"`
-	Iterations  int     `json:"iterations"`
-	Seconds     float64 `json:"seconds"`
-	Outputs     Paths   `json:"outputs"`
+	StarF0    float64 `json:"star_f0"`
+	StarF0Err JFloat  `json:"star_f0_err"` // from the profile's curvature; null when it has none
+	// StarF0Range and EnvIndexRange are the lower and upper errors where the profile
+	// rises by 1 (recon.ProfileInterval).
+	StarF0Range   ProfileRange `json:"star_f0_profile"`
+	Lambda0Um     float64      `json:"lambda0_um"`
+	StarIndex     float64      `json:"star_index"`
+	EnvIndex      float64      `json:"env_index"`
+	EnvIndexErr   JFloat       `json:"env_index_err"`
+	EnvIndexRange ProfileRange `json:"env_index_profile"`
+	Chi2r         float64      `json:"chi2r"`
+	GrayChi2r     float64      `json:"gray_chi2r"`
+	Iterations    int          `json:"iterations"`
+	Seconds       float64      `json:"seconds"`
+	Outputs       Paths        `json:"outputs"`
+}
+
+// ProfileRange is an asymmetric 1σ interval (recon.ProfileInterval) in a JSON summary:
+// the errors below and above the value, and whether the profile stays below the rise of 1
+// up to the parameter's bound on that side (the error is then the distance to it).
+type ProfileRange struct {
+	Low       JFloat `json:"err_low"`
+	High      JFloat `json:"err_high"`
+	LowBound  bool   `json:"low_open_to_bound"`
+	HighBound bool   `json:"high_open_to_bound"`
+}
+
+func profileRange(iv recon.ProfileInterval) ProfileRange {
+	return ProfileRange{Low: JFloat(iv.Low), High: JFloat(iv.High), LowBound: iv.LowBound, HighBound: iv.HighBound}
 }
 
 // NewStarEnvSummary is the summary of the star + environment run whose files are paths.
 func NewStarEnvSummary(run StarEnvRun, paths Paths) StarEnvSummary {
 	r := run.Result
-	return StarEnvSummary{StarF0: r.F0, StarF0Err: r.F0Err, Lambda0Um: r.Lambda0 * 1e6, StarIndex: run.Spec.StarIndexValue(),
-		EnvIndex: r.EnvIndex, EnvIndexErr: r.EnvIndexErr, Chi2r: r.Chi2r, GrayChi2r: r.Gray.Chi2r, Iterations: r.Iter,
-		Seconds: run.Seconds, Outputs: paths}
+	return StarEnvSummary{StarF0: r.F0, StarF0Err: JFloat(r.F0Err), StarF0Range: profileRange(r.F0Interval), Lambda0Um: r.Lambda0 * 1e6,
+		StarIndex: run.Spec.StarIndexValue(), EnvIndex: r.EnvIndex, EnvIndexErr: JFloat(r.EnvIndexErr), EnvIndexRange: profileRange(r.EnvIndexInterval),
+		Chi2r: r.Chi2r, GrayChi2r: r.Gray.Chi2r, Iterations: r.Iter, Seconds: run.Seconds, Outputs: paths}
 }
 
 // WriteText writes the summary of a star + environment fit.
 func (s StarEnvSummary) WriteText(w io.Writer) {
-	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm ± %.2g, spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Err, s.StarIndex)
-	fmt.Fprintf(w, "Environment: spectral index %.4g ± %.2g\n", s.EnvIndex, s.EnvIndexErr)
+	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm %s, spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Range.text(s.StarF0Err), s.StarIndex)
+	fmt.Fprintf(w, "Environment: spectral index %.4g %s\n", s.EnvIndex, s.EnvIndexRange.text(s.EnvIndexErr))
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g over all channels (gray image %.4g), %d iterations, %.1f s\n", s.Chi2r, s.GrayChi2r, s.Iterations, s.Seconds)
-	fmt.Fprintln(w, "Note:        1σ errors from the profile with the image refitted (noise only; the regularizer's bias is not in them); the image is the environment alone.")
+	fmt.Fprintln(w, "Note:        1σ errors from the profile with the image refitted, where it rises by 1 (times χ²ᵣ when above 1) on each side, and from its curvature (±); noise only, the regularizer's bias is not in them; the image is the environment alone.")
 	writePaths(w, s.Outputs.FITS, s.Outputs.PNG)
+}
+
+// text writes the interval as "−0.0021 +0.0018 (± 0.002)", an open side as "+0.35 (to the
+// bound)", with the curvature error sym.
+func (r ProfileRange) text(sym JFloat) string {
+	side := func(sign string, v JFloat, open bool) string {
+		s := fmt.Sprintf("%s%.2g", sign, v)
+		if open {
+			s += " (to the bound)"
+		}
+		return s
+	}
+	return fmt.Sprintf("%s %s (± %.2g)", side("−", r.Low, r.LowBound), side("+", r.High, r.HighBound), sym)
 }
 
 // WriteBatchText writes the summary of a batch as a table, as 'vcz batch' prints it: the

@@ -162,6 +162,10 @@ type StarEnvResult struct {
 	// Recipes, 3rd ed., sect. 15.6, recalled from memory), scaled by √χ²ᵣ when χ²ᵣ > 1
 	// (common practice, no source). NaN when the profile has no positive curvature.
 	F0Err, EnvIndexErr float64
+	// F0Interval and EnvIndexInterval are the lower and upper 1σ errors of F0 and
+	// EnvIndex from the profile itself, not its curvature: where it is not quadratic (a
+	// parameter near its bound, an environment of little flux) the two sides differ.
+	F0Interval, EnvIndexInterval ProfileInterval
 	// F0ErrFixed and EnvIndexErrFixed are the errors from the curvature of χ² in (f0, d)
 	// with the image held fixed, cov = 2·H⁻¹: they leave out the image's freedom and
 	// underestimate (measured on a simulated star and environment: f0 lay 21 of them from
@@ -278,16 +282,171 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	}
 	res.Chi2r = o.chi2r(r.X)
 	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(r.X)
-	prof := func(j int, sigma, hmin float64) float64 {
-		return o.profileError(r.X, n+j, sigma, hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-	}
-	res.F0Err = prof(0, res.F0ErrFixed, 1e-3)
-	res.EnvIndexErr = prof(1, res.EnvIndexErrFixed, 1e-2)
-	if res.Chi2r > 1 {
-		res.F0Err *= math.Sqrt(res.Chi2r)
-		res.EnvIndexErr *= math.Sqrt(res.Chi2r)
+	target := math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+	for j, e := range []struct {
+		sigma    *float64
+		fixed    float64
+		hmin     float64
+		interval *ProfileInterval
+	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
+		sigma, pf := o.profileError(r.X, n+j, e.fixed, e.hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		*e.interval = o.profileInterval(r.X, n+j, sigma, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		*e.sigma = sigma * math.Sqrt(target)
 	}
 	return res, nil
+}
+
+// ProfileInterval is the 1σ interval of a parameter from the profile of the objective, the
+// parameter held at each value while everything else is refitted: Low and High are the
+// distances from the fitted value down and up to where the profile has risen by Δ = 1
+// above its minimum (Δχ² = 1 for one parameter of interest: Press et al. 2007, Numerical
+// Recipes, 3rd ed., sect. 15.6, recalled from memory), Δ = χ²ᵣ when χ²ᵣ > 1, which
+// scales the errors by √χ²ᵣ as the curvature errors are (common practice, no source).
+// For a quadratic profile both equal the curvature error.
+type ProfileInterval struct {
+	Low, High float64
+	// LowBound and HighBound say that the profile stays below Δ all the way to the
+	// parameter's bound on that side (f0 in [0, 1], the index in [−20, 20]): the error is
+	// then the distance to the bound, and the interval is open there (one-sided).
+	LowBound, HighBound bool
+}
+
+// profileFit holds the refits of profileError's last step: the objective refitted at the
+// value (F) and its rises at the value + H (Up) and − H (Down).
+type profileFit struct{ F, H, Up, Down float64 }
+
+// profileInterval returns the interval of variable j from its profile at z: on each side,
+// the step h at which the refitted objective (as profileError's, from z) has risen by
+// target, found by profileCrossing from the steps that pf tried and, first, the curvature
+// error sigma (profileError's, unscaled) times √target.
+func (o *StarEnvObjective) profileInterval(z []float64, j int, sigma float64, pf profileFit, target float64, lower, upper []float64, maxIter int, ftol float64) ProfileInterval {
+	var iv ProfileInterval
+	for _, side := range []struct {
+		dir       float64
+		room      float64
+		rise      float64
+		err       *float64
+		openBound *bool
+	}{{-1, z[j] - lower[j], pf.Down, &iv.Low, &iv.LowBound}, {1, upper[j] - z[j], pf.Up, &iv.High, &iv.HighBound}} {
+		rise := func(h float64) float64 {
+			return o.refit(z, j, z[j]+side.dir*h, lower, upper, maxIter, ftol) - pf.F
+		}
+		*side.err, *side.openBound = profileCrossing(rise, target, side.room, sigma*math.Sqrt(target), [2]float64{pf.H, side.rise})
+	}
+	return iv
+}
+
+// profileCrossing returns the step h in (0, hmax] at which rise(h), the rise of a profile
+// at a distance h from its minimum towards one side (rise(0) = 0), reaches target, and
+// atBound = true with h = hmax when the rise stays below target up to hmax. known holds
+// steps whose rises are known already (h, rise(h)); guess, when positive, is the step
+// tried first (for profileInterval the curvature's). It is a bracketing root search of
+// g(h) = √max(rise, 0) − √target, which is linear in h for a quadratic profile: the
+// known points and the guess bracket the root, or the step grows from the largest one
+// below it (5 % beyond the step at which a quadratic profile would reach target, 1.1 to 4
+// times; from hmax/2 without any) until g ≥ 0 or the bound is reached; then the bracket
+// shrinks by regula falsi in its Illinois form (Dowell & Jarratt 1971, BIT 11, 168,
+// recalled from memory) until the rise is within 3 % of target (for a quadratic profile,
+// the step within 1.5 %) or the bracket within 0.1 % of h; at most 16 evaluations of rise. NaN when a rise
+// is not a number or no bracket is found. A near-quadratic profile with a good guess takes
+// one evaluation.
+func profileCrossing(rise func(h float64) float64, target, hmax, guess float64, known ...[2]float64) (h float64, atBound bool) {
+	if !(hmax > 0) {
+		return 0, true // the value sits on its bound
+	}
+	const tol = 0.03 // of target
+	st := math.Sqrt(target)
+	g := func(r float64) float64 { return math.Sqrt(math.Max(r, 0)) - st }
+	a, ga, ra := 0.0, -st, 0.0 // the largest step below the root; rise(0) = 0
+	b, gb := math.NaN(), 0.0   // the smallest step at or above it
+	add := func(h, r float64) {
+		if gh := g(r); gh < 0 {
+			if h > a {
+				a, ga, ra = h, gh, r
+			}
+		} else if math.IsNaN(b) || h < b {
+			b, gb = h, gh
+		}
+	}
+	close := func(r float64) bool { return math.Abs(r-target) <= tol*target }
+	for _, k := range known {
+		if k[0] > 0 && k[0] <= hmax && !math.IsNaN(k[1]) {
+			if close(k[1]) {
+				return k[0], false
+			}
+			add(k[0], k[1])
+		}
+	}
+	evals := 0
+	try := func(h float64) (float64, bool) {
+		evals++
+		r := rise(h)
+		if math.IsNaN(r) {
+			return r, false
+		}
+		add(h, r)
+		return r, close(r)
+	}
+	if guess > 0 {
+		guess = math.Min(guess, hmax)
+		if guess > a && (math.IsNaN(b) || guess < b) {
+			if r, done := try(guess); math.IsNaN(r) {
+				return math.NaN(), false
+			} else if done {
+				return guess, false
+			}
+		}
+	}
+	for math.IsNaN(b) {
+		if a >= hmax {
+			return hmax, true
+		}
+		if evals >= 16 {
+			return math.NaN(), false
+		}
+		next := hmax / 2
+		if a > 0 {
+			grow := 4.0
+			if ra > 0 {
+				grow = math.Min(math.Max(1.05*math.Sqrt(target/ra), 1.1), 4)
+			}
+			next = math.Min(a*grow, hmax)
+		}
+		if r, done := try(next); math.IsNaN(r) {
+			return math.NaN(), false
+		} else if done {
+			return next, false
+		}
+	}
+	side := 0
+	for evals < 16 {
+		c := (a*gb - b*ga) / (gb - ga)
+		if !(c > a && c < b) {
+			c = (a + b) / 2
+		}
+		evals++
+		rc := rise(c)
+		if math.IsNaN(rc) {
+			return math.NaN(), false
+		}
+		if close(rc) || b-a <= 1e-3*c {
+			return c, false
+		}
+		if gc := g(rc); gc >= 0 {
+			b, gb = c, gc
+			if side == 1 {
+				ga /= 2
+			}
+			side = 1
+		} else {
+			a, ga = c, gc
+			if side == -1 {
+				gb /= 2
+			}
+			side = -1
+		}
+	}
+	return (a*gb - b*ga) / (gb - ga), false
 }
 
 // refit minimises the objective from z with variable j held at value v (the other bounds
@@ -319,22 +478,24 @@ func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []f
 // rescaled once to a rise of about 2 (1σ each side): well above what the refits leave
 // unconverged, and near enough for the quadratic form. Steps are kept within the bounds.
 // The error is symmetric: a bound that becomes active within 1σ (a pixel of the
-// environment reaching zero) makes the true interval one-sided, which it does not show.
-func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64, lower, upper []float64, maxIter int, ftol float64) float64 {
+// environment reaching zero) makes the true interval one-sided, which it does not show;
+// profileInterval does, from the refits returned in pf.
+func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64, lower, upper []float64, maxIter int, ftol float64) (float64, profileFit) {
 	h := 10 * sigma
 	if !(h > hmin) {
 		h = hmin
 	}
-	f0 := o.refit(z, j, z[j], lower, upper, maxIter, ftol)
+	pf := profileFit{F: o.refit(z, j, z[j], lower, upper, maxIter, ftol), Up: math.NaN(), Down: math.NaN()}
 	var curv float64
 	for round := range 2 {
 		h = math.Min(h, 0.999*math.Min(z[j]-lower[j], upper[j]-z[j]))
 		if !(h > 0) {
-			return math.NaN()
+			return math.NaN(), pf
 		}
 		fp := o.refit(z, j, z[j]+h, lower, upper, maxIter, ftol)
 		fm := o.refit(z, j, z[j]-h, lower, upper, maxIter, ftol)
-		rise := fp + fm - 2*f0
+		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
+		rise := fp + fm - 2*pf.F
 		curv = rise / (h * h)
 		if round == 1 || (rise > 0.1 && rise < 20) || !(rise > 0) {
 			break
@@ -342,9 +503,9 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 		h *= math.Sqrt(2 / rise)
 	}
 	if !(curv > 0) {
-		return math.NaN()
+		return math.NaN(), pf
 	}
-	return math.Sqrt(2 / curv)
+	return math.Sqrt(2 / curv), pf
 }
 
 // chi2r returns Σχ²/ΣN over the planes at z.

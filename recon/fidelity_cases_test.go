@@ -29,7 +29,7 @@ func simulateCase(t testing.TB, c simCase) (*dataset.Data, *model.Model) {
 	plan, _ := simulate.Demo()
 	// Each channel's visibility is its band average, as an instrument measures it, so that
 	// the default model (bandwidth smearing modelled where it exceeds the noise) fits them.
-	plan.BandAverage = true
+	plan.Smearing = simulate.SmearOn
 	if c.hours != nil {
 		plan.HourAngles = c.hours
 	}

@@ -18,7 +18,7 @@ type ResidualOptions struct {
 	// (smear.go), as for images: SmearAuto (the zero value) where the smearing of a point
 	// source at distance Extent from the phase centre exceeds the noise, SmearOn wherever
 	// it exceeds the quadrature tolerance, SmearOff never (without a notice, unlike
-	// images: the fits of recon/fit leave it off unless asked). When smearing is modelled,
+	// images). When smearing is modelled,
 	// Points holds the quadrature sub-points of every point and Eval and Chi2 take the
 	// model visibilities there.
 	Smearing Smearing

@@ -18,7 +18,7 @@ func wideBinary(t testing.TB, add bool) *dataset.Data {
 	plan, _ := simulate.Demo()
 	plan.Wavelengths = []float64{1.5e-6, 1.65e-6, 1.8e-6}
 	plan.Bandwidths = []float64{0.15e-6, 0.15e-6, 0.15e-6}
-	plan.BandAverage = true
+	plan.Smearing = simulate.SmearOn
 	plan.Noise.Add = add
 	m, err := model.ParseCompact("point;point:x=4,y=3,flux=0.5")
 	if err != nil {

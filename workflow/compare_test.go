@@ -98,6 +98,11 @@ func TestCompareFailure(t *testing.T) {
 	if !strings.Contains(string(csvText), rep.Rows[1].Error) {
 		t.Errorf("compare.csv lacks the error:\n%s", csvText)
 	}
+	// Gray images have no planes to compare: none of the cubes' outputs.
+	html, _ := os.ReadFile(filepath.Join(dir, "report.html"))
+	if _, err := os.Stat(filepath.Join(dir, "compare-planes.csv")); err == nil || rep.Planes != nil || strings.Contains(string(html), "Planes") {
+		t.Error("a comparison of gray images wrote the planes of cubes")
+	}
 	page, _ := os.ReadFile(filepath.Join(dir, "report.html"))
 	if !strings.Contains(string(page), "Failed:") {
 		t.Error("report.html does not report the failure")
@@ -207,9 +212,12 @@ func BenchmarkCompare(b *testing.B) {
 	b.ReportMetric(par.Seconds()/seq.Seconds(), "ratio")
 }
 
-// With -channels every regularizer's run is a cube: the report compares the gray images
-// the cubes started from and writes each cube beside them, with one plane per channel
-// group and their wavelengths on the WAVE axis (FITS WCS Paper III, Greisen et al. 2006).
+// With -channels every regularizer's run is a cube: the report's rows describe the gray
+// images the cubes started from, each cube is written beside them, with one plane per
+// channel group and their wavelengths on the WAVE axis (FITS WCS Paper III, Greisen et al.
+// 2006), and the cubes are compared plane by plane: each plane's χ²ᵣ per regularizer (the
+// cube's own), the spread and common flux of the plane (recomputed here from the cubes'
+// planes), the montage, compare-planes.csv, the text table and the HTML report.
 func TestCompareCubes(t *testing.T) {
 	files, d := demoData(t)
 	base := runspec.Spec{Grid: 32, Iterations: 30, Starts: 1, Weight: 0.01}
@@ -242,6 +250,69 @@ func TestCompareCubes(t *testing.T) {
 			t.Errorf("%s: %d planes, wavelengths %v", r.Name, cube.Planes, cube.Wave)
 		}
 	}
+	if len(rep.Planes) != 2 || rep.PlanesMontage != "compare-planes.png" {
+		t.Fatalf("%d planes, montage %q", len(rep.Planes), rep.PlanesMontage)
+	}
+	for k, p := range rep.Planes {
+		imgs := [][]float64{c.Runs[0].Cube.Planes[k].Image, c.Runs[1].Cube.Planes[k].Image}
+		if p.Plane != k+1 || len(p.Runs) != 2 || p.Spread != spreadFigure(imgs) || p.Common != commonFlux(imgs, rep.Shifts, c.Grid.N) ||
+			!(p.Spread > 0) || !(p.Common > 0.5 && p.Common <= 1) {
+			t.Errorf("plane %d: %+v", k+1, p)
+		}
+		for i, r := range p.Runs {
+			pl := c.Runs[i].Cube.Planes[k]
+			if r.Regularizer != c.Runs[i].Name || float64(r.Chi2r) != pl.Chi2r || math.Abs(p.WavelengthUm-pl.Coord*1e6) > 1e-12 ||
+				len(r.Chi2ByType) != len(pl.Chi2) {
+				t.Errorf("plane %d, %s: %+v", k+1, c.Runs[i].Name, r)
+			}
+		}
+	}
+	// The fit plots show each cube's planes: χ² of the V² they plot, Σ((data − model)/σ)²,
+	// is the cubes' own χ² of V² summed over the planes.
+	preds, _, err := cubePredictions(c.Runs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, models := cubeMeasured(c.Runs, preds, dataset.Vis2)
+	for i, r := range c.Runs {
+		got, want := 0.0, 0.0
+		for j, v := range m.Value {
+			z := (v - models[i].Value[j]) / m.Err[j]
+			got += z * z
+		}
+		for _, p := range r.Cube.Planes {
+			for _, c := range p.Chi2 {
+				if c.Type == dataset.Vis2 {
+					want += c.Chi2
+				}
+			}
+		}
+		if math.Abs(got-want) > 1e-6*want {
+			t.Errorf("%s: χ² of the plotted V² %.10g, the cube's %.10g", r.Name, got, want)
+		}
+	}
+	if len(rep.Plots) == 0 {
+		t.Error("no fit plots")
+	}
+	for _, f := range []string{"compare-planes.png", "compare-planes.csv"} {
+		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+			t.Error(err)
+		}
+	}
+	csvText, err := os.ReadFile(filepath.Join(dir, "compare-planes.csv"))
+	if err != nil || strings.Count(string(csvText), "\n") != 5 || !strings.Contains(string(csvText), ",chi2r_vis2,") {
+		t.Errorf("compare-planes.csv: %v\n%s", err, csvText)
+	}
+	html, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil || !strings.Contains(string(html), "<h2>Planes</h2>") || !strings.Contains(string(html), "tv-cube.fits") {
+		t.Errorf("report.html lacks the planes or the cubes: %v", err)
+	}
+	var text strings.Builder
+	rep.WriteText(&text)
+	if !strings.Contains(text.String(), "Planes: χ²ᵣ of each regularizer's cube") || !strings.Contains(text.String(), "all planes") {
+		t.Errorf("text report:\n%s", text.String())
+	}
+	t.Logf("\n%s", text.String())
 	c.Bootstrap(BootstrapOptions{})
 	if c.Runs[0].BootErr == nil {
 		t.Error("the bootstrap of a cube was not refused")

@@ -19,13 +19,15 @@ import (
 )
 
 // observe simulates the model m with the example plan of that file name (seeded noise,
-// exact model visibilities) and returns the file and its data set, selected by sel.
+// exact model visibilities averaged over each channel's band, as the fits' default model
+// takes them) and returns the file and its data set, selected by sel.
 func observe(t testing.TB, plan string, m *model.Model, sel dataset.Selection) (*oifits.File, *dataset.Data) {
 	t.Helper()
 	p, err := simulate.LoadPlan(filepath.Join("..", "examples", plan))
 	if err != nil {
 		t.Fatal(err)
 	}
+	p.Smearing = simulate.SmearDefault // the example plans take the band centres
 	f, _, err := simulate.Run(p, simulate.ModelSky{Model: m})
 	if err != nil {
 		t.Fatal(err)

@@ -42,8 +42,11 @@ type CompareRow struct {
 	Error    string   `json:"error,omitempty"`
 	FITS     string   `json:"fits,omitempty"`
 	// Cube is the regularizer's image cube (NAME-cube.fits, with -channels); FITS is then
-	// the gray image of all channels that the cube started from, which the report compares.
-	Cube string `json:"cube,omitempty"`
+	// the gray image of all channels that the cube started from, which this row describes,
+	// and CubeChi2r the cube's Σχ²/ΣN over all its planes (CompareReport.Planes compares
+	// the cubes plane by plane).
+	Cube      string  `json:"cube,omitempty"`
+	CubeChi2r float64 `json:"cube_chi2r,omitempty"`
 	// BootStd is the bootstrap standard deviation map (FITS) of the image with the
 	// replicates that gave one, when compare ran a bootstrap; BootError why it failed.
 	BootStd        string `json:"bootstrap_std,omitempty"`
@@ -72,6 +75,11 @@ type CompareReport struct {
 	Stretch string `json:"stretch,omitempty"`
 	// Plots are the files of data against every model, one per data type fitted.
 	Plots []string `json:"plots"`
+	// Planes compares the regularizers' cubes plane by plane (-channels), also written
+	// as compare-planes.csv; PlanesMontage is their montage (a row per regularizer).
+	// Both are absent for gray images.
+	Planes        []ComparePlane `json:"planes,omitempty"`
+	PlanesMontage string         `json:"planes_montage,omitempty"`
 }
 
 // writeJSON writes v as indented JSON.
@@ -116,7 +124,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 				if _, err := outs.WriteCube(cubeOut, cr); err != nil {
 					return nil, err
 				}
-				row.Cube = filepath.Base(cubeOut)
+				row.Cube, row.CubeChi2r = filepath.Base(cubeOut), r.Cube.Chi2r
 			}
 			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
 			row.Iterations = res.TotalIter
@@ -157,7 +165,15 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 		if err := writeAgreement(dir, c.Files, choice, ok, rep, outs.Stretch); err != nil {
 			return nil, err
 		}
-		if rep.Plots, err = writeComparePlots(dir, d, ok); err != nil {
+		if allCubes(ok) {
+			if err := comparePlanes(dir, c, ok, rep, outs.Stretch, outs.NoPNG); err != nil {
+				return nil, err
+			}
+			rep.Plots, err = writeCubeComparePlots(dir, ok)
+		} else {
+			rep.Plots, err = writeComparePlots(dir, d, ok)
+		}
+		if err != nil {
 			return nil, err
 		}
 	}
@@ -168,6 +184,16 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 		return nil, err
 	}
 	return rep, nil
+}
+
+// allCubes says whether every run of ok made a cube.
+func allCubes(ok []*CompareRun) bool {
+	for _, r := range ok {
+		if r.Cube == nil {
+			return false
+		}
+	}
+	return len(ok) > 0
 }
 
 // writeAgreement writes the panel, the spread map and the robust image.
@@ -476,7 +502,14 @@ th:first-child, td:first-child { text-align: left; }
 <img src="{{.Spread}}" alt="spread map">
 <p>Robust features: the pixel-wise minimum across regularizers, after aligning each image to the first by the peak of their cross-correlation (whole-pixel shifts{{range .Shifts}} ({{index . 0}}, {{index . 1}}){{end}}). Closure phases fix the orientation but not always the exact position.</p>
 <img src="{{.Robust}}" alt="robust features">{{end}}
-<h2>Fit to the data</h2>
+{{if .Planes}}<h2>Planes</h2>
+<p>Each regularizer's cube, plane by plane: the χ²ᵣ of each plane's data (expected value in brackets), the spread between the regularizers' planes (pixel-wise standard deviation over their mean, summed over the object: Σσ/Σmean) and the common flux (the share of the flux that every regularizer puts in the same place, the pixel-wise minimum after the gray images' shifts). The table of the regularizers above describes the gray images the cubes started from.</p>
+<div class="scroll"><table>
+<tr><th>plane</th><th>λ (µm)</th><th>channels</th>{{range (index .Planes 0).Runs}}<th>χ²ᵣ {{.Regularizer}}</th>{{end}}<th>spread</th><th>common flux</th></tr>
+{{range .Planes}}<tr><td>{{.Plane}}</td><td>{{printf "%.4f" .WavelengthUm}}</td><td>{{.Label}}</td>{{range .Runs}}<td>{{printf "%.3f" .Chi2r}} ({{printf "%.2f" .Chi2rExpected}})</td>{{end}}<td>{{printf "%.3f" .Spread}}</td><td>{{printf "%.3f" .Common}}</td></tr>
+{{end}}</table></div>
+{{if .PlanesImage}}<img src="{{.PlanesImage}}" alt="montage of the planes: a row per regularizer">{{end}}
+{{end}}<h2>Fit to the data</h2>
 {{range .Fit}}<img src="{{.URI}}" alt="{{.Alt}}">
 {{end}}
 <h2>Files</h2>
@@ -514,6 +547,7 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		*CompareReport
 		Types                 []string
 		Panel, Spread, Robust template.URL
+		PlanesImage           template.URL
 		StretchAuto           bool
 		Fit                   []reportPlot
 		Files                 []reportFile
@@ -521,6 +555,9 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 	}{CompareReport: rep, Types: compareTypes(rep), StretchAuto: stretch == preview.Auto,
 		Panel: dataURI(filepath.Join(dir, "compare-panel.png")), Spread: dataURI(filepath.Join(dir, "compare-spread.png")),
 		Robust: dataURI(filepath.Join(dir, "compare-robust.png"))}
+	if rep.PlanesMontage != "" {
+		data.PlanesImage = dataURI(filepath.Join(dir, rep.PlanesMontage))
+	}
 	for _, p := range rep.Plots {
 		data.Fit = append(data.Fit, reportPlot{dataURI(filepath.Join(dir, p)), strings.TrimSuffix(strings.TrimPrefix(p, "compare-"), ".png") + " data and models"})
 	}
@@ -528,13 +565,17 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		if r.FITS != "" {
 			data.Files = append(data.Files, reportFile{r.FITS, "image of " + r.Regularizer + " (FITS)"})
 		}
+		if r.Cube != "" {
+			data.Files = append(data.Files, reportFile{r.Cube, "image cube of " + r.Regularizer + " (FITS)"})
+		}
 		if r.BootStd != "" {
 			data.Files = append(data.Files, reportFile{r.BootStd, "bootstrap standard deviation of " + r.Regularizer + " (FITS)"})
 		}
 	}
 	for _, f := range []reportFile{
 		{"compare-spread.fits", "spread map (FITS)"}, {"compare-robust.fits", "robust features (FITS)"},
-		{"compare.csv", "the results table (CSV)"}, {"compare.json", "the results and settings (JSON)"},
+		{"compare.csv", "the results table (CSV)"}, {"compare-planes.csv", "the table of the planes (CSV)"},
+		{"compare.json", "the results and settings (JSON)"},
 	} {
 		if _, err := os.Stat(filepath.Join(dir, f.Name)); err == nil {
 			data.Files = append(data.Files, f)
@@ -583,4 +624,5 @@ func (rep *CompareReport) WriteText(w io.Writer) {
 		}
 		fmt.Fprintf(w, "%-10s %-10.4g %-8.4g %-10.4g %-6d %-13s %.1f\n", r.Regularizer, r.Weight, r.Chi2r, r.RegValue, r.Iterations, result, r.Seconds)
 	}
+	writePlanesText(w, rep)
 }

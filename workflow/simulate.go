@@ -48,6 +48,7 @@ type SimulateSummary struct {
 	Points            map[string]int `json:"points"`
 	BaselineMin       float64        `json:"baseline_min_m"`
 	BaselineMax       float64        `json:"baseline_max_m"`
+	BandAveraged      bool           `json:"band_averaged"` // each channel averaged over its band
 }
 
 // Simulate checks r, simulates its data and writes them (and the model image), printing the
@@ -97,6 +98,9 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 		}
 		sky = simulate.ImageSky{NX: im.NX, NY: im.NY, Pixel: im.Pixel, Data: im.Data}
 	}
+	if _, chrom := sky.(*simulate.ChromaticSky); chrom && plan.Smearing == simulate.SmearOn {
+		return nil, inputError(r.Plan, fmt.Errorf("%s: wavelengths.smearing: a chromatic model (-chromatic) cannot be averaged over the bands; leave smearing out or set it false", r.Plan))
+	}
 	f, rep, err := simulate.Run(plan, sky)
 	if err != nil {
 		return nil, inputError("", err)
@@ -107,7 +111,7 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 	sum := &SimulateSummary{Output: r.Out, HourAngles: rep.HourAngles, Skipped: rep.Skipped, SkippedHourAngles: append([]float64{}, rep.SkippedHourAngles...),
 		Stations: rep.Stations, Baselines: rep.Baselines, Triangles: rep.Triangles, Channels: rep.Channels,
 		Points:      map[string]int{"vis2": rep.Vis2, "t3": rep.T3, "vis": rep.Vis, "visdiff": rep.Diff},
-		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected}
+		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected, BandAveraged: rep.BandAveraged}
 	fmt.Fprint(text, rep.String())
 	fmt.Fprintf(text, "Wrote %s\n", r.Out)
 	if r.WriteImage == "" {

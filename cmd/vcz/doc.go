@@ -73,7 +73,8 @@ and -bootstrap-collect merges them (making any missing) into the maps.
 	vcz simulate -plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
-documents every plan key (smearing = true averages each channel over its band,
+documents every plan key (each channel is averaged over its band unless the
+plan says smearing = false; chromatic models are taken at the channel centres;
 write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
 indices, rotating discs emitting a line).
@@ -134,8 +135,11 @@ the dash: reg, n, iter, tv-eps, data-weights, ins, no-amp-first and so on
 iterations, tv_eps, data_weights, instruments, amplitudes_first). With
 -channels (or -star) each epoch is a cube (or a star and its environment),
 as in image; -joint then refuses. compare takes -channels and -spectral too:
-each regularizer's run is then a cube, NAME-cube.fits, and the report compares
-the gray images the cubes started from.
+each regularizer's run is then a cube, NAME-cube.fits; the table, panel and
+maps compare the gray images the cubes started from, and the cubes are
+compared plane by plane (each plane's χ²ᵣ, the spread and common flux between
+the regularizers: compare-planes.csv, the text table and the report, and the
+montage compare-planes.png, a row per regularizer).
 
 The FITS header of every reconstruction records the options that differ
 from the defaults as HISTORY cards "option: NAME=VALUE", the canonical

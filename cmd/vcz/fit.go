@@ -98,10 +98,8 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	fitSet := workflow.FitSettings{Fit: fit.Options{Use: sel.Types, MaxIter: *maxIter, Starts: *starts, Seed: *seed}, SkipSignificance: *noSig}
-	if sm, err := recon.ParseSmearing(*smearing); err != nil {
+	if fitSet.Fit.Smearing, err = recon.ParseSmearing(*smearing); err != nil {
 		return badInputf("fit: -smearing: %v", err)
-	} else if sm != recon.SmearOff {
-		fitSet.Fit.Smearing = &sm
 	}
 	if fitSet.SearchDraws = *searchDraws; *searchDraws == 0 {
 		fitSet.SearchDraws = -1

@@ -26,13 +26,15 @@ func simulatedFile(t *testing.T, spec string) string {
 	return simulatedFileWith(t, "plan-four-compact.toml", spec)
 }
 
-// simulatedFileWith is simulatedFile with another example plan.
+// simulatedFileWith is simulatedFile with another example plan. Each channel is averaged
+// over its band, as an instrument measures it and as fit's default model takes it.
 func simulatedFileWith(t *testing.T, planFile, spec string) string {
 	t.Helper()
 	plan, err := simulate.LoadPlan(filepath.Join("..", "..", "examples", planFile))
 	if err != nil {
 		t.Fatal(err)
 	}
+	plan.Smearing = simulate.SmearDefault // the example plans take the band centres
 	m, err := model.Load(spec)
 	if err != nil {
 		t.Fatal(err)

@@ -151,7 +151,7 @@ func TestImageStarEnv(t *testing.T) {
 	for _, c := range im.Cards {
 		keys[c.Key] = true
 	}
-	for _, k := range []string{"STARF0", "STARIDX", "ENVIDX", "LAMBDA0"} {
+	for _, k := range []string{"STARF0", "STARIDX", "ENVIDX", "LAMBDA0", "STARF0L", "STARF0U", "ENVIDXL", "ENVIDXU"} {
 		if !keys[k] {
 			t.Errorf("no %s card", k)
 		}

@@ -84,8 +84,10 @@ func TestSimulateUnknownPlanKey(t *testing.T) {
 }
 
 // vcz simulate -chromatic writes differential visibilities (AMPTYP = PHITYP = 'differential')
-// of a chromatic model when the plan asks for "dvis", in a file that fitsverify passes; a
-// broken chromatic model fails with exit 2, naming the file, and writes nothing.
+// of a chromatic model when the plan asks for "dvis", in a file that fitsverify passes, with
+// a plan that says nothing of smearing (the channel centres then); a broken chromatic model,
+// and a plan asking for band averages of it, fail with exit 2, naming the file, and write
+// nothing.
 func TestSimulateChromatic(t *testing.T) {
 	dir := t.TempDir()
 	src, err := os.ReadFile(filepath.Join("..", "..", "examples", "plan-four-compact.toml"))
@@ -93,7 +95,7 @@ func TestSimulateChromatic(t *testing.T) {
 		t.Fatal(err)
 	}
 	plan := filepath.Join(dir, "plan.toml")
-	text := "write = [\"dvis\"]\n" + strings.Replace(string(src), "write = ", "# write = ", 1)
+	text := "write = [\"dvis\"]\n" + strings.Replace(strings.Replace(string(src), "write = ", "# write = ", 1), "smearing = false", "", 1)
 	if err := os.WriteFile(plan, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -127,6 +129,16 @@ func TestSimulateChromatic(t *testing.T) {
 	}
 	if _, err := os.Stat(out2); err == nil {
 		t.Fatal("an output file was written for a bad model")
+	}
+	if err := os.WriteFile(plan, []byte(strings.Replace(text, "[wavelengths]", "[wavelengths]\nsmearing = true", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code = runCmd(t, "simulate", "-plan", plan, "-chromatic", chrom, "-o", out2)
+	if code != exitBadInput || !strings.Contains(errs, "plan.toml: wavelengths.smearing:") || strings.Count(strings.TrimSpace(errs), "\n") > 0 {
+		t.Fatalf("smearing = true with a chromatic model: exit %d, stderr %q", code, errs)
+	}
+	if _, err := os.Stat(out2); err == nil {
+		t.Fatal("an output file was written for a refused plan")
 	}
 }
 

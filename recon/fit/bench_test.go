@@ -51,7 +51,7 @@ func BenchmarkGridSearch(b *testing.B) {
 func BenchmarkScanSeeds(b *testing.B) {
 	d := synth(modelVis(mustLoad(b, "ud:diameter=1.2;point:x=4,y=-3,flux=0.3")), exactNoise)
 	start := mustLoad(b, "ud:diameter~1.1;point:x~1,y~1,flux~0.1(0..1)")
-	pr, err := newProblem(newTerms(d, 0, 1, nil), start)
+	pr, err := newProblem(newTerms(d, 0, 1, centres), start)
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -106,7 +106,7 @@ func Significance(d *dataset.Data, res *Result, c int, opt Options) (*Detection,
 		if err := null.Validate(); err != nil {
 			return nil, err
 		}
-		t := newTerms(d, res.Use, 1, res.Smearing)
+		t := newTerms(d, res.Use, 1, smearing{res.Smearing, res.SmearTol})
 		chi2Null = t.eval(make([]float64, t.Len()), null)
 	} else {
 		o := opt

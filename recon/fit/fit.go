@@ -49,10 +49,15 @@ type Options struct {
 	// means 1e-10). GTol stops when the largest cosine between the
 	// residual vector and a Jacobian column is below it (0 means 1e-10).
 	FTol, XTol, GTol float64
-	// Smearing, when non-nil, says whether the model's visibilities are
-	// averaged over each channel's band, as for images
-	// (recon.ResidualOptions); nil takes them at the band centres.
-	Smearing *recon.Smearing
+	// Smearing says whether the model's visibilities are averaged over each
+	// channel's band, as for images (recon.ResidualOptions); the zero value,
+	// recon.SmearAuto, is the default of 'vcz fit' and of images: averaged
+	// where that exceeds the noise. recon.SmearOff takes the band centres.
+	Smearing recon.Smearing
+	// SmearTol, when positive, is the largest quadrature error of a smeared
+	// visibility (recon.ResidualOptions.SmearTol); 0 means the default, a
+	// tenth of the data's smallest relative error within [1e-8, 1e-3].
+	SmearTol float64
 }
 
 func (o Options) withDefaults() Options {
@@ -121,8 +126,10 @@ type Result struct {
 	// free positions (starts 1 to Scanned); the rest were drawn at random.
 	Scanned int
 	Use     dataset.DataType
-	// Smearing is the bandwidth-smearing setting of the fit (Options).
-	Smearing *recon.Smearing
+	// Smearing and SmearTol are the bandwidth-smearing settings of the fit
+	// (Options).
+	Smearing recon.Smearing
+	SmearTol float64
 	Notices  []string
 	// Pairs gives every component with a position relative to the
 	// primary (the brightest): separation, position angle, flux ratio and
@@ -141,14 +148,14 @@ func Fit(d *dataset.Data, m *model.Model, opt Options) (*Result, error) {
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, opt.Use, 1, opt.Smearing)
+	t := newTerms(d, opt.Use, 1, smearing{opt.Smearing, opt.SmearTol})
 	pr, err := newProblem(t, m)
 	if err != nil {
 		return nil, err
 	}
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	var best *run
-	res := &Result{Use: t.Use(), Smearing: opt.Smearing, Notices: t.Notices()}
+	res := &Result{Use: t.Use(), Smearing: opt.Smearing, SmearTol: opt.SmearTol, Notices: t.Notices()}
 	var seeds [][]float64
 	if !opt.NoScan {
 		seeds = pr.scanSeeds(pr.x0, opt.Starts-1)

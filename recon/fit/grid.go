@@ -63,7 +63,7 @@ func GridSearch(d *dataset.Data, primary *model.Model, opt GridOptions) (*GridRe
 	if err := primary.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, opt.Fit.Use, 1, opt.Fit.Smearing)
+	t := newTerms(d, opt.Fit.Use, 1, smearing{opt.Fit.Smearing, opt.Fit.SmearTol})
 	if t.Len() == 0 {
 		return nil, errors.New("fit: grid search: no data of the selected types")
 	}

@@ -137,7 +137,7 @@ func DetectionLimits(d *dataset.Data, res *Result, opt LimitOptions) (*Limits, e
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	t := newTerms(d, res.Use, 1, res.Smearing)
+	t := newTerms(d, res.Use, 1, smearing{res.Smearing, res.SmearTol})
 	if t.Len() == 0 {
 		return nil, errors.New("fit: detection limits: no data of the selected types")
 	}

@@ -14,7 +14,7 @@ type terms struct {
 	*recon.Residuals
 	d    *dataset.Data
 	use  dataset.DataType // as asked, 0 = all
-	sm   *recon.Smearing  // the bandwidth-smearing setting; nil: off
+	sm   smearing         // the bandwidth-smearing settings
 	u, v []float64        // the points at which vis is evaluated
 	vis  []complex128     // scratch: visibilities at the points
 }
@@ -22,18 +22,23 @@ type terms struct {
 // newTerms selects the data of d that a fit of the types in use (0 = all)
 // uses; stride > 1 keeps every stride-th datum of each type. sm says
 // whether the model's visibilities are averaged over each channel's band
-// (recon.ResidualOptions; nil: never): the model is then evaluated at the
-// quadrature sub-points of every band and the residuals take their
-// averages, as the images' forward model does.
-func newTerms(d *dataset.Data, use dataset.DataType, stride int, sm *recon.Smearing) *terms {
-	mode := recon.SmearOff
-	if sm != nil {
-		mode = *sm
-	}
-	r := recon.NewResiduals(d, recon.ResidualOptions{Use: use, Stride: stride, Smearing: mode})
+// (recon.ResidualOptions): the model is then evaluated at the quadrature
+// sub-points of every band and the residuals take their averages, as the
+// images' forward model does.
+func newTerms(d *dataset.Data, use dataset.DataType, stride int, sm smearing) *terms {
+	r := recon.NewResiduals(d, recon.ResidualOptions{Use: use, Stride: stride, Smearing: sm.mode, SmearTol: sm.tol})
 	u, v := r.Points()
 	return &terms{Residuals: r, d: d, use: use, sm: sm, u: u, v: v, vis: make([]complex128, len(u))}
 }
+
+// smearing is the bandwidth-smearing setting of a fit and its quadrature tolerance (Options).
+type smearing struct {
+	mode recon.Smearing
+	tol  float64
+}
+
+// centres takes every model visibility at its band's centre.
+var centres = smearing{mode: recon.SmearOff}
 
 // eval writes the normalised residuals of m into dst (length Len) and
 // returns their sum of squares.

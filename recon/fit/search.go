@@ -65,7 +65,7 @@ func StartsField(d *dataset.Data, m *model.Model, use dataset.DataType, c int) (
 	if !okx || !oky {
 		return Field{}, fmt.Errorf("fit: component %d: the position is not free", c+1)
 	}
-	t := newTerms(d, use, 1, nil)
+	t := newTerms(d, use, 1, centres)
 	qmin := math.Inf(1)
 	for i := range t.u {
 		if q := math.Hypot(t.u[i], t.v[i]); q > 0 {
@@ -175,9 +175,9 @@ func CalibrateSearch(d *dataset.Data, null *model.Model, use dataset.DataType, o
 	}
 	// The simulated searches take the models at each channel's centre: smearing changes
 	// the signal of a companion a little, not the noise whose maxima are calibrated.
-	t := newTerms(d, use, 1, nil)
+	t := newTerms(d, use, 1, centres)
 	if t.Len() > calMaxData {
-		t = newTerms(d, use, 1+t.Len()/calMaxData, nil)
+		t = newTerms(d, use, 1+t.Len()/calMaxData, centres)
 	}
 	n := t.Len()
 	if n == 0 {

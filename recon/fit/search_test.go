@@ -122,7 +122,7 @@ func TestSearchMapScores(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		tm := newTerms(d, use, 1, nil)
+		tm := newTerms(d, use, 1, centres)
 		const nx, ny, step, xc, yc = 24, 20, 0.4, 3.0, -5.0
 		in := make([]bool, nx*ny)
 		for i := range in {

@@ -81,6 +81,9 @@ integration_time = 120
 from = 1.50
 to = 1.72
 channels = 8
+# each channel at its centre, not averaged over its band (the demo and
+# validation data were made so)
+smearing = false
 
 [noise]
 vis2_relative = 0.04

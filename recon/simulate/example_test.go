@@ -21,6 +21,7 @@ func Example() {
 	// 6 stations, 15 baselines, 20 closing triangles, 8 channels
 	// 8 hour angles observed, 0 skipped below the elevation limit
 	// projected baselines 32.2 to 326.4 m
+	// visibilities at each channel's centre, not averaged over its band
 	// points written: 960 V², 1280 closure phases/T3 amplitudes, 0 complex visibilities
 	// Vaeloris 120 V² rows, 160 T3 rows
 }

@@ -55,8 +55,10 @@ Top level
   from = 1.5, to = 1.8, channels = 8
                           centres from..to inclusive; width defaults to the spacing
   smearing = true         each channel's visibility is the average over its band
-                          (a top-hat of the width), as an instrument measures it;
-                          default false: the value at the channel's centre
+                          (a top-hat of the width), as an instrument measures it
+                          (default); false: the value at the channel's centre.
+                          Chromatic models are taken at the centres (their band
+                          average is not modelled; smearing = true is refused)
 
 [noise]                   errors are written to the *ERR columns; amplitude
                           errors are sqrt((relative*value)^2 + floor^2); phase

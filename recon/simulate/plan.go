@@ -65,9 +65,10 @@ type Plan struct {
 
 	Wavelengths []float64 // channel centres (m)
 	Bandwidths  []float64 // channel widths (m), same length
-	// BandAverage makes each channel's visibility the average over its band (bandwidth
-	// smearing, smear.go of Run) instead of the value at its centre.
-	BandAverage bool
+	// Smearing says whether each channel's visibility is the average over its band
+	// (bandwidth smearing, smear.go of Run), as an instrument measures it, or the value at
+	// its centre. The zero value, SmearDefault, averages.
+	Smearing Smearing
 
 	Noise Noise
 	Seed  uint64
@@ -77,6 +78,20 @@ type Plan struct {
 	// 'differential'; run.go, writeDiff).
 	WriteDiff bool
 }
+
+// Smearing says whether Run averages each channel's visibility over its band.
+type Smearing int8
+
+// The smearing settings of a plan.
+const (
+	// SmearDefault averages over the band, except for a chromatic sky (ChromaticSky), which
+	// is taken at each channel's centre: its band average is not modelled.
+	SmearDefault Smearing = iota
+	// SmearOn averages over the band; Run refuses it with a chromatic sky.
+	SmearOn
+	// SmearOff takes each channel's visibility at its centre.
+	SmearOff
+)
 
 // Plan files are TOML; these types mirror the file so that the decoder
 // can report keys it did not use.
@@ -120,7 +135,7 @@ type planFile struct {
 		From     *float64  `toml:"from"`
 		To       *float64  `toml:"to"`
 		Channels *int      `toml:"channels"`
-		Smearing bool      `toml:"smearing"`
+		Smearing *bool     `toml:"smearing"`
 	} `toml:"wavelengths"`
 	Noise struct {
 		Add            *bool    `toml:"add"`
@@ -333,7 +348,12 @@ func ParsePlan(src []byte, name string) (*Plan, error) {
 	default:
 		return nil, fail("wavelengths", -1, "needs centre (and width) or from, to and channels")
 	}
-	p.BandAverage = w.Smearing
+	if w.Smearing != nil {
+		p.Smearing = SmearOff
+		if *w.Smearing {
+			p.Smearing = SmearOn
+		}
+	}
 	nz := pf.Noise
 	set := func(dst *float64, src *float64) {
 		if src != nil {
@@ -452,8 +472,8 @@ func (p *Plan) Validate() error {
 		if !(p.Wavelengths[i] > 0) || !(p.Bandwidths[i] > 0) || math.IsInf(p.Wavelengths[i], 0) {
 			return keyErr("wavelengths", -1, "channel %d: centre and width must be positive", i+1)
 		}
-		if p.BandAverage && !(p.Bandwidths[i] < 2*p.Wavelengths[i]) {
-			return keyErr("wavelengths.smearing", -1, "channel %d: a band averaged over must be narrower than twice its centre", i+1)
+		if p.Smearing != SmearOff && !(p.Bandwidths[i] < 2*p.Wavelengths[i]) {
+			return keyErr("wavelengths.width", -1, "channel %d: a band averaged over must be narrower than twice its centre (smearing = false takes the centres)", i+1)
 		}
 	}
 	nz := p.Noise

@@ -25,6 +25,9 @@ type Report struct {
 	Diff              int       // differential visibilities written (Plan.WriteDiff)
 	MaxProjected      float64   // longest projected baseline (m)
 	MinProjected      float64   // shortest projected baseline (m)
+	// BandAveraged says that each channel's visibility is its average over the band
+	// (Plan.Smearing), not the value at its centre.
+	BandAveraged bool
 }
 
 // String writes the report as a few lines for the terminal.
@@ -40,6 +43,11 @@ func (r Report) String() string {
 		fmt.Fprintf(&b, " (%s h)", strings.Join(s, ", "))
 	}
 	fmt.Fprintf(&b, "\nprojected baselines %.1f to %.1f m\n", r.MinProjected, r.MaxProjected)
+	if r.BandAveraged {
+		b.WriteString("visibilities averaged over each channel's band\n")
+	} else {
+		b.WriteString("visibilities at each channel's centre, not averaged over its band\n")
+	}
 	fmt.Fprintf(&b, "points written: %d V², %d closure phases/T3 amplitudes, %d complex visibilities", r.Vis2, r.T3, r.Vis)
 	if r.Diff > 0 {
 		fmt.Fprintf(&b, ", %d differential visibilities", r.Diff)
@@ -66,7 +74,7 @@ const (
 // pair of combined stations i < j (in plan order) gives a baseline from
 // station i to station j, projected with UVW; each channel's (u, v) is the
 // projection divided by the wavelength; V is the sky's visibility there, or
-// its average over the channel's band with plan.BandAverage (smear.go). VIS2DATA is |V|², VISAMP and
+// its average over the channel's band unless plan.Smearing says otherwise (smear.go). VIS2DATA is |V|², VISAMP and
 // VISPHI are |V| and arg V, and each closing triangle i < j < k gives the
 // bispectrum B = V(u1,v1) V(u2,v2) conj(V(u1+u2, v1+v2)) with (u1, v1) the
 // baseline i→j and (u2, v2) the baseline j→k (CONVENTIONS.md). Errors and
@@ -147,8 +155,8 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 	vis := make([]complex128, len(u))
 	cs, chromatic := sky.(chromaticSky)
 	switch {
-	case chromatic && p.BandAverage:
-		return nil, rep, errors.New("simulate: [wavelengths] smearing is not available with a chromatic model")
+	case chromatic && p.Smearing == SmearOn:
+		return nil, rep, errors.New("simulate: [wavelengths] smearing = true is not available with a chromatic model")
 	case chromatic:
 		lambda := make([]float64, len(u))
 		for i := range lambda {
@@ -157,7 +165,8 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 		if err := cs.VisibilitiesAt(vis, u, v, lambda); err != nil {
 			return nil, rep, fmt.Errorf("simulate: %w", err)
 		}
-	case p.BandAverage:
+	case p.Smearing != SmearOff:
+		rep.BandAveraged = true
 		rel := make([]float64, len(u))
 		for i := range rel {
 			c := i % nc

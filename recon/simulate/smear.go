@@ -8,7 +8,7 @@ import (
 	"vcz/recon/model"
 )
 
-// Bandwidth smearing (Plan.BandAverage). A channel of centre λ and width Δλ measures the
+// Bandwidth smearing (Plan.Smearing). A channel of centre λ and width Δλ measures the
 // average of the visibility over its band; for a top-hat band, with r = Δλ/λ,
 //
 //	V̄(u, v) = ∫_{−1/2}^{1/2} V(u/(1 + r·t), v/(1 + r·t)) dt,

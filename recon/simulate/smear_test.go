@@ -3,10 +3,13 @@ package simulate
 import (
 	"math"
 	"math/cmplx"
+	"reflect"
 	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/integrate"
+
+	"vcz/io/oifits"
 )
 
 // TestBandAverage checks the band-averaged visibilities of a binary observed in two wide
@@ -22,7 +25,7 @@ func TestBandAverage(t *testing.T) {
 	p.Bandwidths = []float64{0.2e-6, 0.27e-6}
 	m := mustModel(t, "point;point:x=4,y=-3,flux=0.5")
 	avg := *p
-	avg.BandAverage = true
+	avg.Smearing = SmearDefault
 	fa, _, err := Run(&avg, ModelSky{m})
 	if err != nil {
 		t.Fatal(err)
@@ -67,21 +70,68 @@ func TestBandAverage(t *testing.T) {
 // A band at least twice its centre cannot be averaged over: the plan is refused.
 func TestBandAverageRefusesWideBand(t *testing.T) {
 	p, _ := Demo()
-	p.BandAverage = true
+	p.Smearing = SmearOn
 	p.Bandwidths[2] = 2 * p.Wavelengths[2]
 	if err := p.Validate(); err == nil {
 		t.Error("a band of twice its centre accepted")
 	}
 }
 
-// The plan key smearing of [wavelengths] sets Plan.BandAverage.
+// The plan key smearing of [wavelengths] sets Plan.Smearing: averaged when it is left out,
+// and the demo plan takes the centres.
 func TestPlanSmearingKey(t *testing.T) {
-	text := strings.Replace(DemoPlanTOML, "channels = 8\n", "channels = 8\nsmearing = true\n", 1)
-	p, err := ParsePlan([]byte(text), "plan")
-	if err != nil || !p.BandAverage {
-		t.Fatalf("smearing = true gives %v, %v", p != nil && p.BandAverage, err)
+	for _, c := range []struct {
+		line string
+		want Smearing
+	}{{"smearing = true\n", SmearOn}, {"smearing = false\n", SmearOff}, {"", SmearDefault}} {
+		text := strings.Replace(DemoPlanTOML, "smearing = false\n", c.line, 1)
+		p, err := ParsePlan([]byte(text), "plan")
+		if err != nil || p.Smearing != c.want {
+			t.Errorf("%q gives %v, %v; want %v", c.line, p != nil && p.Smearing == c.want, err, c.want)
+		}
 	}
-	if d, _ := Demo(); d.BandAverage {
+	if d, _ := Demo(); d.Smearing != SmearOff {
 		t.Error("the demo plan averages over its bands")
+	}
+}
+
+// A plan that says nothing of smearing averages a model's visibilities over each band (the
+// same values as smearing = true) and reports it; a chromatic model is then taken at the
+// channel centres, and smearing = true is refused with it.
+func TestPlanSmearingDefault(t *testing.T) {
+	p, _ := Demo()
+	p = noiseless(p)
+	p.Wavelengths = []float64{1.6e-6, 2.2e-6}
+	p.Bandwidths = []float64{0.2e-6, 0.27e-6}
+	m := mustModel(t, "point;point:x=4,y=-3,flux=0.5")
+	run := func(s Smearing, sky Sky) (*oifits.File, Report) {
+		q := *p
+		q.Smearing = s
+		f, rep, err := Run(&q, sky)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return f, rep
+	}
+	fd, rd := run(SmearDefault, ModelSky{m})
+	fo, _ := run(SmearOn, ModelSky{m})
+	fc, rc := run(SmearOff, ModelSky{m})
+	if !rd.BandAveraged || rc.BandAveraged || !strings.Contains(rd.String(), "averaged over each channel's band") {
+		t.Errorf("reports: default %v, off %v:\n%s", rd.BandAveraged, rc.BandAveraged, rd.String())
+	}
+	if !reflect.DeepEqual(fd.Vis2[0].Rows, fo.Vis2[0].Rows) {
+		t.Error("default and smearing = true differ")
+	}
+	if reflect.DeepEqual(fd.Vis2[0].Rows, fc.Vis2[0].Rows) {
+		t.Error("default and smearing = false agree: the case does not exercise smearing")
+	}
+	cs := &ChromaticSky{Reference: 1.6e-6, Components: []SpectralComponent{{Model: m, Index: -1}}}
+	if _, rep := run(SmearDefault, cs); rep.BandAveraged {
+		t.Error("a chromatic model averaged by default")
+	}
+	q := *p
+	q.Smearing = SmearOn
+	if _, _, err := Run(&q, cs); err == nil || !strings.Contains(err.Error(), "chromatic") {
+		t.Errorf("smearing = true with a chromatic model: %v", err)
 	}
 }

@@ -107,6 +107,7 @@ func (unitSky) Visibilities(dst []complex128, _, _ []float64) error {
 func skeleton(p *simulate.Plan, vis bool) (*oifits.File, error) {
 	q := *p
 	q.Noise.Add = false
+	q.Smearing = simulate.SmearOff // the values are replaced: no band averages needed
 	q.WriteVis2, q.WriteT3, q.WriteVis = true, true, vis
 	f, _, err := simulate.Run(&q, unitSky{})
 	return f, err
