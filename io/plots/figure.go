@@ -228,7 +228,8 @@ func (logTicks) Ticks(min, max float64) []plot.Tick {
 			}
 			t := plot.Tick{Value: v}
 			if k == 1 || all || (fine && (k == 2 || k == 5)) {
-				t.Label = formatTick(v)
+				// No rounding to "0" as on a linear axis: a decade such as 1e-13 is a value.
+				t.Label = strconv.FormatFloat(v, 'g', 8, 64)
 			}
 			ts = append(ts, t)
 		}

@@ -250,17 +250,33 @@ func addData(p *plot.Plot, d dataPoints, withErr bool, name string, lr lambdaRan
 // open glyphs, one legend entry each: coloured, or black when the data are coloured by
 // wavelength (black). wrap wraps phases.
 func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, logY, black bool) error {
+	// On a logarithmic axis, model values far below every data point (a V² null of a
+	// disc, 1e-17) would stretch the axis over decades that hold no data: values below a
+	// hundredth of the lowest data point, a tenth of the reach of its error bar, are left
+	// out, and the legend counts them.
+	floor := 0.0
+	if logY {
+		floor = math.Inf(1)
+		for _, q := range d.xy {
+			floor = math.Min(floor, q.Y/100)
+		}
+	}
 	for k, m := range models {
 		if len(m.Value) != n {
 			return fmt.Errorf("model %q has %d values for %d data points", m.Name, len(m.Value), n)
 		}
 		var xy plotter.XYs
+		below := 0
 		for j, i := range d.idx {
 			y := m.Value[i]
 			if wrap {
 				y = WrapDegrees(y)
 			}
 			if !finite(y) || (logY && y <= 0) {
+				continue
+			}
+			if y < floor {
+				below++
 				continue
 			}
 			xy = append(xy, plotter.XY{X: d.xy[j].X, Y: y})
@@ -278,7 +294,11 @@ func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, lo
 			s.GlyphStyle.Radius = vg.Points(3.2)
 		}
 		p.Add(s)
-		p.Legend.Add(legendName(m.Name, "model", k, len(models)), s)
+		name := legendName(m.Name, "model", k, len(models))
+		if below > 0 {
+			name += " (" + strconv.Itoa(below) + " below the axis not shown)"
+		}
+		p.Legend.Add(name, s)
 	}
 	return nil
 }

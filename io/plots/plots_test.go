@@ -14,6 +14,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -431,6 +432,8 @@ func TestTicks(t *testing.T) {
 		{"cleanTicks(0.152, 0.262)", tickLabels(cleanTicks{}.Ticks(0.152, 0.262)), "0.16 0.18 0.2 0.22 0.24 0.26"},
 		{"logTicks(0.152, 0.262)", tickLabels(logTicks{}.Ticks(0.152, 0.262)), "0.16 0.18 0.2 0.22 0.24 0.26"},
 		{"cleanTicks(0.0007, 0.00102)", tickLabels(cleanTicks{}.Ticks(0.0007, 0.00102)), "0.0007 0.0008 0.0009 0.001"},
+		// Decades far below 1 are values on a logarithmic axis, not rounding noise about 0.
+		{"logTicks(1e-14, 1e-10)", tickLabels(logTicks{}.Ticks(1e-14, 1e-10)), "1e-14 1e-13 1e-12 1e-11 1e-10"},
 	} {
 		if c.got != c.want {
 			t.Errorf("%s labels %q, want %q", c.name, c.got, c.want)
@@ -543,5 +546,20 @@ func TestAutoLog(t *testing.T) {
 	m := Measurements{Label: "V²", Freq: []float64{1e7, 2e7, 3e7, 4e7}, Value: []float64{0.5, 0.01, -0.001, 0}}
 	if k := m.nonPositive(); k != 2 {
 		t.Errorf("%d points not above zero, want 2", k)
+	}
+}
+
+// A model value at a V² null (1e-17) is left out of a logarithmic axis that would otherwise
+// reach down to it.
+func TestModelsBelowLogAxis(t *testing.T) {
+	p := plot.New()
+	p.Y.Scale = plot.LogScale{}
+	d := dataPoints{xy: plotter.XYs{{X: 1, Y: 1e-3}, {X: 2, Y: 0.5}}, idx: []int{0, 1}}
+	m := []ModelValues{{Name: "image", Value: []float64{1e-17, 0.4}}}
+	if err := addModels(p, d, m, 2, false, true, false); err != nil {
+		t.Fatal(err)
+	}
+	if p.Y.Min < 1e-5 {
+		t.Errorf("y axis reaches down to %g, want no lower than a hundredth of the lowest data point, 1e-5", p.Y.Min)
 	}
 }
