@@ -12,7 +12,7 @@ import (
 // phase. A phase runs on the output of the phase before it, which the
 // warm-up calls leave in place.
 func BenchmarkPhases(b *testing.B) {
-	names := [nPhases]string{"fwd-rows", "fwd-cols", "fwd-fill", "fwd-interp", "adj-spread", "adj-cols", "adj-rows"}
+	names := [nPhases]string{"fwd-rows", "fwd-cols", "fwd-interp", "adj-spread", "adj-cols", "adj-rows"}
 	for _, s := range benchSizes[1:] {
 		for _, workers := range []int{1, 2} {
 			b.Run(fmt.Sprintf("n=%d/m=%d/workers=%d", s.n, s.m, workers), func(b *testing.B) {

@@ -31,7 +31,6 @@ const (
 	// holds a band of the grid: at most maxSpread, and at least
 	// minSpread points each (common practice, no source).
 	rowPairShard = 8    // image row pairs per shard of the x transforms
-	fillShard    = 64   // fine rows per shard of the Hermitian fill
 	interpShard  = 4096 // points per interpolation shard
 	maxSpread    = 8
 	minSpread    = 1024
@@ -114,7 +113,6 @@ type plan struct {
 const (
 	phFwdRows = iota
 	phFwdCols
-	phFwdFill
 	phFwdInterp
 	phAdjSpread
 	phAdjCols
@@ -124,7 +122,7 @@ const (
 
 // The phases of a call, in order, and of one phase alone.
 var (
-	fwdPhases = []int{phFwdRows, phFwdCols, phFwdFill, phFwdInterp}
+	fwdPhases = []int{phFwdRows, phFwdCols, phFwdInterp}
 	adjPhases = []int{phAdjSpread, phAdjCols, phAdjRows}
 	onePhase  = func() (a [nPhases]int) {
 		for i := range a {
@@ -239,7 +237,6 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.shards[phAdjRows] = p.shards[phFwdRows]
 	p.shards[phFwdCols] = p.hc / colBlock
 	p.shards[phAdjCols] = p.shards[phFwdCols]
-	p.shards[phFwdFill] = chunks(fy, fillShard)
 	p.shards[phFwdInterp] = chunks(m, interpShard)
 	ns := 1
 	if !serial {
@@ -453,9 +450,6 @@ func (p *plan) do(w, g int) {
 		p.fwdRows(p.scratch[w], lo, hi)
 	case phFwdCols:
 		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, false)
-	case phFwdFill:
-		lo, hi := chunk(p.fy, s, fillShard)
-		p.fwdFill(lo, hi)
 	case phFwdInterp:
 		lo, hi := chunk(p.m, s, interpShard)
 		p.interp(lo, hi)
@@ -475,7 +469,8 @@ func (p *plan) do(w, g int) {
 // 2007, Numerical Recipes, 3rd ed., sect. 12.3): the x transforms take
 // two image rows at once as the real and imaginary parts of one complex
 // row, and the y transforms run only on the columns jx < p.hc, which
-// cover 0 … fx/2; Forward fills the other columns by symmetry.
+// cover 0 … fx/2; Forward fills the other columns by symmetry as it
+// stores the columns they mirror.
 
 // fwdRows places corrected image rows on their fine rows and transforms
 // them along x, two at a time, for the row pairs [lo, hi).
@@ -529,7 +524,8 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 
 // cols transforms columns [c0, c1) along y in blocks of colBlock. In
 // Forward only the image rows are nonzero on input (the rest are not
-// read). In Adjoint the input is folded from the spreading bands and
+// read); the output goes to the grid, and so do the columns jx ≥ hc that
+// mirror it (fwdMirror). In Adjoint the input is folded from the spreading bands and
 // made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
 // the output are stored, in half.
 func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
@@ -566,6 +562,7 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 			for r := range fy {
 				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
 			}
+			p.fwdMirror(out, c)
 		} else {
 			hc := p.hc
 			for iy, r := range p.imageRows {
@@ -593,14 +590,22 @@ func (p *plan) bandRow(d []complex128, r, c int) {
 	}
 }
 
-// fwdFill sets the columns jx ≥ hc of fine rows [lo, hi) from the
-// Hermitian symmetry G(jx, jy) = conj G(fx−jx, −jy).
-func (p *plan) fwdFill(lo, hi int) {
-	fx, fy, hc := p.fx, p.fy, p.hc
-	for r := lo; r < hi; r++ {
-		dst := p.grid[r*fx : r*fx+fx]
-		src := p.grid[((fy-r)&(fy-1))*fx:][:fx]
-		conjRev(dst[hc:], src[1:fx-hc+1]) // dst[jx] = conj src[fx−jx]
+// fwdMirror sets the columns jx ≥ hc of the grid that mirror the
+// columns c … c+colBlock−1 of the column block out, by the Hermitian
+// symmetry G(jx, jy) = conj G(fx−jx, −jy): column fx−j for each j in
+// the block with 1 ≤ j ≤ fx−hc. The block is still in cache, so the
+// grid is written once and never read back for this; the columns of
+// different blocks are disjoint.
+func (p *plan) fwdMirror(out []complex128, c int) {
+	fx, fy := p.fx, p.fy
+	const b = colBlock
+	lo, hi := max(c, 1), min(c+b, fx-p.hc+1)
+	if lo >= hi {
+		return
+	}
+	for r := range fy {
+		src := out[((fy-r)&(fy-1))*b:][lo-c : hi-c]
+		conjRev(p.grid[r*fx+fx-hi+1:r*fx+fx-lo+1], src) // column fx−j = conj src[j]
 	}
 }
 
