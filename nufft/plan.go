@@ -72,10 +72,14 @@ type plan struct {
 	// memory with band.
 	grid []complex128
 
-	// half holds, for Adjoint, the columns 0 … hc−1 of the image rows
-	// after the y transforms, image row iy at half[iy·hc:]: the
-	// hand-over from the column to the row transforms.
-	half []complex128
+	// half holds the columns 0 … hc−1 of the image rows, image row iy
+	// at half[iy·hc:]: the hand-over between the row and the column
+	// transforms, after the x transforms in Forward and after the y
+	// transforms in Adjoint. It is part of halfPad, which has fy/2 rows:
+	// fine rows 3fy/4 … fy−1 then 0 … fy/4−1, which hold all image rows
+	// (fy ≥ 2ny), the others staying zero. Forward's column transforms
+	// read their input from there (fftPlan.transformHalf).
+	half, halfPad []complex128
 
 	// Adjoint spreading: shard s spreads its points into band rows
 	// [bandLo[s], bandLo[s]+bandRows[s]) of the unwrapped y range,
@@ -309,7 +313,10 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// share one buffer, the largest of the plan after the weights.
 	buf := make([]complex128, max(fx*fy, off))
 	p.grid, p.band = buf[:fx*fy], buf[:off]
-	p.half = make([]complex128, r.ny*p.hc)
+	p.halfPad = make([]complex128, fy/2*p.hc)
+	// Image row iy is fine row iy − ny/2 (mod fy), which is row
+	// iy − ny/2 + fy/4 of halfPad.
+	p.half = p.halfPad[(fy/4-r.ny/2)*p.hc:][:r.ny*p.hc]
 	p.rowStart = make([]int32, fy+1)
 	var src []int32
 	for r := range fy {
@@ -328,7 +335,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// Write the buffers of the calls once, so that the first call does
 	// not pay for mapping fresh pages.
 	clear(buf)
-	clear(p.half)
+	clear(p.halfPad)
 	clear(p.sorted)
 	for _, s := range p.scratch {
 		clear(s)
@@ -472,8 +479,8 @@ func (p *plan) do(w, g int) {
 // cover 0 … fx/2; Forward fills the other columns by symmetry as it
 // stores the columns they mirror.
 
-// fwdRows places corrected image rows on their fine rows and transforms
-// them along x, two at a time, for the row pairs [lo, hi).
+// fwdRows transforms corrected image rows along x, two at a time, for
+// the row pairs [lo, hi), and stores their columns 0 … hc−1 in half.
 func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 	nx, fx, hc := p.nx, p.fx, p.hc
 	z, buf := scr[:fx], scr[fx:2*fx]
@@ -504,10 +511,10 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 		out := p.fftX.transform(z, buf, 1, false)
 		// Split Z = F(r1) + i F(r2): F(r1)[k] = (Z[k] + conj Z[−k])/2,
 		// F(r2)[k] = (Z[k] − conj Z[−k])/(2i).
-		g1 := p.grid[int(p.imageRows[i1])*fx:][:hc]
+		g1 := p.half[i1*hc:][:hc]
 		var g2 []complex128
 		if i2 < p.ny {
-			g2 = p.grid[int(p.imageRows[i2])*fx:][:hc]
+			g2 = p.half[i2*hc:][:hc]
 		}
 		for k := range g1 {
 			a := out[k]
@@ -523,9 +530,9 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 }
 
 // cols transforms columns [c0, c1) along y in blocks of colBlock. In
-// Forward only the image rows are nonzero on input (the rest are not
-// read); the output goes to the grid, and so do the columns jx ≥ hc that
-// mirror it (fwdMirror). In Adjoint the input is folded from the spreading bands and
+// Forward only the image rows are nonzero on input, and the first stage
+// reads them from halfPad (transformHalf); the output goes to the grid,
+// and so do the columns jx ≥ hc that mirror it (fwdMirror). In Adjoint the input is folded from the spreading bands and
 // made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
 // the output are stored, in half.
 func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
@@ -534,42 +541,35 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	x, y := scr[:fy*b], scr[fy*b:2*fy*b]
 	for c := c0; c < c1; c += b {
 		if !adjoint {
-			clear(x)
-			for _, r := range p.imageRows {
-				copy(x[int(r)*b:int(r)*b+b], p.grid[int(r)*fx+c:])
-			}
-		} else {
-			for r := range fy {
-				d := x[r*b : r*b+b]
-				p.bandRow(d, r, c)
-				// Add conj H(−jx, −r) for jx = c … c+b−1.
-				srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
-				for _, o := range srcs {
-					row := p.band[int(o) : int(o)+fx]
-					// Column fx − c − j, which is 0 for c = j = 0.
-					if c == 0 {
-						v := row[0]
-						d[0] += complex(real(v), -imag(v))
-						addConjRev(d[1:], row[fx-b+1:])
-					} else {
-						addConjRev(d, row[fx-c-b+1:fx-c+1])
-					}
-				}
-			}
-		}
-		out := p.fftY.transform(x, y, b, adjoint)
-		if !adjoint {
+			out := p.fftY.transformHalf(p.halfPad[c:], p.hc, x, y, b, false)
 			for r := range fy {
 				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
 			}
 			p.fwdMirror(out, c)
-		} else {
-			hc := p.hc
-			for iy, r := range p.imageRows {
-				copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
+			continue
+		}
+		for r := range fy {
+			d := x[r*b : r*b+b]
+			p.bandRow(d, r, c)
+			// Add conj H(−jx, −r) for jx = c … c+b−1.
+			srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
+			for _, o := range srcs {
+				row := p.band[int(o) : int(o)+fx]
+				// Column fx − c − j, which is 0 for c = j = 0.
+				if c == 0 {
+					v := row[0]
+					d[0] += complex(real(v), -imag(v))
+					addConjRev(d[1:], row[fx-b+1:])
+				} else {
+					addConjRev(d, row[fx-c-b+1:fx-c+1])
+				}
 			}
 		}
-		x, y = scr[:fy*b], scr[fy*b:2*fy*b]
+		out := p.fftY.transform(x, y, b, true)
+		hc := p.hc
+		for iy, r := range p.imageRows {
+			copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
+		}
 	}
 }
 
@@ -802,7 +802,7 @@ func (p *plan) memBytes() (grid, perPoint, total int) {
 	grid = c * len(p.grid)
 	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	// grid and band share their memory.
-	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.half) + f*(len(p.corrX)+len(p.corrY)) +
+	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.halfPad) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows)+len(p.edge))
 	for _, s := range p.scratch {
 		total += c * len(s)
