@@ -61,9 +61,18 @@ type plan struct {
 	// x weights followed by the w y weights.
 	perm   []int32
 	x0, y0 []int32
-	sorted []complex128 // values at the points in sorted order
-	wts    []float64
-	wts32  []float32 // used instead of wts when tol ≥ f32Tol
+	// flip[i] is 1 where sorted point i is stored mirrored, at (−u, −v),
+	// which puts every point in the columns jx ≤ fx/2 + w/2 and those
+	// that wrap below 0: the value at (u, v) of the transform of a real
+	// image is conj of the value at (−u, −v), so Forward conjugates the
+	// mirrored points' values and Adjoint spreads the conjugates of
+	// theirs. Forward then needs only the columns 0 … hc−1 and the w
+	// columns below fx, half the grid.
+	flip    []uint8
+	anyFlip bool
+	sorted  []complex128 // values at the points in sorted order
+	wts     []float64
+	wts32   []float32 // used instead of wts when tol ≥ f32Tol
 
 	fftX, fftY *fftPlan
 
@@ -184,8 +193,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// t = v·pixel (CONVENTIONS.md); fine coordinates are f·s and f·t.
 	m := r.m
 	half := float64(w) / 2
-	fineX := func(k int) float64 { return reduce(-u[k]*r.pixel) * float64(fx) }
-	fineY := func(k int) float64 { return reduce(v[k]*r.pixel) * float64(fy) }
+	// Points with fine x < 0 are stored mirrored (see plan.flip), at
+	// x ∈ (0, fx/2].
+	fine := func(k int) (x, y float64, flip bool) {
+		x, y = reduce(-u[k]*r.pixel)*float64(fx), reduce(v[k]*r.pixel)*float64(fy)
+		if x < 0 {
+			return -x, -y, true
+		}
+		return x, y, false
+	}
 	nb := (fy + binRows - 1) / binRows
 	// key is the bin of a point with fine coordinates (x, y); fx and fy
 	// are powers of two. Both passes compute it, which is cheaper than
@@ -197,7 +213,8 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	}
 	count := make([]int32, nb*fx+1)
 	for k := range m {
-		count[key(fineX(k), fineY(k))+1]++
+		x, y, _ := fine(k)
+		count[key(x, y)+1]++
 	}
 	for i := 1; i < len(count); i++ {
 		count[i] += count[i-1]
@@ -206,15 +223,20 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// order, so that the weights are computed in sequential passes:
 	// scattered stores overlap, where gathered loads would each wait.
 	p.perm = make([]int32, m)
+	p.flip = make([]uint8, m)
 	sx := make([]float64, m)
 	sy := make([]float64, m)
 	for k := range m {
-		x, y := fineX(k), fineY(k)
+		x, y, flip := fine(k)
 		c := key(x, y)
 		i := interleaved(int(count[c]), m)
 		count[c]++
 		p.perm[i] = int32(k)
 		sx[i], sy[i] = x, y
+		if flip {
+			p.flip[i] = 1
+			p.anyFlip = true
+		}
 	}
 	count = nil
 	p.sorted = make([]complex128, m)
@@ -419,7 +441,10 @@ func (p *Plan) AdjointSorted(dst []float64, vis []complex128) {
 	mustLen("Plan.AdjointSorted", "dst", len(dst), p.nx*p.ny)
 	mustLen("Plan.AdjointSorted", "vis", len(vis), p.m)
 	own := p.sorted
-	p.sorted, p.inOrder = vis, true
+	if !p.anyFlip {
+		p.sorted = vis
+	}
+	p.inOrder = true
 	p.dstR, p.srcC = dst, vis
 	p.runPhases(adjPhases)
 	p.dstR, p.srcC = nil, nil
@@ -476,8 +501,8 @@ func (p *plan) do(w, g int) {
 // 2007, Numerical Recipes, 3rd ed., sect. 12.3): the x transforms take
 // two image rows at once as the real and imaginary parts of one complex
 // row, and the y transforms run only on the columns jx < p.hc, which
-// cover 0 … fx/2; Forward fills the other columns by symmetry as it
-// stores the columns they mirror.
+// cover 0 … fx/2; Forward fills the few other columns the points read
+// (plan.flip) by symmetry as it stores the columns they mirror.
 
 // fwdRows transforms corrected image rows along x, two at a time, for
 // the row pairs [lo, hi), and stores their columns 0 … hc−1 in half.
@@ -548,10 +573,16 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 			p.fwdMirror(out, c)
 			continue
 		}
+		zlo, zhi := p.zeroCols()
+		zero := c > 0 && fx-c-b+1 >= zlo && fx-c < zhi
 		for r := range fy {
 			d := x[r*b : r*b+b]
 			p.bandRow(d, r, c)
-			// Add conj H(−jx, −r) for jx = c … c+b−1.
+			// Add conj H(−jx, −r) for jx = c … c+b−1, unless those
+			// columns are all in the zero zone.
+			if zero {
+				continue
+			}
 			srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
 			for _, o := range srcs {
 				row := p.band[int(o) : int(o)+fx]
@@ -573,6 +604,18 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	}
 }
 
+// zeroCols returns the zero zone, the columns [zlo, zhi) that no call
+// writes in the grid or in the spreading bands (which share their
+// memory and their columns): Forward writes the columns 0 … hc−1 and the
+// w columns below fx (fwdMirror), and the points, all at fine x in [0,
+// fx/2] (plan.flip), spread into columns below fx/2 + w/2 + 1 and above
+// fx − w/2 − 1; hc ≥ fx/2 + colBlock covers that for every width up to
+// maxUnrolled = 16. NewPlan clears the zone, and Adjoint neither clears
+// nor reads it. The zone is empty (zlo = zhi) when fx − w ≤ hc.
+func (p *plan) zeroCols() (zlo, zhi int) {
+	return p.hc, max(p.hc, p.fx-p.w)
+}
+
 // bandRow sets d to the sum, in shard order, of the band rows folding
 // onto fine row r, at columns c … c+len(d)−1.
 func (p *plan) bandRow(d []complex128, r, c int) {
@@ -590,16 +633,18 @@ func (p *plan) bandRow(d []complex128, r, c int) {
 	}
 }
 
-// fwdMirror sets the columns jx ≥ hc of the grid that mirror the
-// columns c … c+colBlock−1 of the column block out, by the Hermitian
-// symmetry G(jx, jy) = conj G(fx−jx, −jy): column fx−j for each j in
-// the block with 1 ≤ j ≤ fx−hc. The block is still in cache, so the
-// grid is written once and never read back for this; the columns of
-// different blocks are disjoint.
+// fwdMirror sets the columns jx ≥ hc of the grid that the points read
+// (the w columns below fx, where the kernels of the points near x = 0
+// wrap; plan.flip) and that mirror columns c … c+colBlock−1 of the
+// column block out, by the Hermitian symmetry G(jx, jy) = conj G(fx−jx,
+// −jy): column fx−j for each j in the block with 1 ≤ j ≤ min(w,
+// fx−hc). The block is still in cache, so the grid is written once and
+// never read back for this; the columns of different blocks are
+// disjoint. The columns hc ≤ jx < fx−w are never written nor read.
 func (p *plan) fwdMirror(out []complex128, c int) {
 	fx, fy := p.fx, p.fy
 	const b = colBlock
-	lo, hi := max(c, 1), min(c+b, fx-p.hc+1)
+	lo, hi := max(c, 1), min(c+b, fx-p.hc+1, p.w+1)
 	if lo >= hi {
 		return
 	}
@@ -678,13 +723,27 @@ func (p *plan) interp(lo, hi int) {
 			p.interpWrap(i)
 		}
 	}
+	flip := p.flip[lo:hi]
 	if p.inOrder {
+		s := p.sorted[lo:hi]
+		s = s[:len(flip)]
+		for i, f := range flip {
+			s[i] = conjIf(s[i], f)
+		}
 		return
 	}
 	dst, perm := p.dstC, p.perm[lo:hi]
+	perm = perm[:len(flip)]
 	for i, v := range p.sorted[lo:hi] {
-		dst[perm[i]] = v
+		dst[perm[i]] = conjIf(v, flip[i])
 	}
+}
+
+// conjIf returns conj(v) if f is 1 and v if f is 0, without a branch
+// (the mirrored points are in no predictable order): the sign bit of
+// the imaginary part is flipped by f.
+func conjIf(v complex128, f uint8) complex128 {
+	return complex(real(v), math.Float64frombits(math.Float64bits(imag(v))^uint64(f)<<63))
 }
 
 // interpWrap evaluates sorted point i with general width and wrap-around
@@ -723,10 +782,16 @@ func (p *plan) interpWrap(i int) {
 // keep this order, so every cell sums its terms in the same order.
 func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
-	clear(band)
+	// The columns of the zero zone are zero already.
+	zlo, zhi := p.zeroCols()
+	for r := 0; r < len(band); r += p.fx {
+		row := band[r : r+p.fx]
+		clear(row[:zlo])
+		clear(row[zhi:])
+	}
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
 	edge := p.edge[p.edgeLo[i]:p.edgeLo[i+1]]
-	if !p.inOrder && p.spreadGathers() {
+	if !p.inOrder && !p.anyFlip && p.spreadGathers() {
 		// The assembly reads the visibilities through the permutation;
 		// the points at the edge get theirs here.
 		p.spreadAsm(band, ylo, lo, hi)
@@ -736,11 +801,24 @@ func (p *plan) spread(i int) {
 		}
 		return
 	}
-	// Gather the visibilities into sorted order first (see interp).
-	if !p.inOrder {
+	// Gather the visibilities into sorted order first, the conjugates
+	// for the mirrored points (plan.flip). AdjointSorted's values are in
+	// sorted order already, and are taken as they are when no point is
+	// mirrored.
+	flip, dst := p.flip[lo:hi], p.sorted[lo:hi]
+	dst = dst[:len(flip)]
+	switch {
+	case !p.inOrder:
 		src, perm := p.srcC, p.perm[lo:hi]
-		for j := range perm {
-			p.sorted[lo+j] = src[perm[j]]
+		perm = perm[:len(flip)]
+		for j, f := range flip {
+			dst[j] = conjIf(src[perm[j]], f)
+		}
+	case p.anyFlip:
+		src := p.srcC[lo:hi]
+		src = src[:len(flip)]
+		for j, f := range flip {
+			dst[j] = conjIf(src[j], f)
 		}
 	}
 	switch {
@@ -800,7 +878,7 @@ func (p *plan) weights(buf []float64, i int) []float64 {
 func (p *plan) memBytes() (grid, perPoint, total int) {
 	const c, f, i32 = 16, 8, 4
 	grid = c * len(p.grid)
-	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
+	perPoint = len(p.flip) + i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	// grid and band share their memory.
 	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.halfPad) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows)+len(p.edge))
