@@ -791,12 +791,13 @@ func (p *plan) spread(i int) {
 	}
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
 	edge := p.edge[p.edgeLo[i]:p.edgeLo[i+1]]
-	if !p.inOrder && !p.anyFlip && p.spreadGathers() {
-		// The assembly reads the visibilities through the permutation;
-		// the points at the edge get theirs here.
+	if !p.inOrder && p.spreadGathers() {
+		// The assembly reads the visibilities through the permutation,
+		// and conjugates those of the mirrored points; the points at the
+		// edge get theirs here.
 		p.spreadAsm(band, ylo, lo, hi)
 		for _, k := range edge {
-			p.sorted[k] = p.srcC[p.perm[k]]
+			p.sorted[k] = conjIf(p.srcC[p.perm[k]], p.flip[k])
 			p.spreadWrap(band, ylo, int(k))
 		}
 		return
