@@ -61,18 +61,20 @@ func (p *plan) spreadGathers() bool {
 // spreadAsm spreads the sorted points [lo, hi) that do not wrap in x
 // into band (first row ylo) with the assembly loops, skipping the
 // others; the caller checks hasSpreadAsm. Where spreadGathers, the
-// values are p.srcC[p.perm[i]] unless p.inOrder.
+// values are p.srcC[p.perm[i]], conjugated where p.flip[i] is 1, unless
+// p.inOrder.
 func (p *plan) spreadAsm(band []complex128, ylo, lo, hi int) {
 	w := p.w
 	if lo >= hi {
 		return
 	}
 	if usePairs && w >= minPair {
+		gather := !p.inOrder
 		switch {
-		case !p.inOrder && p.wts32 != nil:
-			spreadAVX2f32Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
-		case !p.inOrder:
-			spreadAVX2f64Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.srcC[0], &p.perm[lo], hi-lo)
+		case gather && p.wts32 != nil:
+			spreadAVX2f32Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.srcC[0], &p.perm[lo], &p.flip[lo], hi-lo)
+		case gather:
+			spreadAVX2f64Gather[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts[2*w*lo], &p.srcC[0], &p.perm[lo], &p.flip[lo], hi-lo)
 		case p.wts32 != nil:
 			spreadAVX2f32[w](&band[0], p.fx, ylo, &p.x0[lo], &p.y0[lo], &p.wts32[2*w*lo], &p.sorted[lo], hi-lo)
 		default:

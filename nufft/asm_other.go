@@ -22,6 +22,10 @@ func (p *plan) spreadGathers() bool { return false }
 
 func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool { return false }
 
+func radix4HalfFast(dst, src []complex128, stride int, st *fftStage, s int, inverse bool) bool {
+	return false
+}
+
 // conjRev sets dst[j] = conj(src[len(src)−1−j]); the lengths must match.
 func conjRev(dst, src []complex128) {
 	if len(dst) != len(src) {

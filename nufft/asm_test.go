@@ -1,6 +1,7 @@
 package nufft
 
 import (
+	"math"
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
@@ -90,13 +91,29 @@ func TestGriddingAVX(t *testing.T) {
 	u, v := bandPoints(rng, m, mas)
 	img := randImage(rng, nx*ny)
 	vis := randVis(rng, m)
+	// The points moved into the half of the plane that is never
+	// mirrored (off the band edge |u| = 1/(2·pixel), which is), for the
+	// AVX2 spreading that gathers the values itself, which runs only
+	// when no point is mirrored (plan.flip).
+	uw := make([]float64, m)
+	for k := range u {
+		uw[k] = -0.999 * math.Abs(u[k])
+	}
 	for w := minAsm; w <= maxAsm; w++ {
-		for _, tol := range []float64{1e-6, 1e-9} { // float32 and float64 weights
-			r, err := resolve("test", nx, ny, mas, u, v, Options{Tol: tol, Workers: 1})
+		for _, c := range []struct {
+			tol  float64
+			u    []float64
+			flip bool
+		}{{1e-6, u, true}, {1e-9, u, true}, {1e-6, uw, false}, {1e-9, uw, false}} { // float32 and float64 weights
+			tol := c.tol
+			r, err := resolve("test", nx, ny, mas, c.u, v, Options{Tol: tol, Workers: 1})
 			if err != nil {
 				t.Fatal(err)
 			}
-			p := &Plan{newPlan(r, u, v, kaiserBessel, w)}
+			p := &Plan{newPlan(r, c.u, v, kaiserBessel, w)}
+			if p.anyFlip != c.flip {
+				t.Fatalf("w=%d tol=%g: mirrored points %v, want %v", w, tol, p.anyFlip, c.flip)
+			}
 			forms := []struct {
 				name       string
 				avx, pairs bool
@@ -115,12 +132,12 @@ func TestGriddingAVX(t *testing.T) {
 			for i := 1; i < len(forms); i++ {
 				for k := range f[0] {
 					if f[0][k] != f[i][k] {
-						t.Fatalf("w=%d tol=%g: Forward at point %d: SSE2 %v, %s %v", w, tol, k, f[0][k], forms[i].name, f[i][k])
+						t.Fatalf("w=%d tol=%g mirrored=%v: Forward at point %d: SSE2 %v, %s %v", w, tol, c.flip, k, f[0][k], forms[i].name, f[i][k])
 					}
 				}
 				for k := range a[0] {
 					if a[0][k] != a[i][k] {
-						t.Fatalf("w=%d tol=%g: Adjoint at pixel %d: SSE2 %v, %s %v", w, tol, k, a[0][k], forms[i].name, a[i][k])
+						t.Fatalf("w=%d tol=%g mirrored=%v: Adjoint at pixel %d: SSE2 %v, %s %v", w, tol, c.flip, k, a[0][k], forms[i].name, a[i][k])
 					}
 				}
 			}

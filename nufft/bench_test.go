@@ -120,7 +120,7 @@ func BenchmarkExactForward(b *testing.B) {
 
 // timeSplit returns the minimum over reps of the time of the FFT phases
 // and of the gridding phase (interpolation or spreading) of one call;
-// the Hermitian fill of Forward is in neither. The FFT phases run as
+// the Hermitian fill of Forward is part of its column transforms. The FFT phases run as
 // one parallel call, as in Forward and Adjoint, so with several workers
 // each part pays one wake-up of the helpers.
 func (p *plan) timeSplit(adjoint bool, reps int, vis []complex128, img, out []float64) (fft, grid time.Duration) {

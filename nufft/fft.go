@@ -73,9 +73,14 @@ func (f *fftPlan) transform(x, y []complex128, b int, inverse bool) []complex128
 	if len(x) != f.n*b || len(y) != f.n*b {
 		panic("nufft: FFT buffer length mismatch")
 	}
-	src, dst := x, y
-	s := b
-	for i := range f.stages {
+	return f.stagesFrom(0, x, y, b, inverse)
+}
+
+// stagesFrom runs the stages i0, i0+1, … on src, whose stride at stage
+// i0 is s, using dst as the second buffer, and returns whichever of the
+// two holds the result.
+func (f *fftPlan) stagesFrom(i0 int, src, dst []complex128, s int, inverse bool) []complex128 {
+	for i := i0; i < len(f.stages); i++ {
 		st := &f.stages[i]
 		if st.l == 2 {
 			if !radix2Fast(dst, src, s) {
@@ -98,6 +103,62 @@ func (f *fftPlan) transform(x, y []complex128, b int, inverse bool) []complex128
 		src, dst = dst, src
 	}
 	return src
+}
+
+// transformHalf is transform for a batch of b sequences whose values
+// n/4 … 3n/4−1 are zero, read from rows of src instead of x: value j <
+// n/4 of the batch is the row src[(n/4+j)·stride:][:b], value 3n/4+j the
+// row src[j·stride:][:b]. The first stage reads only these rows (the
+// others would add zeros), so the input is neither copied nor padded.
+// It gives the values of transform on the zero-padded input, to the bit
+// up to the sign of zeros. x and y (length n·b) are overwritten; src is
+// only read.
+func (f *fftPlan) transformHalf(src []complex128, stride int, x, y []complex128, b int, inverse bool) []complex128 {
+	m := f.n / 4
+	if len(x) != f.n*b || len(y) != f.n*b || m == 0 || len(src) < (2*m-1)*stride+b || stride < b {
+		panic("nufft: FFT buffer length mismatch")
+	}
+	st := &f.stages[0]
+	if !radix4HalfFast(x, src, stride, st, b, inverse) {
+		tw := st.fw
+		if inverse {
+			tw = st.iw
+		}
+		radix4Half(x, src, stride, tw, m, b, inverse)
+	}
+	return f.stagesFrom(1, x, y, 4*b, inverse)
+}
+
+// radix4Half is the first Stockham stage (stride s, sub-length 4m) of
+// radix4 with the second and third quarters of the input zero: b = c =
+// 0 in radix4's butterfly, so a+c = a−c = a, b+d = d, b−d = −d. Row p of
+// the fourth quarter is src[p·stride:][:s], row p of the first
+// src[(m+p)·stride:][:s].
+func radix4Half(dst, src []complex128, stride int, tw []complex128, m, s int, inverse bool) {
+	for p := range m {
+		w1, w2, w3 := tw[3*p], tw[3*p+1], tw[3*p+2]
+		a0 := src[(m+p)*stride:][:s]
+		a3 := src[p*stride:][:s]
+		d0 := dst[s*4*p : s*4*p+s]
+		d1 := dst[s*(4*p+1) : s*(4*p+1)+s]
+		d2 := dst[s*(4*p+2) : s*(4*p+2)+s]
+		d3 := dst[s*(4*p+3) : s*(4*p+3)+s]
+		a3 = a3[:len(a0)]
+		d0, d1, d2, d3 = d0[:len(a0)], d1[:len(a0)], d2[:len(a0)], d3[:len(a0)]
+		for q, a := range a0 {
+			d := a3[q]
+			// ±i(b−d) with b−d = −d: i(−d) = (Im d, −Re d) forward,
+			// −i(−d) = (−Im d, Re d) inverse.
+			jbmd := complex(imag(d), -real(d))
+			if inverse {
+				jbmd = complex(-imag(d), real(d))
+			}
+			d0[q] = a + d
+			d1[q] = w1 * (a - jbmd)
+			d2[q] = w2 * (a - d)
+			d3[q] = w3 * (a + jbmd)
+		}
+	}
 }
 
 // radix2 is the last Stockham stage, sub-length 2, no twiddles.

@@ -39,6 +39,40 @@ func radix4Fast(dst, src []complex128, st *fftStage, s int, inverse bool) bool {
 	return true
 }
 
+// radix4HalfSSE2 is the assembly form of radix4Half: row p of the
+// fourth quarter at src + p·stride, of the first at src + (m+p)·stride;
+// mask from jMask, the other one than radix4SSE2's.
+//
+//go:noescape
+func radix4HalfSSE2(dst, src *complex128, tw *float64, mask *[2]uint64, m, s, stride int)
+
+// radix4HalfAVX is radix4HalfSSE2 on two columns at once, for even s.
+//
+//go:noescape
+func radix4HalfAVX(dst, src *complex128, tw *float64, mask *[2]uint64, m, s, stride int)
+
+// radix4HalfFast runs radix4Half in assembly and reports that it did.
+func radix4HalfFast(dst, src []complex128, stride int, st *fftStage, s int, inverse bool) bool {
+	if !useAsm {
+		return false
+	}
+	m := st.l / 4
+	if len(dst) < 4*m*s || m == 0 || len(src) < (2*m-1)*stride+s || stride < s {
+		panic("nufft: FFT buffer length mismatch")
+	}
+	// i(−d) = swap(d) with the high half negated; −i(−d) the low half.
+	tw, mask := st.fwx, &jMask[1]
+	if inverse {
+		tw, mask = st.iwx, &jMask[0]
+	}
+	if useAVX && s%2 == 0 {
+		radix4HalfAVX(&dst[0], &src[0], &tw[0], mask, m, s, stride)
+	} else {
+		radix4HalfSSE2(&dst[0], &src[0], &tw[0], mask, m, s, stride)
+	}
+	return true
+}
+
 //go:noescape
 func conjRevSSE2(dst, src *complex128, n int)
 

@@ -356,3 +356,159 @@ avtail:
 avdone:
 	VZEROUPPER
 	RET
+
+// func radix4HalfSSE2(dst, src *complex128, tw *float64, mask *[2]uint64, m, s, stride int)
+//
+// radix4Half (fft.go), the first stage of a batch whose middle half is
+// zero, with one complex128 per SSE2 register: the operations of the Go
+// loop in its order, so the same bits. mask flips the sign of one half
+// of swap(d) to give ±i(−d). Registers as in radix4SSE2, except SI the
+// fourth quarter's row p, R8 the offset of the first quarter's row p
+// from it (m·stride·16 bytes) and R12 the source row stride
+// (stride·16 bytes).
+TEXT ·radix4HalfSSE2(SB), NOSPLIT, $0-56
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ tw+16(FP), R10
+	MOVQ mask+24(FP), AX
+	MOVUPD (AX), X6
+	MOVQ m+32(FP), R11
+	MOVQ s+40(FP), R9
+	SHLQ $4, R9
+	MOVQ stride+48(FP), R12
+	SHLQ $4, R12
+	MOVQ R12, R8
+	IMULQ R11, R8
+	TESTQ R11, R11
+	JLE hdone
+hploop:
+	MOVUPD 0(R10), X0
+	MOVUPD 16(R10), X1
+	MOVUPD 32(R10), X2
+	MOVUPD 48(R10), X3
+	MOVUPD 64(R10), X4
+	MOVUPD 80(R10), X5
+	XORQ AX, AX
+hqloop:
+	// d (X10), a (X7)
+	LEAQ (SI)(AX*1), DX
+	MOVUPD (DX), X10
+	MOVUPD (DX)(R8*1), X7
+	// jbmd = ±i·(−d) (X8)
+	MOVAPD X10, X8
+	SHUFPD $1, X8, X8
+	XORPD X6, X8
+	LEAQ (DI)(AX*1), DX
+	// o0 = a + d
+	MOVAPD X7, X9
+	ADDPD X10, X9
+	MOVUPD X9, (DX)
+	ADDQ R9, DX
+	// o1 = w1·(a − jbmd)
+	MOVAPD X7, X11
+	SUBPD X8, X11
+	MOVAPD X11, X13
+	SHUFPD $1, X13, X13
+	MULPD X1, X13
+	MULPD X0, X11
+	ADDPD X13, X11
+	MOVUPD X11, (DX)
+	ADDQ R9, DX
+	// o2 = w2·(a − d)
+	MOVAPD X7, X11
+	SUBPD X10, X11
+	MOVAPD X11, X13
+	SHUFPD $1, X13, X13
+	MULPD X3, X13
+	MULPD X2, X11
+	ADDPD X13, X11
+	MOVUPD X11, (DX)
+	ADDQ R9, DX
+	// o3 = w3·(a + jbmd)
+	ADDPD X8, X7
+	MOVAPD X7, X13
+	SHUFPD $1, X13, X13
+	MULPD X5, X13
+	MULPD X4, X7
+	ADDPD X13, X7
+	MOVUPD X7, (DX)
+	ADDQ $16, AX
+	CMPQ AX, R9
+	JLT hqloop
+	// next p: source rows +stride, dst rows +4s, twiddles +96 bytes
+	ADDQ R12, SI
+	LEAQ (DI)(R9*4), DI
+	ADDQ $96, R10
+	DECQ R11
+	JNZ hploop
+hdone:
+	RET
+
+// func radix4HalfAVX(dst, src *complex128, tw *float64, mask *[2]uint64, m, s, stride int)
+//
+// radix4HalfSSE2 on two values of q at once (s even), in 256-bit
+// registers: the same operations on each complex, so the same bits.
+TEXT ·radix4HalfAVX(SB), NOSPLIT, $0-56
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ tw+16(FP), R10
+	MOVQ mask+24(FP), AX
+	VBROADCASTF128 (AX), Y6
+	MOVQ m+32(FP), R11
+	MOVQ s+40(FP), R9
+	SHLQ $4, R9
+	MOVQ stride+48(FP), R12
+	SHLQ $4, R12
+	MOVQ R12, R8
+	IMULQ R11, R8
+	TESTQ R11, R11
+	JLE hvdone
+hvploop:
+	VBROADCASTF128 0(R10), Y0
+	VBROADCASTF128 16(R10), Y1
+	VBROADCASTF128 32(R10), Y2
+	VBROADCASTF128 48(R10), Y3
+	VBROADCASTF128 64(R10), Y4
+	VBROADCASTF128 80(R10), Y5
+	XORQ AX, AX
+hvqloop:
+	LEAQ (SI)(AX*1), DX
+	VMOVUPD (DX), Y10
+	VMOVUPD (DX)(R8*1), Y7
+	VPERMILPD $5, Y10, Y8
+	VXORPD Y6, Y8, Y8
+	LEAQ (DI)(AX*1), DX
+	VADDPD Y10, Y7, Y9
+	VMOVUPD Y9, (DX)
+	ADDQ R9, DX
+	VSUBPD Y8, Y7, Y11
+	VPERMILPD $5, Y11, Y13
+	VMULPD Y1, Y13, Y13
+	VMULPD Y0, Y11, Y11
+	VADDPD Y13, Y11, Y11
+	VMOVUPD Y11, (DX)
+	ADDQ R9, DX
+	VSUBPD Y10, Y7, Y11
+	VPERMILPD $5, Y11, Y13
+	VMULPD Y3, Y13, Y13
+	VMULPD Y2, Y11, Y11
+	VADDPD Y13, Y11, Y11
+	VMOVUPD Y11, (DX)
+	ADDQ R9, DX
+	VADDPD Y8, Y7, Y7
+	VPERMILPD $5, Y7, Y13
+	VMULPD Y5, Y13, Y13
+	VMULPD Y4, Y7, Y7
+	VADDPD Y13, Y7, Y7
+	VMOVUPD Y7, (DX)
+	ADDQ $32, AX
+	CMPQ AX, R9
+	JLT hvqloop
+	ADDQ R12, SI
+	LEAQ (DI)(R9*4), DI
+	ADDQ $96, R10
+	DECQ R11
+	JNZ hvploop
+hvdone:
+	VZEROUPPER
+	RET

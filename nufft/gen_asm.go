@@ -61,7 +61,7 @@ func main() {
 			fmt.Fprintf(&g, "\t%d: spread%d%sAVX2,\n", w, w, sfx)
 		}
 		g.WriteString("}\n\n")
-		fmt.Fprintf(&g, "var spreadAVX2%sGather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, perm *int32, n int){\n", sfx, ft)
+		fmt.Fprintf(&g, "var spreadAVX2%sGather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *%s, vis *complex128, perm *int32, flip *uint8, n int){\n", sfx, ft)
 		for w := minPair; w <= maxW; w++ {
 			fmt.Fprintf(&g, "\t%d: spread%d%sAVX2Gather,\n", w, w, sfx)
 		}
@@ -329,9 +329,10 @@ const gatherAhead = 16
 // never becomes −0 in round-to-nearest (IEEE 754-2019 sect. 6.3), and
 // x + ±0 = x for every other x.
 // With gather, the value of point i is vis[perm[i]] instead of vis[i],
-// and the value gatherAhead points on is prefetched: the loads through
-// the permutation then overlap the spreading instead of waiting in a
-// separate pass.
+// conjugated where flip[i] is 1 (the sign of its imaginary part flipped,
+// as conjIf does), and the value gatherAhead points on is prefetched:
+// the loads through the permutation then overlap the spreading instead
+// of waiting in a separate pass.
 // Registers: Y0…Y5 weight pairs (wx[t0], wx[t0], wx[t1], wx[t1]),
 // Y15 zero, X11 value, Y12 row value, Y13 scratch, R14 perm.
 func genSpreadPairs(s, g *bytes.Buffer, w int, f32, gather bool) {
@@ -339,14 +340,14 @@ func genSpreadPairs(s, g *bytes.Buffer, w int, f32, gather bool) {
 	args, frame := "band *complex128, fx, ylo int, x0, y0 *int32, wts *"+ft+", vis *complex128, n int", 64
 	if gather {
 		name += "Gather"
-		args, frame = "band *complex128, fx, ylo int, x0, y0 *int32, wts *"+ft+", vis *complex128, perm *int32, n int", 72
+		args, frame = "band *complex128, fx, ylo int, x0, y0 *int32, wts *"+ft+", vis *complex128, perm *int32, flip *uint8, n int", 80
 	}
 	fmt.Fprintf(g, "//go:noescape\nfunc %s(%s)\n\n", name, args)
 	fmt.Fprintf(s, "\n// func %s(%s)\n", name, args)
 	fmt.Fprintf(s, "TEXT ·%s(SB), NOSPLIT, $0-%d\n", name, frame)
 	s.WriteString("\tMOVQ band+0(FP), SI\n\tMOVQ fx+8(FP), R8\n\tMOVQ ylo+16(FP), R9\n\tMOVQ x0+24(FP), R10\n\tMOVQ y0+32(FP), R11\n\tMOVQ wts+40(FP), R12\n\tMOVQ vis+48(FP), DI\n")
 	if gather {
-		s.WriteString("\tMOVQ perm+56(FP), R14\n\tMOVQ n+64(FP), CX\n")
+		s.WriteString("\tMOVQ perm+56(FP), R14\n\tMOVQ n+72(FP), CX\n")
 	} else {
 		s.WriteString("\tMOVQ n+56(FP), CX\n")
 	}
@@ -363,6 +364,10 @@ func genSpreadPairs(s, g *bytes.Buffer, w int, f32, gather bool) {
 	s.WriteString("\tMOVLQSX (R11), AX\n\tSUBQ R9, AX\n\tIMULQ R13, AX\n\tSHLQ $4, DX\n\tADDQ DX, AX\n\tADDQ SI, AX\n")
 	if gather {
 		s.WriteString("\tMOVLQSX (R14), DX\n\tSHLQ $4, DX\n\tVMOVUPD (DI)(DX*1), X11\n")
+		// flip[i] at flip + (R14 − perm)/4, into the sign bit of the
+		// high (imaginary) half of X13.
+		s.WriteString("\tMOVQ R14, DX\n\tSUBQ perm+56(FP), DX\n\tSHRQ $2, DX\n\tADDQ flip+64(FP), DX\n\tMOVBQZX (DX), DX\n\tSHLQ $63, DX\n")
+		s.WriteString("\tVMOVQ DX, X13\n\tVPSLLDQ $8, X13, X13\n\tVXORPD X13, X11, X11\n")
 	} else {
 		s.WriteString("\tVMOVUPD (DI), X11\n")
 	}

@@ -36,7 +36,7 @@ func spread3f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread3f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp4f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -54,7 +54,7 @@ func spread4f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread4f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp5f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -72,7 +72,7 @@ func spread5f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread5f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp6f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -90,7 +90,7 @@ func spread6f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread6f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp7f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -108,7 +108,7 @@ func spread7f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread7f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp8f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -126,7 +126,7 @@ func spread8f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread8f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp9f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -144,7 +144,7 @@ func spread9f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, v
 func spread9f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp10f32SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int)
@@ -162,7 +162,7 @@ func spread10f32AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, 
 func spread10f32AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, n int)
 
 //go:noescape
-func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
+func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp2f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -192,7 +192,7 @@ func spread3f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread3f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp4f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -210,7 +210,7 @@ func spread4f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread4f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp5f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -228,7 +228,7 @@ func spread5f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread5f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp6f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -246,7 +246,7 @@ func spread6f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread6f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp7f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -264,7 +264,7 @@ func spread7f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread7f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp8f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -282,7 +282,7 @@ func spread8f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread8f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp9f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -300,7 +300,7 @@ func spread9f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, v
 func spread9f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 //go:noescape
 func interp10f64SSE2(grid *complex128, fx, fy int, x0, y0 *int32, wts *float64, out *complex128, n int)
@@ -318,7 +318,7 @@ func spread10f64AVX(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, 
 func spread10f64AVX2(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, n int)
 
 //go:noescape
-func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
+func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
 
 var interpSSE2f32 = [...]func(grid *complex128, fx, fy int, x0, y0 *int32, wts *float32, out *complex128, n int){
 	2:  interp2f32SSE2,
@@ -427,7 +427,7 @@ var spreadAVX2f32 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	10: spread10f32AVX2,
 }
 
-var spreadAVX2f32Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int){
+var spreadAVX2f32Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int){
 	3:  spread3f32AVX2Gather,
 	4:  spread4f32AVX2Gather,
 	5:  spread5f32AVX2Gather,
@@ -449,7 +449,7 @@ var spreadAVX2f64 = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts 
 	10: spread10f64AVX2,
 }
 
-var spreadAVX2f64Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int){
+var spreadAVX2f64Gather = [...]func(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int){
 	3:  spread3f64AVX2Gather,
 	4:  spread4f64AVX2Gather,
 	5:  spread5f64AVX2Gather,

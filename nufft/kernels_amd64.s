@@ -772,8 +772,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread3f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread3f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread3f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -782,7 +782,7 @@ TEXT ·spread3f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -811,6 +811,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -1569,8 +1578,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread4f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread4f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread4f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -1579,7 +1588,7 @@ TEXT ·spread4f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -1608,6 +1617,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -2605,8 +2623,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread5f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread5f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread5f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -2615,7 +2633,7 @@ TEXT ·spread5f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -2644,6 +2662,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -3918,8 +3945,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread6f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread6f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread6f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -3928,7 +3955,7 @@ TEXT ·spread6f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -3957,6 +3984,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -5546,8 +5582,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread7f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread7f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread7f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -5556,7 +5592,7 @@ TEXT ·spread7f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -5585,6 +5621,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -7527,8 +7572,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread8f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread8f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread8f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -7537,7 +7582,7 @@ TEXT ·spread8f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -7566,6 +7611,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -9899,8 +9953,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread9f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread9f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread9f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -9909,7 +9963,7 @@ TEXT ·spread9f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -9938,6 +9992,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -12700,8 +12763,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, n int)
-TEXT ·spread10f32AVX2Gather(SB), NOSPLIT, $0-72
+// func spread10f32AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float32, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread10f32AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -12710,7 +12773,7 @@ TEXT ·spread10f32AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -12739,6 +12802,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VCVTPS2PD 0(R12), Y0
@@ -13928,8 +14000,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread3f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread3f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread3f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -13938,7 +14010,7 @@ TEXT ·spread3f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -13967,6 +14039,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -14679,8 +14760,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread4f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread4f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread4f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -14689,7 +14770,7 @@ TEXT ·spread4f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -14718,6 +14799,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -15657,8 +15747,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread5f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread5f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread5f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -15667,7 +15757,7 @@ TEXT ·spread5f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -15696,6 +15786,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -16900,8 +16999,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread6f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread6f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread6f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -16910,7 +17009,7 @@ TEXT ·spread6f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -16939,6 +17038,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -18446,8 +18554,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread7f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread7f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread7f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -18456,7 +18564,7 @@ TEXT ·spread7f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -18485,6 +18593,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -20333,8 +20450,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread8f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread8f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread8f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -20343,7 +20460,7 @@ TEXT ·spread8f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -20372,6 +20489,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -22599,8 +22725,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread9f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread9f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread9f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -22609,7 +22735,7 @@ TEXT ·spread9f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -22638,6 +22764,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0
@@ -25282,8 +25417,8 @@ done:
 	VZEROUPPER
 	RET
 
-// func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, n int)
-TEXT ·spread10f64AVX2Gather(SB), NOSPLIT, $0-72
+// func spread10f64AVX2Gather(band *complex128, fx, ylo int, x0, y0 *int32, wts *float64, vis *complex128, perm *int32, flip *uint8, n int)
+TEXT ·spread10f64AVX2Gather(SB), NOSPLIT, $0-80
 	MOVQ band+0(FP), SI
 	MOVQ fx+8(FP), R8
 	MOVQ ylo+16(FP), R9
@@ -25292,7 +25427,7 @@ TEXT ·spread10f64AVX2Gather(SB), NOSPLIT, $0-72
 	MOVQ wts+40(FP), R12
 	MOVQ vis+48(FP), DI
 	MOVQ perm+56(FP), R14
-	MOVQ n+64(FP), CX
+	MOVQ n+72(FP), CX
 	MOVQ R8, R13
 	SHLQ $4, R13
 	VXORPD Y15, Y15, Y15
@@ -25321,6 +25456,15 @@ nopf:
 	MOVLQSX (R14), DX
 	SHLQ $4, DX
 	VMOVUPD (DI)(DX*1), X11
+	MOVQ R14, DX
+	SUBQ perm+56(FP), DX
+	SHRQ $2, DX
+	ADDQ flip+64(FP), DX
+	MOVBQZX (DX), DX
+	SHLQ $63, DX
+	VMOVQ DX, X13
+	VPSLLDQ $8, X13, X13
+	VXORPD X13, X11, X11
 	TESTQ BX, BX
 	JNZ odd
 	VMOVUPD 0(R12), Y0

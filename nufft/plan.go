@@ -31,7 +31,6 @@ const (
 	// holds a band of the grid: at most maxSpread, and at least
 	// minSpread points each (common practice, no source).
 	rowPairShard = 8    // image row pairs per shard of the x transforms
-	fillShard    = 64   // fine rows per shard of the Hermitian fill
 	interpShard  = 4096 // points per interpolation shard
 	maxSpread    = 8
 	minSpread    = 1024
@@ -62,9 +61,18 @@ type plan struct {
 	// x weights followed by the w y weights.
 	perm   []int32
 	x0, y0 []int32
-	sorted []complex128 // values at the points in sorted order
-	wts    []float64
-	wts32  []float32 // used instead of wts when tol ≥ f32Tol
+	// flip[i] is 1 where sorted point i is stored mirrored, at (−u, −v),
+	// which puts every point in the columns jx ≤ fx/2 + w/2 and those
+	// that wrap below 0: the value at (u, v) of the transform of a real
+	// image is conj of the value at (−u, −v), so Forward conjugates the
+	// mirrored points' values and Adjoint spreads the conjugates of
+	// theirs. Forward then needs only the columns 0 … hc−1 and the w
+	// columns below fx, half the grid.
+	flip    []uint8
+	anyFlip bool
+	sorted  []complex128 // values at the points in sorted order
+	wts     []float64
+	wts32   []float32 // used instead of wts when tol ≥ f32Tol
 
 	fftX, fftY *fftPlan
 
@@ -73,10 +81,14 @@ type plan struct {
 	// memory with band.
 	grid []complex128
 
-	// half holds, for Adjoint, the columns 0 … hc−1 of the image rows
-	// after the y transforms, image row iy at half[iy·hc:]: the
-	// hand-over from the column to the row transforms.
-	half []complex128
+	// half holds the columns 0 … hc−1 of the image rows, image row iy
+	// at half[iy·hc:]: the hand-over between the row and the column
+	// transforms, after the x transforms in Forward and after the y
+	// transforms in Adjoint. It is part of halfPad, which has fy/2 rows:
+	// fine rows 3fy/4 … fy−1 then 0 … fy/4−1, which hold all image rows
+	// (fy ≥ 2ny), the others staying zero. Forward's column transforms
+	// read their input from there (fftPlan.transformHalf).
+	half, halfPad []complex128
 
 	// Adjoint spreading: shard s spreads its points into band rows
 	// [bandLo[s], bandLo[s]+bandRows[s]) of the unwrapped y range,
@@ -114,7 +126,6 @@ type plan struct {
 const (
 	phFwdRows = iota
 	phFwdCols
-	phFwdFill
 	phFwdInterp
 	phAdjSpread
 	phAdjCols
@@ -124,7 +135,7 @@ const (
 
 // The phases of a call, in order, and of one phase alone.
 var (
-	fwdPhases = []int{phFwdRows, phFwdCols, phFwdFill, phFwdInterp}
+	fwdPhases = []int{phFwdRows, phFwdCols, phFwdInterp}
 	adjPhases = []int{phAdjSpread, phAdjCols, phAdjRows}
 	onePhase  = func() (a [nPhases]int) {
 		for i := range a {
@@ -182,8 +193,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// t = v·pixel (CONVENTIONS.md); fine coordinates are f·s and f·t.
 	m := r.m
 	half := float64(w) / 2
-	fineX := func(k int) float64 { return reduce(-u[k]*r.pixel) * float64(fx) }
-	fineY := func(k int) float64 { return reduce(v[k]*r.pixel) * float64(fy) }
+	// Points with fine x < 0 are stored mirrored (see plan.flip), at
+	// x ∈ (0, fx/2].
+	fine := func(k int) (x, y float64, flip bool) {
+		x, y = reduce(-u[k]*r.pixel)*float64(fx), reduce(v[k]*r.pixel)*float64(fy)
+		if x < 0 {
+			return -x, -y, true
+		}
+		return x, y, false
+	}
 	nb := (fy + binRows - 1) / binRows
 	// key is the bin of a point with fine coordinates (x, y); fx and fy
 	// are powers of two. Both passes compute it, which is cheaper than
@@ -195,7 +213,8 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	}
 	count := make([]int32, nb*fx+1)
 	for k := range m {
-		count[key(fineX(k), fineY(k))+1]++
+		x, y, _ := fine(k)
+		count[key(x, y)+1]++
 	}
 	for i := 1; i < len(count); i++ {
 		count[i] += count[i-1]
@@ -204,15 +223,20 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// order, so that the weights are computed in sequential passes:
 	// scattered stores overlap, where gathered loads would each wait.
 	p.perm = make([]int32, m)
+	p.flip = make([]uint8, m)
 	sx := make([]float64, m)
 	sy := make([]float64, m)
 	for k := range m {
-		x, y := fineX(k), fineY(k)
+		x, y, flip := fine(k)
 		c := key(x, y)
 		i := interleaved(int(count[c]), m)
 		count[c]++
 		p.perm[i] = int32(k)
 		sx[i], sy[i] = x, y
+		if flip {
+			p.flip[i] = 1
+			p.anyFlip = true
+		}
 	}
 	count = nil
 	p.sorted = make([]complex128, m)
@@ -239,7 +263,6 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.shards[phAdjRows] = p.shards[phFwdRows]
 	p.shards[phFwdCols] = p.hc / colBlock
 	p.shards[phAdjCols] = p.shards[phFwdCols]
-	p.shards[phFwdFill] = chunks(fy, fillShard)
 	p.shards[phFwdInterp] = chunks(m, interpShard)
 	ns := 1
 	if !serial {
@@ -312,7 +335,10 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// share one buffer, the largest of the plan after the weights.
 	buf := make([]complex128, max(fx*fy, off))
 	p.grid, p.band = buf[:fx*fy], buf[:off]
-	p.half = make([]complex128, r.ny*p.hc)
+	p.halfPad = make([]complex128, fy/2*p.hc)
+	// Image row iy is fine row iy − ny/2 (mod fy), which is row
+	// iy − ny/2 + fy/4 of halfPad.
+	p.half = p.halfPad[(fy/4-r.ny/2)*p.hc:][:r.ny*p.hc]
 	p.rowStart = make([]int32, fy+1)
 	var src []int32
 	for r := range fy {
@@ -331,7 +357,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// Write the buffers of the calls once, so that the first call does
 	// not pay for mapping fresh pages.
 	clear(buf)
-	clear(p.half)
+	clear(p.halfPad)
 	clear(p.sorted)
 	for _, s := range p.scratch {
 		clear(s)
@@ -415,7 +441,10 @@ func (p *Plan) AdjointSorted(dst []float64, vis []complex128) {
 	mustLen("Plan.AdjointSorted", "dst", len(dst), p.nx*p.ny)
 	mustLen("Plan.AdjointSorted", "vis", len(vis), p.m)
 	own := p.sorted
-	p.sorted, p.inOrder = vis, true
+	if !p.anyFlip {
+		p.sorted = vis
+	}
+	p.inOrder = true
 	p.dstR, p.srcC = dst, vis
 	p.runPhases(adjPhases)
 	p.dstR, p.srcC = nil, nil
@@ -453,9 +482,6 @@ func (p *plan) do(w, g int) {
 		p.fwdRows(p.scratch[w], lo, hi)
 	case phFwdCols:
 		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, false)
-	case phFwdFill:
-		lo, hi := chunk(p.fy, s, fillShard)
-		p.fwdFill(lo, hi)
 	case phFwdInterp:
 		lo, hi := chunk(p.m, s, interpShard)
 		p.interp(lo, hi)
@@ -475,10 +501,11 @@ func (p *plan) do(w, g int) {
 // 2007, Numerical Recipes, 3rd ed., sect. 12.3): the x transforms take
 // two image rows at once as the real and imaginary parts of one complex
 // row, and the y transforms run only on the columns jx < p.hc, which
-// cover 0 … fx/2; Forward fills the other columns by symmetry.
+// cover 0 … fx/2; Forward fills the few other columns the points read
+// (plan.flip) by symmetry as it stores the columns they mirror.
 
-// fwdRows places corrected image rows on their fine rows and transforms
-// them along x, two at a time, for the row pairs [lo, hi).
+// fwdRows transforms corrected image rows along x, two at a time, for
+// the row pairs [lo, hi), and stores their columns 0 … hc−1 in half.
 func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 	nx, fx, hc := p.nx, p.fx, p.hc
 	z, buf := scr[:fx], scr[fx:2*fx]
@@ -509,10 +536,10 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 		out := p.fftX.transform(z, buf, 1, false)
 		// Split Z = F(r1) + i F(r2): F(r1)[k] = (Z[k] + conj Z[−k])/2,
 		// F(r2)[k] = (Z[k] − conj Z[−k])/(2i).
-		g1 := p.grid[int(p.imageRows[i1])*fx:][:hc]
+		g1 := p.half[i1*hc:][:hc]
 		var g2 []complex128
 		if i2 < p.ny {
-			g2 = p.grid[int(p.imageRows[i2])*fx:][:hc]
+			g2 = p.half[i2*hc:][:hc]
 		}
 		for k := range g1 {
 			a := out[k]
@@ -528,8 +555,9 @@ func (p *plan) fwdRows(scr []complex128, lo, hi int) {
 }
 
 // cols transforms columns [c0, c1) along y in blocks of colBlock. In
-// Forward only the image rows are nonzero on input (the rest are not
-// read). In Adjoint the input is folded from the spreading bands and
+// Forward only the image rows are nonzero on input, and the first stage
+// reads them from halfPad (transformHalf); the output goes to the grid,
+// and so do the columns jx ≥ hc that mirror it (fwdMirror). In Adjoint the input is folded from the spreading bands and
 // made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
 // the output are stored, in half.
 func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
@@ -538,42 +566,54 @@ func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
 	x, y := scr[:fy*b], scr[fy*b:2*fy*b]
 	for c := c0; c < c1; c += b {
 		if !adjoint {
-			clear(x)
-			for _, r := range p.imageRows {
-				copy(x[int(r)*b:int(r)*b+b], p.grid[int(r)*fx+c:])
-			}
-		} else {
-			for r := range fy {
-				d := x[r*b : r*b+b]
-				p.bandRow(d, r, c)
-				// Add conj H(−jx, −r) for jx = c … c+b−1.
-				srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
-				for _, o := range srcs {
-					row := p.band[int(o) : int(o)+fx]
-					// Column fx − c − j, which is 0 for c = j = 0.
-					if c == 0 {
-						v := row[0]
-						d[0] += complex(real(v), -imag(v))
-						addConjRev(d[1:], row[fx-b+1:])
-					} else {
-						addConjRev(d, row[fx-c-b+1:fx-c+1])
-					}
-				}
-			}
-		}
-		out := p.fftY.transform(x, y, b, adjoint)
-		if !adjoint {
+			out := p.fftY.transformHalf(p.halfPad[c:], p.hc, x, y, b, false)
 			for r := range fy {
 				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
 			}
-		} else {
-			hc := p.hc
-			for iy, r := range p.imageRows {
-				copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
+			p.fwdMirror(out, c)
+			continue
+		}
+		zlo, zhi := p.zeroCols()
+		zero := c > 0 && fx-c-b+1 >= zlo && fx-c < zhi
+		for r := range fy {
+			d := x[r*b : r*b+b]
+			p.bandRow(d, r, c)
+			// Add conj H(−jx, −r) for jx = c … c+b−1, unless those
+			// columns are all in the zero zone.
+			if zero {
+				continue
+			}
+			srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
+			for _, o := range srcs {
+				row := p.band[int(o) : int(o)+fx]
+				// Column fx − c − j, which is 0 for c = j = 0.
+				if c == 0 {
+					v := row[0]
+					d[0] += complex(real(v), -imag(v))
+					addConjRev(d[1:], row[fx-b+1:])
+				} else {
+					addConjRev(d, row[fx-c-b+1:fx-c+1])
+				}
 			}
 		}
-		x, y = scr[:fy*b], scr[fy*b:2*fy*b]
+		out := p.fftY.transform(x, y, b, true)
+		hc := p.hc
+		for iy, r := range p.imageRows {
+			copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
+		}
 	}
+}
+
+// zeroCols returns the zero zone, the columns [zlo, zhi) that no call
+// writes in the grid or in the spreading bands (which share their
+// memory and their columns): Forward writes the columns 0 … hc−1 and the
+// w columns below fx (fwdMirror), and the points, all at fine x in [0,
+// fx/2] (plan.flip), spread into columns below fx/2 + w/2 + 1 and above
+// fx − w/2 − 1; hc ≥ fx/2 + colBlock covers that for every width up to
+// maxUnrolled = 16. NewPlan clears the zone, and Adjoint neither clears
+// nor reads it. The zone is empty (zlo = zhi) when fx − w ≤ hc.
+func (p *plan) zeroCols() (zlo, zhi int) {
+	return p.hc, max(p.hc, p.fx-p.w)
 }
 
 // bandRow sets d to the sum, in shard order, of the band rows folding
@@ -593,14 +633,24 @@ func (p *plan) bandRow(d []complex128, r, c int) {
 	}
 }
 
-// fwdFill sets the columns jx ≥ hc of fine rows [lo, hi) from the
-// Hermitian symmetry G(jx, jy) = conj G(fx−jx, −jy).
-func (p *plan) fwdFill(lo, hi int) {
-	fx, fy, hc := p.fx, p.fy, p.hc
-	for r := lo; r < hi; r++ {
-		dst := p.grid[r*fx : r*fx+fx]
-		src := p.grid[((fy-r)&(fy-1))*fx:][:fx]
-		conjRev(dst[hc:], src[1:fx-hc+1]) // dst[jx] = conj src[fx−jx]
+// fwdMirror sets the columns jx ≥ hc of the grid that the points read
+// (the w columns below fx, where the kernels of the points near x = 0
+// wrap; plan.flip) and that mirror columns c … c+colBlock−1 of the
+// column block out, by the Hermitian symmetry G(jx, jy) = conj G(fx−jx,
+// −jy): column fx−j for each j in the block with 1 ≤ j ≤ min(w,
+// fx−hc). The block is still in cache, so the grid is written once and
+// never read back for this; the columns of different blocks are
+// disjoint. The columns hc ≤ jx < fx−w are never written nor read.
+func (p *plan) fwdMirror(out []complex128, c int) {
+	fx, fy := p.fx, p.fy
+	const b = colBlock
+	lo, hi := max(c, 1), min(c+b, fx-p.hc+1, p.w+1)
+	if lo >= hi {
+		return
+	}
+	for r := range fy {
+		src := out[((fy-r)&(fy-1))*b:][lo-c : hi-c]
+		conjRev(p.grid[r*fx+fx-hi+1:r*fx+fx-lo+1], src) // column fx−j = conj src[j]
 	}
 }
 
@@ -673,13 +723,27 @@ func (p *plan) interp(lo, hi int) {
 			p.interpWrap(i)
 		}
 	}
+	flip := p.flip[lo:hi]
 	if p.inOrder {
+		s := p.sorted[lo:hi]
+		s = s[:len(flip)]
+		for i, f := range flip {
+			s[i] = conjIf(s[i], f)
+		}
 		return
 	}
 	dst, perm := p.dstC, p.perm[lo:hi]
+	perm = perm[:len(flip)]
 	for i, v := range p.sorted[lo:hi] {
-		dst[perm[i]] = v
+		dst[perm[i]] = conjIf(v, flip[i])
 	}
+}
+
+// conjIf returns conj(v) if f is 1 and v if f is 0, without a branch
+// (the mirrored points are in no predictable order): the sign bit of
+// the imaginary part is flipped by f.
+func conjIf(v complex128, f uint8) complex128 {
+	return complex(real(v), math.Float64frombits(math.Float64bits(imag(v))^uint64(f)<<63))
 }
 
 // interpWrap evaluates sorted point i with general width and wrap-around
@@ -718,24 +782,44 @@ func (p *plan) interpWrap(i int) {
 // keep this order, so every cell sums its terms in the same order.
 func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
-	clear(band)
+	// The columns of the zero zone are zero already.
+	zlo, zhi := p.zeroCols()
+	for r := 0; r < len(band); r += p.fx {
+		row := band[r : r+p.fx]
+		clear(row[:zlo])
+		clear(row[zhi:])
+	}
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
 	edge := p.edge[p.edgeLo[i]:p.edgeLo[i+1]]
 	if !p.inOrder && p.spreadGathers() {
-		// The assembly reads the visibilities through the permutation;
-		// the points at the edge get theirs here.
+		// The assembly reads the visibilities through the permutation,
+		// and conjugates those of the mirrored points; the points at the
+		// edge get theirs here.
 		p.spreadAsm(band, ylo, lo, hi)
 		for _, k := range edge {
-			p.sorted[k] = p.srcC[p.perm[k]]
+			p.sorted[k] = conjIf(p.srcC[p.perm[k]], p.flip[k])
 			p.spreadWrap(band, ylo, int(k))
 		}
 		return
 	}
-	// Gather the visibilities into sorted order first (see interp).
-	if !p.inOrder {
+	// Gather the visibilities into sorted order first, the conjugates
+	// for the mirrored points (plan.flip). AdjointSorted's values are in
+	// sorted order already, and are taken as they are when no point is
+	// mirrored.
+	flip, dst := p.flip[lo:hi], p.sorted[lo:hi]
+	dst = dst[:len(flip)]
+	switch {
+	case !p.inOrder:
 		src, perm := p.srcC, p.perm[lo:hi]
-		for j := range perm {
-			p.sorted[lo+j] = src[perm[j]]
+		perm = perm[:len(flip)]
+		for j, f := range flip {
+			dst[j] = conjIf(src[perm[j]], f)
+		}
+	case p.anyFlip:
+		src := p.srcC[lo:hi]
+		src = src[:len(flip)]
+		for j, f := range flip {
+			dst[j] = conjIf(src[j], f)
 		}
 	}
 	switch {
@@ -795,9 +879,9 @@ func (p *plan) weights(buf []float64, i int) []float64 {
 func (p *plan) memBytes() (grid, perPoint, total int) {
 	const c, f, i32 = 16, 8, 4
 	grid = c * len(p.grid)
-	perPoint = i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
+	perPoint = len(p.flip) + i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	// grid and band share their memory.
-	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.half) + f*(len(p.corrX)+len(p.corrY)) +
+	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.halfPad) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows)+len(p.edge))
 	for _, s := range p.scratch {
 		total += c * len(s)

@@ -49,13 +49,20 @@ type pool struct {
 	// Helpers blocked on ch.
 	parked atomic.Int64
 
-	// Workers blocked in wait, and their wake-ups.
+	// Workers blocked in wait, and the wake-ups of each worker: one
+	// channel per worker, so that a worker can take only its own
+	// wake-ups (with one shared channel, a worker whose thread was
+	// descheduled between its check and its receive could find the
+	// wake-ups taken by another waiter and block for ever).
 	sleepers atomic.Int64
-	wake     chan struct{}
+	wake     []chan struct{}
 }
 
 func newPool(n int) *pool {
-	p := &pool{n: n, start: make([]int, 0, nPhases+1), wake: make(chan struct{}, n)}
+	p := &pool{n: n, start: make([]int, 0, nPhases+1), wake: make([]chan struct{}, n)}
+	for i := range p.wake {
+		p.wake[i] = make(chan struct{}, 1)
+	}
 	if n > 1 {
 		p.ch = make(chan struct{}, n)
 		for i := 1; i < n; i++ {
@@ -131,17 +138,18 @@ func (p *pool) work(w int) {
 			k++
 		}
 		if k > 0 {
-			p.wait(int64(p.start[k]))
+			p.wait(w, int64(p.start[k]))
 		}
 		// Read before the shard is counted done, after which the caller
 		// may set up its next call.
 		end := int64(p.start[k+1])
 		p.j.do(w, g)
-		// At the end of a step, wake the workers blocked in wait.
+		// At the end of a step, wake the workers blocked in wait; a
+		// full channel already holds a wake-up its worker will take.
 		if p.done.Add(1) == end && p.sleepers.Load() > 0 {
-			for range p.n {
+			for _, c := range p.wake {
 				select {
-				case p.wake <- struct{}{}:
+				case c <- struct{}{}:
 				default:
 				}
 			}
@@ -156,8 +164,13 @@ func (p *pool) work(w int) {
 // the other spinning.
 const spinWaits = 200
 
-// wait returns once done has reached target.
-func (p *pool) wait(target int64) {
+// testHookSleep, when set by a test, runs in wait between a worker's
+// last check and its receive of a wake-up, as a descheduled thread would
+// pause there.
+var testHookSleep func(w int)
+
+// wait returns once done has reached target; w is the waiting worker.
+func (p *pool) wait(w int, target int64) {
 	for i := 0; p.done.Load() < target; i++ {
 		if i < spinWaits {
 			runtime.Gosched()
@@ -169,7 +182,10 @@ func (p *pool) wait(target int64) {
 		// only makes this loop check again.
 		p.sleepers.Add(1)
 		if p.done.Load() < target {
-			<-p.wake
+			if testHookSleep != nil {
+				testHookSleep(w)
+			}
+			<-p.wake[w]
 		}
 		p.sleepers.Add(-1)
 	}
@@ -214,7 +230,7 @@ func (p *pool) runSteps(j job, counts []int) {
 		}
 	}
 	p.work(0)
-	p.wait(int64(total))
+	p.wait(0, int64(total))
 	p.j = nil
 }
 

@@ -3,6 +3,7 @@ package nufft
 import (
 	"sync/atomic"
 	"testing"
+	"time"
 )
 
 // stepCheck records, for each global shard, how often it ran and how
@@ -48,5 +49,43 @@ func TestPoolSteps(t *testing.T) {
 			}
 		}
 		stopPool(p.ch)
+	}
+}
+
+// slowFirst is a job whose first shard takes a millisecond.
+type slowFirst struct{}
+
+func (slowFirst) do(_, g int) {
+	if g == 0 {
+		time.Sleep(time.Millisecond)
+	}
+}
+
+// TestPoolWakeups checks that a worker descheduled between its last
+// look at the finished shards and its wait for a wake-up is still woken:
+// the helper, waiting for the first step to end, pauses there (a test
+// hook) while the caller ends that step, runs the rest and waits for
+// the end of the call. With one wake-up channel for all workers the
+// caller took the helper's wake-ups too and both blocked for ever.
+func TestPoolWakeups(t *testing.T) {
+	defer func() { testHookSleep = nil }()
+	testHookSleep = func(w int) {
+		if w != 0 {
+			time.Sleep(2 * time.Millisecond)
+		}
+	}
+	p := newPool(2)
+	defer stopPool(p.ch)
+	finished := make(chan struct{})
+	go func() {
+		for range 20 {
+			p.runSteps(slowFirst{}, []int{1, 6})
+		}
+		close(finished)
+	}()
+	select {
+	case <-finished:
+	case <-time.After(20 * time.Second):
+		t.Fatal("20 calls of two steps did not finish in 20 s: a worker missed its wake-up")
 	}
 }
