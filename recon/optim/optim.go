@@ -853,6 +853,36 @@ func (r *run) accept(ft float64) (float64, error) {
 	// The free variables of the new point (setFree's rule), marked in the same pass.
 	runs := w.runs[:0]
 	nf, in := 0, false
+	if lo != nil && hi == nil {
+		// Lower bounds only, the case of images: the loop below without the
+		// tests of the missing bounds.
+		lo := lo[:len(x)]
+		for i, xi := range x {
+			xn, gn, l := xt[i], gt[i], lo[i]
+			si, yi := xn-xi, gn-g[i]
+			s[i], y[i] = si, yi
+			sy += si * yi
+			if a := math.Abs(si); a > step {
+				step = a
+			}
+			v := xn - gn
+			if v < l {
+				v = l
+			}
+			free := !(xn <= l && gn > 0)
+			if a := math.Abs(v - xn); a > pg {
+				pg = a
+			}
+			if free != in {
+				runs = append(runs, i)
+				in = free
+			}
+			if free {
+				nf++
+			}
+		}
+		x = x[:0] // done: the general loop below has nothing left
+	}
 	for i, xi := range x {
 		xn, gn := xt[i], gt[i]
 		si, yi := xn-xi, gn-g[i]
@@ -894,7 +924,7 @@ func (r *run) accept(ft float64) (float64, error) {
 		}
 	}
 	if in {
-		runs = append(runs, len(x))
+		runs = append(runs, len(gt))
 	}
 	if math.IsNaN(sy) || math.IsInf(sy, 0) {
 		if err := r.checkGrad(gt, ft); err != nil {
