@@ -57,7 +57,7 @@
 //
 // # Invariants
 //
-// The workspace (2*Memory+6 float64 vectors and one int vector of length n) is allocated once per
+// The workspace (2*Memory+7 float64 vectors and one int vector of length n) is allocated once per
 // call of Minimize; iterations allocate nothing. The computation is
 // sequential and deterministic: the same problem and start give the
 // bit-identical result. Every point passed to Func lies within the bounds.

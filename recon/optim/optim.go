@@ -51,7 +51,7 @@ type Settings struct {
 	// Memory is the number of correction pairs kept by the limited-memory
 	// quasi-Newton update. Zero means 5, which on the package benchmarks
 	// needs about as many iterations as 10 at half the cost per iteration.
-	// The workspace holds 2*Memory+6 vectors of the problem size.
+	// The workspace holds 2*Memory+7 vectors of the problem size.
 	Memory int
 
 	// Scale, when positive, is the scale γ of the initial inverse Hessian γI used for the
@@ -167,7 +167,8 @@ type workspace struct {
 	x, g   []float64
 	xt, gt []float64   // trial point and its gradient
 	d      []float64   // search direction
-	q      []float64   // two-loop recursion vector
+	q      []float64   // two-loop recursion vector; accept's new s, then swapped into the pairs
+	ynew   []float64   // accept's new y, then swapped into the pairs
 	runs   []int       // free variables as half-open index ranges
 	s, y   [][]float64 // correction pairs, ring buffer
 	alpha  []float64
@@ -179,13 +180,13 @@ type workspace struct {
 func newWorkspace(n, m int) *workspace {
 	w := &workspace{n: n, m: m}
 	// One backing array keeps the vectors contiguous and the allocation count fixed.
-	buf := make([]float64, (2*m+6)*n)
+	buf := make([]float64, (2*m+7)*n)
 	next := func() []float64 {
 		v := buf[:n:n]
 		buf = buf[n:]
 		return v
 	}
-	w.x, w.g, w.xt, w.gt, w.d, w.q = next(), next(), next(), next(), next(), next()
+	w.x, w.g, w.xt, w.gt, w.d, w.q, w.ynew = next(), next(), next(), next(), next(), next(), next()
 	w.s = make([][]float64, m)
 	w.y = make([][]float64, m)
 	for i := range m {
@@ -340,17 +341,33 @@ type run struct {
 
 // eval calls Func and checks that value and gradient are finite.
 func (r *run) eval(grad, x []float64) (float64, error) {
+	f, err := r.evalValue(grad, x)
+	if err != nil {
+		return f, err
+	}
+	return f, r.checkGrad(grad, f)
+}
+
+// evalValue calls Func and checks that the value is finite; the gradient is
+// left to checkGrad, or to the sum over it that accept computes anyway.
+func (r *run) evalValue(grad, x []float64) (float64, error) {
 	r.evals++
 	f := r.p.Func(grad, x)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: -1}
 	}
+	return f, nil
+}
+
+// checkGrad returns the error for the first non-finite component of the
+// gradient of the latest evaluation, of value f, or nil.
+func (r *run) checkGrad(grad []float64, f float64) error {
 	for i, v := range grad {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: i}
+			return &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: i}
 		}
 	}
-	return f, nil
+	return nil
 }
 
 // current returns the iteration being computed: 0 for the evaluation at
@@ -790,12 +807,16 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 		if !moved {
 			return 0, false, nil
 		}
-		ft, err := r.eval(gt, xt)
+		ft, err := r.evalValue(gt, xt)
 		if err != nil {
 			return 0, false, err
 		}
 		if ft <= r.f+armijoC1*decr && ft <= r.f {
-			return r.accept(ft), true, nil
+			step, err := r.accept(ft)
+			return step, err == nil, err
+		}
+		if err := r.checkGrad(gt, ft); err != nil {
+			return 0, false, err
 		}
 		// Quadratic interpolation of phi(a) = f(x + a d) from phi(0), phi'(0) and phi(alpha).
 		den := 2 * (ft - r.f - gd*alpha)
@@ -810,23 +831,58 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 
 // accept moves to the trial point, stores the correction pair when its
 // curvature s.y is positive, updates the projected-gradient norm and
-// returns the infinity norm of the step, all in one pass.
-func (r *run) accept(ft float64) float64 {
+// returns the infinity norm of the step, all in one pass. That pass also
+// checks the trial gradient gt: with x, xt and g finite, s.y is finite
+// unless a component of gt is not (an s_i·y_i is then NaN or infinite), so
+// only a non-finite s.y calls for checkGrad's scan. The pair is written to
+// spare vectors (q and ynew) and swapped into the ring only after that
+// check, so a run that stops on a non-finite gradient keeps its pairs.
+func (r *run) accept(ft float64) (float64, error) {
 	w := r.w
 	var idx int
 	if w.k < w.m {
 		idx = (w.head + w.k) % w.m
 	} else {
-		idx = w.head // the oldest pair is overwritten
+		idx = w.head // the oldest pair is replaced
 	}
 	lo, hi := r.p.Lower, r.p.Upper
-	s, y := w.s[idx], w.y[idx]
+	s, y := w.q, w.ynew
 	x, g, xt, gt := w.x, w.g, w.xt, w.gt
 	s, y, g, xt, gt = s[:len(x)], y[:len(x)], g[:len(x)], xt[:len(x)], gt[:len(x)]
 	var sy, step, pg float64
 	// The free variables of the new point (setFree's rule), marked in the same pass.
 	runs := w.runs[:0]
 	nf, in := 0, false
+	if lo != nil && hi == nil {
+		// Lower bounds only, the case of images: the loop below without the
+		// tests of the missing bounds.
+		lo := lo[:len(x)]
+		for i, xi := range x {
+			xn, gn, l := xt[i], gt[i], lo[i]
+			si, yi := xn-xi, gn-g[i]
+			s[i], y[i] = si, yi
+			sy += si * yi
+			if a := math.Abs(si); a > step {
+				step = a
+			}
+			v := xn - gn
+			if v < l {
+				v = l
+			}
+			free := !(xn <= l && gn > 0)
+			if a := math.Abs(v - xn); a > pg {
+				pg = a
+			}
+			if free != in {
+				runs = append(runs, i)
+				in = free
+			}
+			if free {
+				nf++
+			}
+		}
+		x = x[:0] // done: the general loop below has nothing left
+	}
 	for i, xi := range x {
 		xn, gn := xt[i], gt[i]
 		si, yi := xn-xi, gn-g[i]
@@ -868,16 +924,26 @@ func (r *run) accept(ft float64) float64 {
 		}
 	}
 	if in {
-		runs = append(runs, len(x))
+		runs = append(runs, len(gt))
+	}
+	if math.IsNaN(sy) || math.IsInf(sy, 0) {
+		if err := r.checkGrad(gt, ft); err != nil {
+			return 0, err
+		}
 	}
 	w.runs, r.nfree = runs, nf
+	if sy > 0 {
+		w.s[idx], w.q = w.q, w.s[idx]
+		w.y[idx], w.ynew = w.ynew, w.y[idx]
+	}
 	switch {
 	case sy > 0 && w.k < w.m:
 		w.k++
 	case sy > 0:
 		w.head = (w.head + 1) % w.m
 	case w.k == w.m:
-		// The pair is rejected but has overwritten the oldest one: drop it.
+		// The pair is rejected, and the oldest one goes all the same (as when
+		// the new pair took its place before the test).
 		w.head = (w.head + 1) % w.m
 		w.k--
 	}
@@ -885,5 +951,5 @@ func (r *run) accept(ft float64) float64 {
 	w.g, w.gt = w.gt, w.g
 	r.f = ft
 	r.pgnorm = pg
-	return step
+	return step, nil
 }

@@ -642,3 +642,81 @@ func TestAcceptMarksFree(t *testing.T) {
 		}
 	}
 }
+
+// TestNonFiniteGradientFolded checks the gradient test that accept folds into its sum s.y: a
+// NaN or infinite component at an accepted trial or at a rejected one stops the run at that
+// evaluation, as a scan after every evaluation does, and the run keeps the correction pairs it
+// had: a run resumed from its State takes the same steps as one resumed from a run stopped
+// by its callback just before. Evaluations are found by running the problem cleanly first.
+func TestNonFiniteGradientFolded(t *testing.T) {
+	x0 := []float64{-1.2, 1, -1.2, 1, 0.5, -0.3}
+	rosen := gonumFunc(functions.ExtendedRosenbrock{})
+	// The clean run: the evaluations at which each iteration ends (its accepted trial), and
+	// one rejected trial after the memory is full.
+	var ends []int
+	if _, err := Minimize(Problem{Func: rosen}, x0, Settings{Callback: func(it Iter) bool {
+		ends = append(ends, it.Evals)
+		return true
+	}}); err != nil {
+		t.Fatal(err)
+	}
+	accepted, rejected, iterAt := 0, 0, map[int]int{}
+	for k := 1; k < len(ends); k++ {
+		for e := ends[k-1] + 1; e <= ends[k]; e++ {
+			iterAt[e] = k + 1
+		}
+		if k > DefaultMemory+1 && accepted == 0 {
+			accepted = ends[k]
+		}
+		if k > DefaultMemory+1 && rejected == 0 && ends[k]-ends[k-1] > 1 {
+			rejected = ends[k-1] + 1
+		}
+	}
+	if accepted == 0 || rejected == 0 {
+		t.Fatalf("clean run has no accepted or rejected trial after %d iterations: %v", DefaultMemory+1, ends)
+	}
+	for _, bad := range []float64{math.NaN(), math.Inf(-1)} {
+		for _, badEval := range []int{accepted, rejected} {
+			evals := 0
+			fn := func(grad, x []float64) float64 {
+				evals++
+				f := rosen(grad, x)
+				if evals == badEval {
+					grad[3] = bad
+				}
+				return f
+			}
+			var st State
+			_, err := Minimize(Problem{Func: fn}, x0, Settings{Resume: &st})
+			var nf *NonFiniteError
+			if !errors.As(err, &nf) {
+				t.Fatalf("%g at evaluation %d: error %v, want a *NonFiniteError", bad, badEval, err)
+			}
+			if nf.Eval != badEval || nf.GradIndex != 3 || nf.Iter != iterAt[badEval] {
+				t.Errorf("%g at evaluation %d: error %+v, want evaluation %d, index 3, iteration %d",
+					bad, badEval, nf, badEval, iterAt[badEval])
+			}
+			// The same run stopped after the iterations completed before the bad evaluation.
+			var ref State
+			if _, err := Minimize(Problem{Func: rosen}, x0, Settings{Resume: &ref, Callback: func(it Iter) bool {
+				return it.Iter < nf.Iter-1
+			}}); err != nil {
+				t.Fatal(err)
+			}
+			if st.Pairs() != ref.Pairs() || st.Pairs() != DefaultMemory {
+				t.Fatalf("pairs kept %d, reference %d, want %d", st.Pairs(), ref.Pairs(), DefaultMemory)
+			}
+			xr := []float64{0.3, 0.2, -0.5, 0.9, 1.1, 0.7}
+			r1, err1 := Minimize(Problem{Func: rosen}, xr, Settings{Resume: &st, MaxIter: 5})
+			r2, err2 := Minimize(Problem{Func: rosen}, xr, Settings{Resume: &ref, MaxIter: 5})
+			if err1 != nil || err2 != nil {
+				t.Fatal(err1, err2)
+			}
+			for i := range r1.X {
+				if math.Float64bits(r1.X[i]) != math.Float64bits(r2.X[i]) {
+					t.Fatalf("%g at evaluation %d: resumed run differs at x[%d]: %g vs %g", bad, badEval, i, r1.X[i], r2.X[i])
+				}
+			}
+		}
+	}
+}
