@@ -37,6 +37,11 @@ type StarEnvObjective struct {
 	Mu, Rho        float64
 
 	x, g, h, en, rg []float64
+	// refits counts the refits of the profiles since the last resetRefits, capped those
+	// stopped at their iteration limit, and capTail is the largest decrease of the
+	// objective over the last ftolWindow iterations of a capped one.
+	refits, capped int
+	capTail        float64
 }
 
 // frac returns a_k and its derivatives with respect to f0 and d:
@@ -173,9 +178,18 @@ type StarEnvResult struct {
 	F0ErrFixed, EnvIndexErrFixed float64
 	Lambda0                      float64
 	Chi2r                        float64 // Σχ²/ΣN over all planes
-	Gray                         *Result
-	Iter                         int
-	Status                       optim.Status
+	// Chi2rTarget is the expected value of Chi2r (Objective.ExpectedChi2r over all planes).
+	Chi2rTarget float64
+	Gray        *Result
+	Iter        int
+	Status      optim.Status
+	// Converged says that the fit stopped on its objective tolerance (or the optimizer's
+	// own convergence test); StopReason says why it stopped in words.
+	Converged  bool
+	StopReason string
+	// Warnings is the quality verdict: each names what is doubtful and what to try; empty
+	// when none. Notices are facts about the run that do not doubt it.
+	Warnings, Notices []string
 }
 
 // SolveStarEnv fits a star of power-law spectrum and an environment image with its own
@@ -255,23 +269,67 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if ftol == 0 {
 		ftol = DefaultFTol
 	}
-	var hist []float64
-	st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
-		hist = append(hist, it.F)
-		if s.Progress != nil {
-			if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F, Chi2r: o.planesChi2r()}) {
-				return false
+	iter := 0
+	// fit minimises from z0 with every variable free; ftolStop says that it stopped on
+	// the objective tolerance.
+	fit := func(z0 []float64) (r optim.Result, ftolStop bool, err error) {
+		var hist []float64
+		st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
+			hist = append(hist, it.F)
+			iter++
+			if s.Progress != nil {
+				if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: iter, Objective: it.F, Chi2r: o.planesChi2r()}) {
+					return false
+				}
+			}
+			k := len(hist) - 1
+			ftolStop = k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1)
+			return !ftolStop
+		}}
+		r, err = optim.Minimize(optim.Problem{Func: o.Eval, Lower: lower, Upper: upper}, z0, st)
+		if err != nil {
+			return r, false, fmt.Errorf("recon: star + environment: %w", err)
+		}
+		return r, ftolStop, nil
+	}
+	r, ftolStop, err := fit(z)
+	if err != nil {
+		return nil, err
+	}
+	res := &StarEnvResult{Grid: g, Gray: gray, Lambda0: o.Lambda0}
+	pathIter := min(s.MaxIter, DefaultPathIter)
+	target := 1.0
+	var diag [2]profileDiag
+	for restart := 0; ; restart++ {
+		res.Chi2r = o.chi2r(r.X)
+		target = math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+		diag = o.starEnvErrors(res, r.X, lower, upper, pathIter, ftol, target)
+		// A refit of the profiles below the fit by more than a tenth of the rise that
+		// defines the errors (common practice, no source): the fit was not at its
+		// minimum. Fit again once from the lowest refit, and measure the errors there.
+		low := -1
+		for j, d := range diag {
+			if d.pf.Low != nil && d.pf.LowF < r.F-0.1*target && (low < 0 || d.pf.LowF < diag[low].pf.LowF) {
+				low = j
 			}
 		}
-		k := len(hist) - 1
-		return !(k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1))
-	}}
-	r, err := optim.Minimize(optim.Problem{Func: o.Eval, Lower: lower, Upper: upper}, z, st)
-	if err != nil {
-		return nil, fmt.Errorf("recon: star + environment: %w", err)
+		if low < 0 || restart == 1 {
+			break
+		}
+		r2, stop2, err := fit(diag[low].pf.Low)
+		if err != nil {
+			return nil, err
+		}
+		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found (objective %.6g → %.6g); the errors are measured there",
+			r.F-diag[low].pf.LowF, starEnvParams[low], r.F, r2.F))
+		r, ftolStop = r2, stop2
 	}
-	res := &StarEnvResult{Grid: g, Gray: gray, Lambda0: o.Lambda0, Iter: r.Iter, Status: r.Status,
-		F0: r.X[n], EnvIndex: r.X[n+1]}
+	res.Iter, res.Status, res.F0, res.EnvIndex = iter, r.Status, r.X[n], r.X[n+1]
+	res.Converged = ftolStop || r.Status.Converged()
+	res.StopReason = r.Status.String()
+	if ftolStop {
+		res.StopReason = fmt.Sprintf("converged: relative objective change below %g per iteration over %d iterations", ftol, ftolWindow)
+	}
 	res.Env = append([]float64(nil), r.X[:n]...)
 	E := 0.0
 	for _, v := range res.Env {
@@ -280,20 +338,105 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	for i := range res.Env {
 		res.Env[i] /= E
 	}
-	res.Chi2r = o.chi2r(r.X)
-	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(r.X)
-	target := math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+	res.Chi2rTarget = o.expectedChi2r()
+	res.Warnings = starEnvVerdict(res, r, diag, nTot, s.MaxIter, pathIter, target)
+	return res, nil
+}
+
+// starEnvParams names f0 and d, the variables after the image, in messages.
+var starEnvParams = [2]string{"the star's share f0", "the environment's index d"}
+
+// profileDiag is what the verdict needs of the profile of one parameter: its last step
+// (profileError's) and the counts of its refits (StarEnvObjective.refits, capped, capTail).
+type profileDiag struct {
+	pf             profileFit
+	sigma          float64 // the curvature error, unscaled; NaN without positive curvature
+	refits, capped int
+	capTail        float64
+}
+
+// starEnvErrors fills the errors of res (F0Err, EnvIndexErr, their intervals and the
+// fixed-image errors) from the fit z, and returns what the verdict needs of each profile.
+func (o *StarEnvObjective) starEnvErrors(res *StarEnvResult, z, lower, upper []float64, pathIter int, ftol, target float64) [2]profileDiag {
+	n := len(o.Star)
+	var diag [2]profileDiag
+	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(z)
 	for j, e := range []struct {
 		sigma    *float64
 		fixed    float64
 		hmin     float64
 		interval *ProfileInterval
 	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
-		sigma, pf := o.profileError(r.X, n+j, e.fixed, e.hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-		*e.interval = o.profileInterval(r.X, n+j, sigma, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
+		o.resetRefits()
+		sigma, pf := o.profileError(z, n+j, e.fixed, e.hmin, lower, upper, pathIter, ftol)
+		*e.interval = o.profileInterval(z, n+j, sigma, pf, target, lower, upper, pathIter, ftol)
 		*e.sigma = sigma * math.Sqrt(target)
+		diag[j] = profileDiag{pf: pf, sigma: sigma, refits: o.refits, capped: o.capped, capTail: o.capTail}
 	}
-	return res, nil
+	return diag
+}
+
+// expectedChi2r returns the expected value of Σχ²/ΣN over the planes
+// (Objective.ExpectedChi2r of each, weighted by its number of data).
+func (o *StarEnvObjective) expectedChi2r() float64 {
+	e, nn := 0.0, 0
+	for _, obj := range o.Planes {
+		if k := planeCount(obj); k > 0 {
+			e += obj.ExpectedChi2r() * float64(k)
+			nn += k
+		}
+	}
+	if nn == 0 {
+		return math.NaN()
+	}
+	return e / float64(nn)
+}
+
+// starEnvVerdict returns the warnings of a star + environment fit res whose final run is
+// r, with diag the profiles of f0 and d, nData the number of data, maxIter the fit's
+// iteration limit, pathIter the refits' and target the rise of the profile at 1σ.
+func starEnvVerdict(res *StarEnvResult, r optim.Result, diag [2]profileDiag, nData, maxIter, pathIter int, target float64) []string {
+	var w []string
+	if res.Chi2rTarget > 0 && res.Chi2r > VerdictChi2Ratio*res.Chi2rTarget {
+		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is %.2g times its expected value %.3g: the star + environment model does not fit the data; try another -star diameter or -star-index, a lower -weight, a larger -fov, or check the error bars", res.Chi2r, res.Chi2r/res.Chi2rTarget, res.Chi2rTarget))
+	}
+	// Far below: beyond 3 times the scatter √(2/N) of χ²ᵣ as well (as overfitWarning).
+	if res.Chi2rTarget > 0 && nData > 0 && res.Chi2r < res.Chi2rTarget/VerdictChi2Ratio && res.Chi2r < res.Chi2rTarget*(1-3*math.Sqrt(2/float64(nData))) {
+		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is far below its expected value %.3g: the environment image may fit the noise; try a larger -weight", res.Chi2r, res.Chi2rTarget))
+	}
+	switch {
+	case res.Converged:
+	case r.Status == optim.IterationLimit:
+		w = append(w, fmt.Sprintf("the star + environment fit stopped at its limit of %d iterations before converging; its values and errors are those of an unfinished fit; raise -iter", maxIter))
+	case r.Status == optim.LineSearchFailure:
+		w = append(w, fmt.Sprintf("the star + environment fit stalled after %d iterations (no step lowered the objective) before converging; try another -reg or -star diameter", res.Iter))
+	default:
+		w = append(w, fmt.Sprintf("the star + environment fit did not converge (%s)", r.Status))
+	}
+	for j, d := range diag {
+		name := starEnvParams[j]
+		switch {
+		case d.pf.Low != nil && d.pf.LowF < r.F-0.1*target:
+			w = append(w, fmt.Sprintf("the fit is not at its minimum along %s: a refit of its profile reached an objective %.3g lower; its errors are unreliable; raise -iter", name, r.F-d.pf.LowF))
+		case math.IsNaN(d.sigma) && d.pf.H > 0:
+			w = append(w, fmt.Sprintf("the profile of %s has no positive curvature (the refits at ± %.3g rose by %.3g and %.3g): the fit is not at its minimum along it, or the refits are too loose to measure it; its errors are unreliable; raise -iter", name, d.pf.H, d.pf.Down, d.pf.Up))
+		}
+		// A capped refit still falling by more than a tenth of the rise that defines the
+		// errors over its last iterations leaves them uncertain at that level (common
+		// practice, no source).
+		if d.capped > 0 && d.capTail > 0.1*target {
+			fall := fmt.Sprintf("still falling by %.2g over their last %d iterations", d.capTail, ftolWindow)
+			if math.IsInf(d.capTail, 1) {
+				fall = "too few iterations to tell whether they converged"
+			}
+			try := "treat the errors as rough"
+			if pathIter < DefaultPathIter {
+				try = "raise -iter"
+			}
+			w = append(w, fmt.Sprintf("%d of the %d refits of the profile of %s stopped at their limit of %d iterations, %s: its errors are uncertain at that level; %s", d.capped, d.refits, name, pathIter, fall, try))
+		}
+	}
+	return w
 }
 
 // ProfileInterval is the 1σ interval of a parameter from the profile of the objective, the
@@ -312,8 +455,21 @@ type ProfileInterval struct {
 }
 
 // profileFit holds the refits of profileError's last step: the objective refitted at the
-// value (F) and its rises at the value + H (Up) and − H (Down).
-type profileFit struct{ F, H, Up, Down float64 }
+// value (F) and its rises at the value + H (Up) and − H (Down); and the point of the
+// lowest objective any of its refits reached (Low, nil when none finished) and that
+// objective (LowF).
+type profileFit struct {
+	F, H, Up, Down float64
+	Low            []float64
+	LowF           float64
+}
+
+// keep makes (f, x) the lowest refit of pf when it is lower than the one held.
+func (pf *profileFit) keep(f float64, x []float64) {
+	if x != nil && (pf.Low == nil || f < pf.LowF) {
+		pf.Low, pf.LowF = x, f
+	}
+}
 
 // profileInterval returns the interval of variable j from its profile at z: on each side,
 // the step h at which the refitted objective (as profileError's, from z) has risen by
@@ -453,6 +609,13 @@ func profileCrossing(rise func(h float64) float64, target, hmax, guess float64, 
 // as given) for at most maxIter iterations, stopping as SolveStarEnv does, and returns the
 // objective reached.
 func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []float64, maxIter int, ftol float64) float64 {
+	f, _ := o.refitX(z, j, v, lower, upper, maxIter, ftol)
+	return f
+}
+
+// refitX is refit that also returns the point reached (nil with a NaN objective), and
+// counts the refit in o.refits, o.capped and o.capTail.
+func (o *StarEnvObjective) refitX(z []float64, j int, v float64, lower, upper []float64, maxIter int, ftol float64) (float64, []float64) {
 	lo, hi := slices.Clone(lower), slices.Clone(upper)
 	lo[j], hi[j] = v, v
 	x0 := slices.Clone(z)
@@ -464,11 +627,23 @@ func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []f
 		return !(k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1))
 	}}
 	r, err := optim.Minimize(optim.Problem{Func: o.Eval, Lower: lo, Upper: hi}, x0, st)
+	o.refits++
 	if err != nil || r.X == nil {
-		return math.NaN()
+		return math.NaN(), nil
 	}
-	return r.F
+	if r.Status == optim.IterationLimit {
+		o.capped++
+		tail := math.Inf(1) // too few iterations to tell
+		if k := len(hist) - 1; k >= ftolWindow {
+			tail = hist[k-ftolWindow] - hist[k]
+		}
+		o.capTail = math.Max(o.capTail, tail)
+	}
+	return r.F, r.X
 }
+
+// resetRefits clears the counts of refitX.
+func (o *StarEnvObjective) resetRefits() { o.refits, o.capped, o.capTail = 0, 0, 0 }
 
 // profileError returns the 1σ error of variable j from the profile of the objective at z
 // (StarEnvResult.F0Err): the refits at z_j − h, z_j and z_j + h, all from z and for the
@@ -485,15 +660,19 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 	if !(h > hmin) {
 		h = hmin
 	}
-	pf := profileFit{F: o.refit(z, j, z[j], lower, upper, maxIter, ftol), Up: math.NaN(), Down: math.NaN()}
+	f, x := o.refitX(z, j, z[j], lower, upper, maxIter, ftol)
+	pf := profileFit{F: f, Up: math.NaN(), Down: math.NaN()}
+	pf.keep(f, x)
 	var curv float64
 	for round := range 2 {
 		h = math.Min(h, 0.999*math.Min(z[j]-lower[j], upper[j]-z[j]))
 		if !(h > 0) {
 			return math.NaN(), pf
 		}
-		fp := o.refit(z, j, z[j]+h, lower, upper, maxIter, ftol)
-		fm := o.refit(z, j, z[j]-h, lower, upper, maxIter, ftol)
+		fp, xp := o.refitX(z, j, z[j]+h, lower, upper, maxIter, ftol)
+		fm, xm := o.refitX(z, j, z[j]-h, lower, upper, maxIter, ftol)
+		pf.keep(fp, xp)
+		pf.keep(fm, xm)
 		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
 		rise := fp + fm - 2*pf.F
 		curv = rise / (h * h)
