@@ -37,11 +37,12 @@ type StarEnvObjective struct {
 	Mu, Rho        float64
 
 	x, g, h, en, rg []float64
-	// refits counts the refits of the profiles since the last resetRefits, capped those
-	// stopped at their iteration limit, and capTail is the largest decrease of the
-	// objective over the last ftolWindow iterations of a capped one.
+	// refits counts the refits of the profiles since the last resetRefits and capped
+	// those stopped at their iteration limit; lastTail is the decrease of the objective
+	// over the last ftolWindow iterations of the latest refit when it was capped (+Inf
+	// when it had fewer), 0 when it converged.
 	refits, capped int
-	capTail        float64
+	lastTail       float64
 }
 
 // frac returns a_k and its derivatives with respect to f0 and d:
@@ -347,12 +348,23 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 var starEnvParams = [2]string{"the star's share f0", "the environment's index d"}
 
 // profileDiag is what the verdict needs of the profile of one parameter: its last step
-// (profileError's) and the counts of its refits (StarEnvObjective.refits, capped, capTail).
+// (profileError's) and the counts of its refits (StarEnvObjective.refits, capped).
 type profileDiag struct {
 	pf             profileFit
 	sigma          float64 // the curvature error, unscaled; NaN without positive curvature
 	refits, capped int
-	capTail        float64
+}
+
+// drift returns how much the rises of the profile's last step were still changing when
+// its refits stopped: the largest difference between the decrease of the refit at ± H
+// and that of the refit at the value over their last ftolWindow iterations (0 for
+// converged refits, +Inf when a capped one ran fewer).
+func (d profileDiag) drift() float64 {
+	t := d.pf.Tails
+	if math.IsInf(t[0], 1) || math.IsInf(t[1], 1) || math.IsInf(t[2], 1) {
+		return math.Inf(1)
+	}
+	return math.Max(math.Abs(t[1]-t[0]), math.Abs(t[2]-t[0]))
 }
 
 // starEnvErrors fills the errors of res (F0Err, EnvIndexErr, their intervals and the
@@ -371,7 +383,7 @@ func (o *StarEnvObjective) starEnvErrors(res *StarEnvResult, z, lower, upper []f
 		sigma, pf := o.profileError(z, n+j, e.fixed, e.hmin, lower, upper, pathIter, ftol)
 		*e.interval = o.profileInterval(z, n+j, sigma, pf, target, lower, upper, pathIter, ftol)
 		*e.sigma = sigma * math.Sqrt(target)
-		diag[j] = profileDiag{pf: pf, sigma: sigma, refits: o.refits, capped: o.capped, capTail: o.capTail}
+		diag[j] = profileDiag{pf: pf, sigma: sigma, refits: o.refits, capped: o.capped}
 	}
 	return diag
 }
@@ -413,27 +425,31 @@ func starEnvVerdict(res *StarEnvResult, r optim.Result, diag [2]profileDiag, nDa
 	default:
 		w = append(w, fmt.Sprintf("the star + environment fit did not converge (%s)", r.Status))
 	}
+	if !res.Converged {
+		return w // the errors are those of an unfinished fit, as the warning says
+	}
 	for j, d := range diag {
 		name := starEnvParams[j]
 		switch {
 		case d.pf.Low != nil && d.pf.LowF < r.F-0.1*target:
-			w = append(w, fmt.Sprintf("the fit is not at its minimum along %s: a refit of its profile reached an objective %.3g lower; its errors are unreliable; raise -iter", name, r.F-d.pf.LowF))
+			w = append(w, fmt.Sprintf("the fit is not at its minimum along %s: a refit of its profile reached an objective %.3g lower, and continuing the fit from there did not settle it; its value and errors are unreliable; try another -reg, -weight or -star-index", name, r.F-d.pf.LowF))
 		case math.IsNaN(d.sigma) && d.pf.H > 0:
-			w = append(w, fmt.Sprintf("the profile of %s has no positive curvature (the refits at ± %.3g rose by %.3g and %.3g): the fit is not at its minimum along it, or the refits are too loose to measure it; its errors are unreliable; raise -iter", name, d.pf.H, d.pf.Down, d.pf.Up))
+			w = append(w, fmt.Sprintf("the profile of %s has no positive curvature (the refits at ± %.3g rose by %.3g and %.3g): the fit is not at its minimum along it, or the refits are too loose to measure it; its errors are unreliable; try another -reg, -weight or -star-index", name, d.pf.H, d.pf.Down, d.pf.Up))
 		}
-		// A capped refit still falling by more than a tenth of the rise that defines the
-		// errors over its last iterations leaves them uncertain at that level (common
-		// practice, no source).
-		if d.capped > 0 && d.capTail > 0.1*target {
-			fall := fmt.Sprintf("still falling by %.2g over their last %d iterations", d.capTail, ftolWindow)
-			if math.IsInf(d.capTail, 1) {
+		// Refits stopped at their limit cancel in the rises as far as they were falling at
+		// the same pace; when their decreases over the last iterations differ by more than
+		// a tenth of the rise that defines the errors, the rises were still moving by that
+		// much (common practice, no source).
+		if dr := d.drift(); d.capped > 0 && dr > 0.1*target {
+			fall := fmt.Sprintf("their decreases over the last %d iterations differing by %.2g", ftolWindow, dr)
+			if math.IsInf(dr, 1) {
 				fall = "too few iterations to tell whether they converged"
 			}
 			try := "treat the errors as rough"
 			if pathIter < DefaultPathIter {
 				try = "raise -iter"
 			}
-			w = append(w, fmt.Sprintf("%d of the %d refits of the profile of %s stopped at their limit of %d iterations, %s: its errors are uncertain at that level; %s", d.capped, d.refits, name, pathIter, fall, try))
+			w = append(w, fmt.Sprintf("%d of the %d refits of the profile of %s stopped at their limit of %d iterations, %s: its errors are uncertain by that much in χ²; %s", d.capped, d.refits, name, pathIter, fall, try))
 		}
 	}
 	return w
@@ -455,11 +471,13 @@ type ProfileInterval struct {
 }
 
 // profileFit holds the refits of profileError's last step: the objective refitted at the
-// value (F) and its rises at the value + H (Up) and − H (Down); and the point of the
-// lowest objective any of its refits reached (Low, nil when none finished) and that
-// objective (LowF).
+// value (F) and its rises at the value + H (Up) and − H (Down), with the decreases of
+// these three refits over their last iterations (Tails, StarEnvObjective.lastTail); and
+// the point of the lowest objective any of its refits reached (Low, nil when none
+// finished) and that objective (LowF).
 type profileFit struct {
 	F, H, Up, Down float64
+	Tails          [3]float64
 	Low            []float64
 	LowF           float64
 }
@@ -614,7 +632,7 @@ func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []f
 }
 
 // refitX is refit that also returns the point reached (nil with a NaN objective), and
-// counts the refit in o.refits, o.capped and o.capTail.
+// counts the refit in o.refits, o.capped and o.lastTail.
 func (o *StarEnvObjective) refitX(z []float64, j int, v float64, lower, upper []float64, maxIter int, ftol float64) (float64, []float64) {
 	lo, hi := slices.Clone(lower), slices.Clone(upper)
 	lo[j], hi[j] = v, v
@@ -628,6 +646,7 @@ func (o *StarEnvObjective) refitX(z []float64, j int, v float64, lower, upper []
 	}}
 	r, err := optim.Minimize(optim.Problem{Func: o.Eval, Lower: lo, Upper: hi}, x0, st)
 	o.refits++
+	o.lastTail = 0
 	if err != nil || r.X == nil {
 		return math.NaN(), nil
 	}
@@ -637,13 +656,13 @@ func (o *StarEnvObjective) refitX(z []float64, j int, v float64, lower, upper []
 		if k := len(hist) - 1; k >= ftolWindow {
 			tail = hist[k-ftolWindow] - hist[k]
 		}
-		o.capTail = math.Max(o.capTail, tail)
+		o.lastTail = tail
 	}
 	return r.F, r.X
 }
 
 // resetRefits clears the counts of refitX.
-func (o *StarEnvObjective) resetRefits() { o.refits, o.capped, o.capTail = 0, 0, 0 }
+func (o *StarEnvObjective) resetRefits() { o.refits, o.capped = 0, 0 }
 
 // profileError returns the 1σ error of variable j from the profile of the objective at z
 // (StarEnvResult.F0Err): the refits at z_j − h, z_j and z_j + h, all from z and for the
@@ -661,7 +680,7 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 		h = hmin
 	}
 	f, x := o.refitX(z, j, z[j], lower, upper, maxIter, ftol)
-	pf := profileFit{F: f, Up: math.NaN(), Down: math.NaN()}
+	pf := profileFit{F: f, Up: math.NaN(), Down: math.NaN(), Tails: [3]float64{o.lastTail}}
 	pf.keep(f, x)
 	var curv float64
 	for round := range 2 {
@@ -670,7 +689,9 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 			return math.NaN(), pf
 		}
 		fp, xp := o.refitX(z, j, z[j]+h, lower, upper, maxIter, ftol)
+		pf.Tails[1] = o.lastTail
 		fm, xm := o.refitX(z, j, z[j]-h, lower, upper, maxIter, ftol)
+		pf.Tails[2] = o.lastTail
 		pf.keep(fp, xp)
 		pf.keep(fm, xm)
 		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
