@@ -197,7 +197,11 @@ type StarEnvResult struct {
 // spectral index (StarEnvObjective) to the planes: the gray image of all data first
 // (Solve: grid, weight μ, start), then the environment, f0 and d together by the
 // bound-constrained quasi-Newton method (e ≥ 0, 0 ≤ f0 ≤ 1, |d| ≤ 20), the environment
-// starting from the gray image with the star's share at the central pixel taken out.
+// starting from the gray image with the star's share at the central pixel taken out. The
+// errors come from the profiles of f0 and d (StarEnvResult.F0Err); when a refit of a
+// profile lands lower than the fit by more than a tenth of the 1σ rise, the fit was not at
+// its minimum: it is continued once from the lowest refit and the errors are measured
+// again there. StarEnvResult.Warnings says what remains doubtful (starEnvVerdict).
 func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if len(p.Planes) < 2 {
 		return nil, errors.New("recon: a star with its own spectrum needs at least two channel groups")
