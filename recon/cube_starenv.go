@@ -200,8 +200,8 @@ type StarEnvResult struct {
 // starting from the gray image with the star's share at the central pixel taken out. The
 // errors come from the profiles of f0 and d (StarEnvResult.F0Err); when a refit of a
 // profile lands lower than the fit by more than a tenth of the 1σ rise, the fit was not at
-// its minimum: it is continued once from the lowest refit and the errors are measured
-// again there. StarEnvResult.Warnings says what remains doubtful (starEnvVerdict).
+// its minimum: it is continued from the lowest refit (at most maxContinue times) and the
+// errors are measured again there. StarEnvResult.Warnings says what remains doubtful (starEnvVerdict).
 func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if len(p.Planes) < 2 {
 		return nil, errors.New("recon: a star with its own spectrum needs at least two channel groups")
@@ -308,27 +308,29 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	for restart := 0; ; restart++ {
 		res.Chi2r = o.chi2r(r.X)
 		target = math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
-		diag = o.starEnvErrors(res, r.X, lower, upper, pathIter, ftol, target)
+		diag = o.profileSteps(res, r.X, lower, upper, pathIter, ftol)
 		// A refit of the profiles below the fit by more than a tenth of the rise that
 		// defines the errors (common practice, no source): the fit was not at its
-		// minimum. Fit again once from the lowest refit, and measure the errors there.
+		// minimum. Fit again from the lowest refit, at most maxContinue times, and
+		// measure the errors there.
 		low := -1
 		for j, d := range diag {
 			if d.pf.Low != nil && d.pf.LowF < r.F-0.1*target && (low < 0 || d.pf.LowF < diag[low].pf.LowF) {
 				low = j
 			}
 		}
-		if low < 0 || restart == 1 {
+		if low < 0 || restart == maxContinue {
 			break
 		}
 		r2, stop2, err := fit(diag[low].pf.Low)
 		if err != nil {
 			return nil, err
 		}
-		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found (objective %.6g → %.6g); the errors are measured there",
+		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found (objective %.6g → %.6g); the errors are measured at the end",
 			r.F-diag[low].pf.LowF, starEnvParams[low], r.F, r2.F))
 		r, ftolStop = r2, stop2
 	}
+	o.profileIntervals(res, r.X, &diag, lower, upper, pathIter, ftol, target)
 	res.Iter, res.Status, res.F0, res.EnvIndex = iter, r.Status, r.X[n], r.X[n+1]
 	res.Converged = ftolStop || r.Status.Converged()
 	res.StopReason = r.Status.String()
@@ -371,25 +373,48 @@ func (d profileDiag) drift() float64 {
 	return math.Max(math.Abs(t[1]-t[0]), math.Abs(t[2]-t[0]))
 }
 
-// starEnvErrors fills the errors of res (F0Err, EnvIndexErr, their intervals and the
-// fixed-image errors) from the fit z, and returns what the verdict needs of each profile.
-func (o *StarEnvObjective) starEnvErrors(res *StarEnvResult, z, lower, upper []float64, pathIter int, ftol, target float64) [2]profileDiag {
+// maxContinue is the largest number of times SolveStarEnv continues its fit from a lower
+// point that the profiles found (measured on a star and environment whose fit stopped on its
+// objective tolerance in a shallow valley: 3 continuations, each lower by a quarter of
+// the previous gain, brought it to its minimum).
+const maxContinue = 3
+
+// profileSteps fills the curvature errors of res (F0Err, EnvIndexErr, unscaled) and the
+// fixed-image errors from the fit z, and returns the profiles' last steps
+// (profileError's) with the counts of their refits.
+func (o *StarEnvObjective) profileSteps(res *StarEnvResult, z, lower, upper []float64, pathIter int, ftol float64) [2]profileDiag {
 	n := len(o.Star)
 	var diag [2]profileDiag
 	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(z)
 	for j, e := range []struct {
-		sigma    *float64
-		fixed    float64
-		hmin     float64
-		interval *ProfileInterval
-	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
+		sigma *float64
+		fixed float64
+		hmin  float64
+	}{{&res.F0Err, res.F0ErrFixed, 1e-3}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2}} {
 		o.resetRefits()
 		sigma, pf := o.profileError(z, n+j, e.fixed, e.hmin, lower, upper, pathIter, ftol)
-		*e.interval = o.profileInterval(z, n+j, sigma, pf, target, lower, upper, pathIter, ftol)
-		*e.sigma = sigma * math.Sqrt(target)
+		*e.sigma = sigma
 		diag[j] = profileDiag{pf: pf, sigma: sigma, refits: o.refits, capped: o.capped}
 	}
 	return diag
+}
+
+// profileIntervals fills the intervals of res from the profiles' last steps diag at z
+// (profileSteps') and scales the curvature errors by √target; it adds the refits to the
+// counts of diag.
+func (o *StarEnvObjective) profileIntervals(res *StarEnvResult, z []float64, diag *[2]profileDiag, lower, upper []float64, pathIter int, ftol, target float64) {
+	n := len(o.Star)
+	for j, e := range []struct {
+		sigma    *float64
+		interval *ProfileInterval
+	}{{&res.F0Err, &res.F0Interval}, {&res.EnvIndexErr, &res.EnvIndexInterval}} {
+		o.resetRefits()
+		d := &diag[j]
+		*e.interval = o.profileInterval(z, n+j, d.sigma, d.pf, target, lower, upper, pathIter, ftol)
+		*e.sigma = d.sigma * math.Sqrt(target)
+		d.refits += o.refits
+		d.capped += o.capped
+	}
 }
 
 // expectedChi2r returns the expected value of Σχ²/ΣN over the planes
