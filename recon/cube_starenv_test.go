@@ -474,3 +474,29 @@ func TestStarEnvVerdictCases(t *testing.T) {
 		}
 	}
 }
+
+// The profiles' steps find a point lower than the fit when the fit is not at its minimum,
+// and none at the minimum: on smallStarEnv's objective, from its minimum (5000 iterations)
+// no refit lands below it by the tenth of the 1σ rise that SolveStarEnv takes as a lower
+// point, and from the same point with f0 moved by 0.05 (many of its errors, the image
+// kept) a refit lands lower by more than that.
+func TestStarEnvProfileLowerPoint(t *testing.T) {
+	o, z, lower, upper := smallStarEnv(t, 0.6, 0.01, 0.03)
+	N := len(z) - 2
+	var res StarEnvResult
+	diag := o.profileSteps(&res, z, lower, upper, DefaultPathIter, DefaultFTol)
+	f := o.Eval(nil, z)
+	for j, d := range diag {
+		if d.pf.Low == nil || d.pf.LowF < f-0.1 || math.IsNaN(d.sigma) {
+			t.Errorf("at the minimum (objective %.6g), profile %d: lowest refit %.6g, curvature error %g", f, j, d.pf.LowF, d.sigma)
+		}
+	}
+	off := append([]float64(nil), z...)
+	off[N] += 0.05
+	fo := o.Eval(nil, off)
+	diag = o.profileSteps(&res, off, lower, upper, DefaultPathIter, DefaultFTol)
+	t.Logf("f0 %.4f + 0.05: objective %.6g; lowest refits %.6g, %.6g", z[N], fo, diag[0].pf.LowF, diag[1].pf.LowF)
+	if !(math.Min(diag[0].pf.LowF, diag[1].pf.LowF) < fo-0.1) {
+		t.Errorf("off the minimum (objective %.6g): lowest refits %.6g, %.6g", fo, diag[0].pf.LowF, diag[1].pf.LowF)
+	}
+}
