@@ -322,12 +322,13 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 		if low < 0 || restart == maxContinue {
 			break
 		}
-		r2, stop2, err := fit(diag[low].pf.Low)
+		from, fromF := o.walkProfile(r.X, n+low, diag[low].pf.Low, diag[low].pf.LowF, lower, upper, pathIter, ftol)
+		r2, stop2, err := fit(from)
 		if err != nil {
 			return nil, err
 		}
-		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found (objective %.6g → %.6g); the errors are measured at the end",
-			r.F-diag[low].pf.LowF, starEnvParams[low], r.F, r2.F))
+		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found, at %.4g (objective %.6g → %.6g); the errors are measured at the end",
+			r.F-fromF, starEnvParams[low], from[n+low], r.F, r2.F))
 		r, ftolStop = r2, stop2
 	}
 	o.profileIntervals(res, r.X, &diag, lower, upper, pathIter, ftol, target)
@@ -371,6 +372,31 @@ func (d profileDiag) drift() float64 {
 		return math.Inf(1)
 	}
 	return math.Max(math.Abs(t[1]-t[0]), math.Abs(t[2]-t[0]))
+}
+
+// walkProfile returns the lowest point found along the profile of variable j from the fit
+// z, given its lowest refit low (objective lowF) at a step h from z_j: the refits at steps
+// 2h, 4h, … on the same side (each from the previous one, the step within the bounds, at
+// most 8) while they keep falling. A fit that stalled along j is then continued from where
+// the profile is lower, not only one step away.
+func (o *StarEnvObjective) walkProfile(z []float64, j int, low []float64, lowF float64, lower, upper []float64, maxIter int, ftol float64) ([]float64, float64) {
+	h := low[j] - z[j]
+	for range 8 {
+		if h == 0 {
+			break
+		}
+		h *= 2
+		v := math.Min(math.Max(z[j]+h, lower[j]), upper[j])
+		if v == low[j] {
+			break
+		}
+		f, x := o.refitX(low, j, v, lower, upper, maxIter, ftol)
+		if x == nil || !(f < lowF) {
+			break
+		}
+		low, lowF = x, f
+	}
+	return low, lowF
 }
 
 // maxContinue is the largest number of times SolveStarEnv continues its fit from a lower
