@@ -723,9 +723,10 @@ func (o *StarEnvObjective) resetRefits() { o.refits, o.capped = 0, 0 }
 // (StarEnvResult.F0Err): the refits at z_j − h, z_j and z_j + h, all from z and for the
 // same iterations, so that what they leave unconverged cancels in the second difference.
 // The step starts at 10 times the fixed-image error sigma (at least hmin); when the
-// profile rises by less than 0.1 or more than 20 over it (summed over both sides), it is
-// rescaled once to a rise of about 2 (1σ each side): well above what the refits leave
-// unconverged, and near enough for the quadratic form. Steps are kept within the bounds.
+// profile rises by less than 0.1 (a fall of less than 0.1 included) or more than 20 over it
+// (summed over both sides), it is rescaled once to a rise of about 2 (1σ each side; 10
+// times larger after a fall): well above what the refits leave unconverged, and near
+// enough for the quadratic form. Steps are kept within the bounds.
 // The error is symmetric: a bound that becomes active within 1σ (a pixel of the
 // environment reaching zero) makes the true interval one-sided, which it does not show;
 // profileInterval does, from the refits returned in pf.
@@ -752,10 +753,16 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
 		rise := fp + fm - 2*pf.F
 		curv = rise / (h * h)
-		if round == 1 || (rise > 0.1 && rise < 20) || !(rise > 0) {
+		if round == 1 || (rise > 0.1 && rise < 20) || math.IsNaN(rise) || rise <= -0.1 {
 			break
 		}
-		h *= math.Sqrt(2 / rise)
+		// A rise below 0.1, or a fall as small (within what the refits leave
+		// unconverged), measures nothing: the step grows, 10 times after a fall.
+		if rise > 0 {
+			h *= math.Sqrt(2 / rise)
+		} else {
+			h *= 10
+		}
 	}
 	if !(curv > 0) {
 		return math.NaN(), pf
