@@ -267,8 +267,8 @@ type StarEnvRun struct {
 // WriteStarEnv writes the environment image of r to out, with the star's share at the
 // reference wavelength and the spectral indices in the header (STARF0, STARIDX, ENVIDX,
 // LAMBDA0; the errors from the profile's curvature STARF0E, ENVIDXE, and where it rises by
-// 1 below and above, STARF0L, STARF0U, ENVIDXL, ENVIDXU), and, unless o.NoPNG, its PNG
-// preview.
+// 1 below and above, STARF0L, STARF0U, ENVIDXL, ENVIDXU; the quality verdict in NWARN and
+// WARNn), and, unless o.NoPNG, its PNG preview.
 func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 	res := r.Result
 	paths := Paths{FITS: out}
@@ -299,6 +299,7 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 		{Key: "NITER", Value: res.Iter, Comment: "iterations of the fit"},
 		{Key: "COMMENT", Value: "The image is the environment alone, flux 1; the star is the parametric component."},
 	}
+	c = append(c, WarningCards(res.Warnings)...)
 	if r.Spec.Star != nil && r.Spec.Star.Diameter > 0 {
 		c = append(c, fitsimage.Card{Key: "STARDIAM", Value: r.Spec.Star.Diameter / recon.Mas, Comment: "star's uniform-disc diameter (mas)"})
 	}

@@ -126,7 +126,7 @@ func TestStarEnvSummaryText(t *testing.T) {
 		EnvIndex:    1.87, EnvIndexErr: JFloat(math.NaN()), EnvIndexRange: ProfileRange{Low: 6.2, High: 18.13, HighBound: true}}
 	var b strings.Builder
 	s.WriteText(&b)
-	for _, want := range []string{"0.5877 of the flux at 1.9 µm −0.0023 +0.0018 (± 0.002)", "spectral index 1.87 −6.2 +18 (to the bound) (± NaN)"} {
+	for _, want := range []string{"0.5877 of the flux at 1.9 µm −0.0023 +0.0018 (± 0.002)", "spectral index 1.87 −6.2 +18 (to the bound) (± n/a: the profile has no positive curvature)"} {
 		if !strings.Contains(b.String(), want) {
 			t.Errorf("report lacks %q:\n%s", want, b.String())
 		}
@@ -139,5 +139,28 @@ func TestStarEnvSummaryText(t *testing.T) {
 		if !strings.Contains(string(j), want) {
 			t.Errorf("JSON lacks %s:\n%s", want, j)
 		}
+	}
+	if strings.Contains(b.String(), "NaN") {
+		t.Errorf("report writes NaN:\n%s", b.String())
+	}
+	// A fit with a warning does not read as a success; one without says how it converged.
+	s.StopReason = "converged: relative objective change below 1e-07 per iteration over 10 iterations"
+	s.Warnings, s.Converged = []string{"the fit is not at its minimum along f0"}, true
+	b.Reset()
+	s.WriteText(&b)
+	if !strings.Contains(b.String(), "finished with 1 warning (stop: relative objective change") {
+		t.Errorf("report with a warning:\n%s", b.String())
+	}
+	s.Warnings = nil
+	b.Reset()
+	s.WriteText(&b)
+	if !strings.Contains(b.String(), "iterations, converged: relative objective change") {
+		t.Errorf("report without warnings:\n%s", b.String())
+	}
+	s.Converged, s.StopReason = false, "iteration limit reached"
+	b.Reset()
+	s.WriteText(&b)
+	if !strings.Contains(b.String(), "NOT converged: iteration limit reached") {
+		t.Errorf("report of an unconverged fit:\n%s", b.String())
 	}
 }

@@ -3,6 +3,7 @@ package output
 import (
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"strings"
 
@@ -233,10 +234,17 @@ type StarEnvSummary struct {
 	EnvIndexErr   JFloat       `json:"env_index_err"`
 	EnvIndexRange ProfileRange `json:"env_index_profile"`
 	Chi2r         float64      `json:"chi2r"`
+	Chi2rTarget   JFloat       `json:"chi2r_expected"`
 	GrayChi2r     float64      `json:"gray_chi2r"`
 	Iterations    int          `json:"iterations"`
+	Converged     bool         `json:"converged"`
+	StopReason    string       `json:"stop_reason"`
 	Seconds       float64      `json:"seconds"`
-	Outputs       Paths        `json:"outputs"`
+	Notices       []string     `json:"notices,omitempty"`
+	// Warnings is the quality verdict (recon.StarEnvResult.Warnings): an empty list when
+	// none.
+	Warnings []string `json:"warnings"`
+	Outputs  Paths    `json:"outputs"`
 }
 
 // ProfileRange is an asymmetric 1σ interval (recon.ProfileInterval) in a JSON summary:
@@ -258,30 +266,54 @@ func NewStarEnvSummary(run StarEnvRun, paths Paths) StarEnvSummary {
 	r := run.Result
 	return StarEnvSummary{StarF0: r.F0, StarF0Err: JFloat(r.F0Err), StarF0Range: profileRange(r.F0Interval), Lambda0Um: r.Lambda0 * 1e6,
 		StarIndex: run.Spec.StarIndexValue(), EnvIndex: r.EnvIndex, EnvIndexErr: JFloat(r.EnvIndexErr), EnvIndexRange: profileRange(r.EnvIndexInterval),
-		Chi2r: r.Chi2r, GrayChi2r: r.Gray.Chi2r, Iterations: r.Iter, Seconds: run.Seconds, Outputs: paths}
+		Chi2r: r.Chi2r, Chi2rTarget: JFloat(r.Chi2rTarget), GrayChi2r: r.Gray.Chi2r, Iterations: r.Iter, Converged: r.Converged, StopReason: r.StopReason,
+		Seconds: run.Seconds, Notices: r.Notices, Warnings: NonNil(r.Warnings), Outputs: paths}
 }
 
-// WriteText writes the summary of a star + environment fit.
+// WriteText writes the summary of a star + environment fit: the star's share and the
+// indices with their errors, χ²ᵣ, the optimizer's end (a result with warnings never reads
+// as a success), notes and the files written.
 func (s StarEnvSummary) WriteText(w io.Writer) {
 	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm %s, spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Range.text(s.StarF0Err), s.StarIndex)
 	fmt.Fprintf(w, "Environment: spectral index %.4g %s\n", s.EnvIndex, s.EnvIndexRange.text(s.EnvIndexErr))
-	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g over all channels (gray image %.4g), %d iterations, %.1f s\n", s.Chi2r, s.GrayChi2r, s.Iterations, s.Seconds)
+	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g over all channels (expected %.3g; gray image %.4g)\n", s.Chi2r, s.Chi2rTarget, s.GrayChi2r)
+	switch {
+	case len(s.Warnings) > 0:
+		fmt.Fprintf(w, "Optimizer:   %d iterations, finished with %s (stop: %s), %.1f s\n", s.Iterations, CountWarnings(len(s.Warnings)), StopText(s.StopReason), s.Seconds)
+	case s.Converged:
+		fmt.Fprintf(w, "Optimizer:   %d iterations, %s, %.1f s\n", s.Iterations, s.StopReason, s.Seconds)
+	default:
+		fmt.Fprintf(w, "Optimizer:   %d iterations, NOT converged: %s, %.1f s\n", s.Iterations, s.StopReason, s.Seconds)
+	}
 	fmt.Fprintln(w, "Note:        1σ errors from the profile with the image refitted, where it rises by 1 (times χ²ᵣ when above 1) on each side, and from its curvature (±); noise only, the regularizer's bias is not in them; the image is the environment alone.")
+	for _, n := range s.Notices {
+		fmt.Fprintf(w, "Note:        %s\n", n)
+	}
 	writePaths(w, s.Outputs.FITS, s.Outputs.PNG)
 }
 
 // text writes the interval as "−0.0021 +0.0018 (± 0.002)", an open side as "+0.35 (to the
-// bound)", with the curvature error sym.
+// bound)", with the curvature error sym; a side or error that is not a number as "n/a",
+// the curvature error then with its reason.
 func (r ProfileRange) text(sym JFloat) string {
 	side := func(sign string, v JFloat, open bool) string {
+		if !isFinite(float64(v)) {
+			return sign + "n/a"
+		}
 		s := fmt.Sprintf("%s%.2g", sign, v)
 		if open {
 			s += " (to the bound)"
 		}
 		return s
 	}
-	return fmt.Sprintf("%s %s (± %.2g)", side("−", r.Low, r.LowBound), side("+", r.High, r.HighBound), sym)
+	c := fmt.Sprintf("± %.2g", sym)
+	if !isFinite(float64(sym)) {
+		c = "± n/a: the profile has no positive curvature"
+	}
+	return fmt.Sprintf("%s %s (%s)", side("−", r.Low, r.LowBound), side("+", r.High, r.HighBound), c)
 }
+
+func isFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // WriteBatchText writes the summary of a batch as a table, as 'vcz batch' prints it: the
 // counts, each epoch that failed or has warnings, and the summary files dir/name.json and

@@ -37,6 +37,12 @@ type StarEnvObjective struct {
 	Mu, Rho        float64
 
 	x, g, h, en, rg []float64
+	// refits counts the refits of the profiles since the last resetRefits and capped
+	// those stopped at their iteration limit; lastTail is the decrease of the objective
+	// over the last ftolWindow iterations of the latest refit when it was capped (+Inf
+	// when it had fewer), 0 when it converged.
+	refits, capped int
+	lastTail       float64
 }
 
 // frac returns a_k and its derivatives with respect to f0 and d:
@@ -173,16 +179,29 @@ type StarEnvResult struct {
 	F0ErrFixed, EnvIndexErrFixed float64
 	Lambda0                      float64
 	Chi2r                        float64 // Σχ²/ΣN over all planes
-	Gray                         *Result
-	Iter                         int
-	Status                       optim.Status
+	// Chi2rTarget is the expected value of Chi2r (Objective.ExpectedChi2r over all planes).
+	Chi2rTarget float64
+	Gray        *Result
+	Iter        int
+	Status      optim.Status
+	// Converged says that the fit stopped on its objective tolerance (or the optimizer's
+	// own convergence test); StopReason says why it stopped in words.
+	Converged  bool
+	StopReason string
+	// Warnings is the quality verdict: each names what is doubtful and what to try; empty
+	// when none. Notices are facts about the run that do not doubt it.
+	Warnings, Notices []string
 }
 
 // SolveStarEnv fits a star of power-law spectrum and an environment image with its own
 // spectral index (StarEnvObjective) to the planes: the gray image of all data first
 // (Solve: grid, weight μ, start), then the environment, f0 and d together by the
 // bound-constrained quasi-Newton method (e ≥ 0, 0 ≤ f0 ≤ 1, |d| ≤ 20), the environment
-// starting from the gray image with the star's share at the central pixel taken out.
+// starting from the gray image with the star's share at the central pixel taken out. The
+// errors come from the profiles of f0 and d (StarEnvResult.F0Err); when a refit of a
+// profile lands lower than the fit by more than a tenth of the 1σ rise, the fit was not at
+// its minimum: it is continued from the lowest refit (at most maxContinue times) and the
+// errors are measured again there. StarEnvResult.Warnings says what remains doubtful (starEnvVerdict).
 func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if len(p.Planes) < 2 {
 		return nil, errors.New("recon: a star with its own spectrum needs at least two channel groups")
@@ -255,23 +274,70 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if ftol == 0 {
 		ftol = DefaultFTol
 	}
-	var hist []float64
-	st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
-		hist = append(hist, it.F)
-		if s.Progress != nil {
-			if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: len(hist), Objective: it.F, Chi2r: o.planesChi2r()}) {
-				return false
+	iter := 0
+	// fit minimises from z0 with every variable free; ftolStop says that it stopped on
+	// the objective tolerance.
+	fit := func(z0 []float64) (r optim.Result, ftolStop bool, err error) {
+		var hist []float64
+		st := optim.Settings{MaxIter: s.MaxIter, FTol: -1, PGTol: s.PGTol, Memory: lbfgsMemory, Callback: func(it optim.Iter) bool {
+			hist = append(hist, it.F)
+			iter++
+			if s.Progress != nil {
+				if !s.Progress(Progress{Stage: "star + environment", Weight: gray.Weight, Iter: iter, Objective: it.F, Chi2r: o.planesChi2r()}) {
+					return false
+				}
+			}
+			k := len(hist) - 1
+			ftolStop = k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1)
+			return !ftolStop
+		}}
+		r, err = optim.Minimize(optim.Problem{Func: o.Eval, Lower: lower, Upper: upper}, z0, st)
+		if err != nil {
+			return r, false, fmt.Errorf("recon: star + environment: %w", err)
+		}
+		return r, ftolStop, nil
+	}
+	r, ftolStop, err := fit(z)
+	if err != nil {
+		return nil, err
+	}
+	res := &StarEnvResult{Grid: g, Gray: gray, Lambda0: o.Lambda0}
+	pathIter := min(s.MaxIter, DefaultPathIter)
+	target := 1.0
+	var diag [2]profileDiag
+	for restart := 0; ; restart++ {
+		res.Chi2r = o.chi2r(r.X)
+		target = math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+		diag = o.profileSteps(res, r.X, lower, upper, pathIter, ftol)
+		// A refit of the profiles below the fit by more than a tenth of the rise that
+		// defines the errors (common practice, no source): the fit was not at its
+		// minimum. Fit again from the lowest refit, at most maxContinue times, and
+		// measure the errors there.
+		low := -1
+		for j, d := range diag {
+			if d.pf.Low != nil && d.pf.LowF < r.F-0.1*target && (low < 0 || d.pf.LowF < diag[low].pf.LowF) {
+				low = j
 			}
 		}
-		k := len(hist) - 1
-		return !(k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1))
-	}}
-	r, err := optim.Minimize(optim.Problem{Func: o.Eval, Lower: lower, Upper: upper}, z, st)
-	if err != nil {
-		return nil, fmt.Errorf("recon: star + environment: %w", err)
+		if low < 0 || restart == maxContinue {
+			break
+		}
+		from, fromF := o.walkProfile(r.X, n+low, diag[low].pf.Low, diag[low].pf.LowF, lower, upper, pathIter, ftol)
+		r2, stop2, err := fit(from)
+		if err != nil {
+			return nil, err
+		}
+		res.Notices = append(res.Notices, fmt.Sprintf("the fit was continued from a point %.3g lower in objective that the profile of %s found, at %.4g (objective %.6g → %.6g); the errors are measured at the end",
+			r.F-fromF, starEnvParams[low], from[n+low], r.F, r2.F))
+		r, ftolStop = r2, stop2
 	}
-	res := &StarEnvResult{Grid: g, Gray: gray, Lambda0: o.Lambda0, Iter: r.Iter, Status: r.Status,
-		F0: r.X[n], EnvIndex: r.X[n+1]}
+	o.profileIntervals(res, r.X, &diag, lower, upper, pathIter, ftol, target)
+	res.Iter, res.Status, res.F0, res.EnvIndex = iter, r.Status, r.X[n], r.X[n+1]
+	res.Converged = ftolStop || r.Status.Converged()
+	res.StopReason = r.Status.String()
+	if ftolStop {
+		res.StopReason = fmt.Sprintf("converged: relative objective change below %g per iteration over %d iterations", ftol, ftolWindow)
+	}
 	res.Env = append([]float64(nil), r.X[:n]...)
 	E := 0.0
 	for _, v := range res.Env {
@@ -280,20 +346,168 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	for i := range res.Env {
 		res.Env[i] /= E
 	}
-	res.Chi2r = o.chi2r(r.X)
-	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(r.X)
-	target := math.Max(1, res.Chi2r) // Δχ² = 1, scaled as the curvature errors are
+	res.Chi2rTarget = o.expectedChi2r()
+	res.Warnings = starEnvVerdict(res, r, diag, nTot, s.MaxIter, pathIter, target)
+	return res, nil
+}
+
+// starEnvParams names f0 and d, the variables after the image, in messages.
+var starEnvParams = [2]string{"the star's share f0", "the environment's index d"}
+
+// profileDiag is what the verdict needs of the profile of one parameter: its last step
+// (profileError's) and the counts of its refits (StarEnvObjective.refits, capped).
+type profileDiag struct {
+	pf             profileFit
+	sigma          float64 // the curvature error, unscaled; NaN without positive curvature
+	refits, capped int
+}
+
+// drift returns how much the rises of the profile's last step were still changing when
+// its refits stopped: the largest difference between the decrease of the refit at ± H
+// and that of the refit at the value over their last ftolWindow iterations (0 for
+// converged refits, +Inf when a capped one ran fewer).
+func (d profileDiag) drift() float64 {
+	t := d.pf.Tails
+	if math.IsInf(t[0], 1) || math.IsInf(t[1], 1) || math.IsInf(t[2], 1) {
+		return math.Inf(1)
+	}
+	return math.Max(math.Abs(t[1]-t[0]), math.Abs(t[2]-t[0]))
+}
+
+// walkProfile returns the lowest point found along the profile of variable j from the fit
+// z, given its lowest refit low (objective lowF) at a step h from z_j: the refits at steps
+// 2h, 4h, … on the same side (each from the previous one, the step within the bounds, at
+// most 8) while they keep falling. A fit that stalled along j is then continued from where
+// the profile is lower, not only one step away.
+func (o *StarEnvObjective) walkProfile(z []float64, j int, low []float64, lowF float64, lower, upper []float64, maxIter int, ftol float64) ([]float64, float64) {
+	h := low[j] - z[j]
+	for range 8 {
+		if h == 0 {
+			break
+		}
+		h *= 2
+		v := math.Min(math.Max(z[j]+h, lower[j]), upper[j])
+		if v == low[j] {
+			break
+		}
+		f, x := o.refitX(low, j, v, lower, upper, maxIter, ftol)
+		if x == nil || !(f < lowF) {
+			break
+		}
+		low, lowF = x, f
+	}
+	return low, lowF
+}
+
+// maxContinue is the largest number of times SolveStarEnv continues its fit from a lower
+// point that the profiles found (measured on a star and environment whose fit stopped on its
+// objective tolerance in a shallow valley: 3 continuations, each lower by a quarter of
+// the previous gain, brought it to its minimum).
+const maxContinue = 3
+
+// profileSteps fills the curvature errors of res (F0Err, EnvIndexErr, unscaled) and the
+// fixed-image errors from the fit z, and returns the profiles' last steps
+// (profileError's) with the counts of their refits.
+func (o *StarEnvObjective) profileSteps(res *StarEnvResult, z, lower, upper []float64, pathIter int, ftol float64) [2]profileDiag {
+	n := len(o.Star)
+	var diag [2]profileDiag
+	res.F0ErrFixed, res.EnvIndexErrFixed = o.paramErrors(z)
+	for j, e := range []struct {
+		sigma *float64
+		fixed float64
+		hmin  float64
+	}{{&res.F0Err, res.F0ErrFixed, 1e-3}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2}} {
+		o.resetRefits()
+		sigma, pf := o.profileError(z, n+j, e.fixed, e.hmin, lower, upper, pathIter, ftol)
+		*e.sigma = sigma
+		diag[j] = profileDiag{pf: pf, sigma: sigma, refits: o.refits, capped: o.capped}
+	}
+	return diag
+}
+
+// profileIntervals fills the intervals of res from the profiles' last steps diag at z
+// (profileSteps') and scales the curvature errors by √target; it adds the refits to the
+// counts of diag.
+func (o *StarEnvObjective) profileIntervals(res *StarEnvResult, z []float64, diag *[2]profileDiag, lower, upper []float64, pathIter int, ftol, target float64) {
+	n := len(o.Star)
 	for j, e := range []struct {
 		sigma    *float64
-		fixed    float64
-		hmin     float64
 		interval *ProfileInterval
-	}{{&res.F0Err, res.F0ErrFixed, 1e-3, &res.F0Interval}, {&res.EnvIndexErr, res.EnvIndexErrFixed, 1e-2, &res.EnvIndexInterval}} {
-		sigma, pf := o.profileError(r.X, n+j, e.fixed, e.hmin, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-		*e.interval = o.profileInterval(r.X, n+j, sigma, pf, target, lower, upper, min(s.MaxIter, DefaultPathIter), ftol)
-		*e.sigma = sigma * math.Sqrt(target)
+	}{{&res.F0Err, &res.F0Interval}, {&res.EnvIndexErr, &res.EnvIndexInterval}} {
+		o.resetRefits()
+		d := &diag[j]
+		*e.interval = o.profileInterval(z, n+j, d.sigma, d.pf, target, lower, upper, pathIter, ftol)
+		*e.sigma = d.sigma * math.Sqrt(target)
+		d.refits += o.refits
+		d.capped += o.capped
 	}
-	return res, nil
+}
+
+// expectedChi2r returns the expected value of Σχ²/ΣN over the planes
+// (Objective.ExpectedChi2r of each, weighted by its number of data).
+func (o *StarEnvObjective) expectedChi2r() float64 {
+	e, nn := 0.0, 0
+	for _, obj := range o.Planes {
+		if k := planeCount(obj); k > 0 {
+			e += obj.ExpectedChi2r() * float64(k)
+			nn += k
+		}
+	}
+	if nn == 0 {
+		return math.NaN()
+	}
+	return e / float64(nn)
+}
+
+// starEnvVerdict returns the warnings of a star + environment fit res whose final run is
+// r, with diag the profiles of f0 and d, nData the number of data, maxIter the fit's
+// iteration limit, pathIter the refits' and target the rise of the profile at 1σ.
+func starEnvVerdict(res *StarEnvResult, r optim.Result, diag [2]profileDiag, nData, maxIter, pathIter int, target float64) []string {
+	var w []string
+	if res.Chi2rTarget > 0 && res.Chi2r > VerdictChi2Ratio*res.Chi2rTarget {
+		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is %.2g times its expected value %.3g: the star + environment model does not fit the data; try another -star diameter or -star-index, a lower -weight, a larger -fov, or check the error bars", res.Chi2r, res.Chi2r/res.Chi2rTarget, res.Chi2rTarget))
+	}
+	// Far below: beyond 3 times the scatter √(2/N) of χ²ᵣ as well (as overfitWarning).
+	if res.Chi2rTarget > 0 && nData > 0 && res.Chi2r < res.Chi2rTarget/VerdictChi2Ratio && res.Chi2r < res.Chi2rTarget*(1-3*math.Sqrt(2/float64(nData))) {
+		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is far below its expected value %.3g: the environment image may fit the noise; try a larger -weight", res.Chi2r, res.Chi2rTarget))
+	}
+	switch {
+	case res.Converged:
+	case r.Status == optim.IterationLimit:
+		w = append(w, fmt.Sprintf("the star + environment fit stopped at its limit of %d iterations before converging; its values and errors are those of an unfinished fit; raise -iter", maxIter))
+	case r.Status == optim.LineSearchFailure:
+		w = append(w, fmt.Sprintf("the star + environment fit stalled after %d iterations (no step lowered the objective) before converging; try another -reg or -star diameter", res.Iter))
+	default:
+		w = append(w, fmt.Sprintf("the star + environment fit did not converge (%s)", r.Status))
+	}
+	if !res.Converged {
+		return w // the errors are those of an unfinished fit, as the warning says
+	}
+	for j, d := range diag {
+		name := starEnvParams[j]
+		switch {
+		case d.pf.Low != nil && d.pf.LowF < r.F-0.1*target:
+			w = append(w, fmt.Sprintf("the fit is not at its minimum along %s: a refit of its profile reached an objective %.3g lower, and continuing the fit from there did not settle it; its value and errors are unreliable; try another -reg, -weight or -star-index", name, r.F-d.pf.LowF))
+		case math.IsNaN(d.sigma) && d.pf.H > 0:
+			w = append(w, fmt.Sprintf("the profile of %s has no positive curvature (the refits at ± %.3g rose by %.3g and %.3g): the fit is not at its minimum along it, or the refits are too loose to measure it; its errors are unreliable; try another -reg, -weight or -star-index", name, d.pf.H, d.pf.Down, d.pf.Up))
+		}
+		// Refits stopped at their limit cancel in the rises as far as they were falling at
+		// the same pace; when their decreases over the last iterations differ by more than
+		// a tenth of the rise that defines the errors, the rises were still moving by that
+		// much (common practice, no source).
+		if dr := d.drift(); d.capped > 0 && dr > 0.1*target {
+			fall := fmt.Sprintf("their decreases over the last %d iterations differing by %.2g", ftolWindow, dr)
+			if math.IsInf(dr, 1) {
+				fall = "too few iterations to tell whether they converged"
+			}
+			try := "treat the errors as rough"
+			if pathIter < DefaultPathIter {
+				try = "raise -iter"
+			}
+			w = append(w, fmt.Sprintf("%d of the %d refits of the profile of %s stopped at their limit of %d iterations, %s: its errors are uncertain by that much in χ²; %s", d.capped, d.refits, name, pathIter, fall, try))
+		}
+	}
+	return w
 }
 
 // ProfileInterval is the 1σ interval of a parameter from the profile of the objective, the
@@ -312,8 +526,23 @@ type ProfileInterval struct {
 }
 
 // profileFit holds the refits of profileError's last step: the objective refitted at the
-// value (F) and its rises at the value + H (Up) and − H (Down).
-type profileFit struct{ F, H, Up, Down float64 }
+// value (F) and its rises at the value + H (Up) and − H (Down), with the decreases of
+// these three refits over their last iterations (Tails, StarEnvObjective.lastTail); and
+// the point of the lowest objective any of its refits reached (Low, nil when none
+// finished) and that objective (LowF).
+type profileFit struct {
+	F, H, Up, Down float64
+	Tails          [3]float64
+	Low            []float64
+	LowF           float64
+}
+
+// keep makes (f, x) the lowest refit of pf when it is lower than the one held.
+func (pf *profileFit) keep(f float64, x []float64) {
+	if x != nil && (pf.Low == nil || f < pf.LowF) {
+		pf.Low, pf.LowF = x, f
+	}
+}
 
 // profileInterval returns the interval of variable j from its profile at z: on each side,
 // the step h at which the refitted objective (as profileError's, from z) has risen by
@@ -453,6 +682,13 @@ func profileCrossing(rise func(h float64) float64, target, hmax, guess float64, 
 // as given) for at most maxIter iterations, stopping as SolveStarEnv does, and returns the
 // objective reached.
 func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []float64, maxIter int, ftol float64) float64 {
+	f, _ := o.refitX(z, j, v, lower, upper, maxIter, ftol)
+	return f
+}
+
+// refitX is refit that also returns the point reached (nil with a NaN objective), and
+// counts the refit in o.refits, o.capped and o.lastTail.
+func (o *StarEnvObjective) refitX(z []float64, j int, v float64, lower, upper []float64, maxIter int, ftol float64) (float64, []float64) {
 	lo, hi := slices.Clone(lower), slices.Clone(upper)
 	lo[j], hi[j] = v, v
 	x0 := slices.Clone(z)
@@ -464,19 +700,33 @@ func (o *StarEnvObjective) refit(z []float64, j int, v float64, lower, upper []f
 		return !(k >= ftolWindow && hist[k-ftolWindow]-it.F <= ftol*ftolWindow*math.Max(math.Abs(it.F), 1))
 	}}
 	r, err := optim.Minimize(optim.Problem{Func: o.Eval, Lower: lo, Upper: hi}, x0, st)
+	o.refits++
+	o.lastTail = 0
 	if err != nil || r.X == nil {
-		return math.NaN()
+		return math.NaN(), nil
 	}
-	return r.F
+	if r.Status == optim.IterationLimit {
+		o.capped++
+		tail := math.Inf(1) // too few iterations to tell
+		if k := len(hist) - 1; k >= ftolWindow {
+			tail = hist[k-ftolWindow] - hist[k]
+		}
+		o.lastTail = tail
+	}
+	return r.F, r.X
 }
+
+// resetRefits clears the counts of refitX.
+func (o *StarEnvObjective) resetRefits() { o.refits, o.capped = 0, 0 }
 
 // profileError returns the 1σ error of variable j from the profile of the objective at z
 // (StarEnvResult.F0Err): the refits at z_j − h, z_j and z_j + h, all from z and for the
 // same iterations, so that what they leave unconverged cancels in the second difference.
 // The step starts at 10 times the fixed-image error sigma (at least hmin); when the
-// profile rises by less than 0.1 or more than 20 over it (summed over both sides), it is
-// rescaled once to a rise of about 2 (1σ each side): well above what the refits leave
-// unconverged, and near enough for the quadratic form. Steps are kept within the bounds.
+// profile rises by less than 0.1 (a fall of less than 0.1 included) or more than 20 over it
+// (summed over both sides), it is rescaled once to a rise of about 2 (1σ each side; 10
+// times larger after a fall): well above what the refits leave unconverged, and near
+// enough for the quadratic form. Steps are kept within the bounds.
 // The error is symmetric: a bound that becomes active within 1σ (a pixel of the
 // environment reaching zero) makes the true interval one-sided, which it does not show;
 // profileInterval does, from the refits returned in pf.
@@ -485,22 +735,34 @@ func (o *StarEnvObjective) profileError(z []float64, j int, sigma, hmin float64,
 	if !(h > hmin) {
 		h = hmin
 	}
-	pf := profileFit{F: o.refit(z, j, z[j], lower, upper, maxIter, ftol), Up: math.NaN(), Down: math.NaN()}
+	f, x := o.refitX(z, j, z[j], lower, upper, maxIter, ftol)
+	pf := profileFit{F: f, Up: math.NaN(), Down: math.NaN(), Tails: [3]float64{o.lastTail}}
+	pf.keep(f, x)
 	var curv float64
 	for round := range 2 {
 		h = math.Min(h, 0.999*math.Min(z[j]-lower[j], upper[j]-z[j]))
 		if !(h > 0) {
 			return math.NaN(), pf
 		}
-		fp := o.refit(z, j, z[j]+h, lower, upper, maxIter, ftol)
-		fm := o.refit(z, j, z[j]-h, lower, upper, maxIter, ftol)
+		fp, xp := o.refitX(z, j, z[j]+h, lower, upper, maxIter, ftol)
+		pf.Tails[1] = o.lastTail
+		fm, xm := o.refitX(z, j, z[j]-h, lower, upper, maxIter, ftol)
+		pf.Tails[2] = o.lastTail
+		pf.keep(fp, xp)
+		pf.keep(fm, xm)
 		pf.H, pf.Up, pf.Down = h, fp-pf.F, fm-pf.F
 		rise := fp + fm - 2*pf.F
 		curv = rise / (h * h)
-		if round == 1 || (rise > 0.1 && rise < 20) || !(rise > 0) {
+		if round == 1 || (rise > 0.1 && rise < 20) || math.IsNaN(rise) || rise <= -0.1 {
 			break
 		}
-		h *= math.Sqrt(2 / rise)
+		// A rise below 0.1, or a fall as small (within what the refits leave
+		// unconverged), measures nothing: the step grows, 10 times after a fall.
+		if rise > 0 {
+			h *= math.Sqrt(2 / rise)
+		} else {
+			h *= 10
+		}
 	}
 	if !(curv > 0) {
 		return math.NaN(), pf

@@ -68,33 +68,21 @@ func mustReg(t *testing.T, f RegularizerFunc, g Grid) Regularizer {
 // image (relative L1 after the star's share is taken out of the gray image's central
 // pixel): measured 0.066 against 0.83.
 func TestStarEnvRecovery(t *testing.T) {
-	const lmin, lmax, l0 = 1.5e-6, 2.4e-6, 1.9e-6
-	const f0, alpha, dEnv = 0.6, -4.0, 0.0
+	const f0, alpha, dEnv, l0 = starEnvF0, -4.0, 0.0, 1.9e-6
 	xoff, fwhm := 2*Mas, 5*Mas
-	envVis := func(u, v float64) complex128 {
-		return complex(GaussianV(fwhm, math.Hypot(u, v)), 0) * cmplxExp(-2*math.Pi*u*xoff)
-	}
-	vis := func(l float64) func(u, v float64) complex128 {
-		r := l / l0
-		fs, fe := f0*math.Pow(r, alpha), (1-f0)*math.Pow(r, dEnv)
-		return func(u, v float64) complex128 {
-			return (complex(fs, 0) + complex(fe, 0)*envVis(u, v)) / complex(fs+fe, 0)
-		}
-	}
-	d := observeChromatic(41, 6, 40, vis, synthOpts{nchan: 10, nha: 6, lmin: lmin, lmax: lmax, hspan: 1.5,
-		sigV2: 0.005, sigPhi: 0.02, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{All: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	g := Grid{N: 48, Pixel: 0.4 * Mas}
+	d, planes, g := starEnvRecoveryData(t)
 	r, err := SolveStarEnv(StarEnvProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: g}, Planes: planes, StarIndex: alpha, Lambda0: l0}, Settings{Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
 	t.Logf("f0 %.4f ± %.4f (−%.4f +%.4f) (truth %.2f), d %.3f ± %.3f (−%.3f +%.3f) (truth %.1f); image fixed: ± %.4f, ± %.3f; χ²ᵣ %.3f (gray %.3f); %d iterations, %s",
 		r.F0, r.F0Err, r.F0Interval.Low, r.F0Interval.High, f0, r.EnvIndex, r.EnvIndexErr, r.EnvIndexInterval.Low, r.EnvIndexInterval.High, dEnv,
-		r.F0ErrFixed, r.EnvIndexErrFixed, r.Chi2r, r.Gray.Chi2r, r.Iter, r.Status)
+		r.F0ErrFixed, r.EnvIndexErrFixed, r.Chi2r, r.Gray.Chi2r, r.Iter, r.StopReason)
+	t.Logf("notices %q", r.Notices)
+	// The fit converges at its minimum with χ²ᵣ near its expected value: no warning.
+	if len(r.Warnings) != 0 || !r.Converged {
+		t.Errorf("converged %v, warnings %q", r.Converged, r.Warnings)
+	}
 	if math.Abs(r.F0-f0) > 0.05 {
 		t.Errorf("f0 %.4f ± %.4f, truth %.2f", r.F0, r.F0Err, f0)
 	}
@@ -129,6 +117,35 @@ func TestStarEnvRecovery(t *testing.T) {
 	if !(l1Env < l1Gray) {
 		t.Errorf("environment L1 %.4f, not below the gray image's %.4f", l1Env, l1Gray)
 	}
+}
+
+// starEnvF0 is the star's share of the flux at 1.9 µm in starEnvRecoveryData.
+const starEnvF0 = 0.6
+
+// starEnvRecoveryData returns TestStarEnvRecovery's data (a star of index −4 holding
+// starEnvF0 of the flux at 1.9 µm and a Gaussian environment of FWHM 5 mas, 2 mas east, of
+// index 0, in ten channels over 1.5–2.4 µm), its planes (one per channel) and its grid.
+func starEnvRecoveryData(t *testing.T) (*dataset.Data, []CubePlane, Grid) {
+	const lmin, lmax, l0 = 1.5e-6, 2.4e-6, 1.9e-6
+	const f0, alpha, dEnv = starEnvF0, -4.0, 0.0
+	xoff, fwhm := 2*Mas, 5*Mas
+	envVis := func(u, v float64) complex128 {
+		return complex(GaussianV(fwhm, math.Hypot(u, v)), 0) * cmplxExp(-2*math.Pi*u*xoff)
+	}
+	vis := func(l float64) func(u, v float64) complex128 {
+		r := l / l0
+		fs, fe := f0*math.Pow(r, alpha), (1-f0)*math.Pow(r, dEnv)
+		return func(u, v float64) complex128 {
+			return (complex(fs, 0) + complex(fe, 0)*envVis(u, v)) / complex(fs+fe, 0)
+		}
+	}
+	d := observeChromatic(41, 6, 40, vis, synthOpts{nchan: 10, nha: 6, lmin: lmin, lmax: lmax, hspan: 1.5,
+		sigV2: 0.005, sigPhi: 0.02, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{All: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d, planes, Grid{N: 48, Pixel: 0.4 * Mas}
 }
 
 // smallStarEnv is a star of index −4 holding share f0 of the flux at 1.9 µm and a Gaussian
@@ -376,5 +393,110 @@ func TestProfileCrossing(t *testing.T) {
 	}
 	if got, _ := profileCrossing(func(float64) float64 { return math.NaN() }, 1, 10, 0.5); !math.IsNaN(got) {
 		t.Errorf("NaN rises give %g", got)
+	}
+}
+
+// A fit cut short by its iteration limit says so: TestStarEnvRecovery's data on a coarser
+// grid with 20 iterations give a warning naming the limit and are not converged.
+func TestStarEnvVerdictShortRun(t *testing.T) {
+	d, planes, _ := starEnvRecoveryData(t)
+	g := Grid{N: 24, Pixel: 0.8 * Mas}
+	r, err := SolveStarEnv(StarEnvProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: g, Weight: 1}, Planes: planes, StarIndex: -4, Lambda0: 1.9e-6}, Settings{Seed: 1, MaxIter: 20})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("%s; warnings %q", r.StopReason, r.Warnings)
+	if r.Converged || !containsAll(r.Warnings, "stopped at its limit of 20 iterations", "raise -iter") {
+		t.Errorf("converged %v, warnings %q", r.Converged, r.Warnings)
+	}
+}
+
+// containsAll reports whether one of the messages contains every part.
+func containsAll(msgs []string, parts ...string) bool {
+	for _, m := range msgs {
+		ok := true
+		for _, p := range parts {
+			ok = ok && strings.Contains(m, p)
+		}
+		if ok {
+			return true
+		}
+	}
+	return false
+}
+
+// starEnvVerdict names each doubt: a profile refit below the fit, a profile without
+// positive curvature, capped refits still falling at paces that differ by more than a
+// tenth of the 1σ rise (not when they fall at one pace, which cancels in the rises), χ²ᵣ far above or below its expected
+// value (the thresholds of the image verdict, VerdictChi2Ratio and 3√(2/N)), and an
+// unconverged fit once for all (its profiles are not looked at); a converged
+// fit at its minimum with χ²ᵣ at its expected value has none.
+func TestStarEnvVerdictCases(t *testing.T) {
+	good := profileDiag{pf: profileFit{F: 100, H: 0.01, Up: 1, Down: 1.2, Low: []float64{0}, LowF: 100}, sigma: 0.01, refits: 9}
+	conv := optim.Result{F: 100, Status: optim.CallbackStop}
+	cases := []struct {
+		name    string
+		res     StarEnvResult
+		r       optim.Result
+		diag    [2]profileDiag
+		want    []string // parts of one warning; nil: no warning
+		maxIter int
+	}{
+		{"clean", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1, Converged: true}, conv, [2]profileDiag{good, good}, nil, 1000},
+		{"not converged", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1}, optim.Result{F: 100, Status: optim.IterationLimit}, [2]profileDiag{{pf: profileFit{F: 100, H: 0.01, Up: -1.5, Down: 0.2, Low: []float64{0}, LowF: 98.5}, sigma: math.NaN()}, good},
+			[]string{"limit of 1000 iterations", "raise -iter"}, 1000},
+		{"lower refit", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1, Converged: true}, conv,
+			[2]profileDiag{{pf: profileFit{F: 100, H: 0.01, Up: -1.5, Down: 0.2, Low: []float64{0}, LowF: 98.5}, sigma: math.NaN()}, good},
+			[]string{"not at its minimum along the star's share f0", "1.5 lower", "unreliable"}, 1000},
+		{"no curvature", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1, Converged: true}, conv,
+			[2]profileDiag{good, {pf: profileFit{F: 100, H: 0.01, Up: -0.05, Down: 0.02, Low: []float64{0}, LowF: 99.95}, sigma: math.NaN()}},
+			[]string{"profile of the environment's index d has no positive curvature", "unreliable"}, 1000},
+		{"capped refits", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1, Converged: true}, conv,
+			[2]profileDiag{{pf: profileFit{F: 100, H: 0.01, Up: 1, Down: 1.2, Tails: [3]float64{1.1, 1.6, 1.2}}, sigma: 0.01, refits: 9, capped: 3}, good},
+			[]string{"3 of the 9 refits of the profile of the star's share f0 stopped at their limit of 200", "differing by 0.5"}, 1000},
+		{"capped refits at one pace", StarEnvResult{Chi2r: 1.02, Chi2rTarget: 1, Converged: true}, conv,
+			[2]profileDiag{{pf: profileFit{F: 100, H: 0.01, Up: 1, Down: 1.2, Tails: [3]float64{1.1, 1.15, 1.08}}, sigma: 0.01, refits: 9, capped: 3}, good}, nil, 1000},
+		{"χ²ᵣ high", StarEnvResult{Chi2r: 1.5, Chi2rTarget: 1, Converged: true}, conv, [2]profileDiag{good, good},
+			[]string{"χ²ᵣ = 1.5 is 1.5 times its expected value 1"}, 1000},
+		{"χ²ᵣ low", StarEnvResult{Chi2r: 0.7, Chi2rTarget: 1, Converged: true}, conv, [2]profileDiag{good, good},
+			[]string{"far below its expected value 1", "-weight"}, 1000},
+	}
+	for _, c := range cases {
+		w := starEnvVerdict(&c.res, c.r, c.diag, 2000, c.maxIter, DefaultPathIter, 1)
+		if c.want == nil {
+			if len(w) != 0 {
+				t.Errorf("%s: warnings %q", c.name, w)
+			}
+			continue
+		}
+		if len(w) != 1 || !containsAll(w, c.want...) {
+			t.Errorf("%s: warnings %q, want one with %q", c.name, w, c.want)
+		}
+	}
+}
+
+// The profiles' steps find a point lower than the fit when the fit is not at its minimum,
+// and none at the minimum: on smallStarEnv's objective, from its minimum (5000 iterations)
+// no refit lands below it by the tenth of the 1σ rise that SolveStarEnv takes as a lower
+// point, and from the same point with f0 moved by 0.05 (many of its errors, the image
+// kept) a refit lands lower by more than that.
+func TestStarEnvProfileLowerPoint(t *testing.T) {
+	o, z, lower, upper := smallStarEnv(t, 0.6, 0.01, 0.03)
+	N := len(z) - 2
+	var res StarEnvResult
+	diag := o.profileSteps(&res, z, lower, upper, DefaultPathIter, DefaultFTol)
+	f := o.Eval(nil, z)
+	for j, d := range diag {
+		if d.pf.Low == nil || d.pf.LowF < f-0.1 || math.IsNaN(d.sigma) {
+			t.Errorf("at the minimum (objective %.6g), profile %d: lowest refit %.6g, curvature error %g", f, j, d.pf.LowF, d.sigma)
+		}
+	}
+	off := append([]float64(nil), z...)
+	off[N] += 0.05
+	fo := o.Eval(nil, off)
+	diag = o.profileSteps(&res, off, lower, upper, DefaultPathIter, DefaultFTol)
+	t.Logf("f0 %.4f + 0.05: objective %.6g; lowest refits %.6g, %.6g", z[N], fo, diag[0].pf.LowF, diag[1].pf.LowF)
+	if !(math.Min(diag[0].pf.LowF, diag[1].pf.LowF) < fo-0.1) {
+		t.Errorf("off the minimum (objective %.6g): lowest refits %.6g, %.6g", fo, diag[0].pf.LowF, diag[1].pf.LowF)
 	}
 }

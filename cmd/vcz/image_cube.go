@@ -27,12 +27,14 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 		}
 		sum := output.NewStarEnvSummary(run, paths)
 		if asJSON {
-			return writeJSON(stdout, sum)
-		}
-		if !quiet {
+			if err := writeJSON(stdout, sum); err != nil {
+				return err
+			}
+		} else {
 			sum.WriteText(stdout)
 		}
-		return nil
+		printWarnings(stderr, "", sum.Warnings)
+		return strictFailure(strict, "image", len(sum.Warnings))
 	}
 	run, paths, err := c.Run(outs, out, prog.follow)
 	prog.done()

@@ -118,7 +118,9 @@ func TestImageCube(t *testing.T) {
 
 // TestImageStarEnv runs `vcz image -channels all -star point` on simulated data and checks
 // that the environment image passes fitsverify and carries the star's share and the
-// indices; -star without -channels exits with status 2 and one line naming -star.
+// indices; a run cut short by -iter 5 gives its warnings on stderr, in the JSON summary
+// and in NWARN/WARNn (checkWarningHeader) and exits with status 1 under -strict; -star
+// without -channels exits with status 2 and one line naming -star.
 func TestImageStarEnv(t *testing.T) {
 	dir := t.TempDir()
 	p, _ := simulate.Demo()
@@ -151,11 +153,33 @@ func TestImageStarEnv(t *testing.T) {
 	for _, c := range im.Cards {
 		keys[c.Key] = true
 	}
-	for _, k := range []string{"STARF0", "STARIDX", "ENVIDX", "LAMBDA0", "STARF0L", "STARF0U", "ENVIDXL", "ENVIDXU"} {
+	for _, k := range []string{"STARF0", "STARIDX", "ENVIDX", "LAMBDA0", "STARF0L", "STARF0U", "ENVIDXL", "ENVIDXU", "NWARN"} {
 		if !keys[k] {
 			t.Errorf("no %s card", k)
 		}
 	}
+	// The summary stays on stdout with -quiet, and writes no NaN.
+	if !strings.Contains(stdout.String(), "Star:") || strings.Contains(stdout.String(), "NaN") {
+		t.Errorf("summary:\n%s", stdout.String())
+	}
+	// A run cut short warns: "warning:" lines on stderr, the list in the JSON summary and
+	// WARNn in the header, and -strict exits with status 1 with the outputs written.
+	stdout.Reset()
+	stderr.Reset()
+	short := filepath.Join(dir, "short.fits")
+	if code := run([]string{"image", "-channels", "all", "-star", "point", "-n", "32", "-iter", "5", "-quiet", "-json", "-strict", "-o", short, in}, &stdout, &stderr); code != exitFailure {
+		t.Fatalf("-iter 5 -strict: exit %d\n%s", code, stderr.String())
+	}
+	var sum struct {
+		Warnings []string `json:"warnings"`
+	}
+	if err := json.Unmarshal(stdout.Bytes(), &sum); err != nil || len(sum.Warnings) == 0 {
+		t.Fatalf("JSON warnings %q (%v):\n%s", sum.Warnings, err, stdout.String())
+	}
+	if n := strings.Count(stderr.String(), "warning: "); n != len(sum.Warnings) || !strings.Contains(stderr.String(), "limit of 5 iterations") {
+		t.Errorf("%d warning lines for %d warnings:\n%s", n, len(sum.Warnings), stderr.String())
+	}
+	checkWarningHeader(t, short, sum.Warnings)
 	stderr.Reset()
 	if code := run([]string{"image", "-star", "point", "-n", "32", "-quiet", "-o", filepath.Join(dir, "bad.fits"), in}, &stdout, &stderr); code != 2 ||
 		!strings.Contains(stderr.String(), "-star") || strings.Count(strings.TrimSpace(stderr.String()), "\n") > 0 {
