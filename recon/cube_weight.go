@@ -119,20 +119,7 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, up0, tau, scatter flo
 	fs.target = fs.floor + max(FloorShare*(tau-fs.floor), FloorMargin*fs.floor, FloorNoise*scatter)
 	tol := 0.25 * (fs.target - fs.floor)
 	bracket := func() (above, below int) {
-		above, below = -1, -1
-		for k, st := range fs.path {
-			if !usable(k) {
-				continue
-			}
-			if st.Chi2r > fs.target {
-				if above < 0 || st.Factor < fs.path[above].Factor {
-					above = k
-				}
-			} else if below < 0 || st.Factor > fs.path[below].Factor {
-				below = k
-			}
-		}
-		return above, below
+		return bracketSteps(len(fs.path), usable, func(k int) (float64, float64) { return fs.path[k].Factor, fs.path[k].Chi2r }, fs.target)
 	}
 	// Up from α = 1 while no factor fits worse than the target.
 	above, below := bracket()

@@ -952,20 +952,7 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64, first *runOut) (weightS
 	// bracket returns the usable steps nearest the target from above (larger χ²ᵣ) and
 	// from below, −1 where there is none.
 	bracket := func() (above, below int) {
-		above, below = -1, -1
-		for k, st := range ws.path {
-			if !usable(k) {
-				continue
-			}
-			if st.Chi2r > ws.target {
-				if above < 0 || st.Weight < ws.path[above].Weight {
-					above = k
-				}
-			} else if below < 0 || st.Weight > ws.path[below].Weight {
-				below = k
-			}
-		}
-		return above, below
+		return bracketSteps(len(ws.path), usable, func(k int) (float64, float64) { return ws.path[k].Weight, ws.path[k].Chi2r }, ws.target)
 	}
 	// Up from μ0 while no weight fits worse than the target.
 	above, below := bracket()
@@ -1170,3 +1157,25 @@ var lbfgsMemory = 5
 
 // finite reports whether x is neither NaN nor infinite.
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// bracketSteps returns, of the n steps of a weight path that usable accepts, the one of
+// smallest weight whose χ²ᵣ is above target and the one of largest weight whose χ²ᵣ is not,
+// −1 where there is none; step(k) gives step k's weight and χ²ᵣ.
+func bracketSteps(n int, usable func(int) bool, step func(int) (weight, chi2r float64), target float64) (above, below int) {
+	above, below = -1, -1
+	var wa, wb float64
+	for k := range n {
+		if !usable(k) {
+			continue
+		}
+		w, c := step(k)
+		if c > target {
+			if above < 0 || w < wa {
+				above, wa = k, w
+			}
+		} else if below < 0 || w > wb {
+			below, wb = k, w
+		}
+	}
+	return above, below
+}
