@@ -2,7 +2,6 @@ package workflow
 
 import (
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -282,18 +281,13 @@ func writeCubeComparePlots(dir string, ok []*CompareRun) ([]string, error) {
 		if len(m.Value) == 0 {
 			continue
 		}
-		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's cube, plane by plane", LogY: !m.Phase && plots.AutoLog(m.Value)})
-		if errors.Is(err, plots.ErrNoData) {
-			continue
-		}
+		name, err := writeTypePlot(dir, t, m, models, "each regularizer's cube, plane by plane")
 		if err != nil {
 			return nil, err
 		}
-		name := "compare-" + t.String() + ".png"
-		if err := fig.WriteFile(filepath.Join(dir, name)); err != nil {
-			return nil, err
+		if name != "" {
+			names = append(names, name)
 		}
-		names = append(names, name)
 	}
 	return names, nil
 }

@@ -380,20 +380,32 @@ func writeComparePlots(dir string, d *dataset.Data, ok []*CompareRun) ([]string,
 		for i, r := range ok {
 			models = append(models, plots.ModelValues{Name: r.Name, Value: output.ModelValues(preds[i], t, idx)})
 		}
-		fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and each regularizer's image", LogY: !m.Phase && plots.AutoLog(m.Value)})
-		if errors.Is(err, plots.ErrNoData) {
-			continue
-		}
+		name, err := writeTypePlot(dir, t, m, models, "each regularizer's image")
 		if err != nil {
 			return nil, err
 		}
-		name := "compare-" + t.String() + ".png"
-		if err := fig.WriteFile(filepath.Join(dir, name)); err != nil {
-			return nil, err
+		if name != "" {
+			names = append(names, name)
 		}
-		names = append(names, name)
 	}
 	return names, nil
+}
+
+// writeTypePlot writes the data m of type t with each regularizer's models (of what) as
+// dir/compare-<word>.png and returns its name, "" when m has no data to draw.
+func writeTypePlot(dir string, t dataset.DataType, m plots.Measurements, models []plots.ModelValues, what string) (string, error) {
+	fig, err := plots.Measured(m, models, nil, plots.Options{Title: upperFirst(m.Label) + " — data and " + what, LogY: !m.Phase && plots.AutoLog(m.Value)})
+	if errors.Is(err, plots.ErrNoData) {
+		return "", nil
+	}
+	if err != nil {
+		return "", err
+	}
+	name := "compare-" + t.String() + ".png"
+	if err := fig.WriteFile(filepath.Join(dir, name)); err != nil {
+		return "", err
+	}
+	return name, nil
 }
 
 // upperFirst returns s with its first letter in upper case ("closure phase" → "Closure
