@@ -67,7 +67,7 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		}
 		res := run.Result
 		row.Chi2rTotal, row.Weight, row.Iterations = res.Chi2r, res.Gray.Weight, res.Iter
-		row.Warnings = output.NonNil(res.Gray.Warnings)
+		row.Warnings = output.NonNil(res.Warnings)
 		row.PNG = filepath.Base(paths.PNG)
 	} else {
 		run, paths, err := c.Run(outs, fitsPath, nil)

@@ -148,6 +148,16 @@ type CompareRun struct {
 	BootErr error
 }
 
+// Warnings is the quality verdict of a successful run: its cube's with channel groups
+// (a gray image of a chromatic object does not fit all channels, which is why the cube was
+// asked for), else its image's.
+func (r *CompareRun) Warnings() []string {
+	if r.Cube != nil {
+		return r.Cube.Warnings
+	}
+	return r.Result.Warnings
+}
+
 // Bootstrap runs the bootstrap of every successful run around its own result (RunBootstrap
 // with opt), one regularizer after another, so that the report can show each one's per-pixel
 // spread beside its image.

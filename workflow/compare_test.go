@@ -242,6 +242,10 @@ func TestCompareCubes(t *testing.T) {
 		if r.Err != nil || r.Cube == nil || r.Result != r.Cube.Gray {
 			t.Fatalf("%s: error %v, cube %v", r.Name, r.Err, r.Cube != nil)
 		}
+		// The verdict of a cube's row is the cube's, not its gray image's.
+		if got, want := strings.Join(rep.Rows[i].Warnings, "|"), strings.Join(r.Cube.Warnings, "|"); got != want || rep.Rows[i].Converged != r.Cube.Converged {
+			t.Errorf("%s: row warnings %q (converged %v), the cube's %q (converged %v)", r.Name, got, rep.Rows[i].Converged, want, r.Cube.Converged)
+		}
 		cube, err := fitsimage.ReadFile(filepath.Join(dir, rep.Rows[i].Cube))
 		if err != nil {
 			t.Fatal(err)

@@ -128,8 +128,11 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 			}
 			row.Weight, row.WeightAuto, row.Chi2r, row.RegValue = res.Weight, len(res.Path) > 0, res.Chi2r, res.Reg
 			row.Iterations = res.TotalIter
-			row.Warnings = output.NonNil(res.Warnings)
+			row.Warnings = output.NonNil(r.Warnings())
 			row.Converged = res.Converged || res.Status.Converged()
+			if r.Cube != nil {
+				row.Converged = r.Cube.Converged
+			}
 			for _, t := range res.Chi2 {
 				row.Chi2ByType[t.Type.String()] = output.Chi2J{N: t.N, Chi2r: t.Chi2r}
 			}

@@ -106,8 +106,8 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	nwarn := 0
 	for _, r := range cmp.Runs {
 		if r.Err == nil {
-			printWarnings(stderr, r.Name, r.Result.Warnings)
-			nwarn += len(r.Result.Warnings)
+			printWarnings(stderr, r.Name, r.Warnings())
+			nwarn += len(r.Warnings())
 		}
 	}
 	if failed := cmp.Failed(); len(failed) > 0 {
@@ -216,10 +216,14 @@ func (p *multiProgress) end(i int, r *workflow.CompareRun) {
 		return
 	}
 	what := "done    "
-	if n := len(r.Result.Warnings); n > 0 {
+	if n := len(r.Warnings()); n > 0 {
 		what = "done with " + output.CountWarnings(n) + ":"
 	}
-	p.set(i, fmt.Sprintf("%s χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", what, r.Result.Chi2r, r.Result.Weight, r.Result.TotalIter, r.Seconds), true)
+	chi2r, iters := r.Result.Chi2r, r.Result.TotalIter
+	if r.Cube != nil {
+		chi2r, iters = r.Cube.Chi2r, r.Cube.TotalIter
+	}
+	p.set(i, fmt.Sprintf("%s χ²ᵣ %.4g  μ %.3g  %d iterations  %.1f s", what, chi2r, r.Result.Weight, iters, r.Seconds), true)
 }
 
 // hooks connects p to a comparison; a nil p gives no hooks.
