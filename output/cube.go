@@ -289,7 +289,7 @@ func (o Outputs) WriteStarEnv(out string, r StarEnvRun) (Paths, error) {
 		{Key: "STARF0E", Value: finiteOr(res.F0Err), Comment: "1 sigma, profile with the image refitted"},
 		{Key: "STARF0L", Value: finiteOr(res.F0Interval.Low), Comment: profileComment("lower", res.F0Interval.LowBound)},
 		{Key: "STARF0U", Value: finiteOr(res.F0Interval.High), Comment: profileComment("upper", res.F0Interval.HighBound)},
-		{Key: "STARIDX", Value: r.Spec.StarIndexValue(), Comment: "star's spectral index (given)"},
+		{Key: "STARIDX", Value: r.Spec.StarIndexValue(), Comment: "star's spectral index (held fixed)"},
 		{Key: "ENVIDX", Value: res.EnvIndex, Comment: "environment's spectral index (fitted)"},
 		{Key: "ENVIDXE", Value: finiteOr(res.EnvIndexErr), Comment: "1 sigma, profile with the image refitted"},
 		{Key: "ENVIDXL", Value: finiteOr(res.EnvIndexInterval.Low), Comment: profileComment("lower", res.EnvIndexInterval.LowBound)},

@@ -274,7 +274,7 @@ func NewStarEnvSummary(run StarEnvRun, paths Paths) StarEnvSummary {
 // indices with their errors, χ²ᵣ, the optimizer's end (a result with warnings never reads
 // as a success), notes and the files written.
 func (s StarEnvSummary) WriteText(w io.Writer) {
-	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm %s, spectral index %.3g (given)\n", s.StarF0, s.Lambda0Um, s.StarF0Range.text(s.StarF0Err), s.StarIndex)
+	fmt.Fprintf(w, "Star:        %.4f of the flux at %.4g µm %s, spectral index %.3g (held fixed: -star-index)\n", s.StarF0, s.Lambda0Um, s.StarF0Range.text(s.StarF0Err), s.StarIndex)
 	fmt.Fprintf(w, "Environment: spectral index %.4g %s\n", s.EnvIndex, s.EnvIndexRange.text(s.EnvIndexErr))
 	fmt.Fprintf(w, "Fit:         χ²ᵣ %.4g over all channels (expected %.3g; gray image %.4g)\n", s.Chi2r, s.Chi2rTarget, s.GrayChi2r)
 	switch {
