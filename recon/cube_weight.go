@@ -161,14 +161,10 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, up0, tau, scatter flo
 		return n
 	}
 	if above >= 0 && below >= 0 {
-		side := 0
-		la, lb := math.Log(fs.path[above].Factor), math.Log(fs.path[below].Factor)
-		fa, fb := rise(fs.path[above].Chi2r), rise(fs.path[below].Chi2r)
+		r := illinois{la: math.Log(fs.path[above].Factor), fa: rise(fs.path[above].Chi2r),
+			lb: math.Log(fs.path[below].Factor), fb: rise(fs.path[below].Chi2r)}
 		for len(fs.path) < CubeWeightSteps && math.Min(fs.path[above].Chi2r-fs.target, fs.target-fs.path[below].Chi2r) > tol {
-			lm := la - fa*(lb-la)/(fb-fa)
-			if !finite(lm) || lm <= math.Min(la, lb) || lm >= math.Max(la, lb) {
-				lm = 0.5 * (la + lb)
-			}
+			lm := r.next()
 			k, err := step(math.Exp(lm), nearest(lm))
 			if err != nil {
 				return fs, err
@@ -176,19 +172,10 @@ func chooseCubeFactor(chi1 float64, iter1 int, conv1 bool, up0, tau, scatter flo
 			if !usable(k) {
 				break
 			}
-			fm := rise(fs.path[k].Chi2r)
-			if fs.path[k].Chi2r > fs.target {
-				above, la, fa = k, lm, fm
-				if side == 1 {
-					fb /= 2
-				}
-				side = 1
+			if r.update(lm, rise(fs.path[k].Chi2r), fs.path[k].Chi2r > fs.target) {
+				above = k
 			} else {
-				below, lb, fb = k, lm, fm
-				if side == -1 {
-					fa /= 2
-				}
-				side = -1
+				below = k
 			}
 		}
 	}

@@ -977,14 +977,10 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64, first *runOut) (weightS
 	}
 	// Refine between the brackets.
 	if above >= 0 && below >= 0 {
-		side := 0
-		la, lb := math.Log(ws.path[above].Weight), math.Log(ws.path[below].Weight)
-		fa, fb := ws.path[above].Chi2r-ws.target, ws.path[below].Chi2r-ws.target
-		for len(ws.path) < steps && math.Min(fa, -fb) > tol {
-			lm := la - fa*(lb-la)/(fb-fa)
-			if !finite(lm) || lm <= math.Min(la, lb) || lm >= math.Max(la, lb) {
-				lm = 0.5 * (la + lb)
-			}
+		r := illinois{la: math.Log(ws.path[above].Weight), fa: ws.path[above].Chi2r - ws.target,
+			lb: math.Log(ws.path[below].Weight), fb: ws.path[below].Chi2r - ws.target}
+		for len(ws.path) < steps && math.Min(r.fa, -r.fb) > tol {
+			lm := r.next()
 			k, err := step(images[above], math.Exp(lm))
 			if err != nil {
 				return ws, err
@@ -993,18 +989,10 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64, first *runOut) (weightS
 				break // stalled twice between the brackets: keep the best usable step
 			}
 			fm := ws.path[k].Chi2r - ws.target
-			if fm > 0 {
-				above, la, fa = k, lm, fm
-				if side == 1 {
-					fb /= 2
-				}
-				side = 1
+			if r.update(lm, fm, fm > 0) {
+				above = k
 			} else {
-				below, lb, fb = k, lm, fm
-				if side == -1 {
-					fa /= 2
-				}
-				side = -1
+				below = k
 			}
 		}
 	}
@@ -1178,4 +1166,41 @@ func bracketSteps(n int, usable func(int) bool, step func(int) (weight, chi2r fl
 		}
 	}
 	return above, below
+}
+
+// illinois is the bracket of a root search by regula falsi in its Illinois form (Dowell &
+// Jarratt 1971, BIT 11, 168): the end a where the function is above the root's side (f > 0
+// in a plain search), the end b below it, each at its abscissa l and value f.
+type illinois struct {
+	la, fa, lb, fb float64
+	side           int // which end the last update moved: 1 for a, −1 for b, 0 before any
+}
+
+// next is the abscissa where the chord between the ends crosses zero, or their midpoint
+// when the chord leaves the bracket.
+func (r *illinois) next() float64 {
+	lm := r.la - r.fa*(r.lb-r.la)/(r.fb-r.fa)
+	if !finite(lm) || lm <= math.Min(r.la, r.lb) || lm >= math.Max(r.la, r.lb) {
+		lm = 0.5 * (r.la + r.lb)
+	}
+	return lm
+}
+
+// update replaces end a (when above) or end b by (lm, fm), halving the other end's value when
+// the same end moved twice in a row (the Illinois step), and returns above.
+func (r *illinois) update(lm, fm float64, above bool) bool {
+	if above {
+		r.la, r.fa = lm, fm
+		if r.side == 1 {
+			r.fb /= 2
+		}
+		r.side = 1
+	} else {
+		r.lb, r.fb = lm, fm
+		if r.side == -1 {
+			r.fa /= 2
+		}
+		r.side = -1
+	}
+	return above
 }
