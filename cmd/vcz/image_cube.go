@@ -26,15 +26,7 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 			return failure(err)
 		}
 		sum := output.NewStarEnvSummary(run, paths)
-		if asJSON {
-			if err := writeJSON(stdout, sum); err != nil {
-				return err
-			}
-		} else {
-			sum.WriteText(stdout)
-		}
-		printWarnings(stderr, "", sum.Warnings)
-		return strictFailure(strict, "image", len(sum.Warnings))
+		return printSummary(sum, sum.Warnings, asJSON, strict, stdout, stderr)
 	}
 	run, paths, err := c.Run(outs, out, prog.follow)
 	prog.done()
@@ -42,6 +34,12 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 		return failure(err)
 	}
 	sum := output.NewCubeSummary(run, paths)
+	return printSummary(sum, sum.Warnings, asJSON, strict, stdout, stderr)
+}
+
+// printSummary writes the summary of an image run, as JSON or text, on stdout and its
+// warnings on stderr, and returns the exit status -strict asks for.
+func printSummary(sum interface{ WriteText(io.Writer) }, warnings []string, asJSON, strict bool, stdout, stderr io.Writer) error {
 	if asJSON {
 		if err := writeJSON(stdout, sum); err != nil {
 			return err
@@ -49,6 +47,6 @@ func runCube(files []*oifits.File, d *dataset.Data, spec runspec.Spec, outs outp
 	} else {
 		sum.WriteText(stdout)
 	}
-	printWarnings(stderr, "", sum.Warnings)
-	return strictFailure(strict, "image", len(sum.Warnings))
+	printWarnings(stderr, "", warnings)
+	return strictFailure(strict, "image", len(warnings))
 }
