@@ -402,6 +402,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	var out runOut
 	out.F = f0
 	restarts := 0
+	var stuck *runOut // the end of the run before an escape
 	for {
 		st.MaxIter = maxIter - len(hist)
 		if st.MaxIter <= 0 {
@@ -442,6 +443,22 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		// precision of the objective.
 		gained := fseg - res.F
 		if restarts > 0 && gained <= ftol*ftolWindow*math.Max(math.Abs(res.F), 1) {
+			if res.Status == optim.LineSearchFailure && stuck == nil {
+				// No step from a fresh start either: a minimum, or a point where a model
+				// bispectrum or visibility is almost zero and the exact phase terms jump
+				// (escape). Try to leave it once; the better of the two ends is kept.
+				xe, err := e.escape(x, mu, use)
+				if err != nil {
+					return out, err
+				}
+				if xe != nil {
+					stuck = &runOut{Result: out.Result}
+					x, out.F = xe, f(nil, xe)
+					restarts = 0
+					e.curv.Reset()
+					continue
+				}
+			}
 			out.Converged = true
 			break
 		}
@@ -451,6 +468,9 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		}
 		restarts++
 		e.curv.Reset()
+	}
+	if stuck != nil && !(out.F < stuck.F) {
+		out.Result, out.Converged = stuck.Result, true
 	}
 	out.Iter, out.Hist = len(hist), hist
 	out.Tail = math.NaN()
@@ -463,6 +483,40 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	out.Stalled = out.Status != optim.IterationLimit && out.Status != optim.GradientConvergence &&
 		!((f0 - out.F) > stallDecrease*math.Max(math.Abs(f0), 1))
 	return out, nil
+}
+
+// escapeIter is the largest number of iterations of an escape run (common practice, no
+// source).
+const escapeIter = 20
+
+// escape moves x off a point where the exact phase terms stop the optimizer: where a model
+// bispectrum (or visibility) is almost zero, its phase jumps under any step and the
+// gradient of 2(1 − cos φ)/σ² grows as 1/|b|, so every trial step of the line search raises
+// the objective while the point is no minimum. A run stuck there reported convergence with
+// no iteration, and in SolveCube a plane stayed at its first sweep's image through every
+// later sweep and weight. escape runs up to escapeIter iterations with the smoothed phase
+// terms (SetPhaseSmoothing, the smoothing of the first pass), which have no such jump, and
+// returns their end; nil when the run fits no phases, already smooths them, or moved nothing.
+func (e *engine) escape(x []float64, mu float64, use dataset.DataType) ([]float64, error) {
+	sm := e.s.PhaseSmoothing
+	if sm == 0 {
+		sm = DefaultPhaseSmoothing
+	}
+	if use&(dataset.T3Phi|dataset.VisPhi) == 0 || e.obj.PhaseSmoothing() != 0 || !(sm > 0) {
+		return nil, nil
+	}
+	e.obj.SetPhaseSmoothing(sm)
+	defer e.obj.SetPhaseSmoothing(0)
+	st := optim.Settings{PGTol: e.s.PGTol, Memory: lbfgsMemory, MaxIter: escapeIter}
+	res, err := optim.Minimize(optim.Problem{Func: e.f(mu), Lower: e.lower, Upper: e.upper}, x, st)
+	e.total += res.Iter
+	if err != nil {
+		return nil, err
+	}
+	if res.Iter == 0 {
+		return nil, nil
+	}
+	return res.X, nil
 }
 
 // measure evaluates the objective at x and returns total χ²ᵣ and R(x).
