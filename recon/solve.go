@@ -161,7 +161,7 @@ type Result struct {
 	StopReason string
 	Path       []WeightStep // the automatic weight search, empty for a given weight
 	// Shift is the whole-pixel move (along the x and y indices) that put the centroid of the
-	// image at the centre after the final run (recentre); zero when it was not moved.
+	// image at the centre before the final run (recentre); zero when it was not moved.
 	Shift [2]int
 	// StartObjectives holds the final objective of every start when Starts > 1, the kept one
 	// first; their spread says how much the start matters.
@@ -1166,23 +1166,37 @@ func reflect(img []float64, n int) []float64 {
 // move is cyclic so that no flux is lost; the faint pixels it carries across the edge make the
 // image slightly worse a fit, which is why Solve moves the image before its final run.
 func recentre(img []float64, n int) [2]int {
+	sh := centreShift(img, n)
+	if sh != [2]int{} {
+		shiftCyclic(img, n, sh)
+	}
+	return sh
+}
+
+// centreShift returns the move by whole pixels (along the x and y indices) that brings the
+// centroid of img (n × n, or several n × n planes one after the other, whose sum counts)
+// nearest to the centre pixel (n/2, n/2); zero when img has no flux.
+func centreShift(img []float64, n int) [2]int {
 	var f, cx, cy float64
-	for iy := 0; iy < n; iy++ {
-		for ix := 0; ix < n; ix++ {
-			v := img[iy*n+ix]
-			f += v
-			cx += v * float64(ix)
-			cy += v * float64(iy)
+	for k := 0; k+n*n <= len(img); k += n * n {
+		for iy := 0; iy < n; iy++ {
+			for ix := 0; ix < n; ix++ {
+				v := img[k+iy*n+ix]
+				f += v
+				cx += v * float64(ix)
+				cy += v * float64(iy)
+			}
 		}
 	}
 	if !(f > 0) {
 		return [2]int{}
 	}
-	dx := n/2 - int(math.Round(cx/f))
-	dy := n/2 - int(math.Round(cy/f))
-	if dx == 0 && dy == 0 {
-		return [2]int{}
-	}
+	return [2]int{n/2 - int(math.Round(cx/f)), n/2 - int(math.Round(cy/f))}
+}
+
+// shiftCyclic moves img (n × n) in place by sh pixels along the x and y indices, cyclically.
+func shiftCyclic(img []float64, n int, sh [2]int) {
+	dx, dy := sh[0], sh[1]
 	out := make([]float64, n*n)
 	for iy := 0; iy < n; iy++ {
 		jy := ((iy+dy)%n + n) % n
@@ -1191,7 +1205,6 @@ func recentre(img []float64, n int) [2]int {
 		}
 	}
 	copy(img, out)
-	return [2]int{dx, dy}
 }
 
 // lbfgsMemory is the number of correction pairs of the quasi-Newton method.
