@@ -141,3 +141,40 @@ func TestRunLeavesPhaseNull(t *testing.T) {
 		t.Errorf("the run stayed at the near-zero visibility: objective %g → %g in %d iterations", f0, r.F, r.Iter)
 	}
 }
+
+// TestCubePlaneLeavesPhaseNull runs a cube of two planes from start images (CubeProblem.Starts,
+// as for the epochs of a batch), so that every sweep fits the exact data terms. Plane 1 starts
+// at the trap of nullTrap, plane 2 at the same image with the null filled in (its two points
+// unequal by 10 %), both with nullTrap's data. Plane 1 used to keep its start image through
+// every sweep (no iteration, reported as converged), as a plane of a cube did through every
+// later sweep and weight factor; it must lower its χ² below that of its start.
+func TestCubePlaneLeavesPhaseNull(t *testing.T) {
+	d, x0, g := nullTrap()
+	x1 := append([]float64(nil), x0...)
+	x1[4*g.N+4] *= 1.1
+	use := dataset.T3Phi | dataset.Vis2
+	start := func(x []float64) float64 {
+		m, err := NewForwardModel(d, g, true, exactTransform)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := NewObjective(d, m, TermOptions{})
+		o.SetUse(use)
+		o.Eval(nil, x)
+		return o.TotalChi2r()
+	}
+	planes := []CubePlane{{Data: d, Coord: 1e-6, Label: "trap"}, {Data: d, Coord: 1.1e-6, Label: "filled"}}
+	cp := CubeProblem{Problem: Problem{Grid: g, Transform: exactTransform}, Planes: planes,
+		Spectral: SpectralSmooth, SpectralWeight: 1e-3, Starts: [][]float64{x0, x1}, PlaneWeights: []float64{0, 0}}
+	r, err := SolveCube(cp, Settings{Seed: 1, MaxIter: 100})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, x := range [][]float64{x0, x1} {
+		c0 := start(x)
+		t.Logf("plane %d: χ²ᵣ %.4g at the start, %.4g at the end", k+1, c0, r.Planes[k].Chi2r)
+		if !(r.Planes[k].Chi2r < 0.9*c0) {
+			t.Errorf("plane %d (%s) kept its start: χ²ᵣ %.4g, %.4g at the start", k+1, planes[k].Label, r.Planes[k].Chi2r, c0)
+		}
+	}
+}
