@@ -178,3 +178,44 @@ func TestCubePlaneLeavesPhaseNull(t *testing.T) {
 		}
 	}
 }
+
+// TestNearNull checks the test by which escape tells a null from a minimum. At the start of
+// nullTrap the side at u = 1/(2·pixel) has |W₀| ≈ 4·10⁻¹³ of a flux of 1, below nullRatio;
+// with the two points unequal by 10 % (x1 of TestCubePlaneLeavesPhaseNull) the pair leaves
+// |W₀| = 0.04/1.04 ≈ 0.039 there (the floor still sums to 0), far above. Both values are
+// checked first against the exact direct sum V = Σ I·exp(−2πi(u·x + v·y))/Σ I (CONVENTIONS.md).
+func TestNearNull(t *testing.T) {
+	d, x0, g := nullTrap()
+	x1 := append([]float64(nil), x0...)
+	x1[4*g.N+4] *= 1.1
+	e, err := newEngine(Problem{Data: d, Transform: exactTransform}, Settings{}, GridChoice{Grid: g})
+	if err != nil {
+		t.Fatal(err)
+	}
+	direct := func(x []float64, u, v float64) float64 {
+		var s complex128
+		var fl float64
+		for iy := range g.N {
+			for ix := range g.N {
+				px, py := -float64(ix-g.N/2)*g.Pixel, float64(iy-g.N/2)*g.Pixel
+				s += complex(x[iy*g.N+ix], 0) * cmplx.Exp(complex(0, -2*math.Pi*(u*px+v*py)))
+				fl += x[iy*g.N+ix]
+			}
+		}
+		return cmplx.Abs(s) / fl
+	}
+	for _, c := range []struct {
+		name string
+		x    []float64
+		lo   float64 // |W₀| lies in [lo, 2·lo)
+		want bool
+	}{{"trap", x0, 3e-13, true}, {"filled", x1, 0.03, false}} {
+		w := direct(c.x, d.Vis2.U[0], d.Vis2.V[0])
+		if !(w >= c.lo && w < 2*c.lo) {
+			t.Fatalf("%s: |W₀| = %g by the direct sum, want [%g, %g)", c.name, w, c.lo, 2*c.lo)
+		}
+		if got := e.nearNull(c.x, 0); got != c.want {
+			t.Errorf("%s (|W₀| = %.3g): nearNull %v, want %v", c.name, w, got, c.want)
+		}
+	}
+}
