@@ -496,13 +496,15 @@ const escapeIter = 20
 // no iteration, and in SolveCube a plane stayed at its first sweep's image through every
 // later sweep and weight. escape runs up to escapeIter iterations with the smoothed phase
 // terms (SetPhaseSmoothing, the smoothing of the first pass), which have no such jump, and
-// returns their end; nil when the run fits no phases, already smooths them, or moved nothing.
+// returns their end; nil when the run fits no phases, already smooths them, sees no model
+// visibility near zero (nearNull: the point is a minimum to the precision of the objective,
+// which a line search may also fail to leave), or moved nothing.
 func (e *engine) escape(x []float64, mu float64, use dataset.DataType) ([]float64, error) {
 	sm := e.s.PhaseSmoothing
 	if sm == 0 {
 		sm = DefaultPhaseSmoothing
 	}
-	if use&(dataset.T3Phi|dataset.VisPhi) == 0 || e.obj.PhaseSmoothing() != 0 || !(sm > 0) {
+	if use&(dataset.T3Phi|dataset.VisPhi) == 0 || e.obj.PhaseSmoothing() != 0 || !(sm > 0) || !e.nearNull(x, mu) {
 		return nil, nil
 	}
 	e.obj.SetPhaseSmoothing(sm)
@@ -517,6 +519,35 @@ func (e *engine) escape(x []float64, mu float64, use dataset.DataType) ([]float6
 		return nil, nil
 	}
 	return res.X, nil
+}
+
+// nullRatio is the ratio of the smallest to the largest model visibility that phase data see
+// below which escape takes a point for a null (common practice, no source). Measured: the
+// points where runs stuck had ratios of 10⁻¹¹ to 10⁻¹³ (TestCubeGrowingDisc and the cube of a
+// chromatic disc + Gaussian), and the line-search failures at minima in TestSolveWorkers 0.3,
+// where the escape gained nothing and cost 28 of 263 iterations.
+const nullRatio = 1e-6
+
+// nearNull evaluates the objective at x and reports whether a closure-phase triangle or a
+// visibility phase sees a model visibility below nullRatio times the largest they see.
+func (e *engine) nearNull(x []float64, mu float64) bool {
+	e.f(mu)(nil, x)
+	m := e.obj.m
+	lo, hi := math.Inf(1), 0.0
+	see := func(r ref) {
+		v := m.vis[r.i]
+		a := real(v)*real(v) + imag(v)*imag(v)
+		lo, hi = min(lo, a), max(hi, a)
+	}
+	for _, t := range m.t3 {
+		see(t[0])
+		see(t[1])
+		see(t[2])
+	}
+	for _, r := range m.cvis {
+		see(r)
+	}
+	return lo < nullRatio*nullRatio*hi
 }
 
 // measure evaluates the objective at x and returns total χ²ᵣ and R(x).
