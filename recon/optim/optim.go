@@ -783,31 +783,12 @@ func (r *run) firstStep() float64 {
 // pairs are updated.
 func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 	w := r.w
-	x, g, xt, gt, d := w.x, w.g, w.xt, w.gt, w.d
-	lo, hi := r.p.Lower, r.p.Upper
 	for range maxBacktrack {
-		// The trial point P(x + alpha d) and the linear decrease g.(xt - x),
-		// negative for a descent step, in one pass.
-		var moved bool
-		var decr float64
-		for i, xi := range x {
-			v := xi + alpha*d[i]
-			if lo != nil && v < lo[i] {
-				v = lo[i]
-			}
-			if hi != nil && v > hi[i] {
-				v = hi[i]
-			}
-			xt[i] = v
-			if v != xi {
-				moved = true
-				decr += g[i] * (v - xi)
-			}
-		}
+		moved, decr := r.trial(alpha)
 		if !moved {
 			return 0, false, nil
 		}
-		ft, err := r.evalValue(gt, xt)
+		ft, err := r.evalValue(w.gt, w.xt)
 		if err != nil {
 			return 0, false, err
 		}
@@ -815,7 +796,7 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 			step, err := r.accept(ft)
 			return step, err == nil, err
 		}
-		if err := r.checkGrad(gt, ft); err != nil {
+		if err := r.checkGrad(w.gt, ft); err != nil {
 			return 0, false, err
 		}
 		// Quadratic interpolation of phi(a) = f(x + a d) from phi(0), phi'(0) and phi(alpha).
@@ -827,6 +808,56 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 		alpha = min(max(next, 0.1*alpha), 0.5*alpha)
 	}
 	return 0, false, nil
+}
+
+// trial sets the trial point xt = P(x + alpha d) and returns whether it differs from x and
+// the linear decrease g.(xt - x), negative for a descent step, in one pass.
+func (r *run) trial(alpha float64) (moved bool, decr float64) {
+	w := r.w
+	x, g, xt, d := w.x, w.g, w.xt, w.d
+	lo, hi := r.p.Lower, r.p.Upper
+	xs := x
+	if lo != nil && hi == nil {
+		// Lower bounds only, the case of images: the loop below without the tests of the
+		// missing bound, and without a branch on v != x_i. A variable that did not move
+		// adds g_i·0 = ±0 to the sum, which leaves it unchanged (g is finite), so the
+		// sum has the bits of the general loop's; it is zero when nothing moved, and
+		// only then does a second pass look whether anything did.
+		lo, d, g, xt := lo[:len(x)], d[:len(x)], g[:len(x)], xt[:len(x)]
+		for i, xi := range x {
+			v := xi + alpha*d[i]
+			if v < lo[i] {
+				v = lo[i]
+			}
+			xt[i] = v
+			decr += g[i] * (v - xi)
+		}
+		moved = decr != 0
+		if !moved {
+			for i, xi := range x {
+				if xt[i] != xi {
+					moved = true
+					break
+				}
+			}
+		}
+		xs = x[:0] // done: the general loop below has nothing left
+	}
+	for i, xi := range xs {
+		v := xi + alpha*d[i]
+		if lo != nil && v < lo[i] {
+			v = lo[i]
+		}
+		if hi != nil && v > hi[i] {
+			v = hi[i]
+		}
+		xt[i] = v
+		if v != xi {
+			moved = true
+			decr += g[i] * (v - xi)
+		}
+	}
+	return moved, decr
 }
 
 // accept moves to the trial point, stores the correction pair when its
