@@ -860,6 +860,43 @@ func (r *run) trial(alpha float64) (moved bool, decr float64) {
 	return moved, decr
 }
 
+// acceptLower is accept's pass for lower bounds alone, the case of images: the pair s =
+// xt − x, y = gt − g, its s.y, the step's and the projected gradient's infinity norms, and
+// the free runs of the new point, written to runs (of room len(x)+1), with their number and
+// whether the last one is open. A function of its own, so that the loop's values stay in
+// registers. A run starts or ends at i when free changes: i is written at the end of runs
+// every time and kept only then, without a branch that scattered variables at the bound
+// would mispredict.
+func acceptLower(s, y, x, xt, g, gt, lo []float64, runs []int) (sy, step, pg float64, nr int, in bool) {
+	n := len(x)
+	s, y, xt, g, gt, lo, runs = s[:n], y[:n], xt[:n], g[:n], gt[:n], lo[:n], runs[:n+1]
+	for i, xi := range x {
+		xn, gn, l := xt[i], gt[i], lo[i]
+		si, yi := xn-xi, gn-g[i]
+		s[i], y[i] = si, yi
+		sy += si * yi
+		if a := math.Abs(si); a > step {
+			step = a
+		}
+		v := xn - gn
+		if v < l {
+			v = l
+		}
+		if a := math.Abs(v - xn); a > pg {
+			pg = a
+		}
+		free := !(xn <= l && gn > 0)
+		edge := 0
+		if free != in {
+			edge = 1
+		}
+		runs[nr] = i
+		nr += edge
+		in = free
+	}
+	return sy, step, pg, nr, in
+}
+
 // accept moves to the trial point, stores the correction pair when its
 // curvature s.y is positive, updates the projected-gradient norm and
 // returns the infinity norm of the step, all in one pass. That pass also
@@ -887,30 +924,14 @@ func (r *run) accept(ft float64) (float64, error) {
 	if lo != nil && hi == nil {
 		// Lower bounds only, the case of images: the loop below without the
 		// tests of the missing bounds.
-		lo := lo[:len(x)]
-		for i, xi := range x {
-			xn, gn, l := xt[i], gt[i], lo[i]
-			si, yi := xn-xi, gn-g[i]
-			s[i], y[i] = si, yi
-			sy += si * yi
-			if a := math.Abs(si); a > step {
-				step = a
-			}
-			v := xn - gn
-			if v < l {
-				v = l
-			}
-			free := !(xn <= l && gn > 0)
-			if a := math.Abs(v - xn); a > pg {
-				pg = a
-			}
-			if free != in {
-				runs = append(runs, i)
-				in = free
-			}
-			if free {
-				nf++
-			}
+		var nr int
+		sy, step, pg, nr, in = acceptLower(s, y, x, xt, g, gt, lo, runs[:len(x)+1])
+		runs = runs[:nr]
+		for k := 0; k+1 < len(runs); k += 2 {
+			nf += runs[k+1] - runs[k]
+		}
+		if in {
+			nf += len(x) - runs[len(runs)-1]
 		}
 		x = x[:0] // done: the general loop below has nothing left
 	}
