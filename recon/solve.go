@@ -368,8 +368,24 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	if ftol == 0 {
 		ftol = DefaultFTol
 	}
-	f := e.f(mu)
-	f0 := f(nil, x0)
+	// The objective at the start is the value of optim's first evaluation, which is at x0
+	// when x0 is within the bounds (optim projects it first), as every start of the engine
+	// is: not a separate evaluation without gradient. The value does not depend on whether
+	// the gradient is asked for.
+	obj := e.f(mu)
+	f0, first := math.NaN(), feasible(x0, e.lower, e.upper)
+	f := obj
+	if first {
+		f = func(grad, x []float64) float64 {
+			v := obj(grad, x)
+			if first {
+				f0, first = v, false
+			}
+			return v
+		}
+	} else {
+		f0 = obj(nil, x0)
+	}
 	hist := make([]float64, 0, maxIter+1)
 	var types []TermChi2
 	var segStart int   // index in hist where the current segment starts
@@ -400,7 +416,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	}
 	x := x0
 	var out runOut
-	out.F = f0
+	out.F = f0 // NaN until the first evaluation, where x0 is feasible; first read after it
 	restarts := 0
 	for {
 		st.MaxIter = maxIter - len(hist)
@@ -452,6 +468,11 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		restarts++
 		e.curv.Reset()
 	}
+	if first {
+		// No run of optim (no iterations left): evaluate the start here.
+		f0, first = obj(nil, x0), false
+		out.F = f0
+	}
 	out.Iter, out.Hist = len(hist), hist
 	out.Tail = math.NaN()
 	if k := len(hist) - 1; k >= tailWindow {
@@ -463,6 +484,17 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	out.Stalled = out.Status != optim.IterationLimit && out.Status != optim.GradientConvergence &&
 		!((f0 - out.F) > stallDecrease*math.Max(math.Abs(f0), 1))
 	return out, nil
+}
+
+// feasible reports whether lower[i] <= x[i] <= upper[i] for every i; nil bounds hold
+// nothing.
+func feasible(x, lower, upper []float64) bool {
+	for i, v := range x {
+		if (lower != nil && v < lower[i]) || (upper != nil && v > upper[i]) {
+			return false
+		}
+	}
+	return true
 }
 
 // measure evaluates the objective at x and returns total χ²ᵣ and R(x).
