@@ -68,3 +68,70 @@ func TestRunEvaluatesOnce(t *testing.T) {
 		t.Fatalf("the run did not lower the objective: %v", out.F)
 	}
 }
+
+// TestCubeKnownData checks that the cube objective without gradient has the same bits when
+// it takes each plane's data value from the plane's last evaluation with gradient (as at the
+// end of a plane's run in SolveCube) as when it evaluates the data terms again.
+func TestCubeKnownData(t *testing.T) {
+	const n, pixel, P = 8, 1e-9, 3
+	rng := rand.New(rand.NewPCG(4, 4))
+	var planes []CubePlane
+	for range P {
+		d := randomData(rng, 0.25/pixel)
+		d.Targets = []string{"T"}
+		planes = append(planes, CubePlane{Data: d})
+	}
+	g := Grid{N: n, Pixel: pixel}
+	x := make([]float64, P*n*n)
+	for i := range x {
+		x[i] = (0.2 + rng.Float64()) / float64(n*n)
+	}
+	c := cubeObjectiveFor(t, planes, g, tvReg, 37, &SpectralSmoothness{Planes: P, NPix: n * n}, 5e3)
+	want := c.Eval(nil, x)
+	grad := make([]float64, n*n)
+	for k, p := range c.Planes {
+		p.data, p.known = p.Obj.Eval(grad, x[k*n*n:(k+1)*n*n]), true
+	}
+	// Evaluations elsewhere in between must not matter: the value is the one kept.
+	c.Planes[1].Obj.Eval(nil, make([]float64, n*n))
+	if got := c.Eval(nil, x); math.Float64bits(got) != math.Float64bits(want) {
+		t.Fatalf("with the kept values %.17g, evaluated %.17g", got, want)
+	}
+}
+
+// TestSolveCubeForwardCalls checks that the cube's sweeps spend no Forward without its
+// Adjoint beyond the evaluation of the start: a plane's data value at the end of its run
+// serves the cube's evaluations after the sweeps, and each run's start value is that of
+// optim's first evaluation.
+func TestSolveCubeForwardCalls(t *testing.T) {
+	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
+		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{Groups: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var tt transformTimes
+	mk := func(n int, pixel float64, u, v []float64) (Transform, error) {
+		tr, err := NewTransform(1)(n, pixel, u, v)
+		return timed(tr, &tt), err
+	}
+	p := Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}, Transform: mk}
+	s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 3}
+	gray, err := Solve(p, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// From given start images: no factor search, whose χ² measurements cost Forward calls
+	// of their own.
+	starts, weights := make([][]float64, len(planes)), make([]float64, len(planes))
+	for k := range planes {
+		starts[k], weights[k] = gray.Image, gray.Weight/float64(len(planes))
+	}
+	tt = transformTimes{}
+	if _, err := SolveCube(CubeProblem{Problem: p, Planes: planes, Starts: starts, PlaneWeights: weights}, s); err != nil {
+		t.Fatal(err)
+	}
+	if tt.nfwd-tt.nadj != len(planes) {
+		t.Fatalf("%d Forward and %d Adjoint calls for %d planes, want %d more Forward", tt.nfwd, tt.nadj, len(planes), len(planes))
+	}
+}

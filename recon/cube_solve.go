@@ -49,6 +49,11 @@ type CubePlaneTerm struct {
 
 	rgrad []float64
 	val   float64
+	// data, when known is set, is the value of Obj at the plane's current image, left by the
+	// last evaluation of the plane's run (SolveCube): Eval without a gradient takes it
+	// instead of evaluating Obj again. Whoever sets known clears it before the image changes.
+	data  float64
+	known bool
 }
 
 // Eval returns F(x) and, when grad is non-nil, overwrites grad with ∂F/∂x.
@@ -152,7 +157,12 @@ func (t *CubePlaneTerm) eval(grad, x, xn []float64, fl float64) float64 {
 	for i, xi := range x {
 		xn[i] = xi / fl
 	}
-	v := t.Obj.Eval(grad, x)
+	var v float64
+	if grad == nil && t.known {
+		v = t.data
+	} else {
+		v = t.Obj.Eval(grad, x)
+	}
 	if t.Reg != nil && t.Mu != 0 {
 		var rg []float64
 		if grad != nil {
@@ -614,6 +624,16 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	for k, e := range engines {
 		e.curv = &curv[k]
 	}
+	// The data terms' value of each plane at the end of its run, when the run's last
+	// evaluation was at its result, serves the evaluations of the cube at the end of the
+	// sweep and, when nothing moves the planes after the sweeps, of the result, instead of
+	// a Forward per plane each (the same bits: the value does not depend on whether the
+	// gradient is asked for).
+	forget := func() {
+		for _, t := range c.Planes {
+			t.known = false
+		}
+	}
 	sweeps := func(eta float64, label string) error {
 		c.Eta = eta
 		for k, r := range regs {
@@ -621,6 +641,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			curv[k].Reset()
 		}
 		res.Converged = false
+		forget() // the planes may have been moved since (cubeFactor)
 		prev := c.Eval(nil, x)
 		for sweep := range CubeSweeps {
 			last = last[:0]
@@ -669,6 +690,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				if r.Stalled {
 					curv[k].Reset()
 				}
+				c.Planes[k].data, c.Planes[k].known = e.data, r.LastAtX && e.dataOK
 				last = append(last, r)
 				copy(xk, r.X)
 				fl := 0.0
@@ -741,6 +763,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			}
 			eta *= 10
 		}
+		forget()
 		copy(x, keptX)
 		copy(cube, keptCube)
 		c.Eta, res.Converged = keptEta, keptConv
@@ -759,6 +782,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			if err := cubeFactor(res, x, cube, &last, c, regs, mu0, res.TotalIter-before, planeChi2r, sweeps); err != nil {
 				return nil, err
 			}
+			forget() // the chosen factor's planes are restored from a copy
 		}
 	}
 	res.SpectralWeight = c.Eta

@@ -217,6 +217,10 @@ type engine struct {
 	// single, when set, ends a run at the relative-change test without the restarts that
 	// confirm it (SolveCube, whose test across sweeps stands in for them).
 	single bool
+	// data is the value of the data terms at the last evaluation of the objective, dataOK
+	// whether that evaluation reached them (SolveCube reuses it at a run's end).
+	data   float64
+	dataOK bool
 }
 
 func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
@@ -260,6 +264,7 @@ func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
 func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 	return func(grad, x []float64) float64 {
 		fl := 1.0
+		e.dataOK = false
 		if e.rho > 0 {
 			// The flux, summed in the pass that gives the model its image (eval).
 			fl = e.obj.m.shift(x)
@@ -309,6 +314,7 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 		var v float64
 		if e.rho > 0 {
 			v = e.obj.eval(grad, fl, &ex)
+			e.data, e.dataOK = v, true
 		} else {
 			v = e.obj.Eval(grad, x) // the flux is not summed above
 			if grad != nil && ex.r != nil {

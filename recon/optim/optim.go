@@ -124,6 +124,10 @@ type Result struct {
 	// Scale is the scale γ = s·y/y·y of the newest correction pair at the end (0 when there
 	// was none), for Settings.Scale of a warm-started run.
 	Scale float64
+	// LastAtX reports that the last call of Func was at X, so that what Func keeps of its
+	// last evaluation holds for X (false when the run ended after trial points that were
+	// not accepted).
+	LastAtX bool
 }
 
 // ErrNonFinite is wrapped by the error Minimize returns when Func yields
@@ -275,6 +279,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		res.Status = st
 		res.ProjGradNorm = r.pgnorm
 		res.Scale = r.gamma
+		res.LastAtX = r.lastAtX
 		s.Resume.keep(r)
 		return res, err
 	}
@@ -285,7 +290,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		r.pgnorm = math.NaN()
 		return finish(NotTerminated, err)
 	}
-	r.f = f
+	r.f, r.lastAtX = f, true
 	r.pgnorm = r.projGradNorm(w.x, w.g)
 	r.nfree = r.setFree(w.x, w.g)
 	if pgtol > 0 && r.pgnorm <= pgtol {
@@ -337,6 +342,8 @@ type run struct {
 	evals  int
 	gamma  float64 // scale of the initial inverse Hessian, s.y/y.y of the newest pair
 	nfree  int     // number of free variables at x, whose runs are in w.runs (setFree)
+	// lastAtX: the last call of Func was at x (Result.LastAtX).
+	lastAtX bool
 }
 
 // eval calls Func and checks that value and gradient are finite.
@@ -352,6 +359,7 @@ func (r *run) eval(grad, x []float64) (float64, error) {
 // left to checkGrad, or to the sum over it that accept computes anyway.
 func (r *run) evalValue(grad, x []float64) (float64, error) {
 	r.evals++
+	r.lastAtX = false
 	f := r.p.Func(grad, x)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: -1}
@@ -1001,7 +1009,7 @@ func (r *run) accept(ft float64) (float64, error) {
 	}
 	w.x, w.xt = w.xt, w.x
 	w.g, w.gt = w.gt, w.g
-	r.f = ft
+	r.f, r.lastAtX = ft, true
 	r.pgnorm = pg
 	return step, nil
 }
