@@ -154,9 +154,7 @@ func (c *CubeObjective) Eval(grad, x []float64) float64 {
 // eval is the bracket of plane k in the CubeObjective formula, computed as Solve's
 // objective (engine.f) computes it, operation for operation; xn receives x/fl.
 func (t *CubePlaneTerm) eval(grad, x, xn []float64, fl float64) float64 {
-	for i, xi := range x {
-		xn[i] = xi / fl
-	}
+	divide(xn, x, fl)
 	var v float64
 	if grad == nil && t.known {
 		v = t.data
@@ -697,9 +695,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				for _, v := range xk {
 					fl += v
 				}
-				for i, v := range xk {
-					cube[k*npix+i] = v / fl
-				}
+				divide(cube[k*npix:(k+1)*npix], xk, fl)
 			}
 			f := c.Eval(nil, x)
 			if prev-f <= CubeSweepTol*math.Max(math.Abs(f), 1) {

@@ -291,9 +291,7 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 			xn := x
 			if e.rho > 0 {
 				xn = e.xn
-				for i, xi := range x {
-					xn[i] = xi / fl
-				}
+				divide(xn, x, fl)
 			}
 			r = e.reg.Eval(rg, xn)
 			if grad != nil {
