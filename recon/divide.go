@@ -7,7 +7,7 @@ package recon
 func divide(dst, src []float64, d float64) {
 	dst = dst[:len(src)]
 	i := 0
-	if hasDivideAVX {
+	if hasPixelAVX {
 		i = len(src) &^ 3
 		if i > 0 {
 			divideAVX(dst, src, d)

@@ -8,5 +8,12 @@ package recon
 //go:noescape
 func divideAVX(dst, src []float64, d float64)
 
-// hasDivideAVX reports whether divide has its assembly form on this processor.
-var hasDivideAVX = cpuHasAVX()
+// gradRegAVX sets out[i] = (s_i·adj[i] − cm)·inv + sc·(r[i] − c) + add, s_i = s0·(−1)^i, for
+// the first len(adj) &^ 3 elements (divide_amd64.s); out and r are at least as long as adj.
+//
+//go:noescape
+func gradRegAVX(out, adj, r []float64, s0, cm, inv, sc, c, add float64)
+
+// hasPixelAVX reports whether the pixel loops (divide, the gradient's last pass) have their
+// assembly form on this processor.
+var hasPixelAVX = cpuHasAVX()
