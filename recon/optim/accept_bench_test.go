@@ -34,7 +34,12 @@ func BenchmarkAccept(b *testing.B) {
 // general loop, run with upper bounds of +Inf, which hold nothing: the pair, the step, the
 // projected-gradient norm and the free runs.
 func TestAcceptLowerOnly(t *testing.T) {
-	const n = 1000
+	for _, n := range []int{1000, 1003, 11} {
+		acceptLowerOnly(t, n)
+	}
+}
+
+func acceptLowerOnly(t *testing.T, n int) {
 	rnd := rand.New(rand.NewPCG(3, 4))
 	lower := make([]float64, n)
 	upper := make([]float64, n)

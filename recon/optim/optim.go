@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 )
 
 // Problem is a smooth objective with optional simple bounds.
@@ -174,6 +175,7 @@ type workspace struct {
 	q      []float64   // two-loop recursion vector; accept's new s, then swapped into the pairs
 	ynew   []float64   // accept's new y, then swapped into the pairs
 	runs   []int       // free variables as half-open index ranges
+	masks  []uint8     // accept's free variables, four bits per byte (acceptLowerAVX)
 	s, y   [][]float64 // correction pairs, ring buffer
 	alpha  []float64
 	sy     []float64
@@ -198,6 +200,7 @@ func newWorkspace(n, m int) *workspace {
 		w.y[i] = next()
 	}
 	w.runs = make([]int, 0, n+1)
+	w.masks = make([]uint8, n/4)
 	w.alpha = make([]float64, m)
 	w.sy = make([]float64, m)
 	return w
@@ -871,14 +874,48 @@ func (r *run) trial(alpha float64) (moved bool, decr float64) {
 // acceptLower is accept's pass for lower bounds alone, the case of images: the pair s =
 // xt − x, y = gt − g, its s.y, the step's and the projected gradient's infinity norms, and
 // the free runs of the new point, written to runs (of room len(x)+1), with their number and
-// whether the last one is open. A function of its own, so that the loop's values stay in
-// registers. A run starts or ends at i when free changes: i is written at the end of runs
-// every time and kept only then, without a branch that scattered variables at the bound
-// would mispredict.
-func acceptLower(s, y, x, xt, g, gt, lo []float64, runs []int) (sy, step, pg float64, nr int, in bool) {
+// whether the last one is open. Where the processor has AVX, acceptLowerAVX does the
+// variables four at a time and leaves their free bits in masks (of room len(x)/4), from which
+// the runs are read; the rest are done here. A function of its own, so that the loop's
+// values stay in registers. A run starts or ends at i when free changes: i is written at the
+// end of runs every time and kept only then, without a branch that scattered variables at
+// the bound would mispredict.
+func acceptLower(s, y, x, xt, g, gt, lo []float64, runs []int, masks []uint8) (sy, step, pg float64, nr int, in bool) {
 	n := len(x)
 	s, y, xt, g, gt, lo, runs = s[:n], y[:n], xt[:n], g[:n], gt[:n], lo[:n], runs[:n+1]
-	for i, xi := range x {
+	i0 := 0
+	if hasAcceptAVX && n >= 4 {
+		// Four at a time, then the free runs from the bytes of free bits: a run starts or ends
+		// at bit j where the bit differs from the one before (from in for bit 0).
+		var out [9]float64
+		masks = masks[:n/4]
+		acceptLowerAVX(s, y, x, xt, g, gt, lo, masks, &out)
+		sy = out[0]
+		for _, a := range out[1:5] {
+			if a > step {
+				step = a
+			}
+		}
+		for _, a := range out[5:9] {
+			if a > pg {
+				pg = a
+			}
+		}
+		prev := uint8(0)
+		for q, m := range masks {
+			t := (m ^ (m<<1 | prev)) & 15
+			for t != 0 {
+				runs[nr] = 4*q + bits.TrailingZeros8(t)
+				nr++
+				t &= t - 1
+			}
+			prev = m >> 3
+		}
+		in = prev != 0
+		i0 = len(masks) * 4
+	}
+	for i := i0; i < n; i++ {
+		xi := x[i]
 		xn, gn, l := xt[i], gt[i], lo[i]
 		si, yi := xn-xi, gn-g[i]
 		s[i], y[i] = si, yi
@@ -933,7 +970,7 @@ func (r *run) accept(ft float64) (float64, error) {
 		// Lower bounds only, the case of images: the loop below without the
 		// tests of the missing bounds.
 		var nr int
-		sy, step, pg, nr, in = acceptLower(s, y, x, xt, g, gt, lo, runs[:len(x)+1])
+		sy, step, pg, nr, in = acceptLower(s, y, x, xt, g, gt, lo, runs[:len(x)+1], w.masks)
 		runs = runs[:nr]
 		for k := 0; k+1 < len(runs); k += 2 {
 			nf += runs[k+1] - runs[k]

@@ -1,0 +1,16 @@
+//go:build !purego
+
+package optim
+
+// cpuHasAVX reports whether the processor and the operating system support AVX
+// (accept_amd64.s).
+func cpuHasAVX() bool
+
+// acceptLowerAVX is acceptLower's pass on the first len(x) &^ 3 variables, four at a time
+// (accept_amd64.s).
+//
+//go:noescape
+func acceptLowerAVX(s, y, x, xt, g, gt, lo []float64, masks []uint8, out *[9]float64)
+
+// hasAcceptAVX reports whether acceptLower has its assembly form on this processor.
+var hasAcceptAVX = cpuHasAVX()
