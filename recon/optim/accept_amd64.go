@@ -12,5 +12,11 @@ func cpuHasAVX() bool
 //go:noescape
 func acceptLowerAVX(s, y, x, xt, g, gt, lo []float64, masks []uint8, out *[9]float64)
 
-// hasAcceptAVX reports whether acceptLower has its assembly form on this processor.
+// trialLowerAVX sets xt = max(x + alpha·d, lo) on the first len(x) &^ 3 variables and
+// returns g.(xt − x) over them (accept_amd64.s).
+//
+//go:noescape
+func trialLowerAVX(xt, x, d, g, lo []float64, alpha float64) float64
+
+// hasAcceptAVX reports whether acceptLower and the trial pass have their assembly forms on this processor.
 var hasAcceptAVX = cpuHasAVX()

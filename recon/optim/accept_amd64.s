@@ -101,3 +101,51 @@ adone:
 	VMOVUPD Y12, 40(R14)
 	VZEROUPPER
 	RET
+
+// func trialLowerAVX(xt, x, d, g, lo []float64, alpha float64) float64
+//
+// The trial pass for lower bounds on the first len(x) &^ 3 variables, four per step:
+// xt = max(x + alpha·d, lo) by the Go loop's comparison (MAXPD keeps x + alpha·d when lo is
+// not larger, as "if v < l { v = l }" does), the product and the sum rounded apart (no fused
+// multiply-add), and g.(xt − x) summed one product after the other in the order of the
+// variables, so the bits of the Go loop. The caller checks the lengths.
+TEXT ·trialLowerAVX(SB), NOSPLIT, $0-136
+	MOVQ xt_base+0(FP), DI
+	MOVQ x_base+24(FP), SI
+	MOVQ x_len+32(FP), CX
+	MOVQ d_base+48(FP), R8
+	MOVQ g_base+72(FP), R9
+	MOVQ lo_base+96(FP), R10
+	VBROADCASTSD alpha+120(FP), Y9
+	VXORPD X10, X10, X10         // the sum
+	SHRQ $2, CX
+	JZ tdone
+tloop:
+	VMOVUPD (SI), Y0             // x
+	VMOVUPD (R8), Y1             // d
+	VMULPD Y1, Y9, Y1            // alpha·d
+	VADDPD Y1, Y0, Y1            // v = x + alpha·d
+	VMOVUPD (R10), Y2            // lo
+	VMAXPD Y1, Y2, Y1            // v = lo > v ? lo : v
+	VMOVUPD Y1, (DI)
+	VSUBPD Y0, Y1, Y1            // v − x
+	VMOVUPD (R9), Y3             // g
+	VMULPD Y1, Y3, Y6            // g·(v − x)
+	VADDSD X6, X10, X10          // sum += lane 0, 1, 2, 3 in turn
+	VUNPCKHPD X6, X6, X7
+	VADDSD X7, X10, X10
+	VEXTRACTF128 $1, Y6, X7
+	VADDSD X7, X10, X10
+	VUNPCKHPD X7, X7, X7
+	VADDSD X7, X10, X10
+	ADDQ $32, DI
+	ADDQ $32, SI
+	ADDQ $32, R8
+	ADDQ $32, R9
+	ADDQ $32, R10
+	DECQ CX
+	JNZ tloop
+tdone:
+	MOVSD X10, ret+128(FP)
+	VZEROUPPER
+	RET

@@ -154,7 +154,12 @@ func BenchmarkTrial(b *testing.B) {
 // linear decrease, for steps that move variables, and for a zero step and a step into the
 // bounds that move none.
 func TestTrialLowerOnly(t *testing.T) {
-	const n = 1000
+	for _, n := range []int{1000, 1003} {
+		trialLowerOnly(t, n)
+	}
+}
+
+func trialLowerOnly(t *testing.T, n int) {
 	for _, alpha := range []float64{0.7, 1e-3, 0, 1e300} {
 		a, b := trialSetup(n, false, 9), trialSetup(n, true, 9)
 		if alpha == 1e300 {
@@ -169,7 +174,7 @@ func TestTrialLowerOnly(t *testing.T) {
 		ma, da := a.trial(alpha)
 		mb, db := b.trial(alpha)
 		if ma != mb || math.Float64bits(da) != math.Float64bits(db) {
-			t.Fatalf("step %g: lower only moved %v, decrease %g; general %v, %g", alpha, ma, da, mb, db)
+			t.Fatalf("%d variables, step %g: lower only moved %v, decrease %g; general %v, %g", n, alpha, ma, da, mb, db)
 		}
 		if want := alpha == 0.7 || alpha == 1e-3; ma != want {
 			t.Fatalf("step %g: moved %v, want %v", alpha, ma, want)

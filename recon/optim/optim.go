@@ -835,7 +835,16 @@ func (r *run) trial(alpha float64) (moved bool, decr float64) {
 		// sum has the bits of the general loop's; it is zero when nothing moved, and
 		// only then does a second pass look whether anything did.
 		lo, d, g, xt := lo[:len(x)], d[:len(x)], g[:len(x)], xt[:len(x)]
-		for i, xi := range x {
+		i0 := 0
+		if hasAcceptAVX {
+			// Four at a time, the same operations in the same order (trialLowerAVX).
+			i0 = len(x) &^ 3
+			if i0 > 0 {
+				decr = trialLowerAVX(xt, x, d, g, lo, alpha)
+			}
+		}
+		for i := i0; i < len(x); i++ {
+			xi := x[i]
 			v := xi + alpha*d[i]
 			if v < lo[i] {
 				v = lo[i]
