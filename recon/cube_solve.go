@@ -361,6 +361,25 @@ func (r *planeReg) Eval(grad, x []float64) float64 {
 	return v
 }
 
+// evalDot is Eval with a gradient that also returns Σ_i grad_i·x_i, summed in the order of
+// the pixels (dotRegularizer): with SpectralSmoothness in the pass that adds its gradient,
+// otherwise in a pass of its own.
+func (r *planeReg) evalDot(grad, x []float64) (v, dot float64) {
+	if ps, ok := r.spectral.(*SpectralSmoothness); ok && r.eta != 0 {
+		a := 0.0
+		if r.spatial != nil && r.mu != 0 {
+			v, a = r.mu*r.spatial.Eval(grad, x), r.mu
+		}
+		sv, dot := ps.evalPlaneDot(grad, a, r.eta, x)
+		return v + r.eta*sv, dot
+	}
+	v = r.Eval(grad, x)
+	for i, g := range grad {
+		dot += g * x[i]
+	}
+	return v, dot
+}
+
 // SolveCube reconstructs an image cube. One plane is the gray image: SolveCube then returns
 // Solve's result on the plane's data, bit for bit. With more planes:
 //

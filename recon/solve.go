@@ -293,16 +293,22 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 				xn = e.xn
 				divide(xn, x, fl)
 			}
-			r = e.reg.Eval(rg, xn)
-			if grad != nil {
-				// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
-				c := 0.0
-				if e.rho > 0 {
-					for i, g := range rg {
-						c += g * xn[i]
-					}
-				}
+			if dr, ok := e.reg.(dotRegularizer); ok && grad != nil && e.rho > 0 {
+				var c float64
+				r, c = dr.evalDot(rg, xn)
 				ex.s, ex.c, ex.r = mu/fl, c, rg
+			} else {
+				r = e.reg.Eval(rg, xn)
+				if grad != nil {
+					// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
+					c := 0.0
+					if e.rho > 0 {
+						for i, g := range rg {
+							c += g * xn[i]
+						}
+					}
+					ex.s, ex.c, ex.r = mu/fl, c, rg
+				}
 			}
 		}
 		df := fl - 1
@@ -329,6 +335,13 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 		}
 		return v
 	}
+}
+
+// dotRegularizer is a regularizer that returns with its value and gradient the sum
+// Σ_i grad_i·x_i that the engine's objective needs, summed in the order of the pixels as the
+// engine sums it, so the same bits, in the pass that writes the gradient (planeReg).
+type dotRegularizer interface {
+	evalDot(grad, x []float64) (v, dot float64)
 }
 
 // runOut is the outcome of one minimisation at a fixed weight.
