@@ -285,6 +285,10 @@ type CubeResult struct {
 	WeightFactor         float64
 	WeightPath           []CubeWeightStep
 	Chi2rFloor, Chi2rAim float64
+	// Shift is the whole-pixel move (along the x and y indices) of every plane after the
+	// last sweep that put the centroid of the planes' sum at the centre (centreCube); zero
+	// when the cube was not moved.
+	Shift [2]int
 }
 
 // DefaultSpectralSmooth is the constant c of the automatic weight of SpectralSmoothness,
@@ -510,7 +514,9 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	res := &CubeResult{Grid: g, Gray: gray, Spectral: cp.Spectral}
 	if gray != nil {
 		res.Weight, res.TotalIter, res.WeightFactor = gray.Weight, gray.TotalIter, 1
-		res.Notices = append(res.Notices, gray.Notices...)
+		for _, m := range gray.Notices {
+			res.Notices = append(res.Notices, "gray image: "+m)
+		}
 	}
 	// 2. The planes: an engine each, on the common grid.
 	cube := make([]float64, P*npix) // the normalised planes
@@ -810,6 +816,11 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	if !res.Converged {
 		res.StopReason = fmt.Sprintf("%d sweeps over the planes, the objective still falling", CubeSweeps)
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the cube did not settle in %d sweeps over the planes", CubeSweeps))
+	}
+	if sh := centreCube(c, cp, x, cube, g.N); sh != [2]int{} {
+		forget() // the planes moved: their data values are evaluated again
+		res.Shift = sh
+		res.Notices = append(res.Notices, fmt.Sprintf("cube moved by (%d, %d) pixels after its last sweep to put the centroid of its planes at the centre, all planes alike: V² and closure phases do not fix the position; the figures are those of the moved cube", sh[0], sh[1]))
 	}
 	// The figures of the final cube.
 	res.Objective = c.Eval(nil, x)

@@ -529,3 +529,45 @@ func TestPlaneSpectral(t *testing.T) {
 		}
 	}
 }
+
+// TestCentreCube moves a cube whose planes sit off the centre: every plane moves by the same
+// whole pixels, which bring the centroid of the planes' sum nearest to the centre pixel
+// (CONVENTIONS.md: the centre is (n/2, n/2)), and their relative positions stay; a cube that
+// fits visibility phases is not moved (they fix the position).
+func TestCentreCube(t *testing.T) {
+	const n, P = 16, 3
+	npix := n * n
+	x := make([]float64, P*npix)
+	// Plane k: one point at (10+k, 4), the sum's centroid at (11, 4): a move of (−3, 4).
+	for k := range P {
+		x[k*npix+4*n+10+k] = 2
+	}
+	cube := make([]float64, len(x))
+	for i, v := range x {
+		cube[i] = v / 2
+	}
+	c := &CubeObjective{Planes: []*CubePlaneTerm{{Obj: NewObjective(&dataset.Data{}, nil, TermOptions{})}}}
+	sh := centreCube(c, CubeProblem{}, x, cube, n)
+	if sh != [2]int{-3, 4} {
+		t.Fatalf("move %v, want [-3 4]", sh)
+	}
+	for k := range P {
+		want := k*npix + 8*n + 7 + k
+		if x[want] != 2 || cube[want] != 1 {
+			t.Errorf("plane %d: its point is not at (%d, 8)", k, 7+k)
+		}
+	}
+	if sh := centreCube(c, CubeProblem{}, x, cube, n); sh != [2]int{} {
+		t.Errorf("a centred cube moved by %v", sh)
+	}
+	// Visibility phases fix the position: the same cube off the centre stays.
+	withPhases := NewObjective(randomData(rand.New(rand.NewPCG(1, 1)), 1e8), nil, TermOptions{})
+	if withPhases.Use()&dataset.VisPhi == 0 {
+		t.Fatal("the test data have no visibility phases")
+	}
+	shiftCyclic(x[:npix], n, [2]int{3, 0})
+	c.Planes[0].Obj = withPhases
+	if sh := centreCube(c, CubeProblem{}, x, cube, n); sh != [2]int{} {
+		t.Errorf("a cube fitting visibility phases moved by %v", sh)
+	}
+}

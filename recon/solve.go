@@ -161,7 +161,7 @@ type Result struct {
 	StopReason string
 	Path       []WeightStep // the automatic weight search, empty for a given weight
 	// Shift is the whole-pixel move (along the x and y indices) that put the centroid of the
-	// image at the centre after the final run (recentre); zero when it was not moved.
+	// image at the centre before the final run (recentre); zero when it was not moved.
 	Shift [2]int
 	// StartObjectives holds the final objective of every start when Starts > 1, the kept one
 	// first; their spread says how much the start matters.
@@ -435,6 +435,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	var out runOut
 	out.F = f0 // NaN until the first evaluation, where x0 is feasible; first read after it
 	restarts := 0
+	var stuck *runOut // the end of the run before an escape
 	for {
 		st.MaxIter = maxIter - len(hist)
 		if st.MaxIter <= 0 {
@@ -475,6 +476,22 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		// precision of the objective.
 		gained := fseg - res.F
 		if restarts > 0 && gained <= ftol*ftolWindow*math.Max(math.Abs(res.F), 1) {
+			if res.Status == optim.LineSearchFailure && stuck == nil {
+				// No step from a fresh start either: a minimum, or a point where a model
+				// bispectrum or visibility is almost zero and the exact phase terms jump
+				// (escape). Try to leave it once; the better of the two ends is kept.
+				xe, err := e.escape(x, mu, use)
+				if err != nil {
+					return out, err
+				}
+				if xe != nil {
+					stuck = &runOut{Result: out.Result}
+					x, out.F = xe, f(nil, xe)
+					restarts = 0
+					e.curv.Reset()
+					continue
+				}
+			}
 			out.Converged = true
 			break
 		}
@@ -490,6 +507,11 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		f0, first = obj(nil, x0), false
 		out.F = f0
 	}
+	if stuck != nil && !(out.F < stuck.F) {
+		// The end before the escape is kept; the objective was evaluated elsewhere since.
+		out.Result, out.Converged = stuck.Result, true
+		out.LastAtX = false
+	}
 	out.Iter, out.Hist = len(hist), hist
 	out.Tail = math.NaN()
 	if k := len(hist) - 1; k >= tailWindow {
@@ -501,6 +523,40 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	out.Stalled = out.Status != optim.IterationLimit && out.Status != optim.GradientConvergence &&
 		!((f0 - out.F) > stallDecrease*math.Max(math.Abs(f0), 1))
 	return out, nil
+}
+
+// escapeIter is the largest number of iterations of an escape run (common practice, no
+// source).
+const escapeIter = 20
+
+// escape moves x off a point where the exact phase terms stop the optimizer: where a model
+// bispectrum (or visibility) is almost zero, its phase jumps under any step and the
+// gradient of 2(1 − cos φ)/σ² grows as 1/|b|, so every trial step of the line search raises
+// the objective while the point is no minimum. A run stuck there reported convergence with
+// no iteration, and in SolveCube a plane stayed at its first sweep's image through every
+// later sweep and weight. escape runs up to escapeIter iterations with the smoothed phase
+// terms (SetPhaseSmoothing, the smoothing of the first pass), which have no such jump, and
+// returns their end; nil when the run fits no phases, already smooths them, or moved nothing.
+func (e *engine) escape(x []float64, mu float64, use dataset.DataType) ([]float64, error) {
+	sm := e.s.PhaseSmoothing
+	if sm == 0 {
+		sm = DefaultPhaseSmoothing
+	}
+	if use&(dataset.T3Phi|dataset.VisPhi) == 0 || e.obj.PhaseSmoothing() != 0 || !(sm > 0) {
+		return nil, nil
+	}
+	e.obj.SetPhaseSmoothing(sm)
+	defer e.obj.SetPhaseSmoothing(0)
+	st := optim.Settings{PGTol: e.s.PGTol, Memory: lbfgsMemory, MaxIter: escapeIter}
+	res, err := optim.Minimize(optim.Problem{Func: e.f(mu), Lower: e.lower, Upper: e.upper}, x, st)
+	e.total += res.Iter
+	if err != nil {
+		return nil, err
+	}
+	if res.Iter == 0 {
+		return nil, nil
+	}
+	return res.X, nil
 }
 
 // feasible reports whether lower[i] <= x[i] <= upper[i] for every i; nil bounds hold
@@ -1161,23 +1217,37 @@ func reflect(img []float64, n int) []float64 {
 // move is cyclic so that no flux is lost; the faint pixels it carries across the edge make the
 // image slightly worse a fit, which is why Solve moves the image before its final run.
 func recentre(img []float64, n int) [2]int {
+	sh := centreShift(img, n)
+	if sh != [2]int{} {
+		shiftCyclic(img, n, sh)
+	}
+	return sh
+}
+
+// centreShift returns the move by whole pixels (along the x and y indices) that brings the
+// centroid of img (n × n, or several n × n planes one after the other, whose sum counts)
+// nearest to the centre pixel (n/2, n/2); zero when img has no flux.
+func centreShift(img []float64, n int) [2]int {
 	var f, cx, cy float64
-	for iy := 0; iy < n; iy++ {
-		for ix := 0; ix < n; ix++ {
-			v := img[iy*n+ix]
-			f += v
-			cx += v * float64(ix)
-			cy += v * float64(iy)
+	for k := 0; k+n*n <= len(img); k += n * n {
+		for iy := 0; iy < n; iy++ {
+			for ix := 0; ix < n; ix++ {
+				v := img[k+iy*n+ix]
+				f += v
+				cx += v * float64(ix)
+				cy += v * float64(iy)
+			}
 		}
 	}
 	if !(f > 0) {
 		return [2]int{}
 	}
-	dx := n/2 - int(math.Round(cx/f))
-	dy := n/2 - int(math.Round(cy/f))
-	if dx == 0 && dy == 0 {
-		return [2]int{}
-	}
+	return [2]int{n/2 - int(math.Round(cx/f)), n/2 - int(math.Round(cy/f))}
+}
+
+// shiftCyclic moves img (n × n) in place by sh pixels along the x and y indices, cyclically.
+func shiftCyclic(img []float64, n int, sh [2]int) {
+	dx, dy := sh[0], sh[1]
 	out := make([]float64, n*n)
 	for iy := 0; iy < n; iy++ {
 		jy := ((iy+dy)%n + n) % n
@@ -1186,7 +1256,6 @@ func recentre(img []float64, n int) [2]int {
 		}
 	}
 	copy(img, out)
-	return [2]int{dx, dy}
 }
 
 // lbfgsMemory is the number of correction pairs of the quasi-Newton method.

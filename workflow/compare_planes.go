@@ -29,7 +29,8 @@ type ComparePlane struct {
 	// figure of the plane (0 when they agree, and for one regularizer).
 	Spread float64 `json:"spread"`
 	// Common is Σ_p min_i x_i(p) over the regularizers' planes x_i (each of flux 1), each
-	// moved by the whole-pixel shift that aligned its gray image (CompareReport.Shifts):
+	// moved by the whole-pixel shift that aligns its cube to the first (the peak of the
+	// cross-correlation of the cubes' sums of planes, one shift for all planes):
 	// the share of the flux that every regularizer puts in the same place (1 when they
 	// agree; for two planes 1 − ½‖x₁ − x₂‖₁).
 	Common float64 `json:"common_flux"`
@@ -57,6 +58,19 @@ func comparePlanes(dir string, c *Comparison, ok []*CompareRun, rep *CompareRepo
 			return fmt.Errorf("compare: the cubes of %s and %s differ in their planes or grids", ok[0].Name, r.Name)
 		}
 	}
+	// Each cube is aligned as a whole: its planes' positions relative to one another are
+	// the data's, and its gray image, which the compare of gray images aligns, may sit
+	// elsewhere (SolveCube centres the cube after its sweeps).
+	sums := make([][]float64, len(ok))
+	for i, r := range ok {
+		sums[i] = make([]float64, n*n)
+		for _, p := range r.Cube.Planes {
+			for j, v := range p.Image {
+				sums[i][j] += v
+			}
+		}
+	}
+	_, shifts := alignImages(sums, n, n/4)
 	rep.Planes = make([]ComparePlane, planes)
 	for k := range planes {
 		pl := &rep.Planes[k]
@@ -73,7 +87,7 @@ func comparePlanes(dir string, c *Comparison, ok []*CompareRun, rep *CompareRepo
 			imgs[i] = p.Image
 		}
 		pl.Spread = spreadFigure(imgs)
-		pl.Common = commonFlux(imgs, rep.Shifts, n)
+		pl.Common = commonFlux(imgs, shifts, n)
 	}
 	if !noPNG {
 		var frames []preview.Frame

@@ -53,9 +53,10 @@ const plainEvery = 5 * time.Second
 
 // progressLine shows the state of a running reconstruction on one line of a
 // terminal, rewritten in place at most ten times a second and clipped to the
-// terminal's width, or as plain lines (at each new stage and at most every
-// plainEvery within one) when the output is not a terminal. A nil *progressLine
-// shows nothing.
+// terminal's width, or as plain lines when the output is not a terminal: the last
+// state of each stage when it ends (its final iteration, objective and χ²ᵣ, which a
+// log wants), and within a long stage at most one line every plainEvery. A nil
+// *progressLine shows nothing.
 type progressLine struct {
 	mu      sync.Mutex
 	w       io.Writer
@@ -64,6 +65,10 @@ type progressLine struct {
 	stage   string
 	started time.Time
 	dirty   bool
+	// pending is the plain text of the stage's latest state when it has not been
+	// written yet; stageAt is when the stage began.
+	pending string
+	stageAt time.Time
 }
 
 func newProgressLine(w io.Writer, quiet bool) *progressLine {
@@ -98,13 +103,26 @@ func (p *progressLine) report(pr recon.Progress) {
 		}
 		fmt.Fprintf(p.w, "\r\033[K%s", clip(text, terminalWidth(p.w)))
 		p.dirty = true
-	} else {
-		if !newStage && now.Sub(p.last) < plainEvery {
-			return
-		}
-		fmt.Fprintln(p.w, text)
+		p.last = now
+		return
 	}
-	p.last = now
+	if newStage {
+		p.flush()
+		p.stageAt = now
+	}
+	p.pending = text
+	if now.Sub(p.stageAt) >= plainEvery && now.Sub(p.last) >= plainEvery {
+		p.flush()
+		p.last = now
+	}
+}
+
+// flush writes the pending plain line, if any.
+func (p *progressLine) flush() {
+	if p.pending != "" {
+		fmt.Fprintln(p.w, p.pending)
+		p.pending = ""
+	}
 }
 
 // done ends the display, leaving the cursor on a fresh line.
@@ -118,6 +136,7 @@ func (p *progressLine) done() {
 		fmt.Fprint(p.w, "\r\033[K")
 	}
 	p.dirty = false
+	p.flush()
 }
 
 // typesText returns " (vis2 1.02 t3phi 0.98)", χ²ᵣ of each data type, or "" for fewer than

@@ -34,8 +34,9 @@ func TestClip(t *testing.T) {
 	}
 }
 
-// TestPlainProgressRate checks that progress written to a file or pipe gives one line when
-// a stage begins and no more while iterations follow quickly (at most one every plainEvery).
+// TestPlainProgressRate checks that progress written to a file or pipe gives one line per
+// stage while iterations follow quickly (at most one every plainEvery), and that this line
+// is the stage's last state (its final iteration), not its first.
 func TestPlainProgressRate(t *testing.T) {
 	var b bytes.Buffer
 	p := newProgressLine(&b, false)
@@ -52,6 +53,9 @@ func TestPlainProgressRate(t *testing.T) {
 	for i, stage := range []string{"amplitudes", "weight 1/14", "final"} {
 		if !strings.HasPrefix(lines[i], stage) {
 			t.Errorf("line %d = %q, want stage %q", i, lines[i], stage)
+		}
+		if !strings.Contains(lines[i], "iter  300") {
+			t.Errorf("line %d = %q, want the stage's last iteration, 300", i, lines[i])
 		}
 	}
 }
