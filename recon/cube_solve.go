@@ -49,6 +49,11 @@ type CubePlaneTerm struct {
 
 	rgrad []float64
 	val   float64
+	// data, when known is set, is the value of Obj at the plane's current image, left by the
+	// last evaluation of the plane's run (SolveCube): Eval without a gradient takes it
+	// instead of evaluating Obj again. Whoever sets known clears it before the image changes.
+	data  float64
+	known bool
 }
 
 // Eval returns F(x) and, when grad is non-nil, overwrites grad with ∂F/∂x.
@@ -149,10 +154,13 @@ func (c *CubeObjective) Eval(grad, x []float64) float64 {
 // eval is the bracket of plane k in the CubeObjective formula, computed as Solve's
 // objective (engine.f) computes it, operation for operation; xn receives x/fl.
 func (t *CubePlaneTerm) eval(grad, x, xn []float64, fl float64) float64 {
-	for i, xi := range x {
-		xn[i] = xi / fl
+	divide(xn, x, fl)
+	var v float64
+	if grad == nil && t.known {
+		v = t.data
+	} else {
+		v = t.Obj.Eval(grad, x)
 	}
-	v := t.Obj.Eval(grad, x)
 	if t.Reg != nil && t.Mu != 0 {
 		var rg []float64
 		if grad != nil {
@@ -355,6 +363,25 @@ func (r *planeReg) Eval(grad, x []float64) float64 {
 		}
 	}
 	return v
+}
+
+// evalDot is Eval with a gradient that also returns Σ_i grad_i·x_i, summed in the order of
+// the pixels (dotRegularizer): with SpectralSmoothness in the pass that adds its gradient,
+// otherwise in a pass of its own.
+func (r *planeReg) evalDot(grad, x []float64) (v, dot float64) {
+	if ps, ok := r.spectral.(*SpectralSmoothness); ok && r.eta != 0 {
+		a := 0.0
+		if r.spatial != nil && r.mu != 0 {
+			v, a = r.mu*r.spatial.Eval(grad, x), r.mu
+		}
+		sv, dot := ps.evalPlaneDot(grad, a, r.eta, x)
+		return v + r.eta*sv, dot
+	}
+	v = r.Eval(grad, x)
+	for i, g := range grad {
+		dot += g * x[i]
+	}
+	return v, dot
 }
 
 // SolveCube reconstructs an image cube. One plane is the gray image: SolveCube then returns
@@ -620,6 +647,16 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	for k, e := range engines {
 		e.curv = &curv[k]
 	}
+	// The data terms' value of each plane at the end of its run, when the run's last
+	// evaluation was at its result, serves the evaluations of the cube at the end of the
+	// sweep and, when nothing moves the planes after the sweeps, of the result, instead of
+	// a Forward per plane each (the same bits: the value does not depend on whether the
+	// gradient is asked for).
+	forget := func() {
+		for _, t := range c.Planes {
+			t.known = false
+		}
+	}
 	sweeps := func(eta float64, label string) error {
 		c.Eta = eta
 		for k, r := range regs {
@@ -627,6 +664,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			curv[k].Reset()
 		}
 		res.Converged = false
+		forget() // the planes may have been moved since (cubeFactor)
 		prev := c.Eval(nil, x)
 		for sweep := range CubeSweeps {
 			last = last[:0]
@@ -675,15 +713,14 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				if r.Stalled {
 					curv[k].Reset()
 				}
+				c.Planes[k].data, c.Planes[k].known = e.data, r.LastAtX && e.dataOK
 				last = append(last, r)
 				copy(xk, r.X)
 				fl := 0.0
 				for _, v := range xk {
 					fl += v
 				}
-				for i, v := range xk {
-					cube[k*npix+i] = v / fl
-				}
+				divide(cube[k*npix:(k+1)*npix], xk, fl)
 			}
 			f := c.Eval(nil, x)
 			if prev-f <= CubeSweepTol*math.Max(math.Abs(f), 1) {
@@ -747,6 +784,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			}
 			eta *= 10
 		}
+		forget()
 		copy(x, keptX)
 		copy(cube, keptCube)
 		c.Eta, res.Converged = keptEta, keptConv
@@ -765,6 +803,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			if err := cubeFactor(res, x, cube, &last, c, regs, mu0, res.TotalIter-before, planeChi2r, sweeps); err != nil {
 				return nil, err
 			}
+			forget() // the chosen factor's planes are restored from a copy
 		}
 	}
 	res.SpectralWeight = c.Eta
@@ -779,6 +818,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the cube did not settle in %d sweeps over the planes", CubeSweeps))
 	}
 	if sh := centreCube(c, cp, x, cube, g.N); sh != [2]int{} {
+		forget() // the planes moved: their data values are evaluated again
 		res.Shift = sh
 		res.Notices = append(res.Notices, fmt.Sprintf("cube moved by (%d, %d) pixels after its last sweep to put the centroid of its planes at the centre, all planes alike: V² and closure phases do not fix the position; the figures are those of the moved cube", sh[0], sh[1]))
 	}

@@ -223,6 +223,34 @@ func (r *SpectralSmoothness) evalPlane(grad []float64, a, b float64, x []float64
 	return c*s + r.cst
 }
 
+// evalPlaneDot is evalPlane with a gradient, that also returns Σ_i grad_i·x_i of the gradient
+// it writes, summed in the order of the pixels in the same pass (planeReg.evalDot).
+func (r *SpectralSmoothness) evalPlaneDot(grad []float64, a, b float64, x []float64) (v, dot float64) {
+	c := float64(r.nb)
+	m := r.mid[:len(x)]
+	grad = grad[:len(x)]
+	g := 2 * c * b
+	s := 0.0
+	if a == 0 {
+		for i, xi := range x {
+			d := xi - m[i]
+			s += d * d
+			gi := g * d
+			grad[i] = gi
+			dot += gi * xi
+		}
+	} else {
+		for i, xi := range x {
+			d := xi - m[i]
+			s += d * d
+			gi := a*grad[i] + g*d
+			grad[i] = gi
+			dot += gi * xi
+		}
+	}
+	return c*s + r.cst, dot
+}
+
 // prepare sums the squares of the other planes, pixel by pixel.
 func (r *JointSparsity) prepare(cube []float64, k int) {
 	n := r.NPix

@@ -217,6 +217,10 @@ type engine struct {
 	// single, when set, ends a run at the relative-change test without the restarts that
 	// confirm it (SolveCube, whose test across sweeps stands in for them).
 	single bool
+	// data is the value of the data terms at the last evaluation of the objective, dataOK
+	// whether that evaluation reached them (SolveCube reuses it at a run's end).
+	data   float64
+	dataOK bool
 }
 
 func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
@@ -260,6 +264,7 @@ func newEngine(p Problem, s Settings, g GridChoice) (*engine, error) {
 func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 	return func(grad, x []float64) float64 {
 		fl := 1.0
+		e.dataOK = false
 		if e.rho > 0 {
 			// The flux, summed in the pass that gives the model its image (eval).
 			fl = e.obj.m.shift(x)
@@ -286,20 +291,24 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 			xn := x
 			if e.rho > 0 {
 				xn = e.xn
-				for i, xi := range x {
-					xn[i] = xi / fl
-				}
+				divide(xn, x, fl)
 			}
-			r = e.reg.Eval(rg, xn)
-			if grad != nil {
-				// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
-				c := 0.0
-				if e.rho > 0 {
-					for i, g := range rg {
-						c += g * xn[i]
-					}
-				}
+			if dr, ok := e.reg.(dotRegularizer); ok && grad != nil && e.rho > 0 {
+				var c float64
+				r, c = dr.evalDot(rg, xn)
 				ex.s, ex.c, ex.r = mu/fl, c, rg
+			} else {
+				r = e.reg.Eval(rg, xn)
+				if grad != nil {
+					// ∂R(x/F)/∂x_p = (g_p − Σ_q g_q x_q/F)/F.
+					c := 0.0
+					if e.rho > 0 {
+						for i, g := range rg {
+							c += g * xn[i]
+						}
+					}
+					ex.s, ex.c, ex.r = mu/fl, c, rg
+				}
 			}
 		}
 		df := fl - 1
@@ -309,6 +318,7 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 		var v float64
 		if e.rho > 0 {
 			v = e.obj.eval(grad, fl, &ex)
+			e.data, e.dataOK = v, true
 		} else {
 			v = e.obj.Eval(grad, x) // the flux is not summed above
 			if grad != nil && ex.r != nil {
@@ -325,6 +335,13 @@ func (e *engine) f(mu float64) func(grad, x []float64) float64 {
 		}
 		return v
 	}
+}
+
+// dotRegularizer is a regularizer that returns with its value and gradient the sum
+// Σ_i grad_i·x_i that the engine's objective needs, summed in the order of the pixels as the
+// engine sums it, so the same bits, in the pass that writes the gradient (planeReg).
+type dotRegularizer interface {
+	evalDot(grad, x []float64) (v, dot float64)
 }
 
 // runOut is the outcome of one minimisation at a fixed weight.
@@ -368,8 +385,24 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	if ftol == 0 {
 		ftol = DefaultFTol
 	}
-	f := e.f(mu)
-	f0 := f(nil, x0)
+	// The objective at the start is the value of optim's first evaluation, which is at x0
+	// when x0 is within the bounds (optim projects it first), as every start of the engine
+	// is: not a separate evaluation without gradient. The value does not depend on whether
+	// the gradient is asked for.
+	obj := e.f(mu)
+	f0, first := math.NaN(), feasible(x0, e.lower, e.upper)
+	f := obj
+	if first {
+		f = func(grad, x []float64) float64 {
+			v := obj(grad, x)
+			if first {
+				f0, first = v, false
+			}
+			return v
+		}
+	} else {
+		f0 = obj(nil, x0)
+	}
 	hist := make([]float64, 0, maxIter+1)
 	var types []TermChi2
 	var segStart int   // index in hist where the current segment starts
@@ -400,7 +433,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 	}
 	x := x0
 	var out runOut
-	out.F = f0
+	out.F = f0 // NaN until the first evaluation, where x0 is feasible; first read after it
 	restarts := 0
 	var stuck *runOut // the end of the run before an escape
 	for {
@@ -469,8 +502,15 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 		restarts++
 		e.curv.Reset()
 	}
+	if first {
+		// No run of optim (no iterations left): evaluate the start here.
+		f0, first = obj(nil, x0), false
+		out.F = f0
+	}
 	if stuck != nil && !(out.F < stuck.F) {
+		// The end before the escape is kept; the objective was evaluated elsewhere since.
 		out.Result, out.Converged = stuck.Result, true
+		out.LastAtX = false
 	}
 	out.Iter, out.Hist = len(hist), hist
 	out.Tail = math.NaN()
@@ -548,6 +588,17 @@ func (e *engine) nearNull(x []float64, mu float64) bool {
 		see(r)
 	}
 	return lo < nullRatio*nullRatio*hi
+}
+
+// feasible reports whether lower[i] <= x[i] <= upper[i] for every i; nil bounds hold
+// nothing.
+func feasible(x, lower, upper []float64) bool {
+	for i, v := range x {
+		if (lower != nil && v < lower[i]) || (upper != nil && v > upper[i]) {
+			return false
+		}
+	}
+	return true
 }
 
 // measure evaluates the objective at x and returns total χ²ᵣ and R(x).

@@ -34,7 +34,12 @@ func BenchmarkAccept(b *testing.B) {
 // general loop, run with upper bounds of +Inf, which hold nothing: the pair, the step, the
 // projected-gradient norm and the free runs.
 func TestAcceptLowerOnly(t *testing.T) {
-	const n = 1000
+	for _, n := range []int{1000, 1003, 11} {
+		acceptLowerOnly(t, n)
+	}
+}
+
+func acceptLowerOnly(t *testing.T, n int) {
 	rnd := rand.New(rand.NewPCG(3, 4))
 	lower := make([]float64, n)
 	upper := make([]float64, n)
@@ -93,6 +98,91 @@ func TestAcceptLowerOnly(t *testing.T) {
 	for i := range n {
 		if math.Float64bits(a.s[i]) != math.Float64bits(b.s[i]) || math.Float64bits(a.y[i]) != math.Float64bits(b.y[i]) {
 			t.Fatalf("pair differs at %d", i)
+		}
+	}
+}
+
+// trialSetup returns a run on n variables with lower bounds (and upper bounds of +Inf when
+// inf is set, which hold nothing), a third of x at its bound and a direction d that pushes
+// half of those into it.
+func trialSetup(n int, inf bool, seed uint64) *run {
+	rnd := rand.New(rand.NewPCG(seed, 5))
+	lower := make([]float64, n)
+	var upper []float64
+	if inf {
+		upper = make([]float64, n)
+	}
+	r := &run{p: Problem{Lower: lower, Upper: upper}, w: newWorkspace(n, DefaultMemory)}
+	w := r.w
+	for i := range n {
+		lower[i] = float64(rnd.IntN(3)) - 1
+		if inf {
+			upper[i] = math.Inf(1)
+		}
+		w.x[i] = lower[i]
+		if rnd.IntN(3) > 0 {
+			w.x[i] += rnd.Float64()
+		}
+		w.d[i] = rnd.Float64() - 0.5
+		w.g[i] = rnd.Float64() - 0.4
+	}
+	return r
+}
+
+// BenchmarkTrial measures the trial point's pass of the line search on 96² variables:
+// "lower" with lower bounds alone (the loop for images), "general" with upper bounds of
+// +Inf added, which run the general loop on the same numbers.
+func BenchmarkTrial(b *testing.B) {
+	for _, inf := range []bool{false, true} {
+		name := "lower"
+		if inf {
+			name = "general"
+		}
+		b.Run(name, func(b *testing.B) {
+			r := trialSetup(96*96, inf, 1)
+			for b.Loop() {
+				if moved, _ := r.trial(0.5); !moved {
+					b.Fatal("nothing moved")
+				}
+			}
+		})
+	}
+}
+
+// TestTrialLowerOnly checks that the trial pass for lower bounds alone gives the bits of its
+// general loop, run with upper bounds of +Inf: the trial point, whether it moved and the
+// linear decrease, for steps that move variables, and for a zero step and a step into the
+// bounds that move none.
+func TestTrialLowerOnly(t *testing.T) {
+	for _, n := range []int{1000, 1003} {
+		trialLowerOnly(t, n)
+	}
+}
+
+func trialLowerOnly(t *testing.T, n int) {
+	for _, alpha := range []float64{0.7, 1e-3, 0, 1e300} {
+		a, b := trialSetup(n, false, 9), trialSetup(n, true, 9)
+		if alpha == 1e300 {
+			// Every variable at its bound, every direction into it: nothing moves.
+			for _, r := range []*run{a, b} {
+				copy(r.w.x, r.p.Lower)
+				for i := range r.w.d {
+					r.w.d[i] = -math.Abs(r.w.d[i]) - 1
+				}
+			}
+		}
+		ma, da := a.trial(alpha)
+		mb, db := b.trial(alpha)
+		if ma != mb || math.Float64bits(da) != math.Float64bits(db) {
+			t.Fatalf("%d variables, step %g: lower only moved %v, decrease %g; general %v, %g", n, alpha, ma, da, mb, db)
+		}
+		if want := alpha == 0.7 || alpha == 1e-3; ma != want {
+			t.Fatalf("step %g: moved %v, want %v", alpha, ma, want)
+		}
+		for i := range n {
+			if math.Float64bits(a.w.xt[i]) != math.Float64bits(b.w.xt[i]) {
+				t.Fatalf("step %g: trial point differs at %d: %g vs %g", alpha, i, a.w.xt[i], b.w.xt[i])
+			}
 		}
 	}
 }

@@ -79,7 +79,7 @@ func BenchmarkMinimizeBounded(b *testing.B) {
 // as cheap as possible: a separable quadratic with half of the bounds
 // active, run for a fixed number of iterations.
 func BenchmarkIterationOverhead(b *testing.B) {
-	for _, n := range []int{128 * 128, 256 * 256} {
+	for _, n := range []int{96 * 96, 128 * 128, 256 * 256} {
 		for _, m := range []int{5, 10} {
 			for _, pattern := range []string{"coherent", "fragmented"} {
 				b.Run(fmt.Sprintf("n=%d/memory=%d/%s", n, m, pattern), func(b *testing.B) {

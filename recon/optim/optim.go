@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 )
 
 // Problem is a smooth objective with optional simple bounds.
@@ -124,6 +125,10 @@ type Result struct {
 	// Scale is the scale γ = s·y/y·y of the newest correction pair at the end (0 when there
 	// was none), for Settings.Scale of a warm-started run.
 	Scale float64
+	// LastAtX reports that the last call of Func was at X, so that what Func keeps of its
+	// last evaluation holds for X (false when the run ended after trial points that were
+	// not accepted).
+	LastAtX bool
 }
 
 // ErrNonFinite is wrapped by the error Minimize returns when Func yields
@@ -170,6 +175,7 @@ type workspace struct {
 	q      []float64   // two-loop recursion vector; accept's new s, then swapped into the pairs
 	ynew   []float64   // accept's new y, then swapped into the pairs
 	runs   []int       // free variables as half-open index ranges
+	masks  []uint8     // accept's free variables, four bits per byte (acceptLowerAVX)
 	s, y   [][]float64 // correction pairs, ring buffer
 	alpha  []float64
 	sy     []float64
@@ -194,6 +200,7 @@ func newWorkspace(n, m int) *workspace {
 		w.y[i] = next()
 	}
 	w.runs = make([]int, 0, n+1)
+	w.masks = make([]uint8, n/4)
 	w.alpha = make([]float64, m)
 	w.sy = make([]float64, m)
 	return w
@@ -275,6 +282,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		res.Status = st
 		res.ProjGradNorm = r.pgnorm
 		res.Scale = r.gamma
+		res.LastAtX = r.lastAtX
 		s.Resume.keep(r)
 		return res, err
 	}
@@ -285,7 +293,7 @@ func Minimize(p Problem, x0 []float64, s Settings) (Result, error) {
 		r.pgnorm = math.NaN()
 		return finish(NotTerminated, err)
 	}
-	r.f = f
+	r.f, r.lastAtX = f, true
 	r.pgnorm = r.projGradNorm(w.x, w.g)
 	r.nfree = r.setFree(w.x, w.g)
 	if pgtol > 0 && r.pgnorm <= pgtol {
@@ -337,6 +345,8 @@ type run struct {
 	evals  int
 	gamma  float64 // scale of the initial inverse Hessian, s.y/y.y of the newest pair
 	nfree  int     // number of free variables at x, whose runs are in w.runs (setFree)
+	// lastAtX: the last call of Func was at x (Result.LastAtX).
+	lastAtX bool
 }
 
 // eval calls Func and checks that value and gradient are finite.
@@ -352,6 +362,7 @@ func (r *run) eval(grad, x []float64) (float64, error) {
 // left to checkGrad, or to the sum over it that accept computes anyway.
 func (r *run) evalValue(grad, x []float64) (float64, error) {
 	r.evals++
+	r.lastAtX = false
 	f := r.p.Func(grad, x)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return f, &NonFiniteError{Iter: r.current(), Eval: r.evals, Value: f, GradIndex: -1}
@@ -783,31 +794,12 @@ func (r *run) firstStep() float64 {
 // pairs are updated.
 func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 	w := r.w
-	x, g, xt, gt, d := w.x, w.g, w.xt, w.gt, w.d
-	lo, hi := r.p.Lower, r.p.Upper
 	for range maxBacktrack {
-		// The trial point P(x + alpha d) and the linear decrease g.(xt - x),
-		// negative for a descent step, in one pass.
-		var moved bool
-		var decr float64
-		for i, xi := range x {
-			v := xi + alpha*d[i]
-			if lo != nil && v < lo[i] {
-				v = lo[i]
-			}
-			if hi != nil && v > hi[i] {
-				v = hi[i]
-			}
-			xt[i] = v
-			if v != xi {
-				moved = true
-				decr += g[i] * (v - xi)
-			}
-		}
+		moved, decr := r.trial(alpha)
 		if !moved {
 			return 0, false, nil
 		}
-		ft, err := r.evalValue(gt, xt)
+		ft, err := r.evalValue(w.gt, w.xt)
 		if err != nil {
 			return 0, false, err
 		}
@@ -815,7 +807,7 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 			step, err := r.accept(ft)
 			return step, err == nil, err
 		}
-		if err := r.checkGrad(gt, ft); err != nil {
+		if err := r.checkGrad(w.gt, ft); err != nil {
 			return 0, false, err
 		}
 		// Quadratic interpolation of phi(a) = f(x + a d) from phi(0), phi'(0) and phi(alpha).
@@ -827,6 +819,136 @@ func (r *run) lineSearch(alpha, gd float64) (float64, bool, error) {
 		alpha = min(max(next, 0.1*alpha), 0.5*alpha)
 	}
 	return 0, false, nil
+}
+
+// trial sets the trial point xt = P(x + alpha d) and returns whether it differs from x and
+// the linear decrease g.(xt - x), negative for a descent step, in one pass.
+func (r *run) trial(alpha float64) (moved bool, decr float64) {
+	w := r.w
+	x, g, xt, d := w.x, w.g, w.xt, w.d
+	lo, hi := r.p.Lower, r.p.Upper
+	xs := x
+	if lo != nil && hi == nil {
+		// Lower bounds only, the case of images: the loop below without the tests of the
+		// missing bound, and without a branch on v != x_i. A variable that did not move
+		// adds g_i·0 = ±0 to the sum, which leaves it unchanged (g is finite), so the
+		// sum has the bits of the general loop's; it is zero when nothing moved, and
+		// only then does a second pass look whether anything did.
+		lo, d, g, xt := lo[:len(x)], d[:len(x)], g[:len(x)], xt[:len(x)]
+		i0 := 0
+		if hasAcceptAVX {
+			// Four at a time, the same operations in the same order (trialLowerAVX).
+			i0 = len(x) &^ 3
+			if i0 > 0 {
+				decr = trialLowerAVX(xt, x, d, g, lo, alpha)
+			}
+		}
+		for i := i0; i < len(x); i++ {
+			xi := x[i]
+			v := xi + alpha*d[i]
+			if v < lo[i] {
+				v = lo[i]
+			}
+			xt[i] = v
+			decr += g[i] * (v - xi)
+		}
+		moved = decr != 0
+		if !moved {
+			for i, xi := range x {
+				if xt[i] != xi {
+					moved = true
+					break
+				}
+			}
+		}
+		xs = x[:0] // done: the general loop below has nothing left
+	}
+	for i, xi := range xs {
+		v := xi + alpha*d[i]
+		if lo != nil && v < lo[i] {
+			v = lo[i]
+		}
+		if hi != nil && v > hi[i] {
+			v = hi[i]
+		}
+		xt[i] = v
+		if v != xi {
+			moved = true
+			decr += g[i] * (v - xi)
+		}
+	}
+	return moved, decr
+}
+
+// acceptLower is accept's pass for lower bounds alone, the case of images: the pair s =
+// xt − x, y = gt − g, its s.y, the step's and the projected gradient's infinity norms, and
+// the free runs of the new point, written to runs (of room len(x)+1), with their number and
+// whether the last one is open. Where the processor has AVX, acceptLowerAVX does the
+// variables four at a time and leaves their free bits in masks (of room len(x)/4), from which
+// the runs are read; the rest are done here. A function of its own, so that the loop's
+// values stay in registers. A run starts or ends at i when free changes: i is written at the
+// end of runs every time and kept only then, without a branch that scattered variables at
+// the bound would mispredict.
+func acceptLower(s, y, x, xt, g, gt, lo []float64, runs []int, masks []uint8) (sy, step, pg float64, nr int, in bool) {
+	n := len(x)
+	s, y, xt, g, gt, lo, runs = s[:n], y[:n], xt[:n], g[:n], gt[:n], lo[:n], runs[:n+1]
+	i0 := 0
+	if hasAcceptAVX && n >= 4 {
+		// Four at a time, then the free runs from the bytes of free bits: a run starts or ends
+		// at bit j where the bit differs from the one before (from in for bit 0).
+		var out [9]float64
+		masks = masks[:n/4]
+		acceptLowerAVX(s, y, x, xt, g, gt, lo, masks, &out)
+		sy = out[0]
+		for _, a := range out[1:5] {
+			if a > step {
+				step = a
+			}
+		}
+		for _, a := range out[5:9] {
+			if a > pg {
+				pg = a
+			}
+		}
+		prev := uint8(0)
+		for q, m := range masks {
+			t := (m ^ (m<<1 | prev)) & 15
+			for t != 0 {
+				runs[nr] = 4*q + bits.TrailingZeros8(t)
+				nr++
+				t &= t - 1
+			}
+			prev = m >> 3
+		}
+		in = prev != 0
+		i0 = len(masks) * 4
+	}
+	for i := i0; i < n; i++ {
+		xi := x[i]
+		xn, gn, l := xt[i], gt[i], lo[i]
+		si, yi := xn-xi, gn-g[i]
+		s[i], y[i] = si, yi
+		sy += si * yi
+		if a := math.Abs(si); a > step {
+			step = a
+		}
+		v := xn - gn
+		if v < l {
+			v = l
+		}
+		if a := math.Abs(v - xn); a > pg {
+			pg = a
+		}
+		free := !(xn <= l && gn > 0)
+		edge := 0
+		if free != in {
+			edge = 1
+		}
+		runs[nr] = i
+		nr += edge
+		in = free
+	}
+	return sy, step, pg, nr, in
 }
 
 // accept moves to the trial point, stores the correction pair when its
@@ -856,30 +978,14 @@ func (r *run) accept(ft float64) (float64, error) {
 	if lo != nil && hi == nil {
 		// Lower bounds only, the case of images: the loop below without the
 		// tests of the missing bounds.
-		lo := lo[:len(x)]
-		for i, xi := range x {
-			xn, gn, l := xt[i], gt[i], lo[i]
-			si, yi := xn-xi, gn-g[i]
-			s[i], y[i] = si, yi
-			sy += si * yi
-			if a := math.Abs(si); a > step {
-				step = a
-			}
-			v := xn - gn
-			if v < l {
-				v = l
-			}
-			free := !(xn <= l && gn > 0)
-			if a := math.Abs(v - xn); a > pg {
-				pg = a
-			}
-			if free != in {
-				runs = append(runs, i)
-				in = free
-			}
-			if free {
-				nf++
-			}
+		var nr int
+		sy, step, pg, nr, in = acceptLower(s, y, x, xt, g, gt, lo, runs[:len(x)+1], w.masks)
+		runs = runs[:nr]
+		for k := 0; k+1 < len(runs); k += 2 {
+			nf += runs[k+1] - runs[k]
+		}
+		if in {
+			nf += len(x) - runs[len(runs)-1]
 		}
 		x = x[:0] // done: the general loop below has nothing left
 	}
@@ -949,7 +1055,7 @@ func (r *run) accept(ft float64) (float64, error) {
 	}
 	w.x, w.xt = w.xt, w.x
 	w.g, w.gt = w.gt, w.g
-	r.f = ft
+	r.f, r.lastAtX = ft, true
 	r.pgnorm = pg
 	return step, nil
 }

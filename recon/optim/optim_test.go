@@ -720,3 +720,41 @@ func TestNonFiniteGradientFolded(t *testing.T) {
 		}
 	}
 }
+
+// TestLastAtX checks Result.LastAtX against the point of the last call of Func: true and that
+// point equal to X for a run that stops after an accepted step, false for a run whose last
+// trial points were rejected (a gradient of the wrong sign, so no step along it decreases
+// the objective and the line search fails).
+func TestLastAtX(t *testing.T) {
+	for _, wrong := range []bool{false, true} {
+		last := make([]float64, 3)
+		sign := 1.0
+		if wrong {
+			sign = -1
+		}
+		fn := func(grad, x []float64) float64 {
+			copy(last, x)
+			f := 0.0
+			for i, v := range x {
+				d := v - float64(i+1)
+				f += d * d
+				grad[i] = sign * 2 * d
+			}
+			return f
+		}
+		res, err := Minimize(Problem{Func: fn, Lower: make([]float64, 3)}, []float64{5, 5, 5}, Settings{MaxIter: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		same := true
+		for i := range last {
+			same = same && math.Float64bits(last[i]) == math.Float64bits(res.X[i])
+		}
+		if res.LastAtX != !wrong || (res.LastAtX && !same) {
+			t.Fatalf("wrong gradient %v: status %v, LastAtX %v, last point %v, X %v", wrong, res.Status, res.LastAtX, last, res.X)
+		}
+		if wrong && (res.Status != LineSearchFailure || same) {
+			t.Fatalf("wrong gradient: status %v, last point %v, X %v", res.Status, last, res.X)
+		}
+	}
+}
