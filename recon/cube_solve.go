@@ -285,10 +285,9 @@ type CubeResult struct {
 	WeightFactor         float64
 	WeightPath           []CubeWeightStep
 	Chi2rFloor, Chi2rAim float64
-	// Shift is the whole-pixel move (along the x and y indices) of every plane after the
-	// last sweep that put the centroid of the planes' sum at the centre (centreCube); zero
-	// when the cube was not moved.
-	Shift [2]int
+	// Moves counts the sets of sweeps before which the cube was moved by whole pixels to
+	// put the centroid of its planes' sum at the centre (centreCube).
+	Moves int
 }
 
 // DefaultSpectralSmooth is the constant c of the automatic weight of SpectralSmoothness,
@@ -665,6 +664,14 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		}
 		res.Converged = false
 		forget() // the planes may have been moved since (cubeFactor)
+		// The sweeps carry the cube away from the centre (V² and closure phases do not
+		// fix the position): it is moved back before each set of them, so that the runs
+		// that follow fit the moved planes, as Solve does before its final run. Moving the
+		// result after its last sweep instead carried faint flux across the edges and left
+		// an overfitted cube at χ²ᵣ 0.74 where it had fitted at 0.58.
+		if sh := centreCube(c, cp, x, cube, g.N); sh != [2]int{} {
+			res.Moves++
+		}
 		prev := c.Eval(nil, x)
 		for sweep := range CubeSweeps {
 			last = last[:0]
@@ -817,10 +824,8 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		res.StopReason = fmt.Sprintf("%d sweeps over the planes, the objective still falling", CubeSweeps)
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the cube did not settle in %d sweeps over the planes", CubeSweeps))
 	}
-	if sh := centreCube(c, cp, x, cube, g.N); sh != [2]int{} {
-		forget() // the planes moved: their data values are evaluated again
-		res.Shift = sh
-		res.Notices = append(res.Notices, fmt.Sprintf("cube moved by (%d, %d) pixels after its last sweep to put the centroid of its planes at the centre, all planes alike: V² and closure phases do not fix the position; the figures are those of the moved cube", sh[0], sh[1]))
+	if res.Moves > 0 {
+		res.Notices = append(res.Notices, fmt.Sprintf("cube moved by whole pixels, all planes alike, before %d of its sets of sweeps to keep the centroid of its planes at the centre: V² and closure phases do not fix the position", res.Moves))
 	}
 	// The figures of the final cube.
 	res.Objective = c.Eval(nil, x)

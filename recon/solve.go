@@ -527,7 +527,7 @@ func (e *engine) run(x0 []float64, mu float64, use dataset.DataType, maxIter int
 
 // escapeIter is the largest number of iterations of an escape run (common practice, no
 // source).
-const escapeIter = 20
+const escapeIter = 50
 
 // escape moves x off a point where the exact phase terms stop the optimizer: where a model
 // bispectrum (or visibility) is almost zero, its phase jumps under any step and the
@@ -549,7 +549,7 @@ func (e *engine) escape(x []float64, mu float64, use dataset.DataType) ([]float6
 	}
 	e.obj.SetPhaseSmoothing(sm)
 	defer e.obj.SetPhaseSmoothing(0)
-	st := optim.Settings{PGTol: e.s.PGTol, Memory: lbfgsMemory, MaxIter: escapeIter}
+	st := optim.Settings{FTol: -1, PGTol: e.s.PGTol, Memory: lbfgsMemory, MaxIter: escapeIter}
 	res, err := optim.Minimize(optim.Problem{Func: e.f(mu), Lower: e.lower, Upper: e.upper}, x, st)
 	e.total += res.Iter
 	if err != nil {
