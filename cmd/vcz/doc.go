@@ -74,8 +74,8 @@ and -bootstrap-collect merges them (making any missing) into the maps.
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
 documents every plan key (each channel is averaged over its band unless the
-plan says smearing = false; chromatic models are taken at the channel centres;
-write "visdiff" adds differential amplitudes and phases), -help-model the model
+plan says smearing = false, chromatic models with their spectra across the
+band; write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
 indices, rotating discs emitting a line).
 
