@@ -165,7 +165,8 @@ Every reconstruction (image, demo, compare, batch) is judged once it is
 done: one warning for each reason to doubt it — χ²ᵣ more than 1.25 times
 its expected value, one data type fitted far worse than the others, the
 final run stalled or stopped at its iteration limit (-iter) while the
-objective still fell, an automatic weight at the edge of the searched range,
+objective still fell (for a cube, its planes' runs in the last sweep over
+the planes, named), an automatic weight at the edge of the searched range,
 or several starts that ended far apart — each saying what to try. The image
 is written all the same. The warnings go
 
