@@ -1,7 +1,9 @@
 package simulate
 
 import (
+	"cmp"
 	"fmt"
+	"maps"
 	"math"
 	"slices"
 
@@ -99,9 +101,12 @@ func bandAverage(sky Sky, vis []complex128, u, v, rel []float64) error {
 // panel has bandNodes nodes for the fringe turn across it. A 16-node rule integrates a
 // Gaussian over a panel of 4σ to 1e-15 of its integral (measured against the error function),
 // and beyond 9σ the line is below 3e-18 of its peak.
+// A channel is cut into at most maxLinePanels panels per disc; a line narrower than that
+// allows (its width below about a thousandth of the band) is refused.
 const (
-	lineReach = 9
-	lineSpan  = 4
+	lineReach     = 9
+	lineSpan      = 4
+	maxLinePanels = 4096
 )
 
 // extent is the radius (rad) about the phase centre that holds the sky's flux: the
@@ -119,10 +124,10 @@ func (s *ChromaticSky) extent() float64 {
 
 // bandNodesAt returns the quadrature nodes t and weights w on [−1/2, 1/2] of a channel of
 // centre lambda and width band (m) whose fringes turn by up to phi radians across it.
-func (s *ChromaticSky) bandNodesAt(lambda, band, phi float64) (t, w []float64) {
+func (s *ChromaticSky) bandNodesAt(lambda, band, phi float64) (t, w []float64, err error) {
 	r := band / lambda
 	cuts := []float64{-0.5, 0.5}
-	for _, d := range s.Discs {
+	for k, d := range s.Discs {
 		sig := d.Line * d.Width / SpeedOfLight
 		dv := d.Velocity * math.Sin(d.Inc) / SpeedOfLight
 		lo := (d.Line*(1-dv)-lineReach*sig)/lambda - 1
@@ -131,7 +136,11 @@ func (s *ChromaticSky) bandNodesAt(lambda, band, phi float64) (t, w []float64) {
 		if !(lo < hi) {
 			continue
 		}
-		m := int(math.Ceil((hi - lo) / (lineSpan * sig / lambda / r)))
+		mf := math.Ceil((hi - lo) / (lineSpan * sig / lambda / r))
+		if !(mf <= maxLinePanels) {
+			return nil, nil, fmt.Errorf("chromatic model: disc %d: its line (width %.3g km/s) is too narrow to average over the channel at %.6g µm, %.3g nm wide; set smearing = false in the plan or widen the line", k+1, d.Width/1e3, lambda*1e6, band*1e9)
+		}
+		m := int(mf)
 		for i := range m + 1 {
 			cuts = append(cuts, lo+(hi-lo)*float64(i)/float64(m))
 		}
@@ -145,7 +154,7 @@ func (s *ChromaticSky) bandNodesAt(lambda, band, phi float64) (t, w []float64) {
 		t, w = append(t, make([]float64, n)...), append(w, make([]float64, n)...)
 		quad.Legendre{}.FixedLocations(t[k:], w[k:], a, b)
 	}
-	return t, w
+	return t, w, nil
 }
 
 // bandAverage sets vis[i] to the band average V̄ of the sky at (u[i], v[i]) (cycles/rad) in
@@ -174,8 +183,14 @@ func (s *ChromaticSky) bandAverage(vis []complex128, u, v, lambda, band []float6
 		r := band[i] / lambda[i]
 		q.phi = math.Max(q.phi, 2*math.Pi*math.Hypot(u[i], v[i])*radius*r/(1-r*r/4))
 	}
-	for ch, q := range rules {
-		q.t, q.w = s.bandNodesAt(ch.lambda, ch.band, q.phi)
+	for _, ch := range slices.SortedFunc(maps.Keys(rules), func(a, b channel) int {
+		return cmp.Or(cmp.Compare(a.lambda, b.lambda), cmp.Compare(a.band, b.band))
+	}) {
+		q := rules[ch]
+		var err error
+		if q.t, q.w, err = s.bandNodesAt(ch.lambda, ch.band, q.phi); err != nil {
+			return err
+		}
 	}
 	for i := range u {
 		q := rules[channel{lambda[i], band[i]}]

@@ -291,3 +291,22 @@ func TestChromaticBandAverageGray(t *testing.T) {
 		t.Errorf("gray components as a chromatic sky differ from the gray model by %.3g", worst)
 	}
 }
+
+// A line far narrower than the band it is averaged over would need more quadrature panels
+// than maxLinePanels: the run is refused, naming the disc and the channel.
+func TestChromaticBandAverageNarrowLine(t *testing.T) {
+	sky, err := ParseChromatic([]byte(strings.Replace(bandSky, "width = 15", "width = 0.001", 1)), "band.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, _ := Demo()
+	p.Smearing = SmearDefault
+	p.Wavelengths, p.Bandwidths = []float64{2.1661e-6}, []float64{0.2e-6}
+	if _, _, err := Run(p, sky); err == nil || !strings.Contains(err.Error(), "disc 1: its line (width 0.001 km/s) is too narrow") || !strings.Contains(err.Error(), "2.1661 µm") {
+		t.Errorf("error %v", err)
+	}
+	p.Smearing = SmearOff
+	if _, _, err := Run(p, sky); err != nil {
+		t.Errorf("at the channel centres: %v", err)
+	}
+}
