@@ -300,7 +300,8 @@ type CubeResult struct {
 const DefaultSpectralSmooth = 1.0
 
 // DefaultSpectralJoint is the constant c of the automatic weight of JointSparsity,
-// η = c·μ·R(x̄)/L(x̄, …, x̄) (SolveCube; common practice, no source).
+// η = c·α·μ·R(x̄)/L(x̄, …, x̄), α the factor of the planes' spatial weights (SolveCube; common
+// practice, no source).
 const DefaultSpectralJoint = 1.0
 
 // CubeSweeps is the largest number of sweeps over the planes in SolveCube; the sweeps stop
@@ -401,8 +402,9 @@ func (r *planeReg) evalDot(grad, x []float64) (v, dot float64) {
 //  3. The spectral weight, unless given: for SpectralSmoothness η = c·N̄/‖x̄‖² with N̄ the
 //     mean N_k, so that two neighbouring planes that differ by a fraction δ of the gray
 //     image (in the ℓ2 norm) cost c·N̄·δ², as much as the χ² of a plane rising by δ²·c
-//     times its expected value; for JointSparsity η = c·μ·R(x̄)/L(x̄, …, x̄), so that at the
-//     start the spectral term weighs c times the planes' spatial terms together. The
+//     times its expected value; for JointSparsity η = c·α·μ·R(x̄)/L(x̄, …, x̄), so that at the
+//     start the spectral term weighs c times the planes' spatial terms together, whatever
+//     factor α step 2 chooses (the search fits each factor at its own η). The
 //     constants are DefaultSpectralSmooth and DefaultSpectralJoint times
 //     CubeProblem.SpectralFactor (common practice, no source; measured on the checks of
 //     cube_test.go).
@@ -591,6 +593,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	if factor <= 0 {
 		factor = 1
 	}
+	etaFollows := false // η is proportional to the planes' spatial weights (JointSparsity)
 	switch cp.Spectral {
 	case SpectralSmooth:
 		c.Spectral = &SpectralSmoothness{Planes: P, NPix: npix}
@@ -612,6 +615,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			}
 			l := c.Spectral.Eval(nil, cube)
 			c.Eta = factor * DefaultSpectralJoint * res.Weight * r / l
+			etaFollows = c.Eta > 0 && finite(c.Eta)
 			if !(c.Eta > 0) || !finite(c.Eta) {
 				// Without a spatial term to scale by: the weight at which the spectral
 				// term at the start is a tenth of the number of data.
@@ -712,6 +716,9 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 					iters = min(s.PathIter, s.MaxIter)
 				}
 				r, err := e.run(cur, 1, use, iters, stage)
+				if err == nil {
+					r, _, err = unstickPlane(e, r, use, s.PathIter, iters, stage)
+				}
 				if err != nil {
 					return err
 				}
@@ -807,7 +814,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 			// gray image could not fit all channels. Each factor's sweeps start from a
 			// fitted cube, so they fit the exact terms from the first sweep on.
 			s.NoAmplitudeFirst, smoothing = true, 0
-			if err := cubeFactor(res, x, cube, &last, c, regs, mu0, res.TotalIter-before, planeChi2r, sweeps); err != nil {
+			if err := cubeFactor(res, x, cube, &last, c, regs, mu0, etaFollows, res.TotalIter-before, planeChi2r, sweeps); err != nil {
 				return nil, err
 			}
 			forget() // the chosen factor's planes are restored from a copy
@@ -819,6 +826,9 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		res.Evals += r.Evals
 	}
 	res.Status = last[len(last)-1].Status
+	if w := planeLimitWarning(last, cp.Planes, s.MaxIter); w != "" {
+		res.Warnings = append(res.Warnings, w)
+	}
 	res.StopReason = fmt.Sprintf("the last sweep lowered the objective by less than %g relative", CubeSweepTol)
 	if !res.Converged {
 		res.StopReason = fmt.Sprintf("%d sweeps over the planes, the objective still falling", CubeSweeps)

@@ -253,15 +253,23 @@ func planeCount(o *Objective) int {
 
 // cubeFactor runs chooseCubeFactor for SolveCube once the sweeps at α = 1 are done: x, cube
 // and last hold that cube (the planes as the engines hold them, the normalised planes and
-// the runs of the last sweep), sweeps fits the cube at the spectral weight c.Eta from x and
-// cube as they are, and chi2r measures Σχ²/ΣN at x; iter1 is the iterations of the sweeps
-// at α = 1. Plane k's weight at factor α is
-// α·mu0[k]. On return x, cube, last, the planes' weights and res.Converged are those of the
-// chosen factor, and res holds the factor and the path.
-func cubeFactor(res *CubeResult, x, cube []float64, last *[]runOut, c *CubeObjective, regs []*planeReg, mu0 []float64, iter1 int,
+// the runs of the last sweep), sweeps fits the cube at a spectral weight from x and cube as
+// they are, and chi2r measures Σχ²/ΣN at x; iter1 is the iterations of the sweeps at α = 1.
+// Plane k's weight at factor α is α·mu0[k], and the spectral weight α·c.Eta when etaFollows
+// (an automatic weight proportional to the spatial ones, JointSparsity's), c.Eta otherwise.
+// On return x, cube, last, the planes' weights, the spectral weight and res.Converged are
+// those of the chosen factor, and res holds the factor and the path.
+func cubeFactor(res *CubeResult, x, cube []float64, last *[]runOut, c *CubeObjective, regs []*planeReg, mu0 []float64, etaFollows bool, iter1 int,
 	chi2r func() ([]float64, float64), sweeps func(eta float64, label string) error) error {
 	P := len(regs)
 	npix := len(x) / P
+	eta1 := c.Eta
+	etaAt := func(a float64) float64 {
+		if etaFollows {
+			return a * eta1
+		}
+		return eta1
+	}
 	type state struct {
 		x    []float64
 		last []runOut
@@ -306,7 +314,7 @@ func cubeFactor(res *CubeResult, x, cube []float64, last *[]runOut, c *CubeObjec
 		}
 		setFactor(alpha)
 		before := res.TotalIter
-		if err := sweeps(c.Eta, label); err != nil {
+		if err := sweeps(etaAt(alpha), label); err != nil {
 			return 0, 0, false, err
 		}
 		_, ch := chi2r()
@@ -329,6 +337,10 @@ func cubeFactor(res *CubeResult, x, cube []float64, last *[]runOut, c *CubeObjec
 	restore(best)
 	res.WeightFactor = fs.path[best].Factor
 	setFactor(res.WeightFactor)
+	c.Eta = etaAt(res.WeightFactor)
+	for _, r := range regs {
+		r.eta = c.Eta
+	}
 	if fs.edge == "upper" || fs.edge == "lower" {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the factor %.3g of the planes' spatial weights is at the %s edge of the searched range: no factor there gave the aimed χ²ᵣ %.3g; set -weight by hand and compare", res.WeightFactor, fs.edge, fs.target))
 	}

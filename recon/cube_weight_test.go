@@ -276,3 +276,45 @@ func TestCubeFactorWorkers(t *testing.T) {
 		t.Errorf("the cube depends on the number of workers: factors %+v and %+v", paths[0], paths[1])
 	}
 }
+
+// TestCubeJointEtaFollowsFactor checks that the automatic weight of JointSparsity follows the
+// factor α of the planes' spatial weights that the search chooses: the cube's η is
+// α·c·μ·R(x̄)/L(x̄, …, x̄), with μ, x̄ the gray weight and image and R and L evaluated here on
+// them (the definition in SolveCube's doc, c = DefaultSpectralJoint). The data are those of
+// TestCubeFactorWorkers, whose gray image cannot fit all channels.
+func TestCubeJointEtaFollowsFactor(t *testing.T) {
+	vis := func(l float64) func(u, v float64) complex128 {
+		a, b := math.Pow(l/1.6e-6, -3), 0.5*(l/1.6e-6)
+		return func(u, v float64) complex128 {
+			q := math.Hypot(u, v)
+			return complex((a*UniformDiscV(2*Mas, q)+b*GaussianV(4*Mas, q))/(a+b), 0)
+		}
+	}
+	d := observeChromatic(41, 5, 100, vis,
+		synthOpts{nchan: 6, nha: 4, lmin: 1.5e-6, lmax: 2.4e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{Groups: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := Grid{N: 24, Pixel: 0.4 * Mas}
+	s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 4}
+	r, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: g}, Planes: planes, Spectral: SpectralJoint}, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.WeightPath) < 2 || r.WeightFactor == 1 {
+		t.Fatalf("factor %.3g after a path of %d: the test needs a factor other than 1", r.WeightFactor, len(r.WeightPath))
+	}
+	tv, _ := tvReg(g)
+	xbar := r.Gray.Image
+	all := make([]float64, 0, len(planes)*len(xbar))
+	for range planes {
+		all = append(all, xbar...)
+	}
+	l := (&JointSparsity{Planes: len(planes), NPix: len(xbar)}).Eval(nil, all)
+	want := r.WeightFactor * DefaultSpectralJoint * r.Gray.Weight * tv.Eval(nil, xbar) / l
+	t.Logf("α %.3g (path %+v): η %.4g, at α = 1 %.4g", r.WeightFactor, r.WeightPath, r.SpectralWeight, want/r.WeightFactor)
+	if math.Abs(r.SpectralWeight/want-1) > 1e-12 {
+		t.Errorf("η %.6g, want α·c·μ·R/L = %.6g", r.SpectralWeight, want)
+	}
+}

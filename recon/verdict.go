@@ -3,6 +3,8 @@ package recon
 import (
 	"fmt"
 	"math"
+	"strings"
+
 	"vcz/dataset"
 
 	"vcz/recon/optim"
@@ -83,4 +85,34 @@ func verdict(res *Result, in verdictInput) []string {
 		}
 	}
 	return w
+}
+
+// planeLimitWarning returns the warning of a cube whose planes' runs in the last sweep over
+// the planes (last, in plane order) stopped at their iteration limit while the objective was
+// still falling, by the rule of the gray verdict: a relative decrease above VerdictTail over
+// the last tailWindow iterations, or fewer iterations than that to tell. It names how many
+// planes and which, and the limit; maxIter is the iteration limit of the settings (-iter),
+// which a run at a smaller limit (a later sweep's, PathIter) did not reach. It returns ""
+// when no plane stopped so.
+func planeLimitWarning(last []runOut, planes []CubePlane, maxIter int) string {
+	var which []string
+	limit := 0
+	for k, r := range last {
+		if r.Status == optim.IterationLimit && !(r.Tail <= VerdictTail) {
+			which = append(which, fmt.Sprintf("%d (%s)", k+1, planes[k].Label))
+			limit = max(limit, r.Iter)
+		}
+	}
+	if len(which) == 0 {
+		return ""
+	}
+	what := fmt.Sprintf("%d of %d planes", len(which), len(last))
+	if len(which) == 1 {
+		what = fmt.Sprintf("1 of %d planes", len(last))
+	}
+	try := "raise -iter"
+	if limit < maxIter {
+		try = fmt.Sprintf("the sweeps after the first allow a plane at most %d iterations whatever -iter says, so those planes may not have settled", limit)
+	}
+	return fmt.Sprintf("%s stopped at the iteration limit of %d in the last sweep with the objective still falling: plane %s; %s", what, limit, strings.Join(which, ", "), try)
 }

@@ -98,9 +98,6 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 		}
 		sky = simulate.ImageSky{NX: im.NX, NY: im.NY, Pixel: im.Pixel, Data: im.Data}
 	}
-	if _, chrom := sky.(*simulate.ChromaticSky); chrom && plan.Smearing == simulate.SmearOn {
-		return nil, inputError(r.Plan, fmt.Errorf("%s: wavelengths.smearing: a chromatic model (-chromatic) cannot be averaged over the bands; leave smearing out or set it false", r.Plan))
-	}
 	f, rep, err := simulate.Run(plan, sky)
 	if err != nil {
 		return nil, inputError("", err)

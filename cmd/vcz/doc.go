@@ -74,8 +74,8 @@ and -bootstrap-collect merges them (making any missing) into the maps.
 
 writes OIFITS v2 data of a model observed with an observing plan; -help-plan
 documents every plan key (each channel is averaged over its band unless the
-plan says smearing = false; chromatic models are taken at the channel centres;
-write "visdiff" adds differential amplitudes and phases), -help-model the model
+plan says smearing = false, chromatic models with their spectra across the
+band; write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
 indices, rotating discs emitting a line).
 
@@ -165,7 +165,8 @@ Every reconstruction (image, demo, compare, batch) is judged once it is
 done: one warning for each reason to doubt it — χ²ᵣ more than 1.25 times
 its expected value, one data type fitted far worse than the others, the
 final run stalled or stopped at its iteration limit (-iter) while the
-objective still fell, an automatic weight at the edge of the searched range,
+objective still fell (for a cube, its planes' runs in the last sweep over
+the planes, named), an automatic weight at the edge of the searched range,
 or several starts that ended far apart — each saying what to try. The image
 is written all the same. The warnings go
 

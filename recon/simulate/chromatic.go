@@ -141,30 +141,36 @@ func (s *ChromaticSky) VisibilitiesAt(dst []complex128, u, v, lambda []float64) 
 		s.Discs[i].cells()
 	}
 	for i := range dst {
-		var num complex128
-		f := 0.0
-		for _, c := range s.Components {
-			fl := c.Model.TotalFlux() * math.Pow(lambda[i]/s.Reference, c.Index)
-			num += complex(fl, 0) * c.Model.Vis(u[i], v[i])
-			f += fl
-		}
-		for k := range s.Discs {
-			d := &s.Discs[k]
-			for j := range d.x {
-				fl := d.cellFlux(j, lambda[i])
-				if fl == 0 {
-					continue
-				}
-				num += complex(fl, 0) * cmplx.Exp(complex(0, -2*math.Pi*(u[i]*d.x[j]+v[i]*d.y[j])))
-				f += fl
-			}
-		}
+		num, f := s.coherent(u[i], v[i], lambda[i])
 		if !(f > 0) {
 			return fmt.Errorf("chromatic model: total flux %g at %.6g µm; it must be positive", f, lambda[i]*1e6)
 		}
 		dst[i] = num / complex(f, 0)
 	}
 	return nil
+}
+
+// coherent returns the coherent flux Σ_k F_k(λ)·V_k(u, v) + Σ_d Σ_j F_dj(λ)·exp(−2πi(u·x_j +
+// v·y_j)) and the total flux F(λ) of the sky at (u, v) (cycles/rad) and wavelength lambda
+// (m). The discs' cells must be laid out.
+func (s *ChromaticSky) coherent(u, v, lambda float64) (num complex128, f float64) {
+	for _, c := range s.Components {
+		fl := c.Model.TotalFlux() * math.Pow(lambda/s.Reference, c.Index)
+		num += complex(fl, 0) * c.Model.Vis(u, v)
+		f += fl
+	}
+	for k := range s.Discs {
+		d := &s.Discs[k]
+		for j := range d.x {
+			fl := d.cellFlux(j, lambda)
+			if fl == 0 {
+				continue
+			}
+			num += complex(fl, 0) * cmplx.Exp(complex(0, -2*math.Pi*(u*d.x[j]+v*d.y[j])))
+			f += fl
+		}
+	}
+	return num, f
 }
 
 func (s *ChromaticSky) validate() error {

@@ -57,8 +57,9 @@ Top level
   smearing = true         each channel's visibility is the average over its band
                           (a top-hat of the width), as an instrument measures it
                           (default); false: the value at the channel's centre.
-                          Chromatic models are taken at the centres (their band
-                          average is not modelled; smearing = true is refused)
+                          Chromatic models likewise: their coherent flux over
+                          the band, with each component's spectrum and the
+                          line, divided by their flux over it
 
 [noise]                   errors are written to the *ERR columns; amplitude
                           errors are sqrt((relative*value)^2 + floor^2); phase

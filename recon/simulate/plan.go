@@ -84,10 +84,9 @@ type Smearing int8
 
 // The smearing settings of a plan.
 const (
-	// SmearDefault averages over the band, except for a chromatic sky (ChromaticSky), which
-	// is taken at each channel's centre: its band average is not modelled.
+	// SmearDefault averages over the band, a chromatic sky (ChromaticSky) as a gray one.
 	SmearDefault Smearing = iota
-	// SmearOn averages over the band; Run refuses it with a chromatic sky.
+	// SmearOn averages over the band, as SmearDefault.
 	SmearOn
 	// SmearOff takes each channel's visibility at its centre.
 	SmearOff

@@ -1,7 +1,6 @@
 package simulate
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -74,7 +73,8 @@ const (
 // pair of combined stations i < j (in plan order) gives a baseline from
 // station i to station j, projected with UVW; each channel's (u, v) is the
 // projection divided by the wavelength; V is the sky's visibility there, or
-// its average over the channel's band unless plan.Smearing says otherwise (smear.go). VIS2DATA is |V|², VISAMP and
+// its average over the channel's band unless plan.Smearing says otherwise (smear.go; for a
+// chromatic sky the coherent flux over the band divided by the flux over it). VIS2DATA is |V|², VISAMP and
 // VISPHI are |V| and arg V, and each closing triangle i < j < k gives the
 // bispectrum B = V(u1,v1) V(u2,v2) conj(V(u1+u2, v1+v2)) with (u1, v1) the
 // baseline i→j and (u2, v2) the baseline j→k (CONVENTIONS.md). Errors and
@@ -155,14 +155,23 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 	vis := make([]complex128, len(u))
 	cs, chromatic := sky.(chromaticSky)
 	switch {
-	case chromatic && p.Smearing == SmearOn:
-		return nil, rep, errors.New("simulate: [wavelengths] smearing = true is not available with a chromatic model")
 	case chromatic:
 		lambda := make([]float64, len(u))
 		for i := range lambda {
 			lambda[i] = p.Wavelengths[i%nc]
 		}
-		if err := cs.VisibilitiesAt(vis, u, v, lambda); err != nil {
+		var err error
+		if p.Smearing != SmearOff {
+			rep.BandAveraged = true
+			band := make([]float64, len(u))
+			for i := range band {
+				band[i] = p.Bandwidths[i%nc]
+			}
+			err = cs.bandAverage(vis, u, v, lambda, band)
+		} else {
+			err = cs.VisibilitiesAt(vis, u, v, lambda)
+		}
+		if err != nil {
 			return nil, rep, fmt.Errorf("simulate: %w", err)
 		}
 	case p.Smearing != SmearOff:
@@ -266,9 +275,11 @@ func Run(p *Plan, sky Sky) (*oifits.File, Report, error) {
 	return f, rep, nil
 }
 
-// chromaticSky is a Sky whose visibility depends on the wavelength (ChromaticSky).
+// chromaticSky is a Sky whose visibility depends on the wavelength (ChromaticSky): at the
+// channel centres lambda, or averaged over bands of widths band (smear.go).
 type chromaticSky interface {
 	VisibilitiesAt(dst []complex128, u, v, lambda []float64) error
+	bandAverage(vis []complex128, u, v, lambda, band []float64) error
 }
 
 // differential turns a row of absolute amplitudes and phases (degrees) at the wavelengths
