@@ -716,9 +716,6 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 					iters = min(s.PathIter, s.MaxIter)
 				}
 				r, err := e.run(cur, 1, use, iters, stage)
-				if err == nil {
-					r, _, err = unstickPlane(e, r, use, s.PathIter, iters, stage)
-				}
 				if err != nil {
 					return err
 				}
