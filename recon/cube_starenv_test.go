@@ -66,7 +66,7 @@ func mustReg(t *testing.T, f RegularizerFunc, g Grid) Regularizer {
 // 9 of them from the truth, d 0.8–1.1; the errors with the image held fixed are far too
 // small, f0 lying 21 of them away), and the environment image is nearer the true environment than the gray
 // image (relative L1 after the star's share is taken out of the gray image's central
-// pixel): measured 0.148 against 0.830.
+// pixel): measured 0.149 against 0.830 (0.148 with the exact phase terms).
 func TestStarEnvRecovery(t *testing.T) {
 	const f0, alpha, dEnv, l0 = starEnvF0, -4.0, 0.0, 1.9e-6
 	xoff, fwhm := 2*Mas, 5*Mas
