@@ -198,7 +198,10 @@ func NewComparison(files []*oifits.File, d *dataset.Data, entries []Entry) (*Com
 		p.Choice = &c.Grid
 		r := &CompareRun{Name: e.Name, Spec: e.Spec, Problem: p, Settings: s}
 		if e.Spec.Star != nil {
-			return nil, inputErrorf("compare: -star is not available; compare images or cubes (-channels)")
+			// Each regularizer would need a star + environment fit of its own with the
+			// profiles of f0 and the index, as long as one vcz image -star run each (on
+			// the eight-channel example, minutes per regularizer on two cores).
+			return nil, inputErrorf("compare: -star is not available: each regularizer would need its own star + environment fit with its profiles, as long as a vcz image -star run each; run vcz image -star with each -reg, or compare images or cubes (-channels) without -star")
 		}
 		if !e.Spec.Channels.Single() {
 			planes, err := recon.SplitChannels(d, e.Spec.Channels)
