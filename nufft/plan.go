@@ -595,9 +595,14 @@ func (p *plan) fwdRows(scr []complex128, s int) {
 	lo, hi := chunk(fy/2+1, s, rowShard)
 	for t := lo; t < hi; t++ {
 		r := p.midRow(t)
-		out := p.fftX.transformHalf(p.mid[t*hw:t*hw+hw], 1, z, buf, 1, false)
+		// The transform ends in the grid row, which it also takes as
+		// one of its two buffers.
 		row := p.grid[r*fx : r*fx+fx]
-		copy(row, out)
+		if p.fftX.halfEndsInX() {
+			p.fftX.transformHalf(p.mid[t*hw:t*hw+hw], 1, row, buf, 1, false)
+		} else {
+			p.fftX.transformHalf(p.mid[t*hw:t*hw+hw], 1, z, row, 1, false)
+		}
 		// Row fy − r, if it lies below fy/2 and a point reads it.
 		rm := (fy - r) & (fy - 1)
 		if rm >= 1 && rm < fy/2 && (rm <= k || rm >= fy/2-k) {
@@ -614,6 +619,11 @@ func (p *plan) fwdRows(scr []complex128, s int) {
 // whose other rows are then the conjugates of these (the rows −jy of H
 // are nonzero only within mirRows of the ends of the range); its image
 // columns go to mid.
+//
+// A band row folds onto one fine row, and only the x transform of that
+// row reads it, except for the rows 0 and fy/2, which are their own
+// mirrors: the others are summed and transformed in place, in the band
+// row of their first source, which the next spreading clears.
 func (p *plan) adjRows(scr []complex128, s int) {
 	nx, fx, fy := p.nx, p.fx, p.fy
 	z, buf := scr[:fx], scr[fx:2*fx]
@@ -621,14 +631,25 @@ func (p *plan) adjRows(scr []complex128, s int) {
 	lo, hi := chunk(fy/2+1, s, rowShard)
 	for t := lo; t < hi; t++ {
 		r := p.midRow(t)
-		p.bandRow(z, r, 0)
+		d := z
+		if srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]; len(srcs) > 0 && r != 0 && r != fy/2 {
+			d = p.band[int(srcs[0]) : int(srcs[0])+fx]
+			for _, o := range srcs[1:] {
+				s := p.band[int(o) : int(o)+fx]
+				for j := range d {
+					d[j] += s[j]
+				}
+			}
+		} else {
+			p.bandRow(z, r, 0)
+		}
 		rm := (fy - r) & (fy - 1)
 		for _, o := range p.rowSrc[p.rowStart[rm]:p.rowStart[rm+1]] {
 			row := p.band[int(o) : int(o)+fx]
-			z[0] += complex(real(row[0]), -imag(row[0]))
-			addConjRev(z[1:], row[1:]) // column fx − j
+			d[0] += complex(real(row[0]), -imag(row[0]))
+			addConjRev(d[1:], row[1:]) // column fx − j
 		}
-		out := p.fftX.transform(z, buf, 1, true)
+		out := p.fftX.transform(d, buf, 1, true)
 		// Image columns ix ≥ nx/2 come from 0, 1, ...; columns ix < nx/2
 		// from the top of the row.
 		dst := p.mid[t*hw+off : t*hw+off+nx]
