@@ -335,9 +335,15 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	}
 	// Forward uses the grid and Adjoint the bands, never both in one
 	// call, and each writes what it reads before reading it: the two
-	// share one buffer, the largest of the plan after the weights.
+	// share one buffer, the largest of the plan after the weights. The
+	// bands end where the buffer ends, so that they lie, as far as
+	// their overlaps allow, on the grid rows they fold onto (fy/2 …
+	// fy): with workers that keep their halves of the rows from phase to
+	// phase (pool), Forward and Adjoint called in turn then find most of
+	// their rows in the cache of the same worker.
 	buf := make([]complex128, max(fx*fy, off))
-	p.grid, p.band = buf[:fx*fy], buf[:off]
+	base := len(buf) - off
+	p.grid, p.band = buf[:fx*fy], buf[base:base+off]
 	p.mid = make([]complex128, (fy/2+1)*fx/2)
 	p.rowStart = make([]int32, fy+1)
 	var src []int32
