@@ -647,7 +647,7 @@ func (p *plan) adjRows(scr []complex128, s int) {
 				}
 			}
 		} else {
-			p.bandRow(z, r, 0)
+			p.bandRow(z, r)
 		}
 		rm := (fy - r) & (fy - 1)
 		for _, o := range p.rowSrc[p.rowStart[rm]:p.rowStart[rm+1]] {
@@ -740,17 +740,17 @@ func (p *plan) adjCols(scr []complex128, s int) {
 	}
 }
 
-// bandRow sets d to the sum, in shard order, of the band rows folding
-// onto fine row r, at columns c … c+len(d)−1.
-func (p *plan) bandRow(d []complex128, r, c int) {
+// bandRow sets d, of length fx, to the sum, in shard order, of the band
+// rows folding onto fine row r.
+func (p *plan) bandRow(d []complex128, r int) {
 	srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
 	if len(srcs) == 0 {
 		clear(d)
 		return
 	}
-	copy(d, p.band[int(srcs[0])+c:])
+	copy(d, p.band[int(srcs[0]):])
 	for _, o := range srcs[1:] {
-		s := p.band[int(o)+c:][:len(d)]
+		s := p.band[int(o):][:len(d)]
 		for j := range d {
 			d[j] += s[j]
 		}
