@@ -110,10 +110,10 @@ func TestExactDirect(t *testing.T) {
 // TestAccuracy checks the requested tolerance: relative l2 error of Plan
 // against Exact (Barnett et al. 2019, eq. 4.1) ≤ tol, for random points
 // filling the band including its edges and random images, square and
-// non-square, power-of-two and other sizes.
+// non-square (down to one row), power-of-two and other sizes.
 func TestAccuracy(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 2))
-	for _, sz := range []struct{ nx, ny, m int }{{64, 64, 3000}, {48, 30, 2000}, {100, 128, 1500}, {33, 21, 800}} {
+	for _, sz := range []struct{ nx, ny, m int }{{64, 64, 3000}, {48, 30, 2000}, {100, 128, 1500}, {33, 21, 800}, {300, 3, 400}, {5, 200, 400}, {90, 1, 300}} {
 		pix := 0.5 * mas
 		u, v := bandPoints(rng, sz.m, pix)
 		img := randImage(rng, sz.nx*sz.ny)

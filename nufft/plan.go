@@ -277,10 +277,10 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.pool = newPool(nw)
 	p.scratch = make([][]complex128, nw)
 	for i := range p.scratch {
-		// x and y buffers of the transforms, and the padded input of
-		// Forward's y transforms (fwdCols), whose rows other than the
-		// image rows stay zero.
-		p.scratch[i] = make([]complex128, 2*fy*pairBlock+fy/2*pairBlock)
+		// The two buffers of the x or of the y transforms, and the
+		// padded input of Forward's y transforms (fwdCols), whose rows
+		// other than the image rows stay zero.
+		p.scratch[i] = make([]complex128, max(2*fx, 2*fy*pairBlock+fy/2*pairBlock))
 	}
 
 	// Weights, in sorted order, in shards of points. Kaiser–Bessel
