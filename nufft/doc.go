@@ -77,11 +77,12 @@
 // kernel weights: 13 + 8w bytes (float32 weights) or 13 + 16w bytes,
 // plus 16 bytes of scratch. It holds the upsampled grid of Forward
 // (16·fx·fy bytes for an fx×fy grid, fx the smallest power of two ≥
-// 2·nx) in the same memory as the spreading bands of Adjoint, which are
-// a little larger (at most 8 bands, one per 4(w+8) fine rows, which
-// overlap by at most w+7 rows), a quarter grid for the hand-over
+// 2·nx) in the same memory as the spreading bands of Adjoint, which take
+// a little over half of it (at most 8 bands, one per 4(w+8) of the fy/2
+// fine rows that the points reach, which overlap by at most w+7 rows),
+// a quarter grid for the hand-over
 // between the column and the row transforms, and small FFT scratch:
-// about 1.4 to 1.7 grids plus 85 bytes per point at Tol = 1e-6. A call
+// about 1.3 to 1.45 grids plus 85 bytes per point at Tol = 1e-6. A call
 // costs about 2w² multiply-adds per point and one 2D FFT of the
 // upsampled grid restricted by the symmetry of real images and the zero
 // rows and columns of the padded image: the y transforms on pairs of

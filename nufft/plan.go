@@ -266,7 +266,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.shards[phFwdInterp] = chunks(m, interpShard)
 	ns := 1
 	if !serial {
-		ns = min(maxSpread, max(1, fy/(4*(w+binRows))), max(1, m/minSpread))
+		ns = min(maxSpread, max(1, fy/2/(4*(w+binRows))), max(1, m/minSpread))
 	}
 	p.shards[phAdjSpread] = ns
 	nw := 1
