@@ -92,25 +92,24 @@ func TestGriddingAVX(t *testing.T) {
 	img := randImage(rng, nx*ny)
 	vis := randVis(rng, m)
 	// The points moved into the half of the plane that is never
-	// mirrored (off the band edge |u| = 1/(2·pixel), which is), for the
-	// AVX2 spreading that gathers the values itself, which runs only
-	// when no point is mirrored (plan.flip).
-	uw := make([]float64, m)
-	for k := range u {
-		uw[k] = -0.999 * math.Abs(u[k])
+	// mirrored, v ≤ 0, for the AVX2 spreading that gathers the values
+	// itself, which runs only when no point is mirrored (plan.flip).
+	vw := make([]float64, m)
+	for k := range v {
+		vw[k] = -0.999 * math.Abs(v[k])
 	}
 	for w := minAsm; w <= maxAsm; w++ {
 		for _, c := range []struct {
 			tol  float64
-			u    []float64
+			v    []float64
 			flip bool
-		}{{1e-6, u, true}, {1e-9, u, true}, {1e-6, uw, false}, {1e-9, uw, false}} { // float32 and float64 weights
+		}{{1e-6, v, true}, {1e-9, v, true}, {1e-6, vw, false}, {1e-9, vw, false}} { // float32 and float64 weights
 			tol := c.tol
-			r, err := resolve("test", nx, ny, mas, c.u, v, Options{Tol: tol, Workers: 1})
+			r, err := resolve("test", nx, ny, mas, u, c.v, Options{Tol: tol, Workers: 1})
 			if err != nil {
 				t.Fatal(err)
 			}
-			p := &Plan{newPlan(r, c.u, v, kaiserBessel, w)}
+			p := &Plan{newPlan(r, u, c.v, kaiserBessel, w)}
 			if p.anyFlip != c.flip {
 				t.Fatalf("w=%d tol=%g: mirrored points %v, want %v", w, tol, p.anyFlip, c.flip)
 			}

@@ -68,23 +68,29 @@
 //
 // # Cost and memory
 //
-// NewPlan stores the points of one half of the (u,v) plane at (−u, −v)
-// and conjugates their values (the transform of a real image takes
-// conjugate values there), so that Forward needs only about half the
-// upsampled grid and Adjoint spreads into half of it. It sorts the
+// NewPlan stores the points of one half of the (u,v) plane (v > 0) at
+// (−u, −v) and conjugates their values (the transform of a real image
+// takes conjugate values there), so that Forward needs only about half
+// the rows of the upsampled grid and Adjoint spreads into half of them. It sorts the
 // points into bins of 8 fine rows (by row bin, then column), and stores
 // for each point its grid offsets, whether it is mirrored and its 2w
 // kernel weights: 13 + 8w bytes (float32 weights) or 13 + 16w bytes,
 // plus 16 bytes of scratch. It holds the upsampled grid of Forward
 // (16·fx·fy bytes for an fx×fy grid, fx the smallest power of two ≥
-// 2·nx) in the same memory as the spreading bands of Adjoint, which are
-// a little larger (at most 8 bands, one per 4(w+8) fine rows, which
-// overlap by at most w+7 rows), a quarter grid for the hand-over
-// between the row and the column transforms, and small FFT scratch:
-// about 1.4 to 1.7 grids plus 85 bytes per point at Tol = 1e-6. A call
+// 2·nx) in the same memory as the spreading bands of Adjoint, which take
+// a little over half of it (at most 8 bands, one per 4(w+8) of the fy/2
+// fine rows that the points reach, which overlap by at most w+7 rows),
+// a quarter grid for the hand-over
+// between the column and the row transforms, and small FFT scratch:
+// about 1.3 to 1.45 grids plus 85 bytes per point at Tol = 1e-6. A call
 // costs about 2w² multiply-adds per point and one 2D FFT of the
 // upsampled grid restricted by the symmetry of real images and the zero
-// rows of the padded image. NewPlan computes the weights in shards on
+// rows and columns of the padded image: the y transforms on pairs of
+// image columns, the x transforms on half the rows. With several
+// workers, the phases that divide the grid by rows (spreading, x
+// transforms, interpolation) hand their shards out in the same order of
+// rows, so that one transposition (the quarter grid) is all the data
+// that passes between processor caches within a call. NewPlan computes the weights in shards on
 // the plan's workers and writes every buffer of the calls once, so that
 // the first call is not slowed by fresh memory pages.
 //

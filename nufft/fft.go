@@ -105,6 +105,10 @@ func (f *fftPlan) stagesFrom(i0 int, src, dst []complex128, s int, inverse bool)
 	return src
 }
 
+// halfEndsInX reports whether transformHalf leaves its result in x
+// (an odd number of stages) rather than in y.
+func (f *fftPlan) halfEndsInX() bool { return len(f.stages)%2 == 1 }
+
 // transformHalf is transform for a batch of b sequences whose values
 // n/4 … 3n/4−1 are zero, read from rows of src instead of x: value j <
 // n/4 of the batch is the row src[(n/4+j)·stride:][:b], value 3n/4+j the

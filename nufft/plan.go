@@ -21,19 +21,19 @@ type Plan struct {
 }
 
 const (
-	binRows   = 8  // fine-grid rows per bin when sorting points
-	colBlock  = 16 // columns per batched column FFT, one shard each
+	binRows   = 8 // fine-grid rows per bin when sorting points
+	pairBlock = 8 // image column pairs per batched y transform, one shard each
+	rowShard  = 8 // fine rows per shard of the x transforms
 	serialOps = 4e6
 
-	// Shard sizes of the phases without reduction (any size gives the
-	// same bits; these keep a shard well above the cost of taking it),
-	// and the bounds on the number of spreading shards, each of which
-	// holds a band of the grid: at most maxSpread, and at least
-	// minSpread points each (common practice, no source).
-	rowPairShard = 8    // image row pairs per shard of the x transforms
-	interpShard  = 4096 // points per interpolation shard
-	maxSpread    = 8
-	minSpread    = 1024
+	// Shard size of the interpolation (any size gives the same bits;
+	// this keeps a shard well above the cost of taking it), and the
+	// bounds on the number of spreading shards, each of which holds a
+	// band of the grid: at most maxSpread, and at least minSpread points
+	// each (common practice, no source).
+	interpShard = 4096 // points per interpolation shard
+	maxSpread   = 8
+	minSpread   = 1024
 
 	// f32Tol is the loosest tolerance at which the kernel weights are
 	// stored as float32: their rounding (relative 6e-8) then adds at
@@ -49,7 +49,6 @@ const (
 type plan struct {
 	nx, ny int // image size
 	fx, fy int // upsampled grid size, powers of two
-	hc     int // columns 0 … hc−1 take the y transforms: fx/2 < hc ≤ fx
 	m      int // number of points
 	w      int // kernel width in fine cells
 	kern   kernel
@@ -62,12 +61,13 @@ type plan struct {
 	perm   []int32
 	x0, y0 []int32
 	// flip[i] is 1 where sorted point i is stored mirrored, at (−u, −v),
-	// which puts every point in the columns jx ≤ fx/2 + w/2 and those
-	// that wrap below 0: the value at (u, v) of the transform of a real
-	// image is conj of the value at (−u, −v), so Forward conjugates the
-	// mirrored points' values and Adjoint spreads the conjugates of
-	// theirs. Forward then needs only the columns 0 … hc−1 and the w
-	// columns below fx, half the grid.
+	// which puts every point at fine y ≤ 0, so that its kernel covers
+	// only the fine rows fy/2 − w/2 … fy − 1 and 0 … w/2 (mirRows): the
+	// value at (u, v) of the transform of a real image is conj of the
+	// value at (−u, −v), so Forward conjugates the mirrored points'
+	// values and Adjoint spreads the conjugates of theirs. The x
+	// transforms then run on the rows fy/2 … fy (midRows) only, and the
+	// grid holds half the rows.
 	flip    []uint8
 	anyFlip bool
 	sorted  []complex128 // values at the points in sorted order
@@ -77,18 +77,20 @@ type plan struct {
 	fftX, fftY *fftPlan
 
 	// grid is the fx×fy upsampled grid of Forward, row-major (fine row
-	// j_y holds fx columns), which it interpolates from. It shares its
-	// memory with band.
+	// j_y holds fx columns), which it interpolates from; only the rows
+	// the points read are written (see flip). It shares its memory with
+	// band.
 	grid []complex128
 
-	// half holds the columns 0 … hc−1 of the image rows, image row iy
-	// at half[iy·hc:]: the hand-over between the row and the column
-	// transforms, after the x transforms in Forward and after the y
-	// transforms in Adjoint. It is part of halfPad, which has fy/2 rows:
-	// fine rows 3fy/4 … fy−1 then 0 … fy/4−1, which hold all image rows
-	// (fy ≥ 2ny), the others staying zero. Forward's column transforms
-	// read their input from there (fftPlan.transformHalf).
-	half, halfPad []complex128
+	// mid is the hand-over between the y and the x transforms, after
+	// the y transforms in Forward and after the x transforms in Adjoint:
+	// row t holds fine row fy/2 + t (mod fy) for t = 0 … fy/2, at
+	// mid[t·fx/2:], in the layout of fftPlan.transformHalf's input: fine
+	// columns 3fx/4 … fx−1, then 0 … fx/4−1. Image column ix, fine
+	// column ix − nx/2, is entry fx/4 − nx/2 + ix; the other entries
+	// stay zero (fx ≥ 2nx). The rows below fy/2 mirror these: the
+	// transform G of a real image has G(jx, −jy) = conj G(−jx, jy).
+	mid []complex128
 
 	// Adjoint spreading: shard s spreads its points into band rows
 	// [bandLo[s], bandLo[s]+bandRows[s]) of the unwrapped y range,
@@ -135,8 +137,8 @@ const (
 
 // The phases of a call, in order, and of one phase alone.
 var (
-	fwdPhases = []int{phFwdRows, phFwdCols, phFwdInterp}
-	adjPhases = []int{phAdjSpread, phAdjCols, phAdjRows}
+	fwdPhases = []int{phFwdCols, phFwdRows, phFwdInterp}
+	adjPhases = []int{phAdjSpread, phAdjRows, phAdjCols}
 	onePhase  = func() (a [nPhases]int) {
 		for i := range a {
 			a[i] = i
@@ -193,11 +195,11 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// t = v·pixel (CONVENTIONS.md); fine coordinates are f·s and f·t.
 	m := r.m
 	half := float64(w) / 2
-	// Points with fine x < 0 are stored mirrored (see plan.flip), at
-	// x ∈ (0, fx/2].
+	// Points with fine y > 0 are stored mirrored (see plan.flip), at
+	// y ∈ [−fy/2, 0).
 	fine := func(k int) (x, y float64, flip bool) {
 		x, y = reduce(-u[k]*r.pixel)*float64(fx), reduce(v[k]*r.pixel)*float64(fy)
-		if x < 0 {
+		if y > 0 {
 			return -x, -y, true
 		}
 		return x, y, false
@@ -248,7 +250,6 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 		p.wts = make([]float64, 2*w*m)
 	}
 
-	p.hc = min(fx, (fx/2/colBlock+1)*colBlock)
 	p.fftX = newFFTPlan(fx)
 	p.fftY = newFFTPlan(fy)
 
@@ -258,15 +259,14 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// (common practice, no source).
 	ops := float64(m)*float64(4*w*w) + 5*float64(fx*fy)*math.Log2(float64(fx*fy))
 	serial := ops < serialOps
-	pairs := (r.ny + 1) / 2
-	p.shards[phFwdRows] = chunks(pairs, rowPairShard)
-	p.shards[phAdjRows] = p.shards[phFwdRows]
-	p.shards[phFwdCols] = p.hc / colBlock
+	p.shards[phFwdCols] = chunks((r.nx+1)/2, pairBlock)
 	p.shards[phAdjCols] = p.shards[phFwdCols]
+	p.shards[phFwdRows] = chunks(fy/2+1, rowShard)
+	p.shards[phAdjRows] = p.shards[phFwdRows]
 	p.shards[phFwdInterp] = chunks(m, interpShard)
 	ns := 1
 	if !serial {
-		ns = min(maxSpread, max(1, fy/(4*(w+binRows))), max(1, m/minSpread))
+		ns = min(maxSpread, max(1, fy/2/(4*(w+binRows))), max(1, m/minSpread))
 	}
 	p.shards[phAdjSpread] = ns
 	nw := 1
@@ -277,7 +277,10 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	p.pool = newPool(nw)
 	p.scratch = make([][]complex128, nw)
 	for i := range p.scratch {
-		p.scratch[i] = make([]complex128, 2*max(fx, fy*colBlock))
+		// The two buffers of the x or of the y transforms, and the
+		// padded input of Forward's y transforms (fwdCols), whose rows
+		// other than the image rows stay zero.
+		p.scratch[i] = make([]complex128, max(2*fx, 2*fy*pairBlock+fy/2*pairBlock))
 	}
 
 	// Weights, in sorted order, in shards of points. Kaiser–Bessel
@@ -332,13 +335,16 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	}
 	// Forward uses the grid and Adjoint the bands, never both in one
 	// call, and each writes what it reads before reading it: the two
-	// share one buffer, the largest of the plan after the weights.
+	// share one buffer, the largest of the plan after the weights. The
+	// bands end where the buffer ends, so that they lie, as far as
+	// their overlaps allow, on the grid rows they fold onto (fy/2 …
+	// fy): with workers that keep their halves of the rows from phase to
+	// phase (pool), Forward and Adjoint called in turn then find most of
+	// their rows in the cache of the same worker.
 	buf := make([]complex128, max(fx*fy, off))
-	p.grid, p.band = buf[:fx*fy], buf[:off]
-	p.halfPad = make([]complex128, fy/2*p.hc)
-	// Image row iy is fine row iy − ny/2 (mod fy), which is row
-	// iy − ny/2 + fy/4 of halfPad.
-	p.half = p.halfPad[(fy/4-r.ny/2)*p.hc:][:r.ny*p.hc]
+	base := len(buf) - off
+	p.grid, p.band = buf[:fx*fy], buf[base:base+off]
+	p.mid = make([]complex128, (fy/2+1)*fx/2)
 	p.rowStart = make([]int32, fy+1)
 	var src []int32
 	for r := range fy {
@@ -357,7 +363,7 @@ func newPlan(r resolved, u, v []float64, kind kernelKind, w int) *plan {
 	// Write the buffers of the calls once, so that the first call does
 	// not pay for mapping fresh pages.
 	clear(buf)
-	clear(p.halfPad)
+	clear(p.mid)
 	clear(p.sorted)
 	for _, s := range p.scratch {
 		clear(s)
@@ -477,231 +483,276 @@ func (p *plan) do(w, g int) {
 		s -= p.shards[ph]
 	}
 	switch ph {
-	case phFwdRows:
-		lo, hi := chunk((p.ny+1)/2, s, rowPairShard)
-		p.fwdRows(p.scratch[w], lo, hi)
 	case phFwdCols:
-		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, false)
+		p.fwdCols(p.scratch[w], s)
+	case phFwdRows:
+		p.fwdRows(p.scratch[w], s)
 	case phFwdInterp:
 		lo, hi := chunk(p.m, s, interpShard)
 		p.interp(lo, hi)
 	case phAdjSpread:
 		p.spread(s)
-	case phAdjCols:
-		p.cols(p.scratch[w], s*colBlock, (s+1)*colBlock, true)
 	case phAdjRows:
-		lo, hi := chunk((p.ny+1)/2, s, rowPairShard)
-		p.adjRows(p.scratch[w], lo, hi)
+		p.adjRows(p.scratch[w], s)
+	case phAdjCols:
+		p.adjCols(p.scratch[w], s)
 	}
 }
 
 // The image is real, so the 2D transform G of the padded image is
 // Hermitian, G(−jx, −jy) = conj(G(jx, jy)), and Adjoint needs only the
 // real part of an inverse transform. Both use this (e.g. Press et al.
-// 2007, Numerical Recipes, 3rd ed., sect. 12.3): the x transforms take
-// two image rows at once as the real and imaginary parts of one complex
-// row, and the y transforms run only on the columns jx < p.hc, which
-// cover 0 … fx/2; Forward fills the few other columns the points read
-// (plan.flip) by symmetry as it stores the columns they mirror.
+// 2007, Numerical Recipes, 3rd ed., sect. 12.3): the y transforms take
+// two image columns at once as the real and imaginary parts of one
+// complex column, and the x transforms run only on the fine rows fy/2 …
+// fy (mod fy), where the points are (plan.flip); Forward fills the few
+// rows below fy/2 that the points read by symmetry, from the rows they
+// mirror, and Adjoint folds the bands' values there onto those rows.
+// The y transforms hand over to the x transforms through mid, which
+// holds half the rows of half the columns of the grid.
 
-// fwdRows transforms corrected image rows along x, two at a time, for
-// the row pairs [lo, hi), and stores their columns 0 … hc−1 in half.
-func (p *plan) fwdRows(scr []complex128, lo, hi int) {
-	nx, fx, hc := p.nx, p.fx, p.hc
-	z, buf := scr[:fx], scr[fx:2*fx]
-	h := nx / 2
-	for pr := lo; pr < hi; pr++ {
-		i1, i2 := 2*pr, 2*pr+1
-		clear(z[nx-h : fx-h]) // the rest is written below
-		c1 := p.corrY[i1]
-		s1 := p.srcR[i1*nx : i1*nx+nx]
-		var c2 float64
-		s2 := s1 // unused when the second row is missing (odd ny)
-		if i2 < p.ny {
-			c2 = p.corrY[i2]
-			s2 = p.srcR[i2*nx : i2*nx+nx]
-		}
-		// Columns ix ≥ nx/2 go to 0, 1, ...; columns ix < nx/2 wrap to
-		// the top of the row.
-		corr, s1, s2 := p.corrX[:nx], s1[:nx], s2[:nx]
-		for j, zr := 0, z[:nx-h]; j < len(zr); j++ {
-			ix := j + h
-			cx := corr[ix]
-			zr[j] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
-		}
-		for ix, zr := 0, z[fx-h:]; ix < len(zr); ix++ {
-			cx := corr[ix]
-			zr[ix] = complex(s1[ix]*cx*c1, s2[ix]*cx*c2)
-		}
-		out := p.fftX.transform(z, buf, 1, false)
-		// Split Z = F(r1) + i F(r2): F(r1)[k] = (Z[k] + conj Z[−k])/2,
-		// F(r2)[k] = (Z[k] − conj Z[−k])/(2i).
-		g1 := p.half[i1*hc:][:hc]
-		var g2 []complex128
-		if i2 < p.ny {
-			g2 = p.half[i2*hc:][:hc]
-		}
-		for k := range g1 {
-			a := out[k]
-			b := out[(fx-k)&(fx-1)]
-			br, bi := real(b), -imag(b) // conj Z[−k]
-			g1[k] = complex(0.5*(real(a)+br), 0.5*(imag(a)+bi))
-			if g2 != nil {
-				// (a − conj b)/(2i) = (Im(a) − Im(conj b))/2 − i(Re(a) − Re(conj b))/2
-				g2[k] = complex(0.5*(imag(a)-bi), -0.5*(real(a)-br))
-			}
-		}
-	}
-}
+// midRow returns the fine row held in row t of mid.
+func (p *plan) midRow(t int) int { return (p.fy/2 + t) & (p.fy - 1) }
 
-// cols transforms columns [c0, c1) along y in blocks of colBlock. In
-// Forward only the image rows are nonzero on input, and the first stage
-// reads them from halfPad (transformHalf); the output goes to the grid,
-// and so do the columns jx ≥ hc that mirror it (fwdMirror). In Adjoint the input is folded from the spreading bands and
-// made Hermitian, Hs(j) = H(j) + conj H(−j), and only the image rows of
-// the output are stored, in half.
-func (p *plan) cols(scr []complex128, c0, c1 int, adjoint bool) {
-	fx, fy := p.fx, p.fy
-	const b = colBlock
+// mirRows is the number of rows next to each end of the rows fy/2 … fy
+// that the kernels of the points reach beyond them: a point at fine y ∈
+// [−fy/2, 0] reads the rows ⌈y − w/2⌉ … ⌈y − w/2⌉ + w − 1, within w/2
+// of that range (one more row for safety costs little).
+func (p *plan) mirRows() int { return p.w/2 + 1 }
+
+// fwdCols runs the y transforms of Forward for the image column pairs
+// [pairBlock·s, pairBlock·(s+1)): it corrects the columns, transforms
+// each pair as one complex column, splits the results (Z = F(c1) +
+// i F(c2): F(c1)[k] = (Z[k] + conj Z[−k])/2, F(c2)[k] = (Z[k] − conj
+// Z[−k])/(2i)) and stores the rows fy/2 … fy of both columns in mid.
+func (p *plan) fwdCols(scr []complex128, s int) {
+	nx, ny, fx, fy := p.nx, p.ny, p.fx, p.fy
+	const b = pairBlock
 	x, y := scr[:fy*b], scr[fy*b:2*fy*b]
-	for c := c0; c < c1; c += b {
-		if !adjoint {
-			out := p.fftY.transformHalf(p.halfPad[c:], p.hc, x, y, b, false)
-			for r := range fy {
-				copy(p.grid[r*fx+c:r*fx+c+b], out[r*b:r*b+b])
+	// Image row iy is fine row iy − ny/2 (mod fy), row iy − ny/2 + fy/4
+	// of pad (fftPlan.transformHalf); the other rows of pad stay zero.
+	pad := scr[2*fy*b : 2*fy*b+fy/2*b]
+	q0 := s * b
+	nq := min(b, (nx+1)/2-q0) // pairs in this block
+	corr := p.corrX[:nx]
+	full := 2*(q0+b) <= nx // b complete pairs
+	for iy := range ny {
+		row := pad[(iy-ny/2+fy/4)*b:][:b]
+		cy := p.corrY[iy]
+		src := p.srcR[iy*nx : iy*nx+nx]
+		if full {
+			s2, c2 := src[2*q0:2*q0+2*b], corr[2*q0:2*q0+2*b]
+			for c := range row {
+				row[c] = complex(s2[2*c]*c2[2*c]*cy, s2[2*c+1]*c2[2*c+1]*cy)
 			}
-			p.fwdMirror(out, c)
 			continue
 		}
-		zlo, zhi := p.zeroCols()
-		zero := c > 0 && fx-c-b+1 >= zlo && fx-c < zhi
-		for r := range fy {
-			d := x[r*b : r*b+b]
-			p.bandRow(d, r, c)
-			// Add conj H(−jx, −r) for jx = c … c+b−1, unless those
-			// columns are all in the zero zone.
-			if zero {
-				continue
-			}
-			srcs := p.rowSrc[p.rowStart[(fy-r)&(fy-1)]:p.rowStart[(fy-r)&(fy-1)+1]]
-			for _, o := range srcs {
-				row := p.band[int(o) : int(o)+fx]
-				// Column fx − c − j, which is 0 for c = j = 0.
-				if c == 0 {
-					v := row[0]
-					d[0] += complex(real(v), -imag(v))
-					addConjRev(d[1:], row[fx-b+1:])
-				} else {
-					addConjRev(d, row[fx-c-b+1:fx-c+1])
+		for c := range row {
+			var v1, v2 float64
+			if c < nq {
+				ix := 2 * (q0 + c)
+				v1 = src[ix] * corr[ix] * cy
+				if ix+1 < nx {
+					v2 = src[ix+1] * corr[ix+1] * cy
 				}
 			}
+			row[c] = complex(v1, v2)
 		}
-		out := p.fftY.transform(x, y, b, true)
-		hc := p.hc
-		for iy, r := range p.imageRows {
-			copy(p.half[iy*hc+c:iy*hc+c+b], out[int(r)*b:int(r)*b+b])
+	}
+	out := p.fftY.transformHalf(pad, b, x, y, b, false)
+	hw, off := fx/2, fx/4-nx/2
+	for t := 0; t <= fy/2; t++ {
+		r := p.midRow(t)
+		a := out[r*b : r*b+b]
+		am := out[((fy-r)&(fy-1))*b:][:b]
+		dst := p.mid[t*hw+off : t*hw+off+nx]
+		if full {
+			d2 := dst[2*q0 : 2*q0+2*b]
+			for c, z := range a {
+				zm := am[c]
+				br, bi := real(zm), -imag(zm)
+				d2[2*c] = complex(0.5*(real(z)+br), 0.5*(imag(z)+bi))
+				d2[2*c+1] = complex(0.5*(imag(z)-bi), -0.5*(real(z)-br))
+			}
+			continue
+		}
+		for c := range nq {
+			ix := 2 * (q0 + c)
+			z, zm := a[c], am[c]
+			br, bi := real(zm), -imag(zm) // conj Z[−k]
+			dst[ix] = complex(0.5*(real(z)+br), 0.5*(imag(z)+bi))
+			if ix+1 < nx {
+				// (z − conj zm)/(2i) = (Im z − Im conj zm)/2 − i(Re z − Re conj zm)/2
+				dst[ix+1] = complex(0.5*(imag(z)-bi), -0.5*(real(z)-br))
+			}
 		}
 	}
 }
 
-// zeroCols returns the zero zone, the columns [zlo, zhi) that no call
-// writes in the grid or in the spreading bands (which share their
-// memory and their columns): Forward writes the columns 0 … hc−1 and the
-// w columns below fx (fwdMirror), and the points, all at fine x in [0,
-// fx/2] (plan.flip), spread into columns below fx/2 + w/2 + 1 and above
-// fx − w/2 − 1; hc ≥ fx/2 + colBlock covers that for every width up to
-// maxUnrolled = 16. NewPlan clears the zone, and Adjoint neither clears
-// nor reads it. The zone is empty (zlo = zhi) when fx − w ≤ hc.
-func (p *plan) zeroCols() (zlo, zhi int) {
-	return p.hc, max(p.hc, p.fx-p.w)
+// fwdRows runs the x transforms of Forward on rows [rowShard·s,
+// rowShard·(s+1)) of mid into their fine rows of the grid, and fills
+// the rows below fy/2 that the points read (mirRows) and that mirror
+// them: G(jx, −jy) = conj G(fx − jx, jy). The rows of different shards
+// are disjoint.
+func (p *plan) fwdRows(scr []complex128, s int) {
+	fx, fy := p.fx, p.fy
+	z, buf := scr[:fx], scr[fx:2*fx]
+	hw, k := fx/2, p.mirRows()
+	lo, hi := chunk(fy/2+1, s, rowShard)
+	for t := lo; t < hi; t++ {
+		r := p.midRow(t)
+		// The transform ends in the grid row, which it also takes as
+		// one of its two buffers.
+		row := p.grid[r*fx : r*fx+fx]
+		if p.fftX.halfEndsInX() {
+			p.fftX.transformHalf(p.mid[t*hw:t*hw+hw], 1, row, buf, 1, false)
+		} else {
+			p.fftX.transformHalf(p.mid[t*hw:t*hw+hw], 1, z, row, 1, false)
+		}
+		// Row fy − r, if it lies below fy/2 and a point reads it.
+		rm := (fy - r) & (fy - 1)
+		if rm >= 1 && rm < fy/2 && (rm <= k || rm >= fy/2-k) {
+			mir := p.grid[rm*fx : rm*fx+fx]
+			mir[0] = complex(real(row[0]), -imag(row[0]))
+			conjRev(mir[1:], row[1:]) // column fx − j = conj row[j]
+		}
+	}
 }
 
-// bandRow sets d to the sum, in shard order, of the band rows folding
-// onto fine row r, at columns c … c+len(d)−1.
-func (p *plan) bandRow(d []complex128, r, c int) {
+// adjRows runs the x transforms of Adjoint on the fine rows of mid
+// [rowShard·s, rowShard·(s+1)): each row is folded from the spreading
+// bands and made Hermitian, Hs(jx, jy) = H(jx, jy) + conj H(−jx, −jy),
+// whose other rows are then the conjugates of these (the rows −jy of H
+// are nonzero only within mirRows of the ends of the range); its image
+// columns go to mid.
+//
+// A band row folds onto one fine row, and only the x transform of that
+// row reads it, except for the rows 0 and fy/2, which are their own
+// mirrors: the others are summed and transformed in place, in the band
+// row of their first source, which the next spreading clears.
+func (p *plan) adjRows(scr []complex128, s int) {
+	nx, fx, fy := p.nx, p.fx, p.fy
+	z, buf := scr[:fx], scr[fx:2*fx]
+	h, hw, off := nx/2, fx/2, fx/4-nx/2
+	lo, hi := chunk(fy/2+1, s, rowShard)
+	for t := lo; t < hi; t++ {
+		r := p.midRow(t)
+		d := z
+		if srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]; len(srcs) > 0 && r != 0 && r != fy/2 {
+			d = p.band[int(srcs[0]) : int(srcs[0])+fx]
+			for _, o := range srcs[1:] {
+				s := p.band[int(o) : int(o)+fx]
+				for j := range d {
+					d[j] += s[j]
+				}
+			}
+		} else {
+			p.bandRow(z, r)
+		}
+		rm := (fy - r) & (fy - 1)
+		for _, o := range p.rowSrc[p.rowStart[rm]:p.rowStart[rm+1]] {
+			row := p.band[int(o) : int(o)+fx]
+			d[0] += complex(real(row[0]), -imag(row[0]))
+			addConjRev(d[1:], row[1:]) // column fx − j
+		}
+		out := p.fftX.transform(d, buf, 1, true)
+		// Image columns ix ≥ nx/2 come from 0, 1, ...; columns ix < nx/2
+		// from the top of the row.
+		dst := p.mid[t*hw+off : t*hw+off+nx]
+		copy(dst[:h], out[fx-h:])
+		copy(dst[h:], out[:nx-h])
+	}
+}
+
+// adjCols runs the y transforms of Adjoint for the image column pairs
+// [pairBlock·s, pairBlock·(s+1)) and writes the real part times the
+// correction into the image. The columns of the Hermitian Hs after the
+// x transforms are Hermitian along y, C(−jy) = conj C(jy), so their
+// inverse transforms are real, and two columns C1, C2 are transformed as
+// Z = C1 + iC2, whose inverse transform is z = c1 + i c2.
+func (p *plan) adjCols(scr []complex128, s int) {
+	nx, fx, fy := p.nx, p.fx, p.fy
+	const b = pairBlock
+	x, y := scr[:fy*b], scr[fy*b:2*fy*b]
+	q0 := s * b
+	nq := min(b, (nx+1)/2-q0)
+	full := 2*(q0+b) <= nx // b complete pairs
+	hw, off := fx/2, fx/4-nx/2
+	for t := 0; t <= fy/2; t++ {
+		src := p.mid[t*hw+off : t*hw+off+nx]
+		d := x[p.midRow(t)*b:][:b]
+		var e []complex128 // row fy/2 − t, the mirror of row fy/2 + t
+		if t >= 1 && t < fy/2 {
+			e = x[(fy/2-t)*b:][:b]
+		}
+		if full {
+			s2 := src[2*q0 : 2*q0+2*b]
+			for c := range d {
+				c1, c2 := s2[2*c], s2[2*c+1]
+				d[c] = complex(real(c1)-imag(c2), imag(c1)+real(c2))
+			}
+			if e != nil {
+				e = e[:len(d)]
+				for c := range e {
+					c1, c2 := s2[2*c], s2[2*c+1]
+					e[c] = complex(real(c1)+imag(c2), -imag(c1)+real(c2))
+				}
+			}
+			continue
+		}
+		for c := range d {
+			var c1, c2 complex128
+			if c < nq {
+				ix := 2 * (q0 + c)
+				c1 = src[ix]
+				if ix+1 < nx {
+					c2 = src[ix+1]
+				}
+			}
+			d[c] = complex(real(c1)-imag(c2), imag(c1)+real(c2))
+			if e != nil {
+				e[c] = complex(real(c1)+imag(c2), -imag(c1)+real(c2)) // conj c1 + i conj c2
+			}
+		}
+	}
+	out := p.fftY.transform(x, y, b, true)
+	// The factor 1/2 undoes the doubling in Hs = H + conj H(−·).
+	corr := p.corrX[:nx]
+	for iy, r := range p.imageRows {
+		o := out[int(r)*b : int(r)*b+b]
+		cy := 0.5 * p.corrY[iy]
+		d := p.dstR[iy*nx : iy*nx+nx]
+		if full {
+			d2, c2 := d[2*q0:2*q0+2*b], corr[2*q0:2*q0+2*b]
+			for c, v := range o {
+				d2[2*c] = real(v) * c2[2*c] * cy
+				d2[2*c+1] = imag(v) * c2[2*c+1] * cy
+			}
+			continue
+		}
+		for c := range nq {
+			ix := 2 * (q0 + c)
+			d[ix] = real(o[c]) * corr[ix] * cy
+			if ix+1 < nx {
+				d[ix+1] = imag(o[c]) * corr[ix+1] * cy
+			}
+		}
+	}
+}
+
+// bandRow sets d, of length fx, to the sum, in shard order, of the band
+// rows folding onto fine row r.
+func (p *plan) bandRow(d []complex128, r int) {
 	srcs := p.rowSrc[p.rowStart[r]:p.rowStart[r+1]]
 	if len(srcs) == 0 {
 		clear(d)
 		return
 	}
-	copy(d, p.band[int(srcs[0])+c:])
+	copy(d, p.band[int(srcs[0]):])
 	for _, o := range srcs[1:] {
-		s := p.band[int(o)+c:][:len(d)]
+		s := p.band[int(o):][:len(d)]
 		for j := range d {
 			d[j] += s[j]
-		}
-	}
-}
-
-// fwdMirror sets the columns jx ≥ hc of the grid that the points read
-// (the w columns below fx, where the kernels of the points near x = 0
-// wrap; plan.flip) and that mirror columns c … c+colBlock−1 of the
-// column block out, by the Hermitian symmetry G(jx, jy) = conj G(fx−jx,
-// −jy): column fx−j for each j in the block with 1 ≤ j ≤ min(w,
-// fx−hc). The block is still in cache, so the grid is written once and
-// never read back for this; the columns of different blocks are
-// disjoint. The columns hc ≤ jx < fx−w are never written nor read.
-func (p *plan) fwdMirror(out []complex128, c int) {
-	fx, fy := p.fx, p.fy
-	const b = colBlock
-	lo, hi := max(c, 1), min(c+b, fx-p.hc+1, p.w+1)
-	if lo >= hi {
-		return
-	}
-	for r := range fy {
-		src := out[((fy-r)&(fy-1))*b:][lo-c : hi-c]
-		conjRev(p.grid[r*fx+fx-hi+1:r*fx+fx-lo+1], src) // column fx−j = conj src[j]
-	}
-}
-
-// adjRows transforms image row pairs [lo, hi) along x and writes the
-// real part times the correction into the image. The columns jx > fx/2
-// of the Hermitian column output C are conj C(fx−jx); two rows C1, C2
-// are transformed as Z = C1 + iC2, whose inverse transform is
-// z = c1 + i c2 with c1, c2 real.
-func (p *plan) adjRows(scr []complex128, lo, hi int) {
-	nx, fx := p.nx, p.fx
-	z, buf := scr[:fx], scr[fx:2*fx]
-	h := nx / 2
-	for pr := lo; pr < hi; pr++ {
-		i1, i2 := 2*pr, 2*pr+1
-		// Columns 0 … fx/2 of the image rows, which hc covers.
-		g1 := p.half[i1*p.hc:][:fx/2+1]
-		g2 := g1
-		if i2 < p.ny {
-			g2 = p.half[i2*p.hc:][:fx/2+1]
-		}
-		for k := 0; k <= fx/2; k++ {
-			a, b := g1[k], g2[k]
-			z[k] = complex(real(a)-imag(b), imag(a)+real(b))
-		}
-		for k := fx/2 + 1; k < fx; k++ {
-			a, b := g1[fx-k], g2[fx-k] // conjugated below
-			z[k] = complex(real(a)+imag(b), -imag(a)+real(b))
-		}
-		out := p.fftX.transform(z, buf, 1, true)
-		// The factor 1/2 undoes the doubling in Hs = H + conj H(−·).
-		// Image columns ix ≥ nx/2 come from 0, 1, ...; columns ix < nx/2
-		// from the top of the row.
-		corr := p.corrX[:nx]
-		lo, hi := out[fx-h:fx], out[:nx-h]
-		c1 := 0.5 * p.corrY[i1]
-		d1 := p.dstR[i1*nx : i1*nx+nx]
-		for ix, v := range lo {
-			d1[ix] = real(v) * corr[ix] * c1
-		}
-		for j, v := range hi {
-			d1[h+j] = real(v) * corr[h+j] * c1
-		}
-		if i2 < p.ny {
-			c2 := 0.5 * p.corrY[i2]
-			d2 := p.dstR[i2*nx : i2*nx+nx]
-			for ix, v := range lo {
-				d2[ix] = imag(v) * corr[ix] * c2
-			}
-			for j, v := range hi {
-				d2[h+j] = imag(v) * corr[h+j] * c2
-			}
 		}
 	}
 }
@@ -782,13 +833,7 @@ func (p *plan) interpWrap(i int) {
 // keep this order, so every cell sums its terms in the same order.
 func (p *plan) spread(i int) {
 	band := p.band[p.bandOff[i] : p.bandOff[i]+p.bandRows[i]*p.fx]
-	// The columns of the zero zone are zero already.
-	zlo, zhi := p.zeroCols()
-	for r := 0; r < len(band); r += p.fx {
-		row := band[r : r+p.fx]
-		clear(row[:zlo])
-		clear(row[zhi:])
-	}
+	clear(band)
 	ylo, lo, hi := p.bandLo[i], p.ptLo[i], p.ptLo[i+1]
 	edge := p.edge[p.edgeLo[i]:p.edgeLo[i+1]]
 	if !p.inOrder && p.spreadGathers() {
@@ -881,7 +926,7 @@ func (p *plan) memBytes() (grid, perPoint, total int) {
 	grid = c * len(p.grid)
 	perPoint = len(p.flip) + i32*(len(p.perm)+len(p.x0)+len(p.y0)) + f*len(p.wts) + i32*len(p.wts32) + c*len(p.sorted)
 	// grid and band share their memory.
-	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.halfPad) + f*(len(p.corrX)+len(p.corrY)) +
+	total = c*max(len(p.grid), len(p.band)) + perPoint + c*len(p.mid) + f*(len(p.corrX)+len(p.corrY)) +
 		i32*(len(p.rowStart)+len(p.rowSrc)+len(p.imageRows)+len(p.edge))
 	for _, s := range p.scratch {
 		total += c * len(s)

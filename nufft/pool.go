@@ -23,28 +23,34 @@ type job interface {
 //
 // A call is a sequence of steps (the phases of a transform), each a
 // number of shards. The shards of all steps are numbered in one
-// sequence, which the workers take in turn from one counter; a shard of
-// step k starts only once every shard of the steps before it has
-// finished. So the helpers are woken once per call, not once per step,
-// and a helper that wakes late joins whatever step is running; the
-// caller never waits for a helper that has taken no shard.
+// sequence; a shard of step k starts only once every shard of the steps
+// before it has finished. So the helpers are woken once per call, not
+// once per step, and a helper that wakes late joins whatever step is
+// running; the caller never waits for a helper that has taken no shard.
+//
+// The shards still to take in step k are the range left[k]: worker 0
+// takes them from the front and the others from the back. The phases of
+// a transform that divide the grid by rows (the spreading, the x
+// transforms, the interpolation) number their shards in the same order
+// of rows, so with two workers each keeps working on the same half of
+// the grid from phase to phase, in its own cache, as far as the speeds
+// of the two allow (who runs a shard never changes what it computes).
 type pool struct {
 	n  int // workers including the calling goroutine
 	ch chan struct{}
 
 	// The running call, written by the caller before it publishes the
-	// call in state, read by a worker only after it has taken a shard.
+	// call in left, read by a worker only after it has taken a shard.
 	j     job
 	start []int // shards of step k are [start[k], start[k+1])
 	one   [1]int
 
-	// state packs the number of shards of the running call (high 32
-	// bits) and the next shard to take (low 32 bits); 0 while a call is
-	// being set up or none is running, so that nothing can be taken.
-	state atomic.Uint64
-	_     [56]byte // keeps the two counters on separate cache lines
-	done  atomic.Int64
-	_     [56]byte
+	// left[k] packs the shards of step k not yet taken, [lo, hi), as lo
+	// (low 32 bits) and hi (high 32 bits); empty (lo ≥ hi) while a call
+	// is being set up or none is running, so that nothing can be taken.
+	left [maxSteps]paddedWord
+	done atomic.Int64
+	_    [56]byte
 
 	// Helpers blocked on ch.
 	parked atomic.Int64
@@ -56,6 +62,15 @@ type pool struct {
 	// wake-ups taken by another waiter and block for ever).
 	sleepers atomic.Int64
 	wake     []chan struct{}
+}
+
+// maxSteps is the largest number of steps of a call.
+const maxSteps = nPhases
+
+// paddedWord is an atomic word alone on its cache line.
+type paddedWord struct {
+	atomic.Uint64
+	_ [56]byte
 }
 
 func newPool(n int) *pool {
@@ -105,52 +120,60 @@ func helper(p *pool, ch chan struct{}, w int) {
 
 // pending reports whether the running call has shards left to take.
 func (p *pool) pending() bool {
-	v := p.state.Load()
-	return v&(1<<32-1) < v>>32
+	for k := range p.left {
+		v := p.left[k].Load()
+		if uint32(v) < uint32(v>>32) {
+			return true
+		}
+	}
+	return false
 }
 
-// take returns the next shard of the running call, or false when none
-// is left.
-func (p *pool) take() (int, bool) {
+// take returns a shard of step k not yet taken, the first if front is
+// set and the last otherwise, or false when none is left.
+func (p *pool) take(k int, front bool) (int, bool) {
 	for {
-		v := p.state.Load()
-		total, next := v>>32, v&(1<<32-1)
-		if next >= total {
+		v := p.left[k].Load()
+		lo, hi := uint32(v), uint32(v>>32)
+		if lo >= hi {
 			return 0, false
 		}
-		if p.state.CompareAndSwap(v, v+1) {
-			return int(next), true
+		g, nv := lo, v+1
+		if !front {
+			g, nv = hi-1, uint64(lo)|uint64(hi-1)<<32
+		}
+		if p.left[k].CompareAndSwap(v, nv) {
+			return int(g), true
 		}
 	}
 }
 
 // work runs shards on worker w until none is left.
 func (p *pool) work(w int) {
-	for {
-		g, ok := p.take()
-		if !ok {
-			return
-		}
-		// The step of shard g; a helper's loop may run into the next
-		// call, so k starts afresh.
-		k := 0
-		for g >= p.start[k+1] {
-			k++
-		}
-		if k > 0 {
-			p.wait(w, int64(p.start[k]))
-		}
-		// Read before the shard is counted done, after which the caller
-		// may set up its next call.
-		end := int64(p.start[k+1])
-		p.j.do(w, g)
-		// At the end of a step, wake the workers blocked in wait; a
-		// full channel already holds a wake-up its worker will take.
-		if p.done.Add(1) == end && p.sleepers.Load() > 0 {
-			for _, c := range p.wake {
-				select {
-				case c <- struct{}{}:
-				default:
+	for k := range p.left {
+		for {
+			g, ok := p.take(k, w == 0)
+			if !ok {
+				break
+			}
+			// A helper's loop may run into the next call, whose setup
+			// finished before its shards could be taken: start is read
+			// afresh.
+			if k > 0 {
+				p.wait(w, int64(p.start[k]))
+			}
+			// Read before the shard is counted done, after which the
+			// caller may set up its next call.
+			end := int64(p.start[k+1])
+			p.j.do(w, g)
+			// At the end of a step, wake the workers blocked in wait; a
+			// full channel already holds a wake-up its worker will take.
+			if p.done.Add(1) == end && p.sleepers.Load() > 0 {
+				for _, c := range p.wake {
+					select {
+					case c <- struct{}{}:
+					default:
+					}
 				}
 			}
 		}
@@ -212,17 +235,22 @@ func (p *pool) runSteps(j job, counts []int) {
 		}
 		return
 	}
-	if total >= 1<<32 {
+	if total >= 1<<32 || len(counts) > maxSteps {
 		panic("nufft: too many shards")
 	}
-	p.state.Store(0)
+	// Every range is empty at the end of a call, so nothing can be
+	// taken until the stores below publish the call.
 	p.j = j
 	p.start = append(p.start[:0], 0)
 	for _, c := range counts {
 		p.start = append(p.start, p.start[len(p.start)-1]+c)
 	}
 	p.done.Store(0)
-	p.state.Store(uint64(total) << 32)
+	for k := range counts {
+		if counts[k] > 0 {
+			p.left[k].Store(uint64(p.start[k]) | uint64(p.start[k+1])<<32)
+		}
+	}
 	for range min(p.parked.Load(), int64(total)-1) {
 		select {
 		case p.ch <- struct{}{}:
