@@ -237,11 +237,11 @@ func TestCubeChromaticWeight(t *testing.T) {
 	}
 }
 
-// TestCubeFactorWorkers checks that the factor search does not depend on the number of
-// workers of the transforms: a disc and a Gaussian of opposite spectral indices, whose gray
-// image cannot fit all channels, give the same factors and the same bits with 1 and 3
-// workers.
-func TestCubeFactorWorkers(t *testing.T) {
+// oppositeIndices returns the data of a disc of 2 mas and spectral index −3 and a Gaussian of
+// 4 mas and index +1 (flux ratio 1:0.5 at 1.6 µm) in 6 channels, whose gray image cannot fit
+// all channels, split into 3 planes.
+func oppositeIndices(t *testing.T) (*dataset.Data, []CubePlane) {
+	t.Helper()
 	vis := func(l float64) func(u, v float64) complex128 {
 		a, b := math.Pow(l/1.6e-6, -3), 0.5*(l/1.6e-6)
 		return func(u, v float64) complex128 {
@@ -255,6 +255,15 @@ func TestCubeFactorWorkers(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return d, planes
+}
+
+// TestCubeFactorWorkers checks that the factor search does not depend on the number of
+// workers of the transforms: a disc and a Gaussian of opposite spectral indices, whose gray
+// image cannot fit all channels, give the same factors and the same bits with 1 and 3
+// workers.
+func TestCubeFactorWorkers(t *testing.T) {
+	d, planes := oppositeIndices(t)
 	var imgs [][]float64
 	var paths [][]CubeWeightStep
 	for _, w := range []int{1, 3} {
@@ -283,19 +292,7 @@ func TestCubeFactorWorkers(t *testing.T) {
 // them (the definition in SolveCube's doc, c = DefaultSpectralJoint). The data are those of
 // TestCubeFactorWorkers, whose gray image cannot fit all channels.
 func TestCubeJointEtaFollowsFactor(t *testing.T) {
-	vis := func(l float64) func(u, v float64) complex128 {
-		a, b := math.Pow(l/1.6e-6, -3), 0.5*(l/1.6e-6)
-		return func(u, v float64) complex128 {
-			q := math.Hypot(u, v)
-			return complex((a*UniformDiscV(2*Mas, q)+b*GaussianV(4*Mas, q))/(a+b), 0)
-		}
-	}
-	d := observeChromatic(41, 5, 100, vis,
-		synthOpts{nchan: 6, nha: 4, lmin: 1.5e-6, lmax: 2.4e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{Groups: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, planes := oppositeIndices(t)
 	g := Grid{N: 24, Pixel: 0.4 * Mas}
 	s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 4}
 	r, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: g}, Planes: planes, Spectral: SpectralJoint}, s)
