@@ -118,8 +118,9 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 
 // multiProgress shows one line per regularizer on stderr. On a terminal the
 // block of lines is redrawn in place (ANSI cursor-up), at most ten times a
-// second; otherwise a plain line is printed when a run starts, enters a new
-// stage, ends or fails. A nil *multiProgress shows nothing. Its methods are
+// second; otherwise a plain line is printed when a run starts, ends or fails,
+// and for each stage of a run its last state (final iteration and χ²ᵣ) when the
+// stage ends, with at most one line every plainEvery within a long stage. A nil *multiProgress shows nothing. Its methods are
 // safe for concurrent use.
 type multiProgress struct {
 	mu     sync.Mutex
@@ -131,6 +132,10 @@ type multiProgress struct {
 	drawn  bool
 	last   time.Time
 	start0 time.Time
+	// Plain output: each run's latest state not yet written, when its stage began
+	// and when a line of it was last written.
+	pending        []string
+	stageAt, wrote []time.Time
 }
 
 func newMultiProgress(w io.Writer, runs []*workflow.CompareRun) *multiProgress {
@@ -144,6 +149,8 @@ func newMultiProgress(w io.Writer, runs []*workflow.CompareRun) *multiProgress {
 		p.lines = append(p.lines, "waiting")
 		p.stages = append(p.stages, "")
 	}
+	p.pending = make([]string, len(runs))
+	p.stageAt, p.wrote = make([]time.Time, len(runs)), make([]time.Time, len(runs))
 	p.mu.Lock()
 	if p.tty {
 		p.redraw()
@@ -202,7 +209,29 @@ func (p *multiProgress) update(i int, pr recon.Progress) {
 	defer p.mu.Unlock()
 	newStage := pr.Stage != p.stages[i]
 	p.stages[i] = pr.Stage
-	p.set(i, fmt.Sprintf("running  %-12s iter %4d  χ²ᵣ %.4g%s  μ %.3g", pr.Stage, pr.Iter, pr.Chi2r, typesText(pr.Types), pr.Weight), newStage)
+	line := fmt.Sprintf("running  %-12s iter %4d  χ²ᵣ %.4g%s  μ %.3g", pr.Stage, pr.Iter, pr.Chi2r, typesText(pr.Types), pr.Weight)
+	if p.tty {
+		p.set(i, line, newStage)
+		return
+	}
+	now := time.Now()
+	if newStage {
+		p.flush(i)
+		p.stageAt[i] = now
+	}
+	p.lines[i], p.pending[i] = line, line
+	if now.Sub(p.stageAt[i]) >= plainEvery && now.Sub(p.wrote[i]) >= plainEvery {
+		p.flush(i)
+		p.wrote[i] = now
+	}
+}
+
+// flush writes run i's pending plain line, if any. The caller holds mu.
+func (p *multiProgress) flush(i int) {
+	if p.pending[i] != "" {
+		fmt.Fprintf(p.w, "%s  %s\n", p.names[i], p.pending[i])
+		p.pending[i] = ""
+	}
 }
 
 func (p *multiProgress) end(i int, r *workflow.CompareRun) {
@@ -211,6 +240,9 @@ func (p *multiProgress) end(i int, r *workflow.CompareRun) {
 	}
 	p.mu.Lock()
 	defer p.mu.Unlock()
+	if !p.tty {
+		p.flush(i)
+	}
 	if r.Err != nil {
 		p.set(i, "failed: "+output.OneLine(r.Err.Error()), true)
 		return

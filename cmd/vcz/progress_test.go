@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"vcz/recon"
+	"vcz/workflow"
 )
 
 // TestClip checks that a progress line rewritten in place fits the terminal: fewer
@@ -57,5 +58,45 @@ func TestPlainProgressRate(t *testing.T) {
 		if !strings.Contains(lines[i], "iter  300") {
 			t.Errorf("line %d = %q, want the stage's last iteration, 300", i, lines[i])
 		}
+	}
+}
+
+// TestPlainCompareProgress checks the plain progress of a comparison (a log or a pipe): for
+// each run a line when it starts, its stages' last states (their final iterations, not their
+// first) while iterations follow quickly, and its end.
+func TestPlainCompareProgress(t *testing.T) {
+	var b bytes.Buffer
+	runs := []*workflow.CompareRun{{Name: "tv"}, {Name: "mem"}}
+	p := newMultiProgress(&b, runs)
+	for i := range runs {
+		p.start(i)
+	}
+	for _, stage := range []string{"weight 1/14", "final"} {
+		for it := 1; it <= 300; it++ {
+			for i := range runs {
+				p.update(i, recon.Progress{Stage: stage, Iter: it, Objective: 1, Chi2r: 1, Weight: 1})
+			}
+		}
+	}
+	for i, r := range runs {
+		r.Result = &recon.Result{Chi2r: 1, TotalIter: 600}
+		p.end(i, r)
+	}
+	lines := strings.Split(strings.TrimSpace(b.String()), "\n")
+	// waiting ×2, running ×2, two stages ×2, done ×2.
+	if len(lines) != 10 {
+		t.Fatalf("%d lines, want 10:\n%s", len(lines), b.String())
+	}
+	stages := 0
+	for _, l := range lines {
+		if strings.Contains(l, "iter ") {
+			stages++
+			if !strings.Contains(l, "iter  300") {
+				t.Errorf("%q: want the stage's last iteration, 300", l)
+			}
+		}
+	}
+	if stages != 4 || !strings.Contains(lines[9], "done") {
+		t.Errorf("%d stage lines (want 4), last line %q:\n%s", stages, lines[9], b.String())
 	}
 }
