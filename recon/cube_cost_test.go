@@ -75,12 +75,7 @@ func TestRunEvaluatesOnce(t *testing.T) {
 func TestCubeKnownData(t *testing.T) {
 	const n, pixel, P = 8, 1e-9, 3
 	rng := rand.New(rand.NewPCG(4, 4))
-	var planes []CubePlane
-	for range P {
-		d := randomData(rng, 0.25/pixel)
-		d.Targets = []string{"T"}
-		planes = append(planes, CubePlane{Data: d})
-	}
+	planes := randomPlanes(rng, P, 0.25/pixel)
 	g := Grid{N: n, Pixel: pixel}
 	x := make([]float64, P*n*n)
 	for i := range x {

@@ -212,18 +212,24 @@ func cubeObjectiveFor(t *testing.T, planes []CubePlane, g Grid, reg RegularizerF
 	return c
 }
 
+// randomPlanes returns P planes of randomData (target "T") with frequencies up to fmax.
+func randomPlanes(rng *rand.Rand, P int, fmax float64) []CubePlane {
+	var planes []CubePlane
+	for range P {
+		d := randomData(rng, fmax)
+		d.Targets = []string{"T"}
+		planes = append(planes, CubePlane{Data: d})
+	}
+	return planes
+}
+
 // TestCubeObjectiveGradient checks the cube objective's gradient against central finite
 // differences (gonum diff/fd), with each spectral term, and that it does not depend on the
 // number of workers.
 func TestCubeObjectiveGradient(t *testing.T) {
 	const n, pixel, P = 8, 1e-9, 3
 	rng := rand.New(rand.NewPCG(9, 9))
-	var planes []CubePlane
-	for range P {
-		d := randomData(rng, 0.25/pixel)
-		d.Targets = []string{"T"}
-		planes = append(planes, CubePlane{Data: d})
-	}
+	planes := randomPlanes(rng, P, 0.25/pixel)
 	g := Grid{N: n, Pixel: pixel}
 	x := make([]float64, P*n*n)
 	for i := range x {
