@@ -1,7 +1,5 @@
 package recon
 
-import "vcz/dataset"
-
 // centreCube moves every plane of a cube by the same whole number of pixels, cyclically, so
 // that the centroid of the normalised planes' sum is nearest to the centre pixel, and returns
 // the move (along the x and y indices; zero when none). x holds the planes as the optimizer
@@ -17,11 +15,8 @@ import "vcz/dataset"
 // Nothing is moved when a plane fits visibility phases, which fix the position, or when the
 // problem holds a support or no flux normalisation (as Solve's recentre).
 func centreCube(c *CubeObjective, cp CubeProblem, x, cube []float64, n int) [2]int {
-	if cp.Unnormalized || cp.Support != 0 {
-		return [2]int{}
-	}
 	for _, t := range c.Planes {
-		if t.Obj.Use()&dataset.VisPhi != 0 {
+		if !positionFree(cp.Problem, t.Obj.Use()) {
 			return [2]int{}
 		}
 	}

@@ -773,7 +773,7 @@ func Solve(p Problem, s Settings) (*Result, error) {
 		res.Chi2rFloor, res.Chi2rAim = ws.floor, ws.target
 	}
 	e.obj.SetPhaseSmoothing(0)
-	if use&dataset.VisPhi == 0 && !p.Unnormalized && p.Support == 0 {
+	if positionFree(p, use) {
 		x0 = append([]float64(nil), x0...)
 		if sh := recentre(x0, g.N); sh != [2]int{} {
 			res.Shift = sh
@@ -1253,6 +1253,14 @@ func recentre(img []float64, n int) [2]int {
 		shiftCyclic(img, n, sh)
 	}
 	return sh
+}
+
+// positionFree reports whether the data types used leave an image of p free to move: without
+// visibility phases, which fix the position, and with flux normalisation and no support
+// (which is fixed in place), an image moved by whole pixels fits as well (recentre,
+// centreCube).
+func positionFree(p Problem, use dataset.DataType) bool {
+	return use&dataset.VisPhi == 0 && !p.Unnormalized && p.Support == 0
 }
 
 // centreShift returns the move by whole pixels (along the x and y indices) that brings the
