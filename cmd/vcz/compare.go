@@ -132,10 +132,8 @@ type multiProgress struct {
 	drawn  bool
 	last   time.Time
 	start0 time.Time
-	// Plain output: each run's latest state not yet written, when its stage began
-	// and when a line of it was last written.
-	pending        []string
-	stageAt, wrote []time.Time
+	plain  []stageLog     // plain output: what each run's log shows
+	writes []func(string) // and the writers of its lines
 }
 
 func newMultiProgress(w io.Writer, runs []*workflow.CompareRun) *multiProgress {
@@ -149,8 +147,10 @@ func newMultiProgress(w io.Writer, runs []*workflow.CompareRun) *multiProgress {
 		p.lines = append(p.lines, "waiting")
 		p.stages = append(p.stages, "")
 	}
-	p.pending = make([]string, len(runs))
-	p.stageAt, p.wrote = make([]time.Time, len(runs)), make([]time.Time, len(runs))
+	p.plain = make([]stageLog, len(runs))
+	for i := range runs {
+		p.writes = append(p.writes, func(s string) { fmt.Fprintf(p.w, "%s  %s\n", p.names[i], s) })
+	}
 	p.mu.Lock()
 	if p.tty {
 		p.redraw()
@@ -214,24 +214,8 @@ func (p *multiProgress) update(i int, pr recon.Progress) {
 		p.set(i, line, newStage)
 		return
 	}
-	now := time.Now()
-	if newStage {
-		p.flush(i)
-		p.stageAt[i] = now
-	}
-	p.lines[i], p.pending[i] = line, line
-	if now.Sub(p.stageAt[i]) >= plainEvery && now.Sub(p.wrote[i]) >= plainEvery {
-		p.flush(i)
-		p.wrote[i] = now
-	}
-}
-
-// flush writes run i's pending plain line, if any. The caller holds mu.
-func (p *multiProgress) flush(i int) {
-	if p.pending[i] != "" {
-		fmt.Fprintf(p.w, "%s  %s\n", p.names[i], p.pending[i])
-		p.pending[i] = ""
-	}
+	p.lines[i] = line
+	p.plain[i].update(time.Now(), newStage, line, p.writes[i])
 }
 
 func (p *multiProgress) end(i int, r *workflow.CompareRun) {
@@ -241,7 +225,7 @@ func (p *multiProgress) end(i int, r *workflow.CompareRun) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	if !p.tty {
-		p.flush(i)
+		p.plain[i].flush(p.writes[i])
 	}
 	if r.Err != nil {
 		p.set(i, "failed: "+output.OneLine(r.Err.Error()), true)

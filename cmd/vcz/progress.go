@@ -65,10 +65,36 @@ type progressLine struct {
 	stage   string
 	started time.Time
 	dirty   bool
-	// pending is the plain text of the stage's latest state when it has not been
-	// written yet; stageAt is when the stage began.
-	pending string
-	stageAt time.Time
+	plain   stageLog
+}
+
+// stageLog decides what a plain progress log (a file or a pipe) shows of one run: the last
+// state of each stage, written when the next stage begins or the run ends (flush), and
+// within a long stage at most one line every plainEvery.
+type stageLog struct {
+	pending        string    // the stage's latest state, not written yet
+	stageAt, wrote time.Time // when the stage began and when a line was last written
+}
+
+// update takes the state text of stage newStage or not, at now; write writes a line.
+func (l *stageLog) update(now time.Time, newStage bool, text string, write func(string)) {
+	if newStage {
+		l.flush(write)
+		l.stageAt = now
+	}
+	l.pending = text
+	if now.Sub(l.stageAt) >= plainEvery && now.Sub(l.wrote) >= plainEvery {
+		l.flush(write)
+		l.wrote = now
+	}
+}
+
+// flush writes the pending state, if any.
+func (l *stageLog) flush(write func(string)) {
+	if l.pending != "" {
+		write(l.pending)
+		l.pending = ""
+	}
 }
 
 func newProgressLine(w io.Writer, quiet bool) *progressLine {
@@ -106,24 +132,11 @@ func (p *progressLine) report(pr recon.Progress) {
 		p.last = now
 		return
 	}
-	if newStage {
-		p.flush()
-		p.stageAt = now
-	}
-	p.pending = text
-	if now.Sub(p.stageAt) >= plainEvery && now.Sub(p.last) >= plainEvery {
-		p.flush()
-		p.last = now
-	}
+	p.plain.update(now, newStage, text, p.writeLine)
 }
 
-// flush writes the pending plain line, if any.
-func (p *progressLine) flush() {
-	if p.pending != "" {
-		fmt.Fprintln(p.w, p.pending)
-		p.pending = ""
-	}
-}
+// writeLine writes one plain line.
+func (p *progressLine) writeLine(s string) { fmt.Fprintln(p.w, s) }
 
 // done ends the display, leaving the cursor on a fresh line.
 func (p *progressLine) done() {
@@ -136,7 +149,7 @@ func (p *progressLine) done() {
 		fmt.Fprint(p.w, "\r\033[K")
 	}
 	p.dirty = false
-	p.flush()
+	p.plain.flush(p.writeLine)
 }
 
 // typesText returns " (vis2 1.02 t3phi 0.98)", χ²ᵣ of each data type, or "" for fewer than
