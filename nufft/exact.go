@@ -99,6 +99,9 @@ func (e *Exact) Len() int { return len(e.s) }
 // Size returns the image size.
 func (e *Exact) Size() (nx, ny int) { return e.nx, e.ny }
 
+// SetSerial is Plan.SetSerial.
+func (e *Exact) SetSerial(on bool) { e.pool.serial = on }
+
 // Forward sets dst[k] = Σ img[iy·nx+ix] exp(−2πi (u_k x + v_k y)).
 // dst must have length m and img length nx·ny; they cannot alias.
 func (e *Exact) Forward(dst []complex128, img []float64) {

@@ -369,7 +369,8 @@ func TestAllocs(t *testing.T) {
 }
 
 // TestWorkers checks that results do not depend on scheduling nor on the
-// number of workers: repeated calls, and calls with 1, 2, 3 and 5 workers
+// number of workers: repeated calls (serial ones, SetSerial), and calls
+// with 1, 2, 3 and 5 workers
 // (beyond GOMAXPROCS on purpose), give bitwise identical Forward and
 // Adjoint results, for Plan at two tolerances (float32 and float64
 // weights) and for Exact. The image has 70 rows, which is not a multiple
@@ -420,8 +421,11 @@ func TestWorkers(t *testing.T) {
 			f1, f2 := make([]complex128, c.m), make([]complex128, c.m)
 			a1, a2 := make([]float64, nx*ny), make([]float64, nx*ny)
 			tr.Forward(f1, img)
-			tr.Forward(f2, img)
 			tr.Adjoint(a1, vis[:c.m])
+			// The repeated calls run serially (SetSerial), as a caller running several
+			// transforms at once has them.
+			tr.(interface{ SetSerial(bool) }).SetSerial(true)
+			tr.Forward(f2, img)
 			tr.Adjoint(a2, vis[:c.m])
 			stopPool(pl.ch)
 			if refF == nil {
@@ -429,12 +433,12 @@ func TestWorkers(t *testing.T) {
 			}
 			for k := range f1 {
 				if f1[k] != f2[k] || f1[k] != refF[k] {
-					t.Fatalf("%s, %d workers: Forward at point %d: %v, repeated %v, 1 worker %v", c.name, w, k, f1[k], f2[k], refF[k])
+					t.Fatalf("%s, %d workers: Forward at point %d: %v, repeated serially %v, 1 worker %v", c.name, w, k, f1[k], f2[k], refF[k])
 				}
 			}
 			for k := range a1 {
 				if a1[k] != a2[k] || a1[k] != refA[k] {
-					t.Fatalf("%s, %d workers: Adjoint at pixel %d: %v, repeated %v, 1 worker %v", c.name, w, k, a1[k], a2[k], refA[k])
+					t.Fatalf("%s, %d workers: Adjoint at pixel %d: %v, repeated serially %v, 1 worker %v", c.name, w, k, a1[k], a2[k], refA[k])
 				}
 			}
 		}

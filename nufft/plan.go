@@ -393,6 +393,13 @@ func (p *Plan) KernelWidth() int { return p.w }
 // changes the speed of a call, not its result.
 func (p *Plan) Workers() int { return p.workers }
 
+// SetSerial makes the calls that follow run on the calling goroutine
+// alone (on), or on up to Workers() goroutines again (off): for a caller
+// that runs several transforms at once, one per processor. It changes
+// the speed of a call, not its result. It must not be called during a
+// call.
+func (p *Plan) SetSerial(on bool) { p.pool.serial = on }
+
 // Forward sets dst[k] = Σ img[iy·nx+ix] exp(−2πi (u_k x + v_k y)) to the
 // plan's tolerance. dst must have length m and img length nx·ny; they
 // cannot alias.

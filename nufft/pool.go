@@ -38,6 +38,8 @@ type job interface {
 type pool struct {
 	n  int // workers including the calling goroutine
 	ch chan struct{}
+	// serial runs every shard on the calling goroutine (Plan.SetSerial).
+	serial bool
 
 	// The running call, written by the caller before it publishes the
 	// call in left, read by a worker only after it has taken a shard.
@@ -236,7 +238,7 @@ func (p *pool) runSteps(j job, counts []int) {
 	for _, c := range counts {
 		total += c
 	}
-	if min(p.n, total) <= 1 {
+	if p.serial || min(p.n, total) <= 1 {
 		for g := range total {
 			j.do(0, g)
 		}
