@@ -5,6 +5,7 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"runtime"
+	"sync"
 	"testing"
 	"time"
 
@@ -26,15 +27,32 @@ type transformTimes struct {
 func (t timedTransform) Forward(dst []complex128, img []float64) {
 	t0 := time.Now()
 	t.Transform.Forward(dst, img)
-	t.t.fwd += time.Since(t0)
-	t.t.nfwd++
+	t.t.add(&t.t.fwd, &t.t.nfwd, time.Since(t0))
 }
 
 func (t timedTransform) Adjoint(dst []float64, vis []complex128) {
 	t0 := time.Now()
 	t.Transform.Adjoint(dst, vis)
-	t.t.adj += time.Since(t0)
-	t.t.nadj++
+	t.t.add(&t.t.adj, &t.t.nadj, time.Since(t0))
+}
+
+// timedMu guards the transformTimes of timed transforms, which the planes of a cube call at
+// once.
+var timedMu sync.Mutex
+
+// add adds one call of duration d to the sum *sum and the count *n.
+func (t *transformTimes) add(sum *time.Duration, n *int, d time.Duration) {
+	timedMu.Lock()
+	*sum += d
+	*n++
+	timedMu.Unlock()
+}
+
+// SetSerial passes the setting on to the transform when it has it (nufft.Plan.SetSerial).
+func (t timedTransform) SetSerial(on bool) {
+	if s, ok := t.Transform.(interface{ SetSerial(bool) }); ok {
+		s.SetSerial(on)
+	}
 }
 
 // timedSorted is timedTransform for a transform that also works in its own order of the
@@ -49,15 +67,13 @@ func (t timedSorted) Order(dst []int) { t.st.Order(dst) }
 func (t timedSorted) ForwardSorted(dst []complex128, img []float64) {
 	t0 := time.Now()
 	t.st.ForwardSorted(dst, img)
-	t.t.fwd += time.Since(t0)
-	t.t.nfwd++
+	t.t.add(&t.t.fwd, &t.t.nfwd, time.Since(t0))
 }
 
 func (t timedSorted) AdjointSorted(dst []float64, vis []complex128) {
 	t0 := time.Now()
 	t.st.AdjointSorted(dst, vis)
-	t.t.adj += time.Since(t0)
-	t.t.nadj++
+	t.t.add(&t.t.adj, &t.t.nadj, time.Since(t0))
 }
 
 // timed wraps tr so that its calls are timed in t, keeping its sorted calls when it has them.

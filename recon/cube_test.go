@@ -1,10 +1,13 @@
 package recon
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	rf "reflect"
 	"slices"
+	"sync"
+	"sync/atomic"
 	"testing"
 
 	"gonum.org/v1/gonum/diff/fd"
@@ -460,8 +463,12 @@ func TestCubeGrayObject(t *testing.T) {
 
 func cmplxExp(phi float64) complex128 { s, c := math.Sincos(phi); return complex(c, s) }
 
-// TestSolveCubeWorkers checks that the cube does not depend on the number of workers of the
-// transforms: the same data and settings give the same bits.
+// TestSolveCubeWorkers checks that the cube does not depend on the number of workers: the same
+// data and settings give the same bits with one and with three, for each spectral term, which
+// fit the planes one at a time (JointSparsity), even ones and odd ones at once
+// (SpectralSmoothness) or all at once (none; planeGroups). With several planes running at
+// once, the progress function is still called one call at a time, and every plane's run
+// reports its last iteration (planeReporter).
 func TestSolveCubeWorkers(t *testing.T) {
 	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
 		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
@@ -469,21 +476,66 @@ func TestSolveCubeWorkers(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var imgs [][]float64
-	for _, w := range []int{1, 3} {
-		s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 3, Workers: w}
-		r, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}}, Planes: planes, Spectral: SpectralJoint}, s)
-		if err != nil {
-			t.Fatal(err)
+	for _, spec := range []Spectral{SpectralJoint, SpectralSmooth, SpectralNone} {
+		var imgs [][]float64
+		for _, w := range []int{1, 3} {
+			var inside, overlaps atomic.Int32
+			var mu sync.Mutex
+			seen := map[string]bool{}
+			s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 3, Workers: w, Progress: func(p Progress) bool {
+				if inside.Add(1) > 1 {
+					overlaps.Add(1)
+				}
+				mu.Lock()
+				seen[p.Stage] = true
+				mu.Unlock()
+				inside.Add(-1)
+				return true
+			}}
+			r, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}}, Planes: planes, Spectral: spec}, s)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if n := overlaps.Load(); n > 0 {
+				t.Errorf("%v, %d workers: the progress function was called during another call %d times", spec, w, n)
+			}
+			for k := range planes {
+				if st := fmt.Sprintf("plane %d/%d", k+1, len(planes)); !seen[st] {
+					t.Errorf("%v, %d workers: no report of stage %q", spec, w, st)
+				}
+			}
+			var all []float64
+			for _, p := range r.Planes {
+				all = append(all, p.Image...)
+			}
+			imgs = append(imgs, all)
 		}
-		var all []float64
-		for _, p := range r.Planes {
-			all = append(all, p.Image...)
+		if !slices.Equal(imgs[0], imgs[1]) {
+			t.Errorf("%v: the cube depends on the number of workers", spec)
 		}
-		imgs = append(imgs, all)
 	}
-	if !slices.Equal(imgs[0], imgs[1]) {
-		t.Error("the cube depends on the number of workers")
+}
+
+// TestPlaneGroups checks the groups of the sweeps against the couplings of the spectral terms:
+// SpectralSmoothness ties each plane to its neighbours only, so no two planes of a group may be
+// neighbours and each group's planes follow in order (red–black Gauss–Seidel); without a
+// spectral term every plane is alone in its objective; JointSparsity ties all planes.
+func TestPlaneGroups(t *testing.T) {
+	for _, c := range []struct {
+		p    int
+		spec Regularizer
+		want [][]int
+	}{
+		{5, &SpectralSmoothness{}, [][]int{{0, 2, 4}, {1, 3}}},
+		{6, &SpectralSmoothness{}, [][]int{{0, 2, 4}, {1, 3, 5}}},
+		{1, &SpectralSmoothness{}, [][]int{{0}}},
+		{4, nil, [][]int{{0, 1, 2, 3}}},
+		{3, &JointSparsity{}, [][]int{{0}, {1}, {2}}},
+	} {
+		got := planeGroups(c.p, c.spec)
+		if !slices.EqualFunc(got, c.want, slices.Equal) {
+			t.Errorf("%d planes, %T: groups %v, want %v", c.p, c.spec, got, c.want)
+		}
 	}
 }
 

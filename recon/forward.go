@@ -39,6 +39,15 @@ func NewTransform(workers int) TransformFunc {
 	}
 }
 
+// setSerial makes the model's transform run its calls on the calling goroutine alone (on) or
+// on its workers again (off), where the transform allows it (nufft.Plan.SetSerial): for a
+// caller that runs several models at once, one per processor. Results do not change.
+func (m *ForwardModel) setSerial(on bool) {
+	if s, ok := m.tr.(interface{ SetSerial(bool) }); ok {
+		s.SetSerial(on)
+	}
+}
+
 // ForwardModel is the forward model of a gray image: the normalised complex visibility
 // V(u,v) = Σ x_p exp(−2πi(u x_p + v y_p)) / Σ x_p at every distinct (u,v) point of a data set,
 // computed with one transform. It holds the buffers of one evaluation and is not safe for
