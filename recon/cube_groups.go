@@ -3,47 +3,39 @@ package recon
 import (
 	"runtime"
 	"sync"
-	"sync/atomic"
+	"time"
 )
 
-// planeGroups returns the groups in which a sweep of SolveCube fits the planes: the planes of
-// a group are fitted at once, each with the planes of the other groups held, and the groups
-// one after the other. The order is Gauss–Seidel's in every case, so that each plane's run
-// lowers the cube objective; it is fixed by the spectral term alone, never by the number of
-// workers:
-//   - SpectralSmoothness couples each plane to its neighbours only: the even planes, then the
-//     odd ones (the red–black ordering of Gauss–Seidel for a chain: Young 1971, Iterative
-//     Solution of Large Linear Systems, ch. 5, from memory);
-//   - without a spectral term the planes are independent: one group;
-//   - any other spectral term couples every plane to every other: one plane per group, in
-//     order.
-func planeGroups(p int, spectral Regularizer) [][]int {
+// planeDeps returns, for each plane, the planes whose run in the same sweep of SolveCube must
+// end before its own starts, and whether they form a chain (each plane after the one before,
+// so that one plane runs at a time). Each plane is fitted with the others held at their latest
+// images (Gauss–Seidel, so that every plane's run lowers the cube objective); a plane's run
+// reads only the planes its objective holds, so any order that keeps these dependencies gives
+// the same cube, whatever the number of workers and whichever plane ends first:
+//   - SpectralSmoothness ties each plane to its neighbours only: the even planes depend on
+//     nothing in the sweep and the odd ones on their even neighbours (the red–black ordering
+//     of Gauss–Seidel for a chain: Young 1971, Iterative Solution of Large Linear Systems,
+//     ch. 5, from memory), so an odd plane starts as soon as its neighbours are fitted;
+//   - without a spectral term the planes are independent;
+//   - any other spectral term ties every plane to every other: the planes in order, a chain.
+func planeDeps(p int, spectral Regularizer) (deps [][]int, chain bool) {
+	deps = make([][]int, p)
 	switch spectral.(type) {
 	case *SpectralSmoothness:
-		var even, odd []int
-		for k := range p {
-			if k%2 == 0 {
-				even = append(even, k)
-			} else {
-				odd = append(odd, k)
+		for k := 1; k < p; k += 2 {
+			deps[k] = []int{k - 1}
+			if k+1 < p {
+				deps[k] = append(deps[k], k+1)
 			}
 		}
-		if len(odd) == 0 {
-			return [][]int{even}
-		}
-		return [][]int{even, odd}
 	case nil:
-		all := make([]int, p)
-		for k := range all {
-			all[k] = k
+	default:
+		for k := 1; k < p; k++ {
+			deps[k] = []int{k - 1}
 		}
-		return [][]int{all}
+		chain = true
 	}
-	g := make([][]int, p)
-	for k := range g {
-		g[k] = []int{k}
-	}
-	return g
+	return deps, chain
 }
 
 // planeClone returns a spectral term of the same kind and settings as s with buffers of its
@@ -59,29 +51,57 @@ func planeClone(s Regularizer) Regularizer {
 	return s
 }
 
-// runGroup calls fit(k) for every plane k of group on up to workers goroutines (the caller's
-// among them), each taking the next plane in order when it is free. What fit computes must
-// not depend on which goroutine runs it.
-func runGroup(group []int, workers int, fit func(k int)) {
-	workers = min(workers, len(group))
-	if workers <= 1 {
-		for _, k := range group {
-			fit(k)
+// runSweep calls fit(k) once for every plane k on up to workers goroutines (the caller's
+// among them), starting a plane once the planes it depends on (deps[k]) have ended. Among the
+// planes ready to start, each goroutine takes the one that took longest in the sweep before
+// (cost, the durations of the planes' last runs, which runSweep updates; the lowest plane
+// first when equal), so that the longest runs do not come last and leave processors idle
+// (longest processing time first: Graham 1969, SIAM J. Appl. Math. 17, 416). What fit
+// computes must not depend on which goroutine runs it nor on when.
+func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) {
+	p := len(deps)
+	waiting := make([]int, p)  // planes that k still waits for
+	after := make([][]int, p)  // planes that wait for k
+	started := make([]bool, p) // taken by a goroutine
+	for k, d := range deps {
+		waiting[k] = len(d)
+		for _, j := range d {
+			after[j] = append(after[j], k)
 		}
-		return
 	}
-	var next atomic.Int64
+	var mu sync.Mutex
+	ready := sync.NewCond(&mu)
+	unstarted := p
 	work := func() {
-		for {
-			i := int(next.Add(1)) - 1
-			if i >= len(group) {
-				return
+		mu.Lock()
+		defer mu.Unlock()
+		for unstarted > 0 {
+			k := -1
+			for j := range p {
+				if !started[j] && waiting[j] == 0 && (k < 0 || cost[j] > cost[k]) {
+					k = j
+				}
 			}
-			fit(group[i])
+			if k < 0 {
+				ready.Wait() // until a running plane ends
+				continue
+			}
+			started[k] = true
+			unstarted--
+			mu.Unlock()
+			t0 := time.Now()
+			fit(k)
+			d := time.Since(t0)
+			mu.Lock()
+			cost[k] = d
+			for _, j := range after[k] {
+				waiting[j]--
+			}
+			ready.Broadcast()
 		}
 	}
 	var wg sync.WaitGroup
-	for range workers - 1 {
+	for range min(workers, p) - 1 {
 		wg.Go(work)
 	}
 	work()

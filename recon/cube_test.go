@@ -9,6 +9,7 @@ import (
 	"sync"
 	"sync/atomic"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/diff/fd"
 
@@ -465,8 +466,8 @@ func cmplxExp(phi float64) complex128 { s, c := math.Sincos(phi); return complex
 
 // TestSolveCubeWorkers checks that the cube does not depend on the number of workers: the same
 // data and settings give the same bits with one and with three, for each spectral term, which
-// fit the planes one at a time (JointSparsity), even ones and odd ones at once
-// (SpectralSmoothness) or all at once (none; planeGroups). With several planes running at
+// fit the planes one at a time (JointSparsity), an odd plane once its even neighbours are
+// fitted (SpectralSmoothness) or all at once (none; planeDeps). With several planes running at
 // once, the progress function is still called one call at a time, and every plane's run
 // reports its last iteration (planeReporter).
 func TestSolveCubeWorkers(t *testing.T) {
@@ -516,25 +517,76 @@ func TestSolveCubeWorkers(t *testing.T) {
 	}
 }
 
-// TestPlaneGroups checks the groups of the sweeps against the couplings of the spectral terms:
-// SpectralSmoothness ties each plane to its neighbours only, so no two planes of a group may be
-// neighbours and each group's planes follow in order (red–black Gauss–Seidel); without a
-// spectral term every plane is alone in its objective; JointSparsity ties all planes.
-func TestPlaneGroups(t *testing.T) {
-	for _, c := range []struct {
-		p    int
-		spec Regularizer
-		want [][]int
-	}{
-		{5, &SpectralSmoothness{}, [][]int{{0, 2, 4}, {1, 3}}},
-		{6, &SpectralSmoothness{}, [][]int{{0, 2, 4}, {1, 3, 5}}},
-		{1, &SpectralSmoothness{}, [][]int{{0}}},
-		{4, nil, [][]int{{0, 1, 2, 3}}},
-		{3, &JointSparsity{}, [][]int{{0}, {1}, {2}}},
-	} {
-		got := planeGroups(c.p, c.spec)
-		if !slices.EqualFunc(got, c.want, slices.Equal) {
-			t.Errorf("%d planes, %T: groups %v, want %v", c.p, c.spec, got, c.want)
+// TestPlaneDeps checks the order of the sweeps against the couplings of the spectral terms:
+// two planes that one term holds together must never run at once, so one of them waits for the
+// other; SpectralSmoothness holds neighbours only, so no other plane waits (red–black
+// Gauss–Seidel); without a spectral term no plane waits; JointSparsity holds all planes: a chain.
+func TestPlaneDeps(t *testing.T) {
+	waits := func(deps [][]int, a, b int) bool { return slices.Contains(deps[a], b) }
+	for _, p := range []int{1, 2, 5, 6} {
+		deps, chain := planeDeps(p, &SpectralSmoothness{})
+		if chain {
+			t.Errorf("%d planes, smoothness: a chain", p)
+		}
+		for k := range p {
+			for j := range p {
+				near := j == k+1 || j == k-1
+				if waits(deps, k, j) && !near {
+					t.Errorf("%d planes, smoothness: plane %d waits for plane %d, not a neighbour", p, k, j)
+				}
+				if near && k < j && waits(deps, k, j) == waits(deps, j, k) {
+					t.Errorf("%d planes, smoothness: neighbours %d and %d can run at once (or wait for each other)", p, k, j)
+				}
+			}
+		}
+		if deps, chain := planeDeps(p, nil); chain || slices.ContainsFunc(deps, func(d []int) bool { return len(d) > 0 }) {
+			t.Errorf("%d planes, no spectral term: dependencies %v", p, deps)
+		}
+		deps, chain = planeDeps(p, &JointSparsity{})
+		for k := 1; k < p; k++ {
+			if !waits(deps, k, k-1) {
+				t.Errorf("%d planes, joint sparsity: plane %d does not wait for plane %d", p, k, k-1)
+			}
+		}
+		if !chain {
+			t.Errorf("%d planes, joint sparsity: not a chain", p)
+		}
+	}
+}
+
+// TestRunSweep checks the scheduler of the sweeps: with one worker and with three, every
+// plane runs once, never before the planes it waits for have ended, and with three some
+// planes run at once.
+func TestRunSweep(t *testing.T) {
+	deps, _ := planeDeps(9, &SpectralSmoothness{})
+	for _, w := range []int{1, 3} {
+		var mu sync.Mutex
+		ended := make([]bool, 9)
+		runs := make([]int, 9)
+		var now, most atomic.Int32
+		runSweep(deps, w, make([]time.Duration, 9), func(k int) {
+			most.Store(max(most.Load(), now.Add(1)))
+			mu.Lock()
+			for _, j := range deps[k] {
+				if !ended[j] {
+					t.Errorf("%d workers: plane %d started before plane %d ended", w, k, j)
+				}
+			}
+			runs[k]++
+			mu.Unlock()
+			time.Sleep(time.Millisecond)
+			mu.Lock()
+			ended[k] = true
+			mu.Unlock()
+			now.Add(-1)
+		})
+		for k, n := range runs {
+			if n != 1 {
+				t.Errorf("%d workers: plane %d ran %d times", w, k, n)
+			}
+		}
+		if m := most.Load(); (w == 1) != (m == 1) {
+			t.Errorf("%d workers: at most %d planes at once", w, m)
 		}
 	}
 }

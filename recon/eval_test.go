@@ -80,8 +80,9 @@ func TestSmoothPhaseExact(t *testing.T) {
 }
 
 // TestEvalHelpersSameBits checks that the parts of an evaluation give the same bits whether
-// the caller evaluates them all (GOMAXPROCS 1: no helper) or a helper takes one (GOMAXPROCS
-// 2), with exact and smoothed phases: which goroutine evaluates a part must not matter.
+// the caller evaluates them all (GOMAXPROCS 1: no helper; or setSerial) or a helper takes one
+// (GOMAXPROCS 2), with exact and smoothed phases: which goroutine evaluates a part must not
+// matter.
 func TestEvalHelpersSameBits(t *testing.T) {
 	const n, pixel = 16, 1e-9
 	rng := rand.New(rand.NewPCG(4, 4))
@@ -90,7 +91,7 @@ func TestEvalHelpersSameBits(t *testing.T) {
 	for i := range x {
 		x[i] = 0.2 + rng.Float64()
 	}
-	eval := func(procs int, smooth float64) (float64, []float64, [nTypes]float64) {
+	eval := func(procs int, serial bool, smooth float64) (float64, []float64, [nTypes]float64) {
 		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
 		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
 		if err != nil {
@@ -99,22 +100,26 @@ func TestEvalHelpersSameBits(t *testing.T) {
 		o := NewObjective(d, m, TermOptions{})
 		o.minParallel = 0
 		o.SetPhaseSmoothing(smooth)
+		o.setSerial(serial)
 		g := make([]float64, n*n)
 		f := o.Eval(g, x)
-		if helpers := o.pool != nil && o.pool.ch != nil; helpers != (procs > 1) {
-			t.Fatalf("GOMAXPROCS %d: helpers running %v", procs, helpers)
+		if helpers := o.pool != nil && o.pool.ch != nil; helpers != (procs > 1 && !serial) {
+			t.Fatalf("GOMAXPROCS %d, serial %v: helpers running %v", procs, serial, helpers)
 		}
 		return f, g, o.chi2
 	}
 	for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
-		f1, g1, c1 := eval(1, smooth)
-		f2, g2, c2 := eval(2, smooth)
-		if f1 != f2 || c1 != c2 {
-			t.Errorf("smoothing %g: objective %v and χ² %v with a helper, %v and %v without", smooth, f2, c2, f1, c1)
-		}
-		for i := range g1 {
-			if g1[i] != g2[i] {
-				t.Fatalf("smoothing %g: gradient %d is %v with a helper, %v without", smooth, i, g2[i], g1[i])
+		f1, g1, c1 := eval(1, false, smooth)
+		for _, serial := range []bool{false, true} {
+			// With two processors, the parts on a helper, or on the caller (setSerial).
+			f2, g2, c2 := eval(2, serial, smooth)
+			if f1 != f2 || c1 != c2 {
+				t.Errorf("smoothing %g, serial %v: objective %v and χ² %v with two processors, %v and %v with one", smooth, serial, f2, c2, f1, c1)
+			}
+			for i := range g1 {
+				if g1[i] != g2[i] {
+					t.Fatalf("smoothing %g, serial %v: gradient %d is %v with two processors, %v with one", smooth, serial, i, g2[i], g1[i])
+				}
 			}
 		}
 	}

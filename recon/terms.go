@@ -55,6 +55,17 @@ type Objective struct {
 	// minParallel is the number of V² and closure data (T3 counted twice) from which Eval
 	// splits the terms into evalParts parts; tests lower it.
 	minParallel int
+	// serial evaluates the parts one after the other on the calling goroutine (setSerial).
+	serial bool
+}
+
+// setSerial makes the objective evaluate on the calling goroutine alone, its data terms' parts
+// and its transform (ForwardModel.setSerial), or with their helpers again: for a caller that
+// evaluates several objectives at once, one per processor. Results do not change: the parts
+// are the same and summed in the same order.
+func (o *Objective) setSerial(on bool) {
+	o.serial = on
+	o.m.setSerial(on)
 }
 
 // NewObjective builds the data terms of d on model m (which must have been made from d).
@@ -240,10 +251,16 @@ func (o *Objective) eval(grad []float64, flux float64, ex *gradExtra) float64 {
 			o.scale = sc.prepare(&o.parts[0].ctx)
 		}
 	}
-	if parts > 1 && o.pool == nil {
+	if parts > 1 && o.pool == nil && !o.serial {
 		o.pool = newPartPool(o, parts)
 	}
-	o.pool.run(o, parts)
+	if o.serial {
+		for k := range parts {
+			o.evalPart(&o.parts[k], k, parts)
+		}
+	} else {
+		o.pool.run(o, parts)
+	}
 	extra := 0.0
 	// The parts' derivatives are added to the model's in part order; the last addition also
 	// sums Re Σ conj(G_k)·V_k of the gradient's normalisation (ForwardModel.gradient), in
