@@ -91,7 +91,9 @@ type Settings struct {
 	// search (Objective.SetPhaseSmoothing); 0 means DefaultPhaseSmoothing, negative means the
 	// exact terms throughout. The final run always fits the exact terms.
 	PhaseSmoothing float64
-	// Workers is passed to the default transform; 0 means GOMAXPROCS.
+	// Workers is passed to the default transform, and is the largest number of planes that
+	// the sweeps of SolveCube fit at once (each then with its transform on one goroutine);
+	// 0 means GOMAXPROCS. Results do not depend on it.
 	Workers int
 	// Progress, when non-nil, is called after every accepted iteration; false stops Solve.
 	Progress func(Progress) bool

@@ -376,7 +376,7 @@ var options = []option{
 			return strconv.FormatFloat(*s.StarIndex, 'g', -1, 64)
 		}},
 	{name: "workers", group: Recon, kind: intFlag, def: "0", noText: true,
-		usage:  "worker goroutines of the transform (default: number of CPUs); the image is the same for any number",
+		usage:  "worker goroutines of the transform, and planes of a cube fitted at once (default: number of CPUs); the image is the same for any number",
 		parse:  func(s *Spec, name, text string) error { return parseCount(&s.Workers, name, text) },
 		format: func(s *Spec) string { return formatInt(s.Workers) }},
 }

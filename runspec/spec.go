@@ -87,8 +87,9 @@ type Spec struct {
 	// nil is DefaultStarIndex.
 	Star      *Star
 	StarIndex *float64
-	// Workers is the number of transform workers (-workers); 0 is GOMAXPROCS. The image
-	// does not depend on it, and the canonical text leaves it out.
+	// Workers is the number of transform workers and of cube planes fitted at once
+	// (-workers); 0 is GOMAXPROCS. The image does not depend on it, and the canonical text
+	// leaves it out.
 	Workers int
 }
 
