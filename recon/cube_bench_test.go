@@ -18,7 +18,7 @@ import (
 // reconstruction makes, in the transform's own order of the points (ForwardSorted,
 // AdjointSorted). The sweeps fit several planes at once (planes-at-once, cubeWorkers), each
 // with its transform on one processor: the costs are then in processor time, the sweeps'
-// wall time times planes-at-once (idle time at the end of a group included) against the
+// wall time times planes-at-once (idle time included) against the
 // mean duration of a transform call.
 func BenchmarkCubeNight(b *testing.B) {
 	d := nightData()

@@ -414,12 +414,11 @@ func (r *planeReg) evalDot(grad, x []float64) (v, dot float64) {
 //     latest images, so every plane's run lowers the cube objective; planes that the
 //     spectral term does not tie together are fitted at once, one per processor, an odd
 //     plane as soon as its even neighbours are fitted for SpectralSmoothness: planeDeps),
-//     with positivity and
-//     the support, by the runs of Solve: in the first sweep from x̄, the amplitudes first
-//     (as Solve does from a smooth start), then the smoothed phase terms, then the exact
-//     ones for up to MaxIter iterations; then further sweeps of exact runs of up to
-//     PathIter iterations (MaxIter when smaller), at most CubeSweeps in all, until a sweep lowers the objective
-//     by less than CubeSweepTol relative. A plane's run in a later sweep resumes from the
+//     with positivity and the support, by the runs of Solve: in the first sweep from x̄,
+//     the amplitudes first (as Solve does from a smooth start), then the smoothed phase
+//     terms, then the exact ones for up to MaxIter iterations; then further sweeps of exact
+//     runs of up to PathIter iterations (MaxIter when smaller), at most CubeSweeps in all,
+//     until a sweep lowers the objective by less than CubeSweepTol relative. A plane's run in a later sweep resumes from the
 //     curvature memory (the quasi-Newton correction pairs) of its run in the sweep before,
 //     and ends at Solve's relative-change test without Solve's confirming restarts. A
 //     single quasi-Newton run over the whole cube was measured to creep: its one curvature
@@ -695,8 +694,8 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	errs := make([]error, P)
 	iterDone := make([]int, P)
 	// fit runs plane k's runs of a sweep and leaves the result in x, cube, outs[k] and
-	// iterDone[k]; it writes nothing of the other planes and reads only the planes of other
-	// groups, so the planes of a group may run at once.
+	// iterDone[k]; it writes nothing of the other planes and reads only those its objective
+	// holds, which planeDeps keeps from running at the same time.
 	fit := func(k, sweep int, label string) error {
 		e := engines[k]
 		xk := x[k*npix : (k+1)*npix]
