@@ -1,11 +1,13 @@
 package recon
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	rf "reflect"
 	"slices"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"testing"
@@ -514,6 +516,44 @@ func TestSolveCubeWorkers(t *testing.T) {
 		if !slices.Equal(imgs[0], imgs[1]) {
 			t.Errorf("%v: the cube depends on the number of workers", spec)
 		}
+	}
+}
+
+// TestSolveCubeStops checks that a progress function that asks to stop stops a cube whose
+// planes run at once: SolveCube returns ErrStopped, and the function is not called again after
+// it said no.
+func TestSolveCubeStops(t *testing.T) {
+	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
+		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{Groups: 6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var mu sync.Mutex
+	planeCalls, after := 0, 0
+	stopped := false
+	s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 3, Workers: 3, Progress: func(p Progress) bool {
+		mu.Lock()
+		defer mu.Unlock()
+		if stopped {
+			after++
+			return false
+		}
+		if strings.HasPrefix(p.Stage, "plane ") {
+			planeCalls++
+			if planeCalls == 5 {
+				stopped = true
+				return false
+			}
+		}
+		return true
+	}}
+	_, err = SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}}, Planes: planes}, s)
+	if !errors.Is(err, ErrStopped) {
+		t.Errorf("error %v, want ErrStopped", err)
+	}
+	if !stopped || after > 0 {
+		t.Errorf("stopped %v; %d calls after the function said no", stopped, after)
 	}
 }
 
