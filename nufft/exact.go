@@ -25,6 +25,7 @@ type Exact struct {
 }
 
 type exact struct {
+	ext     extJob // the Job of Parallel
 	nx, ny  int
 	s, t    []float64 // frequencies in cycles per pixel along ix and iy, reduced to [−1/2, 1/2)
 	scratch [][]complex128
@@ -98,6 +99,9 @@ func (e *Exact) Len() int { return len(e.s) }
 
 // Size returns the image size.
 func (e *Exact) Size() (nx, ny int) { return e.nx, e.ny }
+
+// Parallel is Plan.Parallel.
+func (e *Exact) Parallel(n int, j Job) { e.pool.parallel(&e.ext, j, n) }
 
 // SetSerial is Plan.SetSerial.
 func (e *Exact) SetSerial(on bool) { e.pool.serial = on }

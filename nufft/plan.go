@@ -47,10 +47,11 @@ const (
 //go:generate go run gen_asm.go
 
 type plan struct {
-	nx, ny int // image size
-	fx, fy int // upsampled grid size, powers of two
-	m      int // number of points
-	w      int // kernel width in fine cells
+	ext    extJob // the Job of Parallel
+	nx, ny int    // image size
+	fx, fy int    // upsampled grid size, powers of two
+	m      int    // number of points
+	w      int    // kernel width in fine cells
 	kern   kernel
 	corrX  []float64 // 1/φ̂ for each image column, ix = 0..nx−1
 	corrY  []float64 // 1/φ̂ for each image row
@@ -392,6 +393,12 @@ func (p *Plan) KernelWidth() int { return p.w }
 // Workers returns the largest number of goroutines a call uses. It
 // changes the speed of a call, not its result.
 func (p *Plan) Workers() int { return p.workers }
+
+// Parallel runs shards 0 … n−1 of j on the plan's workers, the calling goroutine among them
+// (only there after SetSerial(true)), and returns when all have finished: for work between
+// transforms, such as the data terms of a reconstruction, on helpers that are already awake.
+// It must not be called during a call.
+func (p *Plan) Parallel(n int, j Job) { p.pool.parallel(&p.ext, j, n) }
 
 // SetSerial makes the calls that follow run on the calling goroutine
 // alone (on), or on up to Workers() goroutines again (off): for a caller

@@ -271,6 +271,27 @@ func (p *pool) runSteps(j job, counts []int) {
 	p.j = nil
 }
 
+// Job is work that a transform's workers can run besides the transform (Plan.Parallel):
+// Do(w, s) runs shard s on worker w, 0 ≤ w < the plan's Workers(). Shards must write disjoint
+// memory, and what a shard computes must not depend on which worker runs it nor when.
+type Job interface {
+	Do(worker, shard int)
+}
+
+// extJob runs a Job as a job of the pool.
+type extJob struct{ j Job }
+
+func (e *extJob) do(w, s int) { e.j.Do(w, s) }
+
+// parallel runs shards 0 … n−1 of j on the pool's workers, the caller's goroutine among them,
+// and returns when all have finished; e holds j for the pool, so that a call allocates
+// nothing.
+func (p *pool) parallel(e *extJob, j Job, n int) {
+	e.j = j
+	p.run(e, n)
+	e.j = nil
+}
+
 // stop ends the helpers; used as a cleanup.
 func stopPool(ch chan struct{}) {
 	if ch != nil {

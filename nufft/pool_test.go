@@ -89,3 +89,52 @@ func TestPoolWakeups(t *testing.T) {
 		t.Fatal("20 calls of two steps did not finish in 20 s: a worker missed its wake-up")
 	}
 }
+
+// shardLog records which worker ran each shard of a Job, and how often.
+type shardLog struct {
+	ran    []atomic.Int32
+	worker []atomic.Int32
+}
+
+func (l *shardLog) Do(w, s int) {
+	l.ran[s].Add(1)
+	l.worker[s].Store(int32(w))
+}
+
+// TestPlanParallel checks Plan.Parallel and Exact.Parallel: every shard of the job runs once,
+// on a worker of the transform, and only on the caller (worker 0) after SetSerial(true).
+func TestPlanParallel(t *testing.T) {
+	u, v := []float64{1e6, -2e6, 3e5}, []float64{2e5, 1e6, -4e6}
+	p, err := NewPlan(32, 32, 1e-9, u, v, Options{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	e, err := NewExact(32, 32, 1e-9, u, v, Options{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name    string
+		workers int
+		tr      interface {
+			Parallel(int, Job)
+			SetSerial(bool)
+		}
+	}{{"Plan", p.Workers(), p}, {"Exact", e.pool.n, e}} {
+		for _, serial := range []bool{false, true} {
+			c.tr.SetSerial(serial)
+			const n = 64
+			l := &shardLog{ran: make([]atomic.Int32, n), worker: make([]atomic.Int32, n)}
+			c.tr.Parallel(n, l)
+			for s := range n {
+				w := int(l.worker[s].Load())
+				if r := l.ran[s].Load(); r != 1 {
+					t.Errorf("%s, serial %v: shard %d ran %d times", c.name, serial, s, r)
+				}
+				if w < 0 || w >= c.workers || (serial && w != 0) {
+					t.Errorf("%s, serial %v: shard %d ran on worker %d of %d", c.name, serial, s, w, c.workers)
+				}
+			}
+		}
+	}
+}

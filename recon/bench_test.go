@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"vcz/dataset"
+	"vcz/nufft"
 )
 
 // timedTransform adds up the time spent in each direction of the transform and counts the
@@ -46,6 +47,18 @@ func (t *transformTimes) add(sum *time.Duration, n *int, d time.Duration) {
 	*sum += d
 	*n++
 	timedMu.Unlock()
+}
+
+// Parallel passes the work on to the transform's workers when it has them
+// (nufft.Plan.Parallel), otherwise runs it here; it is not timed.
+func (t timedTransform) Parallel(n int, j nufft.Job) {
+	if p, ok := t.Transform.(interface{ Parallel(int, nufft.Job) }); ok {
+		p.Parallel(n, j)
+		return
+	}
+	for k := range n {
+		j.Do(0, k)
+	}
 }
 
 // SetSerial passes the setting on to the transform when it has it (nufft.Plan.SetSerial).

@@ -4,8 +4,9 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
-	"runtime"
 	"testing"
+
+	"vcz/nufft"
 )
 
 // TestEvalAllocs checks that an evaluation of the objective with its gradient allocates
@@ -80,9 +81,9 @@ func TestSmoothPhaseExact(t *testing.T) {
 }
 
 // TestEvalHelpersSameBits checks that the parts of an evaluation give the same bits whether
-// the caller evaluates them all (GOMAXPROCS 1: no helper; or setSerial) or a helper takes one
-// (GOMAXPROCS 2), with exact and smoothed phases: which goroutine evaluates a part must not
-// matter.
+// the caller evaluates them all (a transform of one worker, or setSerial) or the transform's
+// second worker may take one (nufft.Plan.Parallel, countedParallel), with exact and smoothed
+// phases: which goroutine evaluates a part must not matter.
 func TestEvalHelpersSameBits(t *testing.T) {
 	const n, pixel = 16, 1e-9
 	rng := rand.New(rand.NewPCG(4, 4))
@@ -91,9 +92,13 @@ func TestEvalHelpersSameBits(t *testing.T) {
 	for i := range x {
 		x[i] = 0.2 + rng.Float64()
 	}
-	eval := func(procs int, serial bool, smooth float64) (float64, []float64, [nTypes]float64) {
-		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
-		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, exactTransform)
+	eval := func(workers int, serial bool, smooth float64) (float64, []float64, [nTypes]float64) {
+		calls := 0
+		mk := func(n int, pixel float64, u, v []float64) (Transform, error) {
+			p, err := nufft.NewPlan(n, n, pixel, u, v, nufft.Options{Workers: workers})
+			return countedParallel{p, &calls}, err
+		}
+		m, err := NewForwardModel(d, Grid{N: n, Pixel: pixel}, true, mk)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -103,26 +108,36 @@ func TestEvalHelpersSameBits(t *testing.T) {
 		o.setSerial(serial)
 		g := make([]float64, n*n)
 		f := o.Eval(g, x)
-		if helpers := o.pool != nil && o.pool.ch != nil; helpers != (procs > 1 && !serial) {
-			t.Fatalf("GOMAXPROCS %d, serial %v: helpers running %v", procs, serial, helpers)
+		if (calls > 0) != !serial {
+			t.Fatalf("%d workers, serial %v: the parts went to the transform's workers %d times", workers, serial, calls)
 		}
 		return f, g, o.chi2
 	}
 	for _, smooth := range []float64{0, DefaultPhaseSmoothing} {
 		f1, g1, c1 := eval(1, false, smooth)
 		for _, serial := range []bool{false, true} {
-			// With two processors, the parts on a helper, or on the caller (setSerial).
 			f2, g2, c2 := eval(2, serial, smooth)
 			if f1 != f2 || c1 != c2 {
-				t.Errorf("smoothing %g, serial %v: objective %v and χ² %v with two processors, %v and %v with one", smooth, serial, f2, c2, f1, c1)
+				t.Errorf("smoothing %g, serial %v: objective %v and χ² %v with two workers, %v and %v with one", smooth, serial, f2, c2, f1, c1)
 			}
 			for i := range g1 {
 				if g1[i] != g2[i] {
-					t.Fatalf("smoothing %g, serial %v: gradient %d is %v with two processors, %v with one", smooth, serial, i, g2[i], g1[i])
+					t.Fatalf("smoothing %g, serial %v: gradient %d is %v with two workers, %v with one", smooth, serial, i, g2[i], g1[i])
 				}
 			}
 		}
 	}
+}
+
+// countedParallel is a nufft.Plan that counts its calls of Parallel.
+type countedParallel struct {
+	*nufft.Plan
+	calls *int
+}
+
+func (c countedParallel) Parallel(n int, j nufft.Job) {
+	*c.calls++
+	c.Plan.Parallel(n, j)
 }
 
 // TestPhaseResidual checks the wrap-safe residual of the phase terms against its definition
