@@ -99,12 +99,7 @@ func TestCubeKnownData(t *testing.T) {
 // serves the cube's evaluations after the sweeps, and each run's start value is that of
 // optim's first evaluation.
 func TestSolveCubeForwardCalls(t *testing.T) {
-	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
-		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{Groups: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, planes := smallChromaticDisc(t, 3)
 	var tt transformTimes
 	mk := func(n int, pixel float64, u, v []float64) (Transform, error) {
 		tr, err := NewTransform(1)(n, pixel, u, v)
@@ -179,12 +174,7 @@ func TestPlaneRegDot(t *testing.T) {
 // sweeps are those of the moved planes, not the values kept from the planes' runs: each
 // plane's χ²ᵣ equals that of a fresh evaluation of its image.
 func TestSolveCubeMovedFigures(t *testing.T) {
-	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
-		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{Groups: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, planes := smallChromaticDisc(t, 3)
 	g := Grid{N: 24, Pixel: 0.5 * Mas}
 	p := Problem{Data: d, Reg: tvReg, Grid: g}
 	s := Settings{Seed: 1, PathIter: 30, MaxIter: 60, WeightSteps: 3}

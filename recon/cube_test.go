@@ -466,6 +466,20 @@ func TestCubeGrayObject(t *testing.T) {
 
 func cmplxExp(phi float64) complex128 { s, c := math.Sincos(phi); return complex(c, s) }
 
+// smallChromaticDisc returns the small chromatic data of the cube's tests of workers, stops and
+// transform calls (a 4 mas disc at 2 µm growing with λ, 6 channels from 1.8 to 2.3 µm, 5
+// telescopes, noisy V² and closure phases) and its split into groups planes.
+func smallChromaticDisc(t *testing.T, groups int) (*dataset.Data, []CubePlane) {
+	t.Helper()
+	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
+		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
+	planes, err := SplitChannels(d, Channels{Groups: groups})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d, planes
+}
+
 // TestSolveCubeWorkers checks that the cube does not depend on the number of workers: the same
 // data and settings give the same bits with one and with three, for each spectral term, which
 // fit the planes one at a time (JointSparsity), an odd plane once its even neighbours are
@@ -473,12 +487,7 @@ func cmplxExp(phi float64) complex128 { s, c := math.Sincos(phi); return complex
 // once, the progress function is still called one call at a time, and every plane's run
 // reports its last iteration (planeReporter).
 func TestSolveCubeWorkers(t *testing.T) {
-	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
-		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{Groups: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, planes := smallChromaticDisc(t, 3)
 	for _, spec := range []Spectral{SpectralJoint, SpectralSmooth, SpectralNone} {
 		var imgs [][]float64
 		for _, w := range []int{1, 3} {
@@ -523,12 +532,7 @@ func TestSolveCubeWorkers(t *testing.T) {
 // planes run at once: SolveCube returns ErrStopped, and the function is not called again after
 // it said no.
 func TestSolveCubeStops(t *testing.T) {
-	d := observeChromatic(31, 5, 50, func(l float64) func(u, v float64) complex128 { return discVis(4 * Mas * l / 2e-6) },
-		synthOpts{nchan: 6, nha: 4, lmin: 1.8e-6, lmax: 2.3e-6, hspan: 1.2, sigV2: 0.01, sigPhi: 0.05, t3: true, noise: true})
-	planes, err := SplitChannels(d, Channels{Groups: 6})
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, planes := smallChromaticDisc(t, 6)
 	var mu sync.Mutex
 	planeCalls, after := 0, 0
 	stopped := false
@@ -548,7 +552,7 @@ func TestSolveCubeStops(t *testing.T) {
 		}
 		return true
 	}}
-	_, err = SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}}, Planes: planes}, s)
+	_, err := SolveCube(CubeProblem{Problem: Problem{Data: d, Reg: tvReg, Grid: Grid{N: 24, Pixel: 0.5 * Mas}}, Planes: planes}, s)
 	if !errors.Is(err, ErrStopped) {
 		t.Errorf("error %v, want ErrStopped", err)
 	}
