@@ -57,7 +57,8 @@ func planeClone(s Regularizer) Regularizer {
 // (cost, the durations of the planes' last runs, which runSweep updates; the lowest plane
 // first when equal), so that the longest runs do not come last and leave processors idle
 // (longest processing time first: Graham 1969, SIAM J. Appl. Math. 17, 416). What fit
-// computes must not depend on which goroutine runs it nor on when.
+// computes must not depend on which goroutine runs it nor on when. A panic in fit stops the
+// sweep and is raised again on the caller's goroutine, where a caller's recover sees it.
 func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) {
 	p := len(deps)
 	waiting := make([]int, p)  // planes that k still waits for
@@ -72,10 +73,25 @@ func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) 
 	var mu sync.Mutex
 	ready := sync.NewCond(&mu)
 	unstarted := p
+	var panicked any // the first panic of a plane's run, raised again on the caller
+	failed := false
+	run := func(k int) {
+		defer func() {
+			if v := recover(); v != nil {
+				mu.Lock()
+				if !failed {
+					failed, panicked = true, v
+				}
+				ready.Broadcast()
+				mu.Unlock()
+			}
+		}()
+		fit(k)
+	}
 	work := func() {
 		mu.Lock()
 		defer mu.Unlock()
-		for unstarted > 0 {
+		for unstarted > 0 && !failed {
 			k := -1
 			for j := range p {
 				if !started[j] && waiting[j] == 0 && (k < 0 || cost[j] > cost[k]) {
@@ -90,7 +106,7 @@ func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) 
 			unstarted--
 			mu.Unlock()
 			t0 := time.Now()
-			fit(k)
+			run(k)
 			d := time.Since(t0)
 			mu.Lock()
 			cost[k] = d
@@ -106,6 +122,9 @@ func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) 
 	}
 	work()
 	wg.Wait()
+	if failed {
+		panic(panicked)
+	}
 }
 
 // cubeWorkers returns the number of planes a sweep fits at once: Settings.Workers, or

@@ -466,6 +466,28 @@ func TestCubeGrayObject(t *testing.T) {
 
 func cmplxExp(phi float64) complex128 { s, c := math.Sincos(phi); return complex(c, s) }
 
+// TestRunSweepPanic checks that a panic in a plane's run on another goroutine reaches the
+// caller of runSweep, where the commands' panic net can report it, and stops the sweep
+// without leaving the other goroutines waiting for the plane that failed.
+func TestRunSweepPanic(t *testing.T) {
+	deps, _ := planeDeps(9, &SpectralSmoothness{})
+	for _, w := range []int{1, 3} {
+		func() {
+			defer func() {
+				if v := recover(); v != "plane 4" {
+					t.Errorf("%d workers: recovered %v, want the panic of plane 4", w, v)
+				}
+			}()
+			runSweep(deps, w, make([]time.Duration, 9), func(k int) {
+				if k == 4 {
+					panic("plane 4")
+				}
+				time.Sleep(time.Millisecond)
+			})
+		}()
+	}
+}
+
 // smallChromaticDisc returns the small chromatic data of the cube's tests of workers, stops and
 // transform calls (a 4 mas disc at 2 µm growing with λ, 6 channels from 1.8 to 2.3 µm, 5
 // telescopes, noisy V² and closure phases) and its split into groups planes.
