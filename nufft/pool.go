@@ -57,6 +57,9 @@ type pool struct {
 	// Helpers blocked on ch.
 	parked atomic.Int64
 
+	// The first panic of a shard of the running call (do).
+	panicked atomic.Pointer[panicValue]
+
 	// Workers blocked in wait, and the wake-ups of each worker: one
 	// channel per worker, so that a worker can take only its own
 	// wake-ups (with one shared channel, a worker whose thread was
@@ -174,7 +177,7 @@ func (p *pool) work(w int) {
 			// Read before the shard is counted done, after which the
 			// caller may set up its next call.
 			end := int64(p.start[k+1])
-			p.j.do(w, g)
+			p.do(w, g)
 			// At the end of a step, wake the workers blocked in wait; a
 			// full channel already holds a wake-up its worker will take.
 			if p.done.Add(1) == end && p.sleepers.Load() > 0 {
@@ -188,6 +191,21 @@ func (p *pool) work(w int) {
 		}
 	}
 }
+
+// do runs shard g on worker w. A panic in it is kept, and the shard counts as done, so that
+// the call ends and runSteps raises the panic again on the caller's goroutine, where a
+// recover can see it: on a helper's goroutine it would end the process.
+func (p *pool) do(w, g int) {
+	defer func() {
+		if v := recover(); v != nil {
+			p.panicked.CompareAndSwap(nil, &panicValue{v})
+		}
+	}()
+	p.j.do(w, g)
+}
+
+// panicValue is a panic kept by do.
+type panicValue struct{ v any }
 
 // spinWaits is the number of times wait yields before it blocks: about
 // the time of a shard (common practice, no source). Short waits, the
@@ -269,6 +287,9 @@ func (p *pool) runSteps(j job, counts []int) {
 	p.work(0)
 	p.wait(0, int64(total))
 	p.j = nil
+	if v := p.panicked.Swap(nil); v != nil {
+		panic(v.v)
+	}
 }
 
 // Job is work that a transform's workers can run besides the transform (Plan.Parallel):

@@ -138,3 +138,38 @@ func TestPlanParallel(t *testing.T) {
 		}
 	}
 }
+
+// panicJob panics in one shard and sleeps in the others.
+type panicJob struct{ bad int }
+
+func (j panicJob) do(w, s int) {
+	if s == j.bad {
+		panic("shard failed")
+	}
+	time.Sleep(50 * time.Microsecond)
+}
+
+// TestPoolPanic checks that a panic in a shard, whichever worker runs it, reaches the caller of
+// the call, where a recover sees it, instead of ending the process from a helper's goroutine;
+// and that the pool serves the next call.
+func TestPoolPanic(t *testing.T) {
+	p := newPool(2)
+	defer stopPool(p.ch)
+	for _, bad := range []int{0, 39} { // the first shard, which the caller takes, and the last
+		func() {
+			defer func() {
+				if v := recover(); v != "shard failed" {
+					t.Errorf("shard %d: recovered %v", bad, v)
+				}
+			}()
+			p.run(panicJob{bad: bad}, 40)
+		}()
+	}
+	c := &stepCheck{ran: make([]atomic.Int32, 8), seenDone: make([]int64, 8)}
+	p.run(c, 8)
+	for g := range 8 {
+		if n := c.ran[g].Load(); n != 1 {
+			t.Errorf("the call after the panics: shard %d ran %d times", g, n)
+		}
+	}
+}
