@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"time"
 
 	"vcz/recon/optim"
 )
@@ -35,8 +36,16 @@ type StarEnvObjective struct {
 	Lambda0, Alpha float64
 	Reg            Regularizer
 	Mu, Rho        float64
+	// Workers is the largest number of planes evaluated at once, each on its own goroutine
+	// (their objectives should then be serial: Objective.setSerial); 0 or 1 evaluates them
+	// one after the other. The planes' results are added in their order, so the value and
+	// gradient do not depend on it.
+	Workers int
 
-	x, g, h, en, rg []float64
+	xs, gs    [][]float64 // each plane's image x_k and gradient
+	vals      []float64   // each plane's J_k
+	cost      []time.Duration
+	h, en, rg []float64
 	// refits counts the refits of the profiles since the last resetRefits and capped
 	// those stopped at their iteration limit; lastTail is the decrease of the objective
 	// over the last ftolWindow iterations of the latest refit when it was capped (+Inf
@@ -61,8 +70,14 @@ func (o *StarEnvObjective) Eval(grad, z []float64) float64 {
 	if len(z) != n+2 || (grad != nil && len(grad) != n+2) {
 		panic(fmt.Sprintf("recon: StarEnvObjective: want %d values, have %d (gradient %d)", n+2, len(z), len(grad)))
 	}
-	if len(o.x) != n {
-		o.x, o.g, o.h, o.en, o.rg = make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+	P := len(o.Planes)
+	if len(o.h) != n || len(o.xs) != P {
+		o.h, o.en, o.rg = make([]float64, n), make([]float64, n), make([]float64, n)
+		o.xs, o.gs = make([][]float64, P), make([][]float64, P)
+		for k := range P {
+			o.xs[k], o.gs[k] = make([]float64, n), make([]float64, n)
+		}
+		o.vals, o.cost = make([]float64, P), make([]time.Duration, P)
 	}
 	e, f0, d := z[:n], z[n], z[n+1]
 	E := 0.0
@@ -84,17 +99,30 @@ func (o *StarEnvObjective) Eval(grad, z []float64) float64 {
 	clear(o.h)
 	var gf0, gd float64
 	v := 0.0
-	for k, obj := range o.Planes {
-		a, da0, dad := o.frac(k, f0, d)
-		for i := range o.x {
-			o.x[i] = a*o.Star[i] + (1-a)*o.en[i]
+	plane := func(k int) {
+		a, _, _ := o.frac(k, f0, d)
+		x := o.xs[k]
+		for i := range x {
+			x[i] = a*o.Star[i] + (1-a)*o.en[i]
 		}
 		var gk []float64
 		if grad != nil {
-			gk = o.g
+			gk = o.gs[k]
 		}
-		v += obj.Eval(gk, o.x)
+		o.vals[k] = o.Planes[k].Eval(gk, x)
+	}
+	if o.Workers > 1 {
+		runSweep(make([][]int, P), o.Workers, o.cost, plane)
+	} else {
+		for k := range P {
+			plane(k)
+		}
+	}
+	for k := range P {
+		a, da0, dad := o.frac(k, f0, d)
+		v += o.vals[k]
 		if grad != nil {
+			gk := o.gs[k]
 			ga := 0.0
 			for i, g := range gk {
 				o.h[i] += (1 - a) * g
@@ -205,6 +233,8 @@ type StarEnvResult struct {
 // profile lands lower than the fit by more than a tenth of the 1σ rise, the fit was not at
 // its minimum: it is continued from the lowest refit (at most maxContinue times) and the
 // errors are measured again there. StarEnvResult.Warnings says what remains doubtful (starEnvVerdict).
+// Each evaluation evaluates up to Settings.Workers planes at once (StarEnvObjective.Workers),
+// with the same result for any number.
 func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 	if len(p.Planes) < 2 {
 		return nil, errors.New("recon: a star with its own spectrum needs at least two channel groups")
@@ -248,6 +278,13 @@ func SolveStarEnv(p StarEnvProblem, s Settings) (*StarEnvResult, error) {
 		}
 	}
 	o.Rho = float64(max(nTot, 1))
+	// The planes evaluated at once, one per processor, each serial (as the sweeps of
+	// SolveCube fit them).
+	if o.Workers = cubeWorkers(s); o.Workers > 1 {
+		for _, obj := range o.Planes {
+			obj.setSerial(true)
+		}
+	}
 	o.Star = starImage(g.N, g.Pixel, p.StarDiameter)
 	f0 := p.F0
 	if f0 <= 0 || f0 >= 1 {

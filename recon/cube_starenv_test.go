@@ -503,7 +503,8 @@ func TestStarEnvProfileLowerPoint(t *testing.T) {
 
 // TestStarEnvSameBitsAnyWorkers checks the rule that results do not depend on the machine:
 // a short star + environment fit (its smoothed first pass, the fit, the profiles) gives the
-// same environment, f0, index and errors, bit for bit, with 1 and 3 transform workers.
+// same environment, f0, index and errors, bit for bit, with 1 and 3 workers (with 3 the
+// planes are evaluated at once, each serial: StarEnvObjective.Workers).
 func TestStarEnvSameBitsAnyWorkers(t *testing.T) {
 	d, planes, _ := starEnvRecoveryData(t)
 	g := Grid{N: 24, Pixel: 0.8 * Mas}
