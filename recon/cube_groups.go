@@ -51,16 +51,16 @@ func planeClone(s Regularizer) Regularizer {
 	return s
 }
 
-// runSweep calls fit(k) once for every plane k on up to workers goroutines (the caller's
-// among them), starting a plane once the planes it depends on (deps[k]) have ended. Among the
+// runSweep calls fit(k) once for every plane k < p on up to workers goroutines (the caller's
+// among them), starting a plane once the planes it depends on (deps[k]; nil deps: none) have
+// ended. Among the
 // planes ready to start, each goroutine takes the one that took longest in the sweep before
 // (cost, the durations of the planes' last runs, which runSweep updates; the lowest plane
 // first when equal), so that the longest runs do not come last and leave processors idle
 // (longest processing time first: Graham 1969, SIAM J. Appl. Math. 17, 416). What fit
 // computes must not depend on which goroutine runs it nor on when. A panic in fit stops the
 // sweep and is raised again on the caller's goroutine, where a caller's recover sees it.
-func runSweep(deps [][]int, workers int, cost []time.Duration, fit func(k int)) {
-	p := len(deps)
+func runSweep(p int, deps [][]int, workers int, cost []time.Duration, fit func(k int)) {
 	waiting := make([]int, p)  // planes that k still waits for
 	after := make([][]int, p)  // planes that wait for k
 	started := make([]bool, p) // taken by a goroutine

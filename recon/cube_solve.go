@@ -6,7 +6,6 @@ import (
 	"math"
 	"runtime"
 	"slices"
-	"sync"
 	"time"
 
 	"vcz/dataset"
@@ -32,13 +31,15 @@ type CubeObjective struct {
 	Spectral Regularizer
 	// Eta is the weight η of S.
 	Eta float64
-	// Workers is the largest number of planes evaluated at once; 0 means GOMAXPROCS. Each
+	// Workers is the largest number of planes evaluated at once (runSweep, as the sweeps of
+	// SolveCube; the planes' objectives should then be serial); 0 means GOMAXPROCS. Each
 	// plane writes only its own block of the gradient and the planes are summed in order,
 	// so the result does not depend on it.
 	Workers int
 
 	xn, sgrad []float64
 	fl        []float64
+	cost      []time.Duration // each plane's last evaluation (runSweep)
 }
 
 // CubePlaneTerm is one plane's part of a CubeObjective.
@@ -105,24 +106,10 @@ func (c *CubeObjective) Eval(grad, x []float64) float64 {
 	if w <= 0 {
 		w = runtime.GOMAXPROCS(0)
 	}
-	w = min(w, P)
-	if w > 1 {
-		var wg sync.WaitGroup
-		for j := range w {
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				for k := j; k < P; k += w {
-					one(k)
-				}
-			}()
-		}
-		wg.Wait()
-	} else {
-		for k := range P {
-			one(k)
-		}
+	if len(c.cost) != P {
+		c.cost = make([]time.Duration, P)
 	}
+	runSweep(P, nil, w, c.cost, one)
 	v := 0.0
 	for _, t := range c.Planes {
 		v += t.val
@@ -770,7 +757,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		}
 		prev := c.Eval(nil, x)
 		for sweep := range CubeSweeps {
-			runSweep(deps, workers, cost, func(k int) {
+			runSweep(P, deps, workers, cost, func(k int) {
 				if rep != nil {
 					rep.start(k)
 					defer rep.end(k)

@@ -112,7 +112,7 @@ func (o *StarEnvObjective) Eval(grad, z []float64) float64 {
 		o.vals[k] = o.Planes[k].Eval(gk, x)
 	}
 	if o.Workers > 1 {
-		runSweep(make([][]int, P), o.Workers, o.cost, plane)
+		runSweep(P, nil, o.Workers, o.cost, plane)
 	} else {
 		for k := range P {
 			plane(k)

@@ -478,7 +478,7 @@ func TestRunSweepPanic(t *testing.T) {
 					t.Errorf("%d workers: recovered %v, want the panic of plane 4", w, v)
 				}
 			}()
-			runSweep(deps, w, make([]time.Duration, 9), func(k int) {
+			runSweep(9, deps, w, make([]time.Duration, 9), func(k int) {
 				if k == 4 {
 					panic("plane 4")
 				}
@@ -630,7 +630,7 @@ func TestRunSweep(t *testing.T) {
 		ended := make([]bool, 9)
 		runs := make([]int, 9)
 		var now, most atomic.Int32
-		runSweep(deps, w, make([]time.Duration, 9), func(k int) {
+		runSweep(9, deps, w, make([]time.Duration, 9), func(k int) {
 			most.Store(max(most.Load(), now.Add(1)))
 			mu.Lock()
 			for _, j := range deps[k] {
