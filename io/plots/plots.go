@@ -253,8 +253,8 @@ func addModels(p *plot.Plot, d dataPoints, models []ModelValues, n int, wrap, lo
 	// On a logarithmic axis, model values far below every data point (a V² null of a
 	// disc, 1e-17) would stretch the axis over decades that hold no data: values below a
 	// hundredth of the lowest data point, a tenth of the reach of its error bar, are left
-	// out, and the legend counts them.
-	floor := 0.0
+	// out, and the legend counts them. On a linear axis every value is drawn.
+	floor := math.Inf(-1)
 	if logY {
 		floor = math.Inf(1)
 		for _, q := range d.xy {

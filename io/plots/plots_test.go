@@ -563,3 +563,17 @@ func TestModelsBelowLogAxis(t *testing.T) {
 		t.Errorf("y axis reaches down to %g, want no lower than a hundredth of the lowest data point, 1e-5", p.Y.Min)
 	}
 }
+
+// On a linear axis nothing is left out: negative closure phases of the
+// model are drawn like positive ones.
+func TestModelsNegativeOnLinearAxis(t *testing.T) {
+	p := plot.New()
+	d := dataPoints{xy: plotter.XYs{{X: 1, Y: -150}, {X: 2, Y: 30}}, idx: []int{0, 1}}
+	m := []ModelValues{{Name: "image", Value: []float64{-140, 25}}}
+	if err := addModels(p, d, m, 2, true, false, false); err != nil {
+		t.Fatal(err)
+	}
+	if p.Y.Min > -140 {
+		t.Errorf("y axis starts at %g: the model's value −140 is not drawn", p.Y.Min)
+	}
+}
