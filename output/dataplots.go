@@ -17,7 +17,7 @@ import (
 // DataPlots writes the (u,v) coverage of d and each of its data types against spatial
 // frequency into dir (which must exist) as uv.png and <word>.png (vis2.png, t3phi.png, …),
 // the data coloured by instrument when files hold several, else by wavelength when they
-// have several, and returns the files written.
+// have several, and returns the files written, those before an error included.
 func DataPlots(files []*oifits.File, d *dataset.Data, dir string) ([]string, error) {
 	var uv plots.UV
 	addUV := func(u, v, l float64) {
@@ -42,11 +42,11 @@ func DataPlots(files []*oifits.File, d *dataset.Data, dir string) ([]string, err
 	if len(uv.U) > 0 {
 		fig, err := plots.UVCoverage(uv, plots.Options{Title: titled("(u,v) coverage", title)})
 		if err != nil {
-			return nil, err
+			return written, err
 		}
 		p := filepath.Join(dir, "uv.png")
 		if err := fig.WriteFile(p); err != nil {
-			return nil, err
+			return written, err
 		}
 		written = append(written, p)
 	}
@@ -61,11 +61,11 @@ func DataPlots(files []*oifits.File, d *dataset.Data, dir string) ([]string, err
 			continue
 		}
 		if err != nil {
-			return nil, err
+			return written, err
 		}
 		p := filepath.Join(dir, t.String()+".png")
 		if err := fig.WriteFile(p); err != nil {
-			return nil, err
+			return written, err
 		}
 		written = append(written, p)
 	}

@@ -3,6 +3,7 @@ package workflow
 import (
 	"fmt"
 	"math"
+	"os"
 	"path/filepath"
 	"strings"
 	"vcz/dataset"
@@ -235,6 +236,7 @@ func (o *FitOutcome) WriteLimits(prefix string, d *dataset.Data) (*output.FitLim
 		return nil, err
 	}
 	if err := output.LimitsPlot(o.Limits, png, strings.Join(d.Targets, ", ")); err != nil {
+		os.Remove(csv) // the table without its plot is half the limits
 		return nil, err
 	}
 	return output.NewFitLimits(o.Limits, csv, png), nil

@@ -1,6 +1,8 @@
 package workflow
 
 import (
+	"os"
+
 	"vcz/dataset"
 	"vcz/io/oifits"
 	"vcz/output"
@@ -21,10 +23,19 @@ type FitFiles struct {
 }
 
 // Report is the summary of o, the fit of s to the data d of files, after writing the files
-// f names. A -write-pixel that is no angle is an *InputError.
-func (o *FitOutcome) Report(s FitSettings, f FitFiles, files []*oifits.File, d *dataset.Data) (output.FitSummary, error) {
+// f names. A -write-pixel that is no angle is an *InputError. When any file fails, the files
+// this call wrote are removed, so that a failed run leaves no complete-looking part of its
+// results.
+func (o *FitOutcome) Report(s FitSettings, f FitFiles, files []*oifits.File, d *dataset.Data) (sum output.FitSummary, err error) {
+	defer func() {
+		if err != nil {
+			for _, p := range fitWritten(sum) {
+				os.Remove(p)
+			}
+		}
+	}()
 	res, g := o.Result, o.Grid
-	sum := output.NewFitSummary(res, o.Starts)
+	sum = output.NewFitSummary(res, o.Starts)
 	if b := o.Boot; b != nil {
 		sum.AddBootstrap(output.FitBootJ{K: b.K, Done: b.Done, Unit: b.Unit.String(), Seed: b.Seed}, b.Params, b.Sep, b.PA, b.Ratio)
 	}
@@ -33,7 +44,6 @@ func (o *FitOutcome) Report(s FitSettings, f FitFiles, files []*oifits.File, d *
 		sum.Grid = &output.FitGridJ{Ratio: s.Grid.Ratio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
 			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
 	}
-	var err error
 	if f.Limits != "" {
 		if sum.Limits, err = o.WriteLimits(f.Limits, d); err != nil {
 			return sum, err
@@ -65,4 +75,18 @@ func (o *FitOutcome) Report(s FitSettings, f FitFiles, files []*oifits.File, d *
 		sum.ModelFile = f.Model
 	}
 	return sum, nil
+}
+
+// fitWritten lists the files that sum says were written.
+func fitWritten(sum output.FitSummary) []string {
+	paths := append([]string(nil), sum.Plots...)
+	if sum.Limits != nil {
+		paths = append(paths, sum.Limits.CSV, sum.Limits.Plot)
+	}
+	for _, p := range []string{sum.Image, sum.ModelFile} {
+		if p != "" {
+			paths = append(paths, p)
+		}
+	}
+	return paths
 }

@@ -3,6 +3,7 @@ package workflow
 import (
 	"fmt"
 	"io"
+	"os"
 	"strings"
 
 	"vcz/dataset"
@@ -62,7 +63,16 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 		return nil, inputErrorf("simulate: -write-image needs -model")
 	}
 	if r.N < 2 || r.N%2 != 0 || r.N > 4096 {
-		return nil, inputErrorf("simulate: -n %d must be an even number from 2 to 4096", r.N)
+		return nil, inputErrorf("simulate: -write-n %d must be an even number from 2 to 4096", r.N)
+	}
+	// The pixel is read before anything is written, so that a bad -write-pixel leaves no
+	// OIFITS file behind.
+	px := 0.0
+	if r.WriteImage != "" && r.Pixel != "" {
+		var err error
+		if px, err = runspec.ParseAngle(r.Pixel); err != nil || !(px > 0) {
+			return nil, inputErrorf("simulate: -write-pixel %q: want a positive angle such as 0.1mas", r.Pixel)
+		}
 	}
 	if err := CheckOutputs(r.Out, r.WriteImage); err != nil {
 		return nil, err
@@ -110,18 +120,14 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 		Points:      map[string]int{"vis2": rep.Vis2, "t3": rep.T3, "vis": rep.Vis, "visdiff": rep.Diff},
 		BaselineMin: rep.MinProjected, BaselineMax: rep.MaxProjected, BandAveraged: rep.BandAveraged}
 	fmt.Fprint(text, rep.String())
-	fmt.Fprintf(text, "Wrote %s\n", r.Out)
 	if r.WriteImage == "" {
+		fmt.Fprintf(text, "Wrote %s\n", r.Out)
 		return sum, nil
 	}
-	px := 0.0
-	if r.Pixel != "" {
-		if px, err = runspec.ParseAngle(r.Pixel); err != nil || !(px > 0) {
-			return nil, inputErrorf("simulate: -write-pixel %q: want a positive angle such as 0.1mas", r.Pixel)
-		}
-	} else {
+	if px == 0 {
 		d, err := dataset.FromFiles([]*oifits.File{f}, dataset.Selection{})
 		if err != nil {
+			os.Remove(r.Out)
 			return nil, err
 		}
 		px = d.Summarize().Resolution / 4
@@ -132,8 +138,11 @@ func Simulate(r SimulateRequest, text io.Writer) (*SimulateSummary, error) {
 		name = f.Targets[0].Name
 	}
 	if err := output.WriteModel(r.WriteImage, img, r.N, px, []*oifits.File{f}, name, "model: "+strings.TrimSpace(r.Model)); err != nil {
+		// The data without the image asked for are half a result.
+		os.Remove(r.Out)
 		return nil, err
 	}
+	fmt.Fprintf(text, "Wrote %s\n", r.Out)
 	fmt.Fprintf(text, "Wrote %s (%d × %d pixels of %.4g mas)\n", r.WriteImage, r.N, r.N, px/recon.Mas)
 	sum.Image = r.WriteImage
 	return sum, nil

@@ -115,7 +115,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return exitBadInput
 	}
 	w := watchSignals(stderr)
-	err := c.run(args[1:], stdout, stderr)
+	err := runGuarded(c, args[1:], stdout, stderr)
 	if sig := w.stop(); sig != nil {
 		// Outputs finished before the signal are kept; a write under way
 		// when it came has finished or been abandoned with its temporary.
@@ -293,4 +293,17 @@ func printNotices(w io.Writer, d *dataset.Data, quiet bool) {
 	for _, n := range d.Notices {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
+}
+
+// runGuarded runs c and turns a panic on this goroutine (one raised again from a helper
+// goroutine included) into an error of one line, so that a defect shows the user what
+// failed, not a stack trace; the exit status is then 1.
+func runGuarded(c *command, args []string, stdout, stderr io.Writer) (err error) {
+	defer func() {
+		if v := recover(); v != nil {
+			safefile.RemoveTemporaries() // a write under way is abandoned, not finished
+			err = failure(fmt.Errorf("internal error, a defect of vcz (please report it with the command and data): %v", v))
+		}
+	}()
+	return c.run(args, stdout, stderr)
 }

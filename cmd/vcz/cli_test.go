@@ -516,3 +516,72 @@ func TestJSONSchema(t *testing.T) {
 	}
 	check("batch row", brows[0].(map[string]any), false)
 }
+
+// TestInspectPlotFolderErrors checks inspect -o against folders that cannot take the plots:
+// a path through a file is bad input (exit 2) named by the option the user typed, and a
+// plot whose name is taken by a folder fails the run (exit 1) with none of the other plots
+// left, so that no complete-looking set of plots remains.
+func TestInspectPlotFolderErrors(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	file := filepath.Join(dir, "afile")
+	if err := os.WriteFile(file, nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code := runCmd(t, "inspect", "-o", filepath.Join(file, "plots"), data)
+	if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, "vcz inspect: -o ") || !strings.Contains(errs, "not a directory") {
+		t.Errorf("-o through a file: exit %d, stderr %q", code, errs)
+	}
+	// A folder that exists but takes no file (Linux's /proc, even for root) is bad input
+	// found before the data are read.
+	if st, err := os.Stat("/proc/self"); err == nil && st.IsDir() {
+		_, errs, code = runCmd(t, "inspect", "-o", "/proc", data)
+		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, "vcz inspect: -o /proc: cannot write") {
+			t.Errorf("-o /proc: exit %d, stderr %q", code, errs)
+		}
+	}
+	plots := filepath.Join(dir, "plots")
+	if err := os.MkdirAll(filepath.Join(plots, "t3phi.png"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	_, errs, code = runCmd(t, "inspect", "-o", plots, data)
+	if code != exitFailure || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, "t3phi.png") {
+		t.Fatalf("plot in the way: exit %d, stderr %q", code, errs)
+	}
+	for _, p := range []string{"uv.png", "vis2.png", "t3amp.png"} {
+		if _, err := os.Stat(filepath.Join(plots, p)); err == nil {
+			t.Errorf("%s left after the failure", p)
+		}
+	}
+}
+
+// TestPanicIsOneLine checks that a defect reached through the data (here a V² row whose
+// UCOORD, 5e160 m, overflows the count of quadrature nodes of the band average) ends in
+// one line on stderr and exit 1, not a stack trace, for fit and image alike.
+func TestPanicIsOneLine(t *testing.T) {
+	dir := t.TempDir()
+	f, err := oifits.ReadFile(writeDemoData(t, dir))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f.Vis2[0].Rows[0].UCoord = 5e160
+	data := filepath.Join(dir, "huge-u.oifits")
+	if err := oifits.WriteFile(data, f); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"fit", "-model", "ud:diameter~3", "-search-draws", "0", data},
+		{"image", "-quiet", "-n", "32", "-iter", "5", "-starts", "1", "-o", filepath.Join(dir, "x.fits"), data},
+	} {
+		_, errs, code := runCmd(t, args...)
+		if code == exitOK {
+			continue // the defect was mended: nothing left to check here
+		}
+		if strings.Count(errs, "\n") != 1 || strings.Contains(errs, "goroutine") || !strings.HasPrefix(errs, "vcz "+args[0]+": ") {
+			t.Errorf("%s: exit %d, stderr %q", args[0], code, errs)
+		}
+	}
+	if m, _ := filepath.Glob(filepath.Join(dir, "x*")); len(m) > 0 {
+		t.Errorf("left %v", m)
+	}
+}

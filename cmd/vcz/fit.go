@@ -62,7 +62,7 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return badInputf("fit: no OIFITS file given (run 'vcz fit --help')")
 	}
 	if *starts < 0 || *maxIter < 1 {
-		return badInputf("fit: -starts must be ≥ 0 and -max-iter ≥ 1")
+		return badInputf("fit: -starts must be ≥ 0 and -iter ≥ 1")
 	}
 	plotFile := ""
 	if *plotPrefix != "" {
@@ -82,7 +82,13 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *writeImage != "" && (*n < 2 || *n%2 != 0 || *n > 4096) {
-		return badInputf("fit: -n %d must be an even number from 2 to 4096", *n)
+		return badInputf("fit: -write-n %d must be an even number from 2 to 4096", *n)
+	}
+	if *writeImage != "" && *pixel != "" {
+		// Read before the fit, so that a bad pixel does not stop the run after its plots.
+		if px, err := runspec.ParseAngle(*pixel); err != nil || !(px > 0) {
+			return badInputf("fit: -write-pixel %q: want a positive angle such as 0.1mas", *pixel)
+		}
 	}
 	m, err := model.Load(*spec)
 	if err != nil {

@@ -482,3 +482,46 @@ func TestFitMessageNoStutter(t *testing.T) {
 		t.Errorf("exit %d: %q", code, errs)
 	}
 }
+
+// TestFitFailedOutputsLeaveNothing checks that a fit whose outputs cannot all be written
+// leaves none of them: a -write-pixel that is no angle is refused (exit 2) before the fit
+// and its plots, and a plot whose name is taken by a folder (exit 1) takes the plots written
+// before it away; option names in the messages are the ones the help lists.
+func TestFitFailedOutputsLeaveNothing(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	prefix := filepath.Join(dir, "p")
+	img := filepath.Join(dir, "m.fits")
+	_, errs, code := runCmd(t, "fit", "-model", "ud:diameter~3", "-quiet", "-o", prefix, "-write-image", img, "-write-pixel", "3", data)
+	if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, "-write-pixel") {
+		t.Fatalf("-write-pixel 3: exit %d, stderr %q", code, errs)
+	}
+	if m, _ := filepath.Glob(prefix + "*"); len(m) > 0 {
+		t.Errorf("refused run left %v", m)
+	}
+	if err := os.Mkdir(prefix+"-t3phi.png", 0o755); err != nil {
+		t.Fatal(err)
+	}
+	model := filepath.Join(dir, "m.toml")
+	_, errs, code = runCmd(t, "fit", "-model", "ud:diameter~3", "-quiet", "-o", prefix, "-save-model", model, data)
+	if code != exitFailure || !strings.Contains(errs, "p-t3phi.png") {
+		t.Fatalf("plot in the way: exit %d, stderr %q", code, errs)
+	}
+	for _, p := range []string{prefix + "-vis2.png", prefix + "-t3amp.png", prefix + "-residuals.png", model} {
+		if _, err := os.Stat(p); err == nil {
+			t.Errorf("%s left after the failure", filepath.Base(p))
+		}
+	}
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"-iter", "0"}, "and -iter ≥ 1"},
+		{[]string{"-write-image", img, "-write-n", "7"}, "-write-n 7"},
+	} {
+		_, errs, code = runCmd(t, append(append([]string{"fit", "-model", "ud:diameter~3"}, c.args...), data)...)
+		if code != exitBadInput || !strings.Contains(errs, c.want) {
+			t.Errorf("%v: exit %d, stderr %q lacks %q", c.args, code, errs, c.want)
+		}
+	}
+}

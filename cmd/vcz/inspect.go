@@ -1,8 +1,10 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
+	iofs "io/fs"
 	"os"
 	"strings"
 
@@ -27,6 +29,16 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return badInputf("inspect: %v", err)
 	}
+	if *plotDir != "" {
+		// The folder is made and tried before the data are read, so that a folder that
+		// cannot take the plots is bad input found at once.
+		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
+			return badInputf("inspect: -o %s: %v", *plotDir, pathErrText(err))
+		}
+		if err := workflow.CheckFolder(*plotDir); err != nil {
+			return badInputf("inspect: -o %s: %v", *plotDir, err)
+		}
+	}
 	files, d, err := workflow.ReadData(fs.Args(), spec.Selection())
 	if err != nil {
 		return err
@@ -37,11 +49,12 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	rep.Files = append([]string(nil), fs.Args()...)
 	rep.Breakdown = output.Breakdown(files, d)
 	if *plotDir != "" {
-		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
-			return badInputf("inspect: -plot: %v", err)
-		}
 		paths, err := output.DataPlots(files, d, *plotDir)
 		if err != nil {
+			// Part of the plots is not the set asked for: none is left.
+			for _, p := range paths {
+				os.Remove(p)
+			}
 			return failure(err)
 		}
 		rep.Plots = paths
@@ -77,4 +90,14 @@ func (e *escaper) Write(p []byte) (int, error) {
 		return 0, err
 	}
 	return len(p), nil
+}
+
+// pathErrText is the reason of a file-system error without the operation and path that
+// *fs.PathError puts before it ("mkdir a/b: not a directory" gives "not a directory").
+func pathErrText(err error) string {
+	var pe *iofs.PathError
+	if errors.As(err, &pe) {
+		return pe.Path + ": " + pe.Err.Error()
+	}
+	return err.Error()
 }

@@ -172,3 +172,30 @@ func TestSimulateSeed(t *testing.T) {
 		t.Errorf("-seed -1: exit %d", code)
 	}
 }
+
+// TestSimulateBadWritePixelWritesNothing checks that a -write-pixel that is no angle is
+// refused before anything is written: exit 2, one line naming the option, and no OIFITS
+// file left behind (a run refused as bad input must not leave half its outputs).
+func TestSimulateBadWritePixelWritesNothing(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "a.oifits")
+	img := filepath.Join(dir, "a.fits")
+	plan := filepath.Join("..", "..", "examples", "plan-four-compact.toml")
+	stdout, errs, code := runCmd(t, "simulate", "-plan", plan, "-model", "ud:diameter=3", "-write-image", img, "-write-pixel", "2", "-o", out)
+	if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, "-write-pixel") {
+		t.Fatalf("exit %d, stderr %q", code, errs)
+	}
+	if strings.Contains(stdout, "Wrote") {
+		t.Errorf("stdout says a file was written: %q", stdout)
+	}
+	for _, p := range []string{out, img} {
+		if _, err := os.Stat(p); err == nil {
+			t.Errorf("%s left after the refusal", filepath.Base(p))
+		}
+	}
+	// The grid size is named by the flag the help lists.
+	_, errs, code = runCmd(t, "simulate", "-plan", plan, "-model", "ud:diameter=3", "-write-image", img, "-write-n", "5", "-o", out)
+	if code != exitBadInput || !strings.Contains(errs, "-write-n 5") {
+		t.Fatalf("-write-n 5: exit %d, stderr %q", code, errs)
+	}
+}

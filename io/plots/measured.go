@@ -42,8 +42,9 @@ type Measurements struct {
 
 // Measured plots m against spatial frequency in Mλ: data with error bars, each model's values
 // at the data points (ModelValues parallel to m.Value, in its unit) and each curve as a line.
-// Data of several wavelengths are coloured by wavelength, with a colour bar; the models are
-// then drawn in black, told apart by their shapes. Non-finite points are skipped (and, with
+// Data of several wavelengths are coloured by wavelength, with a colour bar (or by group); the
+// models are then drawn in black, told apart by their shapes, and the curves in black, told
+// apart by their dashes. Non-finite points are skipped (and, with
 // Options.LogY, points not above zero, whose error bars are cut at a tenth of the value).
 func Measured(m Measurements, models []ModelValues, curves []Curve, opt Options) (*Figure, error) {
 	return measured(m, models, curves, opt, upperFirst(m.Label))
@@ -111,7 +112,7 @@ func measured(m Measurements, models []ModelValues, curves []Curve, opt Options,
 	if err := addModels(p, pts, models, n, m.Phase, logY, lr.coloured() || grouped); err != nil {
 		return nil, fmt.Errorf("plots: %s: %w", name, err)
 	}
-	if err := addCurves(p, curves, logY); err != nil {
+	if err := addCurves(p, curves, logY, lr.coloured() || grouped); err != nil {
 		return nil, fmt.Errorf("plots: %s: %w", name, err)
 	}
 	p.X.Min = 0

@@ -417,3 +417,38 @@ func TestFitEllipse(t *testing.T) {
 		}
 	}
 }
+
+// TestCurveBlackOnColouredData checks that a model curve over data coloured by group is drawn
+// in black, as the models' points are: in the palette's sky blue, the colour of the first
+// curve, it passed for data and vanished among blue points. No pixel of the figure may then
+// be sky blue (within 12 of each 0–255 component; the blue group's antialiased edges stay
+// further away).
+func TestCurveBlackOnColouredData(t *testing.T) {
+	m := Measurements{Label: "V²", Freq: []float64{2e7, 4e7, 6e7, 8e7}, Value: []float64{0.8, 0.5, 0.3, 0.1},
+		Err: []float64{0.02, 0.02, 0.02, 0.02}, Group: []int{0, 0, 1, 1}, GroupNames: []string{"A", "B"}}
+	c := Curve{Name: "fitted model"}
+	for k := 0; k <= 100; k++ {
+		q := 1e8 * float64(k) / 100
+		c.Freq, c.Value = append(c.Freq, q), append(c.Value, math.Exp(-q/5e7))
+	}
+	f, err := Measured(m, nil, []Curve{c}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	img := decoded(t, f)
+	sky := seriesColors[len(seriesColors)-1]
+	near := func(a uint32, b uint8) bool { d := int(a>>8) - int(b); return d > -12 && d < 12 }
+	nsky := 0
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bl, _ := img.At(x, y).RGBA()
+			if near(r, sky.R) && near(g, sky.G) && near(bl, sky.B) {
+				nsky++
+			}
+		}
+	}
+	if nsky > 0 {
+		t.Errorf("%d sky-blue pixels: the curve is drawn in a data colour", nsky)
+	}
+}

@@ -334,7 +334,7 @@ func V2(d V2Data, models []ModelValues, curves []Curve, opt Options) (*Figure, e
 	return measured(m, models, curves, opt, "Squared visibility")
 }
 
-func addCurves(p *plot.Plot, curves []Curve, logY bool) error {
+func addCurves(p *plot.Plot, curves []Curve, logY, black bool) error {
 	for k, c := range curves {
 		if len(c.Freq) != len(c.Value) {
 			return fmt.Errorf("curve %q has %d frequencies and %d values", c.Name, len(c.Freq), len(c.Value))
@@ -356,6 +356,12 @@ func addCurves(p *plot.Plot, curves []Curve, logY bool) error {
 		}
 		l.LineStyle.Width = vg.Points(1.4)
 		l.LineStyle.Color = seriesColor(len(seriesColors) - 1 - k)
+		if black {
+			// Data coloured by wavelength or group: a coloured line would pass for, or hide
+			// among, the data (sky blue through the blue and cyan points); the dashes tell
+			// several curves apart.
+			l.LineStyle.Color = color.Black
+		}
 		l.LineStyle.Dashes = [][]vg.Length{nil, {vg.Points(6), vg.Points(3)}, {vg.Points(2), vg.Points(2)}}[k%3]
 		p.Add(l)
 		p.Legend.Add(legendName(c.Name, "curve", k, len(curves)), l)

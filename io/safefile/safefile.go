@@ -75,6 +75,10 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 		return failed(err)
 	}
 	if err = os.Rename(tmpName, path); err != nil {
+		if st, serr := os.Stat(path); serr == nil && st.IsDir() {
+			// rename(2) says "file exists" or "is a directory" here; say which name is in the way.
+			return &writeError{fmt.Sprintf("%s: cannot write: a folder of that name is in the way", path), err}
+		}
 		return failed(err)
 	}
 	return nil

@@ -95,3 +95,25 @@ func TestWriteMissingDirectory(t *testing.T) {
 		t.Fatal("expected an error for a nil fill")
 	}
 }
+
+// TestWriteOntoFolder checks that a folder where the file should go is named as such (the
+// system's "file exists" from rename(2) misleads), that the folder is left as it was and
+// that no temporary file is left beside it.
+func TestWriteOntoFolder(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "plot.png")
+	if err := os.Mkdir(path, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	err := WriteBytes(path, []byte("x"))
+	want := path + ": cannot write: a folder of that name is in the way"
+	if err == nil || err.Error() != want {
+		t.Fatalf("error %v, want %q", err, want)
+	}
+	if st, err := os.Stat(path); err != nil || !st.IsDir() {
+		t.Errorf("the folder was changed: %v", err)
+	}
+	if m, _ := filepath.Glob(filepath.Join(dir, ".plot.png.tmp-*")); len(m) > 0 {
+		t.Errorf("temporaries left: %v", m)
+	}
+}
