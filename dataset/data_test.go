@@ -142,6 +142,23 @@ func TestFromFilesErrors(t *testing.T) {
 	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "a.oifits: OI_VIS (HDU 5) row 1: VISAMPERR is -2; errors must be positive" {
 		t.Errorf("error %v", err)
 	}
+	// A baseline coordinate longer than the Earth's diameter (1.27e7 m, a fact of the
+	// trade) is a corrupt row: it names the file, table, row and column.
+	f = smallFiles()
+	f[1].Vis2[0].Rows[0].UCoord = 5e160
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "b.oifits: OI_VIS2 (HDU 3) row 1: UCOORD is 5e+160 m, longer than any baseline on the Earth (1.3e+07 m)" {
+		t.Errorf("error %v", err)
+	}
+	f = smallFiles()
+	f[0].T3[0].Rows[0].V2Coord = -2e7
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "a.oifits: OI_T3 (HDU 4) row 1: V2COORD is -2e+07 m, longer than any baseline on the Earth (1.3e+07 m)" {
+		t.Errorf("error %v", err)
+	}
+	f = smallFiles()
+	f[0].Vis[0].Rows[0].VCoord = 1e300
+	if _, err := FromFiles(f, Selection{}); err == nil || err.Error() != "a.oifits: OI_VIS (HDU 5) row 1: VCOORD is 1e+300 m, longer than any baseline on the Earth (1.3e+07 m)" {
+		t.Errorf("error %v", err)
+	}
 }
 
 // TestSummary checks the summary figures by hand. Resolution = λmin/(2·Bmax) and largest

@@ -192,7 +192,8 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					for _, e := range []error{
 						width("OI_VIS2", tb.HDU, r+1, "VIS2DATA", len(row.Data), nw),
 						width("OI_VIS2", tb.HDU, r+1, "VIS2ERR", len(row.Err), nw),
-						width("OI_VIS2", tb.HDU, r+1, "FLAG", len(row.Flag), nw)} {
+						width("OI_VIS2", tb.HDU, r+1, "FLAG", len(row.Flag), nw),
+						coordsOK(f.Name, "OI_VIS2", tb.HDU, r+1, uvCols, row.UCoord, row.VCoord)} {
 						if e != nil {
 							return nil, e
 						}
@@ -244,6 +245,9 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 					if err := t3Cols.widths(width, tb.HDU, r+1, nw, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag); err != nil {
 						return nil, err
 					}
+					if err := coordsOK(f.Name, "OI_T3", tb.HDU, r+1, uv12Cols, row.U1Coord, row.V1Coord, row.U2Coord, row.V2Coord); err != nil {
+						return nil, err
+					}
 					uvOK := finite(row.U1Coord) && finite(row.V1Coord) && finite(row.U2Coord) && finite(row.V2Coord)
 					p := &d.T3
 					set := ampPhaseSet{&p.Lambda, &p.DLambda, &p.MJD, &p.Amp, &p.AmpErr, &p.Phi, &p.PhiErr, &p.AmpOK, &p.PhiOK, &p.Origin}
@@ -285,6 +289,9 @@ func FromFiles(files []*oifits.File, sel Selection) (*Data, error) {
 						continue
 					}
 					if err := visCols.widths(width, tb.HDU, r+1, nw, row.Amp, row.AmpErr, row.Phi, row.PhiErr, row.Flag); err != nil {
+						return nil, err
+					}
+					if err := coordsOK(f.Name, "OI_VIS", tb.HDU, r+1, uvCols, row.UCoord, row.VCoord); err != nil {
 						return nil, err
 					}
 					uvOK := finite(row.UCoord) && finite(row.VCoord)
@@ -331,6 +338,29 @@ func notPositive(file, ext string, hdu, row int, col string, e float64) error {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// maxCoord is the largest UCOORD or VCOORD taken, in metres: the diameter of the Earth,
+// 1.27e7 m, bounds every baseline of a ground-based array, and a larger value is a corrupt
+// row (or a wrong unit far beyond the unit warning of io/oifits) whose spatial frequency
+// would set the pixel grid.
+const maxCoord = 1.3e7
+
+// coordsOK returns an error naming the first coordinate of a row beyond maxCoord in size;
+// cols names the coordinates in order.
+func coordsOK(file, ext string, hdu, row int, cols []string, v ...float64) error {
+	for i, x := range v {
+		if math.Abs(x) > maxCoord {
+			return &Error{File: file, HDU: hdu, ExtName: ext, Row: row, Column: cols[i],
+				Err: fmt.Errorf("%s is %g m, longer than any baseline on the Earth (%g m)", cols[i], x, maxCoord)}
+		}
+	}
+	return nil
+}
+
+var (
+	uvCols   = []string{"UCOORD", "VCOORD"}
+	uv12Cols = []string{"U1COORD", "V1COORD", "U2COORD", "V2COORD"}
+)
 
 // ampPhaseCols names the amplitude and phase columns of an OI_T3 or OI_VIS table, whose
 // channels FromFiles reads alike.

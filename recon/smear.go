@@ -290,9 +290,14 @@ func (l legendre) bandMean(beta, r float64, n int) complex128 {
 
 // exactNodes is the order of the reference quadrature for a phase β at relative bandwidth r:
 // 24 plus the phase turn across the band, for which Gauss–Legendre converges to rounding.
+// It is at most maxExactNodes: a phase turn beyond that (a baseline of corrupt data) only
+// needs a loss near 1, which that many nodes already give.
 func exactNodes(beta, r float64) int {
-	return 24 + int(math.Ceil(math.Abs(beta)*r/(1-r*r/4)))
+	return 24 + int(math.Min(math.Ceil(math.Abs(beta)*r/(1-r*r/4)), maxExactNodes))
 }
+
+// maxExactNodes bounds the reference quadrature's phase turns (common practice, no source).
+const maxExactNodes = 4096
 
 // maxSmearNodes bounds the nodes of one point; a field so wide that more are needed is
 // beyond the tolerance and is modelled with this many.
