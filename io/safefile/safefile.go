@@ -14,7 +14,7 @@ import (
 // fill receives a buffered writer; Write flushes it, syncs the temporary file,
 // closes it and renames it to path. When fill or any later step fails, the
 // temporary file is removed, path is left untouched, and the error is
-// returned (wrapped with the path). The new file gets mode 0644 (before the
+// returned (wrapped with the path); a panic in fill removes it too. The new file gets mode 0644 (before the
 // umask), like os.Create would give it, rather than os.CreateTemp's 0600.
 func Write(path string, fill func(w io.Writer) error) (err error) {
 	if fill == nil {
@@ -42,8 +42,11 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 	}
 	tmpName := tmp.Name()
 	active.Store(tmpName, struct{}{})
+	// renamed is set once the file is in place: any other end, a panic in fill
+	// included, removes the temporary file.
+	renamed := false
 	defer func() {
-		if err != nil {
+		if !renamed {
 			tmp.Close()
 			os.Remove(tmpName)
 		}
@@ -81,6 +84,7 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 		}
 		return failed(err)
 	}
+	renamed = true
 	return nil
 }
 

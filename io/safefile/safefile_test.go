@@ -80,6 +80,32 @@ func TestWriteFailureKeepsOldFileAndRemovesTemp(t *testing.T) {
 	}
 }
 
+// A panic in fill (a defect of the caller) leaves the old file and no temporary file.
+func TestWritePanicRemovesTemp(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "keep.txt")
+	if err := WriteBytes(path, []byte("old")); err != nil {
+		t.Fatal(err)
+	}
+	func() {
+		defer func() {
+			if recover() == nil {
+				t.Error("the panic of fill did not reach the caller")
+			}
+		}()
+		Write(path, func(w io.Writer) error {
+			fmt.Fprintf(w, "partial")
+			panic("boom")
+		})
+	}()
+	if got, _ := os.ReadFile(path); string(got) != "old" {
+		t.Errorf("old file changed to %q", got)
+	}
+	if names := listDir(t, dir); len(names) != 1 {
+		t.Errorf("temporary file left behind: %v", names)
+	}
+}
+
 func TestWriteMissingDirectory(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "no", "such", "dir", "f")
 	err := WriteBytes(path, []byte("x"))
