@@ -77,6 +77,9 @@ type JointResult struct {
 	Chi2r    []float64
 	Chi2rAll float64
 	Iter     int // iterations of the last sweep over the epochs
+	// Warnings is the quality verdict of the joint run (recon.CubeResult.Warnings), also
+	// in the header of joint.fits and of each EPOCH-joint.fits (NWARN, WARNn).
+	Warnings []string
 }
 
 // JointSettings control Joint.
@@ -150,7 +153,8 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	if err != nil {
 		return nil, orInterrupted(fmt.Errorf("joint reconstruction: %w", err))
 	}
-	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter}
+	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter,
+		Warnings: output.NonNil(cr.Warnings)}
 	for _, pl := range cr.Planes {
 		res.Images = append(res.Images, pl.Image)
 		res.Chi2r = append(res.Chi2r, pl.Chi2r)
@@ -163,6 +167,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the last sweep over the epochs"})
+	cube.Cards = append(cube.Cards, output.WarningCards(res.Warnings)...)
 	// The third axis is time, each plane at the middle of its epoch (fitsimage.Image.Time),
 	// when the epochs come in time order; otherwise it stays the plane number and each
 	// plane's MJD is in MJDnnn.
@@ -200,6 +205,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
 				{Key: "MJD-AVG", Value: (row.MJDMin + row.MJDMax) / 2, Comment: "mean MJD of the epoch"},
 			}}
+		im.Cards = append(im.Cards, output.WarningCards(res.Warnings)...)
 		base := filepath.Join(out, e.Name+jointSuffix)
 		if err := fitsimage.WriteFile(base+extFITS, im); err != nil {
 			return nil, err
