@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/preview"
 	"vcz/output"
@@ -107,6 +108,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	var base recon.Problem
 	var settings recon.Settings
 	var eps []batch.JointEpoch
+	var datas []*dataset.Data // of each epoch
 	for t, e := range epochs {
 		row := results[t].Row
 		im := results[t].Image
@@ -135,6 +137,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 			base, settings = p, st
 		}
 		settings.MaxIter = max(settings.MaxIter, st.MaxIter)
+		datas = append(datas, d)
 		eps = append(eps, batch.JointEpoch{Data: d, Start: im.Data[:g.N*g.N], Weight: row.Weight, Label: e.Name,
 			MJDMin: row.MJDMin, MJDMax: row.MJDMax})
 	}
@@ -210,12 +213,25 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		if err := fitsimage.WriteFile(base+extFITS, im); err != nil {
 			return nil, err
 		}
-		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas, Stretch: b.Stretch}
+		opt := jointPreviewOptions(e.Name, row, grid.Pixel, datas[t], res.Chi2r[t], b.Stretch)
 		if err := preview.WriteFile(base+extPNG, res.Images[t], n, n, opt); err != nil {
 			return nil, err
 		}
 	}
 	return res, nil
+}
+
+// jointPreviewOptions are the options of the preview of an epoch's joint image: its name
+// and dates, its χ²ᵣ in the joint run, and, as the preview of an epoch's own image has them,
+// the colour bar's label and the circle of the nominal resolution of its data d; pixel is
+// in rad.
+func jointPreviewOptions(name string, row batch.Row, pixel float64, d *dataset.Data, chi2r float64, st preview.Stretch) preview.Options {
+	return preview.Options{Title: name + " (joint)",
+		Subtitle:      fmt.Sprintf("%s · χ²ᵣ %.2f", preview.FormatMJDRange(row.MJDMin, row.MJDMax), chi2r),
+		Pixel:         pixel / recon.Mas,
+		Beam:          preview.Beam{Major: d.Summarize().Resolution / recon.Mas},
+		ColorbarLabel: "flux per pixel (total 1)",
+		Stretch:       st}
 }
 
 // WriteJointMontage draws the joint images as montage-joint.png and epochs-joint.gif in
