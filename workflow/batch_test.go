@@ -271,3 +271,32 @@ func TestCheckJointSameTerms(t *testing.T) {
 		}
 	}
 }
+
+// -temporal-weight takes a positive finite number or auto; any other text, trailing
+// characters included, is bad input (an *InputError) before any work.
+func TestPlanBatchTemporalWeight(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	getenv := func(string) string { return "" }
+	for _, tc := range []struct {
+		text string
+		want float64 // 0: refused
+	}{
+		{"auto", 0}, {"AUTO", 0}, {"1e3", 1000}, {" 250 ", 250},
+		{"1e3abc", -1}, {"5mas", -1}, {"0", -1}, {"-2", -1}, {"inf", -1}, {"NaN", -1}, {"", -1},
+	} {
+		r := BatchRequest{Files: files, Gap: 0.5, Out: filepath.Join(dir, "out"), Joint: true, TemporalWeight: tc.text}
+		p, err := PlanBatch(r, getenv)
+		var ie *InputError
+		switch {
+		case tc.want < 0 && !errors.As(err, &ie):
+			t.Errorf("-temporal-weight %q: error %v, want an *InputError", tc.text, err)
+		case tc.want < 0 && !strings.Contains(err.Error(), "-temporal-weight"):
+			t.Errorf("-temporal-weight %q: error %q does not name the option", tc.text, err)
+		case tc.want >= 0 && err != nil:
+			t.Errorf("-temporal-weight %q: %v", tc.text, err)
+		case tc.want >= 0 && p.Lambda != tc.want:
+			t.Errorf("-temporal-weight %q: λ = %g, want %g", tc.text, p.Lambda, tc.want)
+		}
+	}
+}
