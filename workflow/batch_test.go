@@ -300,3 +300,23 @@ func TestPlanBatchTemporalWeight(t *testing.T) {
 		}
 	}
 }
+
+// A broken [[epoch]] table gets a message that names its actual fault: a misspelt key is
+// unknown (with its line), not an epoch without files, and files given as one string
+// rather than a list (TOML 1.0: an array is written in brackets) says so.
+func TestJobFileEpochFaults(t *testing.T) {
+	for _, c := range []struct{ name, src, want string }{
+		{"misspelt files", "[[epoch]]\nname = \"x\"\nfils = [\"a.oifits\"]\n", "job.toml:3: unknown key epoch.fils"},
+		{"files a string", "[[epoch]]\nfiles = \"a.oifits\"\n", `epoch "epoch-01": files = "a.oifits": want a list of file names`},
+		{"files a number", "[[epoch]]\nfiles = 3\n", `epoch "epoch-01": files = 3: want a list of file names`},
+		{"no files", "[[epoch]]\nname = \"x\"\n", `epoch "x" lists no files`},
+		{"empty files", "[[epoch]]\nfiles = []\n", `epoch "epoch-01" lists no files`},
+		{"file not a string", "[[epoch]]\nfiles = [1]\n", `files: 1 is not a file name`},
+	} {
+		_, _, err := parseJobFile([]byte(c.src), "job.toml", runspec.Spec{})
+		var ie *InputError
+		if !errors.As(err, &ie) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want an *InputError with %q", c.name, err, c.want)
+		}
+	}
+}
