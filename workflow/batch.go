@@ -263,14 +263,14 @@ func Collect(dirs []string) (*batch.Summary, error) {
 		}
 	}
 	if len(parts) == 0 {
-		return nil, inputErrorf("batch -collect: no summary-K-of-N.json in %s", strings.Join(dirs, ", "))
+		return nil, inputErrorf("-collect: no summary-K-of-N.json in %s", strings.Join(dirs, ", "))
 	}
 	sum, err := batch.Collect(parts)
 	if err != nil {
-		return nil, inputErrorf("batch -collect: %v", err)
+		return nil, inputErrorf("-collect: %v", err)
 	}
 	if err := checkCollected(sum); err != nil {
-		return nil, inputErrorf("batch -collect: %v", err)
+		return nil, inputErrorf("-collect: %v", err)
 	}
 	return sum, nil
 }
