@@ -320,3 +320,39 @@ func TestJobFileEpochFaults(t *testing.T) {
 		}
 	}
 }
+
+// Shards run into folders of their own are collected into a third folder, which does not
+// exist yet: it is made, and the montage and animation are drawn from each epoch's image in
+// the folder of the summary that lists it.
+func TestCollectShardsFromFolders(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	seed := uint64(3)
+	spec := runspec.Spec{Grid: 32, Weight: 1e-3, Iterations: 20, Starts: 1, Seed: &seed}
+	var dirs []string
+	for k := 1; k <= 2; k++ {
+		epochs := SplitEpochs(files, spec, dataset.NightGap)
+		d := filepath.Join(dir, fmt.Sprintf("shard%d", k))
+		if err := os.Mkdir(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		b := &Batch{Out: d, Budget: 1}
+		if _, err := b.RunShard(epochs, batch.Shard{K: k, N: 2}, false, nil); err != nil {
+			t.Fatal(err)
+		}
+		dirs = append(dirs, d)
+	}
+	out := filepath.Join(dir, "merged")
+	sr, err := CollectShards(out, append([]string{out}, dirs...), 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sr.Summary.Rows) != 2 || sr.Montage != nil {
+		t.Fatalf("%d rows, montage: %v", len(sr.Summary.Rows), sr.Montage)
+	}
+	for _, name := range []string{"summary.json", "summary.csv", "montage.png", "epochs.gif"} {
+		if _, err := os.Stat(filepath.Join(out, name)); err != nil {
+			t.Error(err)
+		}
+	}
+}
