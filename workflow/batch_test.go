@@ -269,6 +269,21 @@ func TestCheckJointSameTerms(t *testing.T) {
 		if !errors.As(err, &ie) || !strings.Contains(err.Error(), "epoch n1") || !strings.Contains(err.Error(), "epoch n2") {
 			t.Errorf("-%s %s in one epoch: error %v", opt[0], opt[1], err)
 		}
+		// The options are shown as the user gives them, not as escaped canonical text.
+		want := fmt.Sprintf("epoch n1 has the defaults, epoch n2 %s=%s", opt[0], opt[1])
+		if err != nil && (!strings.Contains(err.Error(), want) || strings.Contains(err.Error(), `\n`)) {
+			t.Errorf("-%s %s in one epoch: error %q, want it to say %q", opt[0], opt[1], err, want)
+		}
+	}
+	c := b
+	if err := c.Set("reg", "mem"); err != nil {
+		t.Fatal(err)
+	}
+	if err := c.Set("use", "vis2"); err != nil {
+		t.Fatal(err)
+	}
+	if err := CheckJoint([]*Epoch{{Name: "n1", Spec: a}, {Name: "n2", Spec: c}}); err == nil || !strings.Contains(err.Error(), "epoch n2 use=vis2; reg=mem") {
+		t.Errorf("two options in one epoch: error %v", err)
 	}
 }
 
