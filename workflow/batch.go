@@ -159,13 +159,20 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 }
 
 // finishEpoch marks row done, with its time since t0, and writes epoch e's status file
-// (its outputs FITS and PNG, the run's hash), the last output of the epoch.
-func finishEpoch(e *Epoch, row *batch.Row, t0 time.Time, hash, statusPath string) error {
+// (its outputs FITS and PNG, and the paths of any other files it wrote, listed by base
+// name so that a rerun redoes the epoch when one is missing; the run's hash), the last
+// output of the epoch.
+func finishEpoch(e *Epoch, row *batch.Row, t0 time.Time, hash, statusPath string, others ...string) error {
 	row.Status = batch.StateDone
 	row.Seconds = time.Since(t0).Seconds()
 	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: *row}
 	if row.PNG != "" {
 		st.Outputs = append(st.Outputs, row.PNG)
+	}
+	for _, o := range others {
+		if o != "" {
+			st.Outputs = append(st.Outputs, filepath.Base(o))
+		}
 	}
 	return batch.WriteStatus(statusPath, st)
 }

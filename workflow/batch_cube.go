@@ -68,6 +68,7 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		return fail(err)
 	}
 	var img *fitsimage.Image
+	var others []string // files written beside the FITS file and the PNG
 	if e.Spec.Star != nil {
 		run, paths, err := c.RunStarEnv(outs, fitsPath, interruptible(nil))
 		if err == nil && Interrupted() {
@@ -101,12 +102,13 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		row.Warnings = output.NonNil(res.Warnings)
 		row.PNG = filepath.Base(paths.Montage)
 		img = outs.CubeImage(run)
+		others = []string{paths.CSV, paths.Moments, paths.Spectrum}
 	}
 	if row.PNG == "." {
 		row.PNG = ""
 	}
 	row.FITS = filepath.Base(fitsPath)
-	if err := finishEpoch(e, &row, t0, hash, statusPath); err != nil {
+	if err := finishEpoch(e, &row, t0, hash, statusPath, others...); err != nil {
 		return fail(err)
 	}
 	return EpochResult{Row: row, Image: img}

@@ -249,6 +249,19 @@ func TestBatchCubeEpochs(t *testing.T) {
 			t.Errorf("rerun of %s was not skipped", r.Row.Epoch)
 		}
 	}
+	// An epoch whose table of planes is gone is not complete: a rerun redoes it and
+	// writes the table again; the other stays complete.
+	planes := filepath.Join(out, epochs[0].Name+"-planes.csv")
+	if err := os.Remove(planes); err != nil {
+		t.Fatal(err)
+	}
+	again := b.Run(epochs, nil)
+	if again[0].Row.Skipped || !again[1].Row.Skipped {
+		t.Errorf("after removing %s: skipped %v, %v; want the first epoch redone", filepath.Base(planes), again[0].Row.Skipped, again[1].Row.Skipped)
+	}
+	if _, err := os.Stat(planes); err != nil {
+		t.Error(err)
+	}
 }
 
 // -joint fits every epoch with the first epoch's data terms and regularizers, so epochs
