@@ -3,6 +3,7 @@ package workflow
 import (
 	"errors"
 	"fmt"
+	"io/fs"
 	"maps"
 	"math"
 	"path/filepath"
@@ -147,6 +148,11 @@ var renamedKeys = map[string]string{
 func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 	src, err := safefile.ReadFile(path)
 	if err != nil {
+		// "job.toml: no such file or directory", as the data files' errors read.
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = fmt.Errorf("%s: %w", path, pe.Err)
+		}
 		return nil, "", inputError(path, err)
 	}
 	return parseJobFile(src, path, shared)

@@ -44,7 +44,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if *collect {
 		dirs := fs.Args()
 		if *out == "" && len(dirs) == 0 {
-			return badInputf("batch -collect: name the output folder with -o")
+			return badInputf("batch: -collect: name the output folder with -o")
 		}
 		if *out == "" {
 			*out = dirs[0]
