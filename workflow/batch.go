@@ -159,13 +159,20 @@ func (b *Batch) runEpoch(e *Epoch) EpochResult {
 }
 
 // finishEpoch marks row done, with its time since t0, and writes epoch e's status file
-// (its outputs FITS and PNG, the run's hash), the last output of the epoch.
-func finishEpoch(e *Epoch, row *batch.Row, t0 time.Time, hash, statusPath string) error {
+// (its outputs FITS and PNG, and the paths of any other files it wrote, listed by base
+// name so that a rerun redoes the epoch when one is missing; the run's hash), the last
+// output of the epoch.
+func finishEpoch(e *Epoch, row *batch.Row, t0 time.Time, hash, statusPath string, others ...string) error {
 	row.Status = batch.StateDone
 	row.Seconds = time.Since(t0).Seconds()
 	st := &batch.Status{Epoch: e.Name, Hash: hash, Outputs: []string{row.FITS}, Row: *row}
 	if row.PNG != "" {
 		st.Outputs = append(st.Outputs, row.PNG)
+	}
+	for _, o := range others {
+		if o != "" {
+			st.Outputs = append(st.Outputs, filepath.Base(o))
+		}
 	}
 	return batch.WriteStatus(statusPath, st)
 }
@@ -245,7 +252,15 @@ func mjdLabel(r batch.Row) string {
 // of the whole batch (batch.Collect); a file found twice is read once. Errors are
 // *InputError.
 func Collect(dirs []string) (*batch.Summary, error) {
+	sum, _, err := collect(dirs)
+	return sum, err
+}
+
+// collect is Collect, also returning the folder of the summary that holds each epoch, by
+// the epoch's index: its FITS file is there.
+func collect(dirs []string) (*batch.Summary, map[int]string, error) {
 	var parts []*batch.Summary
+	from := map[int]string{}
 	seen := map[string]bool{}
 	for _, d := range dirs {
 		m, _ := filepath.Glob(filepath.Join(d, shardSummaries))
@@ -257,35 +272,63 @@ func Collect(dirs []string) (*batch.Summary, error) {
 			}
 			s, err := batch.ReadJSON(p)
 			if err != nil {
-				return nil, inputError(p, err)
+				return nil, nil, inputError(p, err)
 			}
 			parts = append(parts, s)
+			for _, r := range s.Rows {
+				from[r.Index] = d
+			}
 		}
 	}
 	if len(parts) == 0 {
-		return nil, inputErrorf("batch -collect: no summary-K-of-N.json in %s", strings.Join(dirs, ", "))
+		return nil, nil, inputErrorf("-collect: no summary-K-of-N.json in %s", strings.Join(dirs, ", "))
 	}
 	sum, err := batch.Collect(parts)
 	if err != nil {
-		return nil, inputErrorf("batch -collect: %v", err)
+		return nil, nil, inputErrorf("-collect: %v", err)
 	}
 	if err := checkCollected(sum); err != nil {
-		return nil, inputErrorf("batch -collect: %v", err)
+		return nil, nil, inputErrorf("-collect: %v", err)
 	}
-	return sum, nil
+	return sum, from, nil
 }
 
 // CollectShards merges the shard summaries found in dirs (Collect) into out/summary.json and
-// .csv and draws the montage and animation of the merged epochs from their files.
+// .csv and draws the montage and animation of the merged epochs from their files, each read
+// from the folder of the summary that lists it. It makes the folder out when it does not
+// exist; its errors there are *InputError.
 func CollectShards(out string, dirs []string, st preview.Stretch) (*ShardRun, error) {
-	sum, err := Collect(dirs)
+	sum, from, err := collect(dirs)
 	if err != nil {
 		return nil, err
+	}
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		return nil, inputErrorf("-o: %v", err)
+	}
+	if err := CheckFolder(out); err != nil {
+		return nil, inputErrorf("-o: %v", err)
 	}
 	if err := WriteSummary(out, summaryName, sum); err != nil {
 		return nil, err
 	}
-	return &ShardRun{Summary: sum, Name: summaryName, Montage: WriteMontage(out, "", sum.Rows, nil, "", st)}, nil
+	return &ShardRun{Summary: sum, Name: summaryName, Montage: collectedMontage(out, sum, from, st)}, nil
+}
+
+// collectedMontage draws the montage and animation of the collected summary sum in out,
+// each done epoch's image read from its folder from[index].
+func collectedMontage(out string, sum *batch.Summary, from map[int]string, st preview.Stretch) error {
+	images := make([]*fitsimage.Image, len(sum.Rows))
+	for i, r := range sum.Rows {
+		if r.Status != batch.StateDone {
+			continue
+		}
+		im, err := image(from[r.Index], "", r, nil)
+		if err != nil {
+			return err
+		}
+		images[i] = im
+	}
+	return WriteMontage(out, "", sum.Rows, images, "", st)
 }
 
 // WriteSummary writes s as NAME.json and NAME.csv in dir.

@@ -2,6 +2,7 @@ package workflow
 
 import (
 	"path/filepath"
+	"strings"
 	"time"
 
 	"vcz/dataset"
@@ -28,10 +29,20 @@ func CheckJoint(epochs []*Epoch) error {
 	}
 	for _, e := range epochs[min(1, len(epochs)):] {
 		if a, b := jointTerms(epochs[0].Spec), jointTerms(e.Spec); a != b {
-			return inputErrorf("batch: -joint fits every epoch with the same data terms and regularizers; epoch %s has %q, epoch %s %q", epochs[0].Name, a, e.Name, b)
+			return inputErrorf("batch: -joint fits every epoch with the same data terms and regularizers; epoch %s has %s, epoch %s %s", epochs[0].Name, termsText(a), e.Name, termsText(b))
 		}
 	}
 	return nil
+}
+
+// termsText shows the canonical text of jointTerms on one line: its options joined by "; ",
+// or "the defaults".
+func termsText(canonical string) string {
+	lines := strings.FieldsFunc(canonical, func(r rune) bool { return r == '\n' })
+	if len(lines) == 0 {
+		return "the defaults"
+	}
+	return strings.Join(lines, "; ")
 }
 
 // jointTerms is the canonical text of the options the joint run takes from the first
@@ -57,6 +68,7 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		return fail(err)
 	}
 	var img *fitsimage.Image
+	var others []string // files written beside the FITS file and the PNG
 	if e.Spec.Star != nil {
 		run, paths, err := c.RunStarEnv(outs, fitsPath, interruptible(nil))
 		if err == nil && Interrupted() {
@@ -90,12 +102,13 @@ func (b *Batch) runCubeEpoch(e *Epoch, row batch.Row, t0 time.Time, hash, status
 		row.Warnings = output.NonNil(res.Warnings)
 		row.PNG = filepath.Base(paths.Montage)
 		img = outs.CubeImage(run)
+		others = []string{paths.CSV, paths.Moments, paths.Spectrum}
 	}
 	if row.PNG == "." {
 		row.PNG = ""
 	}
 	row.FITS = filepath.Base(fitsPath)
-	if err := finishEpoch(e, &row, t0, hash, statusPath); err != nil {
+	if err := finishEpoch(e, &row, t0, hash, statusPath, others...); err != nil {
 		return fail(err)
 	}
 	return EpochResult{Row: row, Image: img}

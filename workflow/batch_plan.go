@@ -1,8 +1,9 @@
 package workflow
 
 import (
-	"fmt"
+	"math"
 	"os"
+	"strconv"
 	"strings"
 
 	"vcz/recon/batch"
@@ -65,7 +66,9 @@ func PlanBatch(r BatchRequest, getenv func(string) string) (*BatchPlan, error) {
 		return nil, inputErrorf("batch: -joint needs all epochs in one run, not shard %s", p.Shard)
 	}
 	if r.Joint && strings.ToLower(r.TemporalWeight) != "auto" {
-		if _, err := fmt.Sscanf(r.TemporalWeight, "%g", &p.Lambda); err != nil || !(p.Lambda > 0) {
+		var err error
+		p.Lambda, err = strconv.ParseFloat(strings.TrimSpace(r.TemporalWeight), 64)
+		if err != nil || !(p.Lambda > 0) || math.IsInf(p.Lambda, 0) {
 			return nil, inputErrorf("batch: -temporal-weight %q: want a positive number or auto", r.TemporalWeight)
 		}
 	}

@@ -249,6 +249,19 @@ func TestBatchCubeEpochs(t *testing.T) {
 			t.Errorf("rerun of %s was not skipped", r.Row.Epoch)
 		}
 	}
+	// An epoch whose table of planes is gone is not complete: a rerun redoes it and
+	// writes the table again; the other stays complete.
+	planes := filepath.Join(out, epochs[0].Name+"-planes.csv")
+	if err := os.Remove(planes); err != nil {
+		t.Fatal(err)
+	}
+	again := b.Run(epochs, nil)
+	if again[0].Row.Skipped || !again[1].Row.Skipped {
+		t.Errorf("after removing %s: skipped %v, %v; want the first epoch redone", filepath.Base(planes), again[0].Row.Skipped, again[1].Row.Skipped)
+	}
+	if _, err := os.Stat(planes); err != nil {
+		t.Error(err)
+	}
 }
 
 // -joint fits every epoch with the first epoch's data terms and regularizers, so epochs
@@ -268,6 +281,106 @@ func TestCheckJointSameTerms(t *testing.T) {
 		var ie *InputError
 		if !errors.As(err, &ie) || !strings.Contains(err.Error(), "epoch n1") || !strings.Contains(err.Error(), "epoch n2") {
 			t.Errorf("-%s %s in one epoch: error %v", opt[0], opt[1], err)
+		}
+		// The options are shown as the user gives them, not as escaped canonical text.
+		want := fmt.Sprintf("epoch n1 has the defaults, epoch n2 %s=%s", opt[0], opt[1])
+		if err != nil && (!strings.Contains(err.Error(), want) || strings.Contains(err.Error(), `\n`)) {
+			t.Errorf("-%s %s in one epoch: error %q, want it to say %q", opt[0], opt[1], err, want)
+		}
+	}
+	c := b
+	if err := c.Set("reg", "mem"); err != nil {
+		t.Fatal(err)
+	}
+	if err := c.Set("use", "vis2"); err != nil {
+		t.Fatal(err)
+	}
+	if err := CheckJoint([]*Epoch{{Name: "n1", Spec: a}, {Name: "n2", Spec: c}}); err == nil || !strings.Contains(err.Error(), "epoch n2 use=vis2; reg=mem") {
+		t.Errorf("two options in one epoch: error %v", err)
+	}
+}
+
+// -temporal-weight takes a positive finite number or auto; any other text, trailing
+// characters included, is bad input (an *InputError) before any work.
+func TestPlanBatchTemporalWeight(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	getenv := func(string) string { return "" }
+	for _, tc := range []struct {
+		text string
+		want float64 // 0: refused
+	}{
+		{"auto", 0}, {"AUTO", 0}, {"1e3", 1000}, {" 250 ", 250},
+		{"1e3abc", -1}, {"5mas", -1}, {"0", -1}, {"-2", -1}, {"inf", -1}, {"NaN", -1}, {"", -1},
+	} {
+		r := BatchRequest{Files: files, Gap: 0.5, Out: filepath.Join(dir, "out"), Joint: true, TemporalWeight: tc.text}
+		p, err := PlanBatch(r, getenv)
+		var ie *InputError
+		switch {
+		case tc.want < 0 && !errors.As(err, &ie):
+			t.Errorf("-temporal-weight %q: error %v, want an *InputError", tc.text, err)
+		case tc.want < 0 && !strings.Contains(err.Error(), "-temporal-weight"):
+			t.Errorf("-temporal-weight %q: error %q does not name the option", tc.text, err)
+		case tc.want >= 0 && err != nil:
+			t.Errorf("-temporal-weight %q: %v", tc.text, err)
+		case tc.want >= 0 && p.Lambda != tc.want:
+			t.Errorf("-temporal-weight %q: λ = %g, want %g", tc.text, p.Lambda, tc.want)
+		}
+	}
+}
+
+// A broken [[epoch]] table gets a message that names its actual fault: a misspelt key is
+// unknown (with its line), not an epoch without files, and files given as one string
+// rather than a list (TOML 1.0: an array is written in brackets) says so.
+func TestJobFileEpochFaults(t *testing.T) {
+	for _, c := range []struct{ name, src, want string }{
+		{"misspelt files", "[[epoch]]\nname = \"x\"\nfils = [\"a.oifits\"]\n", "job.toml:3: unknown key epoch.fils"},
+		{"files a string", "[[epoch]]\nfiles = \"a.oifits\"\n", `epoch "epoch-01": files = "a.oifits": want a list of file names`},
+		{"files a number", "[[epoch]]\nfiles = 3\n", `epoch "epoch-01": files = 3: want a list of file names`},
+		{"no files", "[[epoch]]\nname = \"x\"\n", `epoch "x" lists no files`},
+		{"empty files", "[[epoch]]\nfiles = []\n", `epoch "epoch-01" lists no files`},
+		{"file not a string", "[[epoch]]\nfiles = [1]\n", `files: 1 is not a file name`},
+	} {
+		_, _, err := parseJobFile([]byte(c.src), "job.toml", runspec.Spec{})
+		var ie *InputError
+		if !errors.As(err, &ie) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want an *InputError with %q", c.name, err, c.want)
+		}
+	}
+}
+
+// Shards run into folders of their own are collected into a third folder, which does not
+// exist yet: it is made, and the montage and animation are drawn from each epoch's image in
+// the folder of the summary that lists it.
+func TestCollectShardsFromFolders(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 2)
+	seed := uint64(3)
+	spec := runspec.Spec{Grid: 32, Weight: 1e-3, Iterations: 20, Starts: 1, Seed: &seed}
+	var dirs []string
+	for k := 1; k <= 2; k++ {
+		epochs := SplitEpochs(files, spec, dataset.NightGap)
+		d := filepath.Join(dir, fmt.Sprintf("shard%d", k))
+		if err := os.Mkdir(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		b := &Batch{Out: d, Budget: 1}
+		if _, err := b.RunShard(epochs, batch.Shard{K: k, N: 2}, false, nil); err != nil {
+			t.Fatal(err)
+		}
+		dirs = append(dirs, d)
+	}
+	out := filepath.Join(dir, "merged")
+	sr, err := CollectShards(out, append([]string{out}, dirs...), 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sr.Summary.Rows) != 2 || sr.Montage != nil {
+		t.Fatalf("%d rows, montage: %v", len(sr.Summary.Rows), sr.Montage)
+	}
+	for _, name := range []string{"summary.json", "summary.csv", "montage.png", "epochs.gif"} {
+		if _, err := os.Stat(filepath.Join(out, name)); err != nil {
+			t.Error(err)
 		}
 	}
 }

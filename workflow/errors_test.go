@@ -52,3 +52,19 @@ func TestInputErrors(t *testing.T) {
 		}
 	}
 }
+
+// A job file that cannot be read is named first, as the data files are ("PATH: no such
+// file or directory"), not after the system call that failed.
+func TestJobFileUnreadable(t *testing.T) {
+	dir := t.TempDir()
+	for _, c := range []struct{ path, want string }{
+		{filepath.Join(dir, "nosuch.toml"), filepath.Join(dir, "nosuch.toml") + ": no such file or directory"},
+		{dir, dir + ": not a regular file"},
+	} {
+		_, _, err := ReadJobFile(c.path, runspec.Spec{})
+		var ie *InputError
+		if !errors.As(err, &ie) || ie.File != c.path || !strings.HasPrefix(err.Error(), c.want) {
+			t.Errorf("%s: %v, want an *InputError starting %q", c.path, err, c.want)
+		}
+	}
+}

@@ -3,6 +3,7 @@ package workflow
 import (
 	"errors"
 	"fmt"
+	"io/fs"
 	"maps"
 	"math"
 	"path/filepath"
@@ -147,6 +148,11 @@ var renamedKeys = map[string]string{
 func ReadJobFile(path string, shared runspec.Spec) ([]*Epoch, string, error) {
 	src, err := safefile.ReadFile(path)
 	if err != nil {
+		// "job.toml: no such file or directory", as the data files' errors read.
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = fmt.Errorf("%s: %w", path, pe.Err)
+		}
 		return nil, "", inputError(path, err)
 	}
 	return parseJobFile(src, path, shared)
@@ -207,8 +213,22 @@ func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, strin
 			return nil, "", bad("%s: epoch %d: name %q is used twice", path, i+1, e.Name)
 		}
 		seen[e.Name] = true
-		list, _ := tbl["files"].([]any)
-		if len(list) == 0 {
+		// The options first, so that a misspelt key (fils = [...]) is named as unknown
+		// rather than reported as an epoch without files.
+		if err := e.Spec.SetTable(opts, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube); err != nil {
+			return nil, "", optionErr(err, "epoch", i, fmt.Sprintf("epoch %q:", e.Name))
+		}
+		v, ok := tbl["files"]
+		list, isList := v.([]any)
+		switch {
+		case !ok:
+			return nil, "", bad("%s: epoch %q lists no files (want files = [\"a.oifits\", ...])", path, e.Name)
+		case !isList:
+			if str, isStr := v.(string); isStr {
+				v = strconv.Quote(str)
+			}
+			return nil, "", bad("%s: epoch %q: files = %v: want a list of file names, e.g. files = [\"a.oifits\"]", path, e.Name, v)
+		case len(list) == 0:
 			return nil, "", bad("%s: epoch %q lists no files", path, e.Name)
 		}
 		for _, v := range list {
@@ -220,9 +240,6 @@ func parseJobFile(src []byte, path string, shared runspec.Spec) ([]*Epoch, strin
 				p = filepath.Join(dir, p)
 			}
 			e.Files = append(e.Files, p)
-		}
-		if err := e.Spec.SetTable(opts, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube); err != nil {
-			return nil, "", optionErr(err, "epoch", i, fmt.Sprintf("epoch %q:", e.Name))
 		}
 		epochs = append(epochs, e)
 	}

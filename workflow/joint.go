@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 
+	"vcz/dataset"
 	"vcz/io/fitsimage"
 	"vcz/io/preview"
 	"vcz/output"
@@ -77,6 +78,9 @@ type JointResult struct {
 	Chi2r    []float64
 	Chi2rAll float64
 	Iter     int // iterations of the last sweep over the epochs
+	// Warnings is the quality verdict of the joint run (recon.CubeResult.Warnings), also
+	// in the header of joint.fits and of each EPOCH-joint.fits (NWARN, WARNn).
+	Warnings []string
 }
 
 // JointSettings control Joint.
@@ -104,6 +108,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	var base recon.Problem
 	var settings recon.Settings
 	var eps []batch.JointEpoch
+	var datas []*dataset.Data // of each epoch
 	for t, e := range epochs {
 		row := results[t].Row
 		im := results[t].Image
@@ -132,6 +137,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 			base, settings = p, st
 		}
 		settings.MaxIter = max(settings.MaxIter, st.MaxIter)
+		datas = append(datas, d)
 		eps = append(eps, batch.JointEpoch{Data: d, Start: im.Data[:g.N*g.N], Weight: row.Weight, Label: e.Name,
 			MJDMin: row.MJDMin, MJDMax: row.MJDMax})
 	}
@@ -150,7 +156,8 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 	if err != nil {
 		return nil, orInterrupted(fmt.Errorf("joint reconstruction: %w", err))
 	}
-	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter}
+	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter,
+		Warnings: output.NonNil(cr.Warnings)}
 	for _, pl := range cr.Planes {
 		res.Images = append(res.Images, pl.Image)
 		res.Chi2r = append(res.Chi2r, pl.Chi2r)
@@ -163,6 +170,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		fitsimage.Card{Key: "TEMPWT", Value: res.Lambda, Comment: "temporal weight lambda"},
 		fitsimage.Card{Key: "CHI2R", Value: res.Chi2rAll, Comment: "reduced chi2 of all epochs"},
 		fitsimage.Card{Key: "NITER", Value: res.Iter, Comment: "iterations of the last sweep over the epochs"})
+	cube.Cards = append(cube.Cards, output.WarningCards(res.Warnings)...)
 	// The third axis is time, each plane at the middle of its epoch (fitsimage.Image.Time),
 	// when the epochs come in time order; otherwise it stays the plane number and each
 	// plane's MJD is in MJDnnn.
@@ -200,16 +208,30 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 				{Key: "CHI2R", Value: res.Chi2r[t], Comment: "reduced chi2 of this epoch"},
 				{Key: "MJD-AVG", Value: (row.MJDMin + row.MJDMax) / 2, Comment: "mean MJD of the epoch"},
 			}}
+		im.Cards = append(im.Cards, output.WarningCards(res.Warnings)...)
 		base := filepath.Join(out, e.Name+jointSuffix)
 		if err := fitsimage.WriteFile(base+extFITS, im); err != nil {
 			return nil, err
 		}
-		opt := preview.Options{Title: e.Name + " (joint)", Subtitle: preview.FormatMJDRange(row.MJDMin, row.MJDMax), Pixel: grid.Pixel / recon.Mas, Stretch: b.Stretch}
+		opt := jointPreviewOptions(e.Name, row, grid.Pixel, datas[t], res.Chi2r[t], b.Stretch)
 		if err := preview.WriteFile(base+extPNG, res.Images[t], n, n, opt); err != nil {
 			return nil, err
 		}
 	}
 	return res, nil
+}
+
+// jointPreviewOptions are the options of the preview of an epoch's joint image: its name
+// and dates, its χ²ᵣ in the joint run, and, as the preview of an epoch's own image has them,
+// the colour bar's label and the circle of the nominal resolution of its data d; pixel is
+// in rad.
+func jointPreviewOptions(name string, row batch.Row, pixel float64, d *dataset.Data, chi2r float64, st preview.Stretch) preview.Options {
+	return preview.Options{Title: name + " (joint)",
+		Subtitle:      fmt.Sprintf("%s · χ²ᵣ %.2f", preview.FormatMJDRange(row.MJDMin, row.MJDMax), chi2r),
+		Pixel:         pixel / recon.Mas,
+		Beam:          preview.Beam{Major: d.Summarize().Resolution / recon.Mas},
+		ColorbarLabel: "flux per pixel (total 1)",
+		Stretch:       st}
 }
 
 // WriteJointMontage draws the joint images as montage-joint.png and epochs-joint.gif in

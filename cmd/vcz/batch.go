@@ -44,7 +44,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	if *collect {
 		dirs := fs.Args()
 		if *out == "" && len(dirs) == 0 {
-			return badInputf("batch -collect: name the output folder with -o")
+			return badInputf("batch: -collect: name the output folder with -o")
 		}
 		if *out == "" {
 			*out = dirs[0]
@@ -81,10 +81,14 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 		if *asJSON {
 			jointOut = stderr // stdout holds the JSON summary alone
 		}
-		if err := runJoint(b, sr.Epochs, sr.Results, plan.Lambda, jointOut, stderr, *quiet); err != nil {
+		jointWarnings, err := runJoint(b, sr.Epochs, sr.Results, plan.Lambda, jointOut, stderr, *quiet)
+		if err != nil {
 			printBatchWarnings(stderr, sum)
 			return err
 		}
+		nwarn := printBatchWarnings(stderr, sum)
+		printWarnings(stderr, "joint", jointWarnings)
+		return strictFailure(*strict, "batch", nwarn+len(jointWarnings))
 	}
 	nwarn := printBatchWarnings(stderr, sum)
 	if n := sum.Failed(); n > 0 {

@@ -12,8 +12,9 @@ import (
 
 // runJoint reconstructs all epochs together from their independent images
 // (workflow.Batch.Joint), showing its progress on stderr unless quiet, and draws the joint
-// montage.
-func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.EpochResult, lambda float64, stdout, stderr io.Writer, quiet bool) error {
+// montage. It returns the quality verdict of the joint run, for the caller to print after
+// the epochs' warnings.
+func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.EpochResult, lambda float64, stdout, stderr io.Writer, quiet bool) ([]string, error) {
 	out := b.Out
 	tty := isTerminal(stderr)
 	var last time.Time
@@ -39,12 +40,12 @@ func runJoint(b *workflow.Batch, epochs []*workflow.Epoch, results []workflow.Ep
 	}
 	if err != nil {
 		// An *InputError (an epoch's data no longer read) exits 2, any other error 1.
-		return err
+		return nil, err
 	}
 	if err := b.WriteJointMontage(results, res); err != nil && !quiet {
 		fmt.Fprintf(stderr, "note: joint montage: %v\n", err)
 	}
 	fmt.Fprintf(stdout, "Joint: temporal weight %.4g, χ²ᵣ %.4g over all epochs, %d iterations; wrote %s\n",
 		res.Lambda, res.Chi2rAll, res.Iter, filepath.Join(out, "joint.fits"))
-	return nil
+	return res.Warnings, nil
 }

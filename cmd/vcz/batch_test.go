@@ -404,3 +404,38 @@ func TestBatchMissingFile(t *testing.T) {
 		t.Errorf("wrote %v", m)
 	}
 }
+
+// TestBatchJointVerdict: a joint run cut short by -iter 5 gives its own quality verdict
+// (recon.CubeResult.Warnings): "warning: joint: ..." lines on stderr, NWARN and WARNn
+// in joint.fits and in each EPOCH-joint.fits (checkWarningHeader), exit status 0, and 1
+// with -strict with every output written.
+func TestBatchJointVerdict(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 3)
+	out := filepath.Join(dir, "out")
+	args := append(append([]string{"batch", "-out", out, "-joint"}, batchFast...), "-iter", "5")
+	_, errs, code := runCmd(t, append(args, files...)...)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var warnings []string
+	for _, l := range strings.Split(errs, "\n") {
+		if s, ok := strings.CutPrefix(l, "warning: joint: "); ok {
+			warnings = append(warnings, s)
+		}
+	}
+	if len(warnings) == 0 {
+		t.Fatalf("no joint warning on stderr after 5 iterations per plane:\n%s", errs)
+	}
+	checkWarningHeader(t, filepath.Join(out, "joint.fits"), warnings)
+	s := readSummary(t, filepath.Join(out, "summary.json"))
+	for _, r := range s.Rows {
+		checkWarningHeader(t, filepath.Join(out, r.Epoch+"-joint.fits"), warnings)
+	}
+	if _, errs, code := runCmd(t, append(append(args, "-strict"), files...)...); code != exitFailure || !strings.Contains(errs, "warning: joint: ") {
+		t.Fatalf("-strict: exit %d, want %d: %s", code, exitFailure, errs)
+	}
+	if _, err := os.Stat(filepath.Join(out, "joint.fits")); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -189,7 +189,10 @@ status 1 when there is any warning, after writing every output; without it
 the status stays 0. Neither the warnings nor -strict enter the batch hash,
 so a rerun with -strict finds finished epochs complete and reports their
 warnings from the status files. The joint reconstruction of batch -joint
-has no verdict of its own; its epochs' independent images do.
+has a verdict of its own (planes stopped at their iteration limit, sweeps
+over the epochs that did not settle), printed as "warning: joint: ..." lines
+after the epochs' warnings and kept in NWARN and WARNn of joint.fits and of
+each EPOCH-joint.fits; -strict counts it too.
 
 # Exit status
 

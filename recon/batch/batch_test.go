@@ -101,8 +101,19 @@ func TestCollect(t *testing.T) {
 	if _, err := Collect([]*Summary{a, a, b}); err == nil {
 		t.Fatal("an epoch in two shards was accepted")
 	}
-	if _, err := Collect([]*Summary{a}); err == nil || !strings.Contains(err.Error(), "[1]") {
+	// The missing epochs are counted from 1, as the epochs' names and the shards' K are,
+	// and the shards that hold them are named.
+	if _, err := Collect([]*Summary{a}); err == nil || !strings.Contains(err.Error(), "number 2 (counting from 1)") ||
+		!strings.Contains(err.Error(), "run shard 2/2 first") {
 		t.Fatalf("missing epoch: %v", err)
+	}
+	// Shards 1/4 and 3/4 of six epochs ran: epochs 2, 4 and 6 are missing, from shards 2/4
+	// and 4/4 (epoch i, from 1, is in shard ((i−1) mod N) + 1).
+	s1 := &Summary{Shard: "1/4", Epochs: 6, Rows: []Row{{Index: 0, Epoch: "e1"}, {Index: 4, Epoch: "e5"}}}
+	s3 := &Summary{Shard: "3/4", Epochs: 6, Rows: []Row{{Index: 2, Epoch: "e3"}}}
+	if _, err := Collect([]*Summary{s3, s1}); err == nil ||
+		!strings.Contains(err.Error(), "3 of 6 epochs are in no summary: number 2, 4, 6 (counting from 1); run shards 2/4, 4/4 first") {
+		t.Fatalf("missing epochs: %v", err)
 	}
 }
 

@@ -7,6 +7,7 @@ import (
 	"io"
 	"sort"
 	"strconv"
+	"strings"
 
 	"vcz/dataset"
 	"vcz/io/safefile"
@@ -215,14 +216,45 @@ func Collect(parts []*Summary) (*Summary, error) {
 		}
 	}
 	sort.Slice(out.Rows, func(i, j int) bool { return out.Rows[i].Index < out.Rows[j].Index })
-	var missing []int
+	var missing []string
 	for i := 0; i < out.Epochs; i++ {
 		if _, ok := seen[i]; !ok {
-			missing = append(missing, i)
+			missing = append(missing, strconv.Itoa(i+1))
 		}
 	}
 	if len(missing) > 0 {
-		return out, fmt.Errorf("%d of %d epochs are in no summary (indices %v)", len(missing), out.Epochs, missing)
+		return out, fmt.Errorf("%d of %d epochs are in no summary: number %s (counting from 1)%s",
+			len(missing), out.Epochs, strings.Join(missing, ", "), missingShards(parts, seen, out.Epochs))
 	}
 	return out, nil
+}
+
+// missingShards names the shards whose summaries would hold the epochs missing from seen
+// ("; run shard 2/4 first"), when every part is a shard of the same N; else "".
+func missingShards(parts []*Summary, seen map[int]string, epochs int) string {
+	n := 0
+	for _, p := range parts {
+		sh, err := ParseShard(p.Shard)
+		if err != nil || n != 0 && sh.N != n {
+			return ""
+		}
+		n = sh.N
+	}
+	if n <= 1 {
+		return ""
+	}
+	var shards []string
+	for k := 1; k <= n; k++ {
+		for i := k - 1; i < epochs; i += n {
+			if _, ok := seen[i]; !ok {
+				shards = append(shards, Shard{K: k, N: n}.String())
+				break
+			}
+		}
+	}
+	word := "shard"
+	if len(shards) > 1 {
+		word = "shards"
+	}
+	return fmt.Sprintf("; run %s %s first, or collect after they finish", word, strings.Join(shards, ", "))
 }
