@@ -2,7 +2,6 @@ package workflow
 
 import (
 	"fmt"
-	"os"
 	"strings"
 
 	"vcz/recon/batch"
@@ -69,7 +68,7 @@ func PlanBatch(r BatchRequest, getenv func(string) string) (*BatchPlan, error) {
 			return nil, inputErrorf("batch: -temporal-weight %q: want a positive number or auto", r.TemporalWeight)
 		}
 	}
-	if err := os.MkdirAll(p.Out, 0o755); err != nil {
+	if err := MakeFolder(p.Out); err != nil {
 		return nil, inputErrorf("batch: -o: %v", err)
 	}
 	if err := CheckFolder(p.Out); err != nil {
