@@ -560,3 +560,38 @@ func TestStartFileFlux(t *testing.T) {
 		}
 	}
 }
+
+// A prior image that cannot be one (a cube, a rectangle, pixels that are not finite, no
+// positive pixel: the default model of the entropy is positive, Skilling & Bryan 1984,
+// MNRAS 211, 111, recalled from memory; the rest common practice, no source) is refused by
+// Problem naming the option and the file, as bad input before any reconstruction, not
+// when the regularizer is first built on the chosen grid.
+func TestPriorFileRefused(t *testing.T) {
+	d := data(t)
+	dir := t.TempDir()
+	flat := func(n int, v float64) []float64 {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = v
+		}
+		return x
+	}
+	for name, c := range map[string]struct {
+		im   *fitsimage.Image
+		want string
+	}{
+		"cube.fits":     {&fitsimage.Image{NX: 8, NY: 8, Planes: 2, Pixel: 0.2 * recon.Mas, Data: flat(128, 1), Wave: []float64{1.6e-6, 1.7e-6}}, "a cube of 2 planes"},
+		"rect.fits":     {&fitsimage.Image{NX: 8, NY: 6, Pixel: 0.2 * recon.Mas, Data: flat(48, 1)}, "8 × 6 pixels"},
+		"nan.fits":      {&fitsimage.Image{NX: 8, NY: 8, Pixel: 0.2 * recon.Mas, Data: append(flat(63, 1), math.NaN())}, "not finite"},
+		"negative.fits": {&fitsimage.Image{NX: 8, NY: 8, Pixel: 0.2 * recon.Mas, Data: flat(64, -1)}, "no positive pixel"},
+	} {
+		p := filepath.Join(dir, name)
+		if err := fitsimage.WriteFile(p, c.im); err != nil {
+			t.Fatal(err)
+		}
+		_, _, err := Spec{Prior: Prior{Kind: PriorFile, File: p}}.Problem(d)
+		if err == nil || !strings.HasPrefix(err.Error(), "-prior: "+p+": ") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one starting %q with %q", name, err, "-prior: "+p+": ", c.want)
+		}
+	}
+}
