@@ -63,7 +63,8 @@ func TestBootstrapUsageErrors(t *testing.T) {
 		{[]string{"-bootstrap", "5", "-feature", "1,2,0"}, "radius"},
 		{[]string{"-bootstrap", "5", "-feature", "no-such-mask.fits"}, "no-such-mask.fits"},
 		{[]string{"-bootstrap", "5", "-feature-ref", "ring"}, "-feature-ref"},
-		{[]string{"-bootstrap", "5", "-bootstrap-shard", "3/2"}, "-bootstrap-shard"},
+		// The option is named once, as the user typed it (not batch's -shard as well).
+		{[]string{"-bootstrap", "5", "-bootstrap-shard", "3/2"}, `vcz image: -bootstrap-shard: shard "3/2": want 1 ≤ K ≤ N`},
 		{[]string{"-bootstrap-collect"}, "need -bootstrap K"},
 		{[]string{"-bootstrap", "5", "-bootstrap-shard", "1/2", "-bootstrap-collect"}, "exclude each other"},
 	} {
