@@ -164,3 +164,26 @@ func TestStarEnvSummaryText(t *testing.T) {
 		t.Errorf("report of an unconverged fit:\n%s", b.String())
 	}
 }
+
+// The closing line of a cube's report says whether the planes' positions are measured: a
+// shift of the image multiplies each visibility by a phase factor (Fourier shift theorem,
+// Bracewell, The Fourier Transform and Its Applications, ch. 6), which V² and closure
+// phases cancel and visibility phases keep. A cube that fitted visibility phases is not told
+// that its positions are free.
+func TestCubeTextPosition(t *testing.T) {
+	const free = "do not fix positions"
+	r := fixedCube(t, false)
+	var b strings.Builder
+	NewCubeSummary(r, CubePaths{}).WriteText(&b)
+	if !strings.Contains(b.String(), free) {
+		t.Errorf("cube of V² and closure phases, report lacks %q:\n%s", free, b.String())
+	}
+	for k := range r.Result.Planes {
+		r.Result.Planes[k].Chi2 = []recon.TermChi2{{Type: dataset.Vis2, N: 60}, {Type: dataset.VisPhi, N: 40}}
+	}
+	b.Reset()
+	NewCubeSummary(r, CubePaths{}).WriteText(&b)
+	if s := b.String(); strings.Contains(s, free) || !strings.Contains(s, "visibility phases fix the planes' positions") {
+		t.Errorf("cube with visibility phases fitted:\n%s", s)
+	}
+}

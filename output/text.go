@@ -150,6 +150,9 @@ type CubeSummary struct {
 	WeightFactors int     `json:"weight_factors,omitempty"`
 	Chi2rFloor    float64 `json:"chi2r_floor,omitempty"`
 	Chi2rAim      float64 `json:"chi2r_aim,omitempty"`
+	// PhaseFitted says that a plane fitted visibility phases, which fix the planes'
+	// positions (the shift theorem); V² and closure phases alone do not.
+	PhaseFitted bool `json:"-"`
 }
 
 // CubeGridJ is the grid of a cube, in the shape of GridJ.
@@ -180,6 +183,11 @@ func NewCubeSummary(run CubeRun, paths CubePaths) CubeSummary {
 	}
 	s.WeightFactor, s.WeightFactors, s.Chi2rFloor, s.Chi2rAim = res.WeightFactor, len(res.WeightPath), res.Chi2rFloor, res.Chi2rAim
 	for _, p := range res.Planes {
+		for _, c := range p.Chi2 {
+			if c.Type&dataset.VisPhi != 0 && c.N > 0 {
+				s.PhaseFitted = true
+			}
+		}
 		s.Planes = append(s.Planes, CubePlaneJ{Channels: p.Label, WaveUm: p.Coord * 1e6, N: p.N, Chi2r: p.Chi2r,
 			XMas: p.X / recon.Mas, YMas: p.Y / recon.Mas, SizeMas: p.Size / recon.Mas})
 	}
@@ -208,6 +216,10 @@ func (s CubeSummary) WriteText(w io.Writer) {
 		fmt.Fprintf(w, "Note:        %s\n", s.Outputs.SpectrumNote)
 	}
 	writePaths(w, s.Outputs.FITS, s.Outputs.Montage, s.Outputs.CSV, s.Outputs.Moments, s.Outputs.Spectrum)
+	if s.PhaseFitted {
+		fmt.Fprintln(w, "Each plane is one solution consistent with its data; the visibility phases fix the planes' positions.")
+		return
+	}
 	fmt.Fprintln(w, "Each plane is one solution consistent with its data; planes are positioned relative to each other only through the start and the spectral regularizer (V² and closure phases do not fix positions).")
 }
 

@@ -229,7 +229,10 @@ var options = []option{
 			if err != nil {
 				return fmt.Errorf("%s %q: want a number", name, text)
 			}
-			if !(x >= 0) || math.IsInf(x, 0) {
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				return fmt.Errorf("%s %q: want a finite number", name, text)
+			}
+			if x < 0 {
 				return fmt.Errorf("%s %g must not be negative", name, x)
 			}
 			s.TVEps = x

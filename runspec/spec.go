@@ -281,6 +281,9 @@ func (s Spec) Problem(d *dataset.Data) (recon.Problem, recon.Settings, error) {
 		if err != nil {
 			return p, st, fmt.Errorf("-prior: %v", err)
 		}
+		if err := checkPriorFile(s.Prior.File, im); err != nil {
+			return p, st, fmt.Errorf("-prior: %v", err)
+		}
 		prior = im
 	}
 	p.Reg = s.regularizerFunc(d, p.GridOptions, prior)
@@ -350,6 +353,29 @@ func (s *Spec) regularizerFunc(d *dataset.Data, opt recon.GridOptions, file *fit
 		}
 		return regularizers.Build(terms, g.N, g.N, o)
 	}
+}
+
+// checkPriorFile refuses a prior image that cannot be one, before any reconstruction: a
+// cube, a rectangle (only square images are resampled), pixels that are not finite, or no
+// positive pixel (a prior is a brightness distribution).
+func checkPriorFile(path string, im *fitsimage.Image) error {
+	if im.Planes > 1 {
+		return fmt.Errorf("%s: a cube of %d planes; give a 2-D image", path, im.Planes)
+	}
+	if im.NX != im.NY {
+		return fmt.Errorf("%s: %d × %d pixels; only square images can be resampled", path, im.NX, im.NY)
+	}
+	pos := false
+	for _, v := range im.Data {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("%s: prior image has pixels that are not finite (%v)", path, v)
+		}
+		pos = pos || v > 0
+	}
+	if !pos {
+		return fmt.Errorf("%s: prior image has no positive pixel", path)
+	}
+	return nil
 }
 
 // priorImage returns the prior p on grid g, normalised to unit flux; file is the image of

@@ -119,7 +119,11 @@ func ParseRange(s string, parse func(string) (float64, error)) (lo, hi float64, 
 			return 0, 0, err
 		}
 	}
-	if lo != 0 && hi != 0 && hi < lo {
+	// 0 stands for no limit, so an upper limit given as 0 would be dropped unseen.
+	if b != "" && hi == 0 {
+		return 0, 0, errors.New("an upper limit of 0 keeps nothing; leave the side empty for no limit")
+	}
+	if b != "" && hi < lo {
 		return 0, 0, errors.New("the upper limit is below the lower one")
 	}
 	return lo, hi, nil

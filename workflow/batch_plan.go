@@ -1,6 +1,7 @@
 package workflow
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"strconv"
@@ -72,7 +73,7 @@ func PlanBatch(r BatchRequest, getenv func(string) string) (*BatchPlan, error) {
 			return nil, inputErrorf("batch: -temporal-weight %q: want a positive number or auto", r.TemporalWeight)
 		}
 	}
-	if err := os.MkdirAll(p.Out, 0o755); err != nil {
+	if err := MakeFolder(p.Out); err != nil {
 		return nil, inputErrorf("batch: -o: %v", err)
 	}
 	if err := CheckFolder(p.Out); err != nil {

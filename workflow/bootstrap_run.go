@@ -91,7 +91,8 @@ func NewBootstrapRequest(a BootstrapArgs, getenv func(string) string) (Bootstrap
 		}
 		sh, err := ChooseShard(text, getenv)
 		if err != nil {
-			return r, inputErrorf("image: -bootstrap-shard: %v", strings.TrimPrefix(err.Error(), "batch: "))
+			msg := strings.TrimPrefix(err.Error(), "batch: ")
+			return r, inputErrorf("image: -bootstrap-shard: %v", strings.TrimPrefix(msg, "-shard: "))
 		}
 		if a.Shard == "slurm" && sh.N <= 1 {
 			return r, inputErrorf("image: -bootstrap-shard slurm: SLURM_ARRAY_TASK_ID is not set (or the array has one task)")

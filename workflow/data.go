@@ -85,6 +85,19 @@ func CheckOutputs(paths ...string) error {
 // temporary files older than that cannot belong to a write of this process.
 var started = time.Now()
 
+// MakeFolder makes the output folder dir and its parents where missing; its error names
+// dir and says what stopped it, without the system call's name.
+func MakeFolder(dir string) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return fmt.Errorf("cannot make folder %s: %v", dir, err)
+	}
+	return nil
+}
+
 // CheckFolder creates and removes a file in dir to learn whether the outputs of a run can
 // be written there, and sweeps the stale temporaries of an earlier killed run.
 func CheckFolder(dir string) error {

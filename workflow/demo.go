@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 
 	"vcz/dataset"
@@ -21,8 +20,8 @@ import (
 // vaeloris.oifits and returns its path with the file decoded and its points. An error of
 // the folder is an *InputError; one of the embedded bytes is not.
 func DemoData(dir string, data []byte) (string, []*oifits.File, *dataset.Data, error) {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return "", nil, nil, inputErrorf("demo: %v", err)
+	if err := MakeFolder(dir); err != nil {
+		return "", nil, nil, inputErrorf("demo: -o: %v", err)
 	}
 	path := filepath.Join(dir, "vaeloris.oifits")
 	if err := safefile.Write(path, func(w io.Writer) error {

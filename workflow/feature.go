@@ -97,22 +97,14 @@ func (f Feature) String() string {
 		f.Region, f.Pixels, f.Excess, f.Reference, f.Z, f.FalseAlarm, 100*f.Brighter, 100*f.Fainter)
 }
 
-// FeatureTest weighs region r in the full data's image and in every replicate of b: its flux
-// against a smooth reference, the azimuthal average about the image's photocentre (in rings
-// one pixel wide, the region's own pixels left out) when disc is true, otherwise the mean
-// of the annulus from the region's radius to twice it about its centre (for a mask, the
-// radius of the circle of the mask's area about its centroid), times the region's pixels.
-// The noise is the standard deviation of that excess over the replicates, and the region
-// is brighter (fainter) in a replicate whose excess exceeds the noise (falls below minus the
-// noise). Errors are *InputError (a mask on another grid, a region off the image or too
-// small for a pixel).
-func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, error) {
-	n, pix := b.N, b.Pixel
-	in := make([]bool, n*n)
-	var cx, cy, rad float64 // centre (pixel indices) and radius (pixels) of the region
+// regionPixels returns the pixels of region r on the n × n grid of pixel pix, its centre
+// (pixel indices), its radius (pixels) and its number of pixels. Errors are *InputError: a
+// mask on another grid, or a region that holds no pixel centre.
+func regionPixels(r Region, n int, pix float64) (in []bool, cx, cy, rad float64, np int, err error) {
+	in = make([]bool, n*n)
 	if r.Mask != nil {
 		if r.MaskN != n || math.Abs(r.MaskPixel-pix) > 1e-6*pix {
-			return Feature{}, inputErrorf("-feature %s: the mask is %d × %d pixels of %.4g mas; the image %d × %d of %.4g mas", r.Text, r.MaskN, r.MaskN, r.MaskPixel/recon.Mas, n, n, pix/recon.Mas)
+			return nil, 0, 0, 0, 0, inputErrorf("-feature %s: the mask is %d × %d pixels of %.4g mas; the image %d × %d of %.4g mas", r.Text, r.MaskN, r.MaskN, r.MaskPixel/recon.Mas, n, n, pix/recon.Mas)
 		}
 		copy(in, r.Mask)
 		c := 0
@@ -134,14 +126,58 @@ func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, er
 			}
 		}
 	}
-	np := 0
 	for _, ok := range in {
 		if ok {
 			np++
 		}
 	}
 	if np == 0 {
-		return Feature{}, inputErrorf("-feature %s: the region holds no pixel centre of the %d × %d image (pixel %.4g mas)", r.Text, n, n, pix/recon.Mas)
+		return nil, 0, 0, 0, 0, inputErrorf("-feature %s: the region holds no pixel centre of the %d × %d image (pixel %.4g mas)", r.Text, n, n, pix/recon.Mas)
+	}
+	return in, cx, cy, rad, np, nil
+}
+
+// CheckRegions checks the regions of -feature against the grid the image of im will have
+// (the one its problem gives, or ChooseGrid's, as recon.Solve picks it), before the
+// reconstruction and the bootstrap spend their time: a mask on another grid, or a region
+// that holds no pixel centre, is an *InputError naming the command image.
+func (im *Image) CheckRegions(regions []Region) error {
+	if len(regions) == 0 {
+		return nil
+	}
+	g := im.Problem.Grid
+	switch {
+	case im.Problem.Choice != nil:
+		g = im.Problem.Choice.Grid
+	case g.N == 0:
+		ch, err := recon.ChooseGrid(im.Data, im.Problem.GridOptions)
+		if err != nil {
+			return nil // the reconstruction says why
+		}
+		g = ch.Grid
+	}
+	for _, r := range regions {
+		if _, _, _, _, _, err := regionPixels(r, g.N, g.Pixel); err != nil {
+			return inputErrorf("image: %v", err)
+		}
+	}
+	return nil
+}
+
+// FeatureTest weighs region r in the full data's image and in every replicate of b: its flux
+// against a smooth reference, the azimuthal average about the image's photocentre (in rings
+// one pixel wide, the region's own pixels left out) when disc is true, otherwise the mean
+// of the annulus from the region's radius to twice it about its centre (for a mask, the
+// radius of the circle of the mask's area about its centroid), times the region's pixels.
+// The noise is the standard deviation of that excess over the replicates, and the region
+// is brighter (fainter) in a replicate whose excess exceeds the noise (falls below minus the
+// noise). Errors are *InputError (a mask on another grid, a region off the image or too
+// small for a pixel).
+func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, error) {
+	n := b.N
+	in, cx, cy, rad, np, err := regionPixels(r, n, b.Pixel)
+	if err != nil {
+		return Feature{}, err
 	}
 	f := Feature{Region: r.Text, Pixels: np, Reference: RefAnnulus}
 	if disc {

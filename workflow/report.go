@@ -144,8 +144,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 					return nil, err
 				}
 				row.BootStd, row.BootReplicates = filepath.Base(paths.Std), b.Good()
-				opt := preview.Options{Title: r.Name + ": bootstrap standard deviation per pixel", Pixel: res.Grid.Pixel / recon.Mas,
-					Subtitle: fmt.Sprintf("%d replicates, resampled by %s", b.Good(), b.Unit)}
+				opt := bootStdPreview(r.Name, res.Grid.Pixel/recon.Mas, res.Grid.Resolution/recon.Mas, b.Good(), b.Unit.String())
 				if err := preview.WriteFile(filepath.Join(dir, r.Name+"-boot-std.png"), b.Std, res.Grid.N, res.Grid.N, opt); err != nil {
 					return nil, err
 				}
@@ -640,4 +639,13 @@ func (rep *CompareReport) WriteText(w io.Writer) {
 		fmt.Fprintf(w, "%-10s %-10.4g %-8.4g %-10.4g %-6d %-13s %.1f\n", r.Regularizer, r.Weight, r.Chi2r, r.RegValue, r.Iterations, result, r.Seconds)
 	}
 	writePlanesText(w, rep)
+}
+
+// bootStdPreview is the look of a regularizer's bootstrap standard-deviation map in the
+// report: its title, the replicates behind it, the resolution circle and a colour bar that
+// says what it measures, in the unit of the images (pixel and resolution in mas).
+func bootStdPreview(name string, pixel, resolution float64, good int, unit string) preview.Options {
+	return preview.Options{Title: name + ": bootstrap standard deviation per pixel", Pixel: pixel, Beam: preview.Beam{Major: resolution},
+		Subtitle:      fmt.Sprintf("%d replicates, resampled by %s", good, unit),
+		ColorbarLabel: "σ of the flux per pixel (total 1)"}
 }

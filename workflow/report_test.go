@@ -136,3 +136,20 @@ func reportWidth(t *testing.T, dir string) {
 		run("--screenshot="+filepath.Join(reportShot, "report.png"), "file://"+filepath.Join(dir, "report.html"))
 	}
 }
+
+// The standard-deviation map of a regularizer's bootstrap says on its colour bar what its
+// values are, as every image preview does: flux per pixel of images normalised to a total of
+// 1 (CONVENTIONS.md); the bar showed only "asinh stretch (×1e-5)". It shows the resolution
+// circle as the images do.
+func TestBootStdPreviewLabel(t *testing.T) {
+	o := bootStdPreview("mem", 0.12, 0.47, 3, "exposure")
+	if o.Beam.Major != 0.47 {
+		t.Errorf("resolution circle %+v, want 0.47 mas", o.Beam)
+	}
+	if !strings.Contains(o.ColorbarLabel, "flux per pixel (total 1)") || !strings.HasPrefix(o.ColorbarLabel, "σ") {
+		t.Errorf("colour bar label %q", o.ColorbarLabel)
+	}
+	if o.Pixel != 0.12 || !strings.Contains(o.Subtitle, "3 replicates") || !strings.Contains(o.Title, "mem") {
+		t.Errorf("options %+v", o)
+	}
+}

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"vcz/io/fitsimage"
+	"vcz/recon"
 )
 
 // TestImageBootstrap runs `vcz image -bootstrap` on the demo data: the summary holds the
@@ -62,7 +63,8 @@ func TestBootstrapUsageErrors(t *testing.T) {
 		{[]string{"-bootstrap", "5", "-feature", "1,2,0"}, "radius"},
 		{[]string{"-bootstrap", "5", "-feature", "no-such-mask.fits"}, "no-such-mask.fits"},
 		{[]string{"-bootstrap", "5", "-feature-ref", "ring"}, "-feature-ref"},
-		{[]string{"-bootstrap", "5", "-bootstrap-shard", "3/2"}, "-bootstrap-shard"},
+		// The option is named once, as the user typed it (not batch's -shard as well).
+		{[]string{"-bootstrap", "5", "-bootstrap-shard", "3/2"}, `vcz image: -bootstrap-shard: shard "3/2": want 1 ≤ K ≤ N`},
 		{[]string{"-bootstrap-collect"}, "need -bootstrap K"},
 		{[]string{"-bootstrap", "5", "-bootstrap-shard", "1/2", "-bootstrap-collect"}, "exclude each other"},
 	} {
@@ -70,6 +72,39 @@ func TestBootstrapUsageErrors(t *testing.T) {
 		_, errs, code := runCmd(t, args...)
 		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, c.want) {
 			t.Errorf("%v: exit %d, stderr %q; want %d and one line naming %q", c.args, code, errs, exitBadInput, c.want)
+		}
+	}
+}
+
+// TestFeatureRegionEarly: a -feature region that cannot be weighed on the image's grid (a
+// mask of another grid, a circle off the field) is bad input found before the
+// reconstruction, with one line naming the option, and no output is written (common
+// practice, no source).
+func TestFeatureRegionEarly(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	mask := filepath.Join(dir, "mask.fits")
+	m := &fitsimage.Image{NX: 16, NY: 16, Pixel: 0.2 * recon.Mas, Data: make([]float64, 256)}
+	m.Data[8*16+8] = 1
+	if err := fitsimage.WriteFile(mask, m); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct{ feature, want string }{
+		{mask, "-feature " + mask + ": the mask is 16 × 16 pixels"},
+		{"40,0,0.5", "-feature 40,0,0.5: the region holds no pixel centre"},
+	} {
+		out := filepath.Join(dir, "rec.fits")
+		_, errs, code := runCmd(t, "image", "-n", "32", "-iter", "50", "-quiet", "-no-plots",
+			"-bootstrap", "2", "-feature", c.feature, "-o", out, data)
+		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.Contains(errs, c.want) {
+			t.Errorf("-feature %s: exit %d, stderr %q; want %d and one line with %q", c.feature, code, errs, exitBadInput, c.want)
+		}
+		if _, err := os.Stat(out); err == nil {
+			t.Errorf("-feature %s: %s written before the error", c.feature, out)
+			os.Remove(out)
 		}
 	}
 }

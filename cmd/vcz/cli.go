@@ -121,7 +121,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		// when it came has finished or been abandoned with its temporary.
 		safefile.RemoveTemporaries()
 		if err != nil {
-			fmt.Fprintf(stderr, "vcz %s: %s\n", name, strings.ReplaceAll(strings.TrimSpace(err.Error()), "\n", "; "))
+			fmt.Fprintf(stderr, "vcz %s: %s\n", name, errorText(name, err))
 		}
 		fmt.Fprintf(stderr, "vcz %s: stopped by %s; files reported as written are complete, nothing else was written\n", name, signalName(sig))
 		return exitCodeOf(sig)
@@ -135,10 +135,7 @@ func exitCode(name string, err error, stderr io.Writer) int {
 	if err == nil || errors.Is(err, errHelp) {
 		return exitOK
 	}
-	msg := strings.TrimSpace(err.Error())
-	msg = strings.ReplaceAll(msg, "\n", "; ")
-	msg = strings.TrimPrefix(msg, name+": ")
-	fmt.Fprintf(stderr, "vcz %s: %s\n", name, msg)
+	fmt.Fprintf(stderr, "vcz %s: %s\n", name, errorText(name, err))
 	var ee *exitError
 	if errors.As(err, &ee) {
 		return ee.code
@@ -148,6 +145,14 @@ func exitCode(name string, err error, stderr io.Writer) int {
 		return exitBadInput
 	}
 	return exitFailure
+}
+
+// errorText is err on one line, without a leading "COMMAND: " that would repeat the
+// "vcz COMMAND: " it is printed after.
+func errorText(name string, err error) string {
+	msg := strings.TrimSpace(err.Error())
+	msg = strings.ReplaceAll(msg, "\n", "; ")
+	return strings.TrimPrefix(msg, name+": ")
 }
 
 func printUsage(w io.Writer) {

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 	"sync"
@@ -72,11 +71,11 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	printNotices(stderr, d, *quiet)
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return badInputf("compare: %v", err)
+	if err := workflow.MakeFolder(*out); err != nil {
+		return badInputf("compare: -o: %v", err)
 	}
 	if err := workflow.CheckFolder(*out); err != nil {
-		return badInputf("compare: -out: %v", err)
+		return badInputf("compare: -o: %v", err)
 	}
 	var prog *multiProgress
 	if !*quiet {

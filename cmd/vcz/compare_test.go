@@ -336,3 +336,24 @@ func TestCompareBootstrap(t *testing.T) {
 		t.Errorf("-bootstrap 1: exit %d: %s", code, errs)
 	}
 }
+
+// An output folder that cannot be made (a file is in its way) is bad input, told in one
+// line that names the option and the folder, before any reconstruction (common practice,
+// no source). demo and batch take -o the same way.
+func TestCompareOutputNotFolder(t *testing.T) {
+	file := filepath.Join(t.TempDir(), "taken")
+	if err := os.WriteFile(file, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"compare", "-o", file, filepath.Join("demodata", "vaeloris.oifits")},
+		{"demo", "-o", filepath.Join(file, "sub")},
+		{"batch", "-o", file, filepath.Join("demodata", "vaeloris.oifits")},
+	} {
+		_, errs, code := runCmd(t, args...)
+		want := "vcz " + args[0] + ": -o: cannot make folder " + args[2] + ": "
+		if code != exitBadInput || strings.Count(errs, "\n") != 1 || !strings.HasPrefix(errs, want) {
+			t.Errorf("%v: exit %d, stderr %q; want exit %d and one line starting %q", args, code, errs, exitBadInput, want)
+		}
+	}
+}

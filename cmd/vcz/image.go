@@ -91,6 +91,15 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 		}
 		return runCube(files, d, spec, outs, *out, *quiet, *asJSON, *strict, stdout, stderr)
 	}
+	if breq.Requested() {
+		im, err := workflow.NewImage(files, d, spec)
+		if err != nil {
+			return err
+		}
+		if err := im.CheckRegions(breq.Regions); err != nil {
+			return err
+		}
+	}
 	sum, run, err := reconstruct(files, d, spec, outs, *out, *quiet, stderr)
 	if err != nil {
 		return err

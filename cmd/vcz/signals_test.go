@@ -91,6 +91,25 @@ func TestSignalStopsImage(t *testing.T) {
 	}
 }
 
+// TestSignalCompareMessage: a compare stopped by SIGINT reports its unfinished
+// regularizers in one line of the form "vcz compare: …", without the command named twice,
+// then that it was stopped (common practice, no source).
+func TestSignalCompareMessage(t *testing.T) {
+	dir := t.TempDir()
+	data := writeDemoData(t, dir)
+	cmd, errb := startChild(t, "compare", "-reg", "tv,mem", "-iter", "5000", "-weight", "1000", "-o", filepath.Join(dir, "cmp"), data)
+	waitFor(t, cmd, "progress line", func() bool { return strings.Contains(errb.String(), "iter") })
+	cmd.Process.Signal(syscall.SIGINT)
+	cmd.Wait()
+	s := errb.String()
+	if code := cmd.ProcessState.ExitCode(); code != exitInterrupt || !strings.Contains(s, "stopped by SIGINT") {
+		t.Fatalf("exit %d, want %d; stderr %q", code, exitInterrupt, s)
+	}
+	if !strings.Contains(s, "vcz compare: 2 of 2 regularizers failed") || strings.Contains(s, "vcz compare: compare:") {
+		t.Errorf("stderr %q: want one \"vcz compare: 2 of 2 regularizers failed\" line, the command named once", s)
+	}
+}
+
 // TestSignalStopsBatch checks that SIGINT during a batch keeps the epochs finished
 // before it, starts no further one, exits 130, leaves no temporary, and that a rerun
 // finds the finished epochs complete and does the rest.

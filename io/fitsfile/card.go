@@ -160,20 +160,30 @@ func encodeCards(dst []byte, c Card) ([]byte, error) {
 		return dst, fmt.Errorf("fitsfile: keyword %s: unsupported value type %T", c.Key, c.Value)
 	}
 	rec := key + "= " + val
-	if c.Comment != "" {
-		room := cardSize - len(rec) - 3
-		if room > 0 {
-			com := c.Comment
-			if len(com) > room {
-				com = com[:room]
-			}
-			rec += " / " + com
-		}
+	if com := fitComment(c.Comment, cardSize-len(rec)-3); com != "" {
+		rec += " / " + com
 	}
 	if len(rec) > cardSize {
 		return dst, fmt.Errorf("fitsfile: keyword %s: card longer than 80 characters", c.Key)
 	}
 	return appendPadded(dst, rec), nil
+}
+
+// fitComment returns the comment as it fits in room characters: whole, or cut after its
+// last whole word that fits (without a trailing separator), or "" when not even its first
+// word fits, so that a card never ends in a fragment such as "S" of "SHA-256".
+func fitComment(com string, room int) string {
+	if len(com) <= room {
+		return com
+	}
+	if room <= 0 {
+		return ""
+	}
+	cut := strings.LastIndexByte(com[:room+1], ' ')
+	if cut < 0 {
+		return ""
+	}
+	return strings.TrimRight(com[:cut], " ,;:(")
 }
 
 // encodeLongString appends the cards of a string too long for one card
@@ -216,8 +226,8 @@ func encodeLongString(dst []byte, key, text, comment string) []byte {
 			continue
 		}
 		rec += p + "'"
-		if room := cardSize - len(rec) - 3; comment != "" && room > 0 {
-			rec += " / " + comment[:min(len(comment), room)]
+		if com := fitComment(comment, cardSize-len(rec)-3); com != "" {
+			rec += " / " + com
 		}
 		dst = appendPadded(dst, rec)
 	}

@@ -32,6 +32,14 @@ func TestEncodeCard(t *testing.T) {
 		{Card{Key: "OBJECT", Value: "it's"}, "OBJECT  = 'it''s   '"},
 		{Card{Key: "HISTORY", Comment: "step one"}, "HISTORY step one"},
 		{Card{Key: "DATE-OBS", Value: "2026-01-02"}, "DATE-OBS= '2026-01-02'"},
+		// A comment too long for the card is cut after a whole word, or left out when
+		// not even its first word fits (the standard, sect. 4.1.2.3, leaves the comment's
+		// text free; whole words are common practice, no source).
+		{Card{Key: "DSHA1", Value: strings.Repeat("4390d4fd", 8), Comment: "SHA-256 of data file 1"}, "DSHA1   = '" + strings.Repeat("4390d4fd", 8) + "'"},
+		{Card{Key: "RUNSPEC", Value: `["reg=mem","prior=gauss:4mas","start=disc:4mas"]`, Comment: "run options (JSON), for vcz image -rerun"},
+			`RUNSPEC = '["reg=mem","prior=gauss:4mas","start=disc:4mas"]' / run options`},
+		{Card{Key: "CDELT1", Value: -3.2917272462833325e-08, Comment: "[deg] pixel size; negative: east to the left"},
+			"CDELT1  = -3.2917272462833325E-08 / [deg] pixel size; negative: east to the left"},
 	}
 	for _, tt := range tests {
 		got, err := encodeCards(nil, tt.card)
