@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"vcz/io/fitsfile"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon/batch"
@@ -437,5 +438,51 @@ func TestBatchJointVerdict(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(out, "joint.fits")); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// TestBatchJointWeightEdge: on three nights of an unchanging target every temporal weight
+// of the automatic search keeps each epoch's χ²ᵣ within 5 % of its own image's, so the
+// kept λ is the largest searched; the joint verdict says so, as the verdict of 'vcz
+// image' does for a spatial weight at the edge of its search: a "warning: joint: ..."
+// line, NWARN and WARNn in joint.fits, and exit 1 with -strict (common practice, no
+// source).
+func TestBatchJointWeightEdge(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 3)
+	out := filepath.Join(dir, "out")
+	args := append([]string{"batch", "-out", out, "-joint"}, batchFast...)
+	_, errs, code := runCmd(t, append(args, files...)...)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	raw, err := os.ReadFile(filepath.Join(out, "joint.fits"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := fitsfile.Parse(raw)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The path is in the HISTORY cards, one step a line, which may wrap.
+	path := strings.Join(f.HDUs[0].Header.Commentary("HISTORY"), " ")
+	if n := strings.Count(path, "kept"); n != batch.JointSteps || strings.Contains(path, "rejected") {
+		t.Fatalf("%d of %d temporal weights kept: the data no longer put λ at the top of its range:\n%s", n, batch.JointSteps, path)
+	}
+	var warnings, edge []string
+	for _, l := range strings.Split(errs, "\n") {
+		if s, ok := strings.CutPrefix(l, "warning: joint: "); ok {
+			warnings = append(warnings, s)
+			if strings.Contains(s, "temporal weight") && strings.Contains(s, "upper edge of the searched range") {
+				edge = append(edge, s)
+			}
+		}
+	}
+	if len(edge) != 1 {
+		t.Fatalf("no warning of the temporal weight at the upper edge of its range:\n%s", errs)
+	}
+	checkWarningHeader(t, filepath.Join(out, "joint.fits"), warnings)
+	if _, errs, code := runCmd(t, append(append(args, "-strict"), files...)...); code != exitFailure || !strings.Contains(errs, edge[0]) {
+		t.Fatalf("-strict: exit %d, want %d: %s", code, exitFailure, errs)
 	}
 }

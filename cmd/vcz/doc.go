@@ -190,9 +190,10 @@ the status stays 0. Neither the warnings nor -strict enter the batch hash,
 so a rerun with -strict finds finished epochs complete and reports their
 warnings from the status files. The joint reconstruction of batch -joint
 has a verdict of its own (planes stopped at their iteration limit, sweeps
-over the epochs that did not settle), printed as "warning: joint: ..." lines
-after the epochs' warnings and kept in NWARN and WARNn of joint.fits and of
-each EPOCH-joint.fits; -strict counts it too.
+over the epochs that did not settle, an automatic temporal weight at the
+upper or lower edge of the range it searched), printed as "warning: joint:
+..." lines after the epochs' warnings and kept in NWARN and WARNn of
+joint.fits and of each EPOCH-joint.fits; -strict counts it too.
 
 # Exit status
 
