@@ -29,7 +29,9 @@ The commands are:
 
 prints the targets, instruments, number of valid, flagged and non-finite
 points per data type, baselines, the nominal resolution λmin/(2·Bmax), the
-largest constrained scale λmax/Bmin, a suggested grid and the MJD range.
+largest constrained scale λmax/Bmin, a suggested grid (its field capped at
+λmax/Bmin before the pixel count is rounded up to an FFT-friendly size, so
+it may exceed that scale by one rounding step) and the MJD range.
 Selection options: -target, -wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES.
 
 # Image
