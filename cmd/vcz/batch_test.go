@@ -346,7 +346,10 @@ func TestBatchJoint(t *testing.T) {
 	}
 }
 
-// batch --help lists every option of a job file.
+// batch --help lists every option of a job file, says what -json replaces (the count
+// line, the failed or warned epochs and the summary files' names that
+// output.WriteBatchText prints: there is no table on stdout) and that the summary's
+// iterations count the whole weight search, not the final run alone.
 func TestBatchJobKeys(t *testing.T) {
 	fs := newFlagSet("x", "", "", io.Discard)
 	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)
@@ -355,6 +358,19 @@ func TestBatchJobKeys(t *testing.T) {
 			t.Errorf("batch --help does not list the job key %s", f.Name)
 		}
 	})
+	help, _, _ := runCmd(t, "batch", "--help")
+	flat := strings.Join(strings.Fields(help), " ")
+	for _, want := range []string{
+		"instead of the count line, the failed or warned epochs and the names of the summary files",
+		"iterations counts all of the epoch's runs (the automatic weight search, every start and the final run), so it can be several times -iter",
+	} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("batch --help does not say %q", want)
+		}
+	}
+	if strings.Contains(flat, "instead of the table") {
+		t.Error("batch --help says -json replaces a table, which batch does not print")
+	}
 }
 
 // TestBatchStaleFITS checks the resume rule: an epoch is complete only when its status
