@@ -327,9 +327,9 @@ func (r ProfileRange) text(sym JFloat) string {
 
 func isFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-// WriteBatchText writes the summary of a batch as a table, as 'vcz batch' prints it: the
-// counts, each epoch that failed or has warnings, and the summary files dir/name.json and
-// .csv.
+// WriteBatchText writes the summary of a batch as 'vcz batch' prints it: a line of counts,
+// a line for each epoch that failed or has warnings, and the names of the summary files
+// dir/name.json and .csv, which hold the full table.
 func WriteBatchText(w io.Writer, s *batch.Summary, dir, name string) {
 	skipped, warned := 0, 0
 	for _, r := range s.Rows {

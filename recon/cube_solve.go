@@ -266,6 +266,12 @@ type CubeResult struct {
 	Notices     []string
 	Warnings    []string
 
+	// SpectralEdge is "upper" when the discrepancy path accepted every weight it tried, so
+	// that the kept η is the largest of the searched range and the weight that the rule
+	// asks for lies above it, and "lower" when it accepted none, so that the first and
+	// smallest η was kept although it failed the rule; "" otherwise and without a path.
+	SpectralEdge string
+
 	// WeightFactor is the common factor α of the planes' spatial weights, μ_k =
 	// α·Weight·N_k/N (1 unless SolveCube chose it; 0 for given start images), WeightPath
 	// the factors it tried, and Chi2rFloor and Chi2rAim the least Σχ²/ΣN over them and
@@ -836,6 +842,12 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 				break
 			}
 			eta *= 10
+		}
+		switch {
+		case len(res.Path) == cp.SpectralSteps && res.Path[len(res.Path)-1].Accepted:
+			res.SpectralEdge = "upper"
+		case !res.Path[0].Accepted:
+			res.SpectralEdge = "lower"
 		}
 		forget()
 		copy(x, keptX)

@@ -108,8 +108,9 @@
 //
 // ChooseGrid: pixel a quarter of λmin/(2·Bmax); field of view three times the object size
 // from a 1-D least-squares fit of a uniform disc and of a Gaussian to the V² data, at most
-// λmax/Bmin; N even with prime factors 2, 3 and 5 only, between 32 and 256 (common practice,
-// no source). The reasoning is returned for printing.
+// λmax/Bmin; N the next count up that is even with prime factors 2, 3 and 5 only, between 32
+// and 256 (common practice, no source), so that rounding can take the field beyond λmax/Bmin
+// by one such step. The reasoning is returned for printing and says by how much.
 //
 // # Design notes
 //

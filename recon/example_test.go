@@ -35,6 +35,6 @@ func Example() {
 	// 96 × 96 pixels of 0.1185 mas, field 11.38 mas
 	// - pixel 0.1185 mas = 0.25 × resolution λmin/(2·Bmax) = 0.474 mas
 	// - V² fit: uniform disc of 3.817 mas; field of view 3 × that = 11.45 mas
-	// - field of view capped at the largest constrained scale λmax/Bmin = 11.02 mas
-	// - 96 × 96 pixels (even, factors 2, 3, 5 only): field of view 11.38 mas
+	// - field of view capped at the largest constrained scale λmax/Bmin = 11.02 mas before the pixel count is rounded up
+	// - 96 × 96 pixels (even, factors 2, 3, 5 only): field of view 11.38 mas, 3.2 % beyond λmax/Bmin by the rounding up of the pixel count
 }

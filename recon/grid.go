@@ -84,9 +84,12 @@ func nextFriendly(n int) int {
 // λmin/(2·Bmax); the field of view is three times the object's size, estimated by fitting a
 // uniform disc and a Gaussian to the V² data (a 1-D least-squares fit of the diameter or FWHM,
 // keeping the better model) unless opt.ObjectSize gives it, and at most the largest
-// constrained scale λmax/Bmin (but not less than 1.25 × ObjectSize when given); N is even
-// with no prime factor above 5 (Friendly), between MinN and MaxN. Every step can be overridden
-// through opt, and the reasoning is returned for printing.
+// constrained scale λmax/Bmin (but not less than 1.25 × ObjectSize when given); N is the
+// smallest count at least that field over the pixel that is even with no prime factor above
+// 5 (Friendly), between MinN and MaxN, so the rounding up of N can take the field beyond
+// λmax/Bmin (by up to a fifth above MinN = 32: a field of just over 40 pixels gets 48), and the
+// reasoning then says by how much. Every step can be overridden through opt, and the
+// reasoning is returned for printing.
 func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 	var g GridChoice
 	s := d.Summarize()
@@ -151,9 +154,11 @@ func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view %.4g mas, 1.25 × the object size, beyond the largest constrained scale λmax/Bmin = %.4g mas so that the object is inside", fov/Mas, g.LargestScale/Mas))
 		} else {
 			fov = g.LargestScale
-			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view capped at the largest constrained scale λmax/Bmin = %.4g mas", g.LargestScale/Mas))
+			g.Reasons = append(g.Reasons, fmt.Sprintf("field of view capped at the largest constrained scale λmax/Bmin = %.4g mas before the pixel count is rounded up", g.LargestScale/Mas))
 		}
 	}
+	capped := g.LargestScale > 0 && fov <= g.LargestScale*(1+1e-9)
+	raised := false
 	// The count is compared as a float first: a tiny requested pixel would
 	// overflow the conversion to int.
 	n := maxN + 1
@@ -162,7 +167,7 @@ func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 	}
 	switch {
 	case n < minN:
-		n = minN
+		n, raised = minN, true
 		g.Reasons = append(g.Reasons, fmt.Sprintf("raised to the minimum of %d pixels", minN))
 	case n > maxN:
 		if opt.Pixel <= 0 {
@@ -179,7 +184,17 @@ func ChooseGrid(d *dataset.Data, opt GridOptions) (GridChoice, error) {
 		}
 	}
 	g.FOV = float64(g.N) * g.Pixel
-	g.Reasons = append(g.Reasons, fmt.Sprintf("%d × %d pixels (even, factors 2, 3, 5 only): field of view %.4g mas", g.N, g.N, g.FOV/Mas))
+	why := fmt.Sprintf("%d × %d pixels (even, factors 2, 3, 5 only): field of view %.4g mas", g.N, g.N, g.FOV/Mas)
+	if capped && g.FOV > g.LargestScale*(1+1e-9) {
+		// The field was within λmax/Bmin before the count was rounded: say by how much the
+		// rounding (or the minimum count) took it beyond.
+		cause := "by the rounding up of the pixel count"
+		if raised {
+			cause = fmt.Sprintf("by the minimum of %d pixels", minN)
+		}
+		why += fmt.Sprintf(", %.2g %% beyond λmax/Bmin %s", 100*(g.FOV/g.LargestScale-1), cause)
+	}
+	g.Reasons = append(g.Reasons, why)
 	return g, nil
 }
 

@@ -1,6 +1,7 @@
 package recon
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -52,6 +53,13 @@ func TestChooseGridFit(t *testing.T) {
 			if len(g.Reasons) < 3 {
 				t.Errorf("reasons %q", g.Reasons)
 			}
+			// The cap holds before the rounding of N only, and the last reason says by how
+			// much the rounding took the field beyond it (README: "What the numbers mean").
+			last := g.Reasons[len(g.Reasons)-1]
+			over := fmt.Sprintf(", %.2g %% beyond λmax/Bmin by the rounding up of the pixel count", 100*(g.FOV/s.LargestScale-1))
+			if beyond := g.FOV > s.LargestScale*(1+1e-9); beyond != strings.HasSuffix(last, over) {
+				t.Errorf("field %.4g mas, λmax/Bmin %.4g mas: last reason %q, want the suffix %q: %v", g.FOV/Mas, s.LargestScale/Mas, last, over, beyond)
+			}
 		})
 	}
 }
@@ -67,6 +75,23 @@ func TestChooseGridOverrides(t *testing.T) {
 	// the pixel enlarged to fit 64 pixels.
 	if g.N != 64 || g.FOV > g.LargestScale*(1+1e-9) {
 		t.Errorf("N %d field %.4g mas largest scale %.4g mas", g.N, g.FOV/Mas, g.LargestScale/Mas)
+	}
+	// Without the limit the field is capped at λmax/Bmin, and the pixel count rounded up to
+	// the next friendly one takes it beyond by less than one rounding step: one friendly
+	// count fewer would be inside; the last reason says by how much.
+	g, err = ChooseGrid(d, GridOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	below := g.N - 2
+	for !Friendly(below) {
+		below -= 2
+	}
+	over := fmt.Sprintf("%d × %d pixels (even, factors 2, 3, 5 only): field of view %.4g mas, %.2g %% beyond λmax/Bmin by the rounding up of the pixel count",
+		g.N, g.N, g.FOV/Mas, 100*(g.FOV/g.LargestScale-1))
+	if !(g.FOV > g.LargestScale && float64(below)*g.Pixel < g.LargestScale) || g.Reasons[len(g.Reasons)-1] != over {
+		t.Errorf("N %d (next friendly below %d) of %.4g mas: field %.4g mas, largest scale %.4g mas; reasons %q, want the last %q",
+			g.N, below, g.Pixel/Mas, g.FOV/Mas, g.LargestScale/Mas, g.Reasons, over)
 	}
 	g, err = ChooseGrid(d, GridOptions{N: 50, Pixel: 0.3 * Mas})
 	if err != nil || g.N != 50 || g.Pixel != 0.3*Mas {

@@ -78,7 +78,7 @@ type JointResult struct {
 	Chi2r    []float64
 	Chi2rAll float64
 	Iter     int // iterations of the last sweep over the epochs
-	// Warnings is the quality verdict of the joint run (recon.CubeResult.Warnings), also
+	// Warnings is the quality verdict of the joint run (batch.JointWarnings), also
 	// in the header of joint.fits and of each EPOCH-joint.fits (NWARN, WARNn).
 	Warnings []string
 }
@@ -157,7 +157,7 @@ func (b *Batch) Joint(epochs []*Epoch, results []EpochResult, s JointSettings) (
 		return nil, orInterrupted(fmt.Errorf("joint reconstruction: %w", err))
 	}
 	res := &JointResult{Cube: cr, Grid: grid, Lambda: cr.SpectralWeight, Chi2rAll: cr.Chi2r, Iter: cr.Iter,
-		Warnings: output.NonNil(cr.Warnings)}
+		Warnings: output.NonNil(batch.JointWarnings(cr))}
 	for _, pl := range cr.Planes {
 		res.Images = append(res.Images, pl.Image)
 		res.Chi2r = append(res.Chi2r, pl.Chi2r)

@@ -33,7 +33,7 @@ func runBatch(args []string, stdout, stderr io.Writer) error {
 	stretch := registerStretch(fs)
 	quiet := fs.Bool("quiet", false, quietUsage)
 	strict := fs.Bool("strict", false, strictUsage+"; with -collect, any warning in the merged summary")
-	asJSON := fs.Bool("json", false, "print the summary (as summary.json holds it) on stdout instead of the table")
+	asJSON := fs.Bool("json", false, "print the summary (as summary.json holds it) on stdout instead of the count line, the failed or warned epochs and the names of the summary files")
 	if err := parseFlags(fs, args, stdout); err != nil {
 		return err
 	}
@@ -131,7 +131,9 @@ func printMontageNote(w io.Writer, sr *workflow.ShardRun, quiet bool) {
 	}
 }
 
-// printBatchSummary prints the summary as a table, or with asJSON as summary.json holds it.
+// printBatchSummary prints the counts of the summary, the epochs that failed or have
+// warnings and the names of the summary files (output.WriteBatchText), or with asJSON the
+// summary as summary.json holds it.
 func printBatchSummary(w io.Writer, s *batch.Summary, dir, name string, asJSON bool) {
 	if asJSON {
 		writeJSONTo(w, s)

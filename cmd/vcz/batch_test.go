@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"vcz/io/fitsfile"
 	"vcz/io/fitsimage"
 	"vcz/io/oifits"
 	"vcz/recon/batch"
@@ -345,7 +346,10 @@ func TestBatchJoint(t *testing.T) {
 	}
 }
 
-// batch --help lists every option of a job file.
+// batch --help lists every option of a job file, says what -json replaces (the count
+// line, the failed or warned epochs and the summary files' names that
+// output.WriteBatchText prints: there is no table on stdout) and that the summary's
+// iterations count the whole weight search, not the final run alone.
 func TestBatchJobKeys(t *testing.T) {
 	fs := newFlagSet("x", "", "", io.Discard)
 	runspec.RegisterFlags(fs, runspec.Select|runspec.Types|runspec.Recon|runspec.Cube)
@@ -354,6 +358,19 @@ func TestBatchJobKeys(t *testing.T) {
 			t.Errorf("batch --help does not list the job key %s", f.Name)
 		}
 	})
+	help, _, _ := runCmd(t, "batch", "--help")
+	flat := strings.Join(strings.Fields(help), " ")
+	for _, want := range []string{
+		"instead of the count line, the failed or warned epochs and the names of the summary files",
+		"iterations counts all of the epoch's runs (the automatic weight search, every start and the final run), so it can be several times -iter",
+	} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("batch --help does not say %q", want)
+		}
+	}
+	if strings.Contains(flat, "instead of the table") {
+		t.Error("batch --help says -json replaces a table, which batch does not print")
+	}
 }
 
 // TestBatchStaleFITS checks the resume rule: an epoch is complete only when its status
@@ -437,5 +454,51 @@ func TestBatchJointVerdict(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(out, "joint.fits")); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// TestBatchJointWeightEdge: on three nights of an unchanging target every temporal weight
+// of the automatic search keeps each epoch's χ²ᵣ within 5 % of its own image's, so the
+// kept λ is the largest searched; the joint verdict says so, as the verdict of 'vcz
+// image' does for a spatial weight at the edge of its search: a "warning: joint: ..."
+// line, NWARN and WARNn in joint.fits, and exit 1 with -strict (common practice, no
+// source).
+func TestBatchJointWeightEdge(t *testing.T) {
+	dir := t.TempDir()
+	files := writeEpochs(t, dir, 3)
+	out := filepath.Join(dir, "out")
+	args := append([]string{"batch", "-out", out, "-joint"}, batchFast...)
+	_, errs, code := runCmd(t, append(args, files...)...)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	raw, err := os.ReadFile(filepath.Join(out, "joint.fits"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := fitsfile.Parse(raw)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The path is in the HISTORY cards, one step a line, which may wrap.
+	path := strings.Join(f.HDUs[0].Header.Commentary("HISTORY"), " ")
+	if n := strings.Count(path, "kept"); n != batch.JointSteps || strings.Contains(path, "rejected") {
+		t.Fatalf("%d of %d temporal weights kept: the data no longer put λ at the top of its range:\n%s", n, batch.JointSteps, path)
+	}
+	var warnings, edge []string
+	for _, l := range strings.Split(errs, "\n") {
+		if s, ok := strings.CutPrefix(l, "warning: joint: "); ok {
+			warnings = append(warnings, s)
+			if strings.Contains(s, "temporal weight") && strings.Contains(s, "upper edge of the searched range") {
+				edge = append(edge, s)
+			}
+		}
+	}
+	if len(edge) != 1 {
+		t.Fatalf("no warning of the temporal weight at the upper edge of its range:\n%s", errs)
+	}
+	checkWarningHeader(t, filepath.Join(out, "joint.fits"), warnings)
+	if _, errs, code := runCmd(t, append(append(args, "-strict"), files...)...); code != exitFailure || !strings.Contains(errs, edge[0]) {
+		t.Fatalf("-strict: exit %d, want %d: %s", code, exitFailure, errs)
 	}
 }

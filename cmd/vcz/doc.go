@@ -29,7 +29,9 @@ The commands are:
 
 prints the targets, instruments, number of valid, flagged and non-finite
 points per data type, baselines, the nominal resolution λmin/(2·Bmax), the
-largest constrained scale λmax/Bmin, a suggested grid and the MJD range.
+largest constrained scale λmax/Bmin, a suggested grid (its field capped at
+λmax/Bmin before the pixel count is rounded up to an FFT-friendly size, so
+it may exceed that scale by one rounding step) and the MJD range.
 Selection options: -target, -wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES.
 
 # Image
@@ -190,9 +192,10 @@ the status stays 0. Neither the warnings nor -strict enter the batch hash,
 so a rerun with -strict finds finished epochs complete and reports their
 warnings from the status files. The joint reconstruction of batch -joint
 has a verdict of its own (planes stopped at their iteration limit, sweeps
-over the epochs that did not settle), printed as "warning: joint: ..." lines
-after the epochs' warnings and kept in NWARN and WARNn of joint.fits and of
-each EPOCH-joint.fits; -strict counts it too.
+over the epochs that did not settle, an automatic temporal weight at the
+upper or lower edge of the range it searched), printed as "warning: joint:
+..." lines after the epochs' warnings and kept in NWARN and WARNn of
+joint.fits and of each EPOCH-joint.fits; -strict counts it too.
 
 # Exit status
 

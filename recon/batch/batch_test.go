@@ -302,3 +302,87 @@ func peaks(img []float64, n int, pix, sep float64) (px, py, sx, sy float64) {
 	}
 	return
 }
+
+// TestJointWeightEdge: the automatic temporal weight gets the edge rule of the spatial
+// weight of a single image (recon.Result.Warnings): on a steady target every weight of a
+// short path keeps each epoch's χ²ᵣ within JointTolerance, so the kept λ is the last and
+// largest tried, and JointWarnings says it is at the upper edge; when no weight passes the
+// first and smallest is kept, at the lower edge; a path stopped inside its range or a given
+// λ gives no such warning. A weight at the edge of its search says nothing of the weight
+// the rule asks for (common practice, no source).
+func TestJointWeightEdge(t *testing.T) {
+	data := simEpochs(t, 3, 0, []float64{-1, 1}, 1)
+	g := recon.Grid{N: 16, Pixel: 0.3 * recon.Mas}
+	const mu = 1e-3
+	ind, _ := independent(t, data, g, mu, 20)
+	solve := func(steps, iter int, weight float64) *recon.CubeResult {
+		var eps []JointEpoch
+		for k, d := range data {
+			eps = append(eps, JointEpoch{Data: d, Start: ind[k], Weight: weight, MJDMin: float64(k), MJDMax: float64(k) + 0.2})
+		}
+		p := recon.Problem{Grid: g, Reg: func(g recon.Grid) (recon.Regularizer, error) { return &regularizers.TV{NX: g.N, NY: g.N}, nil }}
+		cp, err := JointProblem(p, eps, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cp.SpectralSteps = steps
+		res, err := recon.SolveCube(cp, recon.Settings{MaxIter: iter, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	edgeWarnings := func(w []string) []string {
+		var out []string
+		for _, s := range w {
+			if strings.Contains(s, "temporal weight") && strings.Contains(s, "edge of the searched range") {
+				out = append(out, s)
+			}
+		}
+		return out
+	}
+
+	up := solve(2, 20, mu)
+	t.Logf("path %+v, edge %q", up.Path, up.SpectralEdge)
+	if len(up.Path) != 2 || !up.Path[0].Accepted || !up.Path[1].Accepted || up.SpectralWeight != up.Path[1].Weight {
+		t.Fatalf("steady target: path %+v, want both weights accepted and the second kept, λ %g", up.Path, up.SpectralWeight)
+	}
+	w := JointWarnings(up)
+	if e := edgeWarnings(w); up.SpectralEdge != "upper" || len(e) != 1 || !strings.Contains(e[0], "upper edge") ||
+		!strings.Contains(e[0], fmt.Sprintf("%.3g", up.Path[1].Weight)) {
+		t.Fatalf("every weight kept, λ %g the largest tried: edge %q, warnings %q", up.SpectralWeight, up.SpectralEdge, w)
+	}
+	if len(w) != len(up.Warnings)+1 {
+		t.Errorf("JointWarnings %q dropped the cube's warnings %q", w, up.Warnings)
+	}
+
+	// Epochs started from images made at a spatial weight 10⁹ times smaller than the
+	// joint run's: the stronger regularizer alone raises every epoch's χ²ᵣ far beyond the
+	// tolerance at the first weight already.
+	low := solve(2, 20, 1e9*mu)
+	t.Logf("path %+v, edge %q", low.Path, low.SpectralEdge)
+	if len(low.Path) != 1 || low.Path[0].Accepted {
+		t.Fatalf("spatial weight %g: path %+v, want the first weight rejected", 1e9*mu, low.Path)
+	}
+	if e := edgeWarnings(JointWarnings(low)); low.SpectralEdge != "lower" || len(e) != 1 || !strings.Contains(e[0], "lower edge") {
+		t.Fatalf("no weight accepted: edge %q, warnings %q", low.SpectralEdge, JointWarnings(low))
+	}
+
+	// A spot moving by 1 mas a night: the path stops at a rejected weight after a kept one,
+	// inside its range, and nothing is said.
+	data = simModel(t, 3, "gauss:fwhm=1.5,flux=0.6;point:x=%g,y=0.4,flux=0.4", -1, 1, []float64{-1, 1}, 1)
+	ind, _ = independent(t, data, g, mu, 100)
+	in := solve(JointSteps, 20, mu)
+	t.Logf("path %+v, edge %q", in.Path, in.SpectralEdge)
+	if n := len(in.Path); n < 2 || n == JointSteps || !in.Path[0].Accepted || in.Path[n-1].Accepted {
+		t.Fatalf("moving spot: path %+v, want a rejected weight after a kept one", in.Path)
+	}
+	if in.SpectralEdge != "" || len(edgeWarnings(JointWarnings(in))) != 0 {
+		t.Fatalf("weight inside the range: edge %q, warnings %q", in.SpectralEdge, JointWarnings(in))
+	}
+
+	// A given λ has no search, hence no edge.
+	if fixed := joint(t, data, ind, g, mu, up.SpectralWeight, 20, 2, 1); fixed.SpectralEdge != "" || len(edgeWarnings(JointWarnings(fixed))) != 0 {
+		t.Fatalf("given λ: edge %q, warnings %q", fixed.SpectralEdge, JointWarnings(fixed))
+	}
+}

@@ -40,5 +40,7 @@
 // planes along time. The quadratic temporal term is the discrete form of a penalty on the
 // time derivative of the image (Tikhonov regularization in time; common practice, no
 // source). The automatic λ is the largest at which no epoch's χ²ᵣ rises by more than 5 %
-// over that of its own image (recon.CubeProblem.SpectralSteps).
+// over that of its own image (recon.CubeProblem.SpectralSteps); when every weight of the
+// search passes, or none does, the kept λ is at an edge of the searched range and
+// JointWarnings says so.
 package batch

@@ -12,6 +12,10 @@ import (
 // reconstruction tries (recon.CubeProblem.SpectralSteps).
 const JointSteps = 6
 
+// JointTolerance is the rise of an epoch's χ²ᵣ over that of its own image that the
+// automatic temporal weight allows, as a fraction (recon.CubeProblem.SpectralTolerance).
+const JointTolerance = 0.05
+
 // JointEpoch is one epoch of a joint reconstruction.
 type JointEpoch struct {
 	Data *dataset.Data
@@ -41,7 +45,7 @@ func JointProblem(p recon.Problem, epochs []JointEpoch, lambda float64) (recon.C
 	cp := recon.CubeProblem{Problem: p, Spectral: recon.SpectralSmooth, SpectralWeight: lambda}
 	cp.Data, cp.Weight = nil, 0
 	if lambda <= 0 {
-		cp.SpectralWeight, cp.SpectralSteps = 0, JointSteps
+		cp.SpectralWeight, cp.SpectralSteps, cp.SpectralTolerance = 0, JointSteps, JointTolerance
 	}
 	for t, e := range epochs {
 		if len(e.Start) != p.Grid.N*p.Grid.N {
@@ -56,4 +60,27 @@ func JointProblem(p recon.Problem, epochs []JointEpoch, lambda float64) (recon.C
 		cp.PlaneWeights = append(cp.PlaneWeights, e.Weight)
 	}
 	return cp, nil
+}
+
+// JointWarnings returns the quality verdict of a joint reconstruction r (JointProblem,
+// recon.SolveCube): the cube's warnings (r.Warnings), then, when the temporal weight was
+// chosen automatically and ended at an edge of its searched range (r.SpectralEdge), a
+// warning that says so, as the verdict of a single image does for its spatial weight. At
+// the upper edge every weight tried kept each epoch's χ²ᵣ within JointTolerance of its own
+// image's, so the rule's weight lies above the range; at the lower edge even the smallest
+// weight raised an epoch's χ²ᵣ by more, so no weight of the range met the rule.
+func JointWarnings(r *recon.CubeResult) []string {
+	w := append([]string(nil), r.Warnings...)
+	if len(r.Path) == 0 {
+		return w
+	}
+	first := r.Path[0].Weight
+	pct := 100 * JointTolerance
+	switch r.SpectralEdge {
+	case "upper":
+		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the upper edge of the searched range (%d weights from %.3g, a factor 10 apart): every one kept each epoch's χ²ᵣ within %g %% of its own image's, so the rule's weight lies above it; set -temporal-weight by hand and compare", r.SpectralWeight, len(r.Path), first, pct))
+	case "lower":
+		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the lower edge of the searched range: already this smallest weight raised an epoch's χ²ᵣ by more than %g %% over its own image's, so no weight of the range met the rule; set -temporal-weight by hand and compare", r.SpectralWeight, pct))
+	}
+	return w
 }

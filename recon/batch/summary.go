@@ -35,10 +35,15 @@ type Row struct {
 	Chi2r      map[string]float64 `json:"-"`
 	Chi2rTotal float64            `json:"chi2r"`
 	Weight     float64            `json:"weight"`
-	Iterations int                `json:"iterations"`
-	Seconds    float64            `json:"seconds"`
-	FITS       string             `json:"fits,omitempty"`
-	PNG        string             `json:"png,omitempty"`
+	// Iterations counts every iteration of the epoch's reconstruction: for a gray image
+	// all its runs (recon.Result.TotalIter: the automatic weight search, each start and the
+	// final run, so often several times -iter), for a cube all the runs of its gray image
+	// and its planes (recon.CubeResult.TotalIter), for a star and its environment those of
+	// its fit (recon.StarEnvResult.Iter).
+	Iterations int     `json:"iterations"`
+	Seconds    float64 `json:"seconds"`
+	FITS       string  `json:"fits,omitempty"`
+	PNG        string  `json:"png,omitempty"`
 	// Warnings is the quality verdict of the epoch's image (recon.Result.Warnings);
 	// WriteJSON writes an empty list for none.
 	Warnings []string `json:"warnings"`
