@@ -203,8 +203,8 @@ func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifi
 
 // SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
 // header names the data files (without their folders, so that the file carries no
-// machine-specific paths), the start model, the significance of each component and, when
-// the fit did not converge, why.
+// machine-specific paths), the start model, the significance of each component and the
+// warnings of the quality verdict (fit.Result.Warnings).
 func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 	names := make([]string, len(dataFiles))
 	for i, p := range dataFiles {
@@ -218,8 +218,8 @@ func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 	for _, det := range output.FitDetections(res, o.Detections) {
 		header = append(header, det.Line())
 	}
-	if !res.Converged {
-		header = append(header, "WARNING: the fit did not converge: "+res.Reason)
+	for _, w := range res.Warnings {
+		header = append(header, "WARNING: "+output.OneLine(w))
 	}
 	return safefile.WriteBytes(path, res.ModelTOML(header...))
 }

@@ -42,6 +42,12 @@
 // correlation matrix is reported beside it. Parameters on a bound are
 // flagged: their errors mean nothing.
 //
+// # Verdict
+//
+// Result.Warnings judges the fit by the rule of the images' verdict
+// (recon.Chi2rFar): χ²ᵣ above 1.25 times its expected value
+// (Result.Chi2rExpected) or far below it, and a fit that did not converge.
+//
 // # Separation, position angle and contrast
 //
 // Result.Pairs gives every component with a position relative to the

@@ -112,9 +112,26 @@ type Result struct {
 	Cov, Corr *mat.SymDense
 	// Chi2 is the total χ², N the number of data, DOF = N − P and Chi2r =
 	// Chi2/DOF.
-	Chi2       float64
-	N, DOF     int
-	Chi2r      float64
+	Chi2   float64
+	N, DOF int
+	Chi2r  float64
+	// Chi2rExpected is the expected value of Chi2r when the model is right
+	// and the data scatter by their stated errors: the residuals of a
+	// linear least-squares fit of P parameters to N data of covariance Σ
+	// have E[χ²] = tr((I − H)Σ), H the projection onto the columns of the
+	// Jacobian, which is N − P for Gaussian residuals of unit variance
+	// (χ² with N − P degrees of freedom; Press et al., Numerical Recipes,
+	// 3rd ed., sect. 15.1, recalled from memory), so 1 for Chi2r = χ²/DOF;
+	// residuals of smaller variance (wrap-safe phases of large errors,
+	// recon.Residuals.ExpectedChi2r) take tr(HΣ) ≈ P·tr(Σ)/N, and the
+	// expectation is tr(Σ)/N, that of the images' χ²ᵣ
+	// (recon.Objective.ExpectedChi2r; the approximation is common practice,
+	// no source). NaN without data.
+	Chi2rExpected float64
+	// Warnings is the quality verdict of the fit (verdict): one sentence for
+	// each reason to doubt it, each saying what to try; empty when none.
+	Warnings []string
+
 	PerType    []TypeChi2 // types with data, in the order of dataset.DataTypes()
 	Iterations int        // iterations of the best start
 	Evals      int        // residual evaluations over all starts
@@ -183,6 +200,8 @@ func Fit(d *dataset.Data, m *model.Model, opt Options) (*Result, error) {
 		atBound[i] = p.AtBound
 	}
 	res.Pairs = Pairs(res.Model, pr.refs, res.Cov, atBound)
+	res.Chi2rExpected = t.ExpectedChi2r()
+	res.Warnings = verdict(res)
 	if !res.Converged {
 		return res, fmt.Errorf("fit: %w after %d iterations: %s", ErrNotConverged, res.Iterations, res.Reason)
 	}
@@ -633,8 +652,7 @@ func (pr *problem) finish(res *Result, best *run) {
 	}
 	res.Params = make([]Param, p)
 	for i, ref := range pr.refs {
-		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(),
-			AtBound: x[i] == pr.lo[i] || x[i] == pr.hi[i]}
+		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(), AtBound: x[i] == pr.lo[i] || x[i] == pr.hi[i]}
 	}
 	J := mat.NewDense(n, p, nil)
 	pr.jacobian(J, x, r, make([]float64, n), make([]float64, n), true)
