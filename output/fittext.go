@@ -24,7 +24,7 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 		}
 		note := ""
 		if p.AtBound {
-			note = "  (at a bound)"
+			note = "  (at a bound: 1σ not meaningful)"
 		}
 		if p.BootError != nil {
 			note = fmt.Sprintf("  bootstrap ± %.4g", float64(*p.BootError)) + note

@@ -87,10 +87,20 @@ type Param struct {
 	// Err is the 1σ uncertainty from the covariance matrix (NaN when the
 	// matrix is singular).
 	Err float64
-	// AtBound is set when the value lies on one of its bounds, where the
-	// uncertainty is not meaningful.
+	// AtBound is set when the value lies on one of its bounds, within
+	// BoundTol (see there), where the uncertainty is not meaningful.
 	AtBound bool
 }
+
+// BoundTol is how close to a bound a fitted value counts as on it, as a
+// fraction of the range between the bounds, or of one unit of the
+// parameter (mas, degrees, flux) when only one bound is finite (the scale
+// of the change of variables there, see problem). The change of
+// variables is stationary on every bound, so a fit whose minimum lies
+// beyond a bound creeps towards it and may stop short of it by an amount
+// set by where the iteration ended, not by the data; its 1σ from the
+// covariance then describes that stop (common practice, no source).
+const BoundTol = 1e-4
 
 // TypeChi2 is the χ² of one data type at the best fit.
 type TypeChi2 struct {
@@ -394,6 +404,18 @@ func (pr *problem) offBounds(t []float64) {
 	}
 }
 
+// atBound reports whether the value x of parameter i lies on one of its
+// finite bounds within BoundTol.
+func (pr *problem) atBound(i int, x float64) bool {
+	lo, hi := pr.lo[i], pr.hi[i]
+	scale := 1.0
+	if bounded(lo, hi) {
+		scale = hi - lo
+	}
+	tol := BoundTol * scale
+	return !math.IsInf(lo, 0) && x-lo <= tol || !math.IsInf(hi, 0) && hi-x <= tol
+}
+
 func bounded(lo, hi float64) bool { return !math.IsInf(lo, 0) && !math.IsInf(hi, 0) }
 
 func clamp(x, lo, hi float64) float64 { return math.Min(math.Max(x, lo), hi) }
@@ -652,7 +674,7 @@ func (pr *problem) finish(res *Result, best *run) {
 	}
 	res.Params = make([]Param, p)
 	for i, ref := range pr.refs {
-		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(), AtBound: x[i] == pr.lo[i] || x[i] == pr.hi[i]}
+		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(), AtBound: pr.atBound(i, x[i])}
 	}
 	J := mat.NewDense(n, p, nil)
 	pr.jacobian(J, x, r, make([]float64, n), make([]float64, n), true)

@@ -65,3 +65,34 @@ func TestVerdictNotConverged(t *testing.T) {
 		t.Fatalf("warnings %q", res.Warnings)
 	}
 }
+
+// A value counts as on a bound within BoundTol of the range between two finite bounds, or
+// of one unit with one bound: the change of variables is stationary there, and a fit whose
+// minimum lies beyond the bound may stop a small step short of it (common practice, no
+// source). Values further inside do not count.
+func TestAtBoundTolerance(t *testing.T) {
+	inf := math.Inf(1)
+	pr := &problem{lo: []float64{-2.496, 0, -inf, -inf}, hi: []float64{-1.656, inf, 5, inf}}
+	rng := 0.84
+	for _, c := range []struct {
+		i    int
+		x    float64
+		want bool
+	}{
+		{0, -2.496, true},
+		{0, -2.496 + 6e-6*rng, true},
+		{0, -1.656 - 0.5*BoundTol*rng, true},
+		{0, -2.496 + 2*BoundTol*rng, false},
+		{0, -2.0, false},
+		{1, 0, true},
+		{1, 0.5 * BoundTol, true},
+		{1, 2 * BoundTol, false},
+		{2, 5 - 0.5*BoundTol, true},
+		{2, 4, false},
+		{3, 1e300, false},
+	} {
+		if got := pr.atBound(c.i, c.x); got != c.want {
+			t.Errorf("parameter in [%g, %g] at %.17g: at a bound %t, want %t", pr.lo[c.i], pr.hi[c.i], c.x, got, c.want)
+		}
+	}
+}
