@@ -24,7 +24,7 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 		}
 		note := ""
 		if p.AtBound {
-			note = "  (at a bound)"
+			note = "  (at a bound: 1σ not meaningful)"
 		}
 		if p.BootError != nil {
 			note = fmt.Sprintf("  bootstrap ± %.4g", float64(*p.BootError)) + note
@@ -71,7 +71,7 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 			fmt.Fprintf(w, "  %s – %s  %+.3f\n", c.A, c.B, float64(c.R))
 		}
 	}
-	fmt.Fprintf(w, "\nχ²ᵣ %.4g (χ² %.6g, N = %d, %d free, DOF = %d)\n", float64(s.Chi2r), float64(s.Chi2), s.N, len(s.Params), s.DOF)
+	fmt.Fprintf(w, "\nχ²ᵣ %.4g (expected %.3g; χ² %.6g, N = %d, %d free, DOF = %d)\n", float64(s.Chi2r), float64(s.Chi2rExpected), float64(s.Chi2), s.N, len(s.Params), s.DOF)
 	var types []string
 	for t := range s.Chi2ByType {
 		types = append(types, t)
@@ -84,7 +84,12 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 	if !s.Converged {
 		conv = "DID NOT CONVERGE"
 	}
-	fmt.Fprintf(w, "%s after %d iterations: %s", conv, s.Iterations, s.Status)
+	if len(s.Warnings) > 0 {
+		// The verdict doubts the result: the line must not read as a success.
+		fmt.Fprintf(w, "finished with %s after %d iterations (%s: %s)", CountWarnings(len(s.Warnings)), s.Iterations, conv, s.Status)
+	} else {
+		fmt.Fprintf(w, "%s after %d iterations: %s", conv, s.Iterations, s.Status)
+	}
 	if s.Starts > 1 {
 		fmt.Fprintf(w, " (best of %d starts: start %d", s.Starts, s.BestStart)
 		if s.Seeded > 0 {

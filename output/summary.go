@@ -180,31 +180,35 @@ func NonNil(s []string) []string {
 
 // FitSummary is the JSON form of a fit.
 type FitSummary struct {
-	Model        string           `json:"model"`
-	Params       []FitParamJ      `json:"params"`
-	Correlations []FitCorrJ       `json:"correlations"`
-	CorrMatrix   [][]JFloat       `json:"correlation_matrix"`
-	Chi2         JFloat           `json:"chi2"`
-	N            int              `json:"n"`
-	DOF          int              `json:"dof"`
-	Chi2r        JFloat           `json:"chi2r"`
-	Chi2ByType   map[string]Chi2J `json:"chi2r_by_type"`
-	Iterations   int              `json:"iterations"`
-	Evals        int              `json:"evaluations"`
-	Converged    bool             `json:"converged"`
-	Status       string           `json:"status"`
-	Starts       int              `json:"starts"`
-	BestStart    int              `json:"best_start"` // 1-based, as the text counts starts (1 = the model's own values)
-	Pairs        []FitPairJ       `json:"pairs"`
-	Detections   []FitDetectJ     `json:"significance"`
-	Grid         *FitGridJ        `json:"grid_search,omitempty"`
-	Limits       *FitLimitsJ      `json:"detection_limits,omitempty"`
-	Bootstrap    *FitBootJ        `json:"bootstrap,omitempty"`
-	Plots        []string         `json:"plots"`
-	Image        string           `json:"image,omitempty"`
-	ModelFile    string           `json:"model_file,omitempty"`
-	Seeded       int              `json:"seeded_starts"`
-	Notices      []string         `json:"notices"`
+	Model        string      `json:"model"`
+	Params       []FitParamJ `json:"params"`
+	Correlations []FitCorrJ  `json:"correlations"`
+	CorrMatrix   [][]JFloat  `json:"correlation_matrix"`
+	Chi2         JFloat      `json:"chi2"`
+	N            int         `json:"n"`
+	DOF          int         `json:"dof"`
+	Chi2r        JFloat      `json:"chi2r"`
+	// Chi2rExpected is the expected value of Chi2r (fit.Result.Chi2rExpected).
+	Chi2rExpected JFloat           `json:"chi2r_expected"`
+	Chi2ByType    map[string]Chi2J `json:"chi2r_by_type"`
+	Iterations    int              `json:"iterations"`
+	Evals         int              `json:"evaluations"`
+	Converged     bool             `json:"converged"`
+	Status        string           `json:"status"`
+	Starts        int              `json:"starts"`
+	BestStart     int              `json:"best_start"` // 1-based, as the text counts starts (1 = the model's own values)
+	Pairs         []FitPairJ       `json:"pairs"`
+	Detections    []FitDetectJ     `json:"significance"`
+	Grid          *FitGridJ        `json:"grid_search,omitempty"`
+	Limits        *FitLimitsJ      `json:"detection_limits,omitempty"`
+	Bootstrap     *FitBootJ        `json:"bootstrap,omitempty"`
+	Plots         []string         `json:"plots"`
+	Image         string           `json:"image,omitempty"`
+	ModelFile     string           `json:"model_file,omitempty"`
+	Seeded        int              `json:"seeded_starts"`
+	Notices       []string         `json:"notices"`
+	// Warnings is the quality verdict (fit.Result.Warnings): an empty list when none.
+	Warnings []string `json:"warnings"`
 }
 
 // FitParamJ is one fitted parameter.
@@ -344,6 +348,7 @@ func NewFitSummary(res *fit.Result, starts int) FitSummary {
 		Chi2ByType: map[string]Chi2J{}, Iterations: res.Iterations, Evals: res.Evals, Converged: res.Converged,
 		Status: res.Reason, Starts: starts, BestStart: res.Start + 1, Seeded: res.Scanned, Plots: []string{},
 		Notices: append([]string{}, res.Notices...), Correlations: []FitCorrJ{},
+		Chi2rExpected: JFloat(res.Chi2rExpected), Warnings: append([]string{}, res.Warnings...),
 	}
 	for _, p := range res.Params {
 		c := res.Model.Components[p.Ref.Comp]

@@ -538,11 +538,12 @@ func (o *StarEnvObjective) expectedChi2r() float64 {
 // iteration limit, pathIter the refits' and target the rise of the profile at 1σ.
 func starEnvVerdict(res *StarEnvResult, r optim.Result, diag [2]profileDiag, nData, maxIter, pathIter int, target float64) []string {
 	var w []string
-	if res.Chi2rTarget > 0 && res.Chi2r > VerdictChi2Ratio*res.Chi2rTarget {
+	far := Chi2rFar(res.Chi2r, res.Chi2rTarget, nData)
+	if far > 0 {
 		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is %.2g times its expected value %.3g: the star + environment model does not fit the data; try another -star diameter or -star-index, a lower -weight, a larger -fov, or check the error bars", res.Chi2r, res.Chi2r/res.Chi2rTarget, res.Chi2rTarget))
 	}
 	// Far below: beyond 3 times the scatter √(2/N) of χ²ᵣ as well (as overfitWarning).
-	if res.Chi2rTarget > 0 && nData > 0 && res.Chi2r < res.Chi2rTarget/VerdictChi2Ratio && res.Chi2r < res.Chi2rTarget*(1-3*math.Sqrt(2/float64(nData))) {
+	if far < 0 {
 		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is far below its expected value %.3g: the environment image may fit the noise; try a larger -weight", res.Chi2r, res.Chi2rTarget))
 	}
 	switch {

@@ -234,7 +234,7 @@ func overfitWarning(k int, p *PlaneResult, aim float64) string {
 	if aim > 0 && aim < ref {
 		ref, what = aim, "aimed at"
 	}
-	if p.Chi2r < ref/VerdictChi2Ratio && p.Chi2r < ref*(1-3*math.Sqrt(2/float64(p.N))) {
+	if Chi2rFar(p.Chi2r, ref, p.N) < 0 {
 		return fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, far below the %.3g %s: it may fit the noise; try a larger -weight", k+1, p.Label, p.Chi2r, ref, what)
 	}
 	return ""

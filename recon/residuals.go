@@ -145,6 +145,23 @@ func (r *Residuals) Use() dataset.DataType { return r.use }
 // N returns the number of residuals of one data type.
 func (r *Residuals) N(t dataset.DataType) int { return r.n[t.Index()] }
 
+// ExpectedChi2r returns the expectation of the sum of squares of the residuals per residual
+// for data drawn with their stated errors about the true model, by the rule of
+// Objective.ExpectedChi2r (1 for every Gaussian term, less for wrap-safe phases of large
+// errors); NaN without data.
+func (r *Residuals) ExpectedChi2r() float64 {
+	if r.total == 0 {
+		return math.NaN()
+	}
+	s := 0.0
+	for _, t := range r.terms {
+		if t != nil {
+			s += t.expected()
+		}
+	}
+	return s / float64(r.total)
+}
+
 // Notices lists what the residuals leave out, one sentence each.
 func (r *Residuals) Notices() []string { return r.notices }
 

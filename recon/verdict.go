@@ -28,6 +28,25 @@ const (
 	VerdictStartSpread = 0.05
 )
 
+// Chi2rFar says how a χ²ᵣ of n data stands against its expected value: +1 when it is above
+// VerdictChi2Ratio times expected, −1 when it is below expected/VerdictChi2Ratio and also below
+// expected by more than three times the scatter √(2/n) of χ²ᵣ (so that a small data set is
+// not judged on its noise; common practice, no source), 0 otherwise or when expected is not
+// positive or n is not (the low side only). It is the one rule of every quality verdict's
+// χ²ᵣ warnings: images and cubes, the star + environment fit, and the fits of analytic
+// models (recon/fit).
+func Chi2rFar(chi2r, expected float64, n int) int {
+	switch {
+	case !(expected > 0):
+		return 0
+	case chi2r > VerdictChi2Ratio*expected:
+		return 1
+	case n > 0 && chi2r < expected/VerdictChi2Ratio && chi2r < expected*(1-3*math.Sqrt(2/float64(n))):
+		return -1
+	}
+	return 0
+}
+
 // verdictInput is what the verdict needs beyond the Result.
 type verdictInput struct {
 	expect   map[dataset.DataType]float64 // expected χ²ᵣ of each used type
@@ -41,7 +60,7 @@ type verdictInput struct {
 // verdict returns the warnings of res: each names what is doubtful and what to try.
 func verdict(res *Result, in verdictInput) []string {
 	var w []string
-	if res.Chi2rTarget > 0 && res.Chi2r > VerdictChi2Ratio*res.Chi2rTarget {
+	if Chi2rFar(res.Chi2r, res.Chi2rTarget, 0) > 0 {
 		w = append(w, fmt.Sprintf("χ²ᵣ = %.3g is %.2g times its expected value %.3g: the image does not fit the data; try a lower -weight, another -reg, a larger -fov, or check the error bars", res.Chi2r, res.Chi2r/res.Chi2rTarget, res.Chi2rTarget))
 	}
 	// One type fitted far worse than the best one: calibration errors not in the error bars,

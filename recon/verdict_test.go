@@ -54,3 +54,29 @@ func TestVerdict(t *testing.T) {
 		t.Errorf("given weight: warnings %q", w)
 	}
 }
+
+// Chi2rFar is the one χ²ᵣ rule of every verdict: above VerdictChi2Ratio times the expected
+// value, or below it over VerdictChi2Ratio and by more than 3√(2/N), the scatter of χ²ᵣ of N
+// Gaussian data (the χ² distribution with N degrees of freedom has variance 2N), so that a
+// few data are not judged on their noise (the thresholds are common practice, no source).
+func TestChi2rFar(t *testing.T) {
+	for _, c := range []struct {
+		chi2r, expected float64
+		n, want         int
+	}{
+		{1.0, 1, 100, 0},
+		{1.26, 1, 100, 1},
+		{1.24, 1, 100, 0},
+		{1.26 * 0.9, 0.9, 0, 1}, // the high side needs no N
+		{0.5, 1, 100, -1},       // 3√(2/100) = 0.42: 0.5 is below 0.58
+		{0.7, 1, 100, 0},        // below 1/1.25 but within 3√(2/N)
+		{0.5, 1, 10, 0},         // 3√(2/10) = 1.34: no data set of 10 is far below
+		{0.5, 1, 0, 0},
+		{5, 0, 100, 0},
+		{5, math.NaN(), 100, 0},
+	} {
+		if got := Chi2rFar(c.chi2r, c.expected, c.n); got != c.want {
+			t.Errorf("χ²ᵣ %g, expected %g, N %d: %d, want %d", c.chi2r, c.expected, c.n, got, c.want)
+		}
+	}
+}

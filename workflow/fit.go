@@ -203,25 +203,55 @@ func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifi
 
 // SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
 // header names the data files (without their folders, so that the file carries no
-// machine-specific paths), the start model, the significance of each component and, when
-// the fit did not converge, why.
+// machine-specific paths), the start model, the significance of each component and the
+// warnings of the quality verdict (fit.Result.Warnings). The box of ±3 grid steps within
+// which a companion search fits the companion it added (FitModel) is a limit of the search,
+// not of the user's model: the file gives it in a header line and writes that companion's
+// x and y free without bounds, so that a fit from the file is not held in the box.
 func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 	names := make([]string, len(dataFiles))
 	for i, p := range dataFiles {
 		names[i] = filepath.Base(p)
 	}
-	res := o.Result
+	res, start := o.Result, o.Start
+	var boxLine string
+	if o.Grid != nil {
+		c := len(res.Model.Components) - 1
+		r := *res
+		r.Model = withoutBox(res.Model, c)
+		start = withoutBox(o.Start, c)
+		x, _ := res.Model.Param(model.Ref{Comp: c, Name: "x"})
+		y, _ := res.Model.Param(model.Ref{Comp: c, Name: "y"})
+		boxLine = fmt.Sprintf("component %d was added by the companion search and fitted within x %.6g..%.6g mas, y %.6g..%.6g mas, the search's box (not bounds of the model below)",
+			c+1, x.Min, x.Max, y.Min, y.Max)
+		res = &r
+	}
 	header := []string{
 		"Model fitted by vcz fit " + output.Version + " to " + strings.Join(names, ", "),
-		"start model: " + o.Start.String(),
+		"start model: " + start.String(),
+	}
+	if boxLine != "" {
+		header = append(header, boxLine)
 	}
 	for _, det := range output.FitDetections(res, o.Detections) {
 		header = append(header, det.Line())
 	}
-	if !res.Converged {
-		header = append(header, "WARNING: the fit did not converge: "+res.Reason)
+	for _, w := range res.Warnings {
+		header = append(header, "WARNING: "+output.OneLine(w))
 	}
 	return safefile.WriteBytes(path, res.ModelTOML(header...))
+}
+
+// withoutBox returns a copy of m whose component c has its x and y without bounds (free as
+// they were).
+func withoutBox(m *model.Model, c int) *model.Model {
+	m = m.Clone()
+	for _, name := range []string{"x", "y"} {
+		if p, err := m.Param(model.Ref{Comp: c, Name: name}); err == nil {
+			m.Components[c].SetFit(name, p.Free, math.Inf(-1), math.Inf(1))
+		}
+	}
+	return m
 }
 
 // WriteLimits writes the detection limits as PREFIX.csv (fit.Limits.WriteCSV) and

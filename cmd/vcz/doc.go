@@ -163,8 +163,10 @@ simulated from and a side-by-side comparison into DIR (default vcz-demo).
 
 # Quality verdict
 
-Every reconstruction (image, demo, compare, batch) is judged once it is
-done: one warning for each reason to doubt it — χ²ᵣ more than 1.25 times
+Every reconstruction (image, demo, compare, batch) and every fit is judged
+once it is done (a fit on χ²ᵣ, more than 1.25 times its expected value or
+far below it, and on convergence; its warnings go to stderr, "warnings" of
+-json and the -save-model header): one warning for each reason to doubt it — χ²ᵣ more than 1.25 times
 its expected value, one data type fitted far worse than the others, the
 final run stalled or stopped at its iteration limit (-iter) while the
 objective still fell (for a cube, its planes' runs in the last sweep over

@@ -159,14 +159,11 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	} else {
 		sum.WriteText(stdout, *n)
 	}
-	if errors.Is(fitErr, fit.ErrNotConverged) {
-		// As image does: a run that did not reach its goal is a warning, the result is
-		// still given, and -strict makes it a failure.
-		printWarnings(stderr, "", []string{strings.TrimPrefix(fitErr.Error(), "fit: ")})
-		return strictFailure(*strict, "fit", 1)
-	}
-	if fitErr != nil {
+	// As image does: the quality verdict (χ²ᵣ far from its expected value, a fit that did not
+	// converge) is a warning each, the result is still given, and -strict makes it a failure.
+	printWarnings(stderr, "", sum.Warnings)
+	if fitErr != nil && !errors.Is(fitErr, fit.ErrNotConverged) {
 		return failure(fitErr)
 	}
-	return nil
+	return strictFailure(*strict, "fit", len(sum.Warnings))
 }

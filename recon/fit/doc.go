@@ -39,8 +39,14 @@
 // The covariance of the free parameters is (JᵀJ)⁻¹ χ²ᵣ, J the Jacobian of
 // the normalised residuals in user units at the solution and
 // χ²ᵣ = χ²/(N − P); errors are the square roots of its diagonal and the
-// correlation matrix is reported beside it. Parameters on a bound are
-// flagged: their errors mean nothing.
+// correlation matrix is reported beside it. Parameters on a bound, or
+// within BoundTol of it, are flagged: their errors mean nothing.
+//
+// # Verdict
+//
+// Result.Warnings judges the fit by the rule of the images' verdict
+// (recon.Chi2rFar): χ²ᵣ above 1.25 times its expected value
+// (Result.Chi2rExpected) or far below it, and a fit that did not converge.
 //
 // # Separation, position angle and contrast
 //

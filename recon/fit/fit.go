@@ -87,10 +87,20 @@ type Param struct {
 	// Err is the 1σ uncertainty from the covariance matrix (NaN when the
 	// matrix is singular).
 	Err float64
-	// AtBound is set when the value lies on one of its bounds, where the
-	// uncertainty is not meaningful.
+	// AtBound is set when the value lies on one of its bounds, within
+	// BoundTol (see there), where the uncertainty is not meaningful.
 	AtBound bool
 }
+
+// BoundTol is how close to a bound a fitted value counts as on it, as a
+// fraction of the range between the bounds, or of one unit of the
+// parameter (mas, degrees, flux) when only one bound is finite (the scale
+// of the change of variables there, see problem). The change of
+// variables is stationary on every bound, so a fit whose minimum lies
+// beyond a bound creeps towards it and may stop short of it by an amount
+// set by where the iteration ended, not by the data; its 1σ from the
+// covariance then describes that stop (common practice, no source).
+const BoundTol = 1e-4
 
 // TypeChi2 is the χ² of one data type at the best fit.
 type TypeChi2 struct {
@@ -112,9 +122,26 @@ type Result struct {
 	Cov, Corr *mat.SymDense
 	// Chi2 is the total χ², N the number of data, DOF = N − P and Chi2r =
 	// Chi2/DOF.
-	Chi2       float64
-	N, DOF     int
-	Chi2r      float64
+	Chi2   float64
+	N, DOF int
+	Chi2r  float64
+	// Chi2rExpected is the expected value of Chi2r when the model is right
+	// and the data scatter by their stated errors: the residuals of a
+	// linear least-squares fit of P parameters to N data of covariance Σ
+	// have E[χ²] = tr((I − H)Σ), H the projection onto the columns of the
+	// Jacobian, which is N − P for Gaussian residuals of unit variance
+	// (χ² with N − P degrees of freedom; Press et al., Numerical Recipes,
+	// 3rd ed., sect. 15.1, recalled from memory), so 1 for Chi2r = χ²/DOF;
+	// residuals of smaller variance (wrap-safe phases of large errors,
+	// recon.Residuals.ExpectedChi2r) take tr(HΣ) ≈ P·tr(Σ)/N, and the
+	// expectation is tr(Σ)/N, that of the images' χ²ᵣ
+	// (recon.Objective.ExpectedChi2r; the approximation is common practice,
+	// no source). NaN without data.
+	Chi2rExpected float64
+	// Warnings is the quality verdict of the fit (verdict): one sentence for
+	// each reason to doubt it, each saying what to try; empty when none.
+	Warnings []string
+
 	PerType    []TypeChi2 // types with data, in the order of dataset.DataTypes()
 	Iterations int        // iterations of the best start
 	Evals      int        // residual evaluations over all starts
@@ -183,6 +210,8 @@ func Fit(d *dataset.Data, m *model.Model, opt Options) (*Result, error) {
 		atBound[i] = p.AtBound
 	}
 	res.Pairs = Pairs(res.Model, pr.refs, res.Cov, atBound)
+	res.Chi2rExpected = t.ExpectedChi2r()
+	res.Warnings = verdict(res)
 	if !res.Converged {
 		return res, fmt.Errorf("fit: %w after %d iterations: %s", ErrNotConverged, res.Iterations, res.Reason)
 	}
@@ -373,6 +402,18 @@ func (pr *problem) offBounds(t []float64) {
 			}
 		}
 	}
+}
+
+// atBound reports whether the value x of parameter i lies on one of its
+// finite bounds within BoundTol.
+func (pr *problem) atBound(i int, x float64) bool {
+	lo, hi := pr.lo[i], pr.hi[i]
+	scale := 1.0
+	if bounded(lo, hi) {
+		scale = hi - lo
+	}
+	tol := BoundTol * scale
+	return !math.IsInf(lo, 0) && x-lo <= tol || !math.IsInf(hi, 0) && hi-x <= tol
 }
 
 func bounded(lo, hi float64) bool { return !math.IsInf(lo, 0) && !math.IsInf(hi, 0) }
@@ -633,8 +674,7 @@ func (pr *problem) finish(res *Result, best *run) {
 	}
 	res.Params = make([]Param, p)
 	for i, ref := range pr.refs {
-		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(),
-			AtBound: x[i] == pr.lo[i] || x[i] == pr.hi[i]}
+		res.Params[i] = Param{Ref: ref, Value: x[i], Err: math.NaN(), AtBound: pr.atBound(i, x[i])}
 	}
 	J := mat.NewDense(n, p, nil)
 	pr.jacobian(J, x, r, make([]float64, n), make([]float64, n), true)
