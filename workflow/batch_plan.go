@@ -1,9 +1,7 @@
 package workflow
 
 import (
-	"fmt"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 
