@@ -133,7 +133,8 @@ type BootstrapSummary struct {
 // ImageBootstrap runs the bootstrap of req around run, the reconstruction of im's data
 // written to out (inputs are the data files as the user named them, for the hash of kept
 // replicates), and writes its maps beside out as outs says; a shard of a job array writes
-// no maps. events, when non-nil, follows the replicates. Errors of the input (a -feature
+// no maps. events, when non-nil, follows the replicates. A feature test on fewer than
+// MinFeatureReplicates replicates adds a warning. Errors of the input (a -feature
 // that does not fit the image) are *InputError.
 func (im *Image) ImageBootstrap(req BootstrapRequest, inputs []string, run output.Run, outs output.Outputs, out string, events func(Event)) (*BootstrapSummary, error) {
 	opt := req.Options
@@ -184,6 +185,11 @@ func (im *Image) ImageBootstrap(req BootstrapRequest, inputs []string, run outpu
 			return nil, err
 		}
 		s.Features = append(s.Features, f)
+	}
+	if len(req.Regions) > 0 {
+		if w := FewReplicatesWarning(b.Good()); w != "" {
+			s.Warnings = append(s.Warnings, w)
+		}
 	}
 	return s, nil
 }

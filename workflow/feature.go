@@ -6,6 +6,8 @@ import (
 	"strconv"
 	"strings"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"vcz/io/fitsimage"
 	"vcz/recon"
 )
@@ -78,23 +80,73 @@ type Feature struct {
 	Region    string  `json:"region"`
 	Pixels    int     `json:"pixels"`
 	Reference string  `json:"reference"`
-	Excess    float64 `json:"excess"`       // flux minus reference in the full data's image (fraction of the total)
-	MeanExc   float64 `json:"mean_excess"`  // the same, mean over the replicates
-	Noise     float64 `json:"noise"`        // standard deviation of the excess over the replicates
-	Z         float64 `json:"significance"` // MeanExc / Noise
+	Excess    float64 `json:"excess"`      // flux minus reference in the full data's image (fraction of the total)
+	MeanExc   float64 `json:"mean_excess"` // the same, mean over the replicates
+	Noise     float64 `json:"noise"`       // standard deviation of the excess over the replicates
+	// Z is the test statistic MeanExc / Noise. Noise is estimated from the replicates, so Z
+	// follows Student's t with Replicates − 1 degrees of freedom, not a normal distribution.
+	Z float64 `json:"significance"`
+	// Replicates is the number of replicate images the test rests on, and Distribution names
+	// the distribution of Z under which FalseAlarm is computed.
+	Replicates   int    `json:"replicates"`
+	Distribution string `json:"distribution"`
 	// Brighter and Fainter are the fractions of the replicates whose excess is above Noise,
-	// or below −Noise.
+	// or below −Noise; a fraction counted from K replicates resolves nothing below 1/K.
 	Brighter float64 `json:"brighter_fraction"`
 	Fainter  float64 `json:"fainter_fraction"`
-	// FalseAlarm is the probability of |z| at least this large for a region without a
-	// feature, under Gaussian noise: erfc(|z|/√2).
+	// FalseAlarm is the probability of |Z| at least this large for a region without a
+	// feature, under Gaussian noise: the two-sided tail of Student's t with Replicates − 1
+	// degrees of freedom (StudentTFalseAlarm).
 	FalseAlarm float64 `json:"false_alarm"`
+	// Sigma is the significance of a normal variable with the same two-sided probability
+	// FalseAlarm, with the sign of Z: the number to compare with the usual 3σ and 5σ.
+	Sigma float64 `json:"equivalent_sigma"`
 }
 
 // String says the outcome in one line.
 func (f Feature) String() string {
-	return fmt.Sprintf("region %s (%d pixels): excess %+.4g of the total flux over the %s (%.3gσ, false-alarm probability %.2g): brighter in %.0f %% of resamplings, fainter in %.0f %%",
-		f.Region, f.Pixels, f.Excess, f.Reference, f.Z, f.FalseAlarm, 100*f.Brighter, 100*f.Fainter)
+	p := fmt.Sprintf("%.2g", f.FalseAlarm)
+	if f.FalseAlarm == 0 {
+		p = "< 1e-300" // the tail underflowed
+	}
+	return fmt.Sprintf("region %s (%d pixels): excess %+.4g of the total flux over the %s (t = %.3g from %d replicates; under %s, false-alarm probability %s, as for %.3gσ of a normal variable): brighter than the noise in %s, fainter in %s of the resamplings",
+		f.Region, f.Pixels, f.Excess, f.Reference, f.Z, f.Replicates, f.Distribution, p, f.Sigma,
+		countedFraction(f.Brighter, f.Replicates), countedFraction(f.Fainter, f.Replicates))
+}
+
+// countedFraction says a fraction counted from k replicates: as a count and a percentage,
+// or, when no replicate counted, as below 1/k, the smallest fraction k replicates resolve.
+func countedFraction(frac float64, k int) string {
+	c := int(math.Round(frac * float64(k)))
+	if c == 0 {
+		return fmt.Sprintf("0 of %d (< %.3g %%)", k, 100/float64(k))
+	}
+	return fmt.Sprintf("%d of %d (%.0f %%)", c, k, 100*frac)
+}
+
+// StudentTFalseAlarm returns the two-sided probability P(|T| ≥ |t|) of Student's t with nu
+// degrees of freedom (Student 1908, Biometrika 6, 1), the distribution of a mean divided by
+// a standard deviation estimated from nu + 1 normal values:
+// 2·S(|t|) = I_{ν/(ν+t²)}(ν/2, 1/2), computed as the upper tail, so without the cancellation
+// of 1 − CDF for large |t|.
+func StudentTFalseAlarm(t float64, nu int) float64 {
+	return 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(nu)}.Survival(math.Abs(t))
+}
+
+// MinFeatureReplicates is the number of replicates below which a feature test is warned of
+// (common practice, no source). The noise of a region is a standard deviation of K
+// replicates, uncertain by about 1/√(2(K − 1)) of itself for normal values (the standard
+// error of a sample standard deviation), 16 % at 20 against 41 % at 4.
+const MinFeatureReplicates = 20
+
+// FewReplicatesWarning returns the warning of a feature test on k replicates, or "" when k
+// is at least MinFeatureReplicates.
+func FewReplicatesWarning(k int) string {
+	if k >= MinFeatureReplicates {
+		return ""
+	}
+	return fmt.Sprintf("the feature test rests on only %d bootstrap replicates, fewer than %d: the noise of a region is uncertain by about %.0f %% and its false-alarm probability comes from Student's t with %d degrees of freedom; run -bootstrap %d or more",
+		k, MinFeatureReplicates, 100/math.Sqrt(2*float64(max(k-1, 1))), k-1, MinFeatureReplicates)
 }
 
 // regionPixels returns the pixels of region r on the n × n grid of pixel pix, its centre
@@ -171,8 +223,10 @@ func (im *Image) CheckRegions(regions []Region) error {
 // radius of the circle of the mask's area about its centroid), times the region's pixels.
 // The noise is the standard deviation of that excess over the replicates, and the region
 // is brighter (fainter) in a replicate whose excess exceeds the noise (falls below minus the
-// noise). Errors are *InputError (a mask on another grid, a region off the image or too
-// small for a pixel).
+// noise). The significance is the mean excess over the replicates divided by the noise, and
+// since the noise is estimated from the K replicates, its false-alarm probability is that of
+// Student's t with K − 1 degrees of freedom. Errors are *InputError (a mask on another grid,
+// a region off the image or too small for a pixel), or fewer than two replicates.
 func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, error) {
 	n := b.N
 	in, cx, cy, rad, np, err := regionPixels(r, n, b.Pixel)
@@ -218,6 +272,9 @@ func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, er
 			ex = append(ex, excess(img))
 		}
 	}
+	if len(ex) < 2 {
+		return Feature{}, fmt.Errorf("-feature %s: %d replicate images: the noise needs at least 2", r.Text, len(ex))
+	}
 	k := float64(len(ex))
 	for _, e := range ex {
 		f.MeanExc += e
@@ -240,7 +297,13 @@ func FeatureTest(b *Bootstrap, full []float64, r Region, disc bool) (Feature, er
 	if f.Noise > 0 {
 		f.Z = f.MeanExc / f.Noise
 	}
-	f.FalseAlarm = math.Erfc(math.Abs(f.Z) / math.Sqrt2)
+	nu := len(ex) - 1
+	f.Replicates = len(ex)
+	f.Distribution = fmt.Sprintf("Student's t with %d degrees of freedom", nu)
+	f.FalseAlarm = StudentTFalseAlarm(f.Z, nu)
+	// The normal deviate of the same two-sided probability; a probability below 1e-300
+	// (37σ) is held there, so that the deviate stays finite.
+	f.Sigma = math.Copysign(-distuv.UnitNormal.Quantile(max(f.FalseAlarm, 1e-300)/2), f.Z)
 	return f, nil
 }
 

@@ -1,8 +1,10 @@
 package workflow
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"vcz/recon"
@@ -101,5 +103,108 @@ func TestParseRegion(t *testing.T) {
 		if _, err := ParseRegion(bad); err == nil {
 			t.Errorf("ParseRegion(%q): no error", bad)
 		}
+	}
+}
+
+// exactBootstrap makes one 32-pixel replicate image per excess in exc: the excess spread
+// evenly over the 13 pixels within 2 pixels of (20, 16) on a zero background, so that the
+// region "-4,0,2" against the annulus has exactly that excess. The full image is the first.
+func exactBootstrap(exc []float64) (*Bootstrap, Region) {
+	const n = 32
+	b := &Bootstrap{N: n, Pixel: recon.Mas}
+	for _, e := range exc {
+		im := make([]float64, n*n)
+		for p := range im {
+			if math.Hypot(float64(p%n-20), float64(p/n-16)) <= 2 {
+				im[p] = e / 13
+			}
+		}
+		b.Images = append(b.Images, im)
+	}
+	return b, Region{Text: "-4,0,2", X: -4 * recon.Mas, R: 2 * recon.Mas}
+}
+
+// TestFeatureFalseAlarmStudentT checks the false-alarm probability of a feature test on few
+// replicates against tabulated critical values of Student's t (NIST/SEMATECH e-Handbook of
+// Statistical Methods, sect. 1.3.6.7.2, upper critical values t(1−α, ν)): a statistic at
+// t(1−α, ν) has the two-sided probability 2α. The replicates' excesses are m + s·d with d of
+// mean 0 and standard deviation 1, so the statistic is m/s exactly. Under a normal
+// distribution, the old assumption, t = 3.182 would read as 0.0015 instead of 0.05.
+func TestFeatureFalseAlarmStudentT(t *testing.T) {
+	for _, c := range []struct {
+		k    int     // replicates
+		t, p float64 // table value t(1−α, k−1) and 2α
+	}{
+		{4, 3.182, 0.05},   // t(0.975, 3), NIST table
+		{4, 5.841, 0.01},   // t(0.995, 3), NIST table
+		{4, 10.215, 0.002}, // t(0.999, 3), NIST table
+		{20, 2.093, 0.05},  // t(0.975, 19), NIST table
+		{20, 3.579, 0.002}, // t(0.999, 19), NIST table
+	} {
+		// d: evenly spaced values scaled to mean 0 and standard deviation 1 (K − 1 denominator).
+		d := make([]float64, c.k)
+		ss := 0.0
+		for i := range d {
+			d[i] = float64(i) - float64(c.k-1)/2
+			ss += d[i] * d[i]
+		}
+		const s = 1e-3
+		exc := make([]float64, c.k)
+		for i := range d {
+			exc[i] = c.t*s + s*d[i]/math.Sqrt(ss/float64(c.k-1))
+		}
+		b, r := exactBootstrap(exc)
+		f, err := FeatureTest(b, b.Images[0], r, false)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(f.Z-c.t) > 1e-9*c.t {
+			t.Fatalf("K = %d: statistic %.6g, want %g", c.k, f.Z, c.t)
+		}
+		// The table gives t to 4 significant digits: 1 % in the probability covers that.
+		if math.Abs(f.FalseAlarm-c.p) > 0.01*c.p {
+			t.Errorf("K = %d, t = %g: false-alarm probability %.4g, want %g (Student's t, %d degrees of freedom)", c.k, c.t, f.FalseAlarm, c.p, c.k-1)
+		}
+		if f.Replicates != c.k || !strings.Contains(f.Distribution, fmt.Sprintf("Student's t with %d degrees of freedom", c.k-1)) {
+			t.Errorf("K = %d: replicates %d, distribution %q", c.k, f.Replicates, f.Distribution)
+		}
+		if !strings.Contains(f.String(), fmt.Sprintf("from %d replicates", c.k)) {
+			t.Errorf("K = %d: report %q does not say how many replicates", c.k, f)
+		}
+		// The normal deviate of the same two-sided probability: 1.960 for 0.05, 2.576 for
+		// 0.01, 3.090 for 0.002 (normal table).
+		want := map[float64]float64{0.05: 1.960, 0.01: 2.576, 0.002: 3.090}[c.p]
+		if math.Abs(f.Sigma-want) > 0.01 {
+			t.Errorf("K = %d, t = %g: equivalent %.4gσ, want %g", c.k, c.t, f.Sigma, want)
+		}
+	}
+}
+
+// TestFeatureCountedFractions: a fraction counted from K replicates is reported with its
+// count, and none of K as below 1/K rather than as 0.
+func TestFeatureCountedFractions(t *testing.T) {
+	b, r := exactBootstrap([]float64{1e-3, 2e-3, 3e-3, 4e-3})
+	f, err := FeatureTest(b, b.Images[0], r, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The noise is 1.29e-3: three excesses lie above it, none below its negative.
+	s := f.String()
+	if !strings.Contains(s, "fainter in 0 of 4 (< 25 %)") || !strings.Contains(s, "brighter than the noise in 3 of 4 (75 %)") {
+		t.Errorf("report %q: want the counts, and 0 of 4 as < 25 %%", s)
+	}
+}
+
+// TestFewReplicatesWarning: a feature test on fewer than MinFeatureReplicates replicates is
+// warned of, naming the replicates and the degrees of freedom; one on that many is not.
+func TestFewReplicatesWarning(t *testing.T) {
+	if w := FewReplicatesWarning(4); !strings.Contains(w, "only 4 bootstrap replicates") || !strings.Contains(w, "3 degrees of freedom") {
+		t.Errorf("4 replicates: warning %q", w)
+	}
+	if w := FewReplicatesWarning(MinFeatureReplicates - 1); w == "" {
+		t.Errorf("%d replicates: no warning", MinFeatureReplicates-1)
+	}
+	if w := FewReplicatesWarning(MinFeatureReplicates); w != "" {
+		t.Errorf("%d replicates: warning %q", MinFeatureReplicates, w)
 	}
 }

@@ -10,6 +10,7 @@ import (
 
 	"vcz/io/fitsimage"
 	"vcz/recon"
+	"vcz/workflow"
 )
 
 // TestImageBootstrap runs `vcz image -bootstrap` on the demo data: the summary holds the
@@ -47,6 +48,43 @@ func TestImageBootstrap(t *testing.T) {
 		}
 	}
 	checkPNG(t, b.Outputs.PNG)
+}
+
+// TestFeatureFewReplicates: a feature test on fewer replicates than
+// workflow.MinFeatureReplicates is warned of on stderr, in the JSON summary and by -strict's
+// exit status, and says how many replicates its probability rests on; one on that many is
+// not warned of.
+func TestFeatureFewReplicates(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "demo.oifits")
+	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	const line = "warning: bootstrap: the feature test rests on only "
+	for _, k := range []int{3, workflow.MinFeatureReplicates} {
+		out := filepath.Join(dir, "rec"+strconv.Itoa(k)+".fits")
+		stdout, errs, code := runCmd(t, "image", "-n", "24", "-iter", "60", "-starts", "1", "-quiet", "-json", "-strict",
+			"-bootstrap", strconv.Itoa(k), "-feature", "0.7,0.5,0.5", "-o", out, data)
+		var sum bootstrapJSON
+		if err := json.Unmarshal([]byte(stdout), &sum); err != nil || sum.Bootstrap == nil || len(sum.Bootstrap.Features) != 1 {
+			t.Fatalf("K = %d: exit %d, %v in %q, stderr %s", k, code, err, stdout, errs)
+		}
+		b := sum.Bootstrap
+		warned := false
+		for _, w := range b.Warnings {
+			warned = warned || strings.Contains(w, "feature test rests on")
+		}
+		few := k < workflow.MinFeatureReplicates
+		if warned != few || strings.Contains(errs, line) != few {
+			t.Errorf("K = %d: warning in JSON %v, on stderr %v; want %v: %q", k, warned, strings.Contains(errs, line), few, errs)
+		}
+		if few && code != exitFailure {
+			t.Errorf("K = %d with -strict: exit %d, want %d", k, code, exitFailure)
+		}
+		if f := b.Features[0]; f.Replicates != k || !strings.Contains(f.Distribution, "Student's t with "+strconv.Itoa(k-1)+" degrees of freedom") {
+			t.Errorf("K = %d: feature rests on %d replicates, distribution %q", k, f.Replicates, f.Distribution)
+		}
+	}
 }
 
 // TestBootstrapUsageErrors: bad bootstrap options exit 2 with one line naming the option,

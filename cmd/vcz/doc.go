@@ -66,7 +66,10 @@ OUT-boot-mean.fits, OUT-boot-std.fits, OUT-boot-signif.fits (mean / std) and
 OUT-boot.png (contours at 3σ and 5σ). -feature x,y,r (mas) or -feature
 MASK.fits, repeatable, reports how often a region is brighter or fainter
 than a smooth reference (-feature-ref auto, disc or annulus) by more than
-the noise, printed and under "bootstrap" in -json. -bootstrap-shard K/N (or
+the noise, and its significance t with the false-alarm probability of
+Student's t with K−1 degrees of freedom (the noise is estimated from the K
+replicates), printed and under "bootstrap" in -json; fewer than 20
+replicates give a warning. -bootstrap-shard K/N (or
 slurm) makes one slice of the replicates, kept as OUT-boot-0001.fits, ...,
 and -bootstrap-collect merges them (making any missing) into the maps.
 
