@@ -101,6 +101,10 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 	if g := s.Grid; g != nil {
 		fmt.Fprintf(w, "Grid search (flux ratio %g): best separation %.4g mas, PA %.4g° (east %.4g, north %.4g mas), χ² %.6g vs %.6g without a companion\n",
 			g.Ratio, g.BestSep, g.BestPA, g.BestX, g.BestY, g.BestChi2, g.Chi2Primary)
+		if g.Comp > 0 {
+			fmt.Fprintf(w, "  component %d fitted within east %.4g..%.4g, north %.4g..%.4g mas: the search's box, not bounds of the model above\n",
+				g.Comp, g.BoxX[0], g.BoxX[1], g.BoxY[0], g.BoxY[1])
+		}
 	}
 	if l := s.Limits; l != nil {
 		l.writeText(w)

@@ -326,6 +326,11 @@ type FitGridJ struct {
 	BestChi2    float64 `json:"best_chi2"`
 	Chi2Primary float64 `json:"chi2_without_companion"`
 	N           int     `json:"n"`
+	// Comp is the component (1-based) the search added, fitted within the box BoxX × BoxY
+	// (east and north, mas); the box is a limit of the search, not a bound of the model.
+	Comp int        `json:"component"`
+	BoxX [2]float64 `json:"box_east_mas"`
+	BoxY [2]float64 `json:"box_north_mas"`
 }
 
 // JFloat is a float64 that is written as null in JSON when not finite.

@@ -212,7 +212,15 @@ type CubeProblem struct {
 	// SpectralTolerance is the rise of a plane's χ²ᵣ over that at its start that the path
 	// accepts, as a fraction; 0 means 0.05.
 	SpectralTolerance float64
+	// SpectralSetting names, in the warnings of CubeResult, the setting that lowers η, for
+	// a plane that fits its data worse than expected: "" means DefaultSpectralSetting (the
+	// option of an image cube); a cube along time passes its own (batch.JointProblem).
+	SpectralSetting string
 }
+
+// DefaultSpectralSetting is the setting a warning of SolveCube names to lower η when
+// CubeProblem.SpectralSetting is empty.
+const DefaultSpectralSetting = "-spectral factor"
 
 // SpectralStep is one weight tried by the discrepancy path of SolveCube.
 type SpectralStep struct {
@@ -895,6 +903,10 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 	}
 	var chiAll float64
 	var nAll int
+	setting := cp.SpectralSetting
+	if setting == "" {
+		setting = DefaultSpectralSetting
+	}
 	for k, t := range c.Planes {
 		pr := PlaneResult{CubePlane: cp.Planes[k], Weight: t.Mu, FluxScale: t.Obj.FluxScale()}
 		for i, ty := range typeList {
@@ -912,7 +924,7 @@ func SolveCube(cp CubeProblem, s Settings) (*CubeResult, error) {
 		_, pr.X, pr.Y, pr.Size = planeMoments(pr.Image, g.N, g.Pixel)
 		res.Planes = append(res.Planes, pr)
 		if pr.Chi2r > 1.25*pr.Chi2rTarget {
-			res.Warnings = append(res.Warnings, fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, above 1.25 times the %.3g expected: try a smaller -spectral factor", k+1, pr.Label, pr.Chi2r, pr.Chi2rTarget))
+			res.Warnings = append(res.Warnings, fmt.Sprintf("plane %d (%s) fits its data at χ²ᵣ %.3g, above 1.25 times the %.3g expected: try a smaller %s", k+1, pr.Label, pr.Chi2r, pr.Chi2rTarget, setting))
 		} else if w := overfitWarning(k, &pr, res.Chi2rAim); w != "" {
 			res.Warnings = append(res.Warnings, w)
 		}

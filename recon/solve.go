@@ -99,10 +99,15 @@ type Settings struct {
 	Progress func(Progress) bool
 }
 
+// WeightStage is the Stage of the k-th run (from 1) of the automatic weight choice, which
+// makes at most steps runs (Settings.WeightSteps) and often stops sooner: "weight k (≤K)",
+// so that a search that ends before K does not read as cut short.
+func WeightStage(k, steps int) string { return fmt.Sprintf("weight %d (≤%d)", k, steps) }
+
 // Progress describes the state after an iteration, for a progress display.
 type Progress struct {
 	// Stage is "amplitudes", "smoothed phases", "smoothed, turned" (the amplitude image
-	// turned by 180°), "weight k/K", "final", "start k/K" or "coarse".
+	// turned by 180°), WeightStage(k, K), "final", "start k/K" or "coarse".
 	Stage     string
 	Weight    float64 // regularization weight of the run
 	Iter      int     // iteration of the run
@@ -1030,7 +1035,7 @@ func (e *engine) chooseWeight(x0 []float64, mu0 float64, first *runOut) (weightS
 	// step runs at mu from x and records it; it returns the index of the step, or −1 when
 	// it stalled twice or failed to give a finite χ²ᵣ.
 	step := func(x []float64, mu float64) (int, error) {
-		label := fmt.Sprintf("weight %d/%d", len(ws.path)+1, steps)
+		label := WeightStage(len(ws.path)+1, steps)
 		var r runOut
 		if first != nil && len(ws.path) == 0 && mu == mu0 && sameImage(x, x0) {
 			r = *first // done already, from x0 at μ0

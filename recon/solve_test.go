@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -473,5 +475,37 @@ func TestStopReasonAtLimit(t *testing.T) {
 	_, err = fmt.Sscanf(r.StopReason, "iteration limit reached (objective down %g %% over the last 50 iterations)", &pct)
 	if err != nil || r.Status != optim.IterationLimit || pct < 0 {
 		t.Errorf("stop reason %q (status %v)", r.StopReason, r.Status)
+	}
+}
+
+// TestWeightStageWording: the automatic weight choice often stops before its largest number
+// of runs (Settings.WeightSteps), so each run's progress stage gives that number as a limit,
+// "weight k (≤K)", and never as "k/K", which reads as a search cut short.
+func TestWeightStageWording(t *testing.T) {
+	const steps = 5
+	d := standardObs(1, discVis(5*Mas))
+	stage := regexp.MustCompile(`^weight (\d+) \(≤(\d+)\)( retry)?$`)
+	seen := 0
+	_, err := Solve(Problem{Data: d, Grid: Grid{N: 32, Pixel: 0.5 * Mas}, Reg: tvReg},
+		Settings{Seed: 1, Starts: 1, WeightSteps: steps, PathIter: 20, MaxIter: 20, Progress: func(p Progress) bool {
+			if !strings.HasPrefix(p.Stage, "weight") {
+				return true
+			}
+			m := stage.FindStringSubmatch(p.Stage)
+			if m == nil {
+				t.Errorf("stage %q, want \"weight k (≤%d)\"", p.Stage, steps)
+				return false
+			}
+			if k, _ := strconv.Atoi(m[1]); k < 1 || k > steps || m[2] != strconv.Itoa(steps) {
+				t.Errorf("stage %q: want k in 1..%d and the limit %d", p.Stage, steps, steps)
+			}
+			seen++
+			return true
+		}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if seen == 0 {
+		t.Fatal("no weight search ran: the case is not exercised")
 	}
 }

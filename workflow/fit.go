@@ -194,11 +194,12 @@ func (o *FitOutcome) WriteImage(path string, n int, pixel float64, files []*oifi
 		}
 	}
 	m := o.Result.Model
+	shown, _, _ := o.userModel()
 	target := ""
 	if len(d.Targets) == 1 {
 		target = d.Targets[0]
 	}
-	return output.WriteModel(path, m.Image(n, n, pixel), n, pixel, files, target, "fitted model: "+m.String())
+	return output.WriteModel(path, m.Image(n, n, pixel), n, pixel, files, target, "fitted model: "+shown.Model.String())
 }
 
 // SaveModel writes the fitted model as a TOML model file (fit.Result.ModelTOML) whose
@@ -213,18 +214,11 @@ func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 	for i, p := range dataFiles {
 		names[i] = filepath.Base(p)
 	}
-	res, start := o.Result, o.Start
+	res, start, box := o.userModel()
 	var boxLine string
-	if o.Grid != nil {
-		c := len(res.Model.Components) - 1
-		r := *res
-		r.Model = withoutBox(res.Model, c)
-		start = withoutBox(o.Start, c)
-		x, _ := res.Model.Param(model.Ref{Comp: c, Name: "x"})
-		y, _ := res.Model.Param(model.Ref{Comp: c, Name: "y"})
+	if box != nil {
 		boxLine = fmt.Sprintf("component %d was added by the companion search and fitted within x %.6g..%.6g mas, y %.6g..%.6g mas, the search's box (not bounds of the model below)",
-			c+1, x.Min, x.Max, y.Min, y.Max)
-		res = &r
+			box.Comp+1, box.X[0], box.X[1], box.Y[0], box.Y[1])
 	}
 	header := []string{
 		"Model fitted by vcz fit " + output.Version + " to " + strings.Join(names, ", "),
@@ -240,6 +234,31 @@ func (o *FitOutcome) SaveModel(path string, dataFiles []string) error {
 		header = append(header, "WARNING: "+output.OneLine(w))
 	}
 	return safefile.WriteBytes(path, res.ModelTOML(header...))
+}
+
+// searchBox is the box of ±3 grid steps, in mas, within which a companion search fitted
+// the companion it added as component Comp (0-based).
+type searchBox struct {
+	Comp int
+	X, Y [2]float64
+}
+
+// userModel is the fit as the user would give it back to 'vcz fit': the result and the start
+// model with the x and y of the companion that a search added (FitModel) free without the
+// search's box, which it returns apart (nil without a search). The model line of the report,
+// its JSON and the -save-model file all show the fit this way, so that a model copied from
+// any of them is not held in the box; the values are those of o.Result.
+func (o *FitOutcome) userModel() (*fit.Result, *model.Model, *searchBox) {
+	if o.Grid == nil {
+		return o.Result, o.Start, nil
+	}
+	res := *o.Result
+	c := len(res.Model.Components) - 1
+	x, _ := res.Model.Param(model.Ref{Comp: c, Name: "x"})
+	y, _ := res.Model.Param(model.Ref{Comp: c, Name: "y"})
+	box := &searchBox{Comp: c, X: [2]float64{x.Min, x.Max}, Y: [2]float64{y.Min, y.Max}}
+	res.Model = withoutBox(res.Model, c)
+	return &res, withoutBox(o.Start, c), box
 }
 
 // withoutBox returns a copy of m whose component c has its x and y without bounds (free as

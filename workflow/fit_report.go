@@ -35,14 +35,15 @@ func (o *FitOutcome) Report(s FitSettings, f FitFiles, files []*oifits.File, d *
 		}
 	}()
 	res, g := o.Result, o.Grid
-	sum = output.NewFitSummary(res, o.Starts)
+	shown, _, box := o.userModel()
+	sum = output.NewFitSummary(shown, o.Starts)
 	if b := o.Boot; b != nil {
 		sum.AddBootstrap(output.FitBootJ{K: b.K, Done: b.Done, Unit: b.Unit.String(), Seed: b.Seed}, b.Params, b.Sep, b.PA, b.Ratio)
 	}
 	sum.Detections = output.FitDetections(res, o.Detections)
 	if g != nil {
 		sum.Grid = &output.FitGridJ{Ratio: s.Grid.Ratio, BestSep: g.BestSep, BestPA: g.BestPA, BestX: g.BestX, BestY: g.BestY,
-			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N}
+			BestChi2: g.BestChi2, Chi2Primary: g.Chi2Primary, N: g.N, Comp: box.Comp + 1, BoxX: box.X, BoxY: box.Y}
 	}
 	if f.Limits != "" {
 		if sum.Limits, err = o.WriteLimits(f.Limits, d); err != nil {

@@ -62,8 +62,10 @@ func TestFitPoorFitWarns(t *testing.T) {
 // After -grid-search on the spotted giant, the companion the search adds ends on the edge
 // of the box it is fitted in (±3 grid steps around the best cell): every parameter within
 // fit.BoundTol of the range from a limit is flagged at a bound, and the report says its 1σ
-// is not meaningful. The -save-model file does not carry that box as bounds of the model (a
-// fit from the file would be held in it) but says in its header where it came from.
+// is not meaningful. Neither the -save-model file nor the model printed in the text report
+// ("Fitted model:") or in the JSON summary ("model") carries that box as bounds of the model
+// (a fit from a copy of it would be held in the box); the file says in its header where the
+// box came from, and the summary gives it apart (grid_search box_east_mas, box_north_mas).
 func TestFitGridBoxBound(t *testing.T) {
 	data := spottedGiantData(t)
 	saved := filepath.Join(t.TempDir(), "m.toml")
@@ -75,26 +77,26 @@ func TestFitGridBoxBound(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &s); err != nil {
 		t.Fatal(err)
 	}
-	fitted, err := model.Load(s.Model) // the model as fitted, with the search's box
-	if err != nil {
-		t.Fatal(err)
+	g := s.Grid
+	if g == nil || g.Comp != 2 {
+		t.Fatalf("grid search summary %+v: want the box of component 2", g)
 	}
 	near := 0
 	for _, p := range s.Params {
-		q, err := fitted.Param(model.Ref{Comp: p.Component - 1, Name: p.Param})
-		if err != nil {
-			t.Fatal(err)
-		}
 		if p.Component != 2 || (p.Param != "x" && p.Param != "y") {
 			continue
 		}
-		v, tol := float64(p.Value), fit.BoundTol*(q.Max-q.Min)
-		d := math.Min(v-q.Min, q.Max-v)
+		box := g.BoxX
+		if p.Param == "y" {
+			box = g.BoxY
+		}
+		v, tol := float64(p.Value), fit.BoundTol*(box[1]-box[0])
+		d := math.Min(v-box[0], box[1]-v)
 		if d > 0 && d <= tol {
 			near++ // the case an exact comparison misses
 		}
 		if d <= tol && !p.AtBound {
-			t.Errorf("%s = %.17g is %.3g from a limit of [%.17g, %.17g], within %.3g, and not flagged", p.Name, v, d, q.Min, q.Max, tol)
+			t.Errorf("%s = %.17g is %.3g from a limit of [%.17g, %.17g], within %.3g, and not flagged", p.Name, v, d, box[0], box[1], tol)
 		}
 	}
 	if near == 0 {
@@ -103,6 +105,26 @@ func TestFitGridBoxBound(t *testing.T) {
 	text, _, _ := runCmd(t, "fit", "-model", "ud:diameter~3", "-grid-search", "-no-significance", data)
 	if !strings.Contains(text, "(at a bound: 1σ not meaningful)") {
 		t.Errorf("text report lacks the at-bound note:\n%s", text)
+	}
+	if !strings.Contains(text, "the search's box, not bounds of the model above") {
+		t.Errorf("text report does not give the search's box:\n%s", text)
+	}
+	line, _, _ := strings.Cut(text, "\n")
+	printed, ok := strings.CutPrefix(line, "Fitted model: ")
+	if !ok {
+		t.Fatalf("text report does not start with the model line:\n%s", text)
+	}
+	for what, spec := range map[string]string{"text report": printed, "JSON model": s.Model} {
+		m, err := model.Load(spec)
+		if err != nil {
+			t.Fatalf("%s %q: %v", what, spec, err)
+		}
+		for _, name := range []string{"x", "y"} {
+			p, err := m.Param(model.Ref{Comp: 1, Name: name})
+			if err != nil || !p.Free || !math.IsInf(p.Min, -1) || !math.IsInf(p.Max, 1) {
+				t.Errorf("companion %s in the %s %q: %+v (%v), want free without bounds", name, what, spec, p, err)
+			}
+		}
 	}
 	b, err := os.ReadFile(saved)
 	if err != nil {

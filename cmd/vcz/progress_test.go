@@ -41,7 +41,7 @@ func TestClip(t *testing.T) {
 func TestPlainProgressRate(t *testing.T) {
 	var b bytes.Buffer
 	p := newProgressLine(&b, false)
-	for _, stage := range []string{"amplitudes", "weight 1/14", "final"} {
+	for _, stage := range []string{"amplitudes", recon.WeightStage(1, 14), "final"} {
 		for it := 1; it <= 300; it++ {
 			p.report(recon.Progress{Stage: stage, Iter: it, Objective: 1, Chi2r: 1, Weight: 1})
 		}
@@ -51,7 +51,7 @@ func TestPlainProgressRate(t *testing.T) {
 	if len(lines) != 3 {
 		t.Fatalf("%d lines, want one per stage:\n%s", len(lines), b.String())
 	}
-	for i, stage := range []string{"amplitudes", "weight 1/14", "final"} {
+	for i, stage := range []string{"amplitudes", recon.WeightStage(1, 14), "final"} {
 		if !strings.HasPrefix(lines[i], stage) {
 			t.Errorf("line %d = %q, want stage %q", i, lines[i], stage)
 		}
@@ -71,7 +71,7 @@ func TestPlainCompareProgress(t *testing.T) {
 	for i := range runs {
 		p.start(i)
 	}
-	for _, stage := range []string{"weight 1/14", "final"} {
+	for _, stage := range []string{recon.WeightStage(1, 14), "final"} {
 		for it := 1; it <= 300; it++ {
 			for i := range runs {
 				p.update(i, recon.Progress{Stage: stage, Iter: it, Objective: 1, Chi2r: 1, Weight: 1})

@@ -386,3 +386,39 @@ func TestJointWeightEdge(t *testing.T) {
 		t.Fatalf("given λ: edge %q, warnings %q", fixed.SpectralEdge, JointWarnings(fixed))
 	}
 }
+
+// TestJointPoorFitNamesTemporalWeight: when a temporal weight far too large holds the epochs
+// of a moving companion to one image, the epochs fit their data worse than expected, and the
+// verdict's advice names the setting that lowers that weight in a joint run (-temporal-weight),
+// not the -spectral factor of an image cube, which does not apply to one.
+func TestJointPoorFitNamesTemporalWeight(t *testing.T) {
+	data := simEpochs(t, 3, 1.5, []float64{-1, 1}, 1)
+	g := recon.Grid{N: 16, Pixel: 0.3 * recon.Mas}
+	const mu = 1e-3
+	ind, _ := independent(t, data, g, mu, 20)
+	res := joint(t, data, ind, g, mu, 1e8, 20, 0, 1)
+	poor := 0
+	for _, w := range JointWarnings(res) {
+		if strings.Contains(w, "-spectral") {
+			t.Errorf("joint warning names -spectral: %q", w)
+		}
+		if strings.Contains(w, "fits its data at χ²ᵣ") {
+			poor++
+			if !strings.HasSuffix(w, "try a smaller "+TemporalSetting) {
+				t.Errorf("joint warning of a poor fit does not name %s: %q", TemporalSetting, w)
+			}
+		}
+	}
+	if poor == 0 {
+		t.Fatalf("no epoch warned of a poor fit at λ 1e8 (χ²ᵣ of the planes %v): the case is not exercised", chi2rs(res))
+	}
+}
+
+// chi2rs returns the planes' χ²ᵣ of a cube.
+func chi2rs(r *recon.CubeResult) []float64 {
+	var out []float64
+	for _, p := range r.Planes {
+		out = append(out, p.Chi2r)
+	}
+	return out
+}

@@ -12,6 +12,10 @@ import (
 // reconstruction tries (recon.CubeProblem.SpectralSteps).
 const JointSteps = 6
 
+// TemporalSetting is the option that sets the temporal weight, named by the warnings of a
+// joint reconstruction (recon.CubeProblem.SpectralSetting, JointWarnings).
+const TemporalSetting = "-temporal-weight"
+
 // JointTolerance is the rise of an epoch's χ²ᵣ over that of its own image that the
 // automatic temporal weight allows, as a fraction (recon.CubeProblem.SpectralTolerance).
 const JointTolerance = 0.05
@@ -42,7 +46,7 @@ func JointProblem(p recon.Problem, epochs []JointEpoch, lambda float64) (recon.C
 	if p.Grid.N <= 0 {
 		return recon.CubeProblem{}, errors.New("joint imaging needs the common grid")
 	}
-	cp := recon.CubeProblem{Problem: p, Spectral: recon.SpectralSmooth, SpectralWeight: lambda}
+	cp := recon.CubeProblem{Problem: p, Spectral: recon.SpectralSmooth, SpectralWeight: lambda, SpectralSetting: TemporalSetting}
 	cp.Data, cp.Weight = nil, 0
 	if lambda <= 0 {
 		cp.SpectralWeight, cp.SpectralSteps, cp.SpectralTolerance = 0, JointSteps, JointTolerance
@@ -78,9 +82,9 @@ func JointWarnings(r *recon.CubeResult) []string {
 	pct := 100 * JointTolerance
 	switch r.SpectralEdge {
 	case "upper":
-		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the upper edge of the searched range (%d weights from %.3g, a factor 10 apart): every one kept each epoch's χ²ᵣ within %g %% of its own image's, so the rule's weight lies above it; set -temporal-weight by hand and compare", r.SpectralWeight, len(r.Path), first, pct))
+		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the upper edge of the searched range (%d weights from %.3g, a factor 10 apart): every one kept each epoch's χ²ᵣ within %g %% of its own image's, so the rule's weight lies above it; set %s by hand and compare", r.SpectralWeight, len(r.Path), first, pct, TemporalSetting))
 	case "lower":
-		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the lower edge of the searched range: already this smallest weight raised an epoch's χ²ᵣ by more than %g %% over its own image's, so no weight of the range met the rule; set -temporal-weight by hand and compare", r.SpectralWeight, pct))
+		w = append(w, fmt.Sprintf("the automatic temporal weight %.3g is at the lower edge of the searched range: already this smallest weight raised an epoch's χ²ᵣ by more than %g %% over its own image's, so no weight of the range met the rule; set %s by hand and compare", r.SpectralWeight, pct, TemporalSetting))
 	}
 	return w
 }
