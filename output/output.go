@@ -239,8 +239,8 @@ func ClosurePhases(d *dataset.Data) plots.T3Data {
 const BUnit = "pixel-1"
 
 // ParseStretch reads the value of -stretch, the display stretch of the previews; "" is
-// auto (linear, or asinh for an image whose brightest pixels outshine the rest: see
-// preview.ChooseStretch).
+// auto (linear, or asinh or log for an image whose brightest pixels outshine the rest:
+// see preview.ChooseStretch).
 func ParseStretch(text string) (preview.Stretch, error) {
 	for _, s := range []preview.Stretch{preview.Auto, preview.Linear, preview.Sqrt, preview.Asinh, preview.Log} {
 		if strings.EqualFold(strings.TrimSpace(text), s.String()) || (text == "" && s == preview.Auto) {

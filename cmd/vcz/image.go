@@ -135,7 +135,7 @@ func runImage(args []string, stdout, stderr io.Writer) error {
 
 // stretchUsage is the help of -stretch, the display stretch of the PNG previews (vcz image
 // and compare).
-const stretchUsage = "display stretch of the PNG previews: auto (asinh when the brightest pixels outshine the rest, else linear), linear, sqrt, asinh or log (the FITS image is not changed)"
+const stretchUsage = "display stretch of the PNG previews: auto (linear, or asinh or log when the brightest pixels outshine the rest), linear, sqrt, asinh or log (the FITS image is not changed)"
 
 // registerStretch adds -stretch to fs.
 func registerStretch(fs *flag.FlagSet) *string { return fs.String("stretch", "auto", stretchUsage) }

@@ -112,7 +112,7 @@ func Palette(m Colormap, n int) color.Palette {
 type Stretch int
 
 const (
-	// Auto, the zero value, picks Linear or Asinh from the data (ChooseStretch).
+	// Auto, the zero value, picks Linear, Asinh or Log from the data (ChooseStretch).
 	Auto Stretch = iota
 	// Linear displays t unchanged.
 	Linear

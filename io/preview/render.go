@@ -59,7 +59,7 @@ type Options struct {
 	// scale; when both are zero the range of the finite pixel values (over
 	// all images of a panel, montage or animation) is used.
 	Min, Max float64
-	// Stretch maps the scale to colours; the zero value, Auto, picks Linear or Asinh from
+	// Stretch maps the scale to colours; the zero value, Auto, picks Linear, Asinh or Log from
 	// the data (ChooseStretch), and a stretch other than linear is named on the colour bar.
 	Stretch Stretch
 	// Colormap nil chooses from the data (ChooseColormap): DefaultLightness for point-like
