@@ -20,7 +20,7 @@ import (
 var demoOIFITS []byte
 
 func runDemo(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("demo", "[-o DIR]", demoDoc, stderr)
+	fs := newFlagSet("demo", "[-o DIR] [-json] [-strict] [-quiet]", demoDoc, stderr)
 	dir := fs.String("o", "vcz-demo", "output folder (made if missing)")
 	quiet := fs.Bool("quiet", false, quietUsage)
 	strict := registerStrict(fs)

@@ -10,7 +10,7 @@ import (
 )
 
 func runSimulate(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("simulate", "-plan PLAN.toml (-model MODEL | -image FILE.fits) -o OUT.oifits", simulateDoc, stderr)
+	fs := newFlagSet("simulate", "-plan PLAN.toml (-model SPEC | -image FILE.fits | -chromatic FILE.toml) -o OUT.oifits", simulateDoc, stderr)
 	planPath := fs.String("plan", "", "observing plan (TOML)")
 	modelSpec := fs.String("model", "", "model: a TOML model file or the inline form, e.g. \"ld:diameter=4,u_ld=0.4\"")
 	imagePath := fs.String("image", "", "model as a FITS image instead of -model")
