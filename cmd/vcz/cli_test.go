@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"syscall"
 	"testing"
@@ -416,6 +417,32 @@ func TestOneNamePerIdea(t *testing.T) {
 	out, _, code := runCmd(t, "fit", "-help-model")
 	if code != exitOK || !strings.Contains(out, "gauss") {
 		t.Errorf("fit -help-model: exit %d, %q", code, out)
+	}
+}
+
+// TestDocNamesEveryOption checks that the manual, doc.go, names every option that a
+// command's -help lists, so that an option added to a command is also documented.
+func TestDocNamesEveryOption(t *testing.T) {
+	doc, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	flagLine := regexp.MustCompile(`(?m)^  (-[a-z0-9-]+)`)
+	for name := range commands {
+		if name == "help" || name == "version" {
+			continue
+		}
+		out, _, _ := runCmd(t, name, "--help")
+		opts := flagLine.FindAllStringSubmatch(out, -1)
+		if len(opts) == 0 {
+			t.Errorf("%s --help lists no options", name)
+		}
+		for _, m := range opts {
+			named := regexp.MustCompile(`(^|[^a-z0-9-])` + regexp.QuoteMeta(m[1]) + `($|[^a-z0-9-])`)
+			if !named.Match(doc) {
+				t.Errorf("doc.go does not name %s of %s", m[1], name)
+			}
+		}
 	}
 }
 

@@ -8,8 +8,8 @@ Usage:
 	vcz COMMAND [options] [arguments]
 
 Options may come before or after the file arguments; "--" ends the options.
-Angles take units (uas, mas, arcsec, deg, rad; a bare number is in mas) and
-wavelengths too (nm, um, m; a bare number is in µm).
+Angles take units, always (uas or µas, mas, arcsec, deg, rad: 0.25mas), and
+wavelengths too (nm, um or µm, m: 1.6um); a bare number is refused.
 
 The commands are:
 
@@ -32,7 +32,9 @@ points per data type, baselines, the nominal resolution λmin/(2·Bmax), the
 largest constrained scale λmax/Bmin, a suggested grid (its field capped at
 λmax/Bmin before the pixel count is rounded up to an FFT-friendly size, so
 it may exceed that scale by one rounding step) and the MJD range.
-Selection options: -target, -wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES.
+Selection options (also of image, fit, compare and batch): -target,
+-wave LOW:HIGH, -mjd LOW:HIGH, -ins NAMES. -o DIR (-plot, its earlier name)
+writes plots of the (u,v) coverage and of each data type.
 
 # Image
 
@@ -42,9 +44,12 @@ reconstructs one image from the merged files. The main options: -n and
 -pixel (or -fov) for the grid; -reg with mem, tv, smooth, compact and
 priordist, alone or as a list with relative weights (mem,compact:0.1);
 -weight (a number or auto: χ²ᵣ between its floor and its expected value); -prior and -start;
--support; -use and -data-weights for the data types; -smearing (auto, on or
+-support; -tv-eps (the gradient size below which total variation acts
+quadratically); -use and -data-weights for the data types; -smearing (auto, on or
 off: each channel's visibility averaged over its band, by default where that
-exceeds the noise); -iter, -seed, -starts, -coarse, -workers; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
+exceeds the noise); -iter, -seed, -starts, -coarse, -no-amp-first (skip the
+first pass on amplitudes), -workers; -stretch (auto, linear, sqrt, asinh or
+log) for the previews; -no-png, -no-plots, -quiet, -json, -strict. -from-model FILE takes
 the default field (three times the model's extent, its largest component
 offset plus radius) and the start image from a model file written by
 'vcz fit -save-model' or from 'vcz fit -json' output. Run `vcz image --help`
@@ -82,7 +87,9 @@ documents every plan key (each channel is averaged over its band unless the
 plan says smearing = false, chromatic models with their spectra across the
 band; write "visdiff" adds differential amplitudes and phases), -help-model the model
 forms and -help-chromatic the chromatic models (components with spectral
-indices, rotating discs emitting a line).
+indices, rotating discs emitting a line). -seed overrides the plan's noise
+seed; -write-image FILE.fits also writes the -model as an image
+(-write-n pixels of -write-pixel; -n and -pixel are earlier names).
 
 # Fit
 
@@ -112,9 +119,15 @@ PREFIX.csv and PREFIX.png, on a -limits-nsep × -limits-npa grid;
 into the data beside them. A
 component whose x and y are both free gets 16 starts (-starts), seeded from
 the minima of a quick χ² map of its position, so a companion is found from a
-poor guess; -grid-search maps χ² of a point companion over separation and
-position angle; -write-image writes the fitted model as a FITS prior or start
-image, and -save-model FILE.toml as a model file for -model or for
+poor guess; -iter limits each start's iterations (-max-iter, its earlier
+name) and -seed seeds them. -grid-search maps χ² of a point companion of
+flux ratio -grid-ratio over -grid-nsep separations in -grid-sep (MIN:MAX)
+and -grid-npa position angles (-grid-refit refits the model at every cell),
+then fits it. -bootstrap K adds each parameter's spread over K refits of
+resampled data (-bootstrap-unit, -bootstrap-seed, as for image).
+-o PREFIX writes the data-fit plots (-plot, its earlier name); -write-image writes the fitted model as a FITS prior or start
+image (-write-n pixels of -write-pixel; -n and -pixel are earlier names),
+and -save-model FILE.toml as a model file for -model or for
 'vcz image -from-model'.
 
 # Compare
@@ -124,7 +137,10 @@ image, and -save-model FILE.toml as a model file for -model or for
 runs every regularizer (or those listed with -reg) on one grid and start, in
 parallel, and writes per-regularizer images, a panel, spread and robust-
 feature maps, L-curves, data-versus-model plots, compare.csv/.json and
-report.html.
+report.html. -weight sets one weight for all, -weights one per regularizer
+(mem=1e4,tv=auto); -parallel caps the regularizers run at once; -bootstrap K
+adds each one's standard deviation map; -stretch sets the previews' stretch.
+The other options are those of image.
 
 # Batch
 
@@ -132,7 +148,12 @@ report.html.
 
 reconstructs one image per epoch, concurrently within the CPU budget,
 resumable, sharded by -shard K/N or the SLURM array variables; -collect merges
-shard summaries; -joint adds a temporal regularizer across epochs. Options
+shard summaries; -joint adds a temporal regularizer across epochs
+(-temporal-weight, auto by default), written as joint.fits, EPOCH-joint.fits
+and .png, montage-joint.png and epochs-joint.gif. FILE arguments are split
+into epochs at gaps in MJD longer than -gap days (0.5); -force redoes epochs
+found complete; -cpus caps the CPUs of all epochs together (-parallel, its
+earlier name); -o names the folder (-out, its earlier name). Options
 of image apply to every epoch; -strict fails the run on any warning. In a
 job file ([image] and each [[epoch]]) the keys are the flag names without
 the dash: reg, n, iter, tv-eps, data-weights, ins, no-amp-first and so on
@@ -159,7 +180,7 @@ files checked against their SHA-256, the same pixels.
 
 # Demo
 
-	vcz demo [-o DIR] [-strict] [-quiet]
+	vcz demo [-o DIR] [-json] [-strict] [-quiet]
 
 writes the embedded demo data, its reconstruction, the model it was
 simulated from and a side-by-side comparison into DIR (default vcz-demo).
