@@ -72,6 +72,9 @@ func (o Outputs) WriteBootstrap(out string, r Run, m BootstrapMaps) (BootstrapPa
 		if !f.normalized {
 			im.Cards = append(im.Cards, fitsimage.Card{Key: "COMMENT", Value: "of images each normalised to a total flux of 1"})
 		}
+		if f.path == p.Significance {
+			im.Cards = append(im.Cards, fitsimage.Card{Key: "COMMENT", Value: sigmaFrom(m.Good)})
+		}
 		if err := fitsimage.WriteFile(f.path, im); err != nil {
 			return p, err
 		}
@@ -86,7 +89,7 @@ func (o Outputs) WriteBootstrap(out string, r Run, m BootstrapMaps) (BootstrapPa
 	}
 	opt := preview.Options{
 		Title:         Title(r.Data, r.Target(), r.Regularizer()),
-		Subtitle:      fmt.Sprintf("bootstrap of %d %s resamplings: significance 3σ (white), 5σ (red)", m.Good, m.Unit),
+		Subtitle:      bootstrapSubtitle(m),
 		Pixel:         res.Grid.Pixel / recon.Mas,
 		Beam:          preview.Beam{Major: res.Grid.Resolution / recon.Mas},
 		ColorbarLabel: "flux per pixel (total 1)",
@@ -97,4 +100,16 @@ func (o Outputs) WriteBootstrap(out string, r Run, m BootstrapMaps) (BootstrapPa
 	}
 	p.PNG = png
 	return p, nil
+}
+
+// sigmaFrom says, in the ASCII of FITS header text, from how many replicates the standard
+// deviation of the maps is estimated, and so which distribution their mean/σ follows.
+func sigmaFrom(good int) string {
+	return fmt.Sprintf("std estimated from %d replicates: mean/std follows Student's t with %d degrees of freedom, not a normal distribution", good, good-1)
+}
+
+// bootstrapSubtitle is the subtitle of the bootstrap preview: the replicates, the contour
+// levels of mean/σ and from how many replicates σ is estimated.
+func bootstrapSubtitle(m BootstrapMaps) string {
+	return fmt.Sprintf("bootstrap of %d %s resamplings: mean/σ 3 (white), 5 (red); σ estimated from %d replicates", m.Good, m.Unit, m.Good)
 }

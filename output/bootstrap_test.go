@@ -3,6 +3,7 @@ package output
 import (
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"vcz/io/fitsfile/fitstest"
@@ -82,6 +83,23 @@ func TestWriteBootstrap(t *testing.T) {
 		if !found {
 			t.Errorf("%s: no BOOTK = 20 card", f.path)
 		}
+		// The significance map says from how many replicates its standard deviation comes,
+		// and so that mean/std follows Student's t with one degree of freedom fewer.
+		var text []string
+		for _, c := range im.Cards {
+			if v, ok := c.Value.(string); ok && c.Key == "COMMENT" {
+				text = append(text, v)
+			}
+		}
+		all := strings.Join(text, " ")
+		said := strings.Contains(all, "std estimated from 19 replicates") && strings.Contains(all, "Student's t with 18 degrees of freedom")
+		if said != (f.path == p.Significance) {
+			t.Errorf("%s: comment on the replicates behind the standard deviation: %v", f.path, said)
+		}
 		fitstest.Verify(t, f.path)
+	}
+	// The preview's subtitle names the contour levels as mean/σ and the replicates of σ.
+	if s := bootstrapSubtitle(m); !strings.Contains(s, "mean/σ 3 (white), 5 (red)") || !strings.Contains(s, "σ estimated from 19 replicates") {
+		t.Errorf("subtitle %q", s)
 	}
 }

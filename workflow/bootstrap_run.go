@@ -123,18 +123,20 @@ type BootstrapSummary struct {
 	Outputs      *output.BootstrapPaths `json:"outputs,omitempty"`
 	// Shard is "K/N" for a shard of a job array (which writes no maps), Loaded the
 	// replicates taken from files of an earlier run or of the shards.
-	Shard     string    `json:"shard,omitempty"`
-	Loaded    int       `json:"loaded"`
-	Features  []Feature `json:"features"`
-	Warnings  []string  `json:"warnings"`
-	MaxSignif float64   `json:"max_significance"`
+	Shard    string    `json:"shard,omitempty"`
+	Loaded   int       `json:"loaded"`
+	Features []Feature `json:"features"`
+	Warnings []string  `json:"warnings"`
+	// MaxSignif is the peak of the significance map, mean/σ with σ estimated from the Good
+	// replicates.
+	MaxSignif float64 `json:"max_significance"`
 }
 
 // ImageBootstrap runs the bootstrap of req around run, the reconstruction of im's data
 // written to out (inputs are the data files as the user named them, for the hash of kept
 // replicates), and writes its maps beside out as outs says; a shard of a job array writes
-// no maps. events, when non-nil, follows the replicates. A feature test on fewer than
-// MinFeatureReplicates replicates adds a warning. Errors of the input (a -feature
+// no maps. events, when non-nil, follows the replicates. Maps (and feature tests) from fewer
+// than MinReplicates replicates add a warning. Errors of the input (a -feature
 // that does not fit the image) are *InputError.
 func (im *Image) ImageBootstrap(req BootstrapRequest, inputs []string, run output.Run, outs output.Outputs, out string, events func(Event)) (*BootstrapSummary, error) {
 	opt := req.Options
@@ -186,10 +188,12 @@ func (im *Image) ImageBootstrap(req BootstrapRequest, inputs []string, run outpu
 		}
 		s.Features = append(s.Features, f)
 	}
+	what := "the significance map (its peak and its 3σ and 5σ contours)"
 	if len(req.Regions) > 0 {
-		if w := FewReplicatesWarning(b.Good()); w != "" {
-			s.Warnings = append(s.Warnings, w)
-		}
+		what += " and the feature test"
+	}
+	if w := FewReplicatesWarning(b.Good(), what); w != "" {
+		s.Warnings = append(s.Warnings, w)
 	}
 	return s, nil
 }
@@ -204,8 +208,8 @@ func (s *BootstrapSummary) WriteText(w io.Writer) {
 	if s.Aligned {
 		align = ", aligned on the image"
 	}
-	fmt.Fprintf(w, "Bootstrap:   %d of %d replicates (%s resampling of %d units, seed %d%s), %.1f s; peak significance %.3g\n",
-		s.Good, s.Replicates, s.Unit, s.Units, s.Seed, align, s.Seconds, s.MaxSignif)
+	fmt.Fprintf(w, "Bootstrap:   %d of %d replicates (%s resampling of %d units, seed %d%s), %.1f s; peak significance %.3g (mean/σ, σ estimated from %d replicates)\n",
+		s.Good, s.Replicates, s.Unit, s.Units, s.Seed, align, s.Seconds, s.MaxSignif, s.Good)
 	for _, f := range s.Features {
 		fmt.Fprintf(w, "Feature:     %s\n", f)
 	}

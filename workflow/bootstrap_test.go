@@ -3,9 +3,11 @@ package workflow
 import (
 	"math"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"vcz/dataset"
+	"vcz/output"
 	"vcz/recon"
 	"vcz/recon/batch"
 	"vcz/runspec"
@@ -107,5 +109,16 @@ func TestBootstrapShards(t *testing.T) {
 	}
 	if len(one.NotConverged) != len(all.NotConverged) {
 		t.Errorf("not converged: %v from one run, %v from the files", one.NotConverged, all.NotConverged)
+	}
+}
+
+// TestBootstrapSummaryText: the peak significance of the text report says it is mean/σ with
+// σ estimated from the replicates that gave an image.
+func TestBootstrapSummaryText(t *testing.T) {
+	s := &BootstrapSummary{Replicates: 4, Good: 3, Unit: "exposure", Units: 8, MaxSignif: 1160, Outputs: &output.BootstrapPaths{}}
+	var buf strings.Builder
+	s.WriteText(&buf)
+	if !strings.Contains(buf.String(), "peak significance 1.16e+03 (mean/σ, σ estimated from 3 replicates)") {
+		t.Errorf("report %q", buf.String())
 	}
 }

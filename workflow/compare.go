@@ -158,6 +158,20 @@ func (r *CompareRun) Warnings() []string {
 	return r.Result.Warnings
 }
 
+// BootWarnings say why the run's bootstrap maps may mislead (Bootstrap.Warnings, and maps
+// from fewer than MinReplicates replicates), one sentence each; nil without a bootstrap.
+func (r *CompareRun) BootWarnings() []string {
+	if r.Boot == nil {
+		return nil
+	}
+	ws := append([]string(nil), r.Boot.Warnings...)
+	what := fmt.Sprintf("the significance map %s-boot-signif.fits (and the 3σ and 5σ contours of %s-boot.png)", r.Name, r.Name)
+	if w := FewReplicatesWarning(r.Boot.Good(), what); w != "" {
+		ws = append(ws, w)
+	}
+	return ws
+}
+
 // Bootstrap runs the bootstrap of every successful run around its own result (RunBootstrap
 // with opt), one regularizer after another, so that the report can show each one's per-pixel
 // spread beside its image.

@@ -133,20 +133,35 @@ func StudentTFalseAlarm(t float64, nu int) float64 {
 	return 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(nu)}.Survival(math.Abs(t))
 }
 
-// MinFeatureReplicates is the number of replicates below which a feature test is warned of
-// (common practice, no source). The noise of a region is a standard deviation of K
-// replicates, uncertain by about 1/√(2(K − 1)) of itself for normal values (the standard
-// error of a sample standard deviation), 16 % at 20 against 41 % at 4.
-const MinFeatureReplicates = 20
+// MinReplicates is the number of bootstrap replicates below which every figure that divides
+// by a standard deviation estimated from the replicates is warned of (common practice, no
+// source): the per-pixel significance map with its peak and its 3σ and 5σ contours, and the
+// feature test. The standard deviation of K normal values is uncertain by about
+// 1/√(2(K − 1)) of itself (the standard error of a sample standard deviation), 16 % at 20
+// against 41 % at 4, and a mean divided by it follows Student's t with K − 1 degrees of
+// freedom (Student 1908, Biometrika 6, 1), whose tails are far heavier than the normal
+// distribution's for few degrees of freedom.
+const MinReplicates = 20
 
-// FewReplicatesWarning returns the warning of a feature test on k replicates, or "" when k
-// is at least MinFeatureReplicates.
-func FewReplicatesWarning(k int) string {
-	if k >= MinFeatureReplicates {
+// FewReplicatesWarning returns the warning of what (a phrase such as "the feature test")
+// resting on a standard deviation estimated from k bootstrap replicates, or "" when k is at
+// least MinReplicates. It names the degrees of freedom and the value of mean/σ at which
+// Student's t reaches the two-sided probability of 3σ of a normal variable.
+func FewReplicatesWarning(k int, what string) string {
+	if k >= MinReplicates {
 		return ""
 	}
-	return fmt.Sprintf("the feature test rests on only %d bootstrap replicates, fewer than %d: the noise of a region is uncertain by about %.0f %% and its false-alarm probability comes from Student's t with %d degrees of freedom; run -bootstrap %d or more",
-		k, MinFeatureReplicates, 100/math.Sqrt(2*float64(max(k-1, 1))), k-1, MinFeatureReplicates)
+	nu := max(k-1, 1)
+	return fmt.Sprintf("only %d bootstrap replicates, fewer than %d, behind %s: their standard deviation is uncertain by about %.0f %%, and mean/σ follows Student's t with %d degrees of freedom, which reaches the false-alarm probability of 3σ of a normal variable (0.27 %%) only at %.3g; run -bootstrap %d or more",
+		k, MinReplicates, what, 100/math.Sqrt(2*float64(nu)), nu, StudentTLevel(3, nu), MinReplicates)
+}
+
+// StudentTLevel returns the value of |t| at which Student's t with nu degrees of freedom has
+// the same two-sided probability as z standard deviations of a normal variable, erfc(z/√2):
+// the inverse of StudentTFalseAlarm at that probability.
+func StudentTLevel(z float64, nu int) float64 {
+	p := math.Erfc(z / math.Sqrt2)
+	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(nu)}.Quantile(1 - p/2)
 }
 
 // regionPixels returns the pixels of region r on the n × n grid of pixel pix, its centre

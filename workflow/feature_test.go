@@ -195,16 +195,43 @@ func TestFeatureCountedFractions(t *testing.T) {
 	}
 }
 
-// TestFewReplicatesWarning: a feature test on fewer than MinFeatureReplicates replicates is
-// warned of, naming the replicates and the degrees of freedom; one on that many is not.
+// TestFewReplicatesWarning: figures on fewer than MinReplicates replicates are warned of,
+// naming what rests on them, the replicates and the degrees of freedom; on that many they
+// are not.
 func TestFewReplicatesWarning(t *testing.T) {
-	if w := FewReplicatesWarning(4); !strings.Contains(w, "only 4 bootstrap replicates") || !strings.Contains(w, "3 degrees of freedom") {
+	const what = "the significance map"
+	if w := FewReplicatesWarning(4, what); !strings.Contains(w, "only 4 bootstrap replicates") || !strings.Contains(w, "3 degrees of freedom") || !strings.Contains(w, what) {
 		t.Errorf("4 replicates: warning %q", w)
 	}
-	if w := FewReplicatesWarning(MinFeatureReplicates - 1); w == "" {
-		t.Errorf("%d replicates: no warning", MinFeatureReplicates-1)
+	if w := FewReplicatesWarning(MinReplicates-1, what); w == "" {
+		t.Errorf("%d replicates: no warning", MinReplicates-1)
 	}
-	if w := FewReplicatesWarning(MinFeatureReplicates); w != "" {
-		t.Errorf("%d replicates: warning %q", MinFeatureReplicates, w)
+	if w := FewReplicatesWarning(MinReplicates, what); w != "" {
+		t.Errorf("%d replicates: warning %q", MinReplicates, w)
+	}
+}
+
+// TestStudentTLevel checks the value of Student's t with the two-sided probability of 3σ of
+// a normal variable, erfc(3/√2) = 0.0026998, against the closed forms of its distribution
+// for 1 and 2 degrees of freedom (Johnson, Kotz & Balakrishnan 1995, Continuous Univariate
+// Distributions, vol. 2, ch. 28): ν = 1 is the Cauchy distribution, P(|T| ≥ t) =
+// 1 − (2/π)·atan t, and for ν = 2, P(|T| ≥ t) = 1 − t/√(t² + 2). For many degrees of
+// freedom it tends to the normal 3.
+func TestStudentTLevel(t *testing.T) {
+	p := math.Erfc(3 / math.Sqrt2)
+	q := 1 - p
+	for _, c := range []struct {
+		nu   int
+		want float64
+	}{
+		{1, math.Tan(math.Pi / 2 * q)},
+		{2, q * math.Sqrt2 / math.Sqrt(1-q*q)},
+	} {
+		if got := StudentTLevel(3, c.nu); math.Abs(got-c.want) > 1e-6*c.want {
+			t.Errorf("ν = %d: level %.8g, want %.8g", c.nu, got, c.want)
+		}
+	}
+	if got := StudentTLevel(3, 100000); math.Abs(got-3) > 1e-3 {
+		t.Errorf("ν = 100000: level %.6g, want 3 (normal)", got)
 	}
 }

@@ -52,6 +52,8 @@ type CompareRow struct {
 	BootStd        string `json:"bootstrap_std,omitempty"`
 	BootReplicates int    `json:"bootstrap_replicates,omitempty"`
 	BootError      string `json:"bootstrap_error,omitempty"`
+	// BootWarnings say why the bootstrap maps may mislead (CompareRun.BootWarnings).
+	BootWarnings []string `json:"bootstrap_warnings,omitempty"`
 }
 
 // CompareGrid is the grid every regularizer of a comparison used, in the shape of the grid
@@ -80,6 +82,10 @@ type CompareReport struct {
 	// Both are absent for gray images.
 	Planes        []ComparePlane `json:"planes,omitempty"`
 	PlanesMontage string         `json:"planes_montage,omitempty"`
+	// RobustFlux is the sum of the pixels of compare-robust.fits, the pixel-wise minimum of
+	// images each normalised to a total flux of 1: the share of the flux that every
+	// regularizer puts in the same place, below 1 and not normalised.
+	RobustFlux float64 `json:"robust_flux"`
 }
 
 // writeJSON writes v as indented JSON.
@@ -143,7 +149,7 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 				if err != nil {
 					return nil, err
 				}
-				row.BootStd, row.BootReplicates = filepath.Base(paths.Std), b.Good()
+				row.BootStd, row.BootReplicates, row.BootWarnings = filepath.Base(paths.Std), b.Good(), r.BootWarnings()
 				opt := bootStdPreview(r.Name, res.Grid.Pixel/recon.Mas, res.Grid.Resolution/recon.Mas, b.Good(), b.Unit.String())
 				if err := preview.WriteFile(filepath.Join(dir, r.Name+"-boot-std.png"), b.Std, res.Grid.N, res.Grid.N, opt); err != nil {
 					return nil, err
@@ -230,6 +236,10 @@ func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, o
 	aligned, shifts := alignImages(imgs, n, n/4)
 	rep.Shifts = shifts
 	robust := pixelMin(aligned)
+	rep.RobustFlux = 0
+	for _, v := range robust {
+		rep.RobustFlux += v
+	}
 	// The maps carry the world coordinates, target and regularizers of the images they
 	// summarise, as the images do.
 	ra, dec, hasRADec := output.TargetCoords(files, rep.Target)
@@ -241,20 +251,27 @@ func writeAgreement(dir string, files []*oifits.File, choice recon.GridChoice, o
 	for _, r := range ok {
 		names = append(names, r.Name)
 	}
+	// The robust image is the minimum of normalised images, so its pixels sum to less than 1:
+	// its header says so, with the sum, where a normalised image says it is normalised.
+	robustCards := []fitsimage.Card{
+		{Key: "FLUXSUM", Value: rep.RobustFlux, Comment: "sum of the pixels: NOT normalised to 1"},
+		{Key: "COMMENT", Value: fmt.Sprintf("Not normalised to a total flux of 1: the pixel-wise minimum of images each normalised to 1, so its pixels sum to %.4g, the flux that every regularizer puts in the same place.", rep.RobustFlux)},
+	}
 	for _, o := range []struct {
 		name, title, label, bunit string
 		img                       []float64
+		cards                     []fitsimage.Card
 	}{
-		{"compare-spread", "Spread: pixel-wise std / mean flux", "σ / mean", "", spread},
-		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", output.BUnit, robust},
+		{"compare-spread", "Spread: pixel-wise std / mean flux", "σ / mean", "", spread, nil},
+		{"compare-robust", "Robust features: pixel-wise minimum (aligned)", "flux per pixel", output.BUnit, robust, robustCards},
 	} {
 		im := &fitsimage.Image{NX: n, NY: n, Pixel: choice.Pixel, Data: o.img, RA: ra, Dec: dec, HasRADec: hasRADec, BUnit: o.bunit,
-			Cards: []fitsimage.Card{
+			Cards: append([]fitsimage.Card{
 				{Key: "OBJECT", Value: output.ASCII(object), Comment: "target"},
 				{Key: "CREATOR", Value: output.Creator, Comment: "software that made this image"},
 				{Key: "COMMENT", Value: output.ASCII(o.title)},
 				{Key: "HISTORY", Value: output.ASCII("from the images of the regularizers " + strings.Join(names, ", ") + " of vcz compare")},
-			}}
+			}, o.cards...)}
 		if err := fitsimage.WriteFile(filepath.Join(dir, o.name+".fits"), im); err != nil {
 			return err
 		}
@@ -514,7 +531,7 @@ th:first-child, td:first-child { text-align: left; }
 {{if .Spread}}<h2>Agreement</h2>
 <p>Spread: the pixel-wise standard deviation across regularizers divided by their mean there (shown where the mean exceeds 5 % of its peak).</p>
 <img src="{{.Spread}}" alt="spread map">
-<p>Robust features: the pixel-wise minimum across regularizers, after aligning each image to the first by the peak of their cross-correlation (whole-pixel shifts{{range .Shifts}} ({{index . 0}}, {{index . 1}}){{end}}). Closure phases fix the orientation but not always the exact position.</p>
+<p>Robust features: the pixel-wise minimum across regularizers, after aligning each image to the first by the peak of their cross-correlation (whole-pixel shifts{{range .Shifts}} ({{index . 0}}, {{index . 1}}){{end}}). Closure phases fix the orientation but not always the exact position. It is not normalised to a total flux of 1: each image sums to 1, and their minimum sums to {{printf "%.3g" .RobustFlux}}, the share of the flux that every regularizer puts in the same place.</p>
 <img src="{{.Robust}}" alt="robust features">{{end}}
 {{if .Planes}}<h2>Planes</h2>
 <p>Each regularizer's cube, plane by plane: the χ²ᵣ of each plane's data (expected value in brackets), the spread between the regularizers' planes (pixel-wise standard deviation over their mean, summed over the object: Σσ/Σmean) and the common flux (the share of the flux that every regularizer puts in the same place, the pixel-wise minimum after the gray images' shifts). The table of the regularizers above describes the gray images the cubes started from.</p>
@@ -587,7 +604,7 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		}
 	}
 	for _, f := range []reportFile{
-		{"compare-spread.fits", "spread map (FITS)"}, {"compare-robust.fits", "robust features (FITS)"},
+		{"compare-spread.fits", "spread map (FITS)"}, {"compare-robust.fits", "robust features (FITS; not normalised to a total flux of 1)"},
 		{"compare.csv", "the results table (CSV)"}, {"compare-planes.csv", "the table of the planes (CSV)"},
 		{"compare.json", "the results and settings (JSON)"},
 	} {
@@ -599,7 +616,10 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		data.Target = "unknown target"
 	}
 	for i, r := range runs {
-		e := reportEach{Name: r.Name, Error: rep.Rows[i].Error, Warnings: rep.Rows[i].Warnings}
+		e := reportEach{Name: r.Name, Error: rep.Rows[i].Error, Warnings: append([]string(nil), rep.Rows[i].Warnings...)}
+		for _, w := range rep.Rows[i].BootWarnings {
+			e.Warnings = append(e.Warnings, "bootstrap: "+w)
+		}
 		if r.Err == nil {
 			e.Image = dataURI(filepath.Join(dir, r.Name+".png"))
 			e.LCurve = dataURI(filepath.Join(dir, r.Name+"-lcurve.png"))
@@ -637,6 +657,9 @@ func (rep *CompareReport) WriteText(w io.Writer) {
 			result = "stopped"
 		}
 		fmt.Fprintf(w, "%-10s %-10.4g %-8.4g %-10.4g %-6d %-13s %.1f\n", r.Regularizer, r.Weight, r.Chi2r, r.RegValue, r.Iterations, result, r.Seconds)
+	}
+	if rep.RobustFlux > 0 {
+		fmt.Fprintf(w, "Robust features (compare-robust.fits): the pixel-wise minimum sums to %.3g, not normalised to a total flux of 1\n", rep.RobustFlux)
 	}
 	writePlanesText(w, rep)
 }

@@ -2,6 +2,9 @@ package workflow
 
 import (
 	"context"
+	"encoding/json"
+	"fmt"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -11,6 +14,8 @@ import (
 	"testing"
 	"time"
 
+	"vcz/io/fitsfile/fitstest"
+	"vcz/io/fitsimage"
 	"vcz/output"
 	"vcz/runspec"
 )
@@ -41,6 +46,74 @@ func TestReport(t *testing.T) {
 	dir := writtenReport(t)
 	t.Run("links", func(t *testing.T) { reportLinks(t, dir) })
 	t.Run("width", func(t *testing.T) { reportWidth(t, dir) })
+	t.Run("robust", func(t *testing.T) { reportRobust(t, dir) })
+}
+
+// The robust image, the pixel-wise minimum of images normalised to a total flux of 1, sums
+// to less than 1; its header does not call it normalised (CONVENTIONS.md: written images
+// say so in a header comment), gives its sum as FLUXSUM and says it is not normalised, and
+// the report, compare.json and the text table say so too. fitsverify (HEASARC's FITS
+// checker) finds nothing to report in it.
+func reportRobust(t *testing.T, dir string) {
+	path := filepath.Join(dir, "compare-robust.fits")
+	im, err := fitsimage.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := 0.0
+	for _, v := range im.Data {
+		sum += v
+	}
+	if sum >= 0.999 || sum <= 0 {
+		t.Fatalf("robust image sums to %g: want below 1 for this test", sum)
+	}
+	if im.Normalized {
+		t.Error("the robust image's header says it is normalised to a total flux of 1")
+	}
+	var keyed float64
+	var comments []string
+	for _, c := range im.Cards {
+		switch v := c.Value.(type) {
+		case float64:
+			if c.Key == "FLUXSUM" {
+				keyed = v
+			}
+		case string:
+			if c.Key == "COMMENT" {
+				comments = append(comments, v)
+			}
+		}
+	}
+	if math.Abs(keyed-sum) > 1e-9 {
+		t.Errorf("FLUXSUM = %g, want the sum of the pixels %g", keyed, sum)
+	}
+	if !strings.Contains(strings.Join(comments, " "), "Not normalised to a total flux of 1") {
+		t.Errorf("no comment that the image is not normalised: %q", comments)
+	}
+	fitstest.Verify(t, path)
+	page, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(page), "It is not normalised to a total flux of 1") || !strings.Contains(string(page), fmt.Sprintf("their minimum sums to %.3g", sum)) {
+		t.Error("the report does not say that the robust image is not normalised, nor its sum")
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "compare.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rep CompareReport
+	if err := json.Unmarshal(b, &rep); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(rep.RobustFlux-sum) > 1e-9 {
+		t.Errorf("compare.json: robust_flux %g, want %g", rep.RobustFlux, sum)
+	}
+	var text strings.Builder
+	rep.WriteText(&text)
+	if !strings.Contains(text.String(), "not normalised to a total flux of 1") {
+		t.Errorf("the text table does not say that the robust image is not normalised:\n%s", text.String())
+	}
 }
 
 // The report links every FITS, CSV and JSON file of its folder, every link leads to a file

@@ -50,39 +50,54 @@ func TestImageBootstrap(t *testing.T) {
 	checkPNG(t, b.Outputs.PNG)
 }
 
-// TestFeatureFewReplicates: a feature test on fewer replicates than
-// workflow.MinFeatureReplicates is warned of on stderr, in the JSON summary and by -strict's
-// exit status, and says how many replicates its probability rests on; one on that many is
-// not warned of.
-func TestFeatureFewReplicates(t *testing.T) {
+// TestBootstrapFewReplicates: a bootstrap on fewer replicates than workflow.MinReplicates is
+// warned of on stderr, in the JSON summary and by -strict's exit status, without a feature
+// test (the significance map, its peak and contours) and with one (which also says how many
+// replicates its probability rests on); one on that many is not warned of.
+func TestBootstrapFewReplicates(t *testing.T) {
 	dir := t.TempDir()
 	data := filepath.Join(dir, "demo.oifits")
 	if err := os.WriteFile(data, demoOIFITS, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	const line = "warning: bootstrap: the feature test rests on only "
-	for _, k := range []int{3, workflow.MinFeatureReplicates} {
-		out := filepath.Join(dir, "rec"+strconv.Itoa(k)+".fits")
-		stdout, errs, code := runCmd(t, "image", "-n", "24", "-iter", "60", "-starts", "1", "-quiet", "-json", "-strict",
-			"-bootstrap", strconv.Itoa(k), "-feature", "0.7,0.5,0.5", "-o", out, data)
+	for _, c := range []struct {
+		k       int
+		feature bool
+	}{{3, false}, {3, true}, {workflow.MinReplicates, true}} {
+		out := filepath.Join(dir, "rec"+strconv.Itoa(c.k)+strconv.FormatBool(c.feature)+".fits")
+		args := []string{"image", "-n", "24", "-iter", "60", "-starts", "1", "-quiet", "-json", "-strict",
+			"-bootstrap", strconv.Itoa(c.k), "-o", out, data}
+		if c.feature {
+			args = append(args, "-feature", "0.7,0.5,0.5")
+		}
+		stdout, errs, code := runCmd(t, args...)
 		var sum bootstrapJSON
-		if err := json.Unmarshal([]byte(stdout), &sum); err != nil || sum.Bootstrap == nil || len(sum.Bootstrap.Features) != 1 {
-			t.Fatalf("K = %d: exit %d, %v in %q, stderr %s", k, code, err, stdout, errs)
+		if err := json.Unmarshal([]byte(stdout), &sum); err != nil || sum.Bootstrap == nil || len(sum.Bootstrap.Features) != map[bool]int{false: 0, true: 1}[c.feature] {
+			t.Fatalf("K = %d: exit %d, %v in %q, stderr %s", c.k, code, err, stdout, errs)
 		}
 		b := sum.Bootstrap
-		warned := false
+		warning := ""
 		for _, w := range b.Warnings {
-			warned = warned || strings.Contains(w, "feature test rests on")
+			if strings.Contains(w, "bootstrap replicates, fewer than") {
+				warning = w
+			}
 		}
-		few := k < workflow.MinFeatureReplicates
-		if warned != few || strings.Contains(errs, line) != few {
-			t.Errorf("K = %d: warning in JSON %v, on stderr %v; want %v: %q", k, warned, strings.Contains(errs, line), few, errs)
+		few := c.k < workflow.MinReplicates
+		line := "warning: bootstrap: only " + strconv.Itoa(c.k) + " bootstrap replicates, fewer than "
+		if (warning != "") != few || strings.Contains(errs, line) != few {
+			t.Errorf("K = %d, feature %v: warning in JSON %q, on stderr %v; want %v: %q", c.k, c.feature, warning, strings.Contains(errs, line), few, errs)
+		}
+		if few && (!strings.Contains(warning, "the significance map") || strings.Contains(warning, "feature test") != c.feature) {
+			t.Errorf("K = %d, feature %v: warning %q does not name what rests on the replicates", c.k, c.feature, warning)
 		}
 		if few && code != exitFailure {
-			t.Errorf("K = %d with -strict: exit %d, want %d", k, code, exitFailure)
+			t.Errorf("K = %d with -strict: exit %d, want %d", c.k, code, exitFailure)
 		}
-		if f := b.Features[0]; f.Replicates != k || !strings.Contains(f.Distribution, "Student's t with "+strconv.Itoa(k-1)+" degrees of freedom") {
-			t.Errorf("K = %d: feature rests on %d replicates, distribution %q", k, f.Replicates, f.Distribution)
+		if !c.feature {
+			continue
+		}
+		if f := b.Features[0]; f.Replicates != c.k || !strings.Contains(f.Distribution, "Student's t with "+strconv.Itoa(c.k-1)+" degrees of freedom") {
+			t.Errorf("K = %d: feature rests on %d replicates, distribution %q", c.k, f.Replicates, f.Distribution)
 		}
 	}
 }

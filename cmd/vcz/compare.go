@@ -106,7 +106,8 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 	for _, r := range cmp.Runs {
 		if r.Err == nil {
 			printWarnings(stderr, r.Name, r.Warnings())
-			nwarn += len(r.Warnings())
+			printWarnings(stderr, r.Name+" bootstrap", r.BootWarnings())
+			nwarn += len(r.Warnings()) + len(r.BootWarnings())
 		}
 	}
 	if failed := cmp.Failed(); len(failed) > 0 {

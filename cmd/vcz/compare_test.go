@@ -309,15 +309,42 @@ func screenshot(t *testing.T, page string) {
 
 // TestCompareBootstrap checks that compare -bootstrap K writes, per regularizer, the
 // bootstrap maps with the image's world coordinates (fitsverify: 0 warnings, 0 errors) and
-// shows the standard deviation map in the report, and refuses K = 1.
+// shows the standard deviation map in the report, and refuses K = 1. With K below
+// workflow.MinReplicates, each regularizer's significance map is warned of on stderr (which
+// -strict counts), in compare.json and in the report.
 func TestCompareBootstrap(t *testing.T) {
 	dir := t.TempDir()
 	data := writeDemoData(t, dir)
 	out := filepath.Join(dir, "cmp")
-	rep := compareOn(t, data, out, "-reg", "tv,mem", "-n", "32", "-iter", "60", "-starts", "1", "-bootstrap", "4")
+	_, errs, code := runCmd(t, "compare", data, "-o", out, "-quiet", "-strict", "-reg", "tv,mem", "-n", "32", "-iter", "60", "-starts", "1", "-bootstrap", "4")
+	if code != exitFailure {
+		t.Fatalf("compare -strict with 4 replicates: exit %d, want %d: %s", code, exitFailure, errs)
+	}
+	var rep workflow.CompareReport
+	if b, err := os.ReadFile(filepath.Join(out, "compare.json")); err != nil {
+		t.Fatal(err)
+	} else if err := json.Unmarshal(b, &rep); err != nil {
+		t.Fatal(err)
+	}
 	html, err := os.ReadFile(filepath.Join(out, "report.html"))
 	if err != nil {
 		t.Fatal(err)
+	}
+	const few = "only 4 bootstrap replicates, fewer than "
+	for _, r := range rep.Rows {
+		if !strings.Contains(errs, "warning: "+r.Regularizer+" bootstrap: "+few) {
+			t.Errorf("%s: no warning of few replicates on stderr: %s", r.Regularizer, errs)
+		}
+		warned := false
+		for _, w := range r.BootWarnings {
+			warned = warned || strings.Contains(w, few) && strings.Contains(w, r.Regularizer+"-boot-signif.fits")
+		}
+		if !warned {
+			t.Errorf("%s: bootstrap warnings in compare.json %q", r.Regularizer, r.BootWarnings)
+		}
+	}
+	if strings.Count(string(html), "Warning: bootstrap: "+few) != len(rep.Rows) {
+		t.Errorf("the report does not warn of few replicates once per regularizer")
 	}
 	fv := requireTool(t, "fitsverify")
 	for _, r := range rep.Rows {

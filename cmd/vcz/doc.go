@@ -68,7 +68,8 @@ its own spectral index, and writes the environment.
 with replacement (-bootstrap-unit exposure, the default, or baseline;
 -bootstrap-seed), each started from the image at its weight, written as
 OUT-boot-mean.fits, OUT-boot-std.fits, OUT-boot-signif.fits (mean / std) and
-OUT-boot.png (contours at 3σ and 5σ). -feature x,y,r (mas) or -feature
+OUT-boot.png (contours at 3σ and 5σ; σ is estimated from the K replicates,
+so fewer than 20 give a warning, as for a feature test). -feature x,y,r (mas) or -feature
 MASK.fits, repeatable, reports how often a region is brighter or fainter
 than a smooth reference (-feature-ref auto, disc or annulus) by more than
 the noise, and its significance t with the false-alarm probability of
