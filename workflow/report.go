@@ -49,7 +49,12 @@ type CompareRow struct {
 	CubeChi2r float64 `json:"cube_chi2r,omitempty"`
 	// BootStd is the bootstrap standard deviation map (FITS) of the image with the
 	// replicates that gave one, when compare ran a bootstrap; BootError why it failed.
-	BootStd        string `json:"bootstrap_std,omitempty"`
+	BootStd string `json:"bootstrap_std,omitempty"`
+	// BootMean, BootSignif and BootPNG are the bootstrap's other files: the mean map,
+	// the significance map (mean/σ) and the preview with its 3σ and 5σ contours.
+	BootMean       string `json:"bootstrap_mean,omitempty"`
+	BootSignif     string `json:"bootstrap_significance,omitempty"`
+	BootPNG        string `json:"bootstrap_png,omitempty"`
 	BootReplicates int    `json:"bootstrap_replicates,omitempty"`
 	BootError      string `json:"bootstrap_error,omitempty"`
 	// BootWarnings say why the bootstrap maps may mislead (CompareRun.BootWarnings).
@@ -150,6 +155,10 @@ func (c *Comparison) Write(dir string, outs output.Outputs, seconds float64) (*C
 					return nil, err
 				}
 				row.BootStd, row.BootReplicates, row.BootWarnings = filepath.Base(paths.Std), b.Good(), r.BootWarnings()
+				row.BootMean, row.BootSignif = filepath.Base(paths.Mean), filepath.Base(paths.Significance)
+				if paths.PNG != "" {
+					row.BootPNG = filepath.Base(paths.PNG)
+				}
 				opt := bootStdPreview(r.Name, res.Grid.Pixel/recon.Mas, res.Grid.Resolution/recon.Mas, b.Good(), b.Unit.String())
 				if err := preview.WriteFile(filepath.Join(dir, r.Name+"-boot-std.png"), b.Std, res.Grid.N, res.Grid.N, opt); err != nil {
 					return nil, err
@@ -599,8 +608,15 @@ func writeCompareHTML(dir string, rep *CompareReport, runs []*CompareRun, stretc
 		if r.Cube != "" {
 			data.Files = append(data.Files, reportFile{r.Cube, "image cube of " + r.Regularizer + " (FITS)"})
 		}
-		if r.BootStd != "" {
-			data.Files = append(data.Files, reportFile{r.BootStd, "bootstrap standard deviation of " + r.Regularizer + " (FITS)"})
+		for _, f := range []reportFile{
+			{r.BootMean, "bootstrap mean of " + r.Regularizer + " (FITS)"},
+			{r.BootStd, "bootstrap standard deviation of " + r.Regularizer + " (FITS)"},
+			{r.BootSignif, "bootstrap significance (mean/σ) of " + r.Regularizer + " (FITS)"},
+			{r.BootPNG, "bootstrap significance of " + r.Regularizer + " with 3σ and 5σ contours (PNG)"},
+		} {
+			if f.Name != "" {
+				data.Files = append(data.Files, f)
+			}
 		}
 	}
 	for _, f := range []reportFile{

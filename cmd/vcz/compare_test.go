@@ -358,6 +358,14 @@ func TestCompareBootstrap(t *testing.T) {
 		if !strings.Contains(string(html), r.Regularizer+" bootstrap standard deviation") || !strings.Contains(string(html), r.BootStd) {
 			t.Errorf("the report shows no bootstrap map of %s", r.Regularizer)
 		}
+		// Every file the bootstrap wrote is in compare.json and linked from the report.
+		for _, f := range []string{r.BootMean, r.BootSignif, r.BootPNG} {
+			if _, err := os.Stat(filepath.Join(out, f)); f == "" || err != nil {
+				t.Errorf("%s: bootstrap file %q of compare.json: %v", r.Regularizer, f, err)
+			} else if !strings.Contains(string(html), `href="`+f+`"`) {
+				t.Errorf("%s: the report does not link %s", r.Regularizer, f)
+			}
+		}
 	}
 	if _, errs, code := runCmd(t, "compare", "-bootstrap", "1", "-o", filepath.Join(dir, "x"), data); code != exitBadInput {
 		t.Errorf("-bootstrap 1: exit %d: %s", code, errs)
