@@ -26,6 +26,9 @@ func (s FitSummary) WriteText(w io.Writer, imageN int) {
 		if p.AtBound {
 			note = "  (at a bound: 1σ not meaningful)"
 		}
+		if p.Undetermined {
+			e, note = "undetermined", note+"  (not constrained by the data)"
+		}
 		if p.BootError != nil {
 			note = fmt.Sprintf("  bootstrap ± %.4g", float64(*p.BootError)) + note
 		}

@@ -221,6 +221,9 @@ type FitParamJ struct {
 	Error     JFloat `json:"error"`
 	Unit      string `json:"unit"`
 	AtBound   bool   `json:"at_bound"`
+	// Undetermined is set when the data do not constrain the parameter
+	// (fit.Param.Undetermined; its error is then null); absent otherwise.
+	Undetermined bool `json:"undetermined,omitempty"`
 	// BootError is the bootstrap error (vcz fit -bootstrap), absent without one.
 	BootError *JFloat `json:"bootstrap_error,omitempty"`
 }
@@ -358,7 +361,7 @@ func NewFitSummary(res *fit.Result, starts int) FitSummary {
 	for _, p := range res.Params {
 		c := res.Model.Components[p.Ref.Comp]
 		s.Params = append(s.Params, FitParamJ{Name: p.Ref.String(), Component: p.Ref.Comp + 1, Kind: string(c.Kind()),
-			Param: p.Ref.Name, Value: JFloat(p.Value), Error: JFloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound})
+			Param: p.Ref.Name, Value: JFloat(p.Value), Error: JFloat(p.Err), Unit: fit.ParamUnit(p.Ref.Name), AtBound: p.AtBound, Undetermined: p.Undetermined})
 	}
 	s.Pairs, s.Detections = []FitPairJ{}, []FitDetectJ{}
 	for _, p := range res.Pairs {

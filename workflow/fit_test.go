@@ -315,3 +315,29 @@ func TestFitModelSearchCalibrated(t *testing.T) {
 		}
 	}
 }
+
+// TestFitUndeterminedGivesResult checks that a fit whose companion goes to zero flux, where
+// the data stop constraining its position, still gives the best values and χ² with the
+// position named as undetermined, instead of refusing the whole fit as degenerate: a disc
+// with a companion searched for at a flux ratio of 0.02 over 1–20 mas in the demo data.
+func TestFitUndeterminedGivesResult(t *testing.T) {
+	_, d := demoData(t)
+	m, err := model.Load("ud:diameter~1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := &fit.GridOptions{SepMin: 1, SepMax: 20, NSep: 60, NPA: 120, Ratio: 0.02} // as vcz fit -grid-search
+	o, err := FitModel(d, m, FitSettings{Grid: g, SkipSignificance: true})
+	if o == nil {
+		t.Fatalf("no outcome: %v", err)
+	}
+	var flat []string
+	for _, p := range o.Result.Params {
+		if p.Undetermined {
+			flat = append(flat, p.Ref.String())
+		}
+	}
+	if got := strings.Join(flat, " "); got != "c2.x c2.y" || math.IsNaN(o.Result.Chi2) || math.IsNaN(o.Result.Params[0].Err) {
+		t.Errorf("undetermined %q, χ² %g, diameter 1σ %g; want c2.x c2.y and numbers", got, o.Result.Chi2, o.Result.Params[0].Err)
+	}
+}

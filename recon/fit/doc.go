@@ -46,7 +46,10 @@
 //
 // Result.Warnings judges the fit by the rule of the images' verdict
 // (recon.Chi2rFar): χ²ᵣ above 1.25 times its expected value
-// (Result.Chi2rExpected) or far below it, and a fit that did not converge.
+// (Result.Chi2rExpected) or far below it, a fit that did not converge,
+// and parameters the data leave undetermined at the best fit
+// (Param.Undetermined: a flat direction of JᵀJ, or a 1σ wider than the
+// parameter's bounds; the covariance of the rest holds them fixed).
 //
 // # Separation, position angle and contrast
 //

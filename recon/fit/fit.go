@@ -85,8 +85,12 @@ type Param struct {
 	Ref   model.Ref
 	Value float64
 	// Err is the 1σ uncertainty from the covariance matrix (NaN when the
-	// matrix is singular).
+	// parameter is Undetermined, or when no parameter is determined).
 	Err float64
+	// Undetermined is set when the data do not constrain the parameter at
+	// the best fit (flatParams): Value is where the fit stopped, Err is
+	// NaN, and the errors of the other parameters hold it fixed.
+	Undetermined bool
 	// AtBound is set when the value lies on one of its bounds, within
 	// BoundTol (see there), where the uncertainty is not meaningful.
 	AtBound bool
@@ -117,8 +121,10 @@ type Result struct {
 	Params []Param
 	// Cov is the covariance matrix of the free parameters, (JᵀJ)⁻¹ χ²ᵣ
 	// with J the Jacobian of the normalised residuals in user units and
-	// χ²ᵣ = χ²/(N − P); Corr the correlation matrix. Both are nil when
-	// JᵀJ is singular.
+	// χ²ᵣ = χ²/(N − P); Corr the correlation matrix. When some parameters
+	// are undetermined (Param.Undetermined) their rows and columns are NaN
+	// and the rest is the covariance with them held fixed; both are nil
+	// when no parameter is determined.
 	Cov, Corr *mat.SymDense
 	// Chi2 is the total χ², N the number of data, DOF = N − P and Chi2r =
 	// Chi2/DOF.
@@ -681,14 +687,17 @@ func (pr *problem) finish(res *Result, best *run) {
 	pr.m.Set(pr.refs, x) // the Jacobian moved the working model
 	var JtJ mat.SymDense
 	JtJ.SymOuterK(1, J.T())
-	var chol mat.Cholesky
-	if !chol.Factorize(&JtJ) {
-		res.Notices = append(res.Notices, "JᵀJ is singular: some parameters are degenerate, uncertainties are not available")
+	if flat := flatParams(&JtJ); flat != nil {
+		pr.covarianceFixing(res, &JtJ, flat)
 		return
 	}
+	var chol mat.Cholesky
 	var cov mat.SymDense
-	if err := chol.InverseTo(&cov); err != nil {
-		res.Notices = append(res.Notices, "JᵀJ is singular: uncertainties are not available")
+	if !chol.Factorize(&JtJ) || chol.InverseTo(&cov) != nil {
+		// Parameters of very different scales (the position of a faint
+		// companion beside its flux) can defeat the plain inverse although
+		// the normalised JᵀJ is far from singular.
+		pr.covarianceFixing(res, &JtJ, make([]bool, p))
 		return
 	}
 	scale := res.Chi2r
@@ -704,4 +713,159 @@ func (pr *problem) finish(res *Result, best *run) {
 		}
 	}
 	res.Cov, res.Corr = &cov, corr
+}
+
+// FlatRcond is the smallest eigenvalue of the normalised JᵀJ (unit
+// diagonal), relative to its largest, below which a direction of the
+// parameters counts as unconstrained by the data: the square of a
+// relative singular value of 10⁻⁶ of the column-scaled Jacobian, about
+// the accuracy of its central differences (common practice, no source).
+// FlatShare is the share of such a direction a parameter must carry to
+// be undetermined: its variance then exceeds 10⁶ times that of a
+// parameter the data pin best (common practice, no source).
+const (
+	FlatRcond = 1e-12
+	FlatShare = 1e-6
+)
+
+// flatParams returns, for each free parameter, whether the data leave it
+// undetermined, or nil when JᵀJ has no flat direction. A parameter is
+// undetermined when its column of J is zero or not finite, or when it
+// carries more than FlatShare of an eigenvector of the normalised JᵀJ
+// whose eigenvalue is below FlatRcond times the largest. The
+// eigen-decomposition of the normalised JᵀJ is the singular value
+// decomposition of the column-scaled J, whose small singular values mark
+// the combinations of parameters the data do not constrain (Press et
+// al., Numerical Recipes, 3rd ed., sect. 15.4.2, recalled from memory).
+func flatParams(JtJ *mat.SymDense) []bool {
+	p := JtJ.SymmetricDim()
+	flat := make([]bool, p)
+	found := false
+	var keep []int
+	for j := 0; j < p; j++ {
+		d := JtJ.At(j, j)
+		if !(d > 0) || math.IsInf(d, 0) {
+			flat[j], found = true, true
+			continue
+		}
+		keep = append(keep, j)
+	}
+	if len(keep) > 0 {
+		c := mat.NewSymDense(len(keep), nil)
+		for a, ja := range keep {
+			for b := a; b < len(keep); b++ {
+				jb := keep[b]
+				c.SetSym(a, b, JtJ.At(ja, jb)/math.Sqrt(JtJ.At(ja, ja)*JtJ.At(jb, jb)))
+			}
+		}
+		var eig mat.EigenSym
+		if !eig.Factorize(c, true) {
+			for _, j := range keep {
+				flat[j] = true
+			}
+			return flat
+		}
+		vals := eig.Values(nil) // ascending
+		var vecs mat.Dense
+		eig.VectorsTo(&vecs)
+		top := vals[len(vals)-1]
+		for i, v := range vals {
+			if v > FlatRcond*top {
+				break
+			}
+			for a, j := range keep {
+				if e := vecs.At(a, i); e*e > FlatShare {
+					flat[j], found = true, true
+				}
+			}
+		}
+	}
+	if !found {
+		return nil
+	}
+	return flat
+}
+
+// covarianceFixing fills the errors, Cov and Corr of res when flat marks
+// undetermined parameters, or when the plain inverse of JᵀJ failed. The
+// parameters marked, and those whose 1σ exceeds the range between their
+// bounds, are undetermined: they are held at their values, the
+// covariance of the others is the inverse of their block of JᵀJ (scaled
+// by χ²ᵣ as in finish), and the rows and columns of the undetermined ones
+// are NaN, as are their errors. When every parameter is undetermined, Cov
+// and Corr stay nil.
+func (pr *problem) covarianceFixing(res *Result, JtJ *mat.SymDense, flat []bool) {
+	p := len(flat)
+	var det []int
+	for j := 0; j < p; j++ {
+		res.Params[j].Undetermined = flat[j]
+		if !flat[j] {
+			det = append(det, j)
+		}
+	}
+	if len(det) == 0 {
+		res.Notices = append(res.Notices, "JᵀJ is singular: some parameters are degenerate, uncertainties are not available")
+		return
+	}
+	// The block is inverted normalised to a unit diagonal, so that the
+	// parameters' units do not enter its condition (common practice, no
+	// source): (JᵀJ)⁻¹ = S (S JᵀJ S)⁻¹ S with S = diag(JᵀJ)^(−1/2).
+	sc := make([]float64, len(det))
+	for a, ja := range det {
+		sc[a] = 1 / math.Sqrt(JtJ.At(ja, ja))
+	}
+	sub := mat.NewSymDense(len(det), nil)
+	for a, ja := range det {
+		for b := a; b < len(det); b++ {
+			sub.SetSym(a, b, sc[a]*JtJ.At(ja, det[b])*sc[b])
+		}
+	}
+	var chol mat.Cholesky
+	var inv mat.SymDense
+	if !chol.Factorize(sub) || chol.InverseTo(&inv) != nil {
+		res.Notices = append(res.Notices, "JᵀJ is singular: uncertainties are not available")
+		return
+	}
+	scale := res.Chi2r
+	if !(scale > 0) || math.IsInf(scale, 0) {
+		scale = 1
+	}
+	cov := mat.NewSymDense(p, nil)
+	corr := mat.NewSymDense(p, nil)
+	for i := 0; i < p; i++ {
+		for j := i; j < p; j++ {
+			cov.SetSym(i, j, math.NaN())
+			corr.SetSym(i, j, math.NaN())
+		}
+	}
+	for a, ja := range det {
+		for b := a; b < len(det); b++ {
+			cov.SetSym(ja, det[b], scale*sc[a]*inv.At(a, b)*sc[b])
+		}
+	}
+	for _, i := range det {
+		res.Params[i].Err = math.Sqrt(cov.At(i, i))
+		for _, j := range det {
+			if j >= i {
+				corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
+			}
+		}
+	}
+	// A 1σ wider than the range the bounds allow is no constraint either:
+	// such parameters are held fixed too and the rest is recomputed
+	// (common practice, no source).
+	again := false
+	for _, i := range det {
+		if w := pr.hi[i] - pr.lo[i]; !math.IsInf(w, 0) && res.Params[i].Err > w {
+			flat[i], again = true, true
+		}
+	}
+	if again {
+		for _, i := range det {
+			res.Params[i].Err = math.NaN()
+		}
+		pr.covarianceFixing(res, JtJ, flat)
+		return
+	}
+	res.Cov, res.Corr = cov, corr
 }
