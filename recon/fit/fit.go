@@ -700,11 +700,7 @@ func (pr *problem) finish(res *Result, best *run) {
 		pr.covarianceFixing(res, &JtJ, make([]bool, p))
 		return
 	}
-	scale := res.Chi2r
-	if !(scale > 0) || math.IsInf(scale, 0) {
-		scale = 1
-	}
-	cov.ScaleSym(scale, &cov)
+	cov.ScaleSym(covScale(res.Chi2r), &cov)
 	corr := mat.NewSymDense(p, nil)
 	for i := 0; i < p; i++ {
 		res.Params[i].Err = math.Sqrt(cov.At(i, i))
@@ -715,24 +711,33 @@ func (pr *problem) finish(res *Result, best *run) {
 	res.Cov, res.Corr = &cov, corr
 }
 
-// FlatRcond is the smallest eigenvalue of the normalised JᵀJ (unit
+// covScale is the factor of (JᵀJ)⁻¹ in the covariance: χ²ᵣ, or 1 when χ²ᵣ is not a
+// positive finite number.
+func covScale(chi2r float64) float64 {
+	if !(chi2r > 0) || math.IsInf(chi2r, 0) {
+		return 1
+	}
+	return chi2r
+}
+
+// flatRcond is the smallest eigenvalue of the normalised JᵀJ (unit
 // diagonal), relative to its largest, below which a direction of the
 // parameters counts as unconstrained by the data: the square of a
 // relative singular value of 10⁻⁶ of the column-scaled Jacobian, about
 // the accuracy of its central differences (common practice, no source).
-// FlatShare is the share of such a direction a parameter must carry to
+// flatShare is the share of such a direction a parameter must carry to
 // be undetermined: its variance then exceeds 10⁶ times that of a
 // parameter the data pin best (common practice, no source).
 const (
-	FlatRcond = 1e-12
-	FlatShare = 1e-6
+	flatRcond = 1e-12
+	flatShare = 1e-6
 )
 
 // flatParams returns, for each free parameter, whether the data leave it
 // undetermined, or nil when JᵀJ has no flat direction. A parameter is
 // undetermined when its column of J is zero or not finite, or when it
-// carries more than FlatShare of an eigenvector of the normalised JᵀJ
-// whose eigenvalue is below FlatRcond times the largest. The
+// carries more than flatShare of an eigenvector of the normalised JᵀJ
+// whose eigenvalue is below flatRcond times the largest. The
 // eigen-decomposition of the normalised JᵀJ is the singular value
 // decomposition of the column-scaled J, whose small singular values mark
 // the combinations of parameters the data do not constrain (Press et
@@ -770,11 +775,11 @@ func flatParams(JtJ *mat.SymDense) []bool {
 		eig.VectorsTo(&vecs)
 		top := vals[len(vals)-1]
 		for i, v := range vals {
-			if v > FlatRcond*top {
+			if v > flatRcond*top {
 				break
 			}
 			for a, j := range keep {
-				if e := vecs.At(a, i); e*e > FlatShare {
+				if e := vecs.At(a, i); e*e > flatShare {
 					flat[j], found = true, true
 				}
 			}
@@ -826,10 +831,7 @@ func (pr *problem) covarianceFixing(res *Result, JtJ *mat.SymDense, flat []bool)
 		res.Notices = append(res.Notices, "JᵀJ is singular: uncertainties are not available")
 		return
 	}
-	scale := res.Chi2r
-	if !(scale > 0) || math.IsInf(scale, 0) {
-		scale = 1
-	}
+	scale := covScale(res.Chi2r)
 	cov := mat.NewSymDense(p, nil)
 	corr := mat.NewSymDense(p, nil)
 	for i := 0; i < p; i++ {
