@@ -302,10 +302,7 @@ func CollectShards(out string, dirs []string, st preview.Stretch) (*ShardRun, er
 	if err != nil {
 		return nil, err
 	}
-	if err := os.MkdirAll(out, 0o755); err != nil {
-		return nil, inputErrorf("-o: %v", err)
-	}
-	if err := CheckFolder(out); err != nil {
+	if err := OutputFolder(out); err != nil {
 		return nil, inputErrorf("-o: %v", err)
 	}
 	if err := WriteSummary(out, summaryName, sum); err != nil {

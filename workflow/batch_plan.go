@@ -71,10 +71,7 @@ func PlanBatch(r BatchRequest, getenv func(string) string) (*BatchPlan, error) {
 			return nil, inputErrorf("batch: -temporal-weight %q: want a positive number or auto", r.TemporalWeight)
 		}
 	}
-	if err := MakeFolder(p.Out); err != nil {
-		return nil, inputErrorf("batch: -o: %v", err)
-	}
-	if err := CheckFolder(p.Out); err != nil {
+	if err := OutputFolder(p.Out); err != nil {
 		return nil, inputErrorf("batch: -o: %v", err)
 	}
 	return p, nil

@@ -98,6 +98,16 @@ func MakeFolder(dir string) error {
 	return nil
 }
 
+// OutputFolder makes dir when it does not exist and checks that a run can write its
+// outputs there (MakeFolder, then CheckFolder): what every command that writes into a folder
+// does before its work.
+func OutputFolder(dir string) error {
+	if err := MakeFolder(dir); err != nil {
+		return err
+	}
+	return CheckFolder(dir)
+}
+
 // CheckFolder creates and removes a file in dir to learn whether the outputs of a run can
 // be written there, and sweeps the stale temporaries of an earlier killed run.
 func CheckFolder(dir string) error {

@@ -71,10 +71,7 @@ func runCompare(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	printNotices(stderr, d, *quiet)
-	if err := workflow.MakeFolder(*out); err != nil {
-		return badInputf("compare: -o: %v", err)
-	}
-	if err := workflow.CheckFolder(*out); err != nil {
+	if err := workflow.OutputFolder(*out); err != nil {
 		return badInputf("compare: -o: %v", err)
 	}
 	var prog *multiProgress

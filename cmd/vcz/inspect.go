@@ -1,10 +1,8 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
-	iofs "io/fs"
 	"os"
 	"strings"
 
@@ -32,10 +30,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if *plotDir != "" {
 		// The folder is made and tried before the data are read, so that a folder that
 		// cannot take the plots is bad input found at once.
-		if err := os.MkdirAll(*plotDir, 0o755); err != nil {
-			return badInputf("inspect: -o %s: %v", *plotDir, pathErrText(err))
-		}
-		if err := workflow.CheckFolder(*plotDir); err != nil {
+		if err := workflow.OutputFolder(*plotDir); err != nil {
 			return badInputf("inspect: -o %s: %v", *plotDir, err)
 		}
 	}
@@ -90,14 +85,4 @@ func (e *escaper) Write(p []byte) (int, error) {
 		return 0, err
 	}
 	return len(p), nil
-}
-
-// pathErrText is the reason of a file-system error without the operation and path that
-// *fs.PathError puts before it ("mkdir a/b: not a directory" gives "not a directory").
-func pathErrText(err error) string {
-	var pe *iofs.PathError
-	if errors.As(err, &pe) {
-		return pe.Path + ": " + pe.Err.Error()
-	}
-	return err.Error()
 }
